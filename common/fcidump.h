@@ -1,0 +1,32 @@
+/* fcidump.h - the FCIDUMP integral format (Knowles and Handy, 1989).
+ *
+ * Header: a Fortran namelist "&FCI NORB=..,NELEC=..,MS2=..,ORBSYM=..,
+ * ISYM=.. &END" on one or many lines ("/" or "$END" also close it).
+ * Body: "value i j k l" lines, orbitals from 1: i j k l > 0 is (ij|kl),
+ * "i j 0 0" is h_ij, "0 0 0 0" the constant, "i 0 0 0" an orbital energy
+ * (not part of the operator; counted and reported).  Every permutation of
+ * the 8-fold symmetry of real orbitals is filled from one line.  Absent
+ * integrals are zero by the format.
+ */
+#ifndef LAM_FCIDUMP_H
+#define LAM_FCIDUMP_H
+
+#include <stdio.h>
+#include "spinfree.h"
+
+typedef struct {
+    lam_spinfree *op;   /* e0, h, g with electrons and ms2 set */
+    int norb, nelec, ms2, isym;
+    int *orbsym;        /* norb entries, 1 when absent */
+    long orbital_energy_lines;
+} lam_fcidump;
+
+/* Read path (NULL or "-" for stdin, gzip allowed).  exit 66 when it cannot
+ * be opened, exit 65 with file:line for anything malformed. */
+lam_fcidump *lam_fcidump_read(const char *path);
+void lam_fcidump_free(lam_fcidump *fd);
+/* Write header and the unique integrals with |value| > tol (tol = 0 writes
+ * every non-zero), 17 significant digits.  exit 74 on write errors. */
+void lam_fcidump_write(FILE *out, const lam_fcidump *fd, double tol);
+
+#endif

@@ -1,0 +1,71 @@
+/* pauli.h - Pauli strings in the symplectic bit representation.
+ *
+ * A string on nq qubits is two bit vectors x and z of nw = (nq+63)/64
+ * words each: qubit j carries X when x_j=1,z_j=0, Z when x_j=0,z_j=1 and
+ * Y when both are set (Y = i X Z).  Two strings anticommute exactly when
+ * popcount((x1 & z2) ^ (z1 & x2)) is odd.
+ */
+#ifndef LAM_PAULI_H
+#define LAM_PAULI_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include "stream.h"
+
+static inline int lam_pauli_words(int nqubits) { return (nqubits + 63) / 64; }
+
+/* 1 when the strings anticommute, 0 when they commute. */
+int lam_pauli_anticommute(int nw, const uint64_t *x1, const uint64_t *z1,
+                          const uint64_t *x2, const uint64_t *z2);
+/* (x1,z1)(x2,z2) = i^k (xo,zo); returns k in 0..3.  Output may alias an
+ * input. */
+int lam_pauli_mul(int nw, const uint64_t *x1, const uint64_t *z1,
+                  const uint64_t *x2, const uint64_t *z2, uint64_t *xo,
+                  uint64_t *zo);
+/* Number of qubits acted on non-trivially. */
+int lam_pauli_weight(int nw, const uint64_t *x, const uint64_t *z);
+/* "X0 Y1 Z5" (empty for the identity) into buf; returns length, or -1 if
+ * it does not fit. */
+int lam_pauli_format(char *buf, size_t size, int nw, const uint64_t *x,
+                     const uint64_t *z);
+
+/* A set of weighted strings, stored contiguously: term t has words
+ * bits[t*2*nw .. +nw) for x and [+nw .. +2nw) for z. */
+typedef struct {
+    int nqubits, nwords;
+    size_t count, cap;
+    uint64_t *bits;
+    double *coef;
+    int32_t *group; /* NULL when unlabelled; else -1 for "no label" */
+} lam_pauli_set;
+
+void lam_pauli_set_init(lam_pauli_set *s, int nqubits);
+void lam_pauli_set_free(lam_pauli_set *s);
+static inline uint64_t *lam_pauli_x(const lam_pauli_set *s, size_t t)
+{
+    return s->bits + t * 2 * (size_t)s->nwords;
+}
+static inline uint64_t *lam_pauli_z(const lam_pauli_set *s, size_t t)
+{
+    return s->bits + t * 2 * (size_t)s->nwords + s->nwords;
+}
+/* Append a term (group -1 for none; the group array is created on the
+ * first labelled term). */
+void lam_pauli_set_add(lam_pauli_set *s, const uint64_t *x, const uint64_t *z,
+                       double coef, int32_t group);
+/* Merge repeated (string, group) pairs by hashing, in order of first
+ * appearance; drop exact zeros when drop_zeros. */
+void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);
+
+/* Read the terms of a pauli stream ("qubits:" from the header, else the
+ * largest index + 1); exit 65 with file:line on a malformed term. */
+void lam_pauli_read(lam_reader *r, lam_pauli_set *s);
+/* Parse one term's fields into x,z (zeroed first) and the optional
+ * trailing "@g" label (-1 when absent); nqubits < 0 means unbounded. */
+void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln,
+                            int nqubits, int nw, uint64_t *x, uint64_t *z,
+                            int32_t *group);
+/* Write every term (with "@g" when labelled); not the header. */
+void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s);
+
+#endif

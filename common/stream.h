@@ -1,0 +1,120 @@
+/* stream.h - the lamina operator stream, version 1 (see man/lamina-stream.5).
+ *
+ * A stream is line oriented: "#%" lines are metadata (key: value), other
+ * "#" lines are comments, blank lines are ignored, every other line is one
+ * term with its real coefficient in column 1.  A stream that starts with
+ * "#% lamina-op 1" must end with "#% end"; a reader that meets EOF first
+ * fails with "truncated stream" (exit 65).  gzip input is read
+ * transparently through zlib.
+ */
+#ifndef LAM_STREAM_H
+#define LAM_STREAM_H
+
+#include <stddef.h>
+
+typedef enum {
+    LAM_KIND_UNKNOWN = 0,
+    LAM_KIND_SPINFREE,
+    LAM_KIND_FERMION,
+    LAM_KIND_PAULI,
+    LAM_KIND_FRAGMENTS
+} lam_kind;
+
+const char *lam_kind_name(lam_kind kind);
+/* Returns 0 and sets *kind for a known name, -1 otherwise. */
+int lam_kind_parse(const char *name, lam_kind *kind);
+
+/* ---- metadata: ordered key/value list; keys may repeat (history) ---- */
+typedef struct {
+    char *key;
+    char *value;
+    long line; /* line it was read from, 0 if set by a program */
+} lam_meta_entry;
+
+typedef struct {
+    lam_meta_entry *items;
+    size_t count, cap;
+} lam_meta;
+
+void lam_meta_init(lam_meta *m);
+void lam_meta_free(lam_meta *m);
+void lam_meta_copy(lam_meta *dst, const lam_meta *src);
+/* Last value for key, or NULL. */
+const char *lam_meta_get(const lam_meta *m, const char *key);
+const lam_meta_entry *lam_meta_find(const lam_meta *m, const char *key);
+/* Replace the value of the first entry with this key, or append. */
+void lam_meta_set(lam_meta *m, const char *key, const char *value);
+void lam_meta_setf(lam_meta *m, const char *key, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+/* Append (keys such as history may repeat). */
+void lam_meta_add(lam_meta *m, const char *key, const char *value);
+void lam_meta_remove(lam_meta *m, const char *key);
+
+/* ---- reader ---- */
+typedef struct lam_reader lam_reader;
+
+/* One term line, tokenized in place; valid until the next call. */
+typedef struct {
+    double coef;
+    int nfields;   /* tokens after the coefficient */
+    char **fields;
+    long line;
+} lam_line;
+
+/* Open path (NULL or "-" for stdin); exit 66 if it cannot be opened.
+ * Reads the leading metadata and comments. */
+lam_reader *lam_reader_open(const char *path);
+void lam_reader_close(lam_reader *r);
+const char *lam_reader_name(const lam_reader *r);
+long lam_reader_lineno(const lam_reader *r);
+/* Metadata read so far (header, plus any #% lines met between terms). */
+lam_meta *lam_reader_meta(lam_reader *r);
+/* The kind: from "#% kind:", else the forced kind, else inferred from the
+ * first term (X0/Y1/Z2 -> pauli, 3+/0- -> fermion, integers -> spinfree).
+ * A forced kind that contradicts the header is an error (exit 65). */
+void lam_reader_force_kind(lam_reader *r, lam_kind kind);
+lam_kind lam_reader_kind(lam_reader *r);
+/* Next term: 1 and *out filled, or 0 at the end of the stream (the
+ * "#% end" trailer checked).  A coefficient that does not parse, NaN or
+ * Inf is exit 65 with file and line. */
+int lam_reader_next(lam_reader *r, lam_line *out);
+/* exit 65 with "file:line: message" at the current line. */
+_Noreturn void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+_Noreturn void lam_reader_fail_line(const lam_reader *r, long line,
+                                    const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+/* Integer metadata value (e.g. "orbitals"); dflt if absent, exit 65 naming
+ * the line if present and not an integer in [min, max]. */
+long lam_reader_meta_long(lam_reader *r, const char *key, long dflt, long min,
+                          long max);
+
+/* Parse a field as an index in [0, limit); exit 65 otherwise. */
+int lam_reader_index(const lam_reader *r, const lam_line *ln, int field,
+                     long limit, const char *what);
+
+/* ---- writer ---- */
+typedef struct lam_writer lam_writer;
+
+/* Open path (NULL or "-" for stdout); gzip != 0 writes gzip.  exit 74 on
+ * failure. */
+lam_writer *lam_writer_open(const char *path, int gzip);
+/* "#% lamina-op 1", "#% kind: K", every entry of meta except the reserved
+ * keys (lamina-op, kind, end), then "#% history: <history>". */
+void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
+                       const char *history);
+/* One term: coefficient with 17 significant digits, then rest (may be
+ * NULL or "") separated by one space. */
+void lam_writer_term(lam_writer *w, double coef, const char *rest);
+void lam_writer_printf(lam_writer *w, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+void lam_writer_write(lam_writer *w, const char *buf, size_t len);
+/* Write "#% end", flush and close; exit 74 on any write error. */
+void lam_writer_close(lam_writer *w);
+/* Flush and close without the trailer (for reports). */
+void lam_writer_close_raw(lam_writer *w);
+
+/* "lam-xxx arg1 arg2 ..." from argv (program basename); caller frees. */
+char *lam_history_from_argv(int argc, char **argv);
+
+#endif

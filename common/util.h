@@ -1,0 +1,78 @@
+/* util.h - errors, exit codes, checked allocation, strict numbers, progress.
+ *
+ * Every program of the suite reports problems the same way:
+ *     lam-xxx: FILE:LINE: what is wrong
+ * on stderr, and exits with a sysexits code.  These helpers are the only
+ * place that prints such messages, so the format stays uniform.
+ */
+#ifndef LAM_UTIL_H
+#define LAM_UTIL_H
+
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+
+#define LAMINA_VERSION "0.1.0"
+
+enum lam_exit {
+    LAM_EX_OK = 0,
+    LAM_EX_USAGE = 64,    /* bad command line */
+    LAM_EX_DATA = 65,     /* malformed or unsuitable input data */
+    LAM_EX_NOINPUT = 66,  /* cannot open an input file */
+    LAM_EX_SOFTWARE = 70, /* internal error, out of memory */
+    LAM_EX_IOERR = 74,    /* read or write failed */
+    LAM_EX_MEMORY = 75    /* the work would exceed --max-memory */
+};
+
+/* Name used as the message prefix; set once from main(). */
+void lam_set_program(const char *argv0);
+const char *lam_program(void);
+
+/* Print "prog: msg" and exit with code. */
+_Noreturn void lam_fail(int code, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+/* Print "prog: file:line: msg" and exit with code (line <= 0 omits it). */
+_Noreturn void lam_fail_at(int code, const char *file, long line,
+                           const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+/* Print "prog: msg" as a warning; does not exit. */
+void lam_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+
+/* Checked allocation: on failure print "out of memory" and exit 70. */
+void *lam_malloc(size_t n);
+void *lam_calloc(size_t count, size_t size);
+void *lam_realloc(void *p, size_t n);
+/* count*size with overflow check (exit 70 on overflow). */
+size_t lam_mul_size(size_t count, size_t size);
+char *lam_strdup(const char *s);
+
+/* Strict parsing of a whole token.  Return 0 on success, -1 if the token is
+ * not a complete number (trailing junk, empty, NaN, Inf, out of range).
+ * lam_parse_double accepts Fortran D/d exponents too. */
+int lam_parse_double(const char *tok, double *out);
+int lam_parse_long(const char *tok, long *out);
+
+/* Command-line helpers.  Options with numbers call these, which fail with
+ * exit 64 naming the option. */
+double lam_opt_double(const char *opt, const char *arg);
+long lam_opt_long(const char *opt, const char *arg, long min, long max);
+/* Print "prog VERSION" and exit 0. */
+_Noreturn void lam_print_version(void);
+/* Print "prog: msg\nTry 'prog --help'." and exit 64. */
+_Noreturn void lam_usage_error(const char *fmt, ...)
+    __attribute__((format(printf, 1, 2)));
+
+/* Progress on stderr: on when stderr is a terminal, forced on by
+ * lam_progress_set(1) (--progress) and off by lam_progress_set(0) (--quiet). */
+void lam_progress_set(int on);
+int lam_progress_enabled(void);
+void lam_progress(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+
+/* Wall-clock seconds from a monotonic clock. */
+double lam_seconds(void);
+
+/* Write a double with 17 significant digits (exact round trip). */
+void lam_format_double(char *buf, size_t size, double x);
+#define LAM_DOUBLE_BUF 32
+
+#endif

@@ -1,0 +1,79 @@
+"""Test molecules of our own scenario, and psi4 references for them.
+
+psi4 (Debian package) is an independent reference: it writes the FCIDUMP
+and computes HF and FCI energies.  Files are cached under build/testdata so
+that the suite runs psi4 once per molecule; writes are atomic so that tests
+running in parallel can share the cache.
+
+Geometries in angstrom, chosen for this project (not taken from elsewhere).
+"""
+import json
+import os
+import subprocess
+import sys
+import tempfile
+
+ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+CACHE = os.path.join(ROOT, "build", "testdata")
+
+# name: (geometry, charge, basis, freeze_core)
+MOLECULES = {
+    "h2": ("H 0 0 0\nH 0 0 0.7414", 0, "sto-3g", False),
+    "h3plus": ("H 0 0 0\nH 0.87 0 0\nH 0.435 0.7534 0", 1, "sto-3g", False),
+    "h4chain": ("H 0 0 0\nH 0 0 0.9\nH 0 0 1.8\nH 0 0 2.7", 0, "sto-3g", False),
+    "lih": ("Li 0 0 0\nH 0 0 1.56", 0, "sto-3g", True),
+    "hf": ("F 0 0 0\nH 0 0 0.93", 0, "sto-3g", True),
+    "h2o": ("O 0 0 0.1166\nH 0 0.7621 -0.4664\nH 0 -0.7621 -0.4664", 0, "sto-3g", True),
+    "beh2": ("Be 0 0 0\nH 0 0 1.33\nH 0 0 -1.33", 0, "sto-3g", True),
+}
+
+PSI4_SCRIPT = r'''
+import json, sys
+import psi4
+name, geom, charge, basis, fc, fcidump_path, json_path = sys.argv[1:8]
+psi4.set_output_file(json_path + ".out", False)
+psi4.set_memory("2 GB")
+psi4.geometry("%s %d 1\n%s\nsymmetry c1\nno_reorient\nno_com\n" % ("", int(charge), geom))
+psi4.set_options({"basis": basis, "scf_type": "pk", "e_convergence": 1e-12,
+                  "d_convergence": 1e-10, "freeze_core": fc == "1"})
+e_scf, wfn = psi4.energy("scf", return_wfn=True)
+from psi4.driver.p4util.fcidump import fcidump
+fcidump(wfn, fcidump_path)
+e_fci = psi4.energy("fci")
+json.dump({"scf": e_scf, "fci": e_fci, "nmo": wfn.nmo(),
+           "frozen": int(wfn.frzcpi().sum())}, open(json_path, "w"))
+'''
+
+
+def psi4_python():
+    """Command prefix that runs Debian's psi4 module."""
+    env = dict(os.environ)
+    env["PYTHONPATH"] = "/usr/lib/x86_64-linux-gnu"
+    env.setdefault("OMP_NUM_THREADS", "1")
+    return ["/usr/bin/python3"], env
+
+
+def reference(name):
+    """(fcidump path, {"scf", "fci", "nmo", "frozen"}) for a test molecule."""
+    geom, charge, basis, fc = MOLECULES[name]
+    os.makedirs(CACHE, exist_ok=True)
+    fcid = os.path.join(CACHE, name + ".fcidump")
+    js = os.path.join(CACHE, name + ".json")
+    if not (os.path.exists(fcid) and os.path.exists(js)):
+        tmpdir = tempfile.mkdtemp(dir=CACHE)
+        tf, tj = os.path.join(tmpdir, "f"), os.path.join(tmpdir, "j")
+        cmd, env = psi4_python()
+        subprocess.run(cmd + ["-c", PSI4_SCRIPT, name, geom, str(charge), basis,
+                              "1" if fc else "0", tf, tj],
+                       check=True, env=env, cwd=tmpdir,
+                       stdout=subprocess.DEVNULL)
+        os.replace(tf, fcid)
+        os.replace(tj, js)
+    with open(js) as f:
+        return fcid, json.load(f)
+
+
+if __name__ == "__main__":
+    for n in sys.argv[1:] or MOLECULES:
+        path, e = reference(n)
+        print(n, path, e)
