@@ -1,0 +1,38 @@
+/* report.h - key/value reports (lam-norm, lam-range, lam-cost, ...).
+ *
+ * Text form: one "key<TAB>value" line per entry, in insertion order;
+ * numbers with 17 significant digits.  --tsv form: one header row of keys
+ * and one row of values (entries added with lam_report_line, such as
+ * lam-range's per-sector lines, are left out of the TSV form: they are
+ * printed only in the text form).
+ */
+#ifndef LAM_REPORT_H
+#define LAM_REPORT_H
+
+#include <stdio.h>
+
+typedef struct lam_report lam_report;
+
+lam_report *lam_report_new(void);
+void lam_report_free(lam_report *rep);
+void lam_report_num(lam_report *rep, const char *key, double value);
+void lam_report_int(lam_report *rep, const char *key, long long value);
+void lam_report_str(lam_report *rep, const char *key, const char *value);
+/* A repeated-key line (e.g. "sector"), text form only; value is the
+ * whole rest of the line (tabs allowed). */
+void lam_report_line(lam_report *rep, const char *key, const char *value);
+/* Write to out in text or TSV form; exit 74 on a write error. */
+void lam_report_write(const lam_report *rep, FILE *out, int tsv);
+/* Write to path ("-" or NULL: stdout). */
+void lam_report_save(const lam_report *rep, const char *path, int tsv);
+
+/* Read a text report (as written above) from an open reader-like file:
+ * returns the value of key as a number, or NAN with *found = 0.  Used by
+ * programs that take a report as input (lam-cost). */
+typedef struct lam_report_in lam_report_in;
+lam_report_in *lam_report_read(const char *path);
+int lam_report_get(const lam_report_in *in, const char *key, double *value);
+const char *lam_report_get_str(const lam_report_in *in, const char *key);
+void lam_report_in_free(lam_report_in *in);
+
+#endif
