@@ -26,9 +26,9 @@ void lam_report_write(const lam_report *rep, FILE *out, int tsv);
 /* Write to path ("-" or NULL: stdout). */
 void lam_report_save(const lam_report *rep, const char *path, int tsv);
 
-/* Read a text report (as written above) from an open reader-like file:
- * returns the value of key as a number, or NAN with *found = 0.  Used by
- * programs that take a report as input (lam-cost). */
+/* Read a text report (as written above; path NULL or "-" is stdin).
+ * lam_report_get returns 1 and the value when key is present and numeric,
+ * else 0 and NAN.  Used by programs that take a report as input. */
 typedef struct lam_report_in lam_report_in;
 lam_report_in *lam_report_read(const char *path);
 int lam_report_get(const lam_report_in *in, const char *key, double *value);

@@ -1,0 +1,190 @@
+/* report.c - key/value reports in text and TSV form. */
+#include "report.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "stream.h"
+#include "util.h"
+
+typedef struct {
+    char *key;
+    char *value;
+    int tsv; /* appears in the TSV form */
+} entry;
+
+struct lam_report {
+    entry *items;
+    size_t count, cap;
+};
+
+lam_report *lam_report_new(void) { return lam_calloc(1, sizeof(lam_report)); }
+
+void lam_report_free(lam_report *rep)
+{
+    if (!rep) return;
+    for (size_t i = 0; i < rep->count; ++i) {
+        free(rep->items[i].key);
+        free(rep->items[i].value);
+    }
+    free(rep->items);
+    free(rep);
+}
+
+static void add(lam_report *rep, const char *key, const char *value, int tsv)
+{
+    if (tsv)
+        for (size_t i = 0; i < rep->count; ++i)
+            if (rep->items[i].tsv && strcmp(rep->items[i].key, key) == 0) {
+                char *v = lam_strdup(value);
+                free(rep->items[i].value);
+                rep->items[i].value = v;
+                return;
+            }
+    if (rep->count == rep->cap) {
+        rep->cap = rep->cap ? 2 * rep->cap : 16;
+        rep->items = lam_realloc(rep->items, lam_mul_size(rep->cap, sizeof *rep->items));
+    }
+    entry *e = &rep->items[rep->count++];
+    e->key = lam_strdup(key);
+    e->value = lam_strdup(value);
+    e->tsv = tsv;
+}
+
+void lam_report_num(lam_report *rep, const char *key, double value)
+{
+    char buf[LAM_DOUBLE_BUF];
+    lam_format_double(buf, sizeof buf, value);
+    add(rep, key, buf, 1);
+}
+
+void lam_report_int(lam_report *rep, const char *key, long long value)
+{
+    char buf[32];
+    snprintf(buf, sizeof buf, "%lld", value);
+    add(rep, key, buf, 1);
+}
+
+void lam_report_str(lam_report *rep, const char *key, const char *value)
+{
+    add(rep, key, value, 1);
+}
+
+void lam_report_line(lam_report *rep, const char *key, const char *value)
+{
+    add(rep, key, value, 0);
+}
+
+void lam_report_write(const lam_report *rep, FILE *out, int tsv)
+{
+    if (tsv) {
+        int first = 1;
+        for (size_t i = 0; i < rep->count; ++i)
+            if (rep->items[i].tsv) {
+                fprintf(out, "%s%s", first ? "" : "\t", rep->items[i].key);
+                first = 0;
+            }
+        fputc('\n', out);
+        first = 1;
+        for (size_t i = 0; i < rep->count; ++i)
+            if (rep->items[i].tsv) {
+                fprintf(out, "%s%s", first ? "" : "\t", rep->items[i].value);
+                first = 0;
+            }
+        fputc('\n', out);
+    } else {
+        for (size_t i = 0; i < rep->count; ++i)
+            fprintf(out, "%s\t%s\n", rep->items[i].key, rep->items[i].value);
+    }
+    if (fflush(out) != 0 || ferror(out))
+        lam_fail(LAM_EX_IOERR, "cannot write the report: %s", strerror(errno));
+}
+
+void lam_report_save(const lam_report *rep, const char *path, int tsv)
+{
+    if (!path || strcmp(path, "-") == 0) {
+        lam_report_write(rep, stdout, tsv);
+        return;
+    }
+    FILE *f = fopen(path, "w");
+    if (!f) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", path, strerror(errno));
+    lam_report_write(rep, f, tsv);
+    if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+}
+
+/* ---- reading ---- */
+
+struct lam_report_in {
+    entry *items;
+    size_t count;
+};
+
+/* Lines are "key<TAB>value"; '#' lines and blank lines are skipped.
+ * Keys keep their line number (in .tsv) for messages. */
+lam_report_in *lam_report_read(const char *path)
+{
+    FILE *f = (!path || strcmp(path, "-") == 0) ? stdin : fopen(path, "r");
+    const char *name = f == stdin ? "<stdin>" : path;
+    if (!f) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
+    lam_report_in *in = lam_calloc(1, sizeof *in);
+    size_t cap = 0;
+    char *line = NULL;
+    size_t linecap = 0;
+    long lineno = 0;
+    ssize_t n;
+    while ((n = getline(&line, &linecap, f)) >= 0) {
+        ++lineno;
+        while (n > 0 && (line[n - 1] == '\n' || line[n - 1] == '\r')) line[--n] = '\0';
+        if (n == 0 || line[0] == '#') continue;
+        char *tab = strchr(line, '\t');
+        if (!tab) lam_fail_at(LAM_EX_DATA, name, lineno, "report line without a tab between key and value");
+        *tab = '\0';
+        if (in->count == cap) {
+            cap = cap ? 2 * cap : 16;
+            in->items = lam_realloc(in->items, lam_mul_size(cap, sizeof *in->items));
+        }
+        in->items[in->count].key = lam_strdup(line);
+        in->items[in->count].value = lam_strdup(tab + 1);
+        in->items[in->count].tsv = (int)lineno;
+        in->count++;
+    }
+    int bad = ferror(f);
+    free(line);
+    if (f != stdin) fclose(f);
+    if (bad) lam_fail(LAM_EX_IOERR, "read error on %s", name);
+    return in;
+}
+
+const char *lam_report_get_str(const lam_report_in *in, const char *key)
+{
+    for (size_t i = in->count; i-- > 0;)
+        if (strcmp(in->items[i].key, key) == 0) return in->items[i].value;
+    return NULL;
+}
+
+int lam_report_get(const lam_report_in *in, const char *key, double *value)
+{
+    const char *s = lam_report_get_str(in, key);
+    if (!s) {
+        *value = NAN;
+        return 0;
+    }
+    if (lam_parse_double(s, value) != 0) {
+        *value = NAN;
+        return 0;
+    }
+    return 1;
+}
+
+void lam_report_in_free(lam_report_in *in)
+{
+    if (!in) return;
+    for (size_t i = 0; i < in->count; ++i) {
+        free(in->items[i].key);
+        free(in->items[i].value);
+    }
+    free(in->items);
+    free(in);
+}

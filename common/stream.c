@@ -1,0 +1,636 @@
+/* stream.c - reader and writer of the lamina operator stream, version 1. */
+#include "stream.h"
+
+#include <ctype.h>
+#include <errno.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+#include <zlib.h>
+
+#include "util.h"
+
+/* ------------------------------------------------------------------ */
+/* kinds */
+
+static const char *const kind_names[] = {"unknown", "spinfree", "fermion",
+                                         "pauli", "fragments"};
+
+const char *lam_kind_name(lam_kind kind)
+{
+    return (unsigned)kind < sizeof kind_names / sizeof *kind_names
+               ? kind_names[kind]
+               : "unknown";
+}
+
+int lam_kind_parse(const char *name, lam_kind *kind)
+{
+    for (int k = LAM_KIND_SPINFREE; k <= LAM_KIND_FRAGMENTS; ++k)
+        if (strcmp(name, kind_names[k]) == 0) {
+            *kind = (lam_kind)k;
+            return 0;
+        }
+    return -1;
+}
+
+/* ------------------------------------------------------------------ */
+/* metadata */
+
+void lam_meta_init(lam_meta *m) { memset(m, 0, sizeof *m); }
+
+void lam_meta_free(lam_meta *m)
+{
+    for (size_t i = 0; i < m->count; ++i) {
+        free(m->items[i].key);
+        free(m->items[i].value);
+    }
+    free(m->items);
+    lam_meta_init(m);
+}
+
+static void meta_append(lam_meta *m, const char *key, const char *value,
+                        long line)
+{
+    if (m->count == m->cap) {
+        m->cap = m->cap ? 2 * m->cap : 8;
+        m->items = lam_realloc(m->items, lam_mul_size(m->cap, sizeof *m->items));
+    }
+    lam_meta_entry *e = &m->items[m->count++];
+    e->key = lam_strdup(key);
+    e->value = lam_strdup(value);
+    e->line = line;
+}
+
+void lam_meta_copy(lam_meta *dst, const lam_meta *src)
+{
+    lam_meta_init(dst);
+    for (size_t i = 0; i < src->count; ++i)
+        meta_append(dst, src->items[i].key, src->items[i].value,
+                    src->items[i].line);
+}
+
+const lam_meta_entry *lam_meta_find(const lam_meta *m, const char *key)
+{
+    for (size_t i = m->count; i-- > 0;)
+        if (strcmp(m->items[i].key, key) == 0) return &m->items[i];
+    return NULL;
+}
+
+const char *lam_meta_get(const lam_meta *m, const char *key)
+{
+    const lam_meta_entry *e = lam_meta_find(m, key);
+    return e ? e->value : NULL;
+}
+
+void lam_meta_set(lam_meta *m, const char *key, const char *value)
+{
+    for (size_t i = 0; i < m->count; ++i)
+        if (strcmp(m->items[i].key, key) == 0) {
+            char *v = lam_strdup(value);
+            free(m->items[i].value);
+            m->items[i].value = v;
+            m->items[i].line = 0;
+            return;
+        }
+    meta_append(m, key, value, 0);
+}
+
+void lam_meta_setf(lam_meta *m, const char *key, const char *fmt, ...)
+{
+    char buf[512];
+    va_list ap;
+    va_start(ap, fmt);
+    int n = vsnprintf(buf, sizeof buf, fmt, ap);
+    va_end(ap);
+    if (n < 0 || (size_t)n >= sizeof buf)
+        lam_fail(LAM_EX_SOFTWARE, "metadata value for '%s' too long", key);
+    lam_meta_set(m, key, buf);
+}
+
+void lam_meta_add(lam_meta *m, const char *key, const char *value)
+{
+    meta_append(m, key, value, 0);
+}
+
+void lam_meta_remove(lam_meta *m, const char *key)
+{
+    size_t j = 0;
+    for (size_t i = 0; i < m->count; ++i) {
+        if (strcmp(m->items[i].key, key) == 0) {
+            free(m->items[i].key);
+            free(m->items[i].value);
+        } else {
+            m->items[j++] = m->items[i];
+        }
+    }
+    m->count = j;
+}
+
+/* ------------------------------------------------------------------ */
+/* reader */
+
+typedef struct {
+    char *text;
+    long line;
+} pending_line;
+
+struct lam_reader {
+    gzFile gz;
+    char *name;
+    long lineno;
+    /* input buffer: bytes [pos, len) are unread */
+    char *buf;
+    size_t cap, len, pos;
+    int eof;
+    /* lines read ahead while inferring the kind */
+    pending_line *pending;
+    size_t npending, pending_next;
+    char *pending_current;
+    lam_meta meta;
+    lam_kind kind, forced;
+    int kind_resolved;
+    int suite_stream; /* started with "#% lamina-op 1" */
+    int ended;        /* met "#% end" */
+    char **fields;
+    int fields_cap;
+};
+
+enum { READ_CHUNK = 1 << 20 };
+
+const char *lam_reader_name(const lam_reader *r) { return r->name; }
+long lam_reader_lineno(const lam_reader *r) { return r->lineno; }
+lam_meta *lam_reader_meta(lam_reader *r) { return &r->meta; }
+
+void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
+{
+    char msg[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    lam_fail_at(LAM_EX_DATA, r->name, line, "%s", msg);
+}
+
+void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
+{
+    char msg[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    lam_fail_at(LAM_EX_DATA, r->name, r->lineno, "%s", msg);
+}
+
+/* Refill so that [pos, len) holds at least a whole line or everything
+ * left; returns the unread byte count. */
+static size_t refill(lam_reader *r)
+{
+    if (r->pos > 0) {
+        memmove(r->buf, r->buf + r->pos, r->len - r->pos);
+        r->len -= r->pos;
+        r->pos = 0;
+    }
+    if (r->eof) return r->len;
+    if (r->cap - r->len < READ_CHUNK) {
+        r->cap = r->cap ? 2 * r->cap : 2 * READ_CHUNK;
+        r->buf = lam_realloc(r->buf, r->cap + 1);
+    }
+    int got = gzread(r->gz, r->buf + r->len, (unsigned)(r->cap - r->len));
+    if (got < 0) {
+        int err;
+        const char *msg = gzerror(r->gz, &err);
+        lam_fail_at(err == Z_DATA_ERROR ? LAM_EX_DATA : LAM_EX_IOERR, r->name,
+                    r->lineno, "read error: %s",
+                    err == Z_ERRNO ? strerror(errno) : msg);
+    }
+    if (got == 0) r->eof = 1;
+    r->len += (size_t)got;
+    return r->len;
+}
+
+/* Next raw line from the input (NUL terminated, without the newline), or
+ * NULL at EOF. */
+static char *raw_line(lam_reader *r)
+{
+    for (;;) {
+        char *start = r->buf + r->pos;
+        char *nl = r->len > r->pos ? memchr(start, '\n', r->len - r->pos) : NULL;
+        if (nl || (r->eof && r->len > r->pos)) {
+            size_t n = nl ? (size_t)(nl - start) : r->len - r->pos;
+            start[n] = '\0'; /* buffer has one spare byte past cap */
+            r->pos += n + (nl ? 1 : 0);
+            r->lineno++;
+            if (n > 0 && start[n - 1] == '\r') start[--n] = '\0';
+            if (strlen(start) != n) lam_reader_fail(r, "NUL byte in line");
+            return start;
+        }
+        if (r->eof) return NULL;
+        refill(r);
+    }
+}
+
+/* Next line, from the read-ahead queue first. */
+static char *next_line(lam_reader *r, long *line)
+{
+    if (r->pending_next < r->npending) {
+        pending_line *p = &r->pending[r->pending_next++];
+        free(r->pending_current);
+        r->pending_current = p->text;
+        *line = p->line;
+        if (r->pending_next == r->npending) r->npending = r->pending_next = 0;
+        return r->pending_current;
+    }
+    char *s = raw_line(r);
+    *line = r->lineno;
+    return s;
+}
+
+static int is_blank(const char *s)
+{
+    while (*s == ' ' || *s == '\t') ++s;
+    return *s == '\0';
+}
+
+static char *trim(char *s)
+{
+    while (*s == ' ' || *s == '\t') ++s;
+    char *e = s + strlen(s);
+    while (e > s && (e[-1] == ' ' || e[-1] == '\t')) --e;
+    *e = '\0';
+    return s;
+}
+
+/* "#% key: value" (s points past "#%"). */
+static void take_meta(lam_reader *r, char *s, long line)
+{
+    char *colon = strchr(s, ':');
+    if (!colon)
+        lam_reader_fail_line(r, line, "metadata line without 'key: value'");
+    *colon = '\0';
+    char *key = trim(s), *value = trim(colon + 1);
+    if (!*key) lam_reader_fail_line(r, line, "metadata line with an empty key");
+    if (strcmp(key, "kind") == 0) {
+        lam_kind k;
+        if (lam_kind_parse(value, &k) != 0)
+            lam_reader_fail_line(r, line, "unknown stream kind '%s'", value);
+        if (r->kind != LAM_KIND_UNKNOWN && r->kind != k)
+            lam_reader_fail_line(r, line, "second kind '%s' contradicts '%s'",
+                                 value, lam_kind_name(r->kind));
+        r->kind = k;
+    }
+    meta_append(&r->meta, key, value, line);
+}
+
+enum line_class { LINE_SKIP, LINE_TERM, LINE_END };
+
+/* Classify a line; metadata is taken in, "#% end" noted. */
+static enum line_class classify(lam_reader *r, char *s, long line)
+{
+    if (s[0] == '#') {
+        if (s[1] != '%') return LINE_SKIP;
+        char *body = trim(s + 2);
+        if (strcmp(body, "end") == 0) return LINE_END;
+        if (strncmp(body, "lamina-op", 9) == 0 && (body[9] == ' ' || body[9] == '\t')) {
+            if (line != 1)
+                lam_reader_fail_line(r, line, "'#%% lamina-op' is only allowed on the first line");
+            char *ver = trim(body + 9);
+            if (strcmp(ver, "1") != 0)
+                lam_reader_fail_line(r, line, "stream version '%s' is not supported (this is version 1)", ver);
+            r->suite_stream = 1;
+            return LINE_SKIP;
+        }
+        take_meta(r, body, line);
+        return LINE_SKIP;
+    }
+    return is_blank(s) ? LINE_SKIP : LINE_TERM;
+}
+
+static void read_after_end(lam_reader *r)
+{
+    long line;
+    char *s;
+    while ((s = next_line(r, &line)) != NULL)
+        if (!is_blank(s) && s[0] != '#')
+            lam_reader_fail_line(r, line, "term after '#%% end'");
+}
+
+static void queue_line(lam_reader *r, const char *s, long line)
+{
+    r->pending = lam_realloc(r->pending, lam_mul_size(r->npending + 1, sizeof *r->pending));
+    r->pending[r->npending].text = lam_strdup(s);
+    r->pending[r->npending].line = line;
+    r->npending++;
+}
+
+/* Read the leading metadata: stop at the first term line, queued. */
+static void read_header(lam_reader *r)
+{
+    long line;
+    char *s;
+    while ((s = next_line(r, &line)) != NULL) {
+        enum line_class c = classify(r, s, line);
+        if (c == LINE_SKIP) continue;
+        if (c == LINE_END) {
+            r->ended = 1;
+            read_after_end(r);
+            return;
+        }
+        queue_line(r, s, line);
+        return;
+    }
+}
+
+lam_reader *lam_reader_open(const char *path)
+{
+    lam_reader *r = lam_calloc(1, sizeof *r);
+    int use_stdin = !path || strcmp(path, "-") == 0;
+    r->name = lam_strdup(use_stdin ? "<stdin>" : path);
+    r->gz = use_stdin ? gzdopen(0, "rb") : gzopen(path, "rb");
+    if (!r->gz)
+        lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name,
+                 errno ? strerror(errno) : "out of memory");
+    gzbuffer(r->gz, 1 << 17);
+    lam_meta_init(&r->meta);
+    read_header(r);
+    return r;
+}
+
+void lam_reader_close(lam_reader *r)
+{
+    if (!r) return;
+    gzclose(r->gz);
+    for (size_t i = r->pending_next; i < r->npending; ++i) free(r->pending[i].text);
+    free(r->pending);
+    free(r->pending_current);
+    free(r->buf);
+    free(r->name);
+    free(r->fields);
+    lam_meta_free(&r->meta);
+    free(r);
+}
+
+static int split_fields(lam_reader *r, char *s)
+{
+    int n = 0;
+    for (;;) {
+        while (*s == ' ' || *s == '\t') ++s;
+        if (!*s) break;
+        if (n == r->fields_cap) {
+            r->fields_cap = r->fields_cap ? 2 * r->fields_cap : 16;
+            r->fields = lam_realloc(r->fields, lam_mul_size((size_t)r->fields_cap, sizeof *r->fields));
+        }
+        r->fields[n++] = s;
+        while (*s && *s != ' ' && *s != '\t') ++s;
+        if (*s) *s++ = '\0';
+    }
+    return n;
+}
+
+static void parse_coefficient(const lam_reader *r, const char *tok, long line,
+                              double *out)
+{
+    if (lam_parse_double(tok, out) == 0) return;
+    char low[8] = {0};
+    for (int i = 0; i < 7 && tok[i]; ++i) low[i] = (char)tolower((unsigned char)tok[i]);
+    const char *t = low[0] == '+' || low[0] == '-' ? low + 1 : low;
+    if (strncmp(t, "nan", 3) == 0 || strncmp(t, "inf", 3) == 0)
+        lam_reader_fail_line(r, line, "coefficient '%s' is not finite", tok);
+    lam_reader_fail_line(r, line, "coefficient '%s' is not a number", tok);
+}
+
+int lam_reader_next(lam_reader *r, lam_line *out)
+{
+    if (r->ended) return 0;
+    long line;
+    char *s;
+    while ((s = next_line(r, &line)) != NULL) {
+        enum line_class c = classify(r, s, line);
+        if (c == LINE_SKIP) continue;
+        if (c == LINE_END) {
+            r->ended = 1;
+            read_after_end(r);
+            return 0;
+        }
+        int n = split_fields(r, s);
+        parse_coefficient(r, r->fields[0], line, &out->coef);
+        out->nfields = n - 1;
+        out->fields = r->fields + 1;
+        out->line = line;
+        r->lineno = line;
+        return 1;
+    }
+    if (r->suite_stream)
+        lam_fail_at(LAM_EX_DATA, r->name, r->lineno,
+                    "truncated stream: it ends without '#%% end'");
+    return 0;
+}
+
+static lam_kind kind_of_field(const char *f)
+{
+    size_t n = strlen(f);
+    if (f[0] == 'X' || f[0] == 'Y' || f[0] == 'Z' || f[0] == '@') return LAM_KIND_PAULI;
+    if (n > 1 && (f[n - 1] == '+' || f[n - 1] == '-')) return LAM_KIND_FERMION;
+    if (isdigit((unsigned char)f[0])) return LAM_KIND_SPINFREE;
+    return LAM_KIND_UNKNOWN;
+}
+
+/* Look ahead for the first term with fields; its first field tells the
+ * kind.  Lines read stay queued for lam_reader_next. */
+static lam_kind infer_kind(lam_reader *r)
+{
+    for (size_t i = r->pending_next;; ++i) {
+        if (i >= r->npending) {
+            if (r->ended) return LAM_KIND_UNKNOWN;
+            long line;
+            char *s = raw_line(r);
+            if (!s) return LAM_KIND_UNKNOWN;
+            line = r->lineno;
+            queue_line(r, s, line);
+            continue;
+        }
+        const char *s = r->pending[i].text;
+        if (s[0] == '#' || is_blank(s)) continue;
+        while (*s == ' ' || *s == '\t') ++s;
+        while (*s && *s != ' ' && *s != '\t') ++s; /* coefficient */
+        while (*s == ' ' || *s == '\t') ++s;
+        if (!*s) continue;
+        char first[64] = {0};
+        size_t k = 0;
+        while (s[k] && s[k] != ' ' && s[k] != '\t' && k < sizeof first - 1) {
+            first[k] = s[k];
+            ++k;
+        }
+        return kind_of_field(first);
+    }
+}
+
+void lam_reader_force_kind(lam_reader *r, lam_kind kind) { r->forced = kind; }
+
+lam_kind lam_reader_kind(lam_reader *r)
+{
+    if (r->kind_resolved) return r->kind;
+    r->kind_resolved = 1;
+    if (r->kind != LAM_KIND_UNKNOWN) {
+        const lam_meta_entry *e = lam_meta_find(&r->meta, "kind");
+        if (r->forced != LAM_KIND_UNKNOWN && r->forced != r->kind)
+            lam_reader_fail_line(r, e ? e->line : 0,
+                                 "stream kind is '%s' but '%s' was asked for",
+                                 lam_kind_name(r->kind), lam_kind_name(r->forced));
+        return r->kind;
+    }
+    r->kind = r->forced != LAM_KIND_UNKNOWN ? r->forced : infer_kind(r);
+    return r->kind;
+}
+
+long lam_reader_meta_long(lam_reader *r, const char *key, long dflt, long min,
+                          long max)
+{
+    const lam_meta_entry *e = lam_meta_find(&r->meta, key);
+    if (!e) return dflt;
+    long v;
+    if (lam_parse_long(e->value, &v) != 0 || v < min || v > max)
+        lam_reader_fail_line(r, e->line, "'%s: %s' wants an integer from %ld to %ld",
+                             key, e->value, min, max);
+    return v;
+}
+
+int lam_reader_index(const lam_reader *r, const lam_line *ln, int field,
+                     long limit, const char *what)
+{
+    const char *tok = ln->fields[field];
+    long v;
+    if (lam_parse_long(tok, &v) != 0)
+        lam_reader_fail_line(r, ln->line, "%s index '%s' is not an integer", what, tok);
+    if (v < 0 || v >= limit)
+        lam_reader_fail_line(r, ln->line, "%s index %ld out of range 0..%ld", what, v, limit - 1);
+    return (int)v;
+}
+
+/* ------------------------------------------------------------------ */
+/* writer */
+
+struct lam_writer {
+    FILE *fp;
+    gzFile gz;
+    char *name;
+    int owns_fp;
+};
+
+lam_writer *lam_writer_open(const char *path, int gzip)
+{
+    lam_writer *w = lam_calloc(1, sizeof *w);
+    int use_stdout = !path || strcmp(path, "-") == 0;
+    w->name = lam_strdup(use_stdout ? "<stdout>" : path);
+    if (gzip) {
+        fflush(stdout);
+        w->gz = use_stdout ? gzdopen(dup(1), "wb6") : gzopen(path, "wb6");
+        if (!w->gz) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", w->name, strerror(errno));
+        gzbuffer(w->gz, 1 << 17);
+    } else {
+        w->fp = use_stdout ? stdout : fopen(path, "w");
+        if (!w->fp) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", w->name, strerror(errno));
+        w->owns_fp = !use_stdout;
+        if (w->owns_fp) setvbuf(w->fp, NULL, _IOFBF, 1 << 17);
+    }
+    return w;
+}
+
+static _Noreturn void write_failed(const lam_writer *w)
+{
+    lam_fail(LAM_EX_IOERR, "cannot write %s: %s", w->name,
+             errno ? strerror(errno) : "write error");
+}
+
+void lam_writer_write(lam_writer *w, const char *buf, size_t len)
+{
+    if (w->gz) {
+        if (len && gzwrite(w->gz, buf, (unsigned)len) != (int)len) write_failed(w);
+    } else if (fwrite(buf, 1, len, w->fp) != len) {
+        write_failed(w);
+    }
+}
+
+void lam_writer_printf(lam_writer *w, const char *fmt, ...)
+{
+    char small[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    int n = vsnprintf(small, sizeof small, fmt, ap);
+    va_end(ap);
+    if (n < 0) lam_fail(LAM_EX_SOFTWARE, "formatting failed");
+    if ((size_t)n < sizeof small) {
+        lam_writer_write(w, small, (size_t)n);
+        return;
+    }
+    char *big = lam_malloc((size_t)n + 1);
+    va_start(ap, fmt);
+    vsnprintf(big, (size_t)n + 1, fmt, ap);
+    va_end(ap);
+    lam_writer_write(w, big, (size_t)n);
+    free(big);
+}
+
+static int reserved_key(const char *key)
+{
+    return strcmp(key, "kind") == 0 || strcmp(key, "lamina-op") == 0 ||
+           strcmp(key, "end") == 0;
+}
+
+void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
+                       const char *history)
+{
+    lam_writer_printf(w, "#%% lamina-op 1\n#%% kind: %s\n", lam_kind_name(kind));
+    for (size_t i = 0; meta && i < meta->count; ++i)
+        if (!reserved_key(meta->items[i].key))
+            lam_writer_printf(w, "#%% %s: %s\n", meta->items[i].key, meta->items[i].value);
+    if (history) lam_writer_printf(w, "#%% history: %s\n", history);
+}
+
+void lam_writer_term(lam_writer *w, double coef, const char *rest)
+{
+    char line[LAM_DOUBLE_BUF];
+    lam_format_double(line, sizeof line, coef);
+    lam_writer_write(w, line, strlen(line));
+    if (rest && *rest) {
+        lam_writer_write(w, " ", 1);
+        lam_writer_write(w, rest, strlen(rest));
+    }
+    lam_writer_write(w, "\n", 1);
+}
+
+void lam_writer_close_raw(lam_writer *w)
+{
+    if (!w) return;
+    if (w->gz) {
+        if (gzclose(w->gz) != Z_OK) write_failed(w);
+    } else {
+        if (fflush(w->fp) != 0 || ferror(w->fp)) write_failed(w);
+        if (w->owns_fp && fclose(w->fp) != 0) write_failed(w);
+    }
+    free(w->name);
+    free(w);
+}
+
+void lam_writer_close(lam_writer *w)
+{
+    lam_writer_write(w, "#% end\n", 7);
+    lam_writer_close_raw(w);
+}
+
+char *lam_history_from_argv(int argc, char **argv)
+{
+    size_t n = 1;
+    for (int i = 0; i < argc; ++i) n += strlen(argv[i]) + 3;
+    char *s = lam_malloc(n);
+    char *p = s;
+    for (int i = 0; i < argc; ++i) {
+        const char *a = argv[i];
+        if (i == 0) {
+            const char *slash = strrchr(a, '/');
+            a = slash ? slash + 1 : a;
+        }
+        int quote = a[0] == '\0' || strpbrk(a, " \t") != NULL;
+        p += sprintf(p, "%s%s%s%s", i ? " " : "", quote ? "'" : "", a, quote ? "'" : "");
+    }
+    return s;
+}

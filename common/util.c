@@ -1,0 +1,208 @@
+/* util.c - errors, checked allocation, strict numbers, progress. */
+#include "util.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+static const char *program_name = "lamina";
+static int progress_mode = -1; /* -1: decide from isatty(2) */
+
+void lam_set_program(const char *argv0)
+{
+    const char *slash = argv0 ? strrchr(argv0, '/') : NULL;
+    program_name = slash ? slash + 1 : (argv0 ? argv0 : "lamina");
+}
+
+const char *lam_program(void) { return program_name; }
+
+static void vreport(const char *file, long line, const char *fmt, va_list ap)
+{
+    fflush(stdout);
+    fprintf(stderr, "%s: ", program_name);
+    if (file) {
+        if (line > 0)
+            fprintf(stderr, "%s:%ld: ", file, line);
+        else
+            fprintf(stderr, "%s: ", file);
+    }
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+}
+
+void lam_fail(int code, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vreport(NULL, 0, fmt, ap);
+    va_end(ap);
+    exit(code);
+}
+
+void lam_fail_at(int code, const char *file, long line, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vreport(file, line, fmt, ap);
+    va_end(ap);
+    exit(code);
+}
+
+void lam_warn(const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vreport(NULL, 0, fmt, ap);
+    va_end(ap);
+}
+
+static _Noreturn void out_of_memory(size_t n)
+{
+    lam_fail(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", n);
+}
+
+void *lam_malloc(size_t n)
+{
+    void *p = malloc(n ? n : 1);
+    if (!p) out_of_memory(n);
+    return p;
+}
+
+void *lam_calloc(size_t count, size_t size)
+{
+    void *p = calloc(count ? count : 1, size ? size : 1);
+    if (!p) out_of_memory(lam_mul_size(count, size));
+    return p;
+}
+
+void *lam_realloc(void *p, size_t n)
+{
+    void *q = realloc(p, n ? n : 1);
+    if (!q) out_of_memory(n);
+    return q;
+}
+
+size_t lam_mul_size(size_t count, size_t size)
+{
+    if (size && count > SIZE_MAX / size)
+        lam_fail(LAM_EX_SOFTWARE, "size overflow (%zu x %zu)", count, size);
+    return count * size;
+}
+
+char *lam_strdup(const char *s)
+{
+    size_t n = strlen(s) + 1;
+    char *d = lam_malloc(n);
+    memcpy(d, s, n);
+    return d;
+}
+
+int lam_parse_double(const char *tok, double *out)
+{
+    char buf[128];
+    size_t n = strlen(tok);
+    if (n == 0 || n >= sizeof buf) return -1;
+    /* Fortran writers use D for the exponent; C wants E. */
+    const char *s = tok;
+    if (strpbrk(tok, "dD")) {
+        memcpy(buf, tok, n + 1);
+        for (char *c = buf; *c; ++c)
+            if (*c == 'd' || *c == 'D') *c = 'e';
+        s = buf;
+    }
+    /* strtod accepts "nan", "inf" and hex; a coefficient is a decimal. */
+    for (const char *c = s; *c; ++c)
+        if (!strchr("0123456789+-.eE", *c)) return -1;
+    char *end;
+    errno = 0;
+    double v = strtod(s, &end);
+    if (end == s || *end != '\0') return -1;
+    if (errno == ERANGE && (v == HUGE_VAL || v == -HUGE_VAL)) return -1;
+    if (!isfinite(v)) return -1;
+    *out = v;
+    return 0;
+}
+
+int lam_parse_long(const char *tok, long *out)
+{
+    if (!*tok) return -1;
+    char *end;
+    errno = 0;
+    long v = strtol(tok, &end, 10);
+    if (end == tok || *end != '\0' || errno == ERANGE) return -1;
+    *out = v;
+    return 0;
+}
+
+double lam_opt_double(const char *opt, const char *arg)
+{
+    double v;
+    if (lam_parse_double(arg, &v) != 0)
+        lam_usage_error("option %s wants a number, not '%s'", opt, arg);
+    return v;
+}
+
+long lam_opt_long(const char *opt, const char *arg, long min, long max)
+{
+    long v;
+    if (lam_parse_long(arg, &v) != 0)
+        lam_usage_error("option %s wants an integer, not '%s'", opt, arg);
+    if (v < min || v > max)
+        lam_usage_error("option %s wants an integer from %ld to %ld, not %ld",
+                        opt, min, max, v);
+    return v;
+}
+
+void lam_print_version(void)
+{
+    printf("%s (lamina) %s\n", program_name, LAMINA_VERSION);
+    if (fflush(stdout) != 0 || ferror(stdout))
+        lam_fail(LAM_EX_IOERR, "cannot write to standard output");
+    exit(0);
+}
+
+void lam_usage_error(const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vreport(NULL, 0, fmt, ap);
+    va_end(ap);
+    fprintf(stderr, "Try '%s --help'.\n", program_name);
+    exit(LAM_EX_USAGE);
+}
+
+void lam_progress_set(int on) { progress_mode = on ? 1 : 0; }
+
+int lam_progress_enabled(void)
+{
+    if (progress_mode < 0) progress_mode = isatty(2) ? 1 : 0;
+    return progress_mode;
+}
+
+void lam_progress(const char *fmt, ...)
+{
+    if (!lam_progress_enabled()) return;
+    va_list ap;
+    va_start(ap, fmt);
+    fprintf(stderr, "%s: ", program_name);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+}
+
+double lam_seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+void lam_format_double(char *buf, size_t size, double x)
+{
+    if (x == 0) x = 0; /* no "-0" */
+    snprintf(buf, size, "%.17g", x);
+}
