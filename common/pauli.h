@@ -22,6 +22,8 @@ int lam_pauli_anticommute(int nw, const uint64_t *x1, const uint64_t *z1,
 int lam_pauli_mul(int nw, const uint64_t *x1, const uint64_t *z1,
                   const uint64_t *x2, const uint64_t *z2, uint64_t *xo,
                   uint64_t *zo);
+/* 1 when the string is the identity. */
+int lam_pauli_is_identity(int nw, const uint64_t *x, const uint64_t *z);
 /* Number of qubits acted on non-trivially. */
 int lam_pauli_weight(int nw, const uint64_t *x, const uint64_t *z);
 /* "X0 Y1 Z5" (empty for the identity) into buf; returns length, or -1 if
@@ -39,6 +41,7 @@ typedef struct {
     int32_t *group; /* NULL when unlabelled; else -1 for "no label" */
 } lam_pauli_set;
 
+/* Empty set; nwords is at least 1 even for 0 qubits. */
 void lam_pauli_set_init(lam_pauli_set *s, int nqubits);
 void lam_pauli_set_free(lam_pauli_set *s);
 static inline uint64_t *lam_pauli_x(const lam_pauli_set *s, size_t t)
@@ -53,6 +56,15 @@ static inline uint64_t *lam_pauli_z(const lam_pauli_set *s, size_t t)
  * first labelled term). */
 void lam_pauli_set_add(lam_pauli_set *s, const uint64_t *x, const uint64_t *z,
                        double coef, int32_t group);
+/* Room for count terms without reallocation. */
+void lam_pauli_set_reserve(lam_pauli_set *s, size_t count);
+/* Raise the qubit count (widening every stored string when the word count
+ * grows); never lowers it. */
+void lam_pauli_set_grow_qubits(lam_pauli_set *s, int nqubits);
+/* Sum of |c| over the non-identity terms, and sum of the identity terms
+ * (as stored: merge first for the one-norm of the operator). */
+double lam_pauli_set_lambda(const lam_pauli_set *s);
+double lam_pauli_set_constant(const lam_pauli_set *s);
 /* Merge repeated (string, group) pairs by hashing, in order of first
  * appearance; drop exact zeros when drop_zeros. */
 void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);

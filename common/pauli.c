@@ -1,0 +1,407 @@
+/* pauli.c - Pauli strings in the symplectic bit representation, sets of
+ * weighted strings, hash merge, and the pauli stream terms. */
+#include "pauli.h"
+
+#include <limits.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "util.h"
+
+/* The largest qubit index a stream may name; keeps 64-bit word counts and
+ * sizes far from overflow. */
+#define LAM_PAULI_MAX_QUBITS (1L << 24)
+
+static inline int popcount64(uint64_t w) { return __builtin_popcountll(w); }
+
+int lam_pauli_anticommute(int nw, const uint64_t *x1, const uint64_t *z1,
+                          const uint64_t *x2, const uint64_t *z2)
+{
+    uint64_t acc = 0;
+    for (int w = 0; w < nw; ++w) acc ^= (x1[w] & z2[w]) ^ (z1[w] & x2[w]);
+    return popcount64(acc) & 1;
+}
+
+/* With P(x,z) = i^(x.z) X^x Z^z (so that x=z=1 is Y):
+ *   P1 P2 = i^(x1.z1 + x2.z2) (-1)^(z1.x2) X^(x1^x2) Z^(z1^z2)
+ *         = i^(x1.z1 + x2.z2 + 2 z1.x2 - xo.zo) P(xo, zo). */
+int lam_pauli_mul(int nw, const uint64_t *x1, const uint64_t *z1,
+                  const uint64_t *x2, const uint64_t *z2, uint64_t *xo,
+                  uint64_t *zo)
+{
+    long k = 0;
+    for (int w = 0; w < nw; ++w) {
+        uint64_t a = x1[w], b = z1[w], c = x2[w], d = z2[w];
+        uint64_t xr = a ^ c, zr = b ^ d;
+        k += popcount64(a & b) + popcount64(c & d) + 2 * popcount64(b & c) -
+             popcount64(xr & zr);
+        xo[w] = xr;
+        zo[w] = zr;
+    }
+    return (int)(((k % 4) + 4) % 4);
+}
+
+int lam_pauli_weight(int nw, const uint64_t *x, const uint64_t *z)
+{
+    int n = 0;
+    for (int w = 0; w < nw; ++w) n += popcount64(x[w] | z[w]);
+    return n;
+}
+
+int lam_pauli_is_identity(int nw, const uint64_t *x, const uint64_t *z)
+{
+    uint64_t any = 0;
+    for (int w = 0; w < nw; ++w) any |= x[w] | z[w];
+    return any == 0;
+}
+
+/* Decimal digits of v into buf (no terminator); returns the count. */
+static int put_index(char *buf, unsigned long v)
+{
+    char tmp[24];
+    int n = 0;
+    do {
+        tmp[n++] = (char)('0' + v % 10);
+        v /= 10;
+    } while (v);
+    for (int i = 0; i < n; ++i) buf[i] = tmp[n - 1 - i];
+    return n;
+}
+
+int lam_pauli_format(char *buf, size_t size, int nw, const uint64_t *x,
+                     const uint64_t *z)
+{
+    size_t len = 0;
+    if (size == 0) return -1;
+    for (int w = 0; w < nw; ++w) {
+        uint64_t any = x[w] | z[w];
+        while (any) {
+            int b = __builtin_ctzll(any);
+            any &= any - 1;
+            uint64_t bit = (uint64_t)1 << b;
+            char letter = (x[w] & bit) ? ((z[w] & bit) ? 'Y' : 'X') : 'Z';
+            char digits[24];
+            int nd = put_index(digits, (unsigned long)w * 64 + (unsigned)b);
+            /* space, letter, digits, terminator */
+            if (len + 3 + (size_t)nd > size) return -1;
+            if (len) buf[len++] = ' ';
+            buf[len++] = letter;
+            memcpy(buf + len, digits, (size_t)nd);
+            len += (size_t)nd;
+        }
+    }
+    buf[len] = '\0';
+    return (int)len;
+}
+
+/* ---------------------------------------------------------------- sets */
+
+void lam_pauli_set_init(lam_pauli_set *s, int nqubits)
+{
+    memset(s, 0, sizeof *s);
+    s->nqubits = nqubits < 0 ? 0 : nqubits;
+    s->nwords = lam_pauli_words(s->nqubits);
+    if (s->nwords == 0) s->nwords = 1; /* room for qubit 0 from the start */
+}
+
+void lam_pauli_set_free(lam_pauli_set *s)
+{
+    free(s->bits);
+    free(s->coef);
+    free(s->group);
+    memset(s, 0, sizeof *s);
+}
+
+static void reserve(lam_pauli_set *s, size_t need)
+{
+    if (need <= s->cap) return;
+    size_t cap = s->cap ? s->cap : 64;
+    while (cap < need) cap = lam_mul_size(cap, 2);
+    s->bits = lam_realloc(s->bits,
+                          lam_mul_size(cap, lam_mul_size(2 * (size_t)s->nwords,
+                                                         sizeof(uint64_t))));
+    s->coef = lam_realloc(s->coef, lam_mul_size(cap, sizeof(double)));
+    if (s->group) s->group = lam_realloc(s->group, lam_mul_size(cap, sizeof(int32_t)));
+    s->cap = cap;
+}
+
+void lam_pauli_set_reserve(lam_pauli_set *s, size_t count) { reserve(s, count); }
+
+/* Widen every stored string to the word count of nqubits; strings keep
+ * their qubits, the new words are zero. */
+void lam_pauli_set_grow_qubits(lam_pauli_set *s, int nqubits)
+{
+    if (nqubits <= s->nqubits) return;
+    int nw_new = lam_pauli_words(nqubits);
+    if (nw_new > s->nwords) {
+        int nw_old = s->nwords;
+        uint64_t *bits = lam_calloc(
+            s->cap ? s->cap : 1, lam_mul_size(2 * (size_t)nw_new, sizeof(uint64_t)));
+        for (size_t t = 0; t < s->count; ++t) {
+            const uint64_t *src = s->bits + t * 2 * (size_t)nw_old;
+            uint64_t *dst = bits + t * 2 * (size_t)nw_new;
+            memcpy(dst, src, (size_t)nw_old * sizeof(uint64_t));
+            memcpy(dst + nw_new, src + nw_old, (size_t)nw_old * sizeof(uint64_t));
+        }
+        free(s->bits);
+        s->bits = bits;
+        s->nwords = nw_new;
+    }
+    s->nqubits = nqubits;
+}
+
+void lam_pauli_set_add(lam_pauli_set *s, const uint64_t *x, const uint64_t *z,
+                       double coef, int32_t group)
+{
+    reserve(s, s->count + 1);
+    if (group >= 0 && !s->group) {
+        s->group = lam_malloc(lam_mul_size(s->cap, sizeof(int32_t)));
+        for (size_t t = 0; t < s->count; ++t) s->group[t] = -1;
+    }
+    size_t nw = (size_t)s->nwords;
+    memcpy(lam_pauli_x(s, s->count), x, nw * sizeof(uint64_t));
+    memcpy(lam_pauli_z(s, s->count), z, nw * sizeof(uint64_t));
+    s->coef[s->count] = coef;
+    if (s->group) s->group[s->count] = group;
+    ++s->count;
+}
+
+/* ---------------------------------------------------------------- merge */
+
+static inline uint64_t mix64(uint64_t h)
+{
+    h ^= h >> 33;
+    h *= 0xff51afd7ed558ccdULL;
+    h ^= h >> 33;
+    h *= 0xc4ceb9fe1a85ec53ULL;
+    h ^= h >> 33;
+    return h;
+}
+
+static uint64_t term_hash(const lam_pauli_set *s, size_t t)
+{
+    const uint64_t *b = lam_pauli_x(s, t);
+    uint64_t h = s->group ? (uint64_t)(uint32_t)s->group[t] * 0x9e3779b97f4a7c15ULL : 0;
+    for (int w = 0; w < 2 * s->nwords; ++w) h = mix64(h ^ b[w]) + (uint64_t)w;
+    return h;
+}
+
+static int same_term(const lam_pauli_set *s, size_t a, size_t b)
+{
+    if (s->group && s->group[a] != s->group[b]) return 0;
+    return memcmp(lam_pauli_x(s, a), lam_pauli_x(s, b),
+                  2 * (size_t)s->nwords * sizeof(uint64_t)) == 0;
+}
+
+static void move_term(lam_pauli_set *s, size_t to, size_t from)
+{
+    if (to == from) return;
+    memcpy(lam_pauli_x(s, to), lam_pauli_x(s, from),
+           2 * (size_t)s->nwords * sizeof(uint64_t));
+    s->coef[to] = s->coef[from];
+    if (s->group) s->group[to] = s->group[from];
+}
+
+/* Open addressing with linear probing over term indices; the table is at
+ * most half full.  Kept terms are compacted to the front in order of first
+ * appearance, so a slot always names a kept term. */
+void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros)
+{
+    size_t kept = 0;
+    if (s->count > 0) {
+        size_t size = 16;
+        while (size < 2 * s->count) size = lam_mul_size(size, 2);
+        size_t mask = size - 1;
+        size_t *slot = lam_malloc(lam_mul_size(size, sizeof(size_t)));
+        memset(slot, 0xff, size * sizeof(size_t));
+        for (size_t t = 0; t < s->count; ++t) {
+            size_t i = (size_t)term_hash(s, t) & mask;
+            for (;;) {
+                size_t k = slot[i];
+                if (k == SIZE_MAX) {
+                    move_term(s, kept, t);
+                    slot[i] = kept++;
+                    break;
+                }
+                if (same_term(s, k, t)) {
+                    s->coef[k] += s->coef[t];
+                    break;
+                }
+                i = (i + 1) & mask;
+            }
+        }
+        free(slot);
+    }
+    s->count = kept;
+    if (drop_zeros) {
+        size_t out = 0;
+        for (size_t t = 0; t < s->count; ++t)
+            if (s->coef[t] != 0.0) move_term(s, out++, t);
+        s->count = out;
+    }
+}
+
+/* ---------------------------------------------------------------- stream */
+
+/* Parse a qubit index made of decimal digits only; -1 if it is not one or
+ * exceeds the limit of the suite. */
+static long parse_qubit(const char *p)
+{
+    long v = 0;
+    if (*p < '0' || *p > '9') return -1;
+    if (*p == '0' && p[1] != '\0') return -1; /* no leading zeros: X01 is a typo */
+    for (; *p; ++p) {
+        if (*p < '0' || *p > '9') return -1;
+        v = v * 10 + (*p - '0');
+        if (v >= LAM_PAULI_MAX_QUBITS) return -1;
+    }
+    return v;
+}
+
+static int32_t parse_group(const lam_reader *r, const lam_line *ln, const char *tok)
+{
+    long g;
+    if (lam_parse_long(tok + 1, &g) != 0 || g < 0 || g > INT32_MAX || tok[1] == '+' ||
+        tok[1] == ' ')
+        lam_reader_fail_line(r, ln->line, "bad group label '%s' (want @N, N >= 0)", tok);
+    return (int32_t)g;
+}
+
+/* Parse the fields of one term into x, z (nw words).  Returns -1 when the
+ * term fits, else the qubit count it needs (only when nqubits < 0, i.e.
+ * unbounded, and an index lies beyond the nw words given). */
+static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, int nw,
+                         uint64_t *x, uint64_t *z, int32_t *group)
+{
+    long need = -1;
+    memset(x, 0, (size_t)nw * sizeof(uint64_t));
+    memset(z, 0, (size_t)nw * sizeof(uint64_t));
+    *group = -1;
+    for (int f = 0; f < ln->nfields; ++f) {
+        const char *tok = ln->fields[f];
+        if (tok[0] == '@') {
+            if (f != ln->nfields - 1)
+                lam_reader_fail_line(r, ln->line,
+                                     "group label '%s' must be the last field", tok);
+            *group = parse_group(r, ln, tok);
+            continue;
+        }
+        char letter = tok[0];
+        if (letter != 'X' && letter != 'Y' && letter != 'Z')
+            lam_reader_fail_line(r, ln->line,
+                                 "unknown Pauli factor '%s' (want X, Y or Z and a qubit index)",
+                                 tok);
+        long q = parse_qubit(tok + 1);
+        if (q < 0)
+            lam_reader_fail_line(r, ln->line, "bad qubit index in '%s'", tok);
+        if (nqubits >= 0 && q >= nqubits)
+            lam_reader_fail_line(r, ln->line,
+                                 "qubit index %ld out of range (the stream has %d qubits)",
+                                 q, nqubits);
+        if (q >= 64L * nw) {
+            if (nqubits >= 0)
+                lam_fail(LAM_EX_SOFTWARE, "internal: %d words too few for %d qubits", nw,
+                         nqubits);
+            if (q + 1 > need) need = q + 1;
+            continue;
+        }
+        uint64_t bit = (uint64_t)1 << (q & 63);
+        size_t w = (size_t)(q >> 6);
+        if ((x[w] | z[w]) & bit)
+            lam_reader_fail_line(r, ln->line, "qubit %ld appears twice in one term", q);
+        if (letter != 'Z') x[w] |= bit;
+        if (letter != 'X') z[w] |= bit;
+    }
+    return need;
+}
+
+void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln, int nqubits,
+                            int nw, uint64_t *x, uint64_t *z, int32_t *group)
+{
+    long need = parse_fields(r, ln, nqubits, nw, x, z, group);
+    if (need >= 0)
+        lam_reader_fail_line(r, ln->line,
+                             "qubit index %ld beyond the %d qubits this reader holds",
+                             need - 1, 64 * nw);
+}
+
+/* Highest qubit index named in the set + 1. */
+static int highest_qubit(const lam_pauli_set *s)
+{
+    int top = 0;
+    for (size_t t = 0; t < s->count; ++t) {
+        const uint64_t *x = lam_pauli_x(s, t), *z = lam_pauli_z(s, t);
+        for (int w = s->nwords - 1; w >= 0; --w) {
+            uint64_t any = x[w] | z[w];
+            if (any) {
+                int q = w * 64 + 63 - __builtin_clzll(any) + 1;
+                if (q > top) top = q;
+                break;
+            }
+        }
+    }
+    return top;
+}
+
+void lam_pauli_read(lam_reader *r, lam_pauli_set *s)
+{
+    long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
+    lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
+    int bounded = declared >= 0;
+    int nw = s->nwords;
+    uint64_t *scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+    lam_line ln;
+    while (lam_reader_next(r, &ln)) {
+        int32_t group;
+        long need;
+        while ((need = parse_fields(r, &ln, bounded ? s->nqubits : -1, nw, scratch,
+                                    scratch + nw, &group)) >= 0) {
+            lam_pauli_set_grow_qubits(s, (int)need);
+            nw = s->nwords;
+            free(scratch);
+            scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+        }
+        lam_pauli_set_add(s, scratch, scratch + nw, ln.coef, group);
+    }
+    free(scratch);
+    if (!bounded) s->nqubits = highest_qubit(s);
+}
+
+void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
+{
+    /* a factor takes a space, a letter and at most 8 digits; room for the
+     * group label on top */
+    size_t size = (size_t)s->nqubits * 10 + 48;
+    char *buf = lam_malloc(size);
+    for (size_t t = 0; t < s->count; ++t) {
+        int len = lam_pauli_format(buf, size - 16, s->nwords, lam_pauli_x(s, t),
+                                   lam_pauli_z(s, t));
+        if (len < 0) lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+        if (s->group && s->group[t] >= 0) {
+            if (len) buf[len++] = ' ';
+            buf[len++] = '@';
+            len += put_index(buf + len, (unsigned long)s->group[t]);
+            buf[len] = '\0';
+        }
+        lam_writer_term(w, s->coef[t], buf);
+    }
+    free(buf);
+}
+
+double lam_pauli_set_lambda(const lam_pauli_set *s)
+{
+    double sum = 0.0;
+    for (size_t t = 0; t < s->count; ++t)
+        if (!lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t)))
+            sum += s->coef[t] < 0 ? -s->coef[t] : s->coef[t];
+    return sum;
+}
+
+double lam_pauli_set_constant(const lam_pauli_set *s)
+{
+    double sum = 0.0;
+    for (size_t t = 0; t < s->count; ++t)
+        if (lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t)))
+            sum += s->coef[t];
+    return sum;
+}

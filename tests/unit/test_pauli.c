@@ -1,0 +1,300 @@
+/* test_pauli.c - Pauli strings against explicit 2x2 matrices, the hash
+ * merge against a brute-force count, and the pauli stream reader. */
+#include <complex.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "pauli.h"
+#include "stream.h"
+#include "tap.h"
+#include "util.h"
+
+typedef double complex cplx;
+
+/* The Pauli matrices (fact of the trade, common practice):
+ * I, X = [[0,1],[1,0]], Y = [[0,-i],[i,0]], Z = [[1,0],[0,-1]];
+ * index 0..3 in the order I X Y Z. */
+static void pauli_matrix(int which, cplx m[4])
+{
+    static const cplx mats[4][4] = {
+        {1, 0, 0, 1}, {0, 1, 1, 0}, {0, -I, I, 0}, {1, 0, 0, -1}};
+    memcpy(m, mats[which], sizeof mats[which]);
+}
+
+static void matmul2(const cplx a[4], const cplx b[4], cplx c[4])
+{
+    c[0] = a[0] * b[0] + a[1] * b[2];
+    c[1] = a[0] * b[1] + a[1] * b[3];
+    c[2] = a[2] * b[0] + a[3] * b[2];
+    c[3] = a[2] * b[1] + a[3] * b[3];
+}
+
+static int matrix_close(const cplx a[4], const cplx b[4])
+{
+    for (int i = 0; i < 4; ++i)
+        if (cabs(a[i] - b[i]) > 1e-15) return 0;
+    return 1;
+}
+
+/* Bits of a single-qubit Pauli in the symplectic form used by pauli.h. */
+static void letter_bits(int which, uint64_t *x, uint64_t *z)
+{
+    *x = (which == 1 || which == 2);
+    *z = (which == 2 || which == 3);
+}
+
+static int which_of_bits(uint64_t x, uint64_t z) { return x ? (z ? 2 : 1) : (z ? 3 : 0); }
+
+static const cplx ipow[4] = {1, I, -1, -I};
+
+/* Every product of two single-qubit Paulis: P1 P2 = i^k P3 as matrices. */
+static void test_single_qubit_table(void)
+{
+    int good_mul = 1, good_anti = 1;
+    for (int a = 0; a < 4; ++a)
+        for (int b = 0; b < 4; ++b) {
+            uint64_t x1, z1, x2, z2, xo, zo;
+            letter_bits(a, &x1, &z1);
+            letter_bits(b, &x2, &z2);
+            int k = lam_pauli_mul(1, &x1, &z1, &x2, &z2, &xo, &zo);
+            cplx ma[4], mb[4], mo[4], prod[4], want[4], rev[4];
+            pauli_matrix(a, ma);
+            pauli_matrix(b, mb);
+            pauli_matrix(which_of_bits(xo, zo), mo);
+            matmul2(ma, mb, prod);
+            for (int i = 0; i < 4; ++i) want[i] = ipow[k] * mo[i];
+            if (!matrix_close(prod, want)) good_mul = 0;
+            /* anticommute when AB = -BA */
+            matmul2(mb, ma, rev);
+            for (int i = 0; i < 4; ++i) rev[i] = -rev[i];
+            int anti = matrix_close(prod, rev);
+            if (anti != lam_pauli_anticommute(1, &x1, &z1, &x2, &z2)) good_anti = 0;
+        }
+    tap_ok(good_mul, "single-qubit products and phases match the 2x2 matrix products");
+    tap_ok(good_anti, "single-qubit anticommutation matches AB = -BA of the matrices");
+}
+
+static uint64_t rng_state = 0x1234567887654321ULL;
+static uint64_t rnd(void)
+{
+    rng_state ^= rng_state << 13;
+    rng_state ^= rng_state >> 7;
+    rng_state ^= rng_state << 17;
+    return rng_state;
+}
+
+/* Many-qubit strings across word boundaries: the phase of the product is
+ * the product of the single-qubit matrix phases; anticommutation is the
+ * parity of anticommuting positions. */
+static void test_many_qubits(void)
+{
+    enum { NQ = 150, NW = 3 };
+    int good_mul = 1, good_anti = 1;
+    for (int trial = 0; trial < 200; ++trial) {
+        uint64_t x1[NW] = {0}, z1[NW] = {0}, x2[NW] = {0}, z2[NW] = {0};
+        int l1[NQ], l2[NQ];
+        for (int q = 0; q < NQ; ++q) {
+            l1[q] = (int)(rnd() % 4);
+            l2[q] = (int)(rnd() % 4);
+            uint64_t a, b;
+            letter_bits(l1[q], &a, &b);
+            x1[q / 64] |= a << (q % 64);
+            z1[q / 64] |= b << (q % 64);
+            letter_bits(l2[q], &a, &b);
+            x2[q / 64] |= a << (q % 64);
+            z2[q / 64] |= b << (q % 64);
+        }
+        cplx phase = 1;
+        int anti = 0, want_letters[NQ];
+        for (int q = 0; q < NQ; ++q) {
+            cplx ma[4], mb[4], prod[4], rev[4];
+            pauli_matrix(l1[q], ma);
+            pauli_matrix(l2[q], mb);
+            matmul2(ma, mb, prod);
+            matmul2(mb, ma, rev);
+            /* find the Pauli P and phase with prod = phase * P */
+            for (int w = 0; w < 4; ++w) {
+                cplx mw[4];
+                pauli_matrix(w, mw);
+                for (int k = 0; k < 4; ++k) {
+                    cplx t[4];
+                    for (int i = 0; i < 4; ++i) t[i] = ipow[k] * mw[i];
+                    if (matrix_close(prod, t)) {
+                        phase *= ipow[k];
+                        want_letters[q] = w;
+                    }
+                }
+            }
+            for (int i = 0; i < 4; ++i) rev[i] = -rev[i];
+            if (l1[q] && l2[q] && matrix_close(prod, rev)) anti ^= 1;
+        }
+        uint64_t xo[NW], zo[NW];
+        int k = lam_pauli_mul(NW, x1, z1, x2, z2, xo, zo);
+        if (cabs(ipow[k] - phase) > 1e-12) good_mul = 0;
+        for (int q = 0; q < NQ; ++q)
+            if (which_of_bits((xo[q / 64] >> (q % 64)) & 1, (zo[q / 64] >> (q % 64)) & 1) !=
+                want_letters[q])
+                good_mul = 0;
+        if (lam_pauli_anticommute(NW, x1, z1, x2, z2) != anti) good_anti = 0;
+        /* the output may alias an input */
+        uint64_t xa[NW], za[NW];
+        memcpy(xa, x1, sizeof xa);
+        memcpy(za, z1, sizeof za);
+        if (lam_pauli_mul(NW, xa, za, x2, z2, xa, za) != k ||
+            memcmp(xa, xo, sizeof xa) || memcmp(za, zo, sizeof za))
+            good_mul = 0;
+    }
+    tap_ok(good_mul, "150-qubit products: phase and string equal the per-qubit matrix products");
+    tap_ok(good_anti, "150-qubit anticommutation equals the parity of anticommuting positions");
+}
+
+static void test_format_weight(void)
+{
+    uint64_t x[2] = {0}, z[2] = {0};
+    char buf[64];
+    tap_ok(lam_pauli_format(buf, sizeof buf, 2, x, z) == 0 && buf[0] == '\0',
+           "the identity formats as the empty string");
+    tap_ok(lam_pauli_is_identity(2, x, z), "all-zero bits are the identity");
+    x[0] = 1;                   /* X0 */
+    x[0] |= 2, z[0] |= 2;       /* Y1 */
+    z[0] |= 32;                 /* Z5 */
+    z[1] |= (uint64_t)1 << 6;   /* Z70 */
+    int len = lam_pauli_format(buf, sizeof buf, 2, x, z);
+    tap_ok(len > 0 && strcmp(buf, "X0 Y1 Z5 Z70") == 0, "format writes X0 Y1 Z5 Z70");
+    tap_ok(lam_pauli_weight(2, x, z) == 4, "weight counts the non-identity factors");
+    tap_ok(lam_pauli_format(buf, 8, 2, x, z) == -1, "format reports a buffer too small");
+}
+
+/* Brute force: the merged set of a random list equals a quadratic count. */
+static void test_merge(void)
+{
+    lam_pauli_set s;
+    lam_pauli_set_init(&s, 100);
+    enum { N = 3000 };
+    static uint64_t keys[N][4];
+    static double coefs[N];
+    for (int t = 0; t < N; ++t) {
+        uint64_t pick = rnd() % 300; /* many repeats */
+        uint64_t b[4] = {pick * 0x9e3779b97f4a7c15ULL, (pick & 7) ? 0 : pick,
+                         (pick * 31) & 0xff, pick % 3 ? 0 : (uint64_t)1 << 35};
+        b[1] &= 0xfffffffffULL; /* 100 qubits: 36 bits in the second word */
+        b[3] &= 0xfffffffffULL;
+        memcpy(keys[t], b, sizeof b);
+        coefs[t] = (double)(rnd() % 1000) / 64.0 - 7.0;
+        uint64_t x[2] = {b[0], b[1]}, z[2] = {b[2], b[3]};
+        lam_pauli_set_add(&s, x, z, coefs[t], -1);
+    }
+    lam_pauli_set_merge(&s, 0);
+    int good = 1;
+    size_t distinct = 0;
+    for (int t = 0; t < N; ++t) {
+        int first = 1;
+        double sum = 0;
+        for (int u = 0; u < N; ++u) {
+            if (memcmp(keys[u], keys[t], sizeof keys[t]) != 0) continue;
+            if (u < t) first = 0;
+            sum += coefs[u];
+        }
+        if (!first) continue;
+        /* order of first appearance */
+        const uint64_t *x = lam_pauli_x(&s, distinct), *z = lam_pauli_z(&s, distinct);
+        if (x[0] != keys[t][0] || x[1] != keys[t][1] || z[0] != keys[t][2] ||
+            z[1] != keys[t][3] || fabs(s.coef[distinct] - sum) > 1e-9)
+            good = 0;
+        ++distinct;
+    }
+    tap_ok(good && distinct == s.count, "hash merge equals a brute-force sum, in first-seen order");
+    lam_pauli_set_free(&s);
+
+    /* exact cancellation and group labels */
+    lam_pauli_set_init(&s, 3);
+    uint64_t x = 1, z = 0, x2 = 0, z2 = 4;
+    lam_pauli_set_add(&s, &x, &z, 0.5, -1);
+    lam_pauli_set_add(&s, &x2, &z2, 0.25, 3);
+    lam_pauli_set_add(&s, &x, &z, -0.5, -1);
+    lam_pauli_set_add(&s, &x2, &z2, 0.25, 4);
+    lam_pauli_set_add(&s, &x2, &z2, 0.5, 3);
+    lam_pauli_set_merge(&s, 0);
+    tap_ok(s.count == 3 && s.coef[0] == 0.0 && s.coef[1] == 0.75 && s.group[1] == 3 &&
+               s.group[2] == 4,
+           "merge keeps (string, group) pairs apart and keeps zeros unless asked");
+    lam_pauli_set_merge(&s, 1);
+    tap_ok(s.count == 2 && s.coef[0] == 0.75 && s.group[0] == 3 && s.group[1] == 4,
+           "merge drops exact zeros on request");
+    lam_pauli_set_free(&s);
+}
+
+static void test_grow_and_norms(void)
+{
+    lam_pauli_set s;
+    lam_pauli_set_init(&s, 10);
+    uint64_t x = 5, z = 4, zero = 0;
+    lam_pauli_set_add(&s, &x, &z, -2.0, -1);
+    lam_pauli_set_add(&s, &zero, &zero, 1.5, -1);
+    lam_pauli_set_grow_qubits(&s, 200);
+    int good = s.nqubits == 200 && s.nwords == 4 && lam_pauli_x(&s, 0)[0] == 5 &&
+               lam_pauli_z(&s, 0)[0] == 4 && lam_pauli_x(&s, 0)[3] == 0 &&
+               lam_pauli_z(&s, 0)[1] == 0;
+    tap_ok(good, "growing the qubit count keeps the strings");
+    tap_near(lam_pauli_set_lambda(&s), 2.0, 0, "lambda excludes the identity");
+    tap_near(lam_pauli_set_constant(&s), 1.5, 0, "constant is the identity coefficient");
+    lam_pauli_set_free(&s);
+}
+
+static char *write_temp(const char *text)
+{
+    static char path[64];
+    strcpy(path, "/tmp/test_pauli_XXXXXX");
+    int fd = mkstemp(path);
+    if (fd < 0) return NULL;
+    FILE *f = fdopen(fd, "w");
+    fputs(text, f);
+    fclose(f);
+    return path;
+}
+
+static void test_read(void)
+{
+    const char *text = "#% lamina-op 1\n#% kind: pauli\n#% qubits: 6\n"
+                       "-0.5\n0.25 X0 Y1 Z5\n1e-3 Z2 @7\n#% end\n";
+    char *path = write_temp(text);
+    lam_reader *r = lam_reader_open(path);
+    lam_pauli_set s;
+    lam_pauli_read(r, &s);
+    lam_reader_close(r);
+    char buf[64];
+    int ok = s.count == 3 && s.nqubits == 6 && s.coef[0] == -0.5 &&
+             lam_pauli_is_identity(s.nwords, lam_pauli_x(&s, 0), lam_pauli_z(&s, 0)) &&
+             lam_pauli_format(buf, sizeof buf, s.nwords, lam_pauli_x(&s, 1),
+                              lam_pauli_z(&s, 1)) > 0 &&
+             strcmp(buf, "X0 Y1 Z5") == 0 && s.group && s.group[1] == -1 && s.group[2] == 7;
+    tap_ok(ok, "reader: identity, a string, a group label, qubits from the header");
+    lam_pauli_set_free(&s);
+    unlink(path);
+
+    /* without a header: the qubit count grows to the largest index */
+    path = write_temp("1 X3\n2 Z130 X1\n");
+    r = lam_reader_open(path);
+    lam_reader_force_kind(r, LAM_KIND_PAULI);
+    lam_pauli_read(r, &s);
+    lam_reader_close(r);
+    ok = s.count == 2 && s.nqubits == 131 && s.nwords == 3 && lam_pauli_x(&s, 0)[0] == 8 &&
+         lam_pauli_z(&s, 1)[2] == 4 && lam_pauli_x(&s, 1)[0] == 2;
+    tap_ok(ok, "reader without header grows to the largest index + 1");
+    lam_pauli_set_free(&s);
+    unlink(path);
+}
+
+int main(void)
+{
+    lam_set_program("test_pauli");
+    test_single_qubit_table();
+    test_many_qubits();
+    test_format_weight();
+    test_merge();
+    test_grow_and_norms();
+    test_read();
+    return tap_done();
+}
