@@ -1,0 +1,252 @@
+/* spinfree.c - dense spin-free operators: storage, stream I/O, closed forms. */
+#include "spinfree.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "util.h"
+
+size_t lam_spinfree_bytes(int n)
+{
+    size_t nn = (size_t)n * (size_t)n;
+    return lam_mul_size(nn * nn + nn, sizeof(double));
+}
+
+lam_spinfree *lam_spinfree_new(int n)
+{
+    if (n < 0 || n > 4096) lam_fail(LAM_EX_SOFTWARE, "orbital count %d out of range", n);
+    lam_spinfree *sf = lam_calloc(1, sizeof *sf);
+    size_t nn = (size_t)n * (size_t)n;
+    sf->n = n;
+    sf->electrons = -1;
+    sf->h = lam_calloc(nn, sizeof(double));
+    sf->g = lam_calloc(lam_mul_size(nn, nn), sizeof(double));
+    return sf;
+}
+
+void lam_spinfree_free(lam_spinfree *sf)
+{
+    if (!sf) return;
+    free(sf->h);
+    free(sf->g);
+    free(sf);
+}
+
+lam_spinfree *lam_spinfree_clone(const lam_spinfree *sf)
+{
+    lam_spinfree *c = lam_spinfree_new(sf->n);
+    size_t nn = (size_t)sf->n * (size_t)sf->n;
+    c->electrons = sf->electrons;
+    c->ms2 = sf->ms2;
+    c->e0 = sf->e0;
+    memcpy(c->h, sf->h, nn * sizeof(double));
+    memcpy(c->g, sf->g, nn * nn * sizeof(double));
+    return c;
+}
+
+void lam_spinfree_add_two(lam_spinfree *sf, int p, int q, int r, int s, double c)
+{
+    /* e_pqrs = e_rspq: spread the term over both so g keeps the symmetry;
+     * for (pq) = (rs) both additions land on the same element, giving the
+     * factor 2 of "1/2 (pq|rs) e_pqrs". */
+    LAM_G(sf, p, q, r, s) += c;
+    LAM_G(sf, r, s, p, q) += c;
+}
+
+/* ---- reading ---- */
+
+typedef struct {
+    double c;
+    int nidx;
+    int idx[4];
+    long line;
+} held_term;
+
+static int field_count_ok(int n) { return n == 0 || n == 2 || n == 4; }
+
+static void apply_term(lam_spinfree *sf, const held_term *t)
+{
+    if (t->nidx == 0)
+        sf->e0 += t->c;
+    else if (t->nidx == 2)
+        LAM_H(sf, t->idx[0], t->idx[1]) += t->c;
+    else
+        lam_spinfree_add_two(sf, t->idx[0], t->idx[1], t->idx[2], t->idx[3], t->c);
+}
+
+static void parse_term(lam_reader *r, const lam_line *ln, long limit, held_term *t)
+{
+    if (!field_count_ok(ln->nfields))
+        lam_reader_fail_line(r, ln->line,
+                             "a spinfree term has 0, 2 or 4 orbital indices, not %d",
+                             ln->nfields);
+    t->c = ln->coef;
+    t->nidx = ln->nfields;
+    t->line = ln->line;
+    for (int i = 0; i < ln->nfields; ++i)
+        t->idx[i] = lam_reader_index(r, ln, i, limit, "orbital");
+}
+
+lam_spinfree *lam_spinfree_read(lam_reader *r)
+{
+    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    lam_spinfree *sf = NULL;
+    held_term *held = NULL;
+    size_t nheld = 0, cap = 0;
+    int maxidx = -1;
+    lam_line ln;
+    held_term t;
+    if (n >= 0) sf = lam_spinfree_new((int)n);
+    while (lam_reader_next(r, &ln)) {
+        parse_term(r, &ln, n >= 0 ? n : 4096, &t);
+        if (sf) {
+            apply_term(sf, &t);
+            continue;
+        }
+        /* No "orbitals:" header: hold the terms until the largest index
+         * is known. */
+        for (int i = 0; i < t.nidx; ++i)
+            if (t.idx[i] > maxidx) maxidx = t.idx[i];
+        if (nheld == cap) {
+            cap = cap ? 2 * cap : 1024;
+            held = lam_realloc(held, lam_mul_size(cap, sizeof *held));
+        }
+        held[nheld++] = t;
+    }
+    if (!sf) {
+        sf = lam_spinfree_new(maxidx + 1);
+        for (size_t i = 0; i < nheld; ++i) apply_term(sf, &held[i]);
+        free(held);
+    }
+    sf->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n);
+    sf->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -sf->n, sf->n);
+    return sf;
+}
+
+/* ---- writing ---- */
+
+static void write_indices(lam_writer *w, double c, const int *idx, int k)
+{
+    char rest[64];
+    int len = 0;
+    for (int i = 0; i < k; ++i)
+        len += snprintf(rest + len, sizeof rest - (size_t)len, "%s%d", i ? " " : "", idx[i]);
+    lam_writer_term(w, c, rest);
+}
+
+/* Coefficient of e_pqrs once the pair (pq),(rs) is merged into one line. */
+static double merged_two(const lam_spinfree *sf, int p, int q, int r, int s)
+{
+    if (p == r && q == s) return 0.5 * LAM_G(sf, p, q, r, s);
+    return 0.5 * (LAM_G(sf, p, q, r, s) + LAM_G(sf, r, s, p, q));
+}
+
+void lam_spinfree_write_terms(lam_writer *w, const lam_spinfree *sf)
+{
+    int n = sf->n;
+    lam_writer_term(w, sf->e0, NULL);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            if (LAM_H(sf, p, q) != 0) write_indices(w, LAM_H(sf, p, q), (int[]){p, q}, 2);
+    for (int pq = 0; pq < n * n; ++pq)
+        for (int rs = pq; rs < n * n; ++rs) {
+            int p = pq / n, q = pq % n, r = rs / n, s = rs % n;
+            double c = merged_two(sf, p, q, r, s);
+            if (c != 0) write_indices(w, c, (int[]){p, q, r, s}, 4);
+        }
+}
+
+size_t lam_spinfree_term_count(const lam_spinfree *sf)
+{
+    int n = sf->n;
+    size_t count = 1;
+    for (int pq = 0; pq < n * n; ++pq) {
+        if (sf->h[pq] != 0) ++count;
+        for (int rs = pq; rs < n * n; ++rs)
+            if (merged_two(sf, pq / n, pq % n, rs / n, rs % n) != 0) ++count;
+    }
+    return count;
+}
+
+void lam_spinfree_describe(const lam_spinfree *sf, lam_meta *meta)
+{
+    lam_meta_setf(meta, "orbitals", "%d", sf->n);
+    if (sf->electrons >= 0) lam_meta_setf(meta, "electrons", "%d", sf->electrons);
+    lam_meta_setf(meta, "ms2", "%d", sf->ms2);
+}
+
+/* ---- symmetry checks ---- */
+
+static double one_body_asymmetry(const lam_spinfree *sf)
+{
+    double worst = 0;
+    for (int p = 0; p < sf->n; ++p)
+        for (int q = 0; q < p; ++q)
+            worst = fmax(worst, fabs(LAM_H(sf, p, q) - LAM_H(sf, q, p)));
+    return worst;
+}
+
+double lam_spinfree_hermiticity_error(const lam_spinfree *sf)
+{
+    int n = sf->n;
+    double worst = one_body_asymmetry(sf);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s)
+                    worst = fmax(worst, fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, s, r)));
+    return worst;
+}
+
+double lam_spinfree_real_symmetry_error(const lam_spinfree *sf)
+{
+    int n = sf->n;
+    double worst = one_body_asymmetry(sf);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < p; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s)
+                    worst = fmax(worst, fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, r, s)));
+    return worst;
+}
+
+/* ---- closed forms ---- */
+
+double lam_spinfree_constant(const lam_spinfree *sf)
+{
+    int n = sf->n;
+    double c = sf->e0;
+    for (int p = 0; p < n; ++p) {
+        c += LAM_H(sf, p, p);
+        for (int r = 0; r < n; ++r)
+            c += 0.5 * LAM_G(sf, p, p, r, r) - 0.25 * LAM_G(sf, p, r, r, p);
+    }
+    return c;
+}
+
+/* One-body coefficient once the two-body part has given up its
+ * one-body pieces: h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq). */
+static double effective_one_body(const lam_spinfree *sf, int p, int q)
+{
+    double t = LAM_H(sf, p, q);
+    for (int r = 0; r < sf->n; ++r)
+        t += LAM_G(sf, p, q, r, r) - 0.5 * LAM_G(sf, p, r, r, q);
+    return t;
+}
+
+double lam_spinfree_lambda(const lam_spinfree *sf)
+{
+    int n = sf->n;
+    size_t n4 = (size_t)n * n * n * n;
+    double one = 0, same_spin = 0, mixed = 0;
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) one += fabs(effective_one_body(sf, p, q));
+    for (size_t i = 0; i < n4; ++i) mixed += fabs(sf->g[i]);
+    for (int p = 0; p < n; ++p)
+        for (int r = 0; r < p; ++r)
+            for (int q = 0; q < n; ++q)
+                for (int s = 0; s < q; ++s)
+                    same_spin += fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, p, s, r, q));
+    return one + 0.25 * mixed + 0.5 * same_spin;
+}
