@@ -440,13 +440,9 @@ static lam_kind infer_kind(lam_reader *r)
 {
     for (size_t i = r->pending_next;; ++i) {
         if (i >= r->npending) {
-            if (r->ended) return LAM_KIND_UNKNOWN;
-            long line;
-            char *s = raw_line(r);
-            if (!s) return LAM_KIND_UNKNOWN;
-            line = r->lineno;
-            queue_line(r, s, line);
-            continue;
+            char *raw = r->ended ? NULL : raw_line(r);
+            if (!raw) return LAM_KIND_UNKNOWN;
+            queue_line(r, raw, r->lineno);
         }
         const char *s = r->pending[i].text;
         if (s[0] == '#' || is_blank(s)) continue;
