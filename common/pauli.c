@@ -178,19 +178,64 @@ static inline uint64_t mix64(uint64_t h)
     return h;
 }
 
-static uint64_t term_hash(const lam_pauli_set *s, size_t t)
+static uint64_t row_hash(const uint64_t *row, size_t width, int32_t tag)
 {
-    const uint64_t *b = lam_pauli_x(s, t);
-    uint64_t h = s->group ? (uint64_t)(uint32_t)s->group[t] * 0x9e3779b97f4a7c15ULL : 0;
-    for (int w = 0; w < 2 * s->nwords; ++w) h = mix64(h ^ b[w]) + (uint64_t)w;
+    uint64_t h = (uint64_t)(uint32_t)tag * 0x9e3779b97f4a7c15ULL;
+    for (size_t w = 0; w < width; ++w) h = mix64(h ^ row[w]) + w;
     return h;
 }
 
-static int same_term(const lam_pauli_set *s, size_t a, size_t b)
+void lam_rowhash_init(lam_rowhash *h) { memset(h, 0, sizeof *h); }
+
+void lam_rowhash_free(lam_rowhash *h)
 {
-    if (s->group && s->group[a] != s->group[b]) return 0;
-    return memcmp(lam_pauli_x(s, a), lam_pauli_x(s, b),
-                  2 * (size_t)s->nwords * sizeof(uint64_t)) == 0;
+    free(h->slot);
+    memset(h, 0, sizeof *h);
+}
+
+static void rowhash_place(lam_rowhash *h, const uint64_t *rows, size_t width,
+                          const int32_t *tags, size_t k)
+{
+    size_t mask = h->size - 1;
+    size_t i = (size_t)row_hash(rows + k * width, width, tags ? tags[k] : 0) & mask;
+    while (h->slot[i] != SIZE_MAX) i = (i + 1) & mask;
+    h->slot[i] = k;
+}
+
+/* Keep the table at most half full so that linear probing stays short. */
+static void rowhash_grow(lam_rowhash *h, const uint64_t *rows, size_t width,
+                         const int32_t *tags)
+{
+    size_t old_size = h->size;
+    size_t *old = h->slot;
+    h->size = old_size ? lam_mul_size(old_size, 2) : 64;
+    h->slot = lam_malloc(lam_mul_size(h->size, sizeof(size_t)));
+    memset(h->slot, 0xff, h->size * sizeof(size_t));
+    for (size_t i = 0; i < old_size; ++i)
+        if (old[i] != SIZE_MAX) rowhash_place(h, rows, width, tags, old[i]);
+    free(old);
+}
+
+size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
+                          const int32_t *tags, size_t cand)
+{
+    if (2 * (h->used + 1) > h->size) rowhash_grow(h, rows, width, tags);
+    const uint64_t *row = rows + cand * width;
+    int32_t tag = tags ? tags[cand] : 0;
+    size_t mask = h->size - 1;
+    size_t i = (size_t)row_hash(row, width, tag) & mask;
+    for (;;) {
+        size_t k = h->slot[i];
+        if (k == SIZE_MAX) {
+            h->slot[i] = cand;
+            ++h->used;
+            return cand;
+        }
+        if ((!tags || tags[k] == tag) &&
+            memcmp(rows + k * width, row, width * sizeof(uint64_t)) == 0)
+            return k;
+        i = (i + 1) & mask;
+    }
 }
 
 static void move_term(lam_pauli_set *s, size_t to, size_t from)
@@ -202,36 +247,23 @@ static void move_term(lam_pauli_set *s, size_t to, size_t from)
     if (s->group) s->group[to] = s->group[from];
 }
 
-/* Open addressing with linear probing over term indices; the table is at
- * most half full.  Kept terms are compacted to the front in order of first
- * appearance, so a slot always names a kept term. */
+/* Kept terms are compacted to the front in order of first appearance; the
+ * candidate is moved to its would-be place before the look-up, so that the
+ * index only ever names kept terms. */
 void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros)
 {
-    size_t kept = 0;
-    if (s->count > 0) {
-        size_t size = 16;
-        while (size < 2 * s->count) size = lam_mul_size(size, 2);
-        size_t mask = size - 1;
-        size_t *slot = lam_malloc(lam_mul_size(size, sizeof(size_t)));
-        memset(slot, 0xff, size * sizeof(size_t));
-        for (size_t t = 0; t < s->count; ++t) {
-            size_t i = (size_t)term_hash(s, t) & mask;
-            for (;;) {
-                size_t k = slot[i];
-                if (k == SIZE_MAX) {
-                    move_term(s, kept, t);
-                    slot[i] = kept++;
-                    break;
-                }
-                if (same_term(s, k, t)) {
-                    s->coef[k] += s->coef[t];
-                    break;
-                }
-                i = (i + 1) & mask;
-            }
-        }
-        free(slot);
+    size_t kept = 0, width = 2 * (size_t)s->nwords;
+    lam_rowhash h;
+    lam_rowhash_init(&h);
+    for (size_t t = 0; t < s->count; ++t) {
+        move_term(s, kept, t);
+        size_t k = lam_rowhash_insert(&h, s->bits, width, s->group, kept);
+        if (k == kept)
+            ++kept;
+        else
+            s->coef[k] += s->coef[kept];
     }
+    lam_rowhash_free(&h);
     s->count = kept;
     if (drop_zeros) {
         size_t out = 0;

@@ -69,6 +69,22 @@ double lam_pauli_set_constant(const lam_pauli_set *s);
  * appearance; drop exact zeros when drop_zeros. */
 void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);
 
+/* An index of distinct rows for hash merging.  The rows live elsewhere,
+ * contiguous, `width` 64-bit words each, with an optional int32 tag per
+ * row that takes part in equality; the index holds row numbers only (open
+ * addressing, at most half full).  Pass the current base pointer on every
+ * call (it may have moved by realloc). */
+typedef struct {
+    size_t *slot;
+    size_t size, used;
+} lam_rowhash;
+void lam_rowhash_init(lam_rowhash *h);
+void lam_rowhash_free(lam_rowhash *h);
+/* Row `cand` is already stored at rows + cand*width.  Returns the number
+ * of an equal row already indexed, or cand after indexing it. */
+size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
+                          const int32_t *tags, size_t cand);
+
 /* Read the terms of a pauli stream ("qubits:" from the header, else the
  * largest index + 1); exit 65 with file:line on a malformed term. */
 void lam_pauli_read(lam_reader *r, lam_pauli_set *s);
