@@ -171,6 +171,33 @@ void lam_cost_summary_from_pauli(lam_pauli_set *s, int use_groups,
     }
 }
 
+/* ---- fragments streams ---- */
+
+long long lam_cost_fragment_rotations(long long fragments, int orbitals)
+{
+    return fragments * 4LL * orbitals * (orbitals - 1);
+}
+
+static int rotation_is_identity(const lam_fragments *fr, int f)
+{
+    for (int p = 0; p < fr->n; ++p)
+        for (int i = 0; i < fr->n; ++i)
+            if (fabs(LAM_ROT(fr, f, p, i) - (p == i)) > 1e-14) return 0;
+    return 1;
+}
+
+void lam_cost_summary_from_fragments(const lam_fragments *fr, lam_lcu_summary *lcu)
+{
+    lam_fragments_stats st = lam_fragments_stats_of(fr);
+    memset(lcu, 0, sizeof *lcu);
+    lcu->form = "fragments";
+    lcu->lambda = st.lambda;
+    lcu->unitaries = (long long)st.unitaries;
+    lcu->system_qubits = 2 * fr->n;
+    for (int f = 0; f < fr->nfrag; ++f)
+        if (!rotation_is_identity(fr, f)) lcu->rotations += lam_cost_fragment_rotations(1, fr->n);
+}
+
 const char *lam_cost_assumptions(const lam_lcu_summary *lcu)
 {
     (void)lcu;

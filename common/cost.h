@@ -21,6 +21,7 @@
 #ifndef LAM_COST_H
 #define LAM_COST_H
 
+#include "fragments.h"
 #include "pauli.h"
 #include "report.h"
 
@@ -77,6 +78,16 @@ int lam_cost_estimate_lcu(const lam_lcu_summary *lcu,
  * unitary. */
 void lam_cost_summary_from_pauli(lam_pauli_set *s, int use_groups,
                                  lam_lcu_summary *lcu);
+
+/* From a fragments stream: every reflection or product of two reflections
+ * is one unitary; each fragment's orbital rotation (unless it is the
+ * identity) is applied before and after as a network of n(n - 1)/2 Givens
+ * rotations per spin, two fixed-angle rotations each: 4 n (n - 1)
+ * rotations per fragment and step. */
+void lam_cost_summary_from_fragments(const lam_fragments *fr, lam_lcu_summary *lcu);
+/* The same from the figures of a lam-norm report of a fragments stream
+ * (rotations counted for every fragment). */
+long long lam_cost_fragment_rotations(long long fragments, int orbitals);
 
 /* One line that says what the estimate assumes (no tabs). */
 const char *lam_cost_assumptions(const lam_lcu_summary *lcu);

@@ -9,6 +9,7 @@
 #include <unistd.h>
 
 #include "cost.h"
+#include "fragments.h"
 #include "pauli.h"
 #include "report.h"
 #include "stream.h"
@@ -177,6 +178,12 @@ static void summary_from_stream(const char *path, const char *name, const option
     lam_kind kind = lam_reader_kind(r);
     switch (kind) {
     case LAM_KIND_PAULI: summary_from_pauli_stream(r, o, lcu); break;
+    case LAM_KIND_FRAGMENTS: {
+        lam_fragments *fr = lam_fragments_read(r);
+        lam_cost_summary_from_fragments(fr, lcu);
+        lam_fragments_free(fr);
+        break;
+    }
     default:
         lam_reader_fail(r, "%s: lam-cost reads pauli or fragments streams, not %s "
                         "(map a spinfree stream with lam-map first)",
@@ -228,6 +235,19 @@ static void summary_from_pauli_report(const lam_report_in *in, const char *name,
     }
 }
 
+/* lam-norm's report of a fragments stream carries the LCU size itself. */
+static void summary_from_fragments_report(const lam_report_in *in, const char *name,
+                                          lam_lcu_summary *lcu)
+{
+    long long orbitals = report_count(in, name, "orbitals");
+    if (orbitals > 1 << 20) lam_fail_at(LAM_EX_DATA, name, 0, "report has %lld orbitals", orbitals);
+    lcu->form = "fragments";
+    lcu->lambda = report_number(in, name, "lambda");
+    lcu->unitaries = report_count(in, name, "unitaries");
+    lcu->system_qubits = 2 * (int)orbitals;
+    lcu->rotations = lam_cost_fragment_rotations(report_count(in, name, "fragments"), (int)orbitals);
+}
+
 static void summary_from_report(const char *path, const char *name, const options *o,
                                 lam_lcu_summary *lcu)
 {
@@ -236,6 +256,8 @@ static void summary_from_report(const char *path, const char *name, const option
     if (!kind) lam_fail_at(LAM_EX_DATA, name, 0, "report has no 'kind' line (is it from lam-norm?)");
     if (strcmp(kind, "pauli") == 0)
         summary_from_pauli_report(in, name, o, lcu);
+    else if (strcmp(kind, "fragments") == 0)
+        summary_from_fragments_report(in, name, lcu);
     else
         lam_fail_at(LAM_EX_DATA, name, 0,
                     "report of a %s stream: lam-cost needs the report of a pauli or fragments "
