@@ -1,0 +1,144 @@
+/* test_lp.c - the L1 regression solver against answers known without it. */
+#include <stdlib.h>
+
+#include "lp.h"
+#include "tap.h"
+
+static unsigned long long rng_state = 88172645463325252ULL;
+static double uniform(void)
+{
+    rng_state ^= rng_state << 13;
+    rng_state ^= rng_state >> 7;
+    rng_state ^= rng_state << 17;
+    return (double)(rng_state >> 11) / 9007199254740992.0;
+}
+
+/* Elementary fact (common practice): sum_t w_t |c_t - x| is minimized by a
+ * weighted median of the c_t. */
+static void weighted_median(void)
+{
+    lam_l1_problem p;
+    lam_l1_init(&p, 1);
+    const double c[] = {3, -1, 7, 2, 10};
+    const double w[] = {1, 1, 1, 1, 1};
+    int col = 0;
+    double one = 1;
+    for (int t = 0; t < 5; ++t) lam_l1_add_row(&p, w[t], c[t], 1, &col, &one);
+    lam_l1_options opt;
+    lam_l1_default_options(&opt);
+    double x;
+    lam_l1_result res;
+    int st = lam_l1_solve(&p, &opt, NULL, NULL, &x, &res);
+    tap_ok(st == 0 && res.converged, "median: converged");
+    tap_near(x, 3, 1e-8, "median of {3,-1,7,2,10} is 3");
+    tap_near(res.primal, 4 + 4 + 1 + 7, 1e-9, "median: objective 16");
+    tap_ok(res.dual <= res.primal && res.primal - res.dual <= 1e-10 * 16,
+           "median: certified gap within 1e-10 relative");
+    lam_l1_free(&p);
+
+    /* weights 1,1,5 on 0,1,2: the heavy point wins */
+    lam_l1_init(&p, 1);
+    const double c2[] = {0, 1, 2}, w2[] = {1, 1, 5};
+    for (int t = 0; t < 3; ++t) lam_l1_add_row(&p, w2[t], c2[t], 1, &col, &one);
+    lam_l1_solve(&p, &opt, NULL, NULL, &x, &res);
+    tap_near(x, 2, 1e-8, "weighted median follows the heavy weight");
+    tap_near(res.primal, 3, 1e-9, "weighted median objective 3");
+    lam_l1_free(&p);
+}
+
+/* Fact of linear programming (common practice): an L1 regression in two
+ * parameters has an optimal solution that fits two rows exactly, so the
+ * best over all pairs of rows is the optimum. */
+static double brute_force_two(const lam_l1_problem *p)
+{
+    double best = INFINITY;
+    for (size_t s = 0; s < p->rows; ++s)
+        for (size_t t = s + 1; t < p->rows; ++t) {
+            const double *a = p->val + p->start[s], *b = p->val + p->start[t];
+            double det = a[0] * b[1] - a[1] * b[0];
+            if (fabs(det) < 1e-12) continue;
+            double x[2] = {(p->target[s] * b[1] - a[1] * p->target[t]) / det,
+                           (a[0] * p->target[t] - p->target[s] * b[0]) / det};
+            double f = lam_l1_objective(p, x);
+            if (f < best) best = f;
+        }
+    return best;
+}
+
+static void random_two_parameter(void)
+{
+    for (int trial = 0; trial < 5; ++trial) {
+        lam_l1_problem p;
+        lam_l1_init(&p, 2);
+        int cols[2] = {0, 1};
+        for (int t = 0; t < 40; ++t) {
+            double a[2] = {uniform() * 2 - 1, uniform() * 2 - 1};
+            lam_l1_add_row(&p, 0.1 + uniform(), 3 * uniform() - 1, 2, cols, a);
+        }
+        lam_l1_options opt;
+        lam_l1_default_options(&opt);
+        double x[2];
+        lam_l1_result res;
+        lam_l1_solve(&p, &opt, NULL, NULL, x, &res);
+        double want = brute_force_two(&p);
+        tap_near(res.primal, want, 1e-9 * want, "random 2-parameter L1 fit = best vertex");
+        tap_ok(res.dual <= res.primal + 1e-15 && res.primal - res.dual <= 1e-10 * res.primal,
+               "random fit: dual bound below, gap certified");
+        tap_ok(res.blocks == 1 && res.largest_block == 2, "one block of two");
+        lam_l1_free(&p);
+    }
+}
+
+/* Independent parameters give independent blocks; the joint optimum is
+ * the sum of the separate medians. */
+static void decoupled_blocks(void)
+{
+    lam_l1_problem p;
+    lam_l1_init(&p, 4);
+    double one = 1;
+    for (int j = 0; j < 3; ++j)
+        for (int t = 0; t < 7; ++t)
+            lam_l1_add_row(&p, 1, (double)(t * (j + 1)), 1, &j, &one);
+    /* parameter 3 appears in no row */
+    lam_l1_options opt;
+    lam_l1_default_options(&opt);
+    double x[4];
+    lam_l1_result res;
+    lam_l1_solve(&p, &opt, NULL, NULL, x, &res);
+    tap_ok(res.blocks == 3 && res.largest_block == 1, "three singleton blocks");
+    tap_near(x[0], 3, 1e-8, "block 0 median");
+    tap_near(x[1], 6, 1e-8, "block 1 median");
+    tap_near(x[2], 9, 1e-8, "block 2 median");
+    tap_near(x[3], 0, 0, "unused parameter is zero");
+    tap_near(res.primal, 12 + 24 + 36, 1e-8, "sum of the separate optima");
+    lam_l1_free(&p);
+}
+
+/* Two parameters that only ever appear as x0 + x1: the normal matrix is
+ * singular; the ridge must still give the optimum of the sum. */
+static void rank_deficient(void)
+{
+    lam_l1_problem p;
+    lam_l1_init(&p, 2);
+    int cols[2] = {0, 1};
+    double a[2] = {1, 1};
+    const double c[] = {1, 2, 4, 8, 16};
+    for (int t = 0; t < 5; ++t) lam_l1_add_row(&p, 1, c[t], 2, cols, a);
+    lam_l1_options opt;
+    lam_l1_default_options(&opt);
+    double x[2];
+    lam_l1_result res;
+    lam_l1_solve(&p, &opt, NULL, NULL, x, &res);
+    tap_near(x[0] + x[1], 4, 1e-7, "singular normal matrix: x0 + x1 at the median");
+    tap_near(res.primal, 3 + 2 + 0 + 4 + 12, 1e-8, "singular normal matrix: objective");
+    lam_l1_free(&p);
+}
+
+int main(void)
+{
+    weighted_median();
+    random_two_parameter();
+    decoupled_blocks();
+    rank_deficient();
+    return tap_done();
+}
