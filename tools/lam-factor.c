@@ -1,0 +1,239 @@
+/* lam-factor - fermionic fragments (double factorization, greedy full-rank
+ * fragments) of a spin-free Hamiltonian, written as a fragments stream. */
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "factor.h"
+#include "fragments.h"
+#include "report.h"
+#include "spinfree.h"
+#include "stream.h"
+#include "util.h"
+
+/* Integrals written with 17 digits keep their symmetry to the last bit;
+ * this leaves room for integrals that were averaged or rotated. */
+#define SYMMETRY_TOL 1e-10
+
+static _Noreturn void usage(void)
+{
+    printf("Usage: %s [OPTION]... [STREAM]\n"
+           "Split a spin-free Hamiltonian (file or stdin) into fermionic fragments, each an\n"
+           "orbital rotation with a quadratic form of occupation numbers, and write it as a\n"
+           "linear combination of rotated reflections R = 1 - 2n (a fragments stream).\n\n"
+           "  -m, --method M        double (double factorization, default) or full-rank\n"
+           "                        (greedy fragments fitted with L-BFGS)\n"
+           "  -t, --tol X           Eh; double: drop the smallest factors while the sum of\n"
+           "                        their eigenvalues stays <= X (default 1e-10); full-rank:\n"
+           "                        add fragments until the two-body residual (Frobenius\n"
+           "                        norm) is <= X (default 1e-6)\n"
+           "      --cutoff X        leave out unitaries with |c| <= X Eh (default 1e-14)\n"
+           "      --max-fragments N full-rank: fail beyond N fragments (default 10 n(n+1)/2+10)\n"
+           "      --max-iter N      full-rank: L-BFGS iterations per fragment (default 500)\n"
+           "  -r, --report FILE     write figures (lambda in Eh, fragments, unitaries, errors)\n"
+           "                        as key<TAB>value lines to FILE ('-' is stdout with -o)\n"
+           "      --tsv             the report as one header row and one value row\n"
+           "  -o, --output FILE     write the stream to FILE instead of stdout\n"
+           "  -z, --gzip            gzip the stream\n"
+           "      --progress        show progress on stderr (default: when it is a terminal)\n"
+           "      --quiet           no progress\n"
+           "  -h, --help            show this help\n"
+           "      --version         show the version\n\n"
+           "Example:\n"
+           "  lam-ints h4.fcidump | %s --method double --tol 1e-6 | lam-norm\n",
+           lam_program(), lam_program());
+    exit(0);
+}
+
+typedef struct {
+    lam_factor_method method;
+    double tol, cutoff;
+    int tol_set, cutoff_set, tsv, gzip;
+    long max_fragments, max_iter;
+    const char *out, *report, *in;
+} cli;
+
+static lam_factor_method parse_method(const char *s)
+{
+    if (strcmp(s, "double") == 0) return LAM_FACTOR_DOUBLE;
+    if (strcmp(s, "full-rank") == 0) return LAM_FACTOR_FULL_RANK;
+    lam_usage_error("--method wants double or full-rank, not '%s'", s);
+}
+
+static double non_negative(const char *opt, const char *arg)
+{
+    double x = lam_opt_double(opt, arg);
+    if (!(x >= 0.0)) lam_usage_error("%s wants a number >= 0, not '%s'", opt, arg);
+    return x;
+}
+
+static void parse_args(int argc, char **argv, cli *c)
+{
+    enum { OPT_CUTOFF = 256, OPT_MAXFRAG, OPT_MAXITER, OPT_TSV, OPT_PROGRESS, OPT_QUIET,
+           OPT_VERSION };
+    static const struct option opts[] = {
+        {"method", required_argument, 0, 'm'},      {"tol", required_argument, 0, 't'},
+        {"cutoff", required_argument, 0, OPT_CUTOFF}, {"max-fragments", required_argument, 0, OPT_MAXFRAG},
+        {"max-iter", required_argument, 0, OPT_MAXITER}, {"report", required_argument, 0, 'r'},
+        {"tsv", no_argument, 0, OPT_TSV},           {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},              {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, OPT_QUIET},       {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, OPT_VERSION},   {0, 0, 0, 0}};
+    int o;
+    memset(c, 0, sizeof *c);
+    c->method = LAM_FACTOR_DOUBLE;
+    c->max_fragments = c->max_iter = -1;
+    while ((o = getopt_long(argc, argv, "m:t:r:o:zh", opts, NULL)) != -1) {
+        switch (o) {
+        case 'm': c->method = parse_method(optarg); break;
+        case 't': c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
+        case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
+        case OPT_MAXFRAG: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
+        case OPT_MAXITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
+        case 'r': c->report = optarg; break;
+        case OPT_TSV: c->tsv = 1; break;
+        case 'o': c->out = optarg; break;
+        case 'z': c->gzip = 1; break;
+        case OPT_PROGRESS: lam_progress_set(1); break;
+        case OPT_QUIET: lam_progress_set(0); break;
+        case 'h': usage();
+        case OPT_VERSION: lam_print_version();
+        default: lam_usage_error("unknown option");
+        }
+    }
+    if (argc - optind > 1) lam_usage_error("one input stream at a time");
+    c->in = optind < argc ? argv[optind] : NULL;
+    if (c->tsv && !c->report) lam_usage_error("--tsv formats the --report; give --report FILE");
+    if (c->report && strcmp(c->report, "-") == 0 && (!c->out || strcmp(c->out, "-") == 0))
+        lam_usage_error("--report - needs -o FILE: stdout carries the stream");
+    if (c->method == LAM_FACTOR_FULL_RANK && c->tol_set && c->tol == 0.0)
+        lam_usage_error("--tol 0 cannot be reached by full-rank fragments: give a positive "
+                        "residual");
+}
+
+static lam_spinfree *read_operator(lam_reader *r)
+{
+    lam_kind kind = lam_reader_kind(r);
+    if (kind != LAM_KIND_SPINFREE && kind != LAM_KIND_UNKNOWN)
+        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
+                    "lam-factor reads a spinfree stream, not kind '%s' (make one with lam-ints)",
+                    lam_kind_name(kind));
+    lam_spinfree *sf = lam_spinfree_read(r);
+    double scale = 1.0;
+    size_t n4 = (size_t)sf->n * sf->n * sf->n * sf->n;
+    for (size_t k = 0; k < n4; ++k) scale = fmax(scale, fabs(sf->g[k]));
+    double herm = lam_spinfree_hermiticity_error(sf);
+    double real = lam_spinfree_real_symmetry_error(sf);
+    if (herm > SYMMETRY_TOL * scale || real > SYMMETRY_TOL * scale)
+        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
+                    "the integrals lack the symmetry of real orbitals (h_pq = h_qp, (pq|rs) = "
+                    "(qp|rs)): largest violation %.3g Eh; the fragments need real symmetric "
+                    "integrals",
+                    fmax(herm, real));
+    return sf;
+}
+
+static void options_from_cli(const cli *c, int n, lam_factor_options *o)
+{
+    lam_factor_defaults(o, c->method, n);
+    if (c->tol_set) o->tol = c->tol;
+    if (c->cutoff_set) o->cutoff = c->cutoff;
+    if (c->max_fragments > 0) o->max_fragments = (int)c->max_fragments;
+    if (c->max_iter >= 0) o->max_iter = (int)c->max_iter;
+}
+
+static const char *method_name(lam_factor_method m)
+{
+    return m == LAM_FACTOR_DOUBLE ? "double" : "full-rank";
+}
+
+static void describe_result(lam_meta *meta, const lam_fragments *fr, const lam_factor_options *o,
+                            const lam_factor_info *info)
+{
+    char buf[LAM_DOUBLE_BUF];
+    lam_fragments_describe(fr, meta);
+    lam_meta_set(meta, "method", method_name(o->method));
+    lam_format_double(buf, sizeof buf, o->tol);
+    lam_meta_set(meta, "tol", buf);
+    if (o->method == LAM_FACTOR_DOUBLE) {
+        lam_format_double(buf, sizeof buf, info->discarded_weight);
+        lam_meta_set(meta, "discarded-weight", buf);
+    }
+    lam_format_double(buf, sizeof buf, info->integral_max_error);
+    lam_meta_set(meta, "integral-max-error", buf);
+    lam_format_double(buf, sizeof buf, info->integral_norm_error);
+    lam_meta_set(meta, "integral-norm-error", buf);
+}
+
+static double one_body_lambda(const lam_fragments *fr)
+{
+    double s = 0.0;
+    for (size_t k = 0; k < fr->count; ++k)
+        if (fr->terms[k].frag == 0) s += fabs(fr->terms[k].coef);
+    return s;
+}
+
+static void write_report(const cli *c, const lam_spinfree *sf, const lam_fragments *fr,
+                         const lam_factor_options *o, const lam_factor_info *info)
+{
+    lam_report *rep = lam_report_new();
+    lam_fragments_report(fr, rep);
+    double lambda = lam_fragments_stats_of(fr).lambda, one = one_body_lambda(fr);
+    lam_report_str(rep, "method", method_name(o->method));
+    lam_report_num(rep, "tol", o->tol);
+    lam_report_int(rep, "two_body_fragments", info->factors_kept);
+    if (o->method == LAM_FACTOR_DOUBLE) {
+        lam_report_int(rep, "factors_total", info->factors_total);
+        lam_report_num(rep, "discarded_weight", info->discarded_weight);
+    } else {
+        lam_report_int(rep, "iterations", info->iterations);
+    }
+    lam_report_num(rep, "lambda_one_body", one);
+    lam_report_num(rep, "lambda_two_body", lambda - one);
+    lam_report_num(rep, "lambda_pauli", lam_spinfree_lambda(sf));
+    lam_report_num(rep, "residual_norm", info->residual_norm);
+    lam_report_num(rep, "integral_max_error", info->integral_max_error);
+    lam_report_num(rep, "integral_norm_error", info->integral_norm_error);
+    lam_report_num(rep, "constant_error", info->constant_error);
+    lam_report_num(rep, "cutoff", o->cutoff);
+    lam_report_int(rep, "dropped_unitaries", (long long)info->dropped_unitaries);
+    lam_report_num(rep, "dropped_lambda", info->dropped_lambda);
+    lam_report_save(rep, c->report, c->tsv);
+    lam_report_free(rep);
+}
+
+int main(int argc, char **argv)
+{
+    lam_set_program(argv[0]);
+    cli c;
+    parse_args(argc, argv, &c);
+    lam_reader *r = lam_reader_open(c.in);
+    lam_spinfree *sf = read_operator(r);
+    lam_factor_options o;
+    lam_factor_info info;
+    options_from_cli(&c, sf->n, &o);
+    double t0 = lam_seconds();
+    lam_fragments *fr = lam_factor(sf, &o, &info);
+    lam_progress("%s: %d fragments in %.2f s", method_name(o.method), fr->nfrag,
+                 lam_seconds() - t0);
+
+    lam_meta meta;
+    lam_meta_init(&meta);
+    lam_meta_copy(&meta, lam_reader_meta(r));
+    describe_result(&meta, fr, &o, &info);
+    char *history = lam_history_from_argv(argc, argv);
+    lam_writer *w = lam_writer_open(c.out, c.gzip);
+    lam_writer_header(w, LAM_KIND_FRAGMENTS, &meta, history);
+    lam_fragments_write_terms(w, fr);
+    lam_writer_close(w);
+    if (c.report) write_report(&c, sf, fr, &o, &info);
+
+    free(history);
+    lam_meta_free(&meta);
+    lam_fragments_free(fr);
+    lam_spinfree_free(sf);
+    lam_reader_close(r);
+    return 0;
+}
