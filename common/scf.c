@@ -1,0 +1,422 @@
+/* scf.c - restricted Hartree-Fock with DIIS, and the MO Hamiltonian. */
+#include "scf.h"
+
+#include <cblas.h>
+#include <lapacke.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "integrals.h"
+#include "util.h"
+
+void lam_scf_options_default(lam_scf_options *o)
+{
+    o->max_iter = 100;
+    o->e_conv = 1e-10;
+    o->d_conv = 1e-8;
+    o->diis_size = 8;
+    o->schwarz = 1e-12;
+    o->s_tol = 1e-7;
+    o->report = 0;
+}
+
+int lam_scf_closed_shell_electrons(const lam_molecule *mol)
+{
+    int n = lam_molecule_electrons(mol);
+    if (n <= 0)
+        lam_fail_at(LAM_EX_DATA, mol->source, 0,
+                    "no electrons left with charge %+d", mol->charge);
+    if (n % 2)
+        lam_fail_at(LAM_EX_DATA, mol->source, 0,
+                    "%d electrons with charge %+d: an open shell; lam-scf does "
+                    "closed-shell RHF only (change --charge)", n, mol->charge);
+    return n;
+}
+
+double lam_scf_bytes(int nbf)
+{
+    double n = nbf;
+    /* integrals and supermatrix, plus a dozen nbf^2 matrices and DIIS */
+    return 2.0 * 8.0 * (double)lam_eri_count(nbf) + 8.0 * 40.0 * n * n;
+}
+
+static void symmetric_eigen(int n, double *a, double *w)
+{
+    if (LAPACKE_dsyevd(LAPACK_ROW_MAJOR, 'V', 'U', n, a, n, w) != 0)
+        lam_fail(LAM_EX_SOFTWARE, "symmetric eigensolver failed (n = %d)", n);
+}
+
+/* c = a^T b (a: k x m, b: k x n, c: m x n). */
+static void mat_tn(int m, int n, int k, const double *a, const double *b, double *c)
+{
+    cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, m, n, k, 1.0, a, m, b, n,
+                0.0, c, n);
+}
+
+/* c = a b (a: m x k, b: k x n). */
+static void mat_nn(int m, int n, int k, const double *a, const double *b, double *c)
+{
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, m, n, k, 1.0, a, k, b, n,
+                0.0, c, n);
+}
+
+/* Canonical orthogonalization X = U s^-1/2 over the eigenvalues of S
+ * above s_tol; returns the number of columns kept. */
+static int orthogonalizer(int n, const double *s, double s_tol, double *x)
+{
+    double *u = lam_malloc(lam_mul_size((size_t)n * n, sizeof *u));
+    double *w = lam_malloc((size_t)n * sizeof *w);
+    memcpy(u, s, (size_t)n * n * sizeof *u);
+    symmetric_eigen(n, u, w);
+    int first = 0;
+    while (first < n && w[first] < s_tol) ++first;
+    int m = n - first;
+    for (int i = 0; i < n; ++i)
+        for (int k = 0; k < m; ++k)
+            x[(size_t)i * m + k] = u[(size_t)i * n + first + k] / sqrt(w[first + k]);
+    if (first)
+        lam_warn("%d near-linear dependencies in the basis (overlap eigenvalue "
+                 "%.3g < %.3g); %d orbitals kept", first, w[0], s_tol, m);
+    free(u);
+    free(w);
+    return m;
+}
+
+/* PK supermatrix from the packed integrals; with it G(D)_ij =
+ * sum_{k>=l} P_{ij,kl} (2 - delta_kl) D_kl. */
+static double *pk_supermatrix(int n, const double *eri)
+{
+    double *pk = lam_malloc(lam_mul_size(lam_eri_count(n), sizeof *pk));
+    for (int i = 0; i < n; ++i)
+        for (int j = 0; j <= i; ++j) {
+            size_t ij = LAM_PAIR(i, j);
+            for (int k = 0; k <= i; ++k) {
+                int lmax = k == i ? j : k;
+                for (int l = 0; l <= lmax; ++l) {
+                    size_t kl = LAM_PAIR(k, l);
+                    double ex = eri[LAM_PAIR(LAM_PAIR(i, k), LAM_PAIR(j, l))] +
+                                eri[LAM_PAIR(LAM_PAIR(i, l), LAM_PAIR(j, k))];
+                    pk[LAM_PAIR(ij, kl)] = eri[LAM_PAIR(ij, kl)] - 0.25 * ex;
+                }
+            }
+        }
+    return pk;
+}
+
+/* f = h + G(d) for a total density d (nbf x nbf). */
+static void fock_build(int n, const double *pk, const double *h, const double *d,
+                       double *f, double *packed_d, double *packed_g)
+{
+    for (int k = 0; k < n; ++k)
+        for (int l = 0; l <= k; ++l)
+            packed_d[LAM_PAIR(k, l)] = (k == l ? 1.0 : 2.0) * d[(size_t)k * n + l];
+    size_t n2 = (size_t)n * (n + 1) / 2;
+    cblas_dspmv(CblasRowMajor, CblasLower, (int)n2, 1.0, pk, packed_d, 1, 0.0,
+                packed_g, 1);
+    for (int i = 0; i < n; ++i)
+        for (int j = 0; j <= i; ++j)
+            f[(size_t)i * n + j] = f[(size_t)j * n + i] =
+                h[(size_t)i * n + j] + packed_g[LAM_PAIR(i, j)];
+}
+
+/* d = 2 C_occ C_occ^T over the first nocc columns of c (n x m). */
+static void density(int n, int m, int nocc, const double *c, double *d)
+{
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, nocc, 2.0, c, m, c,
+                m, 0.0, d, n);
+}
+
+static double trace_product(size_t nn, const double *a, const double *b)
+{
+    double s = 0.0;
+    for (size_t i = 0; i < nn; ++i) s += a[i] * b[i];
+    return s;
+}
+
+/* Diagonalize f in the orthonormal basis x: c = x c', eps ascending. */
+static void roothaan_step(int n, int m, const double *x, const double *f,
+                          double *c, double *eps, double *work)
+{
+    double *fx = work, *fo = work + (size_t)n * m;
+    mat_nn(n, m, n, f, x, fx);
+    mat_tn(m, m, n, x, fx, fo);
+    symmetric_eigen(m, fo, eps);
+    mat_nn(n, m, m, x, fo, c);
+}
+
+/* Orbital gradient X^T (F D S - S D F) X; returns its largest element. */
+static double orbital_gradient(int n, int m, const double *f, const double *d,
+                               const double *s, const double *x, double *err,
+                               double *work)
+{
+    double *fd = work, *fds = work + (size_t)n * n, *ex = work + 2 * (size_t)n * n;
+    mat_nn(n, n, n, f, d, fd);
+    mat_nn(n, n, n, fd, s, fds);
+    for (int i = 0; i < n; ++i)
+        for (int j = 0; j < n; ++j)
+            fd[(size_t)i * n + j] = fds[(size_t)i * n + j] - fds[(size_t)j * n + i];
+    mat_nn(n, m, n, fd, x, ex);
+    mat_tn(m, m, n, x, ex, err);
+    double mx = 0.0;
+    for (size_t i = 0; i < (size_t)m * m; ++i)
+        if (fabs(err[i]) > mx) mx = fabs(err[i]);
+    return mx;
+}
+
+typedef struct {
+    int cap, count, next;
+    size_t fsize, esize;
+    double *f, *e;  /* cap Fock matrices and error vectors */
+} diis_store;
+
+static void diis_init(diis_store *st, int cap, size_t fsize, size_t esize)
+{
+    st->cap = cap;
+    st->count = st->next = 0;
+    st->fsize = fsize;
+    st->esize = esize;
+    st->f = cap ? lam_malloc(lam_mul_size((size_t)cap * fsize, sizeof(double))) : NULL;
+    st->e = cap ? lam_malloc(lam_mul_size((size_t)cap * esize, sizeof(double))) : NULL;
+}
+
+static void diis_push(diis_store *st, const double *f, const double *e)
+{
+    if (!st->cap) return;
+    memcpy(st->f + (size_t)st->next * st->fsize, f, st->fsize * sizeof *f);
+    memcpy(st->e + (size_t)st->next * st->esize, e, st->esize * sizeof *e);
+    st->next = (st->next + 1) % st->cap;
+    if (st->count < st->cap) ++st->count;
+}
+
+/* Replace f by the Pulay extrapolation; the oldest vectors are dropped
+ * while the linear system is singular. */
+static void diis_extrapolate(diis_store *st, double *f)
+{
+    for (int use = st->count; use >= 2; --use) {
+        int dim = use + 1;
+        double b[(8 + 4) * (8 + 4)], rhs[8 + 4];
+        lapack_int piv[8 + 4];
+        /* the newest `use` entries */
+        int idx[64];
+        for (int k = 0; k < use; ++k)
+            idx[k] = ((st->next - 1 - k) % st->cap + st->cap) % st->cap;
+        for (int i = 0; i < use; ++i) {
+            for (int j = 0; j <= i; ++j)
+                b[i * dim + j] = b[j * dim + i] =
+                    trace_product(st->esize, st->e + (size_t)idx[i] * st->esize,
+                                  st->e + (size_t)idx[j] * st->esize);
+            b[i * dim + use] = b[use * dim + i] = -1.0;
+            rhs[i] = 0.0;
+        }
+        b[use * dim + use] = 0.0;
+        rhs[use] = -1.0;
+        if (LAPACKE_dgesv(LAPACK_ROW_MAJOR, dim, 1, b, dim, piv, rhs, 1) != 0) continue;
+        memset(f, 0, st->fsize * sizeof *f);
+        for (int k = 0; k < use; ++k)
+            cblas_daxpy((int)st->fsize, rhs[k], st->f + (size_t)idx[k] * st->fsize, 1, f, 1);
+        return;
+    }
+}
+
+static void diis_free(diis_store *st)
+{
+    free(st->f);
+    free(st->e);
+}
+
+lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
+                     const lam_scf_options *o)
+{
+    int nelec = lam_scf_closed_shell_electrons(mol);
+    int n = b->nbf;
+    size_t nn = lam_mul_size((size_t)n, (size_t)n);
+    lam_scf *s = lam_calloc(1, sizeof *s);
+    s->nbf = n;
+    s->nocc = nelec / 2;
+    s->e_nuc = lam_molecule_nuclear_repulsion(mol);
+
+    double t0 = lam_seconds();
+    double *ovl = lam_calloc(nn, sizeof *ovl), *kin = lam_calloc(nn, sizeof *kin);
+    s->hcore = lam_calloc(nn, sizeof *s->hcore);
+    lam_int_overlap(b, ovl);
+    lam_int_kinetic(b, kin);
+    lam_int_nuclear(b, mol, s->hcore);
+    for (size_t i = 0; i < nn; ++i) s->hcore[i] += kin[i];
+    free(kin);
+    lam_eri_stats st;
+    s->eri = lam_int_eri(b, o->schwarz, &st);
+    s->pk = pk_supermatrix(n, s->eri);
+    s->seconds_integrals = lam_seconds() - t0;
+    if (o->report)
+        fprintf(stderr, "%s: %d basis functions, %zu shell quartets (%zu screened), "
+                "integrals %.2f s\n", lam_program(), n, st.quartets, st.screened,
+                s->seconds_integrals);
+
+    double *x = lam_malloc(nn * sizeof *x);
+    int m = s->nmo = orthogonalizer(n, ovl, o->s_tol, x);
+    if (s->nocc > m)
+        lam_fail_at(LAM_EX_DATA, mol->source, 0,
+                    "%d electrons do not fit in %d orbitals", nelec, m);
+    s->c = lam_malloc(lam_mul_size((size_t)n, (size_t)m) * sizeof *s->c);
+    s->eps = lam_malloc((size_t)m * sizeof *s->eps);
+    double *d = lam_calloc(nn, sizeof *d), *f = lam_malloc(nn * sizeof *f);
+    double *err = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *err);
+    double *work = lam_malloc(lam_mul_size(nn, 3 * sizeof *work));
+    size_t n2 = (size_t)n * (n + 1) / 2;
+    double *pd = lam_malloc(n2 * sizeof *pd), *pg = lam_malloc(n2 * sizeof *pg);
+    diis_store diis;
+    diis_init(&diis, o->diis_size > 8 ? 8 : o->diis_size, nn, (size_t)m * m);
+
+    /* core-Hamiltonian start */
+    roothaan_step(n, m, x, s->hcore, s->c, s->eps, work);
+    double energy = 0.0, de = 0.0, grad = 0.0;
+    int it, converged = 0;
+    t0 = lam_seconds();
+    if (o->report) fprintf(stderr, "%s: iter  energy/Eh                 change/Eh   gradient\n", lam_program());
+    for (it = 1; it <= o->max_iter; ++it) {
+        density(n, m, s->nocc, s->c, d);
+        fock_build(n, s->pk, s->hcore, d, f, pd, pg);
+        double e = 0.5 * (trace_product(nn, d, s->hcore) + trace_product(nn, d, f)) + s->e_nuc;
+        de = e - energy;
+        energy = e;
+        grad = orbital_gradient(n, m, f, d, ovl, x, err, work);
+        if (o->report)
+            fprintf(stderr, "%s: %4d  %.15f  %10.3e  %.3e\n", lam_program(), it, e,
+                    it == 1 ? 0.0 : de, grad);
+        if (it > 1 && fabs(de) < o->e_conv && grad < o->d_conv) {
+            converged = 1;
+            break;
+        }
+        diis_push(&diis, f, err);
+        if (diis.count >= 2) diis_extrapolate(&diis, f);
+        roothaan_step(n, m, x, f, s->c, s->eps, work);
+    }
+    s->seconds_iterations = lam_seconds() - t0;
+    if (!converged)
+        lam_fail_at(LAM_EX_DATA, mol->source, 0,
+                    "RHF did not converge in %d iterations (last energy change "
+                    "%.2e Eh, gradient %.2e); try --max-iter or looser --e-conv/--d-conv",
+                    o->max_iter, fabs(de), grad);
+    /* canonical orbitals of the converged (not extrapolated) Fock matrix */
+    roothaan_step(n, m, x, f, s->c, s->eps, work);
+    s->energy = energy;
+    s->iterations = it;
+    diis_free(&diis);
+    free(ovl);
+    free(x);
+    free(d);
+    free(f);
+    free(err);
+    free(work);
+    free(pd);
+    free(pg);
+    return s;
+}
+
+void lam_scf_free(lam_scf *s)
+{
+    if (!s) return;
+    free(s->hcore);
+    free(s->eri);
+    free(s->pk);
+    free(s->c);
+    free(s->eps);
+    free(s);
+}
+
+/* Columns first .. first+count-1 of c (n x m) as an n x count matrix. */
+static double *orbital_block(const lam_scf *s, int first, int count)
+{
+    double *c = lam_malloc(lam_mul_size((size_t)s->nbf, (size_t)(count ? count : 1)) * sizeof *c);
+    for (int i = 0; i < s->nbf; ++i)
+        for (int k = 0; k < count; ++k)
+            c[(size_t)i * count + k] = s->c[(size_t)i * s->nmo + first + k];
+    return c;
+}
+
+/* a (n x n symmetric) -> c^T a c (m x m), via t (n x m). */
+static void congruence(int n, int m, const double *a, const double *c, double *t,
+                       double *out)
+{
+    mat_nn(n, m, n, a, c, t);
+    mat_tn(m, m, n, c, t, out);
+}
+
+/* Four-index transformation in two half steps; g gets all 8 copies. */
+static void transform_eri(const lam_scf *s, const double *c, int m, lam_spinfree *sf)
+{
+    int n = s->nbf;
+    size_t n2 = (size_t)n * (n + 1) / 2, m2 = (size_t)m * (m + 1) / 2;
+    double *half = lam_malloc(lam_mul_size(n2, m2) * sizeof *half); /* [pq][ij] */
+    double *a = lam_malloc((size_t)n * n * sizeof *a);
+    double *t = lam_malloc(lam_mul_size((size_t)n, (size_t)m) * sizeof *t);
+    double *bm = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *bm);
+    for (int i = 0; i < n; ++i) {
+        if (i % 16 == 0) lam_progress("MO transformation: AO row %d of %d", i + 1, n);
+        for (int j = 0; j <= i; ++j) {
+            size_t ij = LAM_PAIR(i, j);
+            for (int k = 0; k < n; ++k)
+                for (int l = 0; l <= k; ++l)
+                    a[(size_t)k * n + l] = a[(size_t)l * n + k] =
+                        s->eri[LAM_PAIR(ij, LAM_PAIR(k, l))];
+            congruence(n, m, a, c, t, bm);
+            for (int p = 0; p < m; ++p)
+                for (int q = 0; q <= p; ++q) half[LAM_PAIR(p, q) * n2 + ij] = bm[(size_t)p * m + q];
+        }
+    }
+    for (int p = 0; p < m; ++p)
+        for (int q = 0; q <= p; ++q) {
+            const double *col = half + LAM_PAIR(p, q) * n2;
+            for (int k = 0; k < n; ++k)
+                for (int l = 0; l <= k; ++l)
+                    a[(size_t)k * n + l] = a[(size_t)l * n + k] = col[LAM_PAIR(k, l)];
+            congruence(n, m, a, c, t, bm);
+            for (int r = 0; r < m; ++r)
+                for (int u = 0; u <= r; ++u) {
+                    if (LAM_PAIR(r, u) > LAM_PAIR(p, q)) break;
+                    double v = bm[(size_t)r * m + u];
+                    LAM_G(sf, p, q, r, u) = LAM_G(sf, q, p, r, u) = v;
+                    LAM_G(sf, p, q, u, r) = LAM_G(sf, q, p, u, r) = v;
+                    LAM_G(sf, r, u, p, q) = LAM_G(sf, u, r, p, q) = v;
+                    LAM_G(sf, r, u, q, p) = LAM_G(sf, u, r, q, p) = v;
+                }
+        }
+    free(half);
+    free(a);
+    free(t);
+    free(bm);
+}
+
+lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active)
+{
+    int n = s->nbf;
+    size_t nn = (size_t)n * n, n2 = (size_t)n * (n + 1) / 2;
+    /* frozen-core density and its Fock matrix in the AO basis */
+    double *ccore = orbital_block(s, 0, frozen);
+    double *d = lam_calloc(nn, sizeof *d), *f = lam_malloc(nn * sizeof *f);
+    double *pd = lam_malloc(n2 * sizeof *pd), *pg = lam_malloc(n2 * sizeof *pg);
+    if (frozen) density(n, frozen, frozen, ccore, d);
+    fock_build(n, s->pk, s->hcore, d, f, pd, pg);
+    double e_core = 0.5 * (trace_product(nn, d, s->hcore) + trace_product(nn, d, f));
+
+    lam_spinfree *sf = lam_spinfree_new(active);
+    sf->e0 = s->e_nuc + e_core;
+    sf->electrons = 2 * (s->nocc - frozen);
+    sf->ms2 = 0;
+    double *c = orbital_block(s, frozen, active);
+    double *t = lam_malloc(lam_mul_size((size_t)n, (size_t)active) * sizeof *t);
+    congruence(n, active, f, c, t, sf->h);
+    /* exact symmetry, whatever the rounding of the two products */
+    for (int p = 0; p < active; ++p)
+        for (int q = 0; q < p; ++q) LAM_H(sf, q, p) = LAM_H(sf, p, q);
+    transform_eri(s, c, active, sf);
+    free(ccore);
+    free(d);
+    free(f);
+    free(pd);
+    free(pg);
+    free(c);
+    free(t);
+    return sf;
+}

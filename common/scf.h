@@ -1,0 +1,64 @@
+/* scf.h - closed-shell restricted Hartree-Fock and molecular-orbital
+ * integrals.
+ *
+ * Roothaan-Hall equations in an orthonormal basis (canonical
+ * orthogonalization), core-Hamiltonian start, Pulay DIIS (P. Pulay, Chem.
+ * Phys. Lett. 73, 393 (1980)) on the commutator FDS - SDF.  Two-electron
+ * integrals are computed once and stored with the 8-fold symmetry; the
+ * Fock matrix comes from the "PK" supermatrix
+ *     P_{ij,kl} = (ij|kl) - 1/4 [(ik|jl) + (il|jk)]
+ * as one packed symmetric matrix-vector product per iteration.
+ */
+#ifndef LAM_SCF_H
+#define LAM_SCF_H
+
+#include "basis.h"
+#include "molecule.h"
+#include "spinfree.h"
+
+typedef struct {
+    int max_iter;     /* iterations before giving up */
+    double e_conv;    /* |energy change| in Eh */
+    double d_conv;    /* largest element of the orbital gradient FDS - SDF */
+    int diis_size;    /* stored Fock matrices, 0 turns DIIS off */
+    double schwarz;   /* integral screening threshold, Eh */
+    double s_tol;     /* overlap eigenvalues below are dropped */
+    int report;       /* iteration table on stderr */
+} lam_scf_options;
+
+void lam_scf_options_default(lam_scf_options *o);
+
+typedef struct {
+    int nbf, nmo, nocc;     /* nmo < nbf after linear dependencies */
+    double e_nuc, energy;   /* Eh, energy includes e_nuc */
+    double *hcore;          /* nbf x nbf */
+    double *eri;            /* packed AO integrals (lam_int_eri) */
+    double *pk;             /* packed PK supermatrix */
+    double *c;              /* nbf x nmo, orbital p in column p */
+    double *eps;            /* nmo orbital energies, ascending */
+    int iterations;
+    double seconds_integrals, seconds_iterations;
+} lam_scf;
+
+/* Number of electrons of a closed shell: exit 65 with the reason when
+ * mol with its charge is an open shell or has no electrons. */
+int lam_scf_closed_shell_electrons(const lam_molecule *mol);
+
+/* RHF ground state.  exit 65 when the iterations do not converge. */
+lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
+                     const lam_scf_options *o);
+void lam_scf_free(lam_scf *s);
+
+/* Bytes lam_scf_run keeps (integrals, supermatrix, matrices) for nbf
+ * functions, for --max-memory. */
+double lam_scf_bytes(int nbf);
+
+/* Hamiltonian on orbitals frozen .. frozen+active-1: the frozen orbitals
+ * (doubly occupied) fold into the constant and the one-body part,
+ *   e0   = E_nuc + sum_c [2 h_cc + sum_d (2 (cc|dd) - (cd|dc))]
+ *   h_pq = h_pq + sum_c [2 (pq|cc) - (pc|cq)],
+ * (pq|rs) by a BLAS four-index transformation.  electrons is set to the
+ * electrons left in the active orbitals. */
+lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active);
+
+#endif

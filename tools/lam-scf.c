@@ -1,0 +1,199 @@
+/* lam-scf - geometry to restricted Hartree-Fock to FCIDUMP. */
+#include <errno.h>
+#include <getopt.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "basis.h"
+#include "fcidump.h"
+#include "molecule.h"
+#include "scf.h"
+#include "spinfree.h"
+#include "util.h"
+
+static _Noreturn void usage(void)
+{
+    printf("Usage: %s [OPTION]... [XYZ]\n"
+           "Read a molecule (xyz file or stdin, angstrom), solve closed-shell restricted\n"
+           "Hartree-Fock and write the molecular-orbital integrals as FCIDUMP (hartree, Eh).\n"
+           "The constant holds the nuclear repulsion and the frozen-core energy.\n\n"
+           "  -b, --basis NAME      sto-3g (default), 6-31g (H-Ar) or cc-pvdz (H-Ne)\n"
+           "  -c, --charge Q        molecular charge (default 0)\n"
+           "      --bohr            coordinates are in bohr\n"
+           "      --cartesian       Cartesian d shells (6 functions)\n"
+           "      --spherical       spherical d shells (5 functions); default: as the\n"
+           "                        set is defined (Pople sets Cartesian, cc-pVDZ spherical)\n"
+           "  -f, --frozen K        fold the K lowest orbitals (doubly occupied) into the\n"
+           "                        constant and the one-body integrals (default 0)\n"
+           "  -a, --active N        keep N orbitals after the frozen ones (default: all)\n"
+           "      --e-conv E        converged when the energy changes by less (default\n"
+           "                        1e-10 Eh)\n"
+           "      --d-conv G        ... and the orbital gradient FDS-SDF is below G\n"
+           "                        (default 1e-8)\n"
+           "      --max-iter N      give up after N iterations (default 100)\n"
+           "      --diis N          Fock matrices kept for DIIS, 0 to 8 (default 8)\n"
+           "      --schwarz T       skip integral blocks bounded below T Eh (default 1e-12)\n"
+           "      --cutoff T        omit integrals with |value| <= T Eh from the FCIDUMP\n"
+           "                        (default 0: every non-zero integral is written)\n"
+           "      --max-memory MB   refuse work that needs more (default 4096)\n"
+           "  -o, --output FILE     write the FCIDUMP to FILE instead of stdout\n"
+           "      --progress        iteration table on stderr even when not a terminal\n"
+           "  -q, --quiet           no progress and no summary line on stderr\n"
+           "  -h, --help            show this help\n"
+           "      --version         show the version\n\n"
+           "Example:\n"
+           "  %s --basis 6-31g --frozen 1 water.xyz | lam-ints | lam-norm\n",
+           lam_program(), lam_program());
+    exit(0);
+}
+
+enum {
+    OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ECONV, OPT_DCONV, OPT_MAXIT, OPT_DIIS,
+    OPT_SCHWARZ, OPT_CUTOFF, OPT_MAXMEM, OPT_PROGRESS, OPT_VERSION
+};
+
+typedef struct {
+    const char *basis, *output, *input;
+    int bohr, pure, quiet;
+    long charge, frozen, active;
+    double cutoff, max_memory_mb;
+    lam_scf_options scf;
+} options;
+
+static void parse_options(int argc, char **argv, options *o)
+{
+    static const struct option opts[] = {
+        {"basis", required_argument, 0, 'b'},   {"charge", required_argument, 0, 'c'},
+        {"bohr", no_argument, 0, OPT_BOHR},     {"cartesian", no_argument, 0, OPT_CART},
+        {"spherical", no_argument, 0, OPT_SPH}, {"frozen", required_argument, 0, 'f'},
+        {"active", required_argument, 0, 'a'},  {"e-conv", required_argument, 0, OPT_ECONV},
+        {"d-conv", required_argument, 0, OPT_DCONV},
+        {"max-iter", required_argument, 0, OPT_MAXIT},
+        {"diis", required_argument, 0, OPT_DIIS},
+        {"schwarz", required_argument, 0, OPT_SCHWARZ},
+        {"cutoff", required_argument, 0, OPT_CUTOFF},
+        {"max-memory", required_argument, 0, OPT_MAXMEM},
+        {"output", required_argument, 0, 'o'},  {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},         {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, OPT_VERSION}, {0, 0, 0, 0}};
+    memset(o, 0, sizeof *o);
+    o->basis = "sto-3g";
+    o->pure = -1;
+    o->active = -1;
+    o->max_memory_mb = 4096;
+    lam_scf_options_default(&o->scf);
+    int c;
+    while ((c = getopt_long(argc, argv, "b:c:f:a:o:qh", opts, NULL)) != -1) {
+        switch (c) {
+        case 'b': o->basis = optarg; break;
+        case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
+        case OPT_BOHR: o->bohr = 1; break;
+        case OPT_CART: o->pure = 0; break;
+        case OPT_SPH: o->pure = 1; break;
+        case 'f': o->frozen = lam_opt_long("--frozen", optarg, 0, 100000); break;
+        case 'a': o->active = lam_opt_long("--active", optarg, 1, 100000); break;
+        case OPT_ECONV: o->scf.e_conv = lam_opt_double("--e-conv", optarg); break;
+        case OPT_DCONV: o->scf.d_conv = lam_opt_double("--d-conv", optarg); break;
+        case OPT_MAXIT: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
+        case OPT_DIIS: o->scf.diis_size = (int)lam_opt_long("--diis", optarg, 0, 8); break;
+        case OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
+        case OPT_CUTOFF: o->cutoff = lam_opt_double("--cutoff", optarg); break;
+        case OPT_MAXMEM: o->max_memory_mb = lam_opt_double("--max-memory", optarg); break;
+        case 'o': o->output = optarg; break;
+        case OPT_PROGRESS: lam_progress_set(1); break;
+        case 'q': o->quiet = 1; lam_progress_set(0); break;
+        case 'h': usage();
+        case OPT_VERSION: lam_print_version();
+        default: lam_usage_error("unknown option");
+        }
+    }
+    if (o->scf.e_conv <= 0 || o->scf.d_conv <= 0)
+        lam_usage_error("--e-conv and --d-conv must be positive");
+    if (o->scf.schwarz < 0 || o->cutoff < 0)
+        lam_usage_error("--schwarz and --cutoff must not be negative");
+    if (o->max_memory_mb <= 0) lam_usage_error("--max-memory must be positive");
+    if (argc - optind > 1) lam_usage_error("one molecule at a time");
+    o->input = optind < argc ? argv[optind] : NULL;
+    if (!lam_basis_set_find(o->basis))
+        lam_usage_error("unknown basis '%s' (known: %s)", o->basis, lam_basis_set_names());
+    o->scf.report = !o->quiet && lam_progress_enabled();
+}
+
+/* The frozen/active choice must fit the molecule (exit 64 otherwise). */
+static void check_orbital_space(const options *o, const lam_scf *s, int *active)
+{
+    if (o->frozen > s->nocc)
+        lam_usage_error("--frozen %ld exceeds the %d doubly occupied orbitals", o->frozen,
+                        s->nocc);
+    long left = s->nmo - o->frozen;
+    if (o->active > left)
+        lam_usage_error("--active %ld exceeds the %ld orbitals above the frozen ones",
+                        o->active, left);
+    *active = (int)(o->active < 0 ? left : o->active);
+    long electrons = 2L * (s->nocc - o->frozen);
+    if (electrons > 2L * *active)
+        lam_usage_error("%ld electrons do not fit in %d active orbitals", electrons, *active);
+    if (*active < 1) lam_usage_error("no active orbitals left");
+}
+
+static void check_memory(const options *o, int nbf, int active)
+{
+    double n2 = 0.5 * nbf * (nbf + 1.0), m2 = 0.5 * active * (active + 1.0);
+    double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + (double)lam_spinfree_bytes(active);
+    double mb = bytes / (1024.0 * 1024.0);
+    if (mb > o->max_memory_mb)
+        lam_fail(LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.0f MB, "
+                 "over --max-memory %.0f MB", nbf, active, mb, o->max_memory_mb);
+}
+
+static void write_fcidump(const options *o, lam_spinfree *sf)
+{
+    lam_fcidump fd = {0};
+    fd.op = sf;
+    fd.norb = sf->n;
+    fd.nelec = sf->electrons;
+    fd.ms2 = 0;
+    fd.isym = 1;
+    fd.orbsym = lam_malloc((size_t)sf->n * sizeof *fd.orbsym);
+    for (int i = 0; i < sf->n; ++i) fd.orbsym[i] = 1;
+    FILE *out = stdout;
+    if (o->output && strcmp(o->output, "-") != 0) {
+        out = fopen(o->output, "w");
+        if (!out) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", o->output, strerror(errno));
+    }
+    lam_fcidump_write(out, &fd, o->cutoff);
+    if (fflush(out) != 0 || ferror(out) || (out != stdout && fclose(out) != 0))
+        lam_fail(LAM_EX_IOERR, "write error on %s", o->output ? o->output : "stdout");
+    free(fd.orbsym);
+}
+
+int main(int argc, char **argv)
+{
+    lam_set_program(argv[0]);
+    options o;
+    parse_options(argc, argv, &o);
+
+    lam_molecule *mol = lam_molecule_read_xyz(o.input, o.bohr);
+    mol->charge = (int)o.charge;
+    lam_scf_closed_shell_electrons(mol);
+    lam_basis *basis = lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure);
+    /* the largest possible active space bounds the memory before any work */
+    int guess_active = (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
+    check_memory(&o, basis->nbf, guess_active > 0 ? guess_active : 1);
+
+    lam_scf *s = lam_scf_run(mol, basis, &o.scf);
+    int active;
+    check_orbital_space(&o, s, &active);
+    if (!o.quiet)
+        fprintf(stderr, "%s: RHF energy %.12f Eh after %d iterations (%d basis functions, "
+                "%d orbitals, E_nuc %.12f Eh)\n", lam_program(), s->energy, s->iterations,
+                s->nbf, s->nmo, s->e_nuc);
+    lam_spinfree *sf = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
+    lam_scf_free(s);
+    write_fcidump(&o, sf);
+    lam_spinfree_free(sf);
+    lam_basis_free(basis);
+    lam_molecule_free(mol);
+    return 0;
+}
