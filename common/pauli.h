@@ -65,6 +65,9 @@ void lam_pauli_set_grow_qubits(lam_pauli_set *s, int nqubits);
  * (as stored: merge first for the one-norm of the operator). */
 double lam_pauli_set_lambda(const lam_pauli_set *s);
 double lam_pauli_set_constant(const lam_pauli_set *s);
+/* Remove the non-identity terms with |c| <= tol (order kept); returns how
+ * many went and their one-norm in *norm_removed (may be NULL). */
+size_t lam_pauli_set_drop_small(lam_pauli_set *s, double tol, double *norm_removed);
 /* Merge repeated (string, group) pairs by hashing, in order of first
  * appearance; drop exact zeros when drop_zeros. */
 void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);

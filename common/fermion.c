@@ -1,0 +1,648 @@
+/* fermion.c - ladder terms, normal ordering, and Majorana monomials. */
+#include "fermion.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "util.h"
+
+/* The largest mode a stream may name. */
+#define LAM_MAX_MODES (1L << 20)
+
+/* ------------------------------------------------------------ spin order */
+
+const char *lam_spin_order_name(lam_spin_order o)
+{
+    return o == LAM_SPIN_BLOCKED ? "blocked" : "interleaved";
+}
+
+int lam_spin_order_parse(const char *name, lam_spin_order *o)
+{
+    if (strcmp(name, "interleaved") == 0) {
+        *o = LAM_SPIN_INTERLEAVED;
+        return 0;
+    }
+    if (strcmp(name, "blocked") == 0) {
+        *o = LAM_SPIN_BLOCKED;
+        return 0;
+    }
+    return -1;
+}
+
+lam_spin_order lam_reader_spin_order(lam_reader *r, lam_spin_order dflt)
+{
+    const lam_meta_entry *e = lam_meta_find(lam_reader_meta(r), "spin-order");
+    lam_spin_order o;
+    if (!e) return dflt;
+    if (lam_spin_order_parse(e->value, &o) != 0)
+        lam_reader_fail_line(r, e->line, "'spin-order: %s' is neither interleaved nor blocked",
+                             e->value);
+    return o;
+}
+
+/* ------------------------------------------------------------ ladder terms */
+
+void lam_fermion_init(lam_fermion_op *op, int nmodes)
+{
+    memset(op, 0, sizeof *op);
+    op->nmodes = nmodes;
+    op->cap = 16;
+    op->first = lam_malloc(lam_mul_size(op->cap + 1, sizeof(size_t)));
+    op->coef = lam_malloc(lam_mul_size(op->cap, sizeof(double)));
+    op->line = lam_malloc(lam_mul_size(op->cap, sizeof(long)));
+    op->first[0] = 0;
+}
+
+void lam_fermion_free(lam_fermion_op *op)
+{
+    free(op->first);
+    free(op->ops);
+    free(op->coef);
+    free(op->line);
+    memset(op, 0, sizeof *op);
+}
+
+void lam_fermion_add(lam_fermion_op *op, double coef, const int32_t *ops, int k,
+                     long line)
+{
+    if (op->count == op->cap) {
+        op->cap = lam_mul_size(op->cap, 2);
+        op->first = lam_realloc(op->first, lam_mul_size(op->cap + 1, sizeof(size_t)));
+        op->coef = lam_realloc(op->coef, lam_mul_size(op->cap, sizeof(double)));
+        op->line = lam_realloc(op->line, lam_mul_size(op->cap, sizeof(long)));
+    }
+    if (op->nops + (size_t)k > op->opcap) {
+        size_t cap = op->opcap ? op->opcap : 64;
+        while (cap < op->nops + (size_t)k) cap = lam_mul_size(cap, 2);
+        op->ops = lam_realloc(op->ops, lam_mul_size(cap, sizeof(int32_t)));
+        op->opcap = cap;
+    }
+    for (int i = 0; i < k; ++i) {
+        if (LAM_LADDER_MODE(ops[i]) >= op->nmodes)
+            lam_fail(LAM_EX_SOFTWARE, "internal: mode %d beyond %d modes",
+                     (int)LAM_LADDER_MODE(ops[i]), op->nmodes);
+        op->ops[op->nops + (size_t)i] = ops[i];
+    }
+    op->nops += (size_t)k;
+    op->coef[op->count] = coef;
+    op->line[op->count] = line;
+    op->first[++op->count] = op->nops;
+}
+
+/* "12+" -> creator of mode 12; -1 when the field is malformed. */
+static long parse_ladder(const char *tok)
+{
+    long mode = 0;
+    const char *p = tok;
+    if (*p < '0' || *p > '9') return -1;
+    if (*p == '0' && p[1] >= '0' && p[1] <= '9') return -1;
+    for (; *p >= '0' && *p <= '9'; ++p) {
+        mode = mode * 10 + (*p - '0');
+        if (mode >= LAM_MAX_MODES) return -1;
+    }
+    if ((*p != '+' && *p != '-') || p[1] != '\0') return -1;
+    return *p == '+' ? LAM_CREATE(mode) : LAM_ANNIHILATE(mode);
+}
+
+void lam_fermion_read(lam_reader *r, lam_fermion_op *op)
+{
+    long declared = lam_reader_meta_long(r, "modes", -1, 0, LAM_MAX_MODES);
+    lam_fermion_init(op, declared < 0 ? (int)LAM_MAX_MODES : (int)declared);
+    int32_t *buf = NULL;
+    int bufcap = 0;
+    int top = 0;
+    lam_line ln;
+    while (lam_reader_next(r, &ln)) {
+        if (ln.nfields > LAM_MAX_LADDER)
+            lam_reader_fail_line(r, ln.line, "a term has %d ladder operators (at most %d)",
+                                 ln.nfields, LAM_MAX_LADDER);
+        if (ln.nfields > bufcap) {
+            bufcap = ln.nfields;
+            buf = lam_realloc(buf, lam_mul_size((size_t)bufcap, sizeof *buf));
+        }
+        for (int f = 0; f < ln.nfields; ++f) {
+            long o = parse_ladder(ln.fields[f]);
+            if (o < 0)
+                lam_reader_fail_line(r, ln.line,
+                                     "'%s' is not a ladder operator (want N+ or N-)",
+                                     ln.fields[f]);
+            long mode = LAM_LADDER_MODE(o);
+            if (declared >= 0 && mode >= declared)
+                lam_reader_fail_line(r, ln.line,
+                                     "mode %ld out of range (the stream has %ld modes)",
+                                     mode, declared);
+            if (mode + 1 > top) top = (int)mode + 1;
+            buf[f] = (int32_t)o;
+        }
+        lam_fermion_add(op, ln.coef, buf, ln.nfields, ln.line);
+    }
+    free(buf);
+    if (declared < 0) op->nmodes = top;
+}
+
+void lam_fermion_write_terms(lam_writer *w, const lam_fermion_op *op)
+{
+    size_t cap = 256;
+    char *buf = lam_malloc(cap);
+    for (size_t t = 0; t < op->count; ++t) {
+        size_t len = 0;
+        for (size_t i = op->first[t]; i < op->first[t + 1]; ++i) {
+            if (len + 16 > cap) {
+                cap = lam_mul_size(cap, 2);
+                buf = lam_realloc(buf, cap);
+            }
+            len += (size_t)snprintf(buf + len, cap - len, "%s%d%c", len ? " " : "",
+                                    (int)LAM_LADDER_MODE(op->ops[i]),
+                                    LAM_LADDER_IS_CREATOR(op->ops[i]) ? '+' : '-');
+        }
+        buf[len] = '\0';
+        lam_writer_term(w, op->coef[t], buf);
+    }
+    free(buf);
+}
+
+/* ------------------------------------------------------------ normal order */
+
+/* Normal order as a sort key: creators (descending mode) before
+ * annihilators (ascending mode). */
+static long order_key(int32_t o)
+{
+    long mode = LAM_LADDER_MODE(o);
+    return LAM_LADDER_IS_CREATOR(o) ? -mode - 1 : mode + LAM_MAX_MODES;
+}
+
+typedef struct {
+    double coef;
+    long line;
+    int k;
+    int32_t ops[LAM_MAX_LADDER];
+} work_term;
+
+typedef struct {
+    work_term *items;
+    size_t count, cap;
+} work_stack;
+
+static void push(work_stack *st, const work_term *t)
+{
+    if (st->count == st->cap) {
+        st->cap = st->cap ? 2 * st->cap : 64;
+        st->items = lam_realloc(st->items, lam_mul_size(st->cap, sizeof *st->items));
+    }
+    st->items[st->count++] = *t;
+}
+
+/* Bit rows of normal-ordered terms: creator set, then annihilator set. */
+typedef struct {
+    int nw;
+    size_t count, cap;
+    uint64_t *rows;
+    double *coef;
+    long *line;
+    lam_rowhash index;
+} ordered_set;
+
+static void ordered_add(ordered_set *s, const work_term *t)
+{
+    size_t width = 2 * (size_t)s->nw;
+    if (s->count == s->cap) {
+        s->cap = s->cap ? 2 * s->cap : 64;
+        s->rows = lam_realloc(s->rows, lam_mul_size(s->cap, width * sizeof(uint64_t)));
+        s->coef = lam_realloc(s->coef, lam_mul_size(s->cap, sizeof(double)));
+        s->line = lam_realloc(s->line, lam_mul_size(s->cap, sizeof(long)));
+    }
+    uint64_t *row = s->rows + s->count * width;
+    memset(row, 0, width * sizeof(uint64_t));
+    for (int i = 0; i < t->k; ++i) {
+        int mode = (int)LAM_LADDER_MODE(t->ops[i]);
+        uint64_t *half = LAM_LADDER_IS_CREATOR(t->ops[i]) ? row : row + s->nw;
+        half[mode / 64] |= (uint64_t)1 << (mode % 64);
+    }
+    s->coef[s->count] = t->coef;
+    s->line[s->count] = t->line;
+    size_t k = lam_rowhash_insert(&s->index, s->rows, width, NULL, s->count);
+    if (k == s->count)
+        ++s->count;
+    else
+        s->coef[k] += t->coef;
+}
+
+/* Bubble the term into normal order; every swap of neighbours is a sign,
+ * and a_j a+_j = 1 - a+_j a_j leaves a shorter term behind. */
+static void normal_order_term(work_stack *st, ordered_set *out)
+{
+    while (st->count) {
+        work_term t = st->items[--st->count];
+        int i, swapped = 0;
+        for (i = 0; i + 1 < t.k; ++i) {
+            if (t.ops[i] == t.ops[i + 1]) break; /* a a = a+ a+ = 0 */
+            if (order_key(t.ops[i]) > order_key(t.ops[i + 1])) {
+                swapped = 1;
+                break;
+            }
+        }
+        if (i + 1 < t.k && !swapped) continue; /* a repeated operator: zero */
+        if (!swapped) {
+            if (t.coef != 0.0) ordered_add(out, &t);
+            continue;
+        }
+        int32_t a = t.ops[i], b = t.ops[i + 1];
+        if (LAM_LADDER_MODE(a) == LAM_LADDER_MODE(b) && !LAM_LADDER_IS_CREATOR(a) &&
+            LAM_LADDER_IS_CREATOR(b)) {
+            work_term d = t;
+            memmove(d.ops + i, d.ops + i + 2, (size_t)(t.k - i - 2) * sizeof(int32_t));
+            d.k -= 2;
+            push(st, &d);
+        }
+        t.ops[i] = b;
+        t.ops[i + 1] = a;
+        t.coef = -t.coef;
+        push(st, &t);
+    }
+}
+
+static int bit_is_set(const uint64_t *w, int j) { return (int)((w[j / 64] >> (j % 64)) & 1); }
+
+void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out)
+{
+    ordered_set set;
+    memset(&set, 0, sizeof set);
+    set.nw = lam_pauli_words(in->nmodes > 0 ? in->nmodes : 1);
+    lam_rowhash_init(&set.index);
+    work_stack st = {NULL, 0, 0};
+    for (size_t t = 0; t < in->count; ++t) {
+        work_term w;
+        size_t k = lam_fermion_length(in, t);
+        if (k > LAM_MAX_LADDER)
+            lam_fail(LAM_EX_SOFTWARE, "internal: a term of %zu ladder operators", k);
+        w.coef = in->coef[t];
+        w.line = in->line[t];
+        w.k = (int)k;
+        memcpy(w.ops, in->ops + in->first[t], k * sizeof(int32_t));
+        push(&st, &w);
+        normal_order_term(&st, &set);
+    }
+    free(st.items);
+    lam_rowhash_free(&set.index);
+
+    lam_fermion_init(out, in->nmodes);
+    int32_t *ops = lam_malloc(lam_mul_size((size_t)in->nmodes + 1, 2 * sizeof(int32_t)));
+    for (size_t t = 0; t < set.count; ++t) {
+        if (set.coef[t] == 0.0) continue;
+        const uint64_t *cre = set.rows + t * 2 * (size_t)set.nw, *ann = cre + set.nw;
+        int k = 0;
+        for (int j = in->nmodes - 1; j >= 0; --j)
+            if (bit_is_set(cre, j)) ops[k++] = LAM_CREATE(j);
+        for (int j = 0; j < in->nmodes; ++j)
+            if (bit_is_set(ann, j)) ops[k++] = LAM_ANNIHILATE(j);
+        lam_fermion_add(out, set.coef[t], ops, k, set.line[t]);
+    }
+    free(ops);
+    free(set.rows);
+    free(set.coef);
+    free(set.line);
+}
+
+/* ------------------------------------------------------------ from spinfree */
+
+void lam_fermion_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
+                               lam_fermion_op *out)
+{
+    int n = sf->n;
+    lam_fermion_init(out, 2 * n);
+    if (sf->e0 != 0.0) lam_fermion_add(out, sf->e0, NULL, 0, 0);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) {
+            double h = LAM_H(sf, p, q);
+            if (h == 0.0) continue;
+            for (int s = 0; s < 2; ++s) {
+                int32_t ops[2] = {LAM_CREATE(lam_spin_mode(order, n, p, s)),
+                                  LAM_ANNIHILATE(lam_spin_mode(order, n, q, s))};
+                lam_fermion_add(out, h, ops, 2, 0);
+            }
+        }
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s) {
+                    double g = LAM_G(sf, p, q, r, s);
+                    if (g == 0.0) continue;
+                    for (int a = 0; a < 2; ++a)
+                        for (int b = 0; b < 2; ++b) {
+                            /* e_pqrs = sum a+_pa a+_rb a_sb a_qa */
+                            int32_t ops[4] = {LAM_CREATE(lam_spin_mode(order, n, p, a)),
+                                              LAM_CREATE(lam_spin_mode(order, n, r, b)),
+                                              LAM_ANNIHILATE(lam_spin_mode(order, n, s, b)),
+                                              LAM_ANNIHILATE(lam_spin_mode(order, n, q, a))};
+                            if (ops[0] == ops[1] || ops[2] == ops[3]) continue;
+                            lam_fermion_add(out, 0.5 * g, ops, 4, 0);
+                        }
+                }
+}
+
+/* ------------------------------------------------------------ Majorana */
+
+void lam_majorana_init(lam_majorana_set *m, int nmodes)
+{
+    memset(m, 0, sizeof *m);
+    m->nmodes = nmodes;
+    m->nwords = lam_pauli_words(2 * nmodes > 0 ? 2 * nmodes : 1);
+    lam_rowhash_init(&m->index);
+}
+
+void lam_majorana_free(lam_majorana_set *m)
+{
+    free(m->bits);
+    free(m->re);
+    free(m->im);
+    free(m->mass);
+    free(m->line);
+    lam_rowhash_free(&m->index);
+    memset(m, 0, sizeof *m);
+}
+
+static void majorana_reserve(lam_majorana_set *m, size_t need)
+{
+    if (need <= m->cap) return;
+    size_t cap = m->cap ? m->cap : 256;
+    while (cap < need) cap = lam_mul_size(cap, 2);
+    m->bits = lam_realloc(m->bits, lam_mul_size(cap, (size_t)m->nwords * sizeof(uint64_t)));
+    m->re = lam_realloc(m->re, lam_mul_size(cap, sizeof(double)));
+    m->im = lam_realloc(m->im, lam_mul_size(cap, sizeof(double)));
+    m->mass = lam_realloc(m->mass, lam_mul_size(cap, sizeof(double)));
+    m->line = lam_realloc(m->line, lam_mul_size(cap, sizeof(long)));
+    m->cap = cap;
+}
+
+/* Insert a reduced monomial given as a bit row. */
+static void majorana_insert(lam_majorana_set *m, const uint64_t *row, double re, double im,
+                            long line)
+{
+    majorana_reserve(m, m->count + 1);
+    size_t nw = (size_t)m->nwords, c = m->count;
+    memcpy(m->bits + c * nw, row, nw * sizeof(uint64_t));
+    size_t k = lam_rowhash_insert(&m->index, m->bits, nw, NULL, c);
+    double mass = fabs(re) + fabs(im);
+    if (k == c) {
+        m->re[c] = re;
+        m->im[c] = im;
+        m->mass[c] = mass;
+        m->line[c] = line;
+        ++m->count;
+    } else {
+        m->re[k] += re;
+        m->im[k] += im;
+        m->mass[k] += mass;
+    }
+}
+
+/* Sort the indices into ascending order (each swap of distinct
+ * Majoranas is a sign) and cancel equal pairs (g^2 = 1).  Returns the
+ * sign. */
+static int reduce_monomial(int *idx, int k, uint64_t *row, int nw)
+{
+    int sign = 1;
+    for (int i = 1; i < k; ++i)
+        for (int j = i; j > 0 && idx[j - 1] > idx[j]; --j) {
+            int t = idx[j];
+            idx[j] = idx[j - 1];
+            idx[j - 1] = t;
+            sign = -sign;
+        }
+    memset(row, 0, (size_t)nw * sizeof(uint64_t));
+    for (int i = 0; i < k; ++i) row[idx[i] / 64] ^= (uint64_t)1 << (idx[i] % 64);
+    return sign;
+}
+
+void lam_majorana_add(lam_majorana_set *m, const int *idx, int k, double re, double im,
+                      long line)
+{
+    int local[2 * LAM_MAX_LADDER];
+    uint64_t rowbuf[8];
+    if (k > 2 * LAM_MAX_LADDER)
+        lam_fail(LAM_EX_SOFTWARE, "internal: Majorana product of %d factors", k);
+    uint64_t *row = m->nwords <= 8 ? rowbuf : lam_malloc((size_t)m->nwords * sizeof(uint64_t));
+    for (int i = 0; i < k; ++i) {
+        if (idx[i] < 0 || idx[i] >= 2 * m->nmodes)
+            lam_fail(LAM_EX_SOFTWARE, "internal: Majorana %d beyond %d modes", idx[i],
+                     m->nmodes);
+        local[i] = idx[i];
+    }
+    int sign = reduce_monomial(local, k, row, m->nwords);
+    majorana_insert(m, row, sign * re, sign * im, line);
+    if (row != rowbuf) free(row);
+}
+
+void lam_majorana_from_fermion(const lam_fermion_op *op, lam_majorana_set *m)
+{
+    lam_majorana_init(m, op->nmodes);
+    int idx[LAM_MAX_LADDER];
+    for (size_t t = 0; t < op->count; ++t) {
+        size_t k = lam_fermion_length(op, t);
+        const int32_t *ops = op->ops + op->first[t];
+        if (k > LAM_MAX_LADDER)
+            lam_fail(LAM_EX_SOFTWARE, "internal: a term of %zu ladder operators", k);
+        /* a_j = (g_2j + i g_2j+1)/2, a+_j = (g_2j - i g_2j+1)/2: choice bit 1
+         * picks g_2j+1 with its factor +-i */
+        for (unsigned long pick = 0; pick < (1UL << k); ++pick) {
+            double re = op->coef[t] / (double)(1UL << k), im = 0.0;
+            for (size_t i = 0; i < k; ++i) {
+                int j = (int)LAM_LADDER_MODE(ops[i]);
+                if ((pick >> i) & 1) {
+                    idx[i] = 2 * j + 1;
+                    /* multiply by +i (annihilator) or -i (creator) */
+                    double f = LAM_LADDER_IS_CREATOR(ops[i]) ? -1.0 : 1.0;
+                    double nre = -f * im, nim = f * re;
+                    re = nre;
+                    im = nim;
+                } else {
+                    idx[i] = 2 * j;
+                }
+            }
+            lam_majorana_add(m, idx, (int)k, re, im, op->line[t]);
+        }
+    }
+}
+
+void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
+                                lam_majorana_set *m)
+{
+    int n = sf->n;
+    lam_majorana_init(m, 2 * n);
+    /* Constant: e0 + sum_p h'_pp + 1/2 sum_pr (pp|rr) with
+     * h' = h - 1/2 sum_r (pr|rq); the coincident Majoranas of the
+     * two-body loop below add the rest. */
+    double constant = sf->e0;
+    for (int p = 0; p < n; ++p) {
+        constant += LAM_H(sf, p, p);
+        for (int r = 0; r < n; ++r)
+            constant += -0.5 * LAM_G(sf, p, r, r, p) + 0.5 * LAM_G(sf, p, p, r, r);
+    }
+    lam_majorana_add(m, NULL, 0, constant, 0.0, 0);
+    /* One-body: (i/2) t_pq g_2(p,s) g_2(q,s)+1 with
+     * t_pq = h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq). */
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) {
+            double t = LAM_H(sf, p, q);
+            for (int r = 0; r < n; ++r) t += LAM_G(sf, p, q, r, r) - 0.5 * LAM_G(sf, p, r, r, q);
+            if (t == 0.0) continue;
+            for (int s = 0; s < 2; ++s) {
+                int idx[2] = {2 * lam_spin_mode(order, n, p, s),
+                              2 * lam_spin_mode(order, n, q, s) + 1};
+                lam_majorana_add(m, idx, 2, 0.0, 0.5 * t, 0);
+            }
+        }
+    /* Two-body: -1/8 (pq|rs) g_2(p,a) g_2(q,a)+1 g_2(r,b) g_2(s,b)+1. */
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s) {
+                    double g = LAM_G(sf, p, q, r, s);
+                    if (g == 0.0) continue;
+                    for (int a = 0; a < 2; ++a)
+                        for (int b = 0; b < 2; ++b) {
+                            int idx[4] = {2 * lam_spin_mode(order, n, p, a),
+                                          2 * lam_spin_mode(order, n, q, a) + 1,
+                                          2 * lam_spin_mode(order, n, r, b),
+                                          2 * lam_spin_mode(order, n, s, b) + 1};
+                            lam_majorana_add(m, idx, 4, -0.125 * g, 0.0, 0);
+                        }
+                }
+}
+
+static double spinfree_scale(const lam_spinfree *sf)
+{
+    size_t nn = (size_t)sf->n * (size_t)sf->n;
+    double big = 0.0;
+    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
+    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
+    return big;
+}
+
+void lam_majorana_from_spinfree_any(const lam_spinfree *sf, lam_spin_order order,
+                                    lam_majorana_set *m)
+{
+    if (lam_spinfree_real_symmetry_error(sf) <= 1e-14 * spinfree_scale(sf)) {
+        lam_majorana_from_spinfree(sf, order, m);
+        return;
+    }
+    lam_fermion_op op;
+    lam_fermion_from_spinfree(sf, order, &op);
+    lam_majorana_from_fermion(&op, m);
+    lam_fermion_free(&op);
+}
+
+int lam_majorana_degree(const lam_majorana_set *m, size_t t)
+{
+    const uint64_t *row = m->bits + t * (size_t)m->nwords;
+    int d = 0;
+    for (int w = 0; w < m->nwords; ++w) d += __builtin_popcountll(row[w]);
+    return d;
+}
+
+/* Hermitian coefficients are real for degree 0,1 mod 4 and imaginary for
+ * 2,3 mod 4, because (g_S)+ = (-1)^(k(k-1)/2) g_S. */
+static int imaginary_phase(int degree) { return (degree % 4) >= 2; }
+
+void lam_majorana_require_hermitian(lam_majorana_set *m, const char *src)
+{
+    for (size_t t = 0; t < m->count; ++t) {
+        double *wrong = imaginary_phase(lam_majorana_degree(m, t)) ? &m->re[t] : &m->im[t];
+        if (fabs(*wrong) > 1e-12 * m->mass[t] && *wrong != 0.0)
+            lam_fail_at(LAM_EX_DATA, src, m->line[t],
+                        "the operator is not Hermitian: this term's conjugate is missing or "
+                        "has another coefficient (anti-Hermitian part %.3g)",
+                        fabs(*wrong));
+        *wrong = 0.0;
+    }
+}
+
+double lam_majorana_value(const lam_majorana_set *m, size_t t)
+{
+    return imaginary_phase(lam_majorana_degree(m, t)) ? m->im[t] : m->re[t];
+}
+
+double lam_majorana_lambda(const lam_majorana_set *m)
+{
+    double sum = 0.0;
+    for (size_t t = 0; t < m->count; ++t)
+        if (lam_majorana_degree(m, t) > 0) sum += fabs(lam_majorana_value(m, t));
+    return sum;
+}
+
+double lam_majorana_constant(const lam_majorana_set *m)
+{
+    double sum = 0.0;
+    for (size_t t = 0; t < m->count; ++t)
+        if (lam_majorana_degree(m, t) == 0) sum += m->re[t];
+    return sum;
+}
+
+/* ------------------------------------------------------------ streams */
+
+void lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_order to)
+{
+    if (from == to) return;
+    if (op->nmodes % 2)
+        lam_fail(LAM_EX_DATA, "%d modes cannot be relabelled by spin (an odd count)",
+                 op->nmodes);
+    int n = op->nmodes / 2;
+    for (size_t i = 0; i < op->nops; ++i) {
+        int j = (int)LAM_LADDER_MODE(op->ops[i]);
+        int p = from == LAM_SPIN_INTERLEAVED ? j / 2 : j % n;
+        int s = from == LAM_SPIN_INTERLEAVED ? j % 2 : j / n;
+        int k = lam_spin_mode(to, n, p, s);
+        op->ops[i] = LAM_LADDER_IS_CREATOR(op->ops[i]) ? LAM_CREATE(k) : LAM_ANNIHILATE(k);
+    }
+}
+
+/* The first pair of entries that breaks h_pq = h_qp or
+ * (pq|rs) = (qp|sr), named for the user. */
+static void require_hermitian_spinfree(const lam_spinfree *sf, const char *src)
+{
+    int n = sf->n;
+    double tol = 1e-12 * (spinfree_scale(sf) > 1.0 ? spinfree_scale(sf) : 1.0);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            if (fabs(LAM_H(sf, p, q) - LAM_H(sf, q, p)) > tol)
+                lam_fail_at(LAM_EX_DATA, src, 0,
+                            "the operator is not Hermitian: term '%d %d' has coefficient "
+                            "%.17g but '%d %d' has %.17g",
+                            p, q, LAM_H(sf, p, q), q, p, LAM_H(sf, q, p));
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s)
+                    if (fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, s, r)) > tol)
+                        lam_fail_at(LAM_EX_DATA, src, 0,
+                                    "the operator is not Hermitian: (%d %d|%d %d) = %.17g but "
+                                    "(%d %d|%d %d) = %.17g",
+                                    p, q, r, s, LAM_G(sf, p, q, r, s), q, p, s, r,
+                                    LAM_G(sf, q, p, s, r));
+}
+
+lam_spin_order lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
+                                 lam_majorana_set *m)
+{
+    const char *src = lam_reader_name(r);
+    lam_spin_order stream_order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+    lam_spin_order out = order ? *order : stream_order;
+    if (kind == LAM_KIND_SPINFREE) {
+        lam_spinfree *sf = lam_spinfree_read(r);
+        require_hermitian_spinfree(sf, src);
+        lam_majorana_from_spinfree_any(sf, out, m);
+        lam_spinfree_free(sf);
+    } else if (kind == LAM_KIND_FERMION) {
+        lam_fermion_op op;
+        lam_fermion_read(r, &op);
+        lam_fermion_relabel_spin(&op, stream_order, out);
+        lam_majorana_from_fermion(&op, m);
+        lam_fermion_free(&op);
+    } else {
+        lam_fail_at(LAM_EX_DATA, src, 0, "a %s stream cannot be read as fermion operators",
+                    lam_kind_name(kind));
+    }
+    lam_majorana_require_hermitian(m, src);
+    return out;
+}
