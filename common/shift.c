@@ -1,0 +1,460 @@
+/* shift.c - the symmetry shift: parameters, its operator, its L1 problem.
+ *
+ * Everything here rests on three affine maps from the parameters to the
+ * coefficients of K over spin orbitals (spin s = +1/2 up, -1/2 down):
+ *   one-body  k^s_pq   = (a1 + a2 + b1 s + b2 s^2) d_pq + (1 - N0) xi_pq
+ *                        + (s - S0) zeta_pq
+ *   two-body  k^st_pqrs (of 1/2 a+_ps a+_rt a_st a_qs)
+ *                      = (2 a2 + 2 b2 s t) d_pq d_rs + (xi_pq + t zeta_pq) d_rs
+ *                        + d_pq (xi_rs + s zeta_rs)
+ *   and the one-body part of the Majorana form,
+ *   T^s_pq = k^s_pq + 1/2 sum_rt k^st_pqrr - 1/2 sum_r k^ss_prrq
+ *          = (a1 + 2 n a2 + tr xi + b1 s) d_pq + (n - N0) xi_pq - S0 zeta_pq
+ * (n orbitals).  The spin sums vanish for the zeta and b2 parts of T
+ * because the two spins cancel.
+ */
+#include "shift.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "util.h"
+
+/* ---- terms ---- */
+
+static const struct {
+    const char *name;
+    unsigned bit;
+} term_names[] = {
+    {"a1", LAM_SHIFT_A1},     {"a2", LAM_SHIFT_A2},
+    {"xi", LAM_SHIFT_XI},     {"xi-diag", LAM_SHIFT_XI_DIAG},
+    {"b1", LAM_SHIFT_B1},     {"b2", LAM_SHIFT_B2},
+    {"zeta", LAM_SHIFT_ZETA}, {"zeta-diag", LAM_SHIFT_ZETA_DIAG},
+};
+
+int lam_shift_parse_terms(const char *list, unsigned *mask)
+{
+    unsigned m = 0;
+    const char *s = list;
+    while (*s) {
+        size_t len = strcspn(s, ",");
+        int found = 0;
+        for (size_t i = 0; i < sizeof term_names / sizeof term_names[0]; ++i)
+            if (strlen(term_names[i].name) == len && strncmp(s, term_names[i].name, len) == 0) {
+                m |= term_names[i].bit;
+                found = 1;
+            }
+        if (!found) return -1;
+        s += len;
+        if (*s == ',') ++s;
+    }
+    *mask = m;
+    return 0;
+}
+
+static void terms_to_string(unsigned mask, char *buf, size_t size)
+{
+    size_t len = 0;
+    buf[0] = '\0';
+    for (size_t i = 0; i < sizeof term_names / sizeof term_names[0]; ++i)
+        if (mask & term_names[i].bit)
+            len += (size_t)snprintf(buf + len, size - len, "%s%s", len ? "," : "",
+                                    term_names[i].name);
+}
+
+/* ---- parameters ---- */
+
+static int *symmetric_index(int n, int *next, int all, int diag)
+{
+    int *idx = lam_malloc(lam_mul_size((size_t)n * n + 1, sizeof *idx));
+    for (int p = 0; p < n; ++p)
+        for (int q = p; q < n; ++q) {
+            int use = all || (diag && p == q);
+            idx[p * n + q] = idx[q * n + p] = use ? (*next)++ : -1;
+        }
+    return idx;
+}
+
+lam_shift *lam_shift_new(int n, int electrons, int ms2, unsigned terms)
+{
+    lam_shift *k = lam_calloc(1, sizeof *k);
+    k->n = n;
+    k->electrons = electrons;
+    k->ms2 = ms2;
+    k->terms = terms;
+    int next = 0;
+    k->ia1 = terms & LAM_SHIFT_A1 ? next++ : -1;
+    k->ia2 = terms & LAM_SHIFT_A2 ? next++ : -1;
+    k->ixi = symmetric_index(n, &next, terms & LAM_SHIFT_XI, terms & LAM_SHIFT_XI_DIAG);
+    k->ib1 = terms & LAM_SHIFT_B1 ? next++ : -1;
+    k->ib2 = terms & LAM_SHIFT_B2 ? next++ : -1;
+    k->izeta = symmetric_index(n, &next, terms & LAM_SHIFT_ZETA, terms & LAM_SHIFT_ZETA_DIAG);
+    k->nparams = next;
+    k->x = lam_calloc((size_t)next + 1, sizeof *k->x);
+    return k;
+}
+
+void lam_shift_free(lam_shift *k)
+{
+    if (!k) return;
+    free(k->ixi);
+    free(k->izeta);
+    free(k->x);
+    free(k);
+}
+
+int lam_shift_has_spin(const lam_shift *k) { return (k->terms & LAM_SHIFT_SPIN_TERMS) != 0; }
+
+static double value_at(const lam_shift *k, int idx) { return idx >= 0 ? k->x[idx] : 0; }
+double lam_shift_a1(const lam_shift *k) { return value_at(k, k->ia1); }
+double lam_shift_a2(const lam_shift *k) { return value_at(k, k->ia2); }
+double lam_shift_b1(const lam_shift *k) { return value_at(k, k->ib1); }
+double lam_shift_b2(const lam_shift *k) { return value_at(k, k->ib2); }
+double lam_shift_xi(const lam_shift *k, int p, int q) { return value_at(k, k->ixi[p * k->n + q]); }
+double lam_shift_zeta(const lam_shift *k, int p, int q)
+{
+    return value_at(k, k->izeta[p * k->n + q]);
+}
+
+static double target_sz(const lam_shift *k) { return 0.5 * k->ms2; }
+
+double lam_shift_constant(const lam_shift *k)
+{
+    double n0 = k->electrons, s0 = target_sz(k);
+    return -lam_shift_a1(k) * n0 - lam_shift_a2(k) * n0 * n0 - lam_shift_b1(k) * s0 -
+           lam_shift_b2(k) * s0 * s0;
+}
+
+/* ---- affine forms: sum_i val[i] x[idx[i]] ---- */
+
+typedef struct {
+    int n, cap;
+    int *idx;
+    double *val;
+} affine;
+
+static void affine_init(affine *a, int cap)
+{
+    a->n = 0;
+    a->cap = cap;
+    a->idx = lam_malloc(lam_mul_size((size_t)cap, sizeof *a->idx));
+    a->val = lam_malloc(lam_mul_size((size_t)cap, sizeof *a->val));
+}
+
+static void affine_free(affine *a)
+{
+    free(a->idx);
+    free(a->val);
+}
+
+static void affine_add(affine *a, int idx, double v)
+{
+    if (idx < 0 || v == 0) return;
+    for (int i = 0; i < a->n; ++i)
+        if (a->idx[i] == idx) {
+            a->val[i] += v;
+            return;
+        }
+    if (a->n == a->cap) lam_fail(LAM_EX_SOFTWARE, "shift: affine form overflow");
+    a->idx[a->n] = idx;
+    a->val[a->n++] = v;
+}
+
+/* Drop entries that cancelled and sort by parameter, so that symmetric
+ * elements evaluate in the same order and stay bitwise symmetric. */
+static void affine_tidy(affine *a)
+{
+    int m = 0;
+    for (int i = 0; i < a->n; ++i)
+        if (a->val[i] != 0) {
+            a->idx[m] = a->idx[i];
+            a->val[m++] = a->val[i];
+        }
+    a->n = m;
+    for (int i = 1; i < a->n; ++i)
+        for (int j = i; j > 0 && a->idx[j - 1] > a->idx[j]; --j) {
+            int ti = a->idx[j];
+            a->idx[j] = a->idx[j - 1];
+            a->idx[j - 1] = ti;
+            double tv = a->val[j];
+            a->val[j] = a->val[j - 1];
+            a->val[j - 1] = tv;
+        }
+}
+
+static double affine_eval(affine *a, const double *x)
+{
+    affine_tidy(a);
+    double s = 0;
+    for (int i = 0; i < a->n; ++i) s += a->val[i] * x[a->idx[i]];
+    return s;
+}
+
+static double spin_of(int sigma) { return sigma == 0 ? 0.5 : -0.5; }
+
+/* k^s_pq: one-body coefficient of K for spin sigma. */
+static void one_body_form(const lam_shift *k, int sigma, int p, int q, affine *a)
+{
+    int n = k->n;
+    double s = spin_of(sigma);
+    if (p == q) {
+        affine_add(a, k->ia1, 1);
+        affine_add(a, k->ia2, 1);
+        affine_add(a, k->ib1, s);
+        affine_add(a, k->ib2, s * s);
+    }
+    affine_add(a, k->ixi[p * n + q], 1.0 - k->electrons);
+    affine_add(a, k->izeta[p * n + q], s - target_sz(k));
+}
+
+/* k^st_pqrs: two-body coefficient of K (of 1/2 a+_ps a+_rt a_st a_qs). */
+static void two_body_form(const lam_shift *k, int sigma, int tau, int p, int q, int r,
+                          int s, double sign, affine *a)
+{
+    int n = k->n;
+    double ss = spin_of(sigma), st = spin_of(tau);
+    if (p == q && r == s) {
+        affine_add(a, k->ia2, 2 * sign);
+        affine_add(a, k->ib2, 2 * ss * st * sign);
+    }
+    if (r == s) {
+        affine_add(a, k->ixi[p * n + q], sign);
+        affine_add(a, k->izeta[p * n + q], st * sign);
+    }
+    if (p == q) {
+        affine_add(a, k->ixi[r * n + s], sign);
+        affine_add(a, k->izeta[r * n + s], ss * sign);
+    }
+}
+
+/* T^s_pq of K: the one-body coefficient of its Majorana form. */
+static void majorana_one_body_form(const lam_shift *k, int sigma, int p, int q, affine *a)
+{
+    int n = k->n;
+    if (p == q) {
+        affine_add(a, k->ia1, 1);
+        affine_add(a, k->ia2, 2.0 * n);
+        for (int r = 0; r < n; ++r) affine_add(a, k->ixi[r * n + r], 1);
+        affine_add(a, k->ib1, spin_of(sigma));
+    }
+    affine_add(a, k->ixi[p * n + q], (double)(n - k->electrons));
+    affine_add(a, k->izeta[p * n + q], -target_sz(k));
+}
+
+/* ---- the L1 problem ---- */
+
+typedef struct {
+    lam_l1_problem *lp;
+    double fixed;
+} lp_builder;
+
+static void emit(lp_builder *b, double weight, double base, affine *a)
+{
+    affine_tidy(a);
+    if (a->n == 0)
+        b->fixed += weight * fabs(base);
+    else
+        lam_l1_add_row(b->lp, weight, base, a->n, a->idx, a->val);
+    a->n = 0;
+}
+
+static double majorana_one_body(const lam_spinfree *h, int p, int q)
+{
+    double t = LAM_H(h, p, q);
+    for (int r = 0; r < h->n; ++r) t += LAM_G(h, p, q, r, r) - 0.5 * LAM_G(h, p, r, r, q);
+    return t;
+}
+
+/* lambda = 1/2 sum_s sum_pq |T^s_pq|
+ *        + 1/4 sum_pqrs |g^ud_pqrs|                       (opposite spins)
+ *        + 1/4 sum_s sum_{p>r,q>s} |g^ss_pqrs - g^ss_psrq|  (equal spins)
+ * over spin-resolved coefficients; without spin terms the two spins are
+ * equal and are summed into one row each. */
+void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k, lam_l1_problem *lp,
+                        double *fixed)
+{
+    int n = h->n;
+    if (n != k->n) lam_fail(LAM_EX_SOFTWARE, "shift: orbital counts differ");
+    int spins = lam_shift_has_spin(k) ? 2 : 1;
+    double wspin = spins == 2 ? 0.5 : 1.0;
+    lam_l1_init(lp, k->nparams);
+    lp_builder b = {lp, 0};
+    affine a;
+    affine_init(&a, 2 * n + 16);
+
+    for (int sigma = 0; sigma < spins; ++sigma)
+        for (int p = 0; p < n; ++p)
+            for (int q = 0; q < n; ++q) {
+                majorana_one_body_form(k, sigma, p, q, &a);
+                emit(&b, wspin, majorana_one_body(h, p, q), &a);
+            }
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s) {
+                    double g = LAM_G(h, p, q, r, s);
+                    if (p != q && r != s) {
+                        b.fixed += 0.25 * fabs(g);
+                        continue;
+                    }
+                    two_body_form(k, 0, 1, p, q, r, s, 1, &a);
+                    emit(&b, 0.25, g, &a);
+                }
+    for (int sigma = 0; sigma < spins; ++sigma)
+        for (int p = 0; p < n; ++p)
+            for (int r = 0; r < p; ++r)
+                for (int q = 0; q < n; ++q)
+                    for (int s = 0; s < q; ++s) {
+                        double g = LAM_G(h, p, q, r, s) - LAM_G(h, p, s, r, q);
+                        if (p != q && r != s && p != s && r != q) {
+                            b.fixed += 0.5 * wspin * fabs(g);
+                            continue;
+                        }
+                        two_body_form(k, sigma, sigma, p, q, r, s, 1, &a);
+                        two_body_form(k, sigma, sigma, p, s, r, q, -1, &a);
+                        emit(&b, 0.5 * wspin, g, &a);
+                    }
+    affine_free(&a);
+    *fixed = b.fixed;
+}
+
+/* ---- the operators ---- */
+
+lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k)
+{
+    if (lam_shift_has_spin(k))
+        lam_fail(LAM_EX_SOFTWARE, "shift: spin terms make a spin-free form impossible");
+    int n = k->n;
+    lam_spinfree *out;
+    double sign;
+    if (h) {
+        out = lam_spinfree_clone(h);
+        sign = -1;
+    } else {
+        out = lam_spinfree_new(n);
+        out->electrons = k->electrons;
+        out->ms2 = k->ms2;
+        sign = 1;
+    }
+    affine a;
+    affine_init(&a, 2 * n + 16);
+    out->e0 += sign * lam_shift_constant(k);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) {
+            a.n = 0;
+            one_body_form(k, 0, p, q, &a);
+            LAM_H(out, p, q) += sign * affine_eval(&a, k->x);
+        }
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s) {
+                    if (p != q && r != s) continue;
+                    a.n = 0;
+                    two_body_form(k, 0, 1, p, q, r, s, 1, &a);
+                    LAM_G(out, p, q, r, s) += sign * affine_eval(&a, k->x);
+                }
+    affine_free(&a);
+    return out;
+}
+
+void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,
+                             lam_spin_order order, lam_fermion_op *out)
+{
+    int n = k->n;
+    double sign = h ? -1 : 1;
+    lam_fermion_op raw;
+    lam_fermion_init(&raw, 2 * n);
+    affine a;
+    affine_init(&a, 2 * n + 16);
+    double e0 = (h ? h->e0 : 0) + sign * lam_shift_constant(k);
+    lam_fermion_add(&raw, e0, NULL, 0, 0);
+    for (int sigma = 0; sigma < 2; ++sigma)
+        for (int p = 0; p < n; ++p)
+            for (int q = 0; q < n; ++q) {
+                a.n = 0;
+                one_body_form(k, sigma, p, q, &a);
+                double c = (h ? LAM_H(h, p, q) : 0) + sign * affine_eval(&a, k->x);
+                int32_t ops[2] = {LAM_CREATE(lam_spin_mode(order, n, p, sigma)),
+                                  LAM_ANNIHILATE(lam_spin_mode(order, n, q, sigma))};
+                if (c != 0) lam_fermion_add(&raw, c, ops, 2, 0);
+            }
+    for (int sigma = 0; sigma < 2; ++sigma)
+        for (int tau = 0; tau < 2; ++tau)
+            for (int p = 0; p < n; ++p)
+                for (int q = 0; q < n; ++q)
+                    for (int r = 0; r < n; ++r)
+                        for (int s = 0; s < n; ++s) {
+                            a.n = 0;
+                            two_body_form(k, sigma, tau, p, q, r, s, 1, &a);
+                            double c = (h ? LAM_G(h, p, q, r, s) : 0) +
+                                       sign * affine_eval(&a, k->x);
+                            if (c == 0) continue;
+                            int32_t ops[4] = {LAM_CREATE(lam_spin_mode(order, n, p, sigma)),
+                                              LAM_CREATE(lam_spin_mode(order, n, r, tau)),
+                                              LAM_ANNIHILATE(lam_spin_mode(order, n, s, tau)),
+                                              LAM_ANNIHILATE(lam_spin_mode(order, n, q, sigma))};
+                            lam_fermion_add(&raw, 0.5 * c, ops, 4, 0);
+                        }
+    affine_free(&a);
+    lam_fermion_normal_order(&raw, out);
+    lam_fermion_free(&raw);
+}
+
+/* ---- metadata ---- */
+
+static void remove_shift_keys(lam_meta *meta)
+{
+    for (;;) {
+        const char *found = NULL;
+        for (size_t i = 0; i < meta->count; ++i)
+            if (strncmp(meta->items[i].key, "shift-", 6) == 0) {
+                found = meta->items[i].key;
+                break;
+            }
+        if (!found) return;
+        char *key = lam_strdup(found);
+        lam_meta_remove(meta, key);
+        free(key);
+    }
+}
+
+static void add_number(lam_meta *meta, const char *key, double v)
+{
+    char buf[LAM_DOUBLE_BUF];
+    lam_format_double(buf, sizeof buf, v);
+    lam_meta_add(meta, key, buf);
+}
+
+static void add_matrix(lam_meta *meta, const char *key, const lam_shift *k, const int *idx)
+{
+    int n = k->n;
+    for (int p = 0; p < n; ++p)
+        for (int q = p; q < n; ++q) {
+            double v = value_at(k, idx[p * n + q]);
+            if (v == 0) continue;
+            char buf[LAM_DOUBLE_BUF], line[LAM_DOUBLE_BUF + 32];
+            lam_format_double(buf, sizeof buf, v);
+            snprintf(line, sizeof line, "%d %d %s", p, q, buf);
+            lam_meta_add(meta, key, line);
+        }
+}
+
+void lam_shift_describe(const lam_shift *k, lam_meta *meta)
+{
+    remove_shift_keys(meta);
+    char terms[128];
+    terms_to_string(k->terms, terms, sizeof terms);
+    lam_meta_add(meta, "shift-terms", terms);
+    lam_meta_setf(meta, "shift-electrons", "%d", k->electrons);
+    if (lam_shift_has_spin(k)) lam_meta_setf(meta, "shift-ms2", "%d", k->ms2);
+    add_number(meta, "shift-a1", lam_shift_a1(k));
+    add_number(meta, "shift-a2", lam_shift_a2(k));
+    add_matrix(meta, "shift-xi", k, k->ixi);
+    if (lam_shift_has_spin(k)) {
+        add_number(meta, "shift-b1", lam_shift_b1(k));
+        add_number(meta, "shift-b2", lam_shift_b2(k));
+        add_matrix(meta, "shift-zeta", k, k->izeta);
+    }
+}

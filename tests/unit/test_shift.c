@@ -1,0 +1,199 @@
+/* test_shift.c - the shift's L1 rows against one-norms computed without
+ * them: the spin-free closed form of the shifted operator
+ * (lam_spinfree_lambda, Koridon et al., PRR 3, 033127 (2021)) and, with
+ * spin terms, the merged Majorana expansion of its ladder terms. */
+#include <stdlib.h>
+#include <string.h>
+
+#include "fermion.h"
+#include "lp.h"
+#include "shift.h"
+#include "tap.h"
+
+static unsigned long long rng_state = 0x9E3779B97F4A7C15ULL;
+static double uniform(void)
+{
+    rng_state ^= rng_state << 13;
+    rng_state ^= rng_state >> 7;
+    rng_state ^= rng_state << 17;
+    return (double)(rng_state >> 11) / 9007199254740992.0 * 2 - 1;
+}
+
+/* Random operator with the 8-fold symmetry of real integrals. */
+static lam_spinfree *random_operator(int n, int electrons)
+{
+    lam_spinfree *h = lam_spinfree_new(n);
+    h->electrons = electrons;
+    h->e0 = uniform();
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q) LAM_H(h, p, q) = LAM_H(h, q, p) = uniform();
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s <= r; ++s) {
+                    if (r * n + s > p * n + q) continue;
+                    double v = 0.3 * uniform();
+                    int idx[8][4] = {{p, q, r, s}, {q, p, r, s}, {p, q, s, r}, {q, p, s, r},
+                                     {r, s, p, q}, {s, r, p, q}, {r, s, q, p}, {s, r, q, p}};
+                    for (int i = 0; i < 8; ++i)
+                        LAM_G(h, idx[i][0], idx[i][1], idx[i][2], idx[i][3]) = v;
+                }
+    return h;
+}
+
+static void randomize(lam_shift *k)
+{
+    for (int j = 0; j < k->nparams; ++j) k->x[j] = 0.5 * uniform();
+}
+
+static void rows_match_closed_form(int n, int electrons, unsigned terms, const char *what)
+{
+    lam_spinfree *h = random_operator(n, electrons);
+    lam_shift *k = lam_shift_new(n, electrons, 0, terms);
+    lam_l1_problem lp;
+    double fixed;
+    lam_shift_build_lp(h, k, &lp, &fixed);
+    char name[160];
+    snprintf(name, sizeof name, "%s: rows at x = 0 give lambda(H)", what);
+    tap_near(fixed + lam_l1_objective(&lp, k->x), lam_spinfree_lambda(h), 1e-12, name);
+    for (int trial = 0; trial < 3; ++trial) {
+        randomize(k);
+        lam_spinfree *hk = lam_shift_apply(h, k);
+        snprintf(name, sizeof name, "%s: rows at random x give lambda(H - K)", what);
+        tap_near(fixed + lam_l1_objective(&lp, k->x), lam_spinfree_lambda(hk), 1e-12, name);
+        snprintf(name, sizeof name, "%s: H - K keeps the real 8-fold symmetry", what);
+        tap_ok(lam_spinfree_real_symmetry_error(hk) == 0 &&
+                   lam_spinfree_hermiticity_error(hk) == 0, name);
+        lam_spinfree_free(hk);
+    }
+    lam_l1_free(&lp);
+    lam_shift_free(k);
+    lam_spinfree_free(h);
+}
+
+/* K as a spin-free operator against K built from its definition:
+ * a1 (N - N0) + a2 (N^2 - N0^2) + sum xi_pq E_pq (N - N0), using only
+ * E_pq E_rs = e_pqrs + d_qr E_ps (common practice, the definition of
+ * e_pqrs). */
+static void operator_matches_definition(void)
+{
+    int n = 3, n0 = 2;
+    lam_shift *k = lam_shift_new(n, n0, 0, LAM_SHIFT_DEFAULT);
+    randomize(k);
+    lam_spinfree *kk = lam_shift_apply(NULL, k);
+    lam_spinfree *ref = lam_spinfree_new(n);
+    double a1 = lam_shift_a1(k), a2 = lam_shift_a2(k);
+    ref->e0 = -a1 * n0 - a2 * n0 * n0;
+    for (int p = 0; p < n; ++p) {
+        LAM_H(ref, p, p) += a1 + a2; /* a1 N, and N^2 = sum e_pprr + N */
+        for (int r = 0; r < n; ++r) lam_spinfree_add_two(ref, p, p, r, r, a2);
+    }
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) {
+            double xi = lam_shift_xi(k, p, q);
+            /* xi E_pq N = xi sum_r (e_pqrr + d_qr E_pr) */
+            LAM_H(ref, p, q) += xi * (1 - n0);
+            for (int r = 0; r < n; ++r) {
+                LAM_G(ref, p, q, r, r) += xi;
+                LAM_G(ref, r, r, p, q) += xi;
+            }
+        }
+    double worst = fabs(kk->e0 - ref->e0);
+    for (int i = 0; i < n * n; ++i) worst = fmax(worst, fabs(kk->h[i] - ref->h[i]));
+    for (int i = 0; i < n * n * n * n; ++i) worst = fmax(worst, fabs(kk->g[i] - ref->g[i]));
+    tap_near(worst, 0, 1e-14, "K in spin-free form equals its definition");
+    lam_spinfree_free(ref);
+    lam_spinfree_free(kk);
+    lam_shift_free(k);
+}
+
+static double majorana_lambda_of(const lam_fermion_op *op)
+{
+    lam_majorana_set m;
+    lam_majorana_init(&m, op->nmodes);
+    lam_majorana_from_fermion(op, &m);
+    lam_majorana_require_hermitian(&m, "test");
+    double l = lam_majorana_lambda(&m);
+    lam_majorana_free(&m);
+    return l;
+}
+
+/* With spin terms the rows use a spin-resolved closed form; the merged
+ * Majorana expansion of the ladder terms knows nothing of it. */
+static void spin_rows_match_majorana(int ms2)
+{
+    int n = 3, n0 = 3;
+    lam_spinfree *h = random_operator(n, n0);
+    lam_shift *k = lam_shift_new(n, n0, ms2, LAM_SHIFT_DEFAULT | LAM_SHIFT_SPIN_DEFAULT);
+    lam_l1_problem lp;
+    double fixed;
+    lam_shift_build_lp(h, k, &lp, &fixed);
+    for (int trial = 0; trial < 2; ++trial) {
+        randomize(k);
+        lam_fermion_op op;
+        lam_shift_apply_fermion(h, k, LAM_SPIN_INTERLEAVED, &op);
+        double want = majorana_lambda_of(&op);
+        char name[96];
+        snprintf(name, sizeof name, "spin terms (2Sz = %d): rows give the Majorana lambda", ms2);
+        tap_near(fixed + lam_l1_objective(&lp, k->x), want, 1e-12 * want, name);
+        lam_fermion_free(&op);
+    }
+    /* and with x = 0 the fermion form is H itself */
+    memset(k->x, 0, (size_t)k->nparams * sizeof *k->x);
+    lam_fermion_op op;
+    lam_shift_apply_fermion(h, k, LAM_SPIN_BLOCKED, &op);
+    tap_near(majorana_lambda_of(&op), lam_spinfree_lambda(h), 1e-12, "x = 0: fermion form has lambda(H)");
+    lam_fermion_free(&op);
+    lam_l1_free(&lp);
+    lam_shift_free(k);
+    lam_spinfree_free(h);
+}
+
+/* The optimum never exceeds lambda(H) (x = 0 is feasible) and the
+ * solver's certificate brackets the value of the operator it returns. */
+static void optimum_brackets(void)
+{
+    lam_spinfree *h = random_operator(5, 4);
+    lam_shift *k = lam_shift_new(5, 4, 0, LAM_SHIFT_DEFAULT);
+    lam_l1_problem lp;
+    double fixed;
+    lam_shift_build_lp(h, k, &lp, &fixed);
+    lam_l1_options opt;
+    lam_l1_default_options(&opt);
+    opt.offset = fixed;
+    lam_l1_result res;
+    int st = lam_l1_solve(&lp, &opt, NULL, NULL, k->x, &res);
+    lam_spinfree *hk = lam_shift_apply(h, k);
+    double after = lam_spinfree_lambda(hk);
+    tap_ok(st == 0, "random 5-orbital operator: solver converged");
+    tap_ok(after < lam_spinfree_lambda(h), "shift lowers lambda");
+    tap_near(after, fixed + res.primal, 1e-12 * after, "returned operator has the primal value");
+    tap_ok(fixed + res.dual <= after && after - (fixed + res.dual) <= 1e-10 * after,
+           "certified gap below 1e-10 relative");
+    lam_spinfree_free(hk);
+    lam_l1_free(&lp);
+    lam_shift_free(k);
+    lam_spinfree_free(h);
+}
+
+static void parse_terms(void)
+{
+    unsigned m;
+    tap_ok(lam_shift_parse_terms("a1,a2,xi", &m) == 0 && m == LAM_SHIFT_DEFAULT, "parse a1,a2,xi");
+    tap_ok(lam_shift_parse_terms("xi-diag,b1", &m) == 0 &&
+               m == (LAM_SHIFT_XI_DIAG | LAM_SHIFT_B1), "parse xi-diag,b1");
+    tap_ok(lam_shift_parse_terms("a1,a3", &m) == -1, "unknown term refused");
+}
+
+int main(void)
+{
+    parse_terms();
+    rows_match_closed_form(4, 2, LAM_SHIFT_DEFAULT, "a1,a2,xi");
+    rows_match_closed_form(4, 4, LAM_SHIFT_DEFAULT, "n = N0");
+    rows_match_closed_form(3, 1, LAM_SHIFT_A1 | LAM_SHIFT_XI_DIAG, "a1,xi-diag");
+    operator_matches_definition();
+    spin_rows_match_majorana(0);
+    spin_rows_match_majorana(1);
+    optimum_brackets();
+    return tap_done();
+}
