@@ -1,0 +1,910 @@
+/* group.c - anticommuting (or commuting) grouping of Pauli terms.
+ *
+ * Terms are processed by decreasing |c|.  A group keeps copies of its
+ * members' bit strings next to each other, so testing a group touches one
+ * short run of memory.
+ *
+ * The index.  Read back through the inverse Jordan-Wigner map, every Pauli
+ * string is (up to phase) a product of Majorana operators gamma_A over a
+ * set A of the 2n Majorana indices, and gamma_A, gamma_B anticommute
+ * exactly when |A||B| + |A n B| is odd.  When |A||B| is even (molecular
+ * Hamiltonians are sums of even monomials) anticommuting sets must
+ * intersect.  So a term P can only join a group whose first two members
+ * a1, a2 both meet A_P: the group is filed under every pair (i, j) with
+ * i in a1, j in a2, and P looks at the lists of the |A_P|^2 pairs drawn
+ * from its own set.  For Jordan-Wigner streams of molecules (|A| <= 4) that
+ * is a small fraction of all groups; for other encodings the sets are
+ * wider, the filter weaker, and the result the same.  The map is a linear
+ * bijection preserving commutation, so it is exact for any input.
+ */
+#include "group.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "util.h"
+
+/* Anchors with more Majorana indices than this are not filed by index. */
+#define DEG_MAX 16
+#define PAIR_ENTRIES_MAX 64
+/* Pair lists are kept while (2 * 64 * words)^2 lists stay this small. */
+#define PAIR_MAJORANAS_MAX 1024
+/* A share below this fraction of its term's coefficient is folded into
+ * the term's largest share. */
+#define SPLIT_DROP 1e-10
+/* A term joins at most this many groups when split. */
+#define SPLIT_GROUPS_MAX 32
+#define NONE UINT32_MAX
+
+typedef struct {
+    uint32_t *v;
+    uint32_t n, cap;
+} u32vec;
+
+static void u32_push(u32vec *a, uint32_t x)
+{
+    if (a->n == a->cap) {
+        a->cap = a->cap ? 2 * a->cap : 4;
+        a->v = lam_realloc(a->v, lam_mul_size(a->cap, sizeof *a->v));
+    }
+    a->v[a->n++] = x;
+}
+
+enum filing { FILED_NONE, FILED_SINGLE, FILED_PAIRS, FILED_WIDE };
+
+typedef struct {
+    uint32_t *ids;  /* term ranks; positions 0 and 1 are the anchors */
+    uint64_t *bits; /* the members' strings, 2 nw words each, same order */
+    uint32_t size, cap;
+    double weight;  /* sum of c^2 */
+    uint8_t filing;
+    uint8_t odd;    /* an anchor of odd Majorana degree */
+} group;
+
+typedef struct {
+    int nw, want_anti;
+    size_t nterms;
+    const uint64_t *tbits; /* term strings by rank (|c| decreasing) */
+    const double *tc;
+    uint32_t *home, *pos;
+    group *g;
+    uint32_t ng, gcap;
+    /* index (anticommuting mode) */
+    int use_index, use_pairs, M;
+    u32vec *single, *pair, wide, odd;
+    uint32_t *stamp, now;
+    u32vec found; /* groups that admit the term of the last query */
+} engine;
+
+/* ---------------------------------------------------------------- bits */
+
+static inline int anticommute(int nw, const uint64_t *p, const uint64_t *q)
+{
+    if (nw == 1) return __builtin_parityll((p[0] & q[1]) ^ (p[1] & q[0]));
+    uint64_t acc = 0;
+    for (int w = 0; w < nw; ++w) acc ^= (p[w] & q[nw + w]) ^ (p[nw + w] & q[w]);
+    return __builtin_parityll(acc);
+}
+
+/* Majorana indices of the string (inverse Jordan-Wigner): qubit j gives
+ * 2j when z_j ^ x_j ^ S_j, and 2j+1 when z_j ^ S_j, with S_j the parity of
+ * the x bits above j.  Fills at most max indices; returns the degree. */
+static int majorana_set(int nw, const uint64_t *xz, int *idx, int max)
+{
+    int n = 0;
+    uint64_t carry = 0; /* parity of the x bits in higher words, broadcast */
+    for (int w = nw - 1; w >= 0; --w) {
+        uint64_t x = xz[w], z = xz[nw + w];
+        uint64_t s = x; /* bit j: parity of x bits j..63 of this word */
+        s ^= s >> 1;
+        s ^= s >> 2;
+        s ^= s >> 4;
+        s ^= s >> 8;
+        s ^= s >> 16;
+        s ^= s >> 32;
+        uint64_t above = (s >> 1) ^ carry;
+        uint64_t even = z ^ x ^ above, oddm = z ^ above;
+        for (uint64_t m = even; m; m &= m - 1) {
+            if (n < max) idx[n] = 2 * (64 * w + __builtin_ctzll(m));
+            ++n;
+        }
+        for (uint64_t m = oddm; m; m &= m - 1) {
+            if (n < max) idx[n] = 2 * (64 * w + __builtin_ctzll(m)) + 1;
+            ++n;
+        }
+        carry = ((s ^ carry) & 1) ? ~(uint64_t)0 : 0;
+    }
+    return n;
+}
+
+/* ---------------------------------------------------------------- groups */
+
+static const uint64_t *term_bits(const engine *e, uint32_t t)
+{
+    return e->tbits + (size_t)t * 2 * (size_t)e->nw;
+}
+
+static int admits(const engine *e, const group *g, const uint64_t *p)
+{
+    const uint64_t *b = g->bits;
+    size_t stride = 2 * (size_t)e->nw;
+    for (uint32_t m = 0; m < g->size; ++m, b += stride)
+        if (anticommute(e->nw, p, b) != e->want_anti) return 0;
+    return g->size > 0;
+}
+
+static void file_single(engine *e, uint32_t gi)
+{
+    group *g = &e->g[gi];
+    int idx[DEG_MAX];
+    int d = majorana_set(e->nw, g->bits, idx, DEG_MAX);
+    g->odd = (uint8_t)(d & 1);
+    if (g->odd) u32_push(&e->odd, gi);
+    if (d > DEG_MAX) {
+        g->filing = FILED_WIDE;
+        u32_push(&e->wide, gi);
+        return;
+    }
+    g->filing = FILED_SINGLE;
+    for (int k = 0; k < d; ++k) u32_push(&e->single[idx[k]], gi);
+}
+
+static void file_pairs(engine *e, uint32_t gi)
+{
+    group *g = &e->g[gi];
+    if (g->filing != FILED_SINGLE || !e->use_pairs) return;
+    int a[DEG_MAX], b[DEG_MAX];
+    int da = majorana_set(e->nw, g->bits, a, DEG_MAX);
+    int db = majorana_set(e->nw, g->bits + 2 * (size_t)e->nw, b, DEG_MAX);
+    if ((db & 1) && !g->odd) {
+        g->odd = 1;
+        u32_push(&e->odd, gi);
+    }
+    if (db > DEG_MAX || da * db > PAIR_ENTRIES_MAX) {
+        g->filing = FILED_WIDE;
+        u32_push(&e->wide, gi);
+        return;
+    }
+    g->filing = FILED_PAIRS;
+    for (int i = 0; i < da; ++i)
+        for (int j = 0; j < db; ++j)
+            u32_push(&e->pair[(size_t)a[i] * (size_t)e->M + (size_t)b[j]], gi);
+}
+
+static void add_member(engine *e, uint32_t gi, uint32_t t)
+{
+    group *g = &e->g[gi];
+    size_t stride = 2 * (size_t)e->nw;
+    if (g->size == g->cap) {
+        g->cap = g->cap ? 2 * g->cap : 4;
+        g->ids = lam_realloc(g->ids, lam_mul_size(g->cap, sizeof *g->ids));
+        g->bits = lam_realloc(g->bits, lam_mul_size(g->cap, stride * sizeof(uint64_t)));
+    }
+    memcpy(g->bits + g->size * stride, term_bits(e, t), stride * sizeof(uint64_t));
+    g->ids[g->size] = t;
+    e->home[t] = gi;
+    e->pos[t] = g->size;
+    g->size++;
+    g->weight += e->tc[t] * e->tc[t];
+    if (e->use_index && g->size == 2) file_pairs(e, gi);
+}
+
+static uint32_t new_group(engine *e, uint32_t t)
+{
+    if (e->ng == e->gcap) {
+        uint32_t cap = e->gcap ? 2 * e->gcap : 1024;
+        e->g = lam_realloc(e->g, lam_mul_size(cap, sizeof *e->g));
+        e->stamp = lam_realloc(e->stamp, lam_mul_size(cap, sizeof *e->stamp));
+        memset(e->g + e->gcap, 0, (cap - e->gcap) * sizeof *e->g);
+        memset(e->stamp + e->gcap, 0, (cap - e->gcap) * sizeof *e->stamp);
+        e->gcap = cap;
+    }
+    uint32_t gi = e->ng++;
+    add_member(e, gi, t);
+    if (e->use_index) file_single(e, gi);
+    return gi;
+}
+
+/* Remove a member that is not an anchor of a group of two or more. */
+static void remove_member(engine *e, uint32_t t)
+{
+    uint32_t gi = e->home[t], p = e->pos[t];
+    group *g = &e->g[gi];
+    size_t stride = 2 * (size_t)e->nw;
+    uint32_t last = g->size - 1;
+    if (p != last) {
+        uint32_t moved = g->ids[last];
+        g->ids[p] = moved;
+        memcpy(g->bits + p * stride, g->bits + last * stride, stride * sizeof(uint64_t));
+        e->pos[moved] = p;
+    }
+    g->size--;
+    g->weight -= e->tc[t] * e->tc[t];
+    if (g->size == 0 || g->weight < 0) g->weight = 0;
+    e->home[t] = NONE;
+}
+
+static void recompute_weights(engine *e)
+{
+    for (uint32_t gi = 0; gi < e->ng; ++gi) {
+        group *g = &e->g[gi];
+        double w = 0;
+        for (uint32_t m = 0; m < g->size; ++m) w += e->tc[g->ids[m]] * e->tc[g->ids[m]];
+        g->weight = w;
+    }
+}
+
+/* ---------------------------------------------------------------- queries */
+
+static void consider(engine *e, uint32_t gi, const uint64_t *p, uint32_t exclude)
+{
+    if (e->stamp[gi] == e->now) return;
+    e->stamp[gi] = e->now;
+    if (gi == exclude) return;
+    if (admits(e, &e->g[gi], p)) u32_push(&e->found, gi);
+}
+
+/* Single lists drop groups that moved on to pair lists or died. */
+static void scan_single(engine *e, u32vec *list, const uint64_t *p, uint32_t exclude)
+{
+    uint32_t keep = 0;
+    for (uint32_t k = 0; k < list->n; ++k) {
+        uint32_t gi = list->v[k];
+        const group *g = &e->g[gi];
+        if (g->size == 0 || g->filing != FILED_SINGLE) continue;
+        list->v[keep++] = gi;
+        consider(e, gi, p, exclude);
+    }
+    list->n = keep;
+}
+
+static void scan_list(engine *e, const u32vec *list, const uint64_t *p, uint32_t exclude)
+{
+    for (uint32_t k = 0; k < list->n; ++k) consider(e, list->v[k], p, exclude);
+}
+
+/* Every group (other than exclude) that admits p, into e->found. */
+static void query(engine *e, const uint64_t *p, uint32_t exclude)
+{
+    e->found.n = 0;
+    if (++e->now == 0) {
+        memset(e->stamp, 0, e->gcap * sizeof *e->stamp);
+        e->now = 1;
+    }
+    int idx[DEG_MAX];
+    int d = e->use_index ? majorana_set(e->nw, p, idx, DEG_MAX) : 0;
+    if (!e->use_index || d > DEG_MAX || (uint32_t)(d * d) > e->ng) {
+        for (uint32_t gi = 0; gi < e->ng; ++gi) consider(e, gi, p, exclude);
+        return;
+    }
+    for (int i = 0; i < d; ++i) scan_single(e, &e->single[idx[i]], p, exclude);
+    if (e->use_pairs)
+        for (int i = 0; i < d; ++i)
+            for (int j = 0; j < d; ++j)
+                scan_list(e, &e->pair[(size_t)idx[i] * (size_t)e->M + (size_t)idx[j]], p,
+                          exclude);
+    scan_list(e, &e->wide, p, exclude);
+    if (d & 1) scan_list(e, &e->odd, p, exclude);
+}
+
+/* The heaviest admitting group (ties: the oldest), or NONE. */
+static uint32_t heaviest_found(const engine *e)
+{
+    uint32_t best = NONE;
+    for (uint32_t k = 0; k < e->found.n; ++k) {
+        uint32_t gi = e->found.v[k];
+        if (best == NONE || e->g[gi].weight > e->g[best].weight ||
+            (e->g[gi].weight == e->g[best].weight && gi < best))
+            best = gi;
+    }
+    return best;
+}
+
+static uint32_t oldest_found(const engine *e)
+{
+    uint32_t best = NONE;
+    for (uint32_t k = 0; k < e->found.n; ++k)
+        if (e->found.v[k] < best) best = e->found.v[k];
+    return best;
+}
+
+/* ---------------------------------------------------------------- phases */
+
+static double grouped_norm(const engine *e)
+{
+    double sum = 0;
+    for (uint32_t gi = 0; gi < e->ng; ++gi) sum += sqrt(e->g[gi].weight);
+    return sum;
+}
+
+static void progress_every(double *next, const char *what, size_t done, size_t total)
+{
+    if (!lam_progress_enabled()) return;
+    double now = lam_seconds();
+    if (now < *next) return;
+    *next = now + 1.0;
+    lam_progress("%s: %zu of %zu terms", what, done, total);
+}
+
+static void greedy(engine *e, lam_group_method method)
+{
+    double next = lam_seconds() + 1.0;
+    for (size_t t = 0; t < e->nterms; ++t) {
+        query(e, term_bits(e, (uint32_t)t), NONE);
+        uint32_t gi = method == LAM_GROUP_SORTED ? oldest_found(e) : heaviest_found(e);
+        if (gi == NONE)
+            new_group(e, (uint32_t)t);
+        else
+            add_member(e, gi, (uint32_t)t);
+        if ((t & 4095) == 0) progress_every(&next, "grouping", t, e->nterms);
+    }
+}
+
+/* Change of sum_g sqrt(w_g) when c^2 moves from group a to group b. */
+static double move_gain(double wa, double wb, double c2)
+{
+    double rest = wa - c2 > 0 ? wa - c2 : 0;
+    return (sqrt(wa) - sqrt(rest)) - (sqrt(wb + c2) - sqrt(wb));
+}
+
+/* One pass of moves; returns the fall of lambda_grouped. */
+static double refine_pass(engine *e)
+{
+    double fall = 0, next = lam_seconds() + 1.0;
+    for (size_t t = 0; t < e->nterms; ++t) {
+        if ((t & 4095) == 0) progress_every(&next, "refining", t, e->nterms);
+        uint32_t a = e->home[t];
+        group *ga = &e->g[a];
+        if (ga->size >= 2 && e->pos[t] < 2) continue; /* anchors stay */
+        query(e, term_bits(e, (uint32_t)t), a);
+        uint32_t b = heaviest_found(e);
+        if (b == NONE) continue;
+        double c2 = e->tc[t] * e->tc[t];
+        double gain = move_gain(ga->weight, e->g[b].weight, c2);
+        /* strict improvement, above rounding, so passes cannot cycle */
+        if (gain <= 1e-14 * (sqrt(ga->weight) + sqrt(e->g[b].weight))) continue;
+        remove_member(e, (uint32_t)t);
+        add_member(e, b, (uint32_t)t);
+        fall += gain;
+    }
+    recompute_weights(e);
+    return fall;
+}
+
+/* ---------------------------------------------------------------- split */
+
+typedef struct {
+    size_t *start;    /* memberships of term t: start[t] .. start[t+1] */
+    uint32_t *gid;
+    double *share;
+    size_t count;
+} shares;
+
+/* Home group first, then every group that admits the term next to its core
+ * and the extras given to it before (so each group stays anticommuting). */
+static void collect_memberships(engine *e, int split, shares *sh)
+{
+    size_t cap = e->nterms + 16;
+    sh->start = lam_malloc(lam_mul_size(e->nterms + 1, sizeof *sh->start));
+    sh->gid = lam_malloc(lam_mul_size(cap, sizeof *sh->gid));
+    sh->count = 0;
+    double next = lam_seconds() + 1.0;
+    for (size_t t = 0; t < e->nterms; ++t) {
+        sh->start[t] = sh->count;
+        size_t need = sh->count + 1 + (split ? SPLIT_GROUPS_MAX : 0);
+        if (need > cap) {
+            while (cap < need) cap = lam_mul_size(cap, 2);
+            sh->gid = lam_realloc(sh->gid, lam_mul_size(cap, sizeof *sh->gid));
+        }
+        uint32_t home = e->home[t];
+        sh->gid[sh->count++] = home;
+        if (!split || e->tc[t] == 0) continue;
+        const uint64_t *p = term_bits(e, (uint32_t)t);
+        query(e, p, home);
+        int taken = 0;
+        for (uint32_t k = 0; k < e->found.n && taken < SPLIT_GROUPS_MAX; ++k) {
+            uint32_t gi = e->found.v[k];
+            /* an extra joins the member list so later terms are tested
+             * against it; weights stay those of the cores */
+            double w = e->g[gi].weight;
+            uint32_t keep_home = e->home[t], keep_pos = e->pos[t];
+            add_member(e, gi, (uint32_t)t);
+            e->g[gi].weight = w;
+            e->home[t] = keep_home;
+            e->pos[t] = keep_pos;
+            sh->gid[sh->count++] = gi;
+            ++taken;
+        }
+        if ((t & 4095) == 0) progress_every(&next, "splitting", t, e->nterms);
+    }
+    sh->start[e->nterms] = sh->count;
+    sh->share = lam_malloc(lam_mul_size(sh->count ? sh->count : 1, sizeof *sh->share));
+    for (size_t t = 0; t < e->nterms; ++t) sh->share[sh->start[t]] = e->tc[t];
+    for (size_t t = 0; t < e->nterms; ++t)
+        for (size_t k = sh->start[t] + 1; k < sh->start[t + 1]; ++k) sh->share[k] = 0;
+}
+
+/* Shares proportional to the group norms: the minimizer of the weighted
+ * least-squares majorant sum_g ||c_g||^2 / (2 n_g) of sum_g ||c_g||, so
+ * every step lowers the objective (majorization-minimization). */
+static void irls_step(const engine *e, shares *sh, const double *norm, double *acc)
+{
+    memset(acc, 0, e->ng * sizeof *acc);
+    for (size_t t = 0; t < e->nterms; ++t) {
+        size_t a = sh->start[t], b = sh->start[t + 1];
+        if (b - a == 1) {
+            acc[sh->gid[a]] += e->tc[t] * e->tc[t];
+            sh->share[a] = e->tc[t];
+            continue;
+        }
+        double den = 0;
+        for (size_t k = a; k < b; ++k) den += norm[sh->gid[k]];
+        for (size_t k = a; k < b; ++k) {
+            double s = den > 0 ? e->tc[t] * norm[sh->gid[k]] / den
+                               : (k == a ? e->tc[t] : 0.0);
+            sh->share[k] = s;
+            acc[sh->gid[k]] += s * s;
+        }
+    }
+}
+
+/* Dual bound: y_t = c_t / sum of the norms of its groups, scaled so that
+ * every group's ||y_g|| <= 1, gives sum_t y_t c_t <= the optimal split. */
+static double split_bound(const engine *e, const shares *sh, const double *norm, double *acc)
+{
+    memset(acc, 0, e->ng * sizeof *acc);
+    double value = 0;
+    for (size_t t = 0; t < e->nterms; ++t) {
+        double den = 0;
+        for (size_t k = sh->start[t]; k < sh->start[t + 1]; ++k) den += norm[sh->gid[k]];
+        if (den <= 0) continue;
+        double y = e->tc[t] / den;
+        value += y * e->tc[t];
+        for (size_t k = sh->start[t]; k < sh->start[t + 1]; ++k) acc[sh->gid[k]] += y * y;
+    }
+    double worst = 0;
+    for (uint32_t gi = 0; gi < e->ng; ++gi)
+        if (acc[gi] > worst) worst = acc[gi];
+    return worst > 0 ? value / sqrt(worst) : 0;
+}
+
+static int optimize_split(const engine *e, shares *sh, int iterations, double *bound)
+{
+    double *norm = lam_malloc(lam_mul_size(e->ng ? e->ng : 1, sizeof *norm));
+    double *acc = lam_malloc(lam_mul_size(e->ng ? e->ng : 1, sizeof *acc));
+    for (uint32_t gi = 0; gi < e->ng; ++gi) norm[gi] = sqrt(e->g[gi].weight);
+    double prev = HUGE_VAL;
+    int it;
+    for (it = 0; it < iterations; ++it) {
+        irls_step(e, sh, norm, acc);
+        double obj = 0;
+        for (uint32_t gi = 0; gi < e->ng; ++gi) obj += (norm[gi] = sqrt(acc[gi]));
+        if (prev - obj <= 1e-13 * obj) {
+            ++it;
+            break;
+        }
+        prev = obj;
+    }
+    *bound = split_bound(e, sh, norm, acc);
+    free(norm);
+    free(acc);
+    return it;
+}
+
+/* Fold negligible shares into the largest one, which takes whatever the
+ * others leave so that the shares add up to the coefficient. */
+static void tidy_shares(const engine *e, shares *sh)
+{
+    for (size_t t = 0; t < e->nterms; ++t) {
+        size_t a = sh->start[t], b = sh->start[t + 1], big = a;
+        if (b - a == 1) continue;
+        for (size_t k = a; k < b; ++k)
+            if (fabs(sh->share[k]) > fabs(sh->share[big])) big = k;
+        double rest = e->tc[t];
+        for (size_t k = a; k < b; ++k) {
+            if (k == big) continue;
+            if (fabs(sh->share[k]) <= SPLIT_DROP * fabs(e->tc[t]))
+                sh->share[k] = 0;
+            rest -= sh->share[k];
+        }
+        sh->share[big] = rest;
+    }
+}
+
+/* ---------------------------------------------------------------- output */
+
+typedef struct {
+    double norm;
+    uint32_t id;
+} ranked;
+
+static int by_norm_desc(const void *pa, const void *pb)
+{
+    const ranked *a = pa, *b = pb;
+    if (a->norm != b->norm) return a->norm > b->norm ? -1 : 1;
+    return (a->id > b->id) - (a->id < b->id);
+}
+
+/* A share folded away by tidy_shares is no line; a term whose coefficient
+ * is zero keeps its one line in its home group. */
+static int is_line(const engine *e, const shares *sh, size_t t, size_t k)
+{
+    return sh->share[k] != 0 || (e->tc[t] == 0 && k == sh->start[t]);
+}
+
+/* Emit the groups by decreasing norm. */
+static void emit(const engine *e, const shares *sh, const lam_pauli_set *in,
+                 const size_t *rank_to_term, lam_pauli_set *out, lam_group_stats *st)
+{
+    uint32_t ng = e->ng;
+    double *norm2 = lam_calloc(ng ? ng : 1, sizeof *norm2);
+    uint32_t *count = lam_calloc(ng ? ng : 1, sizeof *count);
+    for (size_t t = 0; t < e->nterms; ++t) {
+        int lines = 0;
+        for (size_t k = sh->start[t]; k < sh->start[t + 1]; ++k) {
+            if (!is_line(e, sh, t, k)) continue;
+            norm2[sh->gid[k]] += sh->share[k] * sh->share[k];
+            count[sh->gid[k]]++;
+            ++lines;
+        }
+        if (lines > 1) st->shared_terms++;
+        st->lines += (size_t)lines;
+    }
+    ranked *order = lam_malloc(lam_mul_size(ng ? ng : 1, sizeof *order));
+    uint32_t live = 0;
+    for (uint32_t gi = 0; gi < ng; ++gi)
+        if (count[gi]) order[live++] = (ranked){sqrt(norm2[gi]), gi};
+    qsort(order, live, sizeof *order, by_norm_desc);
+    uint32_t *label = lam_malloc(lam_mul_size(ng ? ng : 1, sizeof *label));
+    size_t *first = lam_malloc(lam_mul_size((size_t)live + 1, sizeof *first));
+    first[0] = 0;
+    for (uint32_t k = 0; k < live; ++k) {
+        label[order[k].id] = k;
+        first[k + 1] = first[k] + count[order[k].id];
+        if (count[order[k].id] > st->largest_group) st->largest_group = count[order[k].id];
+    }
+    /* place every line at its group's next slot, terms in rank order */
+    size_t *slot_term = lam_malloc(lam_mul_size(st->lines ? st->lines : 1, sizeof *slot_term));
+    double *slot_coef = lam_malloc(lam_mul_size(st->lines ? st->lines : 1, sizeof *slot_coef));
+    size_t *fill = lam_malloc(lam_mul_size((size_t)live + 1, sizeof *fill));
+    memcpy(fill, first, ((size_t)live + 1) * sizeof *fill);
+    for (size_t t = 0; t < e->nterms; ++t)
+        for (size_t k = sh->start[t]; k < sh->start[t + 1]; ++k) {
+            if (!is_line(e, sh, t, k)) continue;
+            size_t at = fill[label[sh->gid[k]]]++;
+            slot_term[at] = rank_to_term[t];
+            slot_coef[at] = sh->share[k];
+        }
+    lam_pauli_set_reserve(out, out->count + st->lines);
+    for (uint32_t k = 0; k < live; ++k)
+        for (size_t at = first[k]; at < first[k + 1]; ++at)
+            lam_pauli_set_add(out, lam_pauli_x(in, slot_term[at]), lam_pauli_z(in, slot_term[at]),
+                              slot_coef[at], (int32_t)k);
+    st->groups = live;
+    free(norm2);
+    free(count);
+    free(order);
+    free(label);
+    free(first);
+    free(slot_term);
+    free(slot_coef);
+    free(fill);
+}
+
+/* ---------------------------------------------------------------- driver */
+
+void lam_group_options_default(lam_group_options *opt)
+{
+    opt->method = LAM_GROUP_BEST;
+    opt->refine_passes = 8;
+    opt->split = 1;
+    opt->split_iterations = 200;
+    opt->commuting = 0;
+}
+
+int lam_group_method_parse(const char *name, lam_group_method *method)
+{
+    if (strcmp(name, "sorted") == 0) *method = LAM_GROUP_SORTED;
+    else if (strcmp(name, "best") == 0) *method = LAM_GROUP_BEST;
+    else return -1;
+    return 0;
+}
+
+const char *lam_group_method_name(lam_group_method method)
+{
+    return method == LAM_GROUP_SORTED ? "sorted" : "best";
+}
+
+typedef struct {
+    double mag;
+    size_t term;
+} by_mag;
+
+static int by_mag_desc(const void *pa, const void *pb)
+{
+    const by_mag *a = pa, *b = pb;
+    if (a->mag != b->mag) return a->mag > b->mag ? -1 : 1;
+    return (a->term > b->term) - (a->term < b->term);
+}
+
+static void engine_init(engine *e, const lam_pauli_set *in, const lam_group_options *opt,
+                        size_t nterms)
+{
+    memset(e, 0, sizeof *e);
+    e->nw = in->nwords;
+    e->want_anti = !opt->commuting;
+    e->nterms = nterms;
+    e->home = lam_malloc(lam_mul_size(nterms ? nterms : 1, sizeof *e->home));
+    e->pos = lam_malloc(lam_mul_size(nterms ? nterms : 1, sizeof *e->pos));
+    e->use_index = !opt->commuting;
+    if (e->use_index) {
+        e->M = 128 * e->nw;
+        e->use_pairs = e->M <= PAIR_MAJORANAS_MAX;
+        e->single = lam_calloc((size_t)e->M, sizeof *e->single);
+        if (e->use_pairs)
+            e->pair = lam_calloc(lam_mul_size((size_t)e->M, (size_t)e->M), sizeof *e->pair);
+    }
+}
+
+static void engine_free(engine *e)
+{
+    for (uint32_t gi = 0; gi < e->ng; ++gi) {
+        free(e->g[gi].ids);
+        free(e->g[gi].bits);
+    }
+    free(e->g);
+    free(e->stamp);
+    free(e->home);
+    free(e->pos);
+    if (e->single)
+        for (int i = 0; i < e->M; ++i) free(e->single[i].v);
+    if (e->pair)
+        for (size_t i = 0; i < (size_t)e->M * (size_t)e->M; ++i) free(e->pair[i].v);
+    free(e->single);
+    free(e->pair);
+    free(e->wide.v);
+    free(e->odd.v);
+    free(e->found.v);
+}
+
+void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
+                     lam_pauli_set *out, lam_group_stats *st)
+{
+    memset(st, 0, sizeof *st);
+    int nw = in->nwords;
+    size_t stride = 2 * (size_t)nw;
+    lam_pauli_set_init(out, in->nqubits);
+    lam_pauli_set_grow_qubits(out, in->nqubits);
+
+    /* the identity stays unlabelled, first; the rest by decreasing |c| */
+    by_mag *sorted = lam_malloc(lam_mul_size(in->count ? in->count : 1, sizeof *sorted));
+    size_t n = 0;
+    for (size_t t = 0; t < in->count; ++t) {
+        if (lam_pauli_is_identity(nw, lam_pauli_x(in, t), lam_pauli_z(in, t))) {
+            st->constant += in->coef[t];
+            lam_pauli_set_add(out, lam_pauli_x(in, t), lam_pauli_z(in, t), in->coef[t], -1);
+            continue;
+        }
+        sorted[n++] = (by_mag){fabs(in->coef[t]), t};
+        st->lambda += fabs(in->coef[t]);
+    }
+    if (n > (size_t)UINT32_MAX - 1)
+        lam_fail(LAM_EX_SOFTWARE, "%zu terms: more than lam-group can hold", n);
+    qsort(sorted, n, sizeof *sorted, by_mag_desc);
+    st->terms = n;
+
+    uint64_t *tbits = lam_malloc(lam_mul_size(n ? n : 1, stride * sizeof(uint64_t)));
+    double *tc = lam_malloc(lam_mul_size(n ? n : 1, sizeof *tc));
+    size_t *rank_to_term = lam_malloc(lam_mul_size(n ? n : 1, sizeof *rank_to_term));
+    for (size_t k = 0; k < n; ++k) {
+        size_t t = sorted[k].term;
+        memcpy(tbits + k * stride, lam_pauli_x(in, t), stride * sizeof(uint64_t));
+        tc[k] = in->coef[t];
+        rank_to_term[k] = t;
+    }
+    free(sorted);
+
+    engine e;
+    engine_init(&e, in, opt, n);
+    e.tbits = tbits;
+    e.tc = tc;
+    greedy(&e, opt->method);
+    recompute_weights(&e);
+    st->lambda_greedy = grouped_norm(&e);
+    st->lambda_refined = st->lambda_greedy;
+    for (int pass = 0; pass < opt->refine_passes; ++pass) {
+        double fall = refine_pass(&e);
+        st->refine_passes_done = pass + 1;
+        st->lambda_refined = grouped_norm(&e);
+        lam_progress("refinement pass %d: lambda_grouped %.12g Eh", pass + 1,
+                     st->lambda_refined);
+        if (fall <= 1e-12 * st->lambda_refined) break;
+    }
+
+    shares sh;
+    collect_memberships(&e, opt->split, &sh);
+    if (opt->split && sh.count > n) {
+        st->split_iterations_done =
+            optimize_split(&e, &sh, opt->split_iterations, &st->split_bound);
+        tidy_shares(&e, &sh);
+    }
+    emit(&e, &sh, in, rank_to_term, out, st);
+    st->lambda_grouped = lam_group_lambda(out, NULL);
+
+    free(sh.start);
+    free(sh.gid);
+    free(sh.share);
+    engine_free(&e);
+    free(tbits);
+    free(tc);
+    free(rank_to_term);
+}
+
+/* ---------------------------------------------------------------- labels */
+
+typedef struct {
+    int32_t label;
+    size_t term;
+} labelled;
+
+static int by_label(const void *pa, const void *pb)
+{
+    const labelled *a = pa, *b = pb;
+    if (a->label != b->label) return (a->label > b->label) - (a->label < b->label);
+    return (a->term > b->term) - (a->term < b->term);
+}
+
+/* Labelled non-identity-or-not terms sorted by (label, position): the
+ * members of each group in stream order.  Returns the count. */
+static size_t members_by_label(const lam_pauli_set *s, labelled **out)
+{
+    size_t n = 0;
+    labelled *v = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof *v));
+    for (size_t t = 0; s->group && t < s->count; ++t)
+        if (s->group[t] >= 0) v[n++] = (labelled){s->group[t], t};
+    qsort(v, n, sizeof *v, by_label);
+    *out = v;
+    return n;
+}
+
+double lam_group_lambda(const lam_pauli_set *s, size_t *groups)
+{
+    double sum = 0;
+    size_t ng = 0;
+    for (size_t t = 0; t < s->count; ++t)
+        if ((!s->group || s->group[t] < 0) &&
+            !lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t)))
+            sum += fabs(s->coef[t]);
+    labelled *v;
+    size_t n = members_by_label(s, &v);
+    for (size_t a = 0; a < n;) {
+        size_t b = a;
+        double w = 0;
+        while (b < n && v[b].label == v[a].label) {
+            w += s->coef[v[b].term] * s->coef[v[b].term];
+            ++b;
+        }
+        sum += sqrt(w);
+        ++ng;
+        a = b;
+    }
+    free(v);
+    if (groups) *groups = ng;
+    return sum;
+}
+
+static int same_string(const lam_pauli_set *s, size_t a, size_t b)
+{
+    return memcmp(lam_pauli_x(s, a), lam_pauli_x(s, b),
+                  2 * (size_t)s->nwords * sizeof(uint64_t)) == 0;
+}
+
+static int pair_anticommutes(const lam_pauli_set *s, size_t a, size_t b)
+{
+    return anticommute(s->nwords, lam_pauli_x(s, a), lam_pauli_x(s, b));
+}
+
+/* First member (by position) of an anticommuting group that commutes with
+ * an earlier distinct one.  Distinct members that pass are mutually
+ * anticommuting, so at most 2n+1 of them are kept before a failure. */
+static int check_anticommuting(const lam_pauli_set *s, const labelled *m, size_t k,
+                               size_t *first, size_t *second)
+{
+    size_t *distinct = lam_malloc(lam_mul_size(k, sizeof *distinct));
+    size_t nd = 0;
+    int bad = 0;
+    for (size_t i = 0; i < k && !bad; ++i) {
+        size_t t = m[i].term;
+        int repeat = 0;
+        for (size_t d = 0; d < nd; ++d) {
+            if (same_string(s, distinct[d], t)) {
+                repeat = 1; /* repeated lines of one term add up */
+                continue;
+            }
+            if (!pair_anticommutes(s, distinct[d], t)) {
+                *first = distinct[d];
+                *second = t;
+                bad = 1;
+                break;
+            }
+        }
+        if (!repeat && !bad) distinct[nd++] = t;
+    }
+    free(distinct);
+    return bad;
+}
+
+/* Mutually commuting strings span an isotropic subspace: a member commutes
+ * with all earlier ones exactly when it commutes with a basis of their
+ * span, which has at most n vectors, so long groups cost O(k n). */
+static int check_commuting(const lam_pauli_set *s, const labelled *m, size_t k,
+                           size_t *first, size_t *second)
+{
+    int nw = s->nwords;
+    size_t stride = 2 * (size_t)nw;
+    size_t maxbasis = (size_t)64 * stride;
+    uint64_t *basis = lam_malloc(lam_mul_size(maxbasis, stride * sizeof(uint64_t)));
+    int *pivot = lam_malloc(lam_mul_size(maxbasis, sizeof *pivot));
+    uint64_t *v = lam_malloc(stride * sizeof(uint64_t));
+    size_t nb = 0;
+    int bad = 0;
+    for (size_t i = 0; i < k && !bad; ++i) {
+        const uint64_t *p = lam_pauli_x(s, m[i].term);
+        for (size_t b = 0; b < nb; ++b)
+            if (anticommute(nw, p, basis + b * stride)) {
+                bad = 1;
+                break;
+            }
+        if (bad) {
+            for (size_t j = 0; j < i; ++j)
+                if (pair_anticommutes(s, m[j].term, m[i].term)) {
+                    *first = m[j].term;
+                    *second = m[i].term;
+                    break;
+                }
+            break;
+        }
+        memcpy(v, p, stride * sizeof(uint64_t));
+        for (size_t b = 0; b < nb; ++b)
+            if ((v[pivot[b] / 64] >> (pivot[b] % 64)) & 1)
+                for (size_t w = 0; w < stride; ++w) v[w] ^= basis[b * stride + w];
+        for (size_t w = 0; w < stride; ++w)
+            if (v[w]) {
+                int bit = (int)(w * 64) + __builtin_ctzll(v[w]);
+                for (size_t b = 0; b < nb; ++b) /* keep the basis reduced */
+                    if ((basis[b * stride + w] >> (bit % 64)) & 1)
+                        for (size_t u = 0; u < stride; ++u) basis[b * stride + u] ^= v[u];
+                memcpy(basis + nb * stride, v, stride * sizeof(uint64_t));
+                pivot[nb++] = bit;
+                break;
+            }
+    }
+    free(basis);
+    free(pivot);
+    free(v);
+    return bad;
+}
+
+int lam_group_check(const lam_pauli_set *s, int want_commuting, size_t *first,
+                    size_t *second)
+{
+    labelled *v;
+    size_t n = members_by_label(s, &v);
+    int found = 0;
+    for (size_t a = 0; a < n;) {
+        size_t b = a;
+        while (b < n && v[b].label == v[a].label) ++b;
+        size_t f = 0, g = 0;
+        int bad = want_commuting ? check_commuting(s, v + a, b - a, &f, &g)
+                                 : check_anticommuting(s, v + a, b - a, &f, &g);
+        if (bad && (!found || g < *second || (g == *second && f < *first))) {
+            *first = f;
+            *second = g;
+            found = 1;
+        }
+        a = b;
+    }
+    free(v);
+    return found;
+}
