@@ -1,0 +1,120 @@
+#!/bin/bash
+# lam-factor on the command line: good input, bad input, exit codes.
+source "$(dirname "$0")/lib/tap.sh"
+
+# H2, STO-3G, R = 1.4 bohr, MO integrals of the textbook worked example
+# (Szabo and Ostlund, Modern Quantum Chemistry (1989), ch. 3; from memory,
+# four figures).  (12|12) = 0.1813 fills (12|21), (21|12), (21|21) by the
+# format's 8-fold symmetry.
+cat >"$TMP/h2.fcidump" <<'EOF'
+&FCI NORB=2,NELEC=2,MS2=0,
+ ORBSYM=1,1,
+ ISYM=1,
+&END
+ 0.6746 1 1 1 1
+ 0.6636 1 1 2 2
+ 0.1813 1 2 1 2
+ 0.6975 2 2 2 2
+ -1.2528 1 1 0 0
+ -0.4756 2 2 0 0
+ 0.7143 0 0 0 0
+EOF
+lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
+
+runlam lam-factor --help
+is "$RC" 0 "--help exits 0"
+like "$OUT" "Usage: lam-factor" "--help shows the synopsis"
+like "$OUT" "Eh" "--help names the unit"
+like "$OUT" "Example" "--help has an example"
+runlam lam-factor --version
+is "$RC" 0 "--version exits 0"
+like "$OUT" "^lam-factor .*[0-9]+\.[0-9]+" "--version prints the version"
+
+# Good input, both methods.
+for m in double full-rank; do
+    runlam lam-factor --method "$m" --report "$TMP/rep.$m" -o "$TMP/h2.$m" "$TMP/h2.sf"
+    is "$RC" 0 "$m: exit 0"
+    is "$(head -2 "$TMP/h2.$m" | tail -1)" "#% kind: fragments" "$m: kind fragments"
+    is "$(tail -1 "$TMP/h2.$m")" "#% end" "$m: stream closed with #% end"
+    like "$(cat "$TMP/h2.$m")" "^#% method: $m$" "$m: method in the header"
+    lam_rep=$(report_get lambda <"$TMP/rep.$m")
+    lam_sum=$(awk '$2 == "R" { s += ($1 < 0 ? -$1 : $1) } END { printf "%.17g", s }' "$TMP/h2.$m")
+    near "$lam_rep" "$lam_sum" 1e-12 "$m: reported lambda is the sum of |c| over the R lines"
+    n_rep=$(report_get unitaries <"$TMP/rep.$m")
+    n_sum=$(awk '$2 == "R"' "$TMP/h2.$m" | wc -l)
+    is "$n_rep" "$n_sum" "$m: reported unitaries is the number of R lines"
+    # The identity coefficient of any Majorana-based form of H (common
+    # practice): E0 + sum_p h_pp + 1/2 sum_pr (pp|rr) - 1/4 sum_pq (pq|qp)
+    # = 0.7143 - 1.7284 + 1/2 (0.6746 + 2*0.6636 + 0.6975)
+    #   - 1/4 (0.6746 + 0.6975 + 2*0.1813) = -0.098125.
+    near "$(report_get constant <"$TMP/rep.$m")" -0.098125 1e-9 "$m: identity coefficient"
+    # Fact of the trade: lambda >= (E_max - E_min)/2 of the Fock space.  For
+    # two orbitals H is block diagonal by electron number; 1.0 Eh is below
+    # that half range (the empty state sits near 0.71 Eh, the N = 2 ground
+    # state near -1.14 Eh, and N = 4 far above), so lambda must exceed it.
+    awk -v l="$lam_rep" 'BEGIN { exit !(l > 1.0) }'
+    ok $? "$m: lambda above a lower bound on the half range"
+done
+
+# Same operator from stdin, gzip output, TSV report.
+runlam lam-factor -z -o "$TMP/h2.gz" --report "$TMP/rep.tsv" --tsv <"$TMP/h2.sf"
+is "$RC" 0 "stdin input, gzip output"
+is "$(gzip -dc "$TMP/h2.gz" | tail -1)" "#% end" "gzip output decompresses to a whole stream"
+is "$(wc -l <"$TMP/rep.tsv" | tr -d ' ')" 2 "--tsv report: header row and value row"
+like "$(head -1 "$TMP/rep.tsv")" "lambda" "--tsv header names lambda"
+
+# Truncation.
+runlam lam-factor --tol 0.1 --report "$TMP/rep.t" -o "$TMP/h2.t" "$TMP/h2.sf"
+is "$RC" 0 "--tol 0.1 runs"
+dw=$(report_get discarded_weight <"$TMP/rep.t")
+err=$(report_get integral_max_error <"$TMP/rep.t")
+awk -v d="$dw" -v e="$err" 'BEGIN { exit !(d > 0 && d <= 0.1 && e <= d + 1e-12) }'
+ok $? "--tol 0.1: discarded weight in (0, 0.1], integral error within it (got $dw, $err)"
+
+# Bad input.
+runlam_in $'#% lamina-op 1\n#% kind: pauli\n#% qubits: 2\n0.5 Z0\n#% end\n' lam-factor
+is "$RC" 65 "pauli stream: exit 65"
+like "$ERR" "^lam-factor: .*spinfree" "pauli stream: message names the kind wanted"
+
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 1 0 0\n#% end\n' lam-factor
+is "$RC" 65 "integrals without real symmetry: exit 65"
+like "$ERR" "^lam-factor: .*symmetry" "integrals without real symmetry: message"
+
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 0\n' lam-factor
+is "$RC" 65 "truncated stream: exit 65"
+like "$ERR" "truncated" "truncated stream: message"
+
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\nnan 0 0\n#% end\n' lam-factor
+is "$RC" 65 "NaN coefficient: exit 65"
+
+runlam lam-factor "$TMP/does-not-exist"
+is "$RC" 66 "missing input: exit 66"
+
+for bad in -1 abc nan inf ""; do
+    runlam lam-factor --tol "$bad" "$TMP/h2.sf"
+    is "$RC" 64 "--tol '$bad': exit 64"
+done
+like "$ERR" "^lam-factor: .*--tol" "bad --tol: message names the option"
+runlam lam-factor --method full-rank --tol 0 "$TMP/h2.sf"
+is "$RC" 64 "full-rank --tol 0: exit 64"
+runlam lam-factor --method triple "$TMP/h2.sf"
+is "$RC" 64 "unknown method: exit 64"
+like "$ERR" "double or full-rank" "unknown method: message lists the methods"
+runlam lam-factor --cutoff -1 "$TMP/h2.sf"
+is "$RC" 64 "negative --cutoff: exit 64"
+runlam lam-factor --max-fragments 0 "$TMP/h2.sf"
+is "$RC" 64 "--max-fragments 0: exit 64"
+runlam lam-factor "$TMP/h2.sf" "$TMP/h2.sf"
+is "$RC" 64 "two inputs: exit 64"
+runlam lam-factor --report - "$TMP/h2.sf"
+is "$RC" 64 "--report - without -o: exit 64"
+runlam lam-factor --tsv "$TMP/h2.sf"
+is "$RC" 64 "--tsv without --report: exit 64"
+
+# Full rank that cannot reach --tol within --max-fragments.
+runlam lam-factor --method full-rank --tol 1e-12 --max-fragments 1 "$TMP/h2.sf"
+is "$RC" 65 "full-rank over --max-fragments: exit 65"
+like "$ERR" "max-fragments" "full-rank over --max-fragments: message"
+is "$OUT" "" "full-rank over --max-fragments: nothing on stdout"
+
+done_testing
