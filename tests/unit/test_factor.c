@@ -3,6 +3,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/wait.h>
+#include <unistd.h>
 
 #include "factor.h"
 #include "fragments.h"
@@ -258,6 +260,77 @@ static void test_stream_round_trip(void)
     lam_spinfree_free(sf);
 }
 
+
+/* Read a fragments stream in a child process; returns its exit status and
+ * leaves its stderr in err. */
+static int read_in_child(const char *text, char *err, size_t errsize)
+{
+    char in[] = "/tmp/test_factor_in_XXXXXX", ep[] = "/tmp/test_factor_err_XXXXXX";
+    int fi = mkstemp(in), fe = mkstemp(ep);
+    if (fi < 0 || fe < 0) return -1;
+    if (write(fi, text, strlen(text)) != (ssize_t)strlen(text)) return -1;
+    close(fi);
+    fflush(stdout);
+    pid_t pid = fork();
+    if (pid == 0) {
+        dup2(fe, 2);
+        lam_set_program("lam-test");
+        lam_reader *r = lam_reader_open(in);
+        lam_fragments *fr = lam_fragments_read(r);
+        lam_spinfree *sf = lam_fragments_to_spinfree(fr, in);
+        lam_spinfree_free(sf);
+        lam_fragments_free(fr);
+        lam_reader_close(r);
+        exit(0);
+    }
+    int status = 0;
+    waitpid(pid, &status, 0);
+    ssize_t got = pread(fe, err, errsize - 1, 0);
+    err[got > 0 ? got : 0] = '\0';
+    close(fe);
+    remove(in);
+    remove(ep);
+    return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+}
+
+static void expect_rejected(const char *body, const char *needle, const char *name)
+{
+    char text[1024], err[1024];
+    snprintf(text, sizeof text,
+             "#%% lamina-op 1\n#%% kind: fragments\n#%% orbitals: 2\n#%% fragments: 2\n%s#%% end\n",
+             body);
+    int rc = read_in_child(text, err, sizeof err);
+    int ok = rc == 65 && strstr(err, needle) && strncmp(err, "lam-test: ", 10) == 0;
+    tap_ok(ok, name);
+    if (!ok) printf("#   exit %d, stderr: %s\n", rc, err);
+}
+
+static void test_reader_rejects(void)
+{
+    char err[1024];
+    int rc = read_in_child("#% lamina-op 1\n#% kind: fragments\n#% orbitals: 2\n-1.5\n"
+                           "0.6 U 1 0 0\n0.8 U 1 1 0\n-0.8 U 1 0 1\n0.6 U 1 1 1\n"
+                           "0.25 R 1 0a 1b\n0.25 R 1 0b 1a\n0.25 R 1 0a 1a\n0.25 R 1 0b 1b\n"
+                           "0.1 R 0 1a\n0.1 R 0 1b\n#% end\n",
+                           err, sizeof err);
+    tap_ok(rc == 0, "a well-formed hand-made stream is accepted");
+    expect_rejected("0.6 U 1 0 0\n0.6 U 1 1 0\n-0.8 U 1 0 1\n0.6 U 1 1 1\n0.1 R 1 0a\n",
+                    "not orthogonal", "a rotation that is not orthogonal is rejected");
+    expect_rejected("1 U 1 0 0\n0.1 R 1 0a\n0.1 R 1 0b\n", "not orthogonal",
+                    "a rotation with a missing entry is rejected");
+    expect_rejected("1 U 1 0 0\n1 U 1 0 0\n", "given twice", "a repeated rotation entry is rejected");
+    expect_rejected("0.1 R 0 2a\n", "rotated spin orbital", "an orbital out of range is rejected");
+    expect_rejected("0.1 R 0 1c\n", "rotated spin orbital", "a spin other than a/b is rejected");
+    expect_rejected("0.1 R 0 1a 1a\n", "identity", "R R of one spin orbital is rejected");
+    expect_rejected("0.1 R 2 1a\n", "out of range", "a fragment beyond 'fragments:' is rejected");
+    expect_rejected("0.1 Q 0 1a\n", "fragments line", "an unknown line type is rejected");
+    expect_rejected("0.1 R 0\n", "reflection line", "a reflection without a mode is rejected");
+    expect_rejected("0.1 R 0 0a\n0.2 R 0 0b\n", "not spin-free",
+                    "different alpha and beta coefficients are not spin-free");
+    expect_rejected("0.1 R 0 0a 1a\n0.1 R 0 0b 1b\n0.2 R 0 0a 1b\n0.2 R 0 0b 1a\n", "not spin-free",
+                    "same-spin and opposite-spin pairs that differ are not spin-free");
+}
+
 int main(void)
 {
     test_expm_plane_rotation();
@@ -269,5 +342,6 @@ int main(void)
     test_full_rank();
     test_to_spinfree_algebra();
     test_stream_round_trip();
+    test_reader_rejects();
     return tap_done();
 }
