@@ -599,7 +599,7 @@ void lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_
 
 /* The first pair of entries that breaks h_pq = h_qp or
  * (pq|rs) = (qp|sr), named for the user. */
-static void require_hermitian_spinfree(const lam_spinfree *sf, const char *src)
+void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src)
 {
     int n = sf->n;
     double tol = 1e-12 * (spinfree_scale(sf) > 1.0 ? spinfree_scale(sf) : 1.0);
@@ -630,7 +630,7 @@ lam_spin_order lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_or
     lam_spin_order out = order ? *order : stream_order;
     if (kind == LAM_KIND_SPINFREE) {
         lam_spinfree *sf = lam_spinfree_read(r);
-        require_hermitian_spinfree(sf, src);
+        lam_spinfree_require_hermitian(sf, src);
         lam_majorana_from_spinfree_any(sf, out, m);
         lam_spinfree_free(sf);
     } else if (kind == LAM_KIND_FERMION) {

@@ -3,6 +3,7 @@
 #include "pauli.h"
 
 #include <limits.h>
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -454,4 +455,45 @@ size_t lam_pauli_set_drop_small(lam_pauli_set *s, double tol, double *norm_remov
     s->count = kept;
     if (norm_removed) *norm_removed = norm;
     return dropped;
+}
+
+int lam_pauli_set_max_weight(const lam_pauli_set *s)
+{
+    int top = 0;
+    for (size_t t = 0; t < s->count; ++t) {
+        int w = lam_pauli_weight(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t));
+        if (w > top) top = w;
+    }
+    return top;
+}
+
+/* A group of anticommuting strings is sqrt(sum c^2) times a unitary
+ * (fact of the trade): each label costs the Euclidean norm of its
+ * coefficients, each unlabelled string its |c|. */
+double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups)
+{
+    lam_rowhash h;
+    lam_rowhash_init(&h);
+    uint64_t *labels = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof(uint64_t)));
+    double *sumsq = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof(double)));
+    size_t n = 0;
+    double lambda = 0.0;
+    for (size_t t = 0; t < s->count; ++t) {
+        if (lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t))) continue;
+        double c = s->coef[t];
+        if (!s->group || s->group[t] < 0) {
+            lambda += c < 0 ? -c : c;
+            continue;
+        }
+        labels[n] = (uint64_t)s->group[t];
+        size_t k = lam_rowhash_insert(&h, labels, 1, NULL, n);
+        if (k == n) sumsq[n++] = c * c;
+        else sumsq[k] += c * c;
+    }
+    for (size_t g = 0; g < n; ++g) lambda += sqrt(sumsq[g]);
+    lam_rowhash_free(&h);
+    free(labels);
+    free(sumsq);
+    if (ngroups) *ngroups = n;
+    return lambda;
 }

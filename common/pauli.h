@@ -65,6 +65,13 @@ void lam_pauli_set_grow_qubits(lam_pauli_set *s, int nqubits);
  * (as stored: merge first for the one-norm of the operator). */
 double lam_pauli_set_lambda(const lam_pauli_set *s);
 double lam_pauli_set_constant(const lam_pauli_set *s);
+/* Largest weight of any term. */
+int lam_pauli_set_max_weight(const lam_pauli_set *s);
+/* One-norm when each group label stands for one anticommuting group:
+ * sum over labels of sqrt(sum c^2), plus |c| of every unlabelled
+ * non-identity term; *ngroups gets the number of labels (may be NULL).
+ * The identity is never counted.  Merge first. */
+double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups);
 /* Remove the non-identity terms with |c| <= tol (order kept); returns how
  * many went and their one-norm in *norm_removed (may be NULL). */
 size_t lam_pauli_set_drop_small(lam_pauli_set *s, double tol, double *norm_removed);

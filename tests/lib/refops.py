@@ -1,0 +1,177 @@
+"""Reference operators built independently of lamina, with numpy/scipy.
+
+Everything here starts again from the definitions, not from the project's
+code: an FCIDUMP parser (Knowles and Handy, 1989: namelist header, then
+"value i j k l" lines, 8-fold symmetry of real orbitals), Jordan-Wigner
+ladder matrices on the occupation basis (basis index bit j = occupation of
+mode j; a_j carries the sign (-1)^(occupations of modes below j): common
+practice), the fermionic Hamiltonian as a sparse matrix, the matrix of a
+pauli stream, and the binary matrices of the parity and Bravyi-Kitaev
+encodings (the Bravyi-Kitaev matrix from its recursive definition, Seeley,
+Richard and Love, J. Chem. Phys. 137, 224109 (2012), from memory, truncated
+to the mode count).
+"""
+import re
+
+import numpy as np
+import scipy.sparse as sp
+
+
+def read_fcidump(path):
+    """(norb, nelec, e0, h, g) with g[p,q,r,s] = (pq|rs), 0-based."""
+    text = open(path).read()
+    end = re.search(r"(&END|/|\$END)", text, re.IGNORECASE)
+    header, body = text[:end.start()], text[end.end():]
+    norb = int(re.search(r"NORB\s*=\s*(\d+)", header, re.IGNORECASE).group(1))
+    nelec = int(re.search(r"NELEC\s*=\s*(\d+)", header, re.IGNORECASE).group(1))
+    h = np.zeros((norb, norb))
+    g = np.zeros((norb,) * 4)
+    e0 = 0.0
+    for line in body.splitlines():
+        f = line.split()
+        if len(f) != 5:
+            continue
+        v = float(f[0].replace("D", "E").replace("d", "e"))
+        i, j, k, l = (int(x) - 1 for x in f[1:])
+        if i < 0:
+            e0 = v
+        elif k < 0:
+            if j >= 0:
+                h[i, j] = h[j, i] = v
+        else:
+            for a, b, c, d in ((i, j, k, l), (j, i, k, l), (i, j, l, k), (j, i, l, k),
+                               (k, l, i, j), (l, k, i, j), (k, l, j, i), (l, k, j, i)):
+                g[a, b, c, d] = v
+    return norb, nelec, e0, h, g
+
+
+def annihilators(nmodes):
+    """Sparse a_j on the 2^nmodes occupation basis (bit j = mode j)."""
+    dim = 1 << nmodes
+    states = np.arange(dim)
+    ops = []
+    for j in range(nmodes):
+        occupied = (states >> j) & 1 == 1
+        src = states[occupied]
+        below = src & ((1 << j) - 1)
+        sign = np.array([(-1) ** bin(int(b)).count("1") for b in below], dtype=float)
+        ops.append(sp.csr_matrix((sign, (src ^ (1 << j), src)), shape=(dim, dim)))
+    return ops
+
+
+def spin_mode(p, spin, norb, order):
+    return 2 * p + spin if order == "interleaved" else spin * norb + p
+
+
+def fermion_hamiltonian(norb, e0, h, g, order="interleaved"):
+    """H = e0 + sum h_pq a+_ps a_qs + 1/2 sum (pq|rs) a+_ps a+_rt a_st a_qs."""
+    nmodes = 2 * norb
+    a = annihilators(nmodes)
+    ad = [x.T.tocsr() for x in a]
+    dim = 1 << nmodes
+    H = sp.identity(dim, format="csr") * e0
+    # E^s_pq as sparse products once
+    E = {}
+    for p in range(norb):
+        for q in range(norb):
+            for s in range(2):
+                E[p, q, s] = ad[spin_mode(p, s, norb, order)] @ a[spin_mode(q, s, norb, order)]
+    for p in range(norb):
+        for q in range(norb):
+            if h[p, q] != 0:
+                H = H + h[p, q] * (E[p, q, 0] + E[p, q, 1])
+    # a+_ps a+_rt a_st a_qs = E^s_pq E^t_rs - delta_qr delta_st E^s_ps
+    for p in range(norb):
+        for q in range(norb):
+            for r in range(norb):
+                for s in range(norb):
+                    v = 0.5 * g[p, q, r, s]
+                    if v == 0:
+                        continue
+                    for x in range(2):
+                        for y in range(2):
+                            term = E[p, q, x] @ E[r, s, y]
+                            if q == r and x == y:
+                                term = term - E[p, s, x]
+                            H = H + v * term
+    return H.tocsr()
+
+
+def parse_pauli_stream(text):
+    """[(coef, [(letter, qubit), ...])], and the 'qubits' header value."""
+    terms, nq = [], None
+    for line in text.splitlines():
+        if line.startswith("#% qubits:"):
+            nq = int(line.split(":")[1])
+        if not line.strip() or line.startswith("#"):
+            continue
+        f = line.split()
+        terms.append((float(f[0]), [(t[0], int(t[1:])) for t in f[1:] if not t.startswith("@")]))
+    return terms, nq
+
+
+def pauli_matrix(terms, nqubits):
+    """Sparse matrix of sum c P with qubit j = bit j of the basis index;
+    X flips a bit, Z gives (-1)^bit, Y = i X Z (Pauli matrices, common practice)."""
+    dim = 1 << nqubits
+    states = np.arange(dim)
+    H = sp.csr_matrix((dim, dim), dtype=complex)
+    rows_all, cols_all, vals_all = [], [], []
+    for c, factors in terms:
+        flip, phase = 0, np.ones(dim, dtype=complex)
+        # apply the factors right to left on |b>: for one qubit each, order is irrelevant
+        for letter, q in factors:
+            bit = (states >> q) & 1
+            if letter == "X":
+                flip |= 1 << q
+            elif letter == "Z":
+                phase = phase * np.where(bit == 1, -1, 1)
+            elif letter == "Y":
+                # Y|0> = i|1>, Y|1> = -i|0>
+                phase = phase * np.where(bit == 1, -1j, 1j)
+                flip |= 1 << q
+            else:
+                raise ValueError(letter)
+        rows_all.append(states ^ flip)
+        cols_all.append(states)
+        vals_all.append(c * phase)
+    if rows_all:
+        H = sp.csr_matrix((np.concatenate(vals_all),
+                           (np.concatenate(rows_all), np.concatenate(cols_all))),
+                          shape=(dim, dim))
+    return H
+
+
+def encoding_matrix(kind, n):
+    """Binary matrix A with qubit vector b = A n (mod 2) over n modes."""
+    if kind == "jordan-wigner":
+        return np.eye(n, dtype=int)
+    if kind == "parity":
+        return np.tril(np.ones((n, n), dtype=int))
+    if kind == "bravyi-kitaev":
+        beta = np.ones((1, 1), dtype=int)
+        while beta.shape[0] < n:
+            m = beta.shape[0]
+            low = np.zeros((m, m), dtype=int)
+            low[-1, :] = 1
+            beta = np.block([[beta, np.zeros((m, m), dtype=int)], [low, beta]])
+        return beta[:n, :n]
+    raise ValueError(kind)
+
+
+def basis_permutation(A):
+    """perm[occupation index] = qubit index, b = A n mod 2."""
+    n = A.shape[0]
+    perm = np.zeros(1 << n, dtype=np.int64)
+    for idx in range(1 << n):
+        occ = np.array([(idx >> j) & 1 for j in range(n)])
+        b = A.dot(occ) % 2
+        perm[idx] = int(sum(int(v) << j for j, v in enumerate(b)))
+    return perm
+
+
+def sector_ground(H, nmodes, nelec):
+    """Lowest eigenvalue of H on the states with nelec occupied modes."""
+    states = [i for i in range(1 << nmodes) if bin(i).count("1") == nelec]
+    sub = H[states][:, states].toarray()
+    return float(np.linalg.eigvalsh(sub)[0])
