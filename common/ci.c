@@ -1,0 +1,654 @@
+/* ci.c - alpha/beta strings, string-driven sigma, Slater-Condon elements. */
+#include "ci.h"
+
+#include <cblas.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "util.h"
+
+size_t lam_ci_binomial(int n, int k)
+{
+    if (k < 0 || k > n) return 0;
+    if (k > n - k) k = n - k;
+    size_t c = 1;
+    for (int i = 1; i <= k; ++i) {
+        /* c * (n - k + i) / i stays exact because c = C(n-k+i-1, i-1). */
+        size_t num = (size_t)(n - k + i);
+        if (c > SIZE_MAX / num) return SIZE_MAX;
+        c = c * num / (size_t)i;
+    }
+    return c;
+}
+
+size_t lam_ci_sector_dim(int n, int na, int nb)
+{
+    size_t a = lam_ci_binomial(n, na), b = lam_ci_binomial(n, nb);
+    if (a == SIZE_MAX || b == SIZE_MAX) return SIZE_MAX;
+    if (b != 0 && a > SIZE_MAX / b) return SIZE_MAX;
+    return a * b;
+}
+
+size_t lam_ci_string_rank(uint64_t mask)
+{
+    /* Colexicographic rank: the i-th set bit (from 0) at position p adds
+     * C(p, i+1); this is the order of increasing masks. */
+    size_t rank = 0;
+    int i = 0;
+    while (mask) {
+        int p = __builtin_ctzll(mask);
+        rank += lam_ci_binomial(p, i + 1);
+        ++i;
+        mask &= mask - 1;
+    }
+    return rank;
+}
+
+static uint64_t next_same_popcount(uint64_t v)
+{
+    /* Gosper's hack: the next larger integer with the same popcount. */
+    uint64_t c = v & -v, r = v + c;
+    return (((r ^ v) >> 2) / c) | r;
+}
+
+static int bits_below(uint64_t mask, int p)
+{
+    return __builtin_popcountll(p ? mask & ((~0ULL) >> (64 - p)) : 0);
+}
+
+/* a+_a a_b on one string; 0 when it vanishes, else the sign and *out. */
+static int excite(uint64_t mask, int a, int b, uint64_t *out)
+{
+    uint64_t bb = 1ULL << b, ba = 1ULL << a;
+    if (!(mask & bb)) return 0;
+    uint64_t m = mask & ~bb;
+    if (m & ba) return 0;
+    int parity = bits_below(m, b) + bits_below(m, a);
+    *out = m | ba;
+    return parity & 1 ? -1 : 1;
+}
+
+lam_ci_strings *lam_ci_strings_new(int n, int k)
+{
+    if (n < 0 || n > 64 || k < 0 || k > n)
+        lam_fail(LAM_EX_SOFTWARE, "strings of %d electrons in %d orbitals", k, n);
+    size_t count = lam_ci_binomial(n, k);
+    if (count == SIZE_MAX || count > UINT32_MAX)
+        lam_fail(LAM_EX_SOFTWARE, "%d electrons in %d orbitals: too many strings", k, n);
+    lam_ci_strings *s = lam_calloc(1, sizeof *s);
+    s->n = n;
+    s->k = k;
+    s->count = count;
+    s->nexc = k + k * (n - k);
+    s->mask = lam_malloc(lam_mul_size(count, sizeof(uint64_t)));
+    s->exc = lam_malloc(lam_mul_size(lam_mul_size(count, (size_t)s->nexc), sizeof(lam_ci_exc)));
+    uint64_t m = k ? (k == 64 ? ~0ULL : (1ULL << k) - 1) : 0;
+    for (size_t i = 0; i < count; ++i) {
+        s->mask[i] = m;
+        if (k > 0 && k < 64 && i + 1 < count) m = next_same_popcount(m);
+    }
+    for (size_t i = 0; i < count; ++i) {
+        lam_ci_exc *e = s->exc + i * (size_t)s->nexc;
+        int t = 0;
+        for (int b = 0; b < n; ++b) {
+            if (!(s->mask[i] >> b & 1)) continue;
+            for (int a = 0; a < n; ++a) {
+                uint64_t out;
+                int sign = excite(s->mask[i], a, b, &out);
+                if (!sign) continue;
+                e[t].target = (uint32_t)lam_ci_string_rank(out);
+                e[t].a = (uint8_t)a;
+                e[t].b = (uint8_t)b;
+                e[t].sign = (int8_t)sign;
+                ++t;
+            }
+        }
+        if (t != s->nexc) lam_fail(LAM_EX_SOFTWARE, "string excitation count %d, expected %d", t, s->nexc);
+    }
+    return s;
+}
+
+void lam_ci_strings_free(lam_ci_strings *s)
+{
+    if (!s) return;
+    free(s->mask);
+    free(s->exc);
+    free(s);
+}
+
+/* ---- the prepared operator ---- */
+
+static int has_exact_real_symmetry(const lam_spinfree *sf)
+{
+    return lam_spinfree_real_symmetry_error(sf) == 0.0 &&
+           lam_spinfree_hermiticity_error(sf) == 0.0;
+}
+
+lam_ci_ham *lam_ci_ham_new(const lam_spinfree *sf)
+{
+    int n = sf->n;
+    lam_ci_ham *h = lam_calloc(1, sizeof *h);
+    h->n = n;
+    h->e0 = sf->e0;
+    h->packed = has_exact_real_symmetry(sf);
+    h->pair = lam_malloc(lam_mul_size((size_t)n * (size_t)n, sizeof(int)));
+    int np = 0;
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            if (!h->packed || q <= p) h->pair[p * n + q] = np++;
+    if (h->packed)
+        for (int p = 0; p < n; ++p)
+            for (int q = p + 1; q < n; ++q) h->pair[p * n + q] = h->pair[q * n + p];
+    h->npair = np;
+    h->kvec = lam_calloc((size_t)np, sizeof(double));
+    h->gmat = lam_calloc(lam_mul_size((size_t)np, (size_t)np), sizeof(double));
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) {
+            double k = LAM_H(sf, p, q);
+            for (int r = 0; r < n; ++r) k -= 0.5 * LAM_G(sf, p, r, r, q);
+            int P = h->pair[p * n + q];
+            h->kvec[P] = k;
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s)
+                    h->gmat[(size_t)P * np + h->pair[r * n + s]] = LAM_G(sf, p, q, r, s);
+        }
+    return h;
+}
+
+void lam_ci_ham_free(lam_ci_ham *h)
+{
+    if (!h) return;
+    free(h->pair);
+    free(h->kvec);
+    free(h->gmat);
+    free(h);
+}
+
+/* ---- sectors ---- */
+
+static size_t batch_for(size_t nb, int npair, size_t count_a, size_t scratch_bytes)
+{
+    size_t row = lam_mul_size(lam_mul_size(nb, (size_t)npair), 2 * sizeof(double));
+    size_t batch = row ? scratch_bytes / row : count_a;
+    if (batch < 1) batch = 1;
+    if (batch > count_a) batch = count_a;
+    return batch;
+}
+
+static size_t strings_bytes(int n, int k)
+{
+    size_t c = lam_ci_binomial(n, k);
+    size_t nexc = (size_t)(k + k * (n - k));
+    return c * (sizeof(uint64_t) + nexc * sizeof(lam_ci_exc));
+}
+
+size_t lam_ci_sector_bytes(int n, int na, int nb, int npair, size_t scratch_bytes)
+{
+    size_t ca = lam_ci_binomial(n, na), cb = lam_ci_binomial(n, nb);
+    size_t batch = batch_for(cb, npair, ca, scratch_bytes);
+    size_t bytes = strings_bytes(n, na) + (na == nb ? 0 : strings_bytes(n, nb));
+    return bytes + batch * cb * (size_t)npair * 2 * sizeof(double);
+}
+
+lam_ci_sector *lam_ci_sector_new(const lam_ci_ham *h, int na, int nb, size_t scratch_bytes)
+{
+    lam_ci_sector *s = lam_calloc(1, sizeof *s);
+    s->n = h->n;
+    s->na = na;
+    s->nb = nb;
+    s->alpha = lam_ci_strings_new(h->n, na);
+    s->beta = na == nb ? s->alpha : lam_ci_strings_new(h->n, nb);
+    s->dim = lam_ci_sector_dim(h->n, na, nb);
+    s->batch = batch_for(s->beta->count, h->npair, s->alpha->count, scratch_bytes);
+    size_t block = lam_mul_size(lam_mul_size(s->batch, s->beta->count), (size_t)h->npair);
+    s->d = lam_malloc(lam_mul_size(block, sizeof(double)));
+    s->gbuf = lam_malloc(lam_mul_size(block, sizeof(double)));
+    return s;
+}
+
+void lam_ci_sector_free(lam_ci_sector *s)
+{
+    if (!s) return;
+    if (s->beta != s->alpha) lam_ci_strings_free(s->beta);
+    lam_ci_strings_free(s->alpha);
+    free(s->d);
+    free(s->gbuf);
+    free(s);
+}
+
+/* D[I][pq] = (E_pq c)_I for the determinants of alpha strings [a0, a1):
+ * <I|E_pq|J> = <J|E_qp|I>, so each excitation E_ab|I> = s|J> adds s c_J
+ * to the pair (b, a). */
+static void gather(const lam_ci_ham *h, const lam_ci_sector *s, size_t a0, size_t a1,
+                   const double *c, double *d)
+{
+    const lam_ci_strings *A = s->alpha, *B = s->beta;
+    size_t nb = B->count, np = (size_t)h->npair;
+    int n = h->n;
+    memset(d, 0, (a1 - a0) * nb * np * sizeof(double));
+    for (size_t ia = a0; ia < a1; ++ia) {
+        double *drow = d + (ia - a0) * nb * np;
+        const lam_ci_exc *ea = A->exc + ia * (size_t)A->nexc;
+        for (int t = 0; t < A->nexc; ++t) {
+            const double *cj = c + (size_t)ea[t].target * nb;
+            size_t P = (size_t)h->pair[ea[t].b * n + ea[t].a];
+            double sg = ea[t].sign;
+            for (size_t ib = 0; ib < nb; ++ib) drow[ib * np + P] += sg * cj[ib];
+        }
+        const double *ci = c + ia * nb;
+        for (size_t ib = 0; ib < nb; ++ib) {
+            const lam_ci_exc *eb = B->exc + ib * (size_t)B->nexc;
+            double *dI = drow + ib * np;
+            for (int t = 0; t < B->nexc; ++t)
+                dI[h->pair[eb[t].b * n + eb[t].a]] += eb[t].sign * ci[eb[t].target];
+        }
+    }
+}
+
+/* sigma_K += 1/2 <K|E_ab|I> G[I][ab] for every excitation of the batch. */
+static void scatter(const lam_ci_ham *h, const lam_ci_sector *s, size_t a0, size_t a1,
+                    const double *g, double *sigma)
+{
+    const lam_ci_strings *A = s->alpha, *B = s->beta;
+    size_t nb = B->count, np = (size_t)h->npair;
+    int n = h->n;
+    for (size_t ia = a0; ia < a1; ++ia) {
+        const double *grow = g + (ia - a0) * nb * np;
+        const lam_ci_exc *ea = A->exc + ia * (size_t)A->nexc;
+        for (int t = 0; t < A->nexc; ++t) {
+            double *sk = sigma + (size_t)ea[t].target * nb;
+            size_t P = (size_t)h->pair[ea[t].a * n + ea[t].b];
+            double sg = 0.5 * ea[t].sign;
+            for (size_t ib = 0; ib < nb; ++ib) sk[ib] += sg * grow[ib * np + P];
+        }
+        double *si = sigma + ia * nb;
+        for (size_t ib = 0; ib < nb; ++ib) {
+            const lam_ci_exc *eb = B->exc + ib * (size_t)B->nexc;
+            const double *gI = grow + ib * np;
+            for (int t = 0; t < B->nexc; ++t)
+                si[eb[t].target] += 0.5 * eb[t].sign * gI[h->pair[eb[t].a * n + eb[t].b]];
+        }
+    }
+}
+
+void lam_ci_sigma(const lam_ci_ham *h, lam_ci_sector *s, const double *c, double *sigma)
+{
+    size_t nb = s->beta->count, np = (size_t)h->npair;
+    for (size_t i = 0; i < s->dim; ++i) sigma[i] = h->e0 * c[i];
+    if (s->na + s->nb == 0) return;
+    for (size_t a0 = 0; a0 < s->alpha->count; a0 += s->batch) {
+        size_t a1 = a0 + s->batch < s->alpha->count ? a0 + s->batch : s->alpha->count;
+        size_t rows = (a1 - a0) * nb;
+        gather(h, s, a0, a1, c, s->d);
+        /* the one-body part: sigma_I += sum_pq k_pq D[I][pq] */
+        cblas_dgemv(CblasRowMajor, CblasNoTrans, (int)rows, (int)np, 1.0, s->d, (int)np,
+                    h->kvec, 1, 1.0, sigma + a0 * nb, 1);
+        cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, (int)rows, (int)np, (int)np,
+                    1.0, s->d, (int)np, h->gmat, (int)np, 0.0, s->gbuf, (int)np);
+        scatter(h, s, a0, a1, s->gbuf, sigma);
+    }
+}
+
+/* Part of the diagonal that depends on one spin string only. */
+static double same_spin_diagonal(const lam_ci_ham *h, uint64_t m)
+{
+    int n = h->n, np = h->npair;
+    double e = 0;
+    for (int p = 0; p < n; ++p) {
+        if (!(m >> p & 1)) continue;
+        int pp = h->pair[p * n + p];
+        e += h->kvec[pp];
+        for (int r = 0; r < n; ++r) {
+            int rr = h->pair[r * n + r];
+            if (m >> r & 1)
+                e += 0.5 * h->gmat[(size_t)pp * np + rr];
+            else /* <I|E_pr E_rp|I> = n_p (1 - n_r) within one spin */
+                e += 0.5 * h->gmat[(size_t)h->pair[p * n + r] * np + h->pair[r * n + p]];
+        }
+    }
+    return e;
+}
+
+void lam_ci_diagonal(const lam_ci_ham *h, const lam_ci_sector *s, double *diag)
+{
+    const lam_ci_strings *A = s->alpha, *B = s->beta;
+    int n = h->n, np = h->npair;
+    double *ea = lam_malloc(A->count * sizeof(double));
+    double *eb = lam_malloc(B->count * sizeof(double));
+    double *jrow = lam_malloc((size_t)n * sizeof(double));
+    for (size_t i = 0; i < A->count; ++i) ea[i] = same_spin_diagonal(h, A->mask[i]);
+    for (size_t i = 0; i < B->count; ++i) eb[i] = same_spin_diagonal(h, B->mask[i]);
+    for (size_t ia = 0; ia < A->count; ++ia) {
+        /* Coulomb coupling of this alpha string to each beta orbital */
+        for (int r = 0; r < n; ++r) {
+            double j = 0;
+            for (int p = 0; p < n; ++p)
+                if (A->mask[ia] >> p & 1)
+                    j += h->gmat[(size_t)h->pair[p * n + p] * np + h->pair[r * n + r]];
+            jrow[r] = j;
+        }
+        for (size_t ib = 0; ib < B->count; ++ib) {
+            double e = h->e0 + ea[ia] + eb[ib];
+            for (uint64_t m = B->mask[ib]; m; m &= m - 1) e += jrow[__builtin_ctzll(m)];
+            diag[ia * B->count + ib] = e;
+        }
+    }
+    free(ea);
+    free(eb);
+    free(jrow);
+}
+
+/* ---- Slater-Condon rules over spin orbitals (alpha 0..n-1, beta n..2n-1) ---- */
+
+typedef struct {
+    uint64_t m[2];
+} det_bits;
+
+static int so_occupied(const det_bits *d, int spin, int p) { return d->m[spin] >> p & 1; }
+
+static int so_below(const det_bits *d, int spin, int p)
+{
+    return (spin ? __builtin_popcountll(d->m[0]) : 0) + bits_below(d->m[spin], p);
+}
+
+/* Apply a_(p,spin) (create = 0) or a+ (create = 1); returns the sign or 0. */
+static int so_apply(det_bits *d, int spin, int p, int create)
+{
+    if (so_occupied(d, spin, p) == create) return 0;
+    int sign = so_below(d, spin, p) & 1 ? -1 : 1;
+    d->m[spin] ^= 1ULL << p;
+    return sign;
+}
+
+/* [PQ|RS] over spin orbitals: (pq|rs) when the spins pair up. */
+static double so_integral(const lam_spinfree *sf, int p, int sp, int q, int sq, int r, int sr,
+                          int s, int ss)
+{
+    if (sp != sq || sr != ss) return 0;
+    return LAM_G(sf, p, q, r, s);
+}
+
+double lam_ci_det_energy(const lam_spinfree *sf, uint64_t a, uint64_t b)
+{
+    det_bits d = {{a, b}};
+    int n = sf->n;
+    double e = sf->e0;
+    for (int sp = 0; sp < 2; ++sp)
+        for (int p = 0; p < n; ++p) {
+            if (!so_occupied(&d, sp, p)) continue;
+            e += LAM_H(sf, p, p);
+            for (int sr = 0; sr < 2; ++sr)
+                for (int r = 0; r < n; ++r) {
+                    if (!so_occupied(&d, sr, r)) continue;
+                    e += 0.5 * (so_integral(sf, p, sp, p, sp, r, sr, r, sr) -
+                                so_integral(sf, p, sp, r, sr, r, sr, p, sp));
+                }
+        }
+    return e;
+}
+
+/* Spin orbitals set in x but not in y, as (spin, orbital) pairs; returns
+ * how many (stops counting past 2). */
+static int differences(const det_bits *x, const det_bits *y, int *spin, int *orb)
+{
+    int k = 0;
+    for (int s = 0; s < 2; ++s)
+        for (uint64_t m = x->m[s] & ~y->m[s]; m; m &= m - 1) {
+            if (k < 2) {
+                spin[k] = s;
+                orb[k] = __builtin_ctzll(m);
+            }
+            ++k;
+        }
+    return k;
+}
+
+double lam_ci_det_element(const lam_spinfree *sf, uint64_t a1, uint64_t b1, uint64_t a2,
+                          uint64_t b2)
+{
+    det_bits d1 = {{a1, b1}}, d2 = {{a2, b2}};
+    int hs[2], ho[2], ps[2], po[2];
+    int nh = differences(&d2, &d1, hs, ho); /* occupied in D2 only: holes */
+    int npart = differences(&d1, &d2, ps, po);
+    if (nh != npart || nh > 2) return 0;
+    if (nh == 0) return lam_ci_det_energy(sf, a1, b1);
+    int n = sf->n;
+    if (nh == 1) {
+        det_bits t = d2;
+        int sign = so_apply(&t, hs[0], ho[0], 0);
+        sign *= so_apply(&t, ps[0], po[0], 1);
+        if (hs[0] != ps[0]) return 0;
+        int a = po[0], i = ho[0], sa = ps[0];
+        double v = LAM_H(sf, a, i);
+        for (int sr = 0; sr < 2; ++sr)
+            for (int r = 0; r < n; ++r) {
+                if (!so_occupied(&d2, sr, r)) continue;
+                v += so_integral(sf, a, sa, i, sa, r, sr, r, sr) -
+                     so_integral(sf, a, sa, r, sr, r, sr, i, sa);
+            }
+        return sign * v;
+    }
+    /* a+_a a+_b a_j a_i |D2> = sign |D1> with i, j the holes, a, b the
+     * particles; the element is sign ([ai|bj] - [aj|bi]). */
+    det_bits t = d2;
+    int sign = so_apply(&t, hs[0], ho[0], 0);
+    sign *= so_apply(&t, hs[1], ho[1], 0);
+    sign *= so_apply(&t, ps[1], po[1], 1);
+    sign *= so_apply(&t, ps[0], po[0], 1);
+    double v = so_integral(sf, po[0], ps[0], ho[0], hs[0], po[1], ps[1], ho[1], hs[1]) -
+               so_integral(sf, po[0], ps[0], ho[1], hs[1], po[1], ps[1], ho[0], hs[0]);
+    return sign * v;
+}
+
+/* ---- both ends of a sector ---- */
+
+size_t lam_ci_scratch_bytes(size_t dim)
+{
+    /* two vectors' worth keeps memory within a few vectors of the sector
+     * while the matrix product stays large enough to run at full speed */
+    size_t s = dim > SIZE_MAX / 16 ? SIZE_MAX : dim * 16;
+    if (s < ((size_t)8 << 20)) s = (size_t)8 << 20;
+    if (s > ((size_t)256 << 20)) s = (size_t)256 << 20;
+    return s;
+}
+
+size_t lam_ci_solve_bytes(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *tmpl)
+{
+    size_t dim = lam_ci_sector_dim(h->n, na, nb);
+    if (dim == SIZE_MAX || lam_ci_binomial(h->n, na) > UINT32_MAX ||
+        lam_ci_binomial(h->n, nb) > UINT32_MAX || dim > ((size_t)1 << 40))
+        return SIZE_MAX;
+    size_t bytes = lam_ci_sector_bytes(h->n, na, nb, h->npair, lam_ci_scratch_bytes(dim));
+    bytes += dim * sizeof(double); /* diagonal */
+    bytes += lam_eigen_bytes(dim, tmpl->max_subspace, tmpl->dense_limit);
+    return bytes;
+}
+
+typedef struct {
+    const lam_ci_ham *h;
+    lam_ci_sector *s;
+} sigma_ctx;
+
+static void sigma_apply(void *ctx, const double *x, double *y)
+{
+    sigma_ctx *c = ctx;
+    lam_ci_sigma(c->h, c->s, x, y);
+}
+
+void lam_ci_solve(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *tmpl,
+                  lam_eigen_result *lo, lam_eigen_result *hi)
+{
+    size_t dim = lam_ci_sector_dim(h->n, na, nb);
+    lam_ci_sector *s = lam_ci_sector_new(h, na, nb, lam_ci_scratch_bytes(dim));
+    double *diag = lam_malloc(lam_mul_size(s->dim, sizeof(double)));
+    lam_ci_diagonal(h, s, diag);
+    sigma_ctx ctx = {h, s};
+    lam_eigen_problem p = *tmpl;
+    p.dim = s->dim;
+    p.apply = sigma_apply;
+    p.ctx = &ctx;
+    p.diag = diag;
+    if (lo) {
+        p.highest = 0;
+        lam_eigen_extreme(&p, lo, NULL);
+    }
+    if (hi) {
+        p.highest = 1;
+        lam_eigen_extreme(&p, hi, NULL);
+    }
+    free(diag);
+    lam_ci_sector_free(s);
+}
+
+/* ---- inner bounds without holding the sector ---- */
+
+typedef struct {
+    uint64_t a, b;
+    double e;
+} det_entry;
+
+static uint64_t aufbau(const lam_spinfree *sf, int k, double sign)
+{
+    /* the k orbitals with the lowest (sign = -1: highest) h_pp */
+    uint64_t m = 0;
+    for (int t = 0; t < k; ++t) {
+        int best = -1;
+        for (int p = 0; p < sf->n; ++p)
+            if (!(m >> p & 1) && (best < 0 || sign * LAM_H(sf, p, p) < sign * LAM_H(sf, best, best)))
+                best = p;
+        m |= 1ULL << best;
+    }
+    return m;
+}
+
+/* Steepest descent of sign * energy over single orbital swaps in either
+ * string. */
+static det_entry descend(const lam_spinfree *sf, det_entry d, double sign)
+{
+    int n = sf->n;
+    for (int improved = 1; improved;) {
+        improved = 0;
+        det_entry best = d;
+        for (int spin = 0; spin < 2; ++spin) {
+            uint64_t m = spin ? d.b : d.a;
+            for (int i = 0; i < n; ++i) {
+                if (!(m >> i & 1)) continue;
+                for (int a = 0; a < n; ++a) {
+                    if (m >> a & 1) continue;
+                    uint64_t t = (m & ~(1ULL << i)) | 1ULL << a;
+                    det_entry c = {spin ? d.a : t, spin ? t : d.b, 0};
+                    c.e = lam_ci_det_energy(sf, c.a, c.b);
+                    if (sign * c.e < sign * best.e - 1e-14) best = c;
+                }
+            }
+        }
+        if (best.a != d.a || best.b != d.b) {
+            d = best;
+            improved = 1;
+        }
+    }
+    return d;
+}
+
+/* Replacements of one or two occupied orbitals of one string. */
+static size_t string_moves(uint64_t m, int n, int order, uint64_t *out, size_t cap)
+{
+    size_t c = 0;
+    for (int i = 0; i < n; ++i) {
+        if (!(m >> i & 1)) continue;
+        for (int a = 0; a < n; ++a) {
+            if (m >> a & 1) continue;
+            uint64_t t = (m & ~(1ULL << i)) | 1ULL << a;
+            if (order == 1) {
+                if (c < cap) out[c] = t;
+                ++c;
+                continue;
+            }
+            for (int j = i + 1; j < n; ++j) {
+                if (!(t >> j & 1) || !(m >> j & 1)) continue;
+                for (int b = a + 1; b < n; ++b) {
+                    if ((t | m) >> b & 1) continue; /* b = i would repeat a single */
+                    if (c < cap) out[c] = (t & ~(1ULL << j)) | 1ULL << b;
+                    ++c;
+                }
+            }
+        }
+    }
+    return c;
+}
+
+static int by_energy(const void *x, const void *y)
+{
+    double a = ((const det_entry *)x)->e, b = ((const det_entry *)y)->e;
+    return (a > b) - (a < b);
+}
+
+enum { MAX_CANDIDATES = 400000 };
+
+/* Candidates: the singles and doubles of d (up to MAX_CANDIDATES), with
+ * energies multiplied by sign so that the best sort first. */
+static size_t candidates(const lam_spinfree *sf, det_entry d, double sign, det_entry *out)
+{
+    int n = sf->n;
+    size_t cap = MAX_CANDIDATES;
+    uint64_t *sa1 = lam_malloc(cap * sizeof(uint64_t)), *sb1 = lam_malloc(cap * sizeof(uint64_t));
+    uint64_t *sa2 = lam_malloc(cap * sizeof(uint64_t)), *sb2 = lam_malloc(cap * sizeof(uint64_t));
+    size_t na1 = string_moves(d.a, n, 1, sa1, cap), nb1 = string_moves(d.b, n, 1, sb1, cap);
+    size_t na2 = string_moves(d.a, n, 2, sa2, cap), nb2 = string_moves(d.b, n, 2, sb2, cap);
+    size_t c = 0;
+#define PUSH(A, B)                                                                          \
+    do {                                                                                    \
+        if (c < MAX_CANDIDATES) {                                                           \
+            out[c].a = (A);                                                                 \
+            out[c].b = (B);                                                                 \
+            out[c].e = sign * lam_ci_det_energy(sf, out[c].a, out[c].b);                    \
+            ++c;                                                                            \
+        }                                                                                   \
+    } while (0)
+    for (size_t i = 0; i < na1; ++i) PUSH(sa1[i], d.b);
+    for (size_t i = 0; i < nb1; ++i) PUSH(d.a, sb1[i]);
+    for (size_t i = 0; i < na2; ++i) PUSH(sa2[i], d.b);
+    for (size_t i = 0; i < nb2; ++i) PUSH(d.a, sb2[i]);
+    for (size_t i = 0; i < na1; ++i)
+        for (size_t j = 0; j < nb1; ++j) PUSH(sa1[i], sb1[j]);
+#undef PUSH
+    free(sa1);
+    free(sb1);
+    free(sa2);
+    free(sb2);
+    return c;
+}
+
+static double ritz_bound(const lam_spinfree *sf, int na, int nb, int subspace, double sign)
+{
+    det_entry d = {aufbau(sf, na, sign), aufbau(sf, nb, sign), 0};
+    d.e = lam_ci_det_energy(sf, d.a, d.b);
+    d = descend(sf, d, sign);
+    det_entry *cand = lam_malloc(MAX_CANDIDATES * sizeof(det_entry));
+    size_t nc = candidates(sf, d, sign, cand);
+    qsort(cand, nc, sizeof *cand, by_energy);
+    size_t m = 1 + (nc < (size_t)subspace - 1 ? nc : (size_t)subspace - 1);
+    det_entry *basis = lam_malloc(m * sizeof(det_entry));
+    basis[0] = d;
+    for (size_t i = 1; i < m; ++i) basis[i] = cand[i - 1];
+    double *a = lam_malloc(m * m * sizeof(double)), *w = lam_malloc(m * sizeof(double));
+    for (size_t i = 0; i < m; ++i)
+        for (size_t j = 0; j <= i; ++j)
+            a[i * m + j] = a[j * m + i] =
+                lam_ci_det_element(sf, basis[i].a, basis[i].b, basis[j].a, basis[j].b);
+    lam_eigen_dense((int)m, a, w);
+    double v = sign > 0 ? w[0] : w[m - 1];
+    free(cand);
+    free(basis);
+    free(a);
+    free(w);
+    return v;
+}
+
+void lam_ci_bounds(const lam_spinfree *sf, int na, int nb, int subspace, double *lo, double *hi)
+{
+    if (sf->n > 64) lam_fail(LAM_EX_DATA, "bounds need at most 64 orbitals, got %d", sf->n);
+    if (subspace < 1) subspace = 1;
+    if (lo) *lo = ritz_bound(sf, na, nb, subspace, 1.0);
+    if (hi) *hi = ritz_bound(sf, na, nb, subspace, -1.0);
+}

@@ -1,0 +1,447 @@
+/* fockop.c - Pauli operators on Fock-space sectors, matrix-free. */
+#include "fockop.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "ci.h"
+#include "util.h"
+
+typedef struct {
+    uint64_t x, z;
+    double re, im;
+} flat_term;
+
+static int by_flip(const void *a, const void *b)
+{
+    const flat_term *s = a, *t = b;
+    if (s->x != t->x) return s->x < t->x ? -1 : 1;
+    return (s->z > t->z) - (s->z < t->z);
+}
+
+lam_fockop *lam_fockop_new(const lam_pauli_set *s, const char *src)
+{
+    if (s->nqubits > 64)
+        lam_fail_at(LAM_EX_DATA, src, 0, "%d qubits: the Fock-space path handles at most 64",
+                    s->nqubits);
+    lam_fockop *op = lam_calloc(1, sizeof *op);
+    op->nqubits = s->nqubits;
+    size_t nt = s->count;
+    flat_term *t = lam_malloc(lam_mul_size(nt ? nt : 1, sizeof *t));
+    for (size_t i = 0; i < nt; ++i) {
+        uint64_t x = s->nwords ? lam_pauli_x(s, i)[0] : 0, z = s->nwords ? lam_pauli_z(s, i)[0] : 0;
+        int ny = __builtin_popcountll(x & z) & 3;
+        double c = s->coef[i];
+        /* i^ny */
+        static const double pr[4] = {1, 0, -1, 0}, pi[4] = {0, 1, 0, -1};
+        t[i] = (flat_term){x, z, c * pr[ny], c * pi[ny]};
+        if (t[i].im != 0) op->is_complex = 1;
+    }
+    qsort(t, nt, sizeof *t, by_flip);
+    op->flip = lam_malloc(lam_mul_size(nt + 1, sizeof(uint64_t)));
+    op->first = lam_malloc(lam_mul_size(nt + 2, sizeof(size_t)));
+    op->z = lam_malloc(lam_mul_size(nt + 1, sizeof(uint64_t)));
+    op->re = lam_malloc(lam_mul_size(nt + 1, sizeof(double)));
+    op->im = lam_malloc(lam_mul_size(nt + 1, sizeof(double)));
+    for (size_t i = 0; i < nt; ++i) {
+        if (i == 0 || t[i].x != t[i - 1].x) {
+            op->flip[op->nflip] = t[i].x;
+            op->first[op->nflip++] = i;
+        }
+        op->z[i] = t[i].z;
+        op->re[i] = t[i].re;
+        op->im[i] = t[i].im;
+    }
+    op->first[op->nflip] = nt;
+    free(t);
+    return op;
+}
+
+void lam_fockop_free(lam_fockop *op)
+{
+    if (!op) return;
+    free(op->flip);
+    free(op->first);
+    free(op->z);
+    free(op->re);
+    free(op->im);
+    free(op);
+}
+
+static int parity(uint64_t v) { return __builtin_popcountll(v) & 1; }
+
+/* <b|H|b ^ flip[f]> as a complex number, from the source string src = b ^ x. */
+static void group_element(const lam_fockop *op, size_t f, uint64_t src, double *er, double *ei)
+{
+    double r = 0, i = 0;
+    for (size_t t = op->first[f]; t < op->first[f + 1]; ++t) {
+        double s = parity(src & op->z[t]) ? -1.0 : 1.0;
+        r += s * op->re[t];
+        i += s * op->im[t];
+    }
+    *er = r;
+    *ei = i;
+}
+
+/* Terms of group f whose z agrees with zout outside the flip: check that
+ * the element vanishes for every source pattern on x that changes the
+ * weight on mask. */
+static int group_conserves(const lam_fockop *op, size_t f, uint64_t mask)
+{
+    uint64_t x = op->flip[f];
+    double scale = 0;
+    for (size_t t = op->first[f]; t < op->first[f + 1]; ++t) scale += fabs(op->re[t]) + fabs(op->im[t]);
+    double tol = 1e-12 * (scale > 1 ? scale : 1);
+    for (size_t t0 = op->first[f]; t0 < op->first[f + 1]; ++t0) {
+        uint64_t zout = op->z[t0] & ~x;
+        /* each distinct zout once: skip if an earlier term had it */
+        int seen = 0;
+        for (size_t u = op->first[f]; u < t0 && !seen; ++u) seen = (op->z[u] & ~x) == zout;
+        if (seen) continue;
+        uint64_t sub = 0;
+        do {
+            int change = __builtin_popcountll(x & mask & ~sub) - __builtin_popcountll(x & mask & sub);
+            if (change != 0) {
+                double r = 0, i = 0;
+                for (size_t t = op->first[f]; t < op->first[f + 1]; ++t) {
+                    if ((op->z[t] & ~x) != zout) continue;
+                    double s = parity(sub & op->z[t]) ? -1.0 : 1.0;
+                    r += s * op->re[t];
+                    i += s * op->im[t];
+                }
+                if (fabs(r) > tol || fabs(i) > tol) return 0;
+            }
+            sub = (sub - x) & x; /* next subset of x */
+        } while (sub != 0);
+    }
+    return 1;
+}
+
+int lam_fockop_conserves(const lam_fockop *op, uint64_t mask)
+{
+    for (size_t f = 0; f < op->nflip; ++f) {
+        uint64_t x = op->flip[f];
+        if (!(x & mask)) continue;
+        if (__builtin_popcountll(x) > 20) return 0;
+        if (!group_conserves(op, f, mask)) return 0;
+    }
+    return 1;
+}
+
+/* ---- sector indexing ---- */
+
+typedef struct {
+    const lam_fockop *op;
+    lam_fock_sector sec;
+    size_t count_a, count_b, dim;
+    uint64_t *states;        /* NULL for the full space (index = string) */
+    uint64_t ctab_a[8][256]; /* byte -> compressed bits of mask_a, in place */
+    uint64_t ctab_b[8][256];
+} sector_index;
+
+static void compress_tables(uint64_t mask, uint64_t tab[8][256])
+{
+    for (int k = 0; k < 8; ++k) {
+        int offset = __builtin_popcountll(k ? mask & ((~0ULL) >> (64 - 8 * k)) : 0);
+        for (int v = 0; v < 256; ++v) {
+            uint64_t out = 0;
+            int o = offset;
+            for (int bit = 0; bit < 8; ++bit) {
+                int pos = 8 * k + bit;
+                if (!(mask >> pos & 1)) continue;
+                if (v >> bit & 1) out |= 1ULL << o;
+                ++o;
+            }
+            tab[k][v] = out;
+        }
+    }
+}
+
+static uint64_t compress(uint64_t b, uint64_t tab[8][256])
+{
+    uint64_t out = 0;
+    for (int k = 0; k < 8; ++k) out |= tab[k][(b >> (8 * k)) & 0xFF];
+    return out;
+}
+
+static uint64_t expand(uint64_t c, uint64_t mask)
+{
+    uint64_t out = 0;
+    for (int pos = 0; c && pos < 64; ++pos) {
+        if (!(mask >> pos & 1)) continue;
+        if (c & 1) out |= 1ULL << pos;
+        c >>= 1;
+    }
+    return out;
+}
+
+static size_t full_dim(int nq) { return nq >= 63 ? SIZE_MAX : (size_t)1 << nq; }
+
+size_t lam_fock_sector_dim(const lam_fockop *op, const lam_fock_sector *sec)
+{
+    if (sec->full) return full_dim(op->nqubits);
+    size_t a = lam_ci_binomial(__builtin_popcountll(sec->mask_a), sec->na);
+    size_t b = lam_ci_binomial(__builtin_popcountll(sec->mask_b), sec->nb);
+    if (a == SIZE_MAX || b == SIZE_MAX || (b && a > SIZE_MAX / b)) return SIZE_MAX;
+    return a * b;
+}
+
+static int in_sector(const sector_index *ix, uint64_t b)
+{
+    if (ix->sec.full) return 1;
+    return __builtin_popcountll(b & ix->sec.mask_a) == ix->sec.na &&
+           __builtin_popcountll(b & ix->sec.mask_b) == ix->sec.nb;
+}
+
+static size_t index_of(sector_index *ix, uint64_t b)
+{
+    if (ix->sec.full) return (size_t)b;
+    size_t ra = lam_ci_string_rank(compress(b, ix->ctab_a));
+    size_t rb = lam_ci_string_rank(compress(b, ix->ctab_b));
+    return ra * ix->count_b + rb;
+}
+
+static uint64_t first_string(int k)
+{
+    return k == 0 ? 0 : (k >= 64 ? ~0ULL : (1ULL << k) - 1);
+}
+
+static uint64_t next_string(uint64_t v)
+{
+    uint64_t c = v & -v, r = v + c;
+    return (((r ^ v) >> 2) / c) | r;
+}
+
+static sector_index *sector_index_new(const lam_fockop *op, const lam_fock_sector *sec, int list)
+{
+    sector_index *ix = lam_calloc(1, sizeof *ix);
+    ix->op = op;
+    ix->sec = *sec;
+    ix->dim = lam_fock_sector_dim(op, sec);
+    if (ix->dim == SIZE_MAX) lam_fail(LAM_EX_SOFTWARE, "sector too large to index");
+    if (sec->full) return ix;
+    compress_tables(sec->mask_a, ix->ctab_a);
+    compress_tables(sec->mask_b, ix->ctab_b);
+    ix->count_a = lam_ci_binomial(__builtin_popcountll(sec->mask_a), sec->na);
+    ix->count_b = lam_ci_binomial(__builtin_popcountll(sec->mask_b), sec->nb);
+    if (!list) return ix;
+    ix->states = lam_malloc(lam_mul_size(ix->dim, sizeof(uint64_t)));
+    uint64_t ca = first_string(sec->na);
+    for (size_t ia = 0; ia < ix->count_a; ++ia, ca = ia < ix->count_a ? next_string(ca) : ca) {
+        uint64_t ea = expand(ca, sec->mask_a), cb = first_string(sec->nb);
+        for (size_t ib = 0; ib < ix->count_b; ++ib, cb = ib < ix->count_b ? next_string(cb) : cb)
+            ix->states[ia * ix->count_b + ib] = ea | expand(cb, sec->mask_b);
+    }
+    return ix;
+}
+
+static void sector_index_free(sector_index *ix)
+{
+    if (!ix) return;
+    free(ix->states);
+    free(ix);
+}
+
+static uint64_t state_at(const sector_index *ix, size_t i)
+{
+    return ix->states ? ix->states[i] : (uint64_t)i;
+}
+
+/* ---- the operator on a sector ---- */
+
+static double diagonal_of(const lam_fockop *op, uint64_t b)
+{
+    if (op->nflip == 0 || op->flip[0] != 0) return 0;
+    double r, i;
+    group_element(op, 0, b, &r, &i);
+    return r;
+}
+
+/* y = H x in the real form: x, y of length dim (real operator) or 2 dim
+ * (real part, then imaginary part). */
+static void fock_apply(void *ctx, const double *x, double *y)
+{
+    sector_index *ix = ctx;
+    const lam_fockop *op = ix->op;
+    size_t dim = ix->dim;
+    int cplx = op->is_complex;
+    for (size_t i = 0; i < dim; ++i) {
+        uint64_t b = state_at(ix, i);
+        double yr = 0, yi = 0;
+        for (size_t f = 0; f < op->nflip; ++f) {
+            uint64_t src = b ^ op->flip[f];
+            if (!in_sector(ix, src)) continue;
+            size_t j = index_of(ix, src);
+            double er, ei;
+            group_element(op, f, src, &er, &ei);
+            if (cplx) {
+                yr += er * x[j] - ei * x[dim + j];
+                yi += er * x[dim + j] + ei * x[j];
+            } else {
+                yr += er * x[j];
+            }
+        }
+        y[i] = yr;
+        if (cplx) y[dim + i] = yi;
+    }
+}
+
+size_t lam_fock_solve_bytes(const lam_fockop *op, const lam_fock_sector *sec,
+                            const lam_eigen_problem *tmpl)
+{
+    size_t dim = lam_fock_sector_dim(op, sec);
+    if (dim == SIZE_MAX || dim > ((size_t)1 << 40)) return SIZE_MAX;
+    size_t n = op->is_complex ? 2 * dim : dim;
+    size_t bytes = n * sizeof(double);                /* diagonal */
+    if (!sec->full) bytes += dim * sizeof(uint64_t);  /* strings */
+    return bytes + lam_eigen_bytes(n, tmpl->max_subspace, tmpl->dense_limit);
+}
+
+void lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec,
+                    const lam_eigen_problem *tmpl, lam_eigen_result *lo, lam_eigen_result *hi)
+{
+    sector_index *ix = sector_index_new(op, sec, 1);
+    size_t n = op->is_complex ? 2 * ix->dim : ix->dim;
+    double *diag = lam_malloc(lam_mul_size(n, sizeof(double)));
+    for (size_t i = 0; i < ix->dim; ++i) {
+        diag[i] = diagonal_of(op, state_at(ix, i));
+        if (op->is_complex) diag[ix->dim + i] = diag[i];
+    }
+    lam_eigen_problem p = *tmpl;
+    p.dim = n;
+    p.apply = fock_apply;
+    p.ctx = ix;
+    p.diag = diag;
+    if (lo) {
+        p.highest = 0;
+        lam_eigen_extreme(&p, lo, NULL);
+    }
+    if (hi) {
+        p.highest = 1;
+        lam_eigen_extreme(&p, hi, NULL);
+    }
+    free(diag);
+    sector_index_free(ix);
+}
+
+/* ---- inner bounds ---- */
+
+static size_t find_flip(const lam_fockop *op, uint64_t x)
+{
+    size_t lo = 0, hi = op->nflip;
+    while (lo < hi) {
+        size_t mid = (lo + hi) / 2;
+        if (op->flip[mid] < x) lo = mid + 1;
+        else hi = mid;
+    }
+    return lo < op->nflip && op->flip[lo] == x ? lo : SIZE_MAX;
+}
+
+/* <row|H|col> */
+static void element(const lam_fockop *op, uint64_t row, uint64_t col, double *er, double *ei)
+{
+    size_t f = find_flip(op, row ^ col);
+    *er = *ei = 0;
+    if (f != SIZE_MAX) group_element(op, f, col, er, ei);
+}
+
+/* Best string by steepest descent of sign * diagonal over moves of one bit
+ * within a mask (any single flip for the full space). */
+static uint64_t descend(const lam_fockop *op, const lam_fock_sector *sec, double sign)
+{
+    int nq = op->nqubits;
+    uint64_t b = sec->full ? 0 : expand(first_string(sec->na), sec->mask_a) |
+                                     expand(first_string(sec->nb), sec->mask_b);
+    double e = sign * diagonal_of(op, b);
+    for (int improved = 1; improved;) {
+        improved = 0;
+        uint64_t best = b;
+        double be = e;
+        for (int i = 0; i < nq; ++i)
+            for (int j = sec->full ? i : 0; j < nq; ++j) {
+                uint64_t c;
+                if (sec->full) {
+                    if (j != i) continue;
+                    c = b ^ (1ULL << i);
+                } else {
+                    int same_a = (sec->mask_a >> i & 1) && (sec->mask_a >> j & 1);
+                    int same_b = (sec->mask_b >> i & 1) && (sec->mask_b >> j & 1);
+                    if (!(b >> i & 1) || (b >> j & 1) || !(same_a || same_b)) continue;
+                    c = (b & ~(1ULL << i)) | 1ULL << j;
+                }
+                double ce = sign * diagonal_of(op, c);
+                if (ce < be - 1e-14) {
+                    be = ce;
+                    best = c;
+                }
+            }
+        if (best != b) {
+            b = best;
+            e = be;
+            improved = 1;
+        }
+    }
+    return b;
+}
+
+typedef struct {
+    uint64_t b;
+    double w;
+} neighbour;
+
+static int by_weight(const void *a, const void *b)
+{
+    double x = ((const neighbour *)a)->w, y = ((const neighbour *)b)->w;
+    return (x < y) - (x > y);
+}
+
+static double ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subspace,
+                         double sign)
+{
+    sector_index *ix = sector_index_new(op, sec, 0);
+    uint64_t b0 = descend(op, sec, sign);
+    neighbour *nb = lam_malloc(lam_mul_size(op->nflip + 1, sizeof *nb));
+    size_t k = 0;
+    for (size_t f = 0; f < op->nflip; ++f) {
+        if (op->flip[f] == 0) continue;
+        uint64_t c = b0 ^ op->flip[f];
+        if (!in_sector(ix, c)) continue;
+        double er, ei;
+        element(op, b0, c, &er, &ei);
+        if (er == 0 && ei == 0) continue;
+        nb[k++] = (neighbour){c, hypot(er, ei)};
+    }
+    qsort(nb, k, sizeof *nb, by_weight);
+    size_t m = 1 + (k < (size_t)subspace - 1 ? k : (size_t)subspace - 1);
+    uint64_t *basis = lam_malloc(m * sizeof(uint64_t));
+    basis[0] = b0;
+    for (size_t i = 1; i < m; ++i) basis[i] = nb[i - 1].b;
+    /* the real form [[A, -B], [B, A]] of the Hermitian projection */
+    size_t r = 2 * m;
+    double *a = lam_calloc(r * r, sizeof(double)), *w = lam_malloc(r * sizeof(double));
+    for (size_t i = 0; i < m; ++i)
+        for (size_t j = 0; j < m; ++j) {
+            double er, ei;
+            element(op, basis[i], basis[j], &er, &ei);
+            a[i * r + j] = a[(m + i) * r + m + j] = er;
+            a[i * r + m + j] = -ei;
+            a[(m + i) * r + j] = ei;
+        }
+    lam_eigen_dense((int)r, a, w);
+    double v = sign > 0 ? w[0] : w[r - 1];
+    free(nb);
+    free(basis);
+    free(a);
+    free(w);
+    sector_index_free(ix);
+    return v;
+}
+
+void lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double *lo,
+                     double *hi)
+{
+    if (subspace < 1) subspace = 1;
+    if (lo) *lo = ritz_bound(op, sec, subspace, 1.0);
+    if (hi) *hi = ritz_bound(op, sec, subspace, -1.0);
+}
