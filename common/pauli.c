@@ -376,13 +376,15 @@ static int highest_qubit(const lam_pauli_set *s)
     return top;
 }
 
-void lam_pauli_read(lam_reader *r, lam_pauli_set *s)
+void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines)
 {
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
     int bounded = declared >= 0;
     int nw = s->nwords;
     uint64_t *scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+    size_t lines_cap = 0;
+    if (lines) *lines = NULL;
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
         int32_t group;
@@ -394,11 +396,18 @@ void lam_pauli_read(lam_reader *r, lam_pauli_set *s)
             free(scratch);
             scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
         }
+        if (lines && s->count == lines_cap) {
+            lines_cap = lines_cap ? lam_mul_size(lines_cap, 2) : 1024;
+            *lines = lam_realloc(*lines, lam_mul_size(lines_cap, sizeof(long)));
+        }
+        if (lines) (*lines)[s->count] = ln.line;
         lam_pauli_set_add(s, scratch, scratch + nw, ln.coef, group);
     }
     free(scratch);
     if (!bounded) s->nqubits = highest_qubit(s);
 }
+
+void lam_pauli_read(lam_reader *r, lam_pauli_set *s) { lam_pauli_read_lines(r, s, NULL); }
 
 void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
 {

@@ -98,6 +98,10 @@ size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
 /* Read the terms of a pauli stream ("qubits:" from the header, else the
  * largest index + 1); exit 65 with file:line on a malformed term. */
 void lam_pauli_read(lam_reader *r, lam_pauli_set *s);
+/* The same, and *lines (malloc'd, s->count entries; NULL when the stream
+ * has no terms) gets the input line of each term, in order.  lines may be
+ * NULL. */
+void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines);
 /* Parse one term's fields into x,z (zeroed first) and the optional
  * trailing "@g" label (-1 when absent); nqubits < 0 means unbounded. */
 void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln,

@@ -3,6 +3,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "fermion.h"
 #include "pauli.h"
@@ -98,10 +99,17 @@ static void norm_pauli(lam_report *rep, lam_reader *r)
     lam_report_num(rep, "constant", lam_pauli_set_constant(&s));
     lam_report_num(rep, "lambda", lam_pauli_set_lambda(&s));
     if (s.group) {
+        /* a label names an anticommuting group unless the header says the
+         * groups only commute (measurement groups are not unitaries up to
+         * scale, so they have no grouped one-norm) */
+        const char *grouping = lam_meta_get(lam_reader_meta(r), "grouping");
         size_t groups;
         double grouped = lam_pauli_set_lambda_grouped(&s, &groups);
         lam_report_int(rep, "groups", (long long)groups);
-        lam_report_num(rep, "lambda_grouped", grouped);
+        if (!grouping || strcmp(grouping, "anticommuting") == 0)
+            lam_report_num(rep, "lambda_grouped", grouped);
+        else
+            lam_report_str(rep, "grouping", grouping);
     }
     lam_report_int(rep, "qubits", s.nqubits);
     lam_report_int(rep, "max_weight", lam_pauli_set_max_weight(&s));
