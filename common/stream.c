@@ -155,7 +155,9 @@ struct lam_reader {
     int fields_cap;
 };
 
-enum { READ_CHUNK = 1 << 20 };
+/* The buffer starts small (many streams are short) and doubles only for
+ * lines longer than it. */
+enum { READ_START = 1 << 16, READ_MIN = 1 << 12 };
 
 const char *lam_reader_name(const lam_reader *r) { return r->name; }
 long lam_reader_lineno(const lam_reader *r) { return r->lineno; }
@@ -191,8 +193,8 @@ static size_t refill(lam_reader *r)
         r->pos = 0;
     }
     if (r->eof) return r->len;
-    if (r->cap - r->len < READ_CHUNK) {
-        r->cap = r->cap ? 2 * r->cap : 2 * READ_CHUNK;
+    if (r->cap - r->len < READ_MIN) {
+        r->cap = r->cap ? 2 * r->cap : READ_START;
         r->buf = lam_realloc(r->buf, r->cap + 1);
     }
     int got = gzread(r->gz, r->buf + r->len, (unsigned)(r->cap - r->len));
@@ -212,6 +214,7 @@ static size_t refill(lam_reader *r)
  * NULL at EOF. */
 static char *raw_line(lam_reader *r)
 {
+    if (!r->buf) refill(r);
     for (;;) {
         char *start = r->buf + r->pos;
         char *nl = r->len > r->pos ? memchr(start, '\n', r->len - r->pos) : NULL;

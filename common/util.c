@@ -11,6 +11,15 @@
 
 static const char *program_name = "lamina";
 static int progress_mode = -1; /* -1: decide from isatty(2) */
+static jmp_buf *fail_target;
+
+void lam_fail_jump(jmp_buf *where) { fail_target = where; }
+
+static _Noreturn void leave(int code)
+{
+    if (fail_target) longjmp(*fail_target, code);
+    exit(code);
+}
 
 void lam_set_program(const char *argv0)
 {
@@ -36,20 +45,24 @@ static void vreport(const char *file, long line, const char *fmt, va_list ap)
 
 void lam_fail(int code, const char *fmt, ...)
 {
-    va_list ap;
-    va_start(ap, fmt);
-    vreport(NULL, 0, fmt, ap);
-    va_end(ap);
-    exit(code);
+    if (!fail_target) {
+        va_list ap;
+        va_start(ap, fmt);
+        vreport(NULL, 0, fmt, ap);
+        va_end(ap);
+    }
+    leave(code);
 }
 
 void lam_fail_at(int code, const char *file, long line, const char *fmt, ...)
 {
-    va_list ap;
-    va_start(ap, fmt);
-    vreport(file, line, fmt, ap);
-    va_end(ap);
-    exit(code);
+    if (!fail_target) {
+        va_list ap;
+        va_start(ap, fmt);
+        vreport(file, line, fmt, ap);
+        va_end(ap);
+    }
+    leave(code);
 }
 
 void lam_warn(const char *fmt, ...)

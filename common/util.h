@@ -35,6 +35,12 @@ _Noreturn void lam_fail(int code, const char *fmt, ...)
 _Noreturn void lam_fail_at(int code, const char *file, long line,
                            const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
+/* For the fuzz targets: while set, lam_fail and lam_fail_at print nothing
+ * and longjmp to *where with the exit code instead of exiting (what was
+ * allocated before the jump is not freed).  NULL restores exiting. */
+#include <setjmp.h>
+void lam_fail_jump(jmp_buf *where);
+
 /* Print "prog: msg" as a warning; does not exit. */
 void lam_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 
