@@ -458,3 +458,126 @@ void lam_shift_describe(const lam_shift *k, lam_meta *meta)
         add_matrix(meta, "shift-zeta", k, k->izeta);
     }
 }
+
+/* ---- fermion input ---- */
+
+typedef struct {
+    int n;
+    lam_spin_order order;
+    const char *src;
+} mode_map;
+
+static void orbital_of(const mode_map *mm, int mode, int *p, int *spin)
+{
+    if (mm->order == LAM_SPIN_INTERLEAVED) {
+        *p = mode / 2;
+        *spin = mode % 2;
+    } else {
+        *p = mode % mm->n;
+        *spin = mode / mm->n;
+    }
+}
+
+static _Noreturn void not_spin_free(const mode_map *mm, long line, const char *why)
+{
+    lam_fail_at(LAM_EX_DATA, mm->src, line, "the operator is not spin-free: %s", why);
+}
+
+static size_t idx4(int n, int p, int q, int r, int s)
+{
+    return (((size_t)p * n + q) * n + r) * n + s;
+}
+
+/* Opposite-spin pairs fix every (pq|rs): c a+_x a+_y a_z a_w, brought to
+ * the order a+_(p up) a+_(r down) a_(s down) a_(q up), is (pq|rs) of
+ * 1/2 sum (pq|rs) e_pqrs.  Equal-spin pairs are then checked against
+ * (pw|yz) - (pz|yw), which is what a spin-free operator gives them. */
+lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order order,
+                                     const char *src)
+{
+    if (in->nmodes % 2 != 0)
+        lam_fail_at(LAM_EX_DATA, src, 0,
+                    "the operator is not spin-free: an odd number of modes (%d)", in->nmodes);
+    lam_fermion_op op;
+    lam_fermion_normal_order(in, &op);
+    int n = op.nmodes / 2;
+    mode_map mm = {n, order, src};
+    lam_spinfree *sf = lam_spinfree_new(n);
+    size_t n4 = (size_t)n * n * n * n;
+    double *t[2] = {lam_calloc((size_t)n * n + 1, sizeof(double)),
+                    lam_calloc((size_t)n * n + 1, sizeof(double))};
+    double *same[2] = {lam_calloc(n4 + 1, sizeof(double)), lam_calloc(n4 + 1, sizeof(double))};
+    long *same_line[2] = {lam_calloc(n4 + 1, sizeof(long)), lam_calloc(n4 + 1, sizeof(long))};
+    double big = 0;
+    for (size_t k = 0; k < op.count; ++k) {
+        const int32_t *o = op.ops + op.first[k];
+        size_t len = lam_fermion_length(&op, k);
+        double c = op.coef[k];
+        big = fmax(big, fabs(c));
+        if (len == 0) {
+            sf->e0 += c;
+            continue;
+        }
+        int cre = 0;
+        for (size_t i = 0; i < len; ++i) cre += LAM_LADDER_IS_CREATOR(o[i]) ? 1 : 0;
+        if ((len != 2 && len != 4) || 2 * (size_t)cre != len)
+            not_spin_free(&mm, op.line[k], "a term that is not a+ a or a+ a+ a a");
+        int p[4], s[4];
+        for (size_t i = 0; i < len; ++i) orbital_of(&mm, LAM_LADDER_MODE(o[i]), &p[i], &s[i]);
+        if (len == 2) {
+            if (s[0] != s[1]) not_spin_free(&mm, op.line[k], "a term that flips a spin");
+            t[s[0]][p[0] * n + p[1]] += c;
+            continue;
+        }
+        /* a+_0 a+_1 a_2 a_3 */
+        if (s[0] + s[1] != s[2] + s[3]) not_spin_free(&mm, op.line[k], "a term that changes Sz");
+        if (s[0] == s[1]) {
+            if (s[2] != s[0]) not_spin_free(&mm, op.line[k], "a term that flips spins");
+            /* creators descend and annihilators ascend in mode, hence in
+             * orbital within one spin */
+            size_t i = idx4(n, p[0], p[1], p[2], p[3]);
+            same[s[0]][i] += c;
+            if (!same_line[s[0]][i]) same_line[s[0]][i] = op.line[k];
+            continue;
+        }
+        int up_c = s[0] == 0 ? 0 : 1, dn_c = 1 - up_c;
+        int up_a = s[2] == 0 ? 2 : 3, dn_a = 5 - up_a;
+        double sign = (up_c == 0 ? 1 : -1) * (dn_a == 2 ? 1 : -1);
+        LAM_G(sf, p[up_c], p[up_a], p[dn_c], p[dn_a]) += sign * c;
+    }
+    double tol = 1e-12 * fmax(big, 1e-300);
+    for (int i = 0; i < n * n; ++i) {
+        if (fabs(t[0][i] - t[1][i]) > tol)
+            not_spin_free(&mm, 0, "the one-body terms of the two spins differ");
+        sf->h[i] = 0.5 * (t[0][i] + t[1][i]);
+    }
+    for (int a = 0; a < n; ++a)
+        for (int b = 0; b < n; ++b)
+            for (int c = 0; c < n; ++c)
+                for (int d = 0; d < n; ++d)
+                    if (fabs(LAM_G(sf, a, b, c, d) - LAM_G(sf, c, d, a, b)) > tol)
+                        not_spin_free(&mm, 0, "up-down and down-up pair terms differ");
+    for (int sp = 0; sp < 2; ++sp)
+        for (int x = 0; x < n; ++x)
+            for (int y = 0; y < x; ++y)
+                for (int z = 0; z < n; ++z)
+                    for (int w = z + 1; w < n; ++w) {
+                        size_t i = idx4(n, x, y, z, w);
+                        double want = LAM_G(sf, x, w, y, z) - LAM_G(sf, x, z, y, w);
+                        if (fabs(same[sp][i] - want) > tol) {
+                            char why[160];
+                            snprintf(why, sizeof why,
+                                     "equal-spin pair term (orbitals %d %d %d %d, spin %s) is "
+                                     "%.6g, its opposite-spin terms imply %.6g",
+                                     x, y, z, w, sp ? "down" : "up", same[sp][i], want);
+                            not_spin_free(&mm, same_line[sp][i], why);
+                        }
+                    }
+    for (int sp = 0; sp < 2; ++sp) {
+        free(t[sp]);
+        free(same[sp]);
+        free(same_line[sp]);
+    }
+    lam_fermion_free(&op);
+    return sf;
+}

@@ -82,6 +82,14 @@ lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k);
 void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,
                              lam_spin_order order, lam_fermion_op *out);
 
+/* A fermion operator (any order of ladder terms) as a spin-free one:
+ * normal-ordered, it must consist of a constant, a+ a and a+ a+ a a terms
+ * that conserve every spin and have the pattern of E_pq and e_pqrs
+ * (to 1e-12 of its largest coefficient); else exit 65 naming src and the
+ * line of the first offending term.  electrons and ms2 are left unset. */
+lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *op, lam_spin_order order,
+                                     const char *src);
+
 /* Put the parameters in metadata ("shift-a1: ...", one "shift-xi: p q v"
  * per non-zero element with p <= q, ...), replacing earlier shift-*
  * entries. */

@@ -1,0 +1,331 @@
+/* lam-shift - the optimal symmetry shift H - K, certified by an LP gap. */
+#include <getopt.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "fermion.h"
+#include "lp.h"
+#include "report.h"
+#include "shift.h"
+#include "spinfree.h"
+#include "stream.h"
+#include "util.h"
+
+static _Noreturn void usage(void)
+{
+    printf(
+        "Usage: %s [OPTION]... [STREAM]\n"
+        "Find the shift K = a1 (N - N0) + a2 (N^2 - N0^2) + sum_pq xi_pq E_pq (N - N0)\n"
+        "that minimizes the Pauli (Majorana) one-norm lambda of H - K, and write H - K.\n"
+        "K is zero on every N0-electron state, so H - K has the eigenvalues of H (Eh)\n"
+        "there.  The minimum is found as a linear program; the report gives lambda\n"
+        "before and after (Eh) and the certified gap to the true minimum.\n"
+        "Input: spinfree stream (fermion streams that are spin-free are folded).\n\n"
+        "  -e, --electrons N    target electron number N0 (default: electrons: of the\n"
+        "                       stream)\n"
+        "      --terms LIST     parts of K: a1,a2,xi (default), xi-diag (only the\n"
+        "                       diagonal of xi), and with --spin b1,b2,zeta,zeta-diag\n"
+        "      --spin           add b1 (Sz - S0) + b2 (Sz^2 - S0^2) + sum zeta_pq E_pq\n"
+        "                       (Sz - S0); H - K is then written as a fermion stream\n"
+        "      --sz S           target spin projection S0 for --spin (default: ms2/2\n"
+        "                       of the stream), e.g. 0 or 0.5\n"
+        "      --spin-order O   fermion output: interleaved (default) or blocked\n"
+        "      --emit-shift     write K instead of H - K\n"
+        "      --gap G          stop at relative gap G (default 1e-10)\n"
+        "      --max-iter N     interior-point iterations at most (default 200)\n"
+        "      --report FILE    write the report to FILE (default: stderr)\n"
+        "  -t, --tsv            report as one header row and one value row\n"
+        "      --dump-lp FILE   write the linear program (for checking with other\n"
+        "                       solvers)\n"
+        "  -o, --output FILE    write the operator to FILE instead of stdout\n"
+        "  -z, --gzip           gzip the output\n"
+        "      --progress       progress on stderr (default: when a terminal)\n"
+        "  -q, --quiet          no progress\n"
+        "  -h, --help           show this help\n"
+        "      --version        show the version\n\n"
+        "Example:\n"
+        "  lam-ints h2o.fcidump | %s --report shift.txt | lam-map | lam-norm\n",
+        lam_program(), lam_program());
+    exit(0);
+}
+
+typedef struct {
+    long electrons;
+    int ms2, have_ms2;
+    unsigned terms;
+    int spin, emit_shift, tsv, gzip;
+    lam_spin_order order;
+    double gap;
+    long max_iter;
+    const char *report, *dump, *output, *input;
+} options;
+
+enum { OPT_TERMS = 256, OPT_SPIN, OPT_SZ, OPT_ORDER, OPT_EMIT, OPT_GAP, OPT_ITER,
+       OPT_REPORT, OPT_DUMP, OPT_PROGRESS, OPT_VERSION };
+
+static void parse_options(int argc, char **argv, options *o)
+{
+    static const struct option opts[] = {
+        {"electrons", required_argument, 0, 'e'}, {"terms", required_argument, 0, OPT_TERMS},
+        {"spin", no_argument, 0, OPT_SPIN},       {"sz", required_argument, 0, OPT_SZ},
+        {"spin-order", required_argument, 0, OPT_ORDER},
+        {"emit-shift", no_argument, 0, OPT_EMIT}, {"gap", required_argument, 0, OPT_GAP},
+        {"max-iter", required_argument, 0, OPT_ITER},
+        {"report", required_argument, 0, OPT_REPORT}, {"tsv", no_argument, 0, 't'},
+        {"dump-lp", required_argument, 0, OPT_DUMP}, {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},            {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},           {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, OPT_VERSION}, {0, 0, 0, 0}};
+    memset(o, 0, sizeof *o);
+    o->electrons = -1;
+    o->terms = 0;
+    o->gap = 1e-10;
+    o->max_iter = 200;
+    int explicit_terms = 0, c;
+    while ((c = getopt_long(argc, argv, "e:to:zqh", opts, NULL)) != -1) {
+        switch (c) {
+        case 'e': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
+        case OPT_TERMS:
+            if (lam_shift_parse_terms(optarg, &o->terms) != 0 || o->terms == 0)
+                lam_usage_error("--terms wants a comma-separated list of a1, a2, xi, xi-diag, "
+                                "b1, b2, zeta, zeta-diag, not '%s'", optarg);
+            explicit_terms = 1;
+            break;
+        case OPT_SPIN: o->spin = 1; break;
+        case OPT_SZ: {
+            double sz = lam_opt_double("--sz", optarg);
+            if (fabs(sz) > 1e6 || 2 * sz != floor(2 * sz))
+                lam_usage_error("--sz wants a whole or half-whole number, not '%s'", optarg);
+            o->ms2 = (int)(2 * sz);
+            o->have_ms2 = 1;
+            break;
+        }
+        case OPT_ORDER:
+            if (lam_spin_order_parse(optarg, &o->order) != 0)
+                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
+            break;
+        case OPT_EMIT: o->emit_shift = 1; break;
+        case OPT_GAP:
+            o->gap = lam_opt_double("--gap", optarg);
+            if (!(o->gap > 0) || o->gap >= 1)
+                lam_usage_error("--gap wants a relative gap between 0 and 1, not '%s'", optarg);
+            break;
+        case OPT_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
+        case OPT_REPORT: o->report = optarg; break;
+        case 't': o->tsv = 1; break;
+        case OPT_DUMP: o->dump = optarg; break;
+        case 'o': o->output = optarg; break;
+        case 'z': o->gzip = 1; break;
+        case OPT_PROGRESS: lam_progress_set(1); break;
+        case 'q': lam_progress_set(0); break;
+        case 'h': usage();
+        case OPT_VERSION: lam_print_version();
+        default: lam_usage_error("unknown option");
+        }
+    }
+    if (!explicit_terms) o->terms = LAM_SHIFT_DEFAULT | (o->spin ? LAM_SHIFT_SPIN_DEFAULT : 0);
+    if ((o->terms & LAM_SHIFT_SPIN_TERMS) && !o->spin)
+        lam_usage_error("--terms b1, b2, zeta and zeta-diag need --spin");
+    if (argc - optind > 1) lam_usage_error("one input stream at a time");
+    o->input = optind < argc ? argv[optind] : NULL;
+}
+
+static lam_spinfree *read_operator(lam_reader *r)
+{
+    lam_kind kind = lam_reader_kind(r);
+    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r);
+    if (kind == LAM_KIND_FERMION) {
+        lam_spin_order order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+        lam_fermion_op op;
+        lam_fermion_read(r, &op);
+        lam_spinfree *sf = lam_shift_fold_fermion(&op, order, lam_reader_name(r));
+        sf->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n);
+        sf->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -2L * sf->n, 2L * sf->n);
+        lam_fermion_free(&op);
+        return sf;
+    }
+    lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
+                "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
+}
+
+/* The closed-form one-norm the LP rests on needs the 8-fold symmetry of
+ * real integrals; 17-digit files keep it far below this bound. */
+static void require_real_symmetry(const lam_spinfree *sf, const char *src)
+{
+    size_t nn = (size_t)sf->n * (size_t)sf->n;
+    double big = 0;
+    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
+    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
+    double err = lam_spinfree_real_symmetry_error(sf);
+    if (err > 1e-12 * big)
+        lam_fail_at(LAM_EX_DATA, src, 0,
+                    "the integrals lack the 8-fold symmetry of real orbitals "
+                    "(largest violation %.3g Eh); the one-norm the shift minimizes needs it",
+                    err);
+}
+
+static void resolve_target(const options *o, lam_spinfree *sf, const char *src, lam_shift **k)
+{
+    long n0 = o->electrons >= 0 ? o->electrons : sf->electrons;
+    if (n0 < 0)
+        lam_usage_error("%s has no 'electrons:' line: give --electrons N", src);
+    if (n0 > 2L * sf->n)
+        lam_usage_error("%ld electrons do not fit in %d orbitals", n0, sf->n);
+    int ms2 = o->have_ms2 ? o->ms2 : sf->ms2;
+    if (o->spin) {
+        long room = n0 < 2L * sf->n - n0 ? n0 : 2L * sf->n - n0;
+        if (labs((long)ms2) > room || (n0 - ms2) % 2 != 0)
+            lam_usage_error("no state of %ld electrons in %d orbitals has Sz = %g", n0, sf->n,
+                            0.5 * ms2);
+    }
+    sf->electrons = (int)n0;
+    *k = lam_shift_new(sf->n, (int)n0, ms2, o->terms);
+}
+
+static void show_iteration(int it, double primal, double dual, void *ctx)
+{
+    double fixed = *(const double *)ctx;
+    lam_progress("iteration %d: lambda %.12g Eh, lower bound %.12g Eh", it, fixed + primal,
+                 fixed + dual);
+}
+
+static void dump_lp(const char *path, const lam_l1_problem *lp, double fixed)
+{
+    FILE *f = fopen(path, "w");
+    if (!f) lam_fail(LAM_EX_IOERR, "%s: cannot write", path);
+    fprintf(f, "# minimize fixed + sum_t w_t |c_t - sum_j a_tj x_j|; rows: w c nnz (j a)...\n");
+    fprintf(f, "params %d\nfixed %.17g\nrows %zu\n", lp->params, fixed, lp->rows);
+    for (size_t t = 0; t < lp->rows; ++t) {
+        fprintf(f, "%.17g %.17g %zu", lp->weight[t], lp->target[t], lp->start[t + 1] - lp->start[t]);
+        for (size_t e = lp->start[t]; e < lp->start[t + 1]; ++e)
+            fprintf(f, " %d %.17g", lp->col[e], lp->val[e]);
+        fputc('\n', f);
+    }
+    if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "%s: write failed", path);
+}
+
+static void report_matrix(lam_report *rep, const char *name, const lam_shift *k,
+                          double (*get)(const lam_shift *, int, int))
+{
+    double trace = 0, big = 0;
+    long nonzero = 0;
+    for (int p = 0; p < k->n; ++p)
+        for (int q = p; q < k->n; ++q) {
+            double v = get(k, p, q);
+            if (p == q) trace += v;
+            big = fmax(big, fabs(v));
+            nonzero += v != 0;
+        }
+    char key[64];
+    snprintf(key, sizeof key, "%s_trace", name);
+    lam_report_num(rep, key, trace);
+    snprintf(key, sizeof key, "%s_max_abs", name);
+    lam_report_num(rep, key, big);
+    snprintf(key, sizeof key, "%s_nonzero", name);
+    lam_report_int(rep, key, nonzero);
+}
+
+int main(int argc, char **argv)
+{
+    lam_set_program(argv[0]);
+    options o;
+    parse_options(argc, argv, &o);
+    double t0 = lam_seconds();
+
+    lam_reader *r = lam_reader_open(o.input);
+    lam_spinfree *h = read_operator(r);
+    const char *src = lam_reader_name(r);
+    require_real_symmetry(h, src);
+    lam_shift *k;
+    resolve_target(&o, h, src, &k);
+
+    lam_l1_problem lp;
+    double fixed;
+    lam_shift_build_lp(h, k, &lp, &fixed);
+    lam_progress("%d orbitals, %d parameters, %zu rows depend on them", h->n, k->nparams, lp.rows);
+    if (o.dump) dump_lp(o.dump, &lp, fixed);
+    lam_l1_options lo;
+    lam_l1_default_options(&lo);
+    lo.rel_gap = o.gap;
+    lo.offset = fixed;
+    lo.max_iter = (int)o.max_iter;
+    lam_l1_result res;
+    int status = lam_l1_solve(&lp, &lo, show_iteration, &fixed, k->x, &res);
+
+    double before = lam_spinfree_lambda(h);
+    double after = fixed + res.primal;
+    lam_meta meta;
+    lam_meta_init(&meta);
+    lam_meta_copy(&meta, lam_reader_meta(r));
+    char *history = lam_history_from_argv(argc, argv);
+    lam_writer *w = lam_writer_open(o.output, o.gzip);
+    if (!lam_shift_has_spin(k)) {
+        lam_spinfree *hk = lam_shift_apply(h, k);
+        /* the operator written is the one whose norm is reported */
+        double check = lam_spinfree_lambda(hk);
+        if (fabs(check - after) > 1e-9 * fmax(1, after))
+            lam_fail(LAM_EX_SOFTWARE, "lambda of H - K is %.17g, the LP says %.17g", check, after);
+        lam_spinfree *out = o.emit_shift ? lam_shift_apply(NULL, k) : hk;
+        lam_spinfree_describe(out, &meta);
+        lam_shift_describe(k, &meta);
+        lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
+        lam_spinfree_write_terms(w, out);
+        if (out != hk) lam_spinfree_free(out);
+        lam_spinfree_free(hk);
+    } else {
+        lam_fermion_op out;
+        lam_shift_apply_fermion(o.emit_shift ? NULL : h, k, o.order, &out);
+        lam_meta_remove(&meta, "orbitals");
+        lam_meta_setf(&meta, "modes", "%d", 2 * h->n);
+        lam_meta_set(&meta, "spin-order", lam_spin_order_name(o.order));
+        lam_meta_setf(&meta, "electrons", "%d", k->electrons);
+        lam_meta_setf(&meta, "ms2", "%d", k->ms2);
+        lam_shift_describe(k, &meta);
+        lam_writer_header(w, LAM_KIND_FERMION, &meta, history);
+        lam_fermion_write_terms(w, &out);
+        lam_fermion_free(&out);
+    }
+    lam_writer_close(w);
+
+    lam_report *rep = lam_report_new();
+    lam_report_num(rep, "lambda_before", before);
+    lam_report_num(rep, "lambda_after", after);
+    lam_report_num(rep, "gap", res.primal - res.dual);
+    lam_report_num(rep, "relative_gap", (res.primal - res.dual) / fmax(after, 1e-300));
+    lam_report_num(rep, "lambda_lower_bound", fixed + res.dual);
+    lam_report_str(rep, "converged", status == 0 ? "yes" : "no");
+    lam_report_int(rep, "electrons", k->electrons);
+    lam_report_num(rep, "a1", lam_shift_a1(k));
+    lam_report_num(rep, "a2", lam_shift_a2(k));
+    report_matrix(rep, "xi", k, lam_shift_xi);
+    if (lam_shift_has_spin(k)) {
+        lam_report_num(rep, "sz", 0.5 * k->ms2);
+        lam_report_num(rep, "b1", lam_shift_b1(k));
+        lam_report_num(rep, "b2", lam_shift_b2(k));
+        report_matrix(rep, "zeta", k, lam_shift_zeta);
+    }
+    lam_report_int(rep, "orbitals", h->n);
+    lam_report_int(rep, "parameters", k->nparams);
+    lam_report_int(rep, "rows", (long long)lp.rows);
+    lam_report_int(rep, "blocks", res.blocks);
+    lam_report_int(rep, "largest_block", res.largest_block);
+    lam_report_int(rep, "iterations", res.iterations);
+    lam_report_num(rep, "seconds", lam_seconds() - t0);
+    if (o.report) lam_report_save(rep, o.report, o.tsv);
+    else lam_report_write(rep, stderr, o.tsv);
+    if (status != 0)
+        lam_warn("warning: the relative gap %.3g did not reach %.3g in %d iterations; "
+                 "H - K is exact, only possibly not the best",
+                 (res.primal - res.dual) / fmax(after, 1e-300), o.gap, res.iterations);
+
+    lam_report_free(rep);
+    free(history);
+    lam_meta_free(&meta);
+    lam_l1_free(&lp);
+    lam_shift_free(k);
+    lam_spinfree_free(h);
+    lam_reader_close(r);
+    return 0;
+}
