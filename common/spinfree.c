@@ -126,13 +126,12 @@ lam_spinfree *lam_spinfree_read(lam_reader *r)
 
 /* ---- writing ---- */
 
-static void write_indices(lam_writer *w, double c, const int *idx, int k)
+void lam_spinfree_format_indices(char *buf, size_t size, int nidx, const int *idx)
 {
-    char rest[64];
     int len = 0;
-    for (int i = 0; i < k; ++i)
-        len += snprintf(rest + len, sizeof rest - (size_t)len, "%s%d", i ? " " : "", idx[i]);
-    lam_writer_term(w, c, rest);
+    buf[0] = '\0';
+    for (int i = 0; i < nidx && (size_t)len < size; ++i)
+        len += snprintf(buf + len, size - (size_t)len, "%s%d", i ? " " : "", idx[i]);
 }
 
 /* Coefficient of e_pqrs once the pair (pq),(rs) is merged into one line. */
@@ -142,30 +141,43 @@ static double merged_two(const lam_spinfree *sf, int p, int q, int r, int s)
     return 0.5 * (LAM_G(sf, p, q, r, s) + LAM_G(sf, r, s, p, q));
 }
 
-void lam_spinfree_write_terms(lam_writer *w, const lam_spinfree *sf)
+void lam_spinfree_foreach_term(const lam_spinfree *sf, lam_spinfree_visit fn, void *ctx)
 {
     int n = sf->n;
-    lam_writer_term(w, sf->e0, NULL);
+    fn(ctx, sf->e0, 0, NULL);
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q)
-            if (LAM_H(sf, p, q) != 0) write_indices(w, LAM_H(sf, p, q), (int[]){p, q}, 2);
+            if (LAM_H(sf, p, q) != 0) fn(ctx, LAM_H(sf, p, q), 2, (int[]){p, q});
     for (int pq = 0; pq < n * n; ++pq)
         for (int rs = pq; rs < n * n; ++rs) {
             int p = pq / n, q = pq % n, r = rs / n, s = rs % n;
             double c = merged_two(sf, p, q, r, s);
-            if (c != 0) write_indices(w, c, (int[]){p, q, r, s}, 4);
+            if (c != 0) fn(ctx, c, 4, (int[]){p, q, r, s});
         }
+}
+
+static void write_one(void *ctx, double c, int nidx, const int *idx)
+{
+    char rest[64];
+    lam_spinfree_format_indices(rest, sizeof rest, nidx, idx);
+    lam_writer_term(ctx, c, rest);
+}
+
+void lam_spinfree_write_terms(lam_writer *w, const lam_spinfree *sf)
+{
+    lam_spinfree_foreach_term(sf, write_one, w);
+}
+
+static void count_one(void *ctx, double c, int nidx, const int *idx)
+{
+    (void)c, (void)nidx, (void)idx;
+    ++*(size_t *)ctx;
 }
 
 size_t lam_spinfree_term_count(const lam_spinfree *sf)
 {
-    int n = sf->n;
-    size_t count = 1;
-    for (int pq = 0; pq < n * n; ++pq) {
-        if (sf->h[pq] != 0) ++count;
-        for (int rs = pq; rs < n * n; ++rs)
-            if (merged_two(sf, pq / n, pq % n, rs / n, rs % n) != 0) ++count;
-    }
+    size_t count = 0;
+    lam_spinfree_foreach_term(sf, count_one, &count);
     return count;
 }
 

@@ -43,9 +43,15 @@ void lam_spinfree_add_two(lam_spinfree *sf, int p, int q, int r, int s,
  * lam_reader_open).  Orbital count from "orbitals:" or, when absent, from
  * the largest index.  "electrons:" and "ms2:" are taken when present. */
 lam_spinfree *lam_spinfree_read(lam_reader *r);
-/* Write the terms (not the header): the constant, every non-zero h_pq,
- * and e_pqrs for (pq) <= (rs) with the coefficient of the merged pair. */
+/* Visit the terms in stream order: the constant (nidx 0), every non-zero
+ * h_pq (nidx 2), and e_pqrs for (pq) <= (rs) with the coefficient of the
+ * merged pair (nidx 4), non-zero only. */
+typedef void (*lam_spinfree_visit)(void *ctx, double c, int nidx, const int *idx);
+void lam_spinfree_foreach_term(const lam_spinfree *sf, lam_spinfree_visit fn, void *ctx);
+/* Write those terms (not the header). */
 void lam_spinfree_write_terms(lam_writer *w, const lam_spinfree *sf);
+/* Format "p q" or "p q r s" (the fields after the coefficient). */
+void lam_spinfree_format_indices(char *buf, size_t size, int nidx, const int *idx);
 /* Header metadata every spinfree stream carries: orbitals, electrons,
  * ms2 (set in meta). */
 void lam_spinfree_describe(const lam_spinfree *sf, lam_meta *meta);
@@ -65,7 +71,7 @@ double lam_spinfree_constant(const lam_spinfree *sf);
  *   + 1/4 sum_pqrs |(pq|rs)| + 1/2 sum_{p>r,q>s} |(pq|rs) - (ps|rq)| */
 double lam_spinfree_lambda(const lam_spinfree *sf);
 
-/* Number of terms lam_spinfree_write_terms writes. */
+/* Number of terms lam_spinfree_foreach_term visits. */
 size_t lam_spinfree_term_count(const lam_spinfree *sf);
 
 #endif
