@@ -1,0 +1,23 @@
+# lambda-vs-pauli.gp - lambda of each representation against the Pauli
+# lambda of the same geometry, with the DeltaE/2 floors.
+# gnuplot -e "data='out/wide.tsv'; out='out/lambda-vs-pauli.png'" lambda-vs-pauli.gp
+load "style.gp"
+set terminal pngcairo size 1100,720 font ",12"
+set output out
+set datafile separator "\t"
+set key outside right top box spacing 1.2
+set logscale xy
+set autoscale fix
+set offsets graph 0.04, graph 0.04, graph 0.04, graph 0.04
+set grid xtics ytics mxtics mytics
+set xlabel "Pauli one-norm lambda (Jordan-Wigner), Eh"
+set ylabel "one-norm lambda, Eh"
+set title "lambda of each representation against the Pauli lambda of the same geometry"
+plot data using 3:3 skip 1 with lines ls 1 dt 2 title "Pauli (y = x)", \
+     data using 3:4 skip 1 with points ls 2 title "anticommuting groups", \
+     data using 3:5 skip 1 with points ls 3 title "symmetry shift", \
+     data using 3:6 skip 1 with points ls 4 title "shift + groups", \
+     data using 3:7 skip 1 with points ls 5 title "double factorization", \
+     data using 3:8 skip 1 with points ls 6 title "shift + double fact.", \
+     data using 3:10 skip 1 with points ls 7 title "floor: Fock-space dE/2 of H", \
+     data using 3:9 skip 1 with points ls 8 title "floor: N-electron dE/2"

@@ -1,0 +1,28 @@
+# stretch.gp - lambda of each representation along the stretch coordinate,
+# one panel per molecule, with the N-electron DeltaE/2 floor.
+# gnuplot -e "data='out/wide.tsv'; out='out/stretch.png'; molecules='h4 lih'" stretch.gp
+load "style.gp"
+n = words(molecules)
+set terminal pngcairo size (n > 1 ? 560 * n : 700),620 font ",11"
+set output out
+set datafile separator "\t"
+set multiplot layout 1, n title "lambda along the bond stretch (STO-3G)"
+set grid
+set key outside bottom center horizontal maxcols 3 font ",9"
+set xlabel "R, angstrom"
+set ylabel "lambda, Eh"
+set yrange [0:*]
+set offsets graph 0.03, graph 0.03, 0, 0
+pick(c, m) = (strcol(1) eq m) ? column(c) : NaN
+do for [i = 1:n] {
+    m = word(molecules, i)
+    set title m
+    plot data using (pick(2, m)):(pick(3, m)) skip 1 with linespoints ls 1 title "Pauli", \
+         data using (pick(2, m)):(pick(4, m)) skip 1 with linespoints ls 2 title "groups", \
+         data using (pick(2, m)):(pick(5, m)) skip 1 with linespoints ls 3 title "shift", \
+         data using (pick(2, m)):(pick(6, m)) skip 1 with linespoints ls 4 title "shift + groups", \
+         data using (pick(2, m)):(pick(7, m)) skip 1 with linespoints ls 5 title "double fact.", \
+         data using (pick(2, m)):(pick(8, m)) skip 1 with linespoints ls 6 title "shift + DF", \
+         data using (pick(2, m)):(pick(9, m)) skip 1 with linespoints ls 8 title "floor N dE/2"
+}
+unset multiplot

@@ -1,0 +1,9 @@
+# style.gp - one colour and symbol per representation, shared by the plots.
+set style line 1 lc rgb "#7b3294" pt 4  ps 1.3 lw 1.5   # Pauli
+set style line 2 lc rgb "#008837" pt 5  ps 1.3 lw 1.5   # groups
+set style line 3 lc rgb "#2c7bb6" pt 9  ps 1.4 lw 1.5   # shift
+set style line 4 lc rgb "#e66101" pt 7  ps 1.3 lw 1.5   # shift + groups
+set style line 5 lc rgb "#a6611a" pt 13 ps 1.4 lw 1.5   # double factorization
+set style line 6 lc rgb "#018571" pt 11 ps 1.4 lw 1.5   # shift + DF
+set style line 7 lc rgb "black"   pt 2  ps 1.6 lw 2     # Fock-space floor of H
+set style line 8 lc rgb "red"     pt 1  ps 1.6 lw 2.5   # N-electron floor
