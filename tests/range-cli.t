@@ -1,0 +1,123 @@
+#!/bin/bash
+# lam-range on the command line: good input, bad input, exit codes.
+# Values checked here are facts of the trade (common practice): the
+# eigenvalues of single Pauli matrices are +-1, of a Z + b Y are
+# +-sqrt(a^2 + b^2); Szabo-Ostlund H2 full CI -1.1373 Eh (Modern Quantum
+# Chemistry, 1989, ch. 3, from memory, 4 decimals).
+source "$(dirname "$0")/lib/tap.sh"
+
+# H2, Szabo-Ostlund MO integrals written as a spinfree stream by hand:
+# 1/2 (pq|rs) on e_pqrs for every index order of the 8-fold symmetry.
+H2='#% lamina-op 1
+#% kind: spinfree
+#% orbitals: 2
+#% electrons: 2
+0.7143
+-1.2528 0 0
+-0.4756 1 1
+0.3373 0 0 0 0
+0.3318 0 0 1 1
+0.3318 1 1 0 0
+0.09065 0 1 0 1
+0.09065 1 0 1 0
+0.09065 0 1 1 0
+0.09065 1 0 0 1
+0.34875 1 1 1 1
+#% end
+'
+
+runlam lam-range --help
+is "$RC" 0 "--help exits 0"
+like "$OUT" "Usage: lam-range" "--help shows the synopsis"
+like "$OUT" "Eh" "--help names the unit"
+runlam lam-range --version
+is "$RC" 0 "--version exits 0"
+like "$OUT" "^lam-range .*[0-9]+\.[0-9]+" "--version prints the version"
+
+runlam_in "$H2" lam-range --quiet
+is "$RC" 0 "H2 stream: exit 0"
+near "$(report_get n_min <<<"$OUT")" -1.1373 5e-5 "H2: n_min is the Szabo-Ostlund full CI -1.1373 Eh"
+is "$(report_get status <<<"$OUT")" exact "H2: status exact"
+is "$(grep -c '^sector' <<<"$OUT")" 9 "H2: one line for each of the 9 sectors"
+like "$OUT" $'sector\t0\t1\t[-0-9.e]+\t[-0-9.e]+\texact\tmirror:1,0' "sector (0,1) inferred from (1,0)"
+like "$OUT" $'sector\t1\t1\t[-0-9.e]+\t[-0-9.e]+\texact\tcomputed' "sector (1,1) computed"
+half=$(report_get fock_half_range <<<"$OUT")
+lo=$(report_get fock_min <<<"$OUT"); hi=$(report_get fock_max <<<"$OUT")
+near "$half" "$(awk -v a="$lo" -v b="$hi" 'BEGIN { printf "%.17g", (b - a) / 2 }')" 1e-15 "fock_half_range = (fock_max - fock_min)/2"
+
+runlam_in "$H2" lam-range --quiet --tsv
+is "$(wc -l <<<"$OUT")" 2 "--tsv: header row and value row"
+like "$(head -1 <<<"$OUT")" $'^fock_min\tfock_max\tfock_half_range\telectrons\tn_min' "--tsv header"
+
+runlam_in "$H2" lam-range --quiet --lowest
+like "$OUT" "n_min" "--lowest reports n_min"
+ok $(grep -q fock_max <<<"$OUT"; echo $((! $?))) "--lowest leaves out fock_max"
+
+runlam_in "$H2" lam-range --quiet --sector 1,1 -o "$TMP/rep"
+is "$RC" 0 "-o FILE: exit 0"
+is "$OUT" "" "-o FILE: nothing on stdout"
+is "$(grep -c '^sector' "$TMP/rep")" 1 "--sector: one sector line"
+near "$(awk -F'\t' '$1 == "sector" { print $4 }' "$TMP/rep")" -1.1373 5e-5 "--sector 1,1: the full CI energy"
+
+runlam_in "$H2" lam-range --quiet --multiplets
+like "$OUT" $'sector\t2\t0\t-\t-\t-\twithin:1,1' "--multiplets: (2,0) lies within (1,1)"
+near "$(report_get n_min <<<"$OUT")" -1.1373 5e-5 "--multiplets: same n_min"
+
+# complex Pauli operator: Z0 + Y0 has eigenvalues +-sqrt(2)
+runlam_in $'1 Z0\n1 Y0\n' lam-range --quiet
+is "$RC" 0 "Z0 + Y0: exit 0"
+near "$(report_get fock_min <<<"$OUT")" -1.4142135623730951 1e-12 "Z0 + Y0: lowest -sqrt(2)"
+near "$(report_get fock_max <<<"$OUT")" 1.4142135623730951 1e-12 "Z0 + Y0: highest +sqrt(2)"
+
+# number-changing operator without sectors: only the Fock space
+runlam_in $'0.5 X0\n' lam-range --quiet
+is "$RC" 0 "X0 without sectors: exit 0"
+near "$(report_get fock_min <<<"$OUT")" -0.5 1e-12 "0.5 X0: lowest -0.5"
+
+# ---- bad input ----
+runlam_in $'#% kind: spinfree\n1.0 0 1\n' lam-range --quiet
+is "$RC" 65 "non-Hermitian spinfree operator: exit 65"
+like "$ERR" "^lam-range: .*not Hermitian" "non-Hermitian spinfree: message"
+
+runlam_in $'#% kind: fermion\n1.0 0+ 1-\n' lam-range --quiet
+is "$RC" 65 "non-Hermitian fermion operator: exit 65"
+like "$ERR" "^lam-range: " "non-Hermitian fermion: message"
+
+runlam_in $'0.5 X0\n0.1 Z1\n' lam-range --quiet --sector 1,0
+is "$RC" 65 "number-changing operator with --sector: exit 65"
+like "$ERR" "^lam-range: .*changes the particle number" "number-changing with --sector: message"
+runlam_in $'0.5 X0 X1\n' lam-range --quiet --electrons 1
+is "$RC" 65 "number-changing operator with --electrons: exit 65"
+like "$ERR" "changes the particle number" "number-changing with --electrons: message"
+
+runlam_in "$H2" lam-range --quiet --sector 3,0
+is "$RC" 64 "sector that does not exist: exit 64"
+like "$ERR" "^lam-range: sector \(3,0\) does not exist" "sector that does not exist: message"
+runlam_in "$H2" lam-range --quiet --sector 1
+is "$RC" 64 "--sector without a comma: exit 64"
+runlam_in "$H2" lam-range --quiet --electrons 5
+is "$RC" 64 "more electrons than spin orbitals: exit 64"
+like "$ERR" "do not fit" "more electrons than spin orbitals: message"
+
+runlam_in "$H2" lam-range --quiet --max-memory 100
+is "$RC" 75 "over --max-memory: exit 75"
+like "$ERR" "^lam-range: sector .* would need [0-9.]+ (KiB|MiB|bytes) .*over --max-memory" "over --max-memory: message with the memory needed"
+runlam_in "$H2" lam-range --quiet --max-memory 100 --bounds
+is "$RC" 0 "over --max-memory with --bounds: exit 0"
+is "$(report_get status <<<"$OUT")" bound "--bounds: status bound"
+runlam_in "$H2" lam-range --quiet --max-memory lots
+is "$RC" 64 "--max-memory that does not parse: exit 64"
+runlam_in "$H2" lam-range --quiet --tol -1
+is "$RC" 64 "negative --tol: exit 64"
+runlam_in "$H2" lam-range --quiet --frobnicate
+is "$RC" 64 "unknown option: exit 64"
+
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n1.0 0 0\n' lam-range --quiet
+is "$RC" 65 "truncated stream: exit 65"
+runlam lam-range --quiet "$TMP/does-not-exist"
+is "$RC" 66 "missing input file: exit 66"
+runlam_in $'#% kind: spinfree\n1.0 0 0\nNaN 1 1\n' lam-range --quiet
+is "$RC" 65 "NaN coefficient: exit 65"
+like "$ERR" ":3: " "NaN coefficient: message names the line"
+
+done_testing
