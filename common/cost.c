@@ -146,6 +146,10 @@ static void add_groups(labelled_term *lt, size_t n, lam_lcu_summary *lcu)
 void lam_cost_summary_from_pauli(lam_pauli_set *s, int use_groups,
                                  lam_lcu_summary *lcu)
 {
+    if (!use_groups && s->group) { /* a split term counts once, merged */
+        free(s->group);
+        s->group = NULL;
+    }
     lam_pauli_set_merge(s, 1);
     int grouped = use_groups && s->group != NULL;
     memset(lcu, 0, sizeof *lcu);

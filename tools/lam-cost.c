@@ -223,7 +223,12 @@ static void summary_from_pauli_report(const lam_report_in *in, const char *name,
     lcu->system_qubits = (int)report_count(in, name, "qubits");
     lcu->lambda = report_number(in, name, "lambda");
     lcu->unitaries = strings;
-    if (!o->ungrouped && lam_report_get_str(in, "groups")) {
+    int labelled = lam_report_get_str(in, "groups") != NULL;
+    if (labelled && o->ungrouped)
+        lam_fail_at(LAM_EX_DATA, name, 0,
+                    "--ungrouped with the report of a grouped stream: the report does not say "
+                    "how many distinct strings there are; give lam-cost the stream");
+    if (labelled) {
         long long groups = report_count(in, name, "groups");
         lcu->form = "pauli_grouped";
         lcu->lambda = report_number(in, name, "lambda_grouped");
