@@ -332,10 +332,11 @@ double lam_fragment_fit(int n, const double *resid, const double *u0, const doub
     add_fragment_tensor(n, v, lam, -1.0, d);
     double f = cblas_ddot((int)n4, d, 1, d, 1);
     if (grad) {
-        /* W = D V, P = V^T W, Y = W lam (see the derivation in the man page
-         * notes of lam-factor: df/dl_ij = -2 P_ij per ordered pair; df/dU
-         * collects the four places U enters G, two by two equal because
-         * D_pqrs = D_rspq). */
+        /* With D = resid - G, W = D V, P = V^T W, Y = W lam:
+         * df/dlam_ij = -2 P_ij for each ordered pair (i, j);
+         * U enters G_pqrs = sum_ij lam_ij U_pi U_qi U_rj U_sj four times,
+         * and D_pqrs = D_rspq makes the (r, s) places equal to the (p, q)
+         * ones: df/dU_ab = -4 sum_q U_qb (Y_(aq),b + Y_(qa),b). */
         double *w = new_matrix((size_t)nn, (size_t)n), *p = new_matrix((size_t)n, (size_t)n);
         double *y = new_matrix((size_t)nn, (size_t)n), *gu = new_matrix((size_t)n, (size_t)n);
         double *ge = new_matrix((size_t)n, (size_t)n), *m = new_matrix((size_t)n, (size_t)n);
