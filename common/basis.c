@@ -83,16 +83,17 @@ lam_basis *lam_basis_build(const lam_molecule *mol,
                            const lam_basis_set_data *set, int pure)
 {
     int use_pure = pure < 0 ? set->spherical : pure;
-    lam_basis *b = lam_calloc(1, sizeof *b);
-    int cap = 0;
     for (int a = 0; a < mol->natom; ++a) {
         int z = mol->z[a];
-        const lam_shell_data *d = z <= set->maxz ? set->elements[z] : NULL;
-        if (!d)
+        if (z > set->maxz || !set->elements[z])
             lam_fail_at(LAM_EX_DATA, mol->source, mol->line[a],
                         "basis %s has no functions for %s", set->name,
                         lam_element_symbol(z));
-        for (; d->l >= 0; ++d) {
+    }
+    lam_basis *b = lam_calloc(1, sizeof *b);
+    int cap = 0;
+    for (int a = 0; a < mol->natom; ++a) {
+        for (const lam_shell_data *d = set->elements[mol->z[a]]; d->l >= 0; ++d) {
             if (b->nshell == cap) {
                 cap = cap ? 2 * cap : 32;
                 b->shell = lam_realloc(b->shell, lam_mul_size((size_t)cap, sizeof *b->shell));

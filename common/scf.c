@@ -255,9 +255,13 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
 
     double *x = lam_malloc(nn * sizeof *x);
     int m = s->nmo = orthogonalizer(n, ovl, o->s_tol, x);
-    if (s->nocc > m)
+    if (s->nocc > m) {
+        free(ovl);
+        free(x);
+        lam_scf_free(s);
         lam_fail_at(LAM_EX_DATA, mol->source, 0,
                     "%d electrons do not fit in %d orbitals", nelec, m);
+    }
     s->c = lam_malloc(lam_mul_size((size_t)n, (size_t)m) * sizeof *s->c);
     s->eps = lam_malloc((size_t)m * sizeof *s->eps);
     double *d = lam_calloc(nn, sizeof *d), *f = lam_malloc(nn * sizeof *f);
@@ -293,13 +297,8 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
         roothaan_step(n, m, x, f, s->c, s->eps, work);
     }
     s->seconds_iterations = lam_seconds() - t0;
-    if (!converged)
-        lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                    "RHF did not converge in %d iterations (last energy change "
-                    "%.2e Eh, gradient %.2e); try --max-iter or looser --e-conv/--d-conv",
-                    o->max_iter, fabs(de), grad);
     /* canonical orbitals of the converged (not extrapolated) Fock matrix */
-    roothaan_step(n, m, x, f, s->c, s->eps, work);
+    if (converged) roothaan_step(n, m, x, f, s->c, s->eps, work);
     s->energy = energy;
     s->iterations = it;
     diis_free(&diis);
@@ -311,6 +310,13 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
     free(work);
     free(pd);
     free(pg);
+    if (!converged) {
+        lam_scf_free(s);
+        lam_fail_at(LAM_EX_DATA, mol->source, 0,
+                    "RHF did not converge in %d iterations (last energy change "
+                    "%.2e Eh, gradient %.2e); try --max-iter or looser --e-conv/--d-conv",
+                    o->max_iter, fabs(de), grad);
+    }
     return s;
 }
 
@@ -343,49 +349,102 @@ static void congruence(int n, int m, const double *a, const double *c, double *t
     mat_tn(m, m, n, c, t, out);
 }
 
-/* Four-index transformation in two half steps; g gets all 8 copies. */
+/* Rows r0 .. r0+nr-1 of the symmetric n2 x n2 matrix whose lower
+ * triangle is packed in tri.  The part right of the diagonal is read
+ * column-wise, nr contiguous values at a time. */
+static void unpack_rows(const double *tri, size_t n2, size_t r0, size_t nr,
+                        double *rows)
+{
+    for (size_t b = 0; b < nr; ++b) {
+        size_t r = r0 + b;
+        memcpy(rows + b * n2, tri + r * (r + 1) / 2, (r + 1) * sizeof *rows);
+    }
+    for (size_t c = r0 + 1; c < n2; ++c) {
+        const double *src = tri + c * (c + 1) / 2;
+        size_t rend = r0 + nr < c ? r0 + nr : c;
+        for (size_t r = r0; r < rend; ++r) rows[(r - r0) * n2 + c] = src[r];
+    }
+}
+
+/* out[b][pq] = sum_kl c_kp c_lq rows[b][kl] for nr rows of pair vectors
+ * (n functions) to pair vectors of m orbitals (packed p >= q). */
+static void transform_rows(int n, int m, const double *c, const double *rows,
+                           size_t nr, double *full, double *t, double *bm,
+                           double *out)
+{
+    size_t n2 = (size_t)n * (n + 1) / 2, m2 = (size_t)m * (m + 1) / 2;
+    for (size_t b = 0; b < nr; ++b) {
+        const double *v = rows + b * n2;
+        double *a = full + b * (size_t)n * n;
+        for (int k = 0; k < n; ++k)
+            for (int l = 0; l <= k; ++l)
+                a[(size_t)k * n + l] = a[(size_t)l * n + k] = v[LAM_PAIR(k, l)];
+    }
+    /* one product for the whole batch: (nr n) x n times n x m */
+    mat_nn((int)(nr * n), m, n, full, c, t);
+    for (size_t b = 0; b < nr; ++b) {
+        mat_tn(m, m, n, c, t + b * (size_t)n * m, bm);
+        double *o = out + b * m2;
+        for (int p = 0; p < m; ++p)
+            for (int q = 0; q <= p; ++q) o[LAM_PAIR(p, q)] = bm[(size_t)p * m + q];
+    }
+}
+
+#define TRANSFORM_BATCH 32
+
+/* Four-index transformation (ij|kl) -> (pq|rs) in two half steps of
+ * batched BLAS products; the result is made exactly symmetric under
+ * pq <-> rs and written with all 8 copies into sf->g. */
 static void transform_eri(const lam_scf *s, const double *c, int m, lam_spinfree *sf)
 {
     int n = s->nbf;
     size_t n2 = (size_t)n * (n + 1) / 2, m2 = (size_t)m * (m + 1) / 2;
+    size_t nb = TRANSFORM_BATCH;
     double *half = lam_malloc(lam_mul_size(n2, m2) * sizeof *half); /* [pq][ij] */
-    double *a = lam_malloc((size_t)n * n * sizeof *a);
-    double *t = lam_malloc(lam_mul_size((size_t)n, (size_t)m) * sizeof *t);
+    double *rows = lam_malloc(lam_mul_size(nb, n2 > m2 ? n2 : m2) * sizeof *rows);
+    double *full = lam_malloc(lam_mul_size(nb * n, (size_t)n) * sizeof *full);
+    double *t = lam_malloc(lam_mul_size(nb * n, (size_t)m) * sizeof *t);
     double *bm = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *bm);
-    for (int i = 0; i < n; ++i) {
-        if (i % 16 == 0) lam_progress("MO transformation: AO row %d of %d", i + 1, n);
-        for (int j = 0; j <= i; ++j) {
-            size_t ij = LAM_PAIR(i, j);
-            for (int k = 0; k < n; ++k)
-                for (int l = 0; l <= k; ++l)
-                    a[(size_t)k * n + l] = a[(size_t)l * n + k] =
-                        s->eri[LAM_PAIR(ij, LAM_PAIR(k, l))];
-            congruence(n, m, a, c, t, bm);
-            for (int p = 0; p < m; ++p)
-                for (int q = 0; q <= p; ++q) half[LAM_PAIR(p, q) * n2 + ij] = bm[(size_t)p * m + q];
-        }
+    double *out = lam_malloc(lam_mul_size(nb, m2) * sizeof *out);
+    for (size_t r0 = 0; r0 < n2; r0 += nb) {
+        if (r0 % (64 * nb) == 0)
+            lam_progress("MO transformation: first half, AO pair %zu of %zu", r0 + 1, n2);
+        size_t nr = r0 + nb <= n2 ? nb : n2 - r0;
+        unpack_rows(s->eri, n2, r0, nr, rows);
+        transform_rows(n, m, c, rows, nr, full, t, bm, out);
+        for (size_t pq = 0; pq < m2; ++pq)
+            for (size_t b = 0; b < nr; ++b) half[pq * n2 + r0 + b] = out[b * m2 + pq];
     }
-    for (int p = 0; p < m; ++p)
-        for (int q = 0; q <= p; ++q) {
-            const double *col = half + LAM_PAIR(p, q) * n2;
-            for (int k = 0; k < n; ++k)
-                for (int l = 0; l <= k; ++l)
-                    a[(size_t)k * n + l] = a[(size_t)l * n + k] = col[LAM_PAIR(k, l)];
-            congruence(n, m, a, c, t, bm);
-            for (int r = 0; r < m; ++r)
-                for (int u = 0; u <= r; ++u) {
-                    if (LAM_PAIR(r, u) > LAM_PAIR(p, q)) break;
-                    double v = bm[(size_t)r * m + u];
-                    LAM_G(sf, p, q, r, u) = LAM_G(sf, q, p, r, u) = v;
-                    LAM_G(sf, p, q, u, r) = LAM_G(sf, q, p, u, r) = v;
-                    LAM_G(sf, r, u, p, q) = LAM_G(sf, u, r, p, q) = v;
-                    LAM_G(sf, r, u, q, p) = LAM_G(sf, u, r, q, p) = v;
-                }
-        }
+    double *mo = lam_malloc(lam_mul_size(m2, m2) * sizeof *mo); /* [pq][rs] */
+    for (size_t r0 = 0; r0 < m2; r0 += nb) {
+        if (r0 % (64 * nb) == 0)
+            lam_progress("MO transformation: second half, MO pair %zu of %zu", r0 + 1, m2);
+        size_t nr = r0 + nb <= m2 ? nb : m2 - r0;
+        transform_rows(n, m, c, half + r0 * n2, nr, full, t, bm, mo + r0 * m2);
+    }
     free(half);
-    free(a);
+    /* (pq|rs) and (rs|pq) came from different products: average them, in
+     * tiles so that the transposed reads stay in cache */
+    for (size_t a0 = 0; a0 < m2; a0 += 64)
+        for (size_t b0 = 0; b0 <= a0; b0 += 64)
+            for (size_t a = a0; a < a0 + 64 && a < m2; ++a)
+                for (size_t b = b0; b < b0 + 64 && b < a; ++b) {
+                    double v = 0.5 * (mo[a * m2 + b] + mo[b * m2 + a]);
+                    mo[a * m2 + b] = mo[b * m2 + a] = v;
+                }
+    for (int p = 0; p < m; ++p)
+        for (int q = 0; q < m; ++q) {
+            const double *row = mo + LAM_PAIR(p, q) * m2;
+            double *g = &LAM_G(sf, p, q, 0, 0);
+            for (int r = 0; r < m; ++r)
+                for (int u = 0; u < m; ++u) g[(size_t)r * m + u] = row[LAM_PAIR(r, u)];
+        }
+    free(mo);
+    free(rows);
+    free(full);
     free(t);
     free(bm);
+    free(out);
 }
 
 lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active)

@@ -7,6 +7,7 @@
 
 #include "basis.h"
 #include "fcidump.h"
+#include "report.h"
 #include "molecule.h"
 #include "scf.h"
 #include "spinfree.h"
@@ -37,7 +38,11 @@ static _Noreturn void usage(void)
            "      --cutoff T        omit integrals with |value| <= T Eh from the FCIDUMP\n"
            "                        (default 0: every non-zero integral is written)\n"
            "      --max-memory MB   refuse work that needs more (default 4096)\n"
-           "  -o, --output FILE     write the FCIDUMP to FILE instead of stdout\n"
+           "  -e, --energy          write a key/value report (basis_functions, orbitals,\n"
+           "                        electrons, nuclear_repulsion, scf_energy, iterations,\n"
+           "                        homo, lumo; energies in Eh) instead of the FCIDUMP\n"
+           "      --tsv             with --energy: one header row and one value row\n"
+           "  -o, --output FILE     write to FILE instead of stdout\n"
            "      --progress        iteration table on stderr even when not a terminal\n"
            "  -q, --quiet           no progress and no summary line on stderr\n"
            "  -h, --help            show this help\n"
@@ -50,12 +55,12 @@ static _Noreturn void usage(void)
 
 enum {
     OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ECONV, OPT_DCONV, OPT_MAXIT, OPT_DIIS,
-    OPT_SCHWARZ, OPT_CUTOFF, OPT_MAXMEM, OPT_PROGRESS, OPT_VERSION
+    OPT_SCHWARZ, OPT_CUTOFF, OPT_MAXMEM, OPT_PROGRESS, OPT_VERSION, OPT_TSV
 };
 
 typedef struct {
     const char *basis, *output, *input;
-    int bohr, pure, quiet;
+    int bohr, pure, quiet, energy, tsv;
     long charge, frozen, active;
     double cutoff, max_memory_mb;
     lam_scf_options scf;
@@ -74,6 +79,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"schwarz", required_argument, 0, OPT_SCHWARZ},
         {"cutoff", required_argument, 0, OPT_CUTOFF},
         {"max-memory", required_argument, 0, OPT_MAXMEM},
+        {"energy", no_argument, 0, 'e'},        {"tsv", no_argument, 0, OPT_TSV},
         {"output", required_argument, 0, 'o'},  {"progress", no_argument, 0, OPT_PROGRESS},
         {"quiet", no_argument, 0, 'q'},         {"help", no_argument, 0, 'h'},
         {"version", no_argument, 0, OPT_VERSION}, {0, 0, 0, 0}};
@@ -84,7 +90,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->max_memory_mb = 4096;
     lam_scf_options_default(&o->scf);
     int c;
-    while ((c = getopt_long(argc, argv, "b:c:f:a:o:qh", opts, NULL)) != -1) {
+    while ((c = getopt_long(argc, argv, "b:c:f:a:eo:qh", opts, NULL)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
@@ -100,6 +106,8 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
         case OPT_CUTOFF: o->cutoff = lam_opt_double("--cutoff", optarg); break;
         case OPT_MAXMEM: o->max_memory_mb = lam_opt_double("--max-memory", optarg); break;
+        case 'e': o->energy = 1; break;
+        case OPT_TSV: o->tsv = 1; break;
         case 'o': o->output = optarg; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': o->quiet = 1; lam_progress_set(0); break;
@@ -113,6 +121,7 @@ static void parse_options(int argc, char **argv, options *o)
     if (o->scf.schwarz < 0 || o->cutoff < 0)
         lam_usage_error("--schwarz and --cutoff must not be negative");
     if (o->max_memory_mb <= 0) lam_usage_error("--max-memory must be positive");
+    if (o->tsv && !o->energy) lam_usage_error("--tsv goes with --energy");
     if (argc - optind > 1) lam_usage_error("one molecule at a time");
     o->input = optind < argc ? argv[optind] : NULL;
     if (!lam_basis_set_find(o->basis))
@@ -147,7 +156,22 @@ static void check_memory(const options *o, int nbf, int active)
                  "over --max-memory %.0f MB", nbf, active, mb, o->max_memory_mb);
 }
 
-static void write_fcidump(const options *o, lam_spinfree *sf)
+/* Opened before any work, so that a wrong -o path fails at once. */
+static FILE *open_output(const char *path)
+{
+    if (!path || strcmp(path, "-") == 0) return stdout;
+    FILE *out = fopen(path, "w");
+    if (!out) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+    return out;
+}
+
+static void close_output(FILE *out, const char *path)
+{
+    if (fflush(out) != 0 || ferror(out) || (out != stdout && fclose(out) != 0))
+        lam_fail(LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
+}
+
+static void write_fcidump(FILE *out, const options *o, lam_spinfree *sf)
 {
     lam_fcidump fd = {0};
     fd.op = sf;
@@ -157,15 +181,24 @@ static void write_fcidump(const options *o, lam_spinfree *sf)
     fd.isym = 1;
     fd.orbsym = lam_malloc((size_t)sf->n * sizeof *fd.orbsym);
     for (int i = 0; i < sf->n; ++i) fd.orbsym[i] = 1;
-    FILE *out = stdout;
-    if (o->output && strcmp(o->output, "-") != 0) {
-        out = fopen(o->output, "w");
-        if (!out) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", o->output, strerror(errno));
-    }
     lam_fcidump_write(out, &fd, o->cutoff);
-    if (fflush(out) != 0 || ferror(out) || (out != stdout && fclose(out) != 0))
-        lam_fail(LAM_EX_IOERR, "write error on %s", o->output ? o->output : "stdout");
     free(fd.orbsym);
+}
+
+static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
+{
+    lam_report *rep = lam_report_new();
+    lam_report_str(rep, "basis", lam_basis_set_find(o->basis)->name);
+    lam_report_int(rep, "basis_functions", s->nbf);
+    lam_report_int(rep, "orbitals", s->nmo);
+    lam_report_int(rep, "electrons", 2L * s->nocc);
+    lam_report_num(rep, "nuclear_repulsion", s->e_nuc);
+    lam_report_num(rep, "scf_energy", s->energy);
+    lam_report_int(rep, "iterations", s->iterations);
+    lam_report_num(rep, "homo", s->eps[s->nocc - 1]);
+    if (s->nocc < s->nmo) lam_report_num(rep, "lumo", s->eps[s->nocc]);
+    lam_report_write(rep, out, o->tsv);
+    lam_report_free(rep);
 }
 
 int main(int argc, char **argv)
@@ -179,20 +212,27 @@ int main(int argc, char **argv)
     lam_scf_closed_shell_electrons(mol);
     lam_basis *basis = lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure);
     /* the largest possible active space bounds the memory before any work */
-    int guess_active = (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
+    int guess_active = o.energy ? 1 : (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
     check_memory(&o, basis->nbf, guess_active > 0 ? guess_active : 1);
+    FILE *out = open_output(o.output);
 
     lam_scf *s = lam_scf_run(mol, basis, &o.scf);
-    int active;
-    check_orbital_space(&o, s, &active);
     if (!o.quiet)
         fprintf(stderr, "%s: RHF energy %.12f Eh after %d iterations (%d basis functions, "
-                "%d orbitals, E_nuc %.12f Eh)\n", lam_program(), s->energy, s->iterations,
-                s->nbf, s->nmo, s->e_nuc);
-    lam_spinfree *sf = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
+                "%d orbitals, E_nuc %.12f Eh; integrals %.2f s, iterations %.2f s)\n",
+                lam_program(), s->energy, s->iterations, s->nbf, s->nmo, s->e_nuc,
+                s->seconds_integrals, s->seconds_iterations);
+    if (o.energy) {
+        write_energy_report(out, &o, s);
+    } else {
+        int active;
+        check_orbital_space(&o, s, &active);
+        lam_spinfree *sf = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
+        write_fcidump(out, &o, sf);
+        lam_spinfree_free(sf);
+    }
+    close_output(out, o.output);
     lam_scf_free(s);
-    write_fcidump(&o, sf);
-    lam_spinfree_free(sf);
     lam_basis_free(basis);
     lam_molecule_free(mol);
     return 0;
