@@ -1,0 +1,65 @@
+#!/usr/bin/python3
+"""study-ref.t - the example study (examples/study) end to end, SMALL setting.
+
+Runs `make -C examples/study SMALL=1` into a temporary directory with the
+programs under test and checks the joined table: one row per molecule x
+geometry x representation target, and on every row the one-norm is at
+least the floors (fact of the trade, common practice: for any LCU of A,
+lambda >= ||A - sI|| >= DeltaE(A)/2; the N-electron half range of H is
+below the Fock-space half range of both H and H - K).
+"""
+import math
+import os
+import subprocess
+import sys
+import tempfile
+
+sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
+import lamtest  # noqa: E402
+
+t = lamtest.Tap()
+study = os.path.join(lamtest.ROOT, "examples", "study")
+out = tempfile.mkdtemp(prefix="lam-study-")
+env = dict(os.environ, LAM_BIN=lamtest.BIN, OPENBLAS_NUM_THREADS="1")
+make = ["make", "--no-print-directory", "-s", "-C", study, "SMALL=1", "OUT=" + out,
+        "LAM_BIN=" + lamtest.BIN]
+
+p = subprocess.run(make + ["-j2"], env=env, capture_output=True, text=True)
+t.ok(p.returncode == 0, "make SMALL=1 runs end to end", p.stderr[-3000:])
+
+targets = subprocess.run(make + ["targets"], env=env, capture_output=True,
+                         text=True).stdout.split("\n")
+want = sorted(tuple(line.split()) for line in targets if line.strip())
+t.ok(len(want) >= 12, "the SMALL setting has targets (%d)" % len(want))
+
+rows = []
+path = os.path.join(out, "results.tsv")
+if os.path.exists(path):
+    with open(path) as f:
+        lines = f.read().splitlines()
+    header = lines[0].split("\t")
+    rows = [dict(zip(header, line.split("\t"))) for line in lines[1:]]
+got = sorted((r["molecule"], r["r_angstrom"], r["representation"]) for r in rows)
+t.ok(got == want, "one row per target (%d rows, %d targets)" % (len(got), len(want)),
+     "missing %s\nextra %s" % (sorted(set(want) - set(got)), sorted(set(got) - set(want))))
+t.ok(len(set(got)) == len(got), "no target twice")
+
+for r in rows:
+    name = "%s R=%s %s" % (r["molecule"], r["r_angstrom"], r["representation"])
+    lam, ffock, fn = float(r["lambda"]), float(r["floor_fock"]), float(r["floor_n"])
+    t.ok(lam >= fn * (1 - 1e-9), "%s: lambda %.6f >= N-electron dE/2 %.6f" % (name, lam, fn))
+    t.ok(lam >= ffock * (1 - 1e-9),
+         "%s: lambda %.6f >= Fock-space dE/2 %.6f of its operator" % (name, lam, ffock))
+    t.ok(ffock >= fn * (1 - 1e-9), "%s: Fock-space floor >= N-electron floor" % name)
+    # Walk steps ceil(pi lambda / (2 eps)) at the study's 1.6 mEh (Babbush
+    # et al., PRX 8, 041015 (2018), from memory).
+    t.ok(int(r["walk_steps"]) == math.ceil(math.pi * lam / (2 * 0.0016)),
+         "%s: walk steps from lambda" % name)
+
+for png in ("lambda-vs-pauli.png", "stretch.png"):
+    path = os.path.join(out, png)
+    ok = os.path.exists(path) and open(path, "rb").read(8) == b"\x89PNG\r\n\x1a\n"
+    t.ok(ok, "plot %s is a PNG" % png)
+
+subprocess.run(["rm", "-rf", out])
+t.done()
