@@ -1,0 +1,151 @@
+#!/bin/bash
+# lam-shift on the command line: good input, bad input, exit codes.
+source "$(dirname "$0")/lib/tap.sh"
+
+# H2 in a minimal basis at R = 1.4 bohr: Szabo and Ostlund, Modern Quantum
+# Chemistry (1989), chapter 3 (values from memory, see facts.md).
+cat >"$TMP/h2.fcidump" <<'EOF'
+&FCI NORB=2,NELEC=2,MS2=0,
+ ORBSYM=1,1,
+ ISYM=1,
+&END
+  0.6746  1 1 1 1
+  0.6636  1 1 2 2
+  0.1813  1 2 1 2
+  0.6975  2 2 2 2
+ -1.2528  1 1 0 0
+ -0.4756  2 2 0 0
+  0.7143  0 0 0 0
+EOF
+lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
+
+runlam lam-shift --help
+is "$RC" 0 "--help exits 0"
+like "$OUT" "Usage: lam-shift" "--help shows the synopsis"
+like "$OUT" "Eh" "--help names the unit"
+like "$OUT" "Example" "--help shows an example"
+runlam lam-shift --version
+is "$RC" 0 "--version exits 0"
+like "$OUT" "lam-shift \\(lamina\\)" "--version names the program"
+
+# ---- good input ----
+runlam lam-shift "$TMP/h2.sf"
+is "$RC" 0 "shift of H2 exits 0"
+printf '%s\n' "$OUT" >"$TMP/hk.sf"
+printf '%s\n' "$ERR" >"$TMP/rep"
+like "$OUT" "^#% lamina-op 1" "stream header written"
+like "$OUT" "#% kind: spinfree" "H - K is spinfree"
+like "$OUT" "#% shift-a1: " "a1 in the metadata"
+like "$OUT" "#% shift-xi: 0 0 " "xi in the metadata"
+like "$OUT" "#% end" "stream closed"
+before=$(report_get lambda_before <"$TMP/rep")
+after=$(report_get lambda_after <"$TMP/rep")
+gap=$(report_get relative_gap <"$TMP/rep")
+for k in lambda_before lambda_after gap a1 a2 xi_trace xi_max_abs iterations; do
+    like "$(cut -f1 "$TMP/rep")" "^$k\$" "report has $k"
+done
+# the closed-form one-norm of H from lam-norm (another program)
+lbefore=$(lam lam-norm "$TMP/h2.sf" | report_get lambda)
+near "$before" "$lbefore" 1e-12 "lambda_before = lam-norm of H"
+lafter=$(lam lam-norm "$TMP/hk.sf" | report_get lambda)
+near "$after" "$lafter" 1e-10 "lambda_after = lam-norm of the written H - K"
+awk -v a="$after" -v b="$before" 'BEGIN { exit !(a < b) }'
+ok $? "the shift lowers lambda ($before -> $after)"
+awk -v g="$gap" 'BEGIN { exit !(g >= 0 && g <= 1e-10) }'
+ok $? "relative gap within the default 1e-10 ($gap)"
+
+# the N block is untouched (lam-range, another program)
+if [ -x "$LAM_BIN/lam-range" ]; then
+    n1=$(lam lam-range "$TMP/h2.sf" | report_get n_min)
+    n2=$(lam lam-range "$TMP/hk.sf" | report_get n_min)
+    near "$n2" "$n1" 1e-9 "lam-range n_min of H - K = of H"
+    # Szabo-Ostlund full CI, -1.1373 Eh (from memory), 4 decimals
+    near "$n1" -1.1373 5e-5 "H2 ground state -1.1373 Eh (Szabo-Ostlund)"
+    runlam lam-shift --emit-shift "$TMP/h2.sf"
+    printf '%s\n' "$OUT" >"$TMP/k.sf"
+    kmin=$(lam lam-range "$TMP/k.sf" | report_get n_min)
+    kmax=$(lam lam-range "$TMP/k.sf" | report_get n_max)
+    near "$kmin" 0 1e-12 "K: n_min is 0 on the N block"
+    near "$kmax" 0 1e-12 "K: n_max is 0 on the N block"
+fi
+
+runlam lam-shift --tsv "$TMP/h2.sf"
+is "$(printf '%s\n' "$ERR" | wc -l)" 2 "--tsv: one header row and one value row"
+like "$(printf '%s\n' "$ERR" | head -1)" "lambda_before" "--tsv header names the keys"
+
+runlam lam-shift -q --report "$TMP/r2" -o "$TMP/out.sf" "$TMP/h2.sf"
+is "$RC$ERR$OUT" "0" "--report and -o: nothing on stdout or stderr"
+like "$(cat "$TMP/r2")" "lambda_after" "--report FILE holds the report"
+like "$(cat "$TMP/out.sf")" "#% end" "-o FILE holds the stream"
+
+runlam lam-shift --terms a1 "$TMP/h2.sf"
+a2=$(printf '%s\n' "$ERR" | report_get a2)
+is "$a2" 0 "--terms a1: a2 stays 0"
+like "$(printf '%s\n' "$OUT" | grep -c 'shift-xi:')" "^0$" "--terms a1: no xi"
+
+runlam lam-shift --electrons 2 --terms a1,a2 "$TMP/h2.sf"
+is "$RC" 0 "--electrons and --terms a1,a2"
+
+# fermion input that is spin-free gives the same optimum
+lam lam-ints --fermion "$TMP/h2.fcidump" >"$TMP/h2.ferm"
+runlam lam-shift "$TMP/h2.ferm"
+is "$RC" 0 "fermion input accepted"
+near "$(printf '%s\n' "$ERR" | report_get lambda_after)" "$after" 1e-12 "fermion input: same optimum"
+
+# spin terms
+runlam lam-shift --spin "$TMP/h2.sf"
+is "$RC" 0 "--spin exits 0"
+like "$OUT" "#% kind: fermion" "--spin writes a fermion stream"
+like "$OUT" "#% shift-b1: " "--spin: b1 in the metadata"
+sa=$(printf '%s\n' "$ERR" | report_get lambda_after)
+awk -v a="$sa" -v b="$after" 'BEGIN { exit !(a <= b * (1 + 1e-12)) }'
+ok $? "--spin never does worse ($sa <= $after)"
+if [ -x "$LAM_BIN/lam-map" ]; then
+    sl=$(printf '%s\n' "$OUT" | lam lam-map | lam lam-norm | report_get lambda)
+    near "$sl" "$sa" 1e-10 "--spin: lam-map | lam-norm of the output = lambda_after"
+fi
+
+# ---- bad input ----
+runlam lam-shift --terms a1,a3 "$TMP/h2.sf"
+is "$RC" 64 "unknown --terms word: exit 64"
+like "$ERR" "lam-shift: --terms wants" "unknown --terms word: message"
+runlam lam-shift --terms b1 "$TMP/h2.sf"
+is "$RC" 64 "spin terms without --spin: exit 64"
+runlam lam-shift --gap 0 "$TMP/h2.sf"
+is "$RC" 64 "--gap 0: exit 64"
+runlam lam-shift --spin --sz 0.5 "$TMP/h2.sf"
+is "$RC" 64 "--sz 0.5 with 2 electrons: exit 64"
+like "$ERR" "Sz = 0.5" "impossible Sz: message"
+runlam lam-shift --bogus
+is "$RC" 64 "unknown option: exit 64"
+runlam lam-shift "$TMP/none.sf"
+is "$RC" 66 "missing file: exit 66"
+
+runlam_in $'1.0\n-0.5 0 0\n0.25 0 0 0 0\n' lam-shift
+is "$RC" 64 "no electron number: exit 64"
+like "$ERR" "give --electrons" "no electron number: message"
+runlam_in $'1.0\n-0.5 0 0\n0.25 0 0 0 0\n' lam-shift --electrons 1
+is "$RC" 0 "headerless spinfree stream with --electrons"
+runlam_in $'1.0\n-0.5 0 0\n0.25 0 0 0 0\n' lam-shift --electrons 3
+is "$RC" 64 "3 electrons in 1 orbital: exit 64"
+
+runlam_in $'#% lamina-op 1\n#% kind: pauli\n0.5 Z0\n#% end\n' lam-shift --electrons 1
+is "$RC" 65 "pauli input: exit 65"
+like "$ERR" "lam-shift: <stdin>.*not pauli" "pauli input: message"
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\n' lam-shift
+is "$RC" 65 "truncated stream: exit 65"
+like "$ERR" "truncated" "truncated stream: message"
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\nnan 0 1\n#% end\n' lam-shift
+is "$RC" 65 "NaN coefficient: exit 65"
+like "$ERR" "lam-shift: <stdin>:5: " "NaN coefficient: file:line"
+runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 1\n0.25 1 0\n#% end\n' lam-shift
+is "$RC" 65 "integrals without the real symmetry: exit 65"
+like "$ERR" "8-fold symmetry" "integrals without the real symmetry: message"
+runlam_in $'#% lamina-op 1\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0+ 0-\n0.1 0+ 1-\n#% end\n' lam-shift
+is "$RC" 65 "fermion term that flips a spin: exit 65"
+like "$ERR" "lam-shift: <stdin>:6: the operator is not spin-free" "spin flip: file:line and reason"
+runlam_in $'#% lamina-op 1\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0+ 0-\n#% end\n' lam-shift
+is "$RC" 65 "fermion one-body term on one spin only: exit 65"
+like "$ERR" "not spin-free" "one spin only: reason"
+
+done_testing
