@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "fcidump.h"
+#include "fermion.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
@@ -30,44 +31,6 @@ static _Noreturn void usage(void)
     exit(0);
 }
 
-/* The fermion form: E_pq = sum_s a+_ps a_qs and
- * e_pqrs = sum_st a+_ps a+_rt a_st a_qs written term by term. */
-static int mode_of(int p, int spin, int n, int blocked)
-{
-    return blocked ? p + spin * n : 2 * p + spin;
-}
-
-static void write_fermion_terms(lam_writer *w, const lam_spinfree *sf, int blocked)
-{
-    int n = sf->n;
-    char rest[96];
-    lam_writer_term(w, sf->e0, NULL);
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q) {
-            double c = LAM_H(sf, p, q);
-            if (c == 0) continue;
-            for (int s = 0; s < 2; ++s) {
-                snprintf(rest, sizeof rest, "%d+ %d-", mode_of(p, s, n, blocked), mode_of(q, s, n, blocked));
-                lam_writer_term(w, c, rest);
-            }
-        }
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q)
-            for (int r = 0; r < n; ++r)
-                for (int s = 0; s < n; ++s) {
-                    double c = 0.5 * LAM_G(sf, p, q, r, s);
-                    if (c == 0) continue;
-                    for (int a = 0; a < 2; ++a)
-                        for (int b = 0; b < 2; ++b) {
-                            int pa = mode_of(p, a, n, blocked), rb = mode_of(r, b, n, blocked);
-                            int sb = mode_of(s, b, n, blocked), qa = mode_of(q, a, n, blocked);
-                            if (pa == rb || sb == qa) continue; /* a+ a+ on one mode is zero */
-                            snprintf(rest, sizeof rest, "%d+ %d+ %d- %d-", pa, rb, sb, qa);
-                            lam_writer_term(w, c, rest);
-                        }
-                }
-}
-
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
@@ -77,16 +40,16 @@ int main(int argc, char **argv)
         {"gzip", no_argument, 0, 'z'}, {"help", no_argument, 0, 'h'},
         {"version", no_argument, 0, 'V'}, {0, 0, 0, 0}};
     long electrons = -1;
-    int fermion = 0, blocked = 0, gzip = 0, c;
+    int fermion = 0, gzip = 0, c;
+    lam_spin_order order = LAM_SPIN_INTERLEAVED;
     const char *out = NULL;
     while ((c = getopt_long(argc, argv, "e:o:zh", opts, NULL)) != -1) {
         switch (c) {
         case 'e': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
         case 'f': fermion = 1; break;
         case 's':
-            if (strcmp(optarg, "interleaved") == 0) blocked = 0;
-            else if (strcmp(optarg, "blocked") == 0) blocked = 1;
-            else lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
+            if (lam_spin_order_parse(optarg, &order) != 0)
+                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
             break;
         case 'o': out = optarg; break;
         case 'z': gzip = 1; break;
@@ -114,13 +77,19 @@ int main(int argc, char **argv)
     lam_spinfree_describe(sf, &meta);
     if (fermion) {
         lam_meta_setf(&meta, "modes", "%d", 2 * sf->n);
-        lam_meta_set(&meta, "spin-order", blocked ? "blocked" : "interleaved");
+        lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
     }
     char *history = lam_history_from_argv(argc, argv);
     lam_writer *w = lam_writer_open(out, gzip);
     lam_writer_header(w, fermion ? LAM_KIND_FERMION : LAM_KIND_SPINFREE, &meta, history);
-    if (fermion) write_fermion_terms(w, sf, blocked);
-    else lam_spinfree_write_terms(w, sf);
+    if (fermion) {
+        lam_fermion_op op;
+        lam_fermion_from_spinfree(sf, order, &op);
+        lam_fermion_write_terms(w, &op);
+        lam_fermion_free(&op);
+    } else {
+        lam_spinfree_write_terms(w, sf);
+    }
     lam_writer_close(w);
     free(history);
     lam_meta_free(&meta);
