@@ -1,0 +1,177 @@
+#!/bin/bash
+# lam-scf on the command line: good input, bad input, exit codes.
+# Values from outside the project:
+# - H2, STO-3G, R = 1.4 bohr: A. Szabo, N. S. Ostlund, Modern Quantum
+#   Chemistry (1989), chapter 3 (from memory): MO integrals h11 -1.2528,
+#   h22 -0.4756, (11|11) 0.6746, (11|22) 0.6636, (12|12) 0.1813,
+#   (22|22) 0.6975, orbital energies -0.5782 and 0.6703, E_HF -1.1167 Eh;
+#   compared to 4 decimals.
+# - Water, STO-3G, bohr geometry of T. D. Crawford's programming projects
+#   3 and 4 (from memory, /work/shared/reference/facts.md): E_nuc
+#   8.002367061810450, E_SCF -74.942079928192 Eh.
+# - FCIDUMP header layout (Knowles and Handy 1989; common practice).
+source "$(dirname "$0")/lib/tap.sh"
+
+# integral I J K L < FCIDUMP: the value on the line of (IJ|KL) in any of
+# its 8 index orders (h_IJ with K = L = 0).
+integral() {
+    awk -v i="$1" -v j="$2" -v k="$3" -v l="$4" '
+        function same(a, b, c, d) { return (a == i && b == j && c == k && d == l) }
+        NF == 5 && $2 ~ /^[0-9]+$/ {
+            a = $2; b = $3; c = $4; d = $5
+            if (same(a, b, c, d) || same(b, a, c, d) || same(a, b, d, c) || same(b, a, d, c) ||
+                same(c, d, a, b) || same(d, c, a, b) || same(c, d, b, a) || same(d, c, b, a)) {
+                v = $1; sub(/[dD]/, "e", v); print v + 0; exit
+            }
+        }'
+}
+
+cat >"$TMP/h2.xyz" <<'EOF'
+H 0 0 0
+H 0 0 1.4
+EOF
+cat >"$TMP/water.xyz" <<'EOF'
+3
+water, Crawford programming projects (bohr)
+O  0.000000000000 -0.143225816552 0.000000000000
+H  1.638036840407  1.136548822547 0.000000000000
+H -1.638036840407  1.136548822547 0.000000000000
+EOF
+
+runlam lam-scf --help
+is "$RC" 0 "--help exits 0"
+like "$OUT" "Usage: lam-scf" "--help shows the synopsis"
+like "$OUT" "Eh" "--help names the unit"
+like "$OUT" "Example" "--help has an example"
+runlam lam-scf --version
+is "$RC" 0 "--version exits 0"
+like "$OUT" "^lam-scf .*[0-9]+\.[0-9]+" "--version prints the version"
+
+# ---- Szabo-Ostlund H2
+runlam lam-scf --quiet --bohr "$TMP/h2.xyz"
+is "$RC" 0 "H2: exit 0"
+printf '%s\n' "$OUT" >"$TMP/h2.fcidump"
+like "$(head -1 "$TMP/h2.fcidump")" "^ *&FCI NORB=2, *NELEC=2, *MS2=0" "H2: FCIDUMP header"
+near "$(integral 1 1 0 0 <"$TMP/h2.fcidump")" -1.2528 5e-5 "H2: h11 = -1.2528 (Szabo-Ostlund)"
+near "$(integral 2 2 0 0 <"$TMP/h2.fcidump")" -0.4756 5e-5 "H2: h22 = -0.4756 (Szabo-Ostlund)"
+near "$(integral 1 1 1 1 <"$TMP/h2.fcidump")" 0.6746 5e-5 "H2: (11|11) = 0.6746 (Szabo-Ostlund)"
+near "$(integral 1 1 2 2 <"$TMP/h2.fcidump")" 0.6636 5e-5 "H2: (11|22) = 0.6636 (Szabo-Ostlund)"
+near "$(integral 1 2 1 2 <"$TMP/h2.fcidump")" 0.1813 5e-5 "H2: (12|12) = 0.1813 (Szabo-Ostlund)"
+near "$(integral 2 2 2 2 <"$TMP/h2.fcidump")" 0.6975 5e-5 "H2: (22|22) = 0.6975 (Szabo-Ostlund)"
+near "$(integral 0 0 0 0 <"$TMP/h2.fcidump")" 0.7143 5e-5 "H2: constant 1/R = 0.7143 (Szabo-Ostlund)"
+runlam lam-scf --quiet --bohr --energy "$TMP/h2.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -1.1167 5e-5 "H2: E_HF = -1.1167 Eh (Szabo-Ostlund)"
+near "$(report_get homo <<<"$OUT")" -0.5782 5e-5 "H2: orbital energy -0.5782 (Szabo-Ostlund)"
+near "$(report_get lumo <<<"$OUT")" 0.6703 5e-5 "H2: orbital energy 0.6703 (Szabo-Ostlund)"
+
+# ---- Crawford water
+runlam lam-scf --quiet --bohr --energy "$TMP/water.xyz"
+is "$RC" 0 "water --energy: exit 0"
+near "$(report_get nuclear_repulsion <<<"$OUT")" 8.002367061810450 1e-9 "water: E_nuc 8.002367061810450 (Crawford)"
+near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water: E_SCF -74.942079928192 Eh (Crawford)"
+is "$(report_get basis_functions <<<"$OUT")" 7 "water STO-3G: 7 basis functions"
+is "$(report_get electrons <<<"$OUT")" 10 "water: 10 electrons"
+runlam lam-scf --quiet --bohr --energy --tsv "$TMP/water.xyz"
+is "$(wc -l <<<"$OUT")" 2 "--tsv: header row and value row"
+like "$(head -1 <<<"$OUT")" $'scf_energy' "--tsv header names scf_energy"
+
+# angstrom is the default unit: the same geometry in angstrom (CODATA 2014 bohr)
+awk 'NR > 2 { printf "%s %.12f %.12f %.12f\n", $1, $2 * 0.52917721067, $3 * 0.52917721067, $4 * 0.52917721067 }' \
+    "$TMP/water.xyz" >"$TMP/water-angstrom.xyz"
+runlam lam-scf --quiet --energy "$TMP/water-angstrom.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water in angstrom: same E_SCF"
+OUT=$(lam lam-scf --quiet --energy <"$TMP/water-angstrom.xyz" 2>/dev/null); RC=$?
+is "$RC" 0 "molecule on stdin: exit 0"
+near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "molecule on stdin: same E_SCF"
+
+# frozen core and active space in the FCIDUMP header
+runlam lam-scf --quiet --bohr --frozen 1 --active 4 "$TMP/water.xyz"
+is "$RC" 0 "--frozen 1 --active 4: exit 0"
+like "$(head -1 <<<"$OUT")" "NORB=4, *NELEC=8, *MS2=0" "--frozen 1 --active 4: NORB=4 NELEC=8"
+lam lam-scf --quiet --bohr --frozen 1 "$TMP/water.xyz" -o "$TMP/w.fcidump" >"$TMP/stdout" 2>/dev/null
+is "$?" 0 "-o FILE: exit 0"
+is "$(wc -c <"$TMP/stdout")" 0 "-o FILE: nothing on stdout"
+like "$(head -1 "$TMP/w.fcidump")" "NORB=6, *NELEC=8" "-o FILE: FCIDUMP written"
+lam lam-ints "$TMP/w.fcidump" >"$TMP/w.op" 2>/dev/null
+is "$?" 0 "lam-ints reads lam-scf's FCIDUMP"
+
+# d shells: cc-pVDZ spherical by definition, --cartesian overrides
+runlam lam-scf --quiet --bohr --energy --basis cc-pvdz "$TMP/water.xyz"
+is "$(report_get basis_functions <<<"$OUT")" 24 "water cc-pVDZ: 24 functions (spherical d)"
+runlam lam-scf --quiet --bohr --energy --basis cc-pvdz --cartesian "$TMP/water.xyz"
+is "$(report_get basis_functions <<<"$OUT")" 25 "water cc-pVDZ --cartesian: 25 functions"
+runlam lam-scf --quiet --bohr --energy --basis 6-31g --spherical "$TMP/water.xyz"
+is "$(report_get basis_functions <<<"$OUT")" 13 "water 6-31G: 13 functions"
+
+# convergence report on stderr
+runlam lam-scf --progress --bohr --energy "$TMP/water.xyz"
+like "$ERR" "iter +energy" "--progress: iteration table on stderr"
+like "$ERR" "RHF energy -74.94207992" "summary line on stderr"
+runlam lam-scf --quiet --bohr --energy "$TMP/water.xyz"
+is "$ERR" "" "--quiet: nothing on stderr"
+
+# ---- bad input: message with file:line and the documented exit code
+printf 'H 0 0 0\nXx 0 0 1\n' >"$TMP/bad-element.xyz"
+runlam lam-scf --quiet "$TMP/bad-element.xyz"
+is "$RC" 65 "unknown element: exit 65"
+like "$ERR" "bad-element.xyz:2: unknown element 'Xx'" "unknown element: file:line and reason"
+
+printf 'H 0 0 0\nH 0 0\n' >"$TMP/short.xyz"
+runlam lam-scf --quiet "$TMP/short.xyz"
+is "$RC" 65 "atom line with 3 fields: exit 65"
+like "$ERR" "short.xyz:2: expected \"element x y z\"" "short atom line: file:line and reason"
+
+printf 'H 0 0 0\nH 0 0 0.7x\n' >"$TMP/nan.xyz"
+runlam lam-scf --quiet "$TMP/nan.xyz"
+is "$RC" 65 "coordinate that is not a number: exit 65"
+like "$ERR" "nan.xyz:2: coordinate '0.7x'" "bad coordinate: file:line"
+
+printf '3\ncomment\nH 0 0 0\nH 0 0 0.74\n' >"$TMP/count.xyz"
+runlam lam-scf --quiet "$TMP/count.xyz"
+is "$RC" 65 "atom count does not match: exit 65"
+like "$ERR" "count.xyz:1: 3 atoms declared, 2 found" "atom count: file:line"
+
+printf 'H 0 0 0\nH 0 0 0\n' >"$TMP/same.xyz"
+runlam lam-scf --quiet "$TMP/same.xyz"
+is "$RC" 65 "two nuclei on one point: exit 65"
+
+runlam lam-scf --quiet --bohr --charge 1 "$TMP/water.xyz"
+is "$RC" 65 "open shell (water cation): exit 65"
+like "$ERR" "water.xyz: 9 electrons .*open shell" "open shell: the reason"
+runlam lam-scf --quiet --bohr --charge 2 "$TMP/h2.xyz"
+is "$RC" 65 "no electrons left: exit 65"
+
+printf 'Na 0 0 0\nH 0 0 1.89\n' >"$TMP/nah.xyz"
+runlam lam-scf --quiet --basis cc-pvdz "$TMP/nah.xyz"
+is "$RC" 65 "cc-pVDZ has no Na: exit 65"
+like "$ERR" "nah.xyz:1: basis cc-pvdz has no functions for Na" "missing element in the basis: file:line"
+runlam lam-scf --quiet --basis 6-31g --energy "$TMP/nah.xyz"
+is "$RC" 0 "6-31G has Na: exit 0"
+
+runlam lam-scf --quiet "$TMP/no-such-file.xyz"
+is "$RC" 66 "missing input file: exit 66"
+runlam lam-scf --quiet --basis 3-21g "$TMP/h2.xyz"
+is "$RC" 64 "unknown basis: exit 64"
+like "$ERR" "unknown basis '3-21g'" "unknown basis: message"
+runlam lam-scf --quiet --no-such-option "$TMP/h2.xyz"
+is "$RC" 64 "unknown option: exit 64"
+runlam lam-scf --quiet --bohr --frozen 6 "$TMP/water.xyz"
+is "$RC" 64 "--frozen above the occupied orbitals: exit 64"
+runlam lam-scf --quiet --bohr --active 9 "$TMP/water.xyz"
+is "$RC" 64 "--active above the orbitals: exit 64"
+runlam lam-scf --quiet --bohr --active 4 "$TMP/water.xyz"
+is "$RC" 64 "10 electrons in 4 orbitals: exit 64"
+runlam lam-scf --quiet --tsv "$TMP/h2.xyz"
+is "$RC" 64 "--tsv without --energy: exit 64"
+runlam lam-scf --quiet --e-conv abc "$TMP/h2.xyz"
+is "$RC" 64 "--e-conv not a number: exit 64"
+runlam lam-scf --quiet --bohr --max-iter 2 "$TMP/water.xyz"
+is "$RC" 65 "no convergence in 2 iterations: exit 65"
+like "$ERR" "did not converge in 2 iterations" "no convergence: the reason"
+is "$OUT" "" "no convergence: nothing on stdout"
+runlam lam-scf --quiet --bohr --max-memory 0.001 "$TMP/water.xyz"
+is "$RC" 75 "over --max-memory: exit 75"
+runlam lam-scf --quiet --bohr -o "$TMP/no/such/dir/out" "$TMP/water.xyz"
+is "$RC" 74 "output cannot be written: exit 74"
+
+done_testing
