@@ -20,6 +20,7 @@ cat >"$TMP/h2.fcidump" <<'EOF'
  0.7143 0 0 0 0
 EOF
 lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
+ok $? "lam-ints turns the FCIDUMP into a spinfree stream"
 
 runlam lam-factor --help
 is "$RC" 0 "--help exits 0"
@@ -86,6 +87,10 @@ like "$ERR" "truncated" "truncated stream: message"
 
 runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\nnan 0 0\n#% end\n' lam-factor
 is "$RC" 65 "NaN coefficient: exit 65"
+
+runlam_in '' lam-factor
+is "$RC" 65 "empty input: exit 65"
+like "$ERR" "^lam-factor: <stdin>: .*empty" "empty input: message"
 
 runlam lam-factor "$TMP/does-not-exist"
 is "$RC" 66 "missing input: exit 66"

@@ -116,10 +116,12 @@ static void parse_args(int argc, char **argv, cli *c)
 static lam_spinfree *read_operator(lam_reader *r)
 {
     lam_kind kind = lam_reader_kind(r);
-    if (kind != LAM_KIND_SPINFREE && kind != LAM_KIND_UNKNOWN)
+    /* An empty input is refused too: it is most often a failed program
+     * upstream in the pipeline, not the zero operator. */
+    if (kind != LAM_KIND_SPINFREE)
         lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "lam-factor reads a spinfree stream, not kind '%s' (make one with lam-ints)",
-                    lam_kind_name(kind));
+                    "lam-factor reads a spinfree stream, not %s (make one with lam-ints)",
+                    kind == LAM_KIND_UNKNOWN ? "an empty or unrecognised one" : lam_kind_name(kind));
     lam_spinfree *sf = lam_spinfree_read(r);
     double scale = 1.0;
     size_t n4 = (size_t)sf->n * sf->n * sf->n * sf->n;
