@@ -118,12 +118,6 @@ typedef struct {
     long max_frag, max_orb;
 } held_body;
 
-static long parse_index(const lam_reader *r, const lam_line *ln, int field, long limit,
-                        const char *what)
-{
-    return lam_reader_index(r, ln, field, limit, what);
-}
-
 static void hold_rotation(lam_reader *r, const lam_line *ln, held_body *b, long n,
                           long nfrag)
 {
@@ -131,9 +125,9 @@ static void hold_rotation(lam_reader *r, const lam_line *ln, held_body *b, long 
         lam_reader_fail_line(r, ln->line,
                              "a rotation line is 'x U fragment row column', not %d fields",
                              ln->nfields);
-    held_rot h = {ln->coef, parse_index(r, ln, 1, nfrag, "fragment"),
-                  parse_index(r, ln, 2, n, "orbital"), parse_index(r, ln, 3, n, "orbital"),
-                  ln->line};
+    held_rot h = {ln->coef, lam_reader_index(r, ln, 1, nfrag, "fragment"),
+                  lam_reader_index(r, ln, 2, n, "orbital"),
+                  lam_reader_index(r, ln, 3, n, "orbital"), ln->line};
     if (h.frag > b->max_frag) b->max_frag = h.frag;
     if (h.p > b->max_orb) b->max_orb = h.p;
     if (h.i > b->max_orb) b->max_orb = h.i;
@@ -164,7 +158,7 @@ static void hold_reflection(lam_reader *r, const lam_line *ln, held_body *b, lon
                              ln->nfields);
     held_term h;
     h.t.coef = ln->coef;
-    h.t.frag = (int)parse_index(r, ln, 1, nfrag, "fragment");
+    h.t.frag = (int)lam_reader_index(r, ln, 1, nfrag, "fragment");
     h.t.a = mode_field(r, ln, 2, n);
     h.t.b = ln->nfields == 4 ? mode_field(r, ln, 3, n) : -1;
     h.line = ln->line;
