@@ -159,9 +159,11 @@ void lam_pauli_set_add(lam_pauli_set *s, const uint64_t *x, const uint64_t *z,
         s->group = lam_malloc(lam_mul_size(s->cap, sizeof(int32_t)));
         for (size_t t = 0; t < s->count; ++t) s->group[t] = -1;
     }
-    size_t nw = (size_t)s->nwords;
-    memcpy(lam_pauli_x(s, s->count), x, nw * sizeof(uint64_t));
-    memcpy(lam_pauli_z(s, s->count), z, nw * sizeof(uint64_t));
+    uint64_t *dx = lam_pauli_x(s, s->count), *dz = lam_pauli_z(s, s->count);
+    for (int w = 0; w < s->nwords; ++w) {
+        dx[w] = x[w];
+        dz[w] = z[w];
+    }
     s->coef[s->count] = coef;
     if (s->group) s->group[s->count] = group;
     ++s->count;
@@ -179,12 +181,19 @@ static inline uint64_t mix64(uint64_t h)
     return h;
 }
 
-static uint64_t row_hash(const uint64_t *row, size_t width, int32_t tag)
+static inline uint64_t row_hash(const uint64_t *row, size_t width, int32_t tag)
 {
     uint64_t h = (uint64_t)(uint32_t)tag * 0x9e3779b97f4a7c15ULL;
     for (size_t w = 0; w < width; ++w) h = mix64(h ^ row[w]) + w;
     return h;
 }
+
+/* A slot holds the row number + 1 in its low 40 bits (0 = empty) and the
+ * top 24 bits of the row's hash, so that most probes that miss never touch
+ * the row itself (a cache miss each). */
+#define SLOT_INDEX_BITS 40
+#define SLOT_INDEX_MASK ((UINT64_C(1) << SLOT_INDEX_BITS) - 1)
+#define SLOT_FP(h) ((h) >> SLOT_INDEX_BITS)
 
 void lam_rowhash_init(lam_rowhash *h) { memset(h, 0, sizeof *h); }
 
@@ -194,47 +203,70 @@ void lam_rowhash_free(lam_rowhash *h)
     memset(h, 0, sizeof *h);
 }
 
-static void rowhash_place(lam_rowhash *h, const uint64_t *rows, size_t width,
-                          const int32_t *tags, size_t k)
-{
-    size_t mask = h->size - 1;
-    size_t i = (size_t)row_hash(rows + k * width, width, tags ? tags[k] : 0) & mask;
-    while (h->slot[i] != SIZE_MAX) i = (i + 1) & mask;
-    h->slot[i] = k;
-}
-
-/* Keep the table at most half full so that linear probing stays short. */
-static void rowhash_grow(lam_rowhash *h, const uint64_t *rows, size_t width,
-                         const int32_t *tags)
+/* Keep the table at most half full so that linear probing stays short;
+ * the fingerprints are kept, the positions come from them and the rows. */
+static void rowhash_resize(lam_rowhash *h, const uint64_t *rows, size_t width,
+                           const int32_t *tags, size_t new_size)
 {
     size_t old_size = h->size;
-    size_t *old = h->slot;
-    h->size = old_size ? lam_mul_size(old_size, 2) : 64;
-    h->slot = lam_malloc(lam_mul_size(h->size, sizeof(size_t)));
-    memset(h->slot, 0xff, h->size * sizeof(size_t));
-    for (size_t i = 0; i < old_size; ++i)
-        if (old[i] != SIZE_MAX) rowhash_place(h, rows, width, tags, old[i]);
+    uint64_t *old = h->slot;
+    h->size = new_size;
+    h->slot = lam_calloc(h->size, sizeof(uint64_t));
+    size_t mask = h->size - 1;
+    for (size_t i = 0; i < old_size; ++i) {
+        if (!old[i]) continue;
+        size_t k = (size_t)(old[i] & SLOT_INDEX_MASK) - 1;
+        size_t j = (size_t)row_hash(rows + k * width, width, tags ? tags[k] : 0) & mask;
+        while (h->slot[j]) j = (j + 1) & mask;
+        h->slot[j] = old[i];
+    }
     free(old);
+}
+
+static inline int rows_equal(const uint64_t *a, const uint64_t *b, size_t width)
+{
+    for (size_t w = 0; w < width; ++w)
+        if (a[w] != b[w]) return 0;
+    return 1;
+}
+
+void lam_rowhash_reserve(lam_rowhash *h, const uint64_t *rows, size_t width,
+                         const int32_t *tags, size_t count)
+{
+    if (2 * count <= h->size) return;
+    size_t size = h->size ? h->size : 64;
+    while (size < 2 * count) size = lam_mul_size(size, 2);
+    rowhash_resize(h, rows, width, tags, size);
+}
+
+void lam_rowhash_prefetch(const lam_rowhash *h, const uint64_t *row, size_t width,
+                          int32_t tag)
+{
+    if (h->size) __builtin_prefetch(&h->slot[(size_t)row_hash(row, width, tag) & (h->size - 1)]);
 }
 
 size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
                           const int32_t *tags, size_t cand)
 {
-    if (2 * (h->used + 1) > h->size) rowhash_grow(h, rows, width, tags);
+    if (2 * (h->used + 1) > h->size)
+        rowhash_resize(h, rows, width, tags, h->size ? lam_mul_size(h->size, 2) : 64);
+    if (cand >= SLOT_INDEX_MASK) lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
     const uint64_t *row = rows + cand * width;
     int32_t tag = tags ? tags[cand] : 0;
+    uint64_t hv = row_hash(row, width, tag), fp = SLOT_FP(hv);
     size_t mask = h->size - 1;
-    size_t i = (size_t)row_hash(row, width, tag) & mask;
+    size_t i = (size_t)hv & mask;
     for (;;) {
-        size_t k = h->slot[i];
-        if (k == SIZE_MAX) {
-            h->slot[i] = cand;
+        uint64_t e = h->slot[i];
+        if (!e) {
+            h->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(cand + 1);
             ++h->used;
             return cand;
         }
-        if ((!tags || tags[k] == tag) &&
-            memcmp(rows + k * width, row, width * sizeof(uint64_t)) == 0)
-            return k;
+        if ((e >> SLOT_INDEX_BITS) == fp) {
+            size_t k = (size_t)(e & SLOT_INDEX_MASK) - 1;
+            if ((!tags || tags[k] == tag) && rows_equal(rows + k * width, row, width)) return k;
+        }
         i = (i + 1) & mask;
     }
 }
@@ -242,21 +274,37 @@ size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
 static void move_term(lam_pauli_set *s, size_t to, size_t from)
 {
     if (to == from) return;
-    memcpy(lam_pauli_x(s, to), lam_pauli_x(s, from),
-           2 * (size_t)s->nwords * sizeof(uint64_t));
+    uint64_t *dst = lam_pauli_x(s, to);
+    const uint64_t *src = lam_pauli_x(s, from);
+    for (int w = 0; w < 2 * s->nwords; ++w) dst[w] = src[w];
     s->coef[to] = s->coef[from];
     if (s->group) s->group[to] = s->group[from];
+}
+
+static void drop_zeros(lam_pauli_set *s)
+{
+    size_t out = 0;
+    for (size_t t = 0; t < s->count; ++t)
+        if (s->coef[t] != 0.0) move_term(s, out++, t);
+    s->count = out;
 }
 
 /* Kept terms are compacted to the front in order of first appearance; the
  * candidate is moved to its would-be place before the look-up, so that the
  * index only ever names kept terms. */
-void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros)
+void lam_pauli_set_merge(lam_pauli_set *s, int drop)
 {
     size_t kept = 0, width = 2 * (size_t)s->nwords;
     lam_rowhash h;
     lam_rowhash_init(&h);
+    /* sized once, so that slots can be prefetched a few terms ahead: the
+     * look-ups are cache misses, and overlapping them is most of the speed */
+    lam_rowhash_reserve(&h, s->bits, width, s->group, s->count);
+    enum { AHEAD = 12 };
     for (size_t t = 0; t < s->count; ++t) {
+        if (t + AHEAD < s->count)
+            lam_rowhash_prefetch(&h, lam_pauli_x(s, t + AHEAD), width,
+                                 s->group ? s->group[t + AHEAD] : 0);
         move_term(s, kept, t);
         size_t k = lam_rowhash_insert(&h, s->bits, width, s->group, kept);
         if (k == kept)
@@ -266,12 +314,7 @@ void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros)
     }
     lam_rowhash_free(&h);
     s->count = kept;
-    if (drop_zeros) {
-        size_t out = 0;
-        for (size_t t = 0; t < s->count; ++t)
-            if (s->coef[t] != 0.0) move_term(s, out++, t);
-        s->count = out;
-    }
+    if (drop) drop_zeros(s);
 }
 
 /* ---------------------------------------------------------------- stream */
@@ -307,8 +350,7 @@ static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, i
                          uint64_t *x, uint64_t *z, int32_t *group)
 {
     long need = -1;
-    memset(x, 0, (size_t)nw * sizeof(uint64_t));
-    memset(z, 0, (size_t)nw * sizeof(uint64_t));
+    for (int w = 0; w < nw; ++w) x[w] = z[w] = 0;
     *group = -1;
     for (int f = 0; f < ln->nfields; ++f) {
         const char *tok = ln->fields[f];
@@ -376,7 +418,10 @@ static int highest_qubit(const lam_pauli_set *s)
     return top;
 }
 
-void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines)
+/* The reader behind lam_pauli_read*: lines optional.  (Merging as the
+ * terms arrive was measured slower than merging afterwards, where the
+ * hash slots can be prefetched.) */
+static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines)
 {
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
@@ -407,7 +452,12 @@ void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines)
     if (!bounded) s->nqubits = highest_qubit(s);
 }
 
-void lam_pauli_read(lam_reader *r, lam_pauli_set *s) { lam_pauli_read_lines(r, s, NULL); }
+void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines)
+{
+    read_terms(r, s, lines);
+}
+
+void lam_pauli_read(lam_reader *r, lam_pauli_set *s) { read_terms(r, s, NULL); }
 
 void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
 {

@@ -85,11 +85,17 @@ void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);
  * addressing, at most half full).  Pass the current base pointer on every
  * call (it may have moved by realloc). */
 typedef struct {
-    size_t *slot;
+    uint64_t *slot;
     size_t size, used;
 } lam_rowhash;
 void lam_rowhash_init(lam_rowhash *h);
 void lam_rowhash_free(lam_rowhash *h);
+/* Room for count rows without growing (rows as for insert). */
+void lam_rowhash_reserve(lam_rowhash *h, const uint64_t *rows, size_t width,
+                         const int32_t *tags, size_t count);
+/* Hint that this row will be looked up soon (no effect on the contents). */
+void lam_rowhash_prefetch(const lam_rowhash *h, const uint64_t *row, size_t width,
+                          int32_t tag);
 /* Row `cand` is already stored at rows + cand*width.  Returns the number
  * of an equal row already indexed, or cand after indexing it. */
 size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,

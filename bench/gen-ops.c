@@ -1,0 +1,108 @@
+/* gen-ops - synthetic operator streams for the benchmarks.
+ *
+ *   gen-ops pauli TERMS QUBITS [SEED]   random Pauli strings of weight 1..8
+ *   gen-ops spinfree ORBITALS [SEED]    every integral non-zero, with the
+ *                                       8-fold symmetry of real orbitals
+ *
+ * Deterministic for a given seed; written with 17 significant digits like
+ * the tools of the suite.  Not part of the programs: a bench helper only.
+ */
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+static uint64_t state = 88172645463325252ULL;
+
+static uint64_t next(void)
+{
+    state ^= state << 13;
+    state ^= state >> 7;
+    state ^= state << 17;
+    return state;
+}
+
+/* Uniform in (-1, 1). */
+static double uniform(void) { return ((double)(next() >> 11) / 9007199254740992.0) * 2.0 - 1.0; }
+
+static void pauli(long terms, int qubits)
+{
+    printf("#%% lamina-op 1\n#%% kind: pauli\n#%% qubits: %d\n", qubits);
+    char *used = calloc((size_t)qubits, 1);
+    int *chosen = malloc(sizeof(int) * 8);
+    if (!used || !chosen) exit(70);
+    for (long t = 0; t < terms; ++t) {
+        int weight = 1 + (int)(next() % 8);
+        if (weight > qubits) weight = qubits;
+        printf("%.17g", uniform() * 0.5);
+        for (int k = 0; k < weight; ++k) {
+            int q;
+            do q = (int)(next() % (uint64_t)qubits); while (used[q]);
+            used[q] = 1;
+            chosen[k] = q;
+            printf(" %c%d", "XYZ"[next() % 3], q);
+        }
+        for (int k = 0; k < weight; ++k) used[chosen[k]] = 0;
+        putchar('\n');
+    }
+    printf("#%% end\n");
+    free(used);
+    free(chosen);
+}
+
+/* Integrals decay with the index distance, like those of a real molecule,
+ * but none is zero. */
+static void spinfree(int n)
+{
+    size_t nn = (size_t)n * n;
+    double *h = malloc(nn * sizeof *h);
+    double *g = malloc(nn * nn * sizeof *g);
+    if (!h || !g) exit(70);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q) h[p * n + q] = h[q * n + p] = uniform() / (1 + p - q);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s <= r; ++s) {
+                    size_t pq = (size_t)p * n + q, rs = (size_t)r * n + s;
+                    if (rs > pq) continue;
+                    double v = (p == q && r == s ? 0.5 : 0.05) * (1.0 + 0.5 * uniform()) /
+                               (1 + (p - q) + (r - s));
+                    size_t qp = (size_t)q * n + p, sr = (size_t)s * n + r;
+                    g[pq * nn + rs] = g[qp * nn + rs] = g[pq * nn + sr] = g[qp * nn + sr] = v;
+                    g[rs * nn + pq] = g[sr * nn + pq] = g[rs * nn + qp] = g[sr * nn + qp] = v;
+                }
+    printf("#%% lamina-op 1\n#%% kind: spinfree\n#%% orbitals: %d\n#%% electrons: %d\n", n, n);
+    printf("%.17g\n", 10.0);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q) printf("%.17g %d %d\n", h[p * n + q], p, q);
+    /* each (pq|rs) once for (pq) <= (rs): the term c e_pqrs + c e_rspq */
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s) {
+                    size_t pq = (size_t)p * n + q, rs = (size_t)r * n + s;
+                    if (pq > rs) continue;
+                    double v = g[pq * nn + rs];
+                    printf("%.17g %d %d %d %d\n", pq == rs ? 0.5 * v : v, p, q, r, s);
+                }
+    printf("#%% end\n");
+    free(h);
+    free(g);
+}
+
+int main(int argc, char **argv)
+{
+    if (argc >= 4 && strcmp(argv[1], "pauli") == 0) {
+        if (argc > 4) state += strtoull(argv[4], NULL, 10);
+        pauli(atol(argv[2]), atoi(argv[3]));
+        return 0;
+    }
+    if (argc >= 3 && strcmp(argv[1], "spinfree") == 0) {
+        if (argc > 3) state += strtoull(argv[3], NULL, 10);
+        spinfree(atoi(argv[2]));
+        return 0;
+    }
+    fprintf(stderr, "usage: gen-ops pauli TERMS QUBITS [SEED] | gen-ops spinfree ORBITALS [SEED]\n");
+    return 64;
+}
