@@ -17,35 +17,28 @@ TAB=$'\t'
 
 key_of() { local d; d=$(basename "$1"); printf '%s:%s' "${d%%-*}" "${d#*-}"; }
 
-# tsv_get FILE KEY: the value under KEY in a header row + value row file.
-tsv_get() {
-    awk -F'\t' -v k="$2" -v f="$1" '
-        NR == 1 { for (i = 1; i <= NF; i++) if ($i == k) c = i; next }
-        NR == 2 { if (!c) { print "collect.sh: " f ": no column " k > "/dev/stderr"; exit 65 }
-                  print $c; found = 1 }
-        END { if (!found) exit 65 }' "$1"
-}
-
 # text_get FILE KEY: the value of a key<TAB>value report line.
 text_get() {
     awk -F'\t' -v k="$2" -v f="$1" '$1 == k { print $2; found = 1; exit }
         END { if (!found) { print "collect.sh: " f ": no line " k > "/dev/stderr"; exit 65 } }' "$1"
 }
 
+# One awk reads both --tsv reports: lam-norm's lambda (lambda_grouped for
+# a grouped stream) must agree with the lambda lam-cost used.
 row() {
-    local dir=$1 rep=$2 lam lam_cost
-    case $rep in
-    *grouped) lam=$(tsv_get "$dir/$rep.norm" lambda_grouped) ;;
-    *) lam=$(tsv_get "$dir/$rep.norm" lambda) ;;
-    esac
-    lam_cost=$(tsv_get "$dir/$rep.cost" lambda)
-    # lam-norm and lam-cost read the same stream: their lambdas must agree.
-    awk -v a="$lam" -v b="$lam_cost" -v f="$dir/$rep" 'BEGIN {
-        d = a - b; if (d < 0) d = -d
-        if (d > 1e-9 * (a < 0 ? -a : a)) { print "collect.sh: " f ": lam-norm says lambda " a ", lam-cost " b > "/dev/stderr"; exit 65 } }'
-    printf '%s\t%s\t%s\t%s\t%s\t%s\t%s\n' "$(key_of "$dir")" "$rep" "$lam" \
-        "$(tsv_get "$dir/$rep.cost" unitaries)" "$(tsv_get "$dir/$rep.cost" walk_steps)" \
-        "$(tsv_get "$dir/$rep.cost" toffoli_total)" "$(tsv_get "$dir/$rep.cost" logical_qubits)"
+    local dir=$1 rep=$2 lamkey=lambda
+    case $rep in *grouped) lamkey=lambda_grouped ;; esac
+    awk -F'\t' -v OFS='\t' -v key="$(key_of "$dir")" -v rep="$rep" -v lamkey="$lamkey" '
+        FNR == 1 { delete col; for (i = 1; i <= NF; i++) col[$i] = i; next }
+        FNR == 2 { for (k in col) v[FILENAME == ARGV[1] ? "norm" : "cost", k] = $col[k] }
+        END {
+            if (!(("norm", lamkey) in v) || !(("cost", "lambda") in v) || !(("cost", "toffoli_total") in v)) {
+                print "collect.sh: " ARGV[1] " or " ARGV[2] ": missing columns" > "/dev/stderr"; exit 65 }
+            a = v["norm", lamkey]; b = v["cost", "lambda"]; d = a - b; if (d < 0) d = -d
+            if (d > 1e-9 * (a < 0 ? -a : a)) {
+                print "collect.sh: " ARGV[1] ": lam-norm says lambda " a ", lam-cost " b > "/dev/stderr"; exit 65 }
+            print key, rep, a, v["cost", "unitaries"], v["cost", "walk_steps"], v["cost", "toffoli_total"], v["cost", "logical_qubits"]
+        }' "$dir/$rep.norm" "$dir/$rep.cost"
 }
 
 floors() {

@@ -6,10 +6,12 @@ set terminal pngcairo size 1100,720 font ",12"
 set output out
 set datafile separator "\t"
 set key outside right top box spacing 1.2
-set logscale xy
+# log y: the floors and the representations span a decade or more
+set logscale y
+set ytics (0.2, 0.3, 0.5, 0.7, 1, 1.5, 2, 3, 5, 7, 10, 15, 20, 30, 50, 70, 100)
 set autoscale fix
 set offsets graph 0.04, graph 0.04, graph 0.04, graph 0.04
-set grid xtics ytics mxtics mytics
+set grid xtics ytics
 set xlabel "Pauli one-norm lambda (Jordan-Wigner), Eh"
 set ylabel "one-norm lambda, Eh"
 set title "lambda of each representation against the Pauli lambda of the same geometry"
