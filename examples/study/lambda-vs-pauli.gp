@@ -15,7 +15,7 @@ set grid xtics ytics
 set xlabel "Pauli one-norm lambda (Jordan-Wigner), Eh"
 set ylabel "one-norm lambda, Eh"
 set title "lambda of each representation against the Pauli lambda of the same geometry"
-plot data using 3:3 skip 1 with lines ls 1 dt 2 title "Pauli (y = x)", \
+plot x with lines ls 1 dt 2 title "Pauli (y = x)", \
      data using 3:4 skip 1 with points ls 2 title "anticommuting groups", \
      data using 3:5 skip 1 with points ls 3 title "symmetry shift", \
      data using 3:6 skip 1 with points ls 4 title "shift + groups", \
