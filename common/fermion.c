@@ -375,10 +375,32 @@ static void majorana_reserve(lam_majorana_set *m, size_t need)
     m->cap = cap;
 }
 
+/* Append a monomial known to be new, without indexing it yet. */
+static void majorana_append(lam_majorana_set *m, const uint64_t *row, double re, double im,
+                            long line)
+{
+    majorana_reserve(m, m->count + 1);
+    size_t nw = (size_t)m->nwords, c = m->count;
+    for (size_t w = 0; w < nw; ++w) m->bits[c * nw + w] = row[w];
+    m->re[c] = re;
+    m->im[c] = im;
+    m->mass[c] = fabs(re) + fabs(im);
+    m->line[c] = line;
+    ++m->count;
+}
+
+/* Index the rows appended without it, so that later additions merge. */
+static void majorana_index_all(lam_majorana_set *m)
+{
+    for (; m->indexed < m->count; ++m->indexed)
+        lam_rowhash_insert(&m->index, m->bits, (size_t)m->nwords, NULL, m->indexed);
+}
+
 /* Insert a reduced monomial given as a bit row. */
 static void majorana_insert(lam_majorana_set *m, const uint64_t *row, double re, double im,
                             long line)
 {
+    majorana_index_all(m);
     majorana_reserve(m, m->count + 1);
     size_t nw = (size_t)m->nwords, c = m->count;
     memcpy(m->bits + c * nw, row, nw * sizeof(uint64_t));
@@ -390,6 +412,7 @@ static void majorana_insert(lam_majorana_set *m, const uint64_t *row, double re,
         m->mass[c] = mass;
         m->line[c] = line;
         ++m->count;
+        ++m->indexed;
     } else {
         m->re[k] += re;
         m->im[k] += im;
@@ -465,23 +488,35 @@ void lam_majorana_from_fermion(const lam_fermion_op *op, lam_majorana_set *m)
     }
 }
 
+/* One monomial of Majoranas a, b, c, d (distinct) with a real or imaginary
+ * coefficient, sorted with its sign, appended unindexed. */
+static void append_sorted(lam_majorana_set *m, int *idx, int k, double re, double im)
+{
+    uint64_t rowbuf[8];
+    uint64_t *row = m->nwords <= 8 ? rowbuf : lam_malloc((size_t)m->nwords * sizeof(uint64_t));
+    int sign = reduce_monomial(idx, k, row, m->nwords);
+    majorana_append(m, row, sign * re, sign * im, 0);
+    if (row != rowbuf) free(row);
+}
+
+/* With h and (pq|rs) symmetric in p <-> q, E_pq can be replaced by its
+ * symmetric part 1/2 delta_pq + (i/2) g_2p g_2q+1 (same spin) inside the
+ * sums, and the normal-ordering correction folds into the one-body part.
+ * The result, monomial by monomial (every one of them distinct, so no
+ * merging is needed; a = g_2j, b = g_2j+1 of the mode j):
+ *   identity        lam_spinfree_constant
+ *   a_ps b_qs       (i/2) t_pq,  t_pq = h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq)
+ *   a_pu b_qu a_rd b_sd          -1/4 (pq|rs)                  (opposite spins)
+ *   a_ps b_qs a_rs b_ss, p<r, q<s  -1/4 ((pq|rs) - (ps|rq))      (same spin)
+ * These are the terms whose one-norm is the closed form of
+ * lam_spinfree_lambda. */
 void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                                 lam_majorana_set *m)
 {
     int n = sf->n;
     lam_majorana_init(m, 2 * n);
-    /* Constant: e0 + sum_p h'_pp + 1/2 sum_pr (pp|rr) with
-     * h' = h - 1/2 sum_r (pr|rq); the coincident Majoranas of the
-     * two-body loop below add the rest. */
-    double constant = sf->e0;
-    for (int p = 0; p < n; ++p) {
-        constant += LAM_H(sf, p, p);
-        for (int r = 0; r < n; ++r)
-            constant += -0.5 * LAM_G(sf, p, r, r, p) + 0.5 * LAM_G(sf, p, p, r, r);
-    }
-    lam_majorana_add(m, NULL, 0, constant, 0.0, 0);
-    /* One-body: (i/2) t_pq g_2(p,s) g_2(q,s)+1 with
-     * t_pq = h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq). */
+    int none[1];
+    append_sorted(m, none, 0, lam_spinfree_constant(sf), 0.0);
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q) {
             double t = LAM_H(sf, p, q);
@@ -490,24 +525,34 @@ void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
             for (int s = 0; s < 2; ++s) {
                 int idx[2] = {2 * lam_spin_mode(order, n, p, s),
                               2 * lam_spin_mode(order, n, q, s) + 1};
-                lam_majorana_add(m, idx, 2, 0.0, 0.5 * t, 0);
+                append_sorted(m, idx, 2, 0.0, 0.5 * t);
             }
         }
-    /* Two-body: -1/8 (pq|rs) g_2(p,a) g_2(q,a)+1 g_2(r,b) g_2(s,b)+1. */
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q)
             for (int r = 0; r < n; ++r)
                 for (int s = 0; s < n; ++s) {
                     double g = LAM_G(sf, p, q, r, s);
                     if (g == 0.0) continue;
-                    for (int a = 0; a < 2; ++a)
-                        for (int b = 0; b < 2; ++b) {
-                            int idx[4] = {2 * lam_spin_mode(order, n, p, a),
-                                          2 * lam_spin_mode(order, n, q, a) + 1,
-                                          2 * lam_spin_mode(order, n, r, b),
-                                          2 * lam_spin_mode(order, n, s, b) + 1};
-                            lam_majorana_add(m, idx, 4, -0.125 * g, 0.0, 0);
-                        }
+                    int idx[4] = {2 * lam_spin_mode(order, n, p, 0),
+                                  2 * lam_spin_mode(order, n, q, 0) + 1,
+                                  2 * lam_spin_mode(order, n, r, 1),
+                                  2 * lam_spin_mode(order, n, s, 1) + 1};
+                    append_sorted(m, idx, 4, -0.25 * g, 0.0);
+                }
+    for (int p = 0; p < n; ++p)
+        for (int r = p + 1; r < n; ++r)
+            for (int q = 0; q < n; ++q)
+                for (int s = q + 1; s < n; ++s) {
+                    double v = LAM_G(sf, p, q, r, s) - LAM_G(sf, p, s, r, q);
+                    if (v == 0.0) continue;
+                    for (int a = 0; a < 2; ++a) {
+                        int idx[4] = {2 * lam_spin_mode(order, n, p, a),
+                                      2 * lam_spin_mode(order, n, q, a) + 1,
+                                      2 * lam_spin_mode(order, n, r, a),
+                                      2 * lam_spin_mode(order, n, s, a) + 1};
+                        append_sorted(m, idx, 4, -0.25 * v, 0.0);
+                    }
                 }
 }
 

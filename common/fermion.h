@@ -106,7 +106,8 @@ typedef struct {
     double *re, *im;         /* complex coefficient */
     double *mass;            /* sum of |contributions| (rounding scale) */
     long *line;              /* first input line that contributed */
-    lam_rowhash index;
+    lam_rowhash index;       /* over rows [0, indexed) */
+    size_t indexed;
 } lam_majorana_set;
 
 void lam_majorana_init(lam_majorana_set *m, int nmodes);
@@ -119,9 +120,8 @@ void lam_majorana_add(lam_majorana_set *m, const int *idx, int k, double re,
  * a+_j = (g_2j - i g_2j+1)/2) and merge. */
 void lam_majorana_from_fermion(const lam_fermion_op *op, lam_majorana_set *m);
 /* Direct expansion of a spinfree operator with the 8-fold symmetry of real
- * integrals (the caller checks lam_spinfree_real_symmetry_error first): h
- * and (pq|rs) symmetric in p,q make every E_pq collapse to
- * (i/2) g_2p g_2q+1 plus delta terms, four Majoranas per two-body term. */
+ * integrals (the caller checks lam_spinfree_real_symmetry_error first):
+ * the merged monomials in closed form, no hashing (see fermion.c). */
 void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                                 lam_majorana_set *m);
 /* Any spinfree operator: the direct expansion when the real symmetry holds
