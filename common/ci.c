@@ -2,6 +2,7 @@
 #include "ci.h"
 
 #include <cblas.h>
+#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -187,7 +188,32 @@ size_t lam_ci_sector_bytes(int n, int na, int nb, int npair, size_t scratch_byte
     size_t ca = lam_ci_binomial(n, na), cb = lam_ci_binomial(n, nb);
     size_t batch = batch_for(cb, npair, ca, scratch_bytes);
     size_t bytes = strings_bytes(n, na) + (na == nb ? 0 : strings_bytes(n, nb));
+    bytes += cb * (size_t)(nb + nb * (n - nb)) * sizeof(lam_ci_move);
     return bytes + batch * cb * (size_t)npair * 2 * sizeof(double);
+}
+
+/* The beta excitations grouped by orbital pair (a, b): E_ab|from> =
+ * sign |to>. */
+static void build_moves(lam_ci_sector *s)
+{
+    const lam_ci_strings *B = s->beta;
+    int n = s->n;
+    size_t total = B->count * (size_t)B->nexc;
+    s->move_first = lam_calloc((size_t)n * n + 1, sizeof(size_t));
+    s->moves = lam_malloc(lam_mul_size(total ? total : 1, sizeof(lam_ci_move)));
+    for (size_t i = 0; i < total; ++i) ++s->move_first[B->exc[i].a * n + B->exc[i].b + 1];
+    for (int k = 0; k < n * n; ++k) s->move_first[k + 1] += s->move_first[k];
+    size_t *fill = lam_malloc(((size_t)n * n + 1) * sizeof(size_t));
+    memcpy(fill, s->move_first, ((size_t)n * n + 1) * sizeof(size_t));
+    for (size_t ib = 0; ib < B->count; ++ib)
+        for (int t = 0; t < B->nexc; ++t) {
+            const lam_ci_exc *e = B->exc + ib * (size_t)B->nexc + t;
+            lam_ci_move *m = s->moves + fill[e->a * n + e->b]++;
+            m->from = (uint32_t)ib;
+            m->to = e->target;
+            m->sign = e->sign;
+        }
+    free(fill);
 }
 
 lam_ci_sector *lam_ci_sector_new(const lam_ci_ham *h, int na, int nb, size_t scratch_bytes)
@@ -200,6 +226,7 @@ lam_ci_sector *lam_ci_sector_new(const lam_ci_ham *h, int na, int nb, size_t scr
     s->beta = na == nb ? s->alpha : lam_ci_strings_new(h->n, nb);
     s->dim = lam_ci_sector_dim(h->n, na, nb);
     s->batch = batch_for(s->beta->count, h->npair, s->alpha->count, scratch_bytes);
+    build_moves(s);
     size_t block = lam_mul_size(lam_mul_size(s->batch, s->beta->count), (size_t)h->npair);
     s->d = lam_malloc(lam_mul_size(block, sizeof(double)));
     s->gbuf = lam_malloc(lam_mul_size(block, sizeof(double)));
@@ -211,64 +238,140 @@ void lam_ci_sector_free(lam_ci_sector *s)
     if (!s) return;
     if (s->beta != s->alpha) lam_ci_strings_free(s->beta);
     lam_ci_strings_free(s->alpha);
+    free(s->moves);
+    free(s->move_first);
     free(s->d);
     free(s->gbuf);
     free(s);
 }
 
-/* D[I][pq] = (E_pq c)_I for the determinants of alpha strings [a0, a1):
- * <I|E_pq|J> = <J|E_qp|I>, so each excitation E_ab|I> = s|J> adds s c_J
- * to the pair (b, a). */
-static void gather(const lam_ci_ham *h, const lam_ci_sector *s, size_t a0, size_t a1,
-                   const double *c, double *d)
+/* ---- sigma ----
+ * Layout: D and G hold one row of `rows` determinants per pair P, so the
+ * alpha excitations become contiguous axpy updates of length nb and the
+ * beta excitations, grouped by orbital pair, stay within one row of c. */
+
+typedef struct {
+    const lam_ci_ham *h;
+    const lam_ci_sector *s;
+    size_t a0, a1, rows;
+    const double *c;
+    double *sigma;
+} batch_ctx;
+
+static void axpy(size_t n, double a, const double *x, double *y)
 {
-    const lam_ci_strings *A = s->alpha, *B = s->beta;
-    size_t nb = B->count, np = (size_t)h->npair;
+    for (size_t i = 0; i < n; ++i) y[i] += a * x[i];
+}
+
+/* D[P][I] = (E_pq c)_I for the determinants of alpha string ia:
+ * <I|E_pq|J> = <J|E_qp|I>, so an excitation E_ab|I> = s|J> adds s c_J to
+ * the pair (b, a). */
+static void gather_string(const batch_ctx *b, size_t ia)
+{
+    const lam_ci_ham *h = b->h;
+    const lam_ci_sector *s = b->s;
+    const lam_ci_strings *A = s->alpha;
+    size_t nb = s->beta->count, off = (ia - b->a0) * nb;
     int n = h->n;
-    memset(d, 0, (a1 - a0) * nb * np * sizeof(double));
-    for (size_t ia = a0; ia < a1; ++ia) {
-        double *drow = d + (ia - a0) * nb * np;
-        const lam_ci_exc *ea = A->exc + ia * (size_t)A->nexc;
-        for (int t = 0; t < A->nexc; ++t) {
-            const double *cj = c + (size_t)ea[t].target * nb;
-            size_t P = (size_t)h->pair[ea[t].b * n + ea[t].a];
-            double sg = ea[t].sign;
-            for (size_t ib = 0; ib < nb; ++ib) drow[ib * np + P] += sg * cj[ib];
+    for (int P = 0; P < h->npair; ++P) memset(s->d + (size_t)P * b->rows + off, 0, nb * sizeof(double));
+    const lam_ci_exc *ea = A->exc + ia * (size_t)A->nexc;
+    for (int t = 0; t < A->nexc; ++t)
+        axpy(nb, ea[t].sign, b->c + (size_t)ea[t].target * nb,
+             s->d + (size_t)h->pair[ea[t].b * n + ea[t].a] * b->rows + off);
+    const double *crow = b->c + ia * nb;
+    for (int a = 0; a < n; ++a)
+        for (int bb = 0; bb < n; ++bb) {
+            const lam_ci_move *m = s->moves + s->move_first[a * n + bb];
+            const lam_ci_move *e = s->moves + s->move_first[a * n + bb + 1];
+            double *drow = s->d + (size_t)h->pair[bb * n + a] * b->rows + off;
+            for (; m < e; ++m) drow[m->from] += m->sign * crow[m->to];
         }
-        const double *ci = c + ia * nb;
-        for (size_t ib = 0; ib < nb; ++ib) {
-            const lam_ci_exc *eb = B->exc + ib * (size_t)B->nexc;
-            double *dI = drow + ib * np;
-            for (int t = 0; t < B->nexc; ++t)
-                dI[h->pair[eb[t].b * n + eb[t].a]] += eb[t].sign * ci[eb[t].target];
+}
+
+/* sigma_K += 1/2 <K|E_ab|I> G[ab][I], beta excitations of string ia (they
+ * stay in row ia of sigma). */
+static void scatter_beta(const batch_ctx *b, size_t ia)
+{
+    const lam_ci_ham *h = b->h;
+    const lam_ci_sector *s = b->s;
+    size_t nb = s->beta->count, off = (ia - b->a0) * nb;
+    int n = h->n;
+    double *srow = b->sigma + ia * nb;
+    for (int a = 0; a < n; ++a)
+        for (int bb = 0; bb < n; ++bb) {
+            const lam_ci_move *m = s->moves + s->move_first[a * n + bb];
+            const lam_ci_move *e = s->moves + s->move_first[a * n + bb + 1];
+            const double *grow = s->gbuf + (size_t)h->pair[a * n + bb] * b->rows + off;
+            for (; m < e; ++m) srow[m->to] += 0.5 * m->sign * grow[m->from];
         }
+}
+
+/* The alpha part written from the target side, so that each thread owns
+ * its rows of sigma: E_ab|K> = s|I> with I in the batch means
+ * <K|E_ba|I> = s. */
+static void scatter_alpha(const batch_ctx *b, size_t ka)
+{
+    const lam_ci_ham *h = b->h;
+    const lam_ci_sector *s = b->s;
+    const lam_ci_strings *A = s->alpha;
+    size_t nb = s->beta->count;
+    int n = h->n;
+    const lam_ci_exc *ek = A->exc + ka * (size_t)A->nexc;
+    for (int t = 0; t < A->nexc; ++t) {
+        size_t ia = ek[t].target;
+        if (ia < b->a0 || ia >= b->a1) continue;
+        axpy(nb, 0.5 * ek[t].sign,
+             s->gbuf + (size_t)h->pair[ek[t].b * n + ek[t].a] * b->rows + (ia - b->a0) * nb,
+             b->sigma + ka * nb);
     }
 }
 
-/* sigma_K += 1/2 <K|E_ab|I> G[I][ab] for every excitation of the batch. */
-static void scatter(const lam_ci_ham *h, const lam_ci_sector *s, size_t a0, size_t a1,
-                    const double *g, double *sigma)
+typedef struct {
+    const batch_ctx *b;
+    void (*fn)(const batch_ctx *, size_t);
+    size_t lo, hi;
+} work_range;
+
+static void *run_range(void *arg)
 {
-    const lam_ci_strings *A = s->alpha, *B = s->beta;
-    size_t nb = B->count, np = (size_t)h->npair;
-    int n = h->n;
-    for (size_t ia = a0; ia < a1; ++ia) {
-        const double *grow = g + (ia - a0) * nb * np;
-        const lam_ci_exc *ea = A->exc + ia * (size_t)A->nexc;
-        for (int t = 0; t < A->nexc; ++t) {
-            double *sk = sigma + (size_t)ea[t].target * nb;
-            size_t P = (size_t)h->pair[ea[t].a * n + ea[t].b];
-            double sg = 0.5 * ea[t].sign;
-            for (size_t ib = 0; ib < nb; ++ib) sk[ib] += sg * grow[ib * np + P];
-        }
-        double *si = sigma + ia * nb;
-        for (size_t ib = 0; ib < nb; ++ib) {
-            const lam_ci_exc *eb = B->exc + ib * (size_t)B->nexc;
-            const double *gI = grow + ib * np;
-            for (int t = 0; t < B->nexc; ++t)
-                si[eb[t].target] += 0.5 * eb[t].sign * gI[h->pair[eb[t].a * n + eb[t].b]];
+    work_range *w = arg;
+    for (size_t i = w->lo; i < w->hi; ++i) w->fn(w->b, i);
+    return NULL;
+}
+
+static int ci_threads = 1;
+
+void lam_ci_set_threads(int threads) { ci_threads = threads < 1 ? 1 : threads > 64 ? 64 : threads; }
+
+/* fn(b, i) for i in [lo, hi), split over the threads. */
+static void parallel_for(const batch_ctx *b, void (*fn)(const batch_ctx *, size_t), size_t lo,
+                         size_t hi)
+{
+    int nt = ci_threads;
+    if ((size_t)nt > hi - lo) nt = (int)(hi - lo);
+    if (nt <= 1) {
+        for (size_t i = lo; i < hi; ++i) fn(b, i);
+        return;
+    }
+    pthread_t tid[64];
+    work_range w[64];
+    size_t step = (hi - lo + (size_t)nt - 1) / (size_t)nt;
+    int started = 0;
+    for (int t = 0; t < nt; ++t) {
+        size_t l = lo + (size_t)t * step, u = l + step < hi ? l + step : hi;
+        w[t] = (work_range){b, fn, l, u < l ? l : u};
+        if (t == 0) continue;
+        if (pthread_create(&tid[t], NULL, run_range, &w[t]) != 0) {
+            run_range(&w[t]); /* no thread to be had: do it here */
+            tid[t] = 0;
+        } else {
+            ++started;
         }
     }
+    run_range(&w[0]);
+    for (int t = 1; t < nt; ++t)
+        if (tid[t]) pthread_join(tid[t], NULL);
+    (void)started;
 }
 
 void lam_ci_sigma(const lam_ci_ham *h, lam_ci_sector *s, const double *c, double *sigma)
@@ -278,14 +381,15 @@ void lam_ci_sigma(const lam_ci_ham *h, lam_ci_sector *s, const double *c, double
     if (s->na + s->nb == 0) return;
     for (size_t a0 = 0; a0 < s->alpha->count; a0 += s->batch) {
         size_t a1 = a0 + s->batch < s->alpha->count ? a0 + s->batch : s->alpha->count;
-        size_t rows = (a1 - a0) * nb;
-        gather(h, s, a0, a1, c, s->d);
-        /* the one-body part: sigma_I += sum_pq k_pq D[I][pq] */
-        cblas_dgemv(CblasRowMajor, CblasNoTrans, (int)rows, (int)np, 1.0, s->d, (int)np,
+        batch_ctx b = {h, s, a0, a1, (a1 - a0) * nb, c, sigma};
+        parallel_for(&b, gather_string, a0, a1);
+        /* the one-body part: sigma_I += sum_pq k_pq D[pq][I] */
+        cblas_dgemv(CblasRowMajor, CblasTrans, (int)np, (int)b.rows, 1.0, s->d, (int)b.rows,
                     h->kvec, 1, 1.0, sigma + a0 * nb, 1);
-        cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, (int)rows, (int)np, (int)np,
-                    1.0, s->d, (int)np, h->gmat, (int)np, 0.0, s->gbuf, (int)np);
-        scatter(h, s, a0, a1, s->gbuf, sigma);
+        cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, (int)np, (int)b.rows, (int)np,
+                    1.0, h->gmat, (int)np, s->d, (int)b.rows, 0.0, s->gbuf, (int)b.rows);
+        parallel_for(&b, scatter_beta, a0, a1);
+        parallel_for(&b, scatter_alpha, 0, s->alpha->count);
     }
 }
 
@@ -444,12 +548,11 @@ double lam_ci_det_element(const lam_spinfree *sf, uint64_t a1, uint64_t b1, uint
 
 size_t lam_ci_scratch_bytes(size_t dim)
 {
-    /* two vectors' worth keeps memory within a few vectors of the sector
-     * while the matrix product stays large enough to run at full speed */
-    size_t s = dim > SIZE_MAX / 16 ? SIZE_MAX : dim * 16;
-    if (s < ((size_t)8 << 20)) s = (size_t)8 << 20;
-    if (s > ((size_t)256 << 20)) s = (size_t)256 << 20;
-    return s;
+    /* D and G of a few alpha strings stay in the second-level cache, which
+     * makes the gather and scatter loops run at cache speed; the matrix
+     * product is still wide enough (one row a determinant of the batch) */
+    (void)dim;
+    return (size_t)4 << 20;
 }
 
 size_t lam_ci_solve_bytes(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *tmpl)

@@ -70,11 +70,19 @@ typedef struct {
 lam_ci_ham *lam_ci_ham_new(const lam_spinfree *sf);
 void lam_ci_ham_free(lam_ci_ham *h);
 
+/* A beta excitation E_ab|from> = sign |to>, listed by orbital pair. */
+typedef struct {
+    uint32_t from, to;
+    int32_t sign;
+} lam_ci_move;
+
 /* One (Na, Nb) sector with its strings and scratch space. */
 typedef struct {
     int n, na, nb;
     size_t dim;
     lam_ci_strings *alpha, *beta; /* beta may equal alpha */
+    size_t *move_first;           /* n*n+1: moves of pair (a,b) */
+    lam_ci_move *moves;
     size_t batch;                 /* alpha strings per batch */
     double *d, *gbuf;             /* batch * nb * npair each */
 } lam_ci_sector;
@@ -86,6 +94,10 @@ size_t lam_ci_sector_bytes(int n, int na, int nb, int npair,
 lam_ci_sector *lam_ci_sector_new(const lam_ci_ham *h, int na, int nb,
                                  size_t scratch_bytes);
 void lam_ci_sector_free(lam_ci_sector *s);
+
+/* Threads for the gather and scatter loops of sigma (default 1; the
+ * matrix product uses OpenBLAS's own threads). */
+void lam_ci_set_threads(int threads);
 
 /* sigma = H c on the sector. */
 void lam_ci_sigma(const lam_ci_ham *h, lam_ci_sector *s, const double *c,

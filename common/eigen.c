@@ -14,7 +14,7 @@ void lam_eigen_defaults(lam_eigen_problem *p)
     memset(p, 0, sizeof *p);
     p->tol = 1e-9;
     p->max_iter = 400;
-    p->max_subspace = 12;
+    p->max_subspace = 16;
     p->dense_limit = 300;
 }
 

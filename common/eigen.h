@@ -40,7 +40,7 @@ typedef struct {
     int converged;    /* residual <= tol */
 } lam_eigen_result;
 
-/* Fill defaults: tol 1e-9, max_iter 400, max_subspace 12, dense_limit 300. */
+/* Fill defaults: tol 1e-9, max_iter 400, max_subspace 16, dense_limit 300. */
 void lam_eigen_defaults(lam_eigen_problem *p);
 /* Bytes of working storage (beyond the diagonal) the solver allocates. */
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit);

@@ -37,7 +37,8 @@ static _Noreturn void usage(void)
            "      --bound-subspace K  determinants in that Rayleigh-Ritz (default 200)\n"
            "      --multiplets     spinfree input: per electron number solve only the\n"
            "                       sector of smallest |Sz| (enough for every extreme)\n"
-           "      --threads T      OpenBLAS threads for the matrix products\n"
+           "      --threads T      threads for the matrix products (OpenBLAS) and the CI\n"
+           "                       loops (default: 1 for the loops, OpenBLAS's default)\n"
            "      --kind K         kind of a stream without header (spinfree, fermion, pauli)\n"
            "      --progress       progress on stderr even when it is not a terminal\n"
            "      --quiet          no progress\n"
@@ -604,7 +605,10 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-    if (o.threads) openblas_set_num_threads(o.threads);
+    if (o.threads) {
+        openblas_set_num_threads(o.threads);
+        lam_ci_set_threads(o.threads);
+    }
     lam_reader *r = lam_reader_open(o.input);
     if (o.kind) lam_reader_force_kind(r, o.kind);
     lam_kind kind = lam_reader_kind(r);
