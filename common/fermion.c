@@ -279,7 +279,7 @@ void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out)
         w.coef = in->coef[t];
         w.line = in->line[t];
         w.k = (int)k;
-        memcpy(w.ops, in->ops + in->first[t], k * sizeof(int32_t));
+        if (k) memcpy(w.ops, in->ops + in->first[t], k * sizeof(int32_t));
         push(&st, &w);
         normal_order_term(&st, &set);
     }
