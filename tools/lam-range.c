@@ -640,7 +640,13 @@ int main(int argc, char **argv)
             lam_fail(LAM_EX_USAGE, "%d electrons do not fit in %d modes", electrons, op->nqubits);
         /* the header's electron number is a wish, not a demand: without
          * number conservation, report the Fock space only */
-        if (o.electrons < 0 && !c.number_blocks) electrons = -1;
+        if (o.electrons < 0 && !c.number_blocks) {
+            if (electrons >= 0)
+                lam_warn("note: %s, so only the Fock-space range is reported",
+                         jw ? "the operator does not conserve the particle number"
+                            : "not a Jordan-Wigner stream (no Hamming-weight sectors)");
+            electrons = -1;
+        }
         options og = o;
         og.electrons = electrons;
         plan_generic(&p, &c, op->nqubits, &og, src);
