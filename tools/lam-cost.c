@@ -259,6 +259,8 @@ static void summary_from_report(const char *path, const char *name, const option
     lam_report_in *in = lam_report_read(path);
     const char *kind = lam_report_get_str(in, "kind");
     if (!kind) lam_fail_at(LAM_EX_DATA, name, 0, "report has no 'kind' line (is it from lam-norm?)");
+    if (strchr(kind, '\t'))
+        lam_fail_at(LAM_EX_DATA, name, 1, "a --tsv report: lam-cost reads the key<TAB>value form");
     if (strcmp(kind, "pauli") == 0)
         summary_from_pauli_report(in, name, o, lcu);
     else if (strcmp(kind, "fragments") == 0)
