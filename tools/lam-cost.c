@@ -31,8 +31,8 @@ static _Noreturn void usage(void)
         "      --kind KIND       kind of a stream without header (pauli, fragments)\n"
         "      --tsv             one header row and one value row\n"
         "  -o, --output FILE     write the report to FILE (default stdout)\n"
-        "  -q, --quiet           no note on stderr\n"
-        "      --progress        (accepted for uniformity; the work is short)\n"
+        "  -q, --quiet           no note and no progress on stderr\n"
+        "      --progress        progress on stderr even when it is not a terminal\n"
         "  -h, --help            this help\n"
         "      --version         version\n"
         "\n"
@@ -86,8 +86,11 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case OPT_TSV: o->tsv = 1; break;
         case 'o': o->output = optarg; break;
-        case 'q': o->quiet = 1; break;
-        case OPT_PROGRESS: break;
+        case 'q':
+            o->quiet = 1;
+            lam_progress_set(0);
+            break;
+        case OPT_PROGRESS: lam_progress_set(1); break;
         case 'h': usage();
         case OPT_VERSION: lam_print_version();
         default: lam_usage_error("unknown option");
@@ -165,7 +168,9 @@ static void summary_from_pauli_stream(lam_reader *r, const options *o, lam_lcu_s
 {
     lam_pauli_set s;
     lam_pauli_set_init(&s, (int)lam_reader_meta_long(r, "qubits", -1, 0, 1 << 24));
+    double t0 = lam_seconds();
     lam_pauli_read(r, &s);
+    lam_progress("read %zu Pauli terms in %.2f s", s.count, lam_seconds() - t0);
     lam_cost_summary_from_pauli(&s, !o->ungrouped, lcu);
     lam_pauli_set_free(&s);
 }
