@@ -241,6 +241,7 @@ int main(int argc, char **argv)
     lam_shift *k;
     resolve_target(&o, h, src, &k);
 
+    double t_lp = lam_seconds();
     lam_l1_problem lp;
     double fixed;
     lam_shift_build_lp(h, k, &lp, &fixed);
@@ -253,6 +254,7 @@ int main(int argc, char **argv)
     lo.max_iter = (int)o.max_iter;
     lam_l1_result res;
     int status = lam_l1_solve(&lp, &lo, show_iteration, &fixed, k->x, &res);
+    t_lp = lam_seconds() - t_lp;
 
     double before = lam_spinfree_lambda(h);
     double after = fixed + res.primal;
@@ -312,6 +314,7 @@ int main(int argc, char **argv)
     lam_report_int(rep, "blocks", res.blocks);
     lam_report_int(rep, "largest_block", res.largest_block);
     lam_report_int(rep, "iterations", res.iterations);
+    lam_report_num(rep, "lp_seconds", t_lp);
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     if (o.report) lam_report_save(rep, o.report, o.tsv);
     else lam_report_write(rep, stderr, o.tsv);
