@@ -325,22 +325,29 @@ static void queue_line(lam_reader *r, const char *s, long line)
     r->npending++;
 }
 
+/* Next term line, taking in metadata and skipping comments on the way;
+ * NULL at "#% end" (the rest checked) or at the end of the input. */
+static char *next_term_line(lam_reader *r, long *line)
+{
+    char *s;
+    while ((s = next_line(r, line)) != NULL) {
+        enum line_class c = classify(r, s, *line);
+        if (c == LINE_TERM) return s;
+        if (c == LINE_END) {
+            r->ended = 1;
+            read_after_end(r);
+            return NULL;
+        }
+    }
+    return NULL;
+}
+
 /* Read the leading metadata: stop at the first term line, queued. */
 static void read_header(lam_reader *r)
 {
     long line;
-    char *s;
-    while ((s = next_line(r, &line)) != NULL) {
-        enum line_class c = classify(r, s, line);
-        if (c == LINE_SKIP) continue;
-        if (c == LINE_END) {
-            r->ended = 1;
-            read_after_end(r);
-            return;
-        }
-        queue_line(r, s, line);
-        return;
-    }
+    char *s = next_term_line(r, &line);
+    if (s) queue_line(r, s, line);
 }
 
 lam_reader *lam_reader_open(const char *path)
@@ -405,15 +412,8 @@ int lam_reader_next(lam_reader *r, lam_line *out)
 {
     if (r->ended) return 0;
     long line;
-    char *s;
-    while ((s = next_line(r, &line)) != NULL) {
-        enum line_class c = classify(r, s, line);
-        if (c == LINE_SKIP) continue;
-        if (c == LINE_END) {
-            r->ended = 1;
-            read_after_end(r);
-            return 0;
-        }
+    char *s = next_term_line(r, &line);
+    if (s) {
         int n = split_fields(r, s);
         parse_coefficient(r, r->fields[0], line, &out->coef);
         out->nfields = n - 1;
@@ -422,7 +422,7 @@ int lam_reader_next(lam_reader *r, lam_line *out)
         r->lineno = line;
         return 1;
     }
-    if (r->suite_stream)
+    if (r->suite_stream && !r->ended)
         lam_fail_at(LAM_EX_DATA, r->name, r->lineno,
                     "truncated stream: it ends without '#%% end'");
     return 0;
