@@ -134,24 +134,50 @@ static void collect_spinfree(void *ctx, double c, int nidx, const int *idx)
     memcpy(t->idx, idx, (size_t)nidx * sizeof(int));
 }
 
-static int by_magnitude_sf(const void *a, const void *b)
+/* ---- --sort: constant first, then |c| descending, ties in input order ---- */
+
+static const double *sort_coef;
+static const char *sort_constant;
+
+static int by_magnitude(const void *a, const void *b)
 {
-    const sf_term *x = a, *y = b;
-    if (x->nidx == 0 || y->nidx == 0) return (x->nidx != 0) - (y->nidx != 0);
-    double d = fabs(y->c) - fabs(x->c);
-    return (d > 0) - (d < 0);
+    size_t i = *(const size_t *)a, j = *(const size_t *)b;
+    if (sort_constant[i] != sort_constant[j]) return sort_constant[j] - sort_constant[i];
+    double d = fabs(sort_coef[j]) - fabs(sort_coef[i]);
+    if (d != 0) return (d > 0) - (d < 0);
+    return (i > j) - (i < j);
+}
+
+static size_t *order_by_magnitude(size_t n, const double *coef, const char *constant)
+{
+    size_t *order = lam_malloc(lam_mul_size(n ? n : 1, sizeof *order));
+    for (size_t t = 0; t < n; ++t) order[t] = t;
+    sort_coef = coef;
+    sort_constant = constant;
+    qsort(order, n, sizeof *order, by_magnitude);
+    return order;
 }
 
 static void write_spinfree_sorted(lam_writer *w, const lam_spinfree *sf)
 {
     sf_list l = {0};
     lam_spinfree_foreach_term(sf, collect_spinfree, &l);
-    qsort(l.t, l.n, sizeof *l.t, by_magnitude_sf);
-    char rest[64];
+    double *coef = lam_malloc(lam_mul_size(l.n ? l.n : 1, sizeof *coef));
+    char *constant = lam_malloc(l.n ? l.n : 1);
     for (size_t i = 0; i < l.n; ++i) {
-        lam_spinfree_format_indices(rest, sizeof rest, l.t[i].nidx, l.t[i].idx);
-        lam_writer_term(w, l.t[i].c, rest);
+        coef[i] = l.t[i].c;
+        constant[i] = l.t[i].nidx == 0;
     }
+    size_t *order = order_by_magnitude(l.n, coef, constant);
+    char rest[64];
+    for (size_t k = 0; k < l.n; ++k) {
+        const sf_term *t = &l.t[order[k]];
+        lam_spinfree_format_indices(rest, sizeof rest, t->nidx, t->idx);
+        lam_writer_term(w, t->c, rest);
+    }
+    free(order);
+    free(constant);
+    free(coef);
     free(l.t);
 }
 
@@ -167,26 +193,12 @@ static void add_pauli(lam_pauli_set *acc, lam_pauli_set *s, double f)
                           s->group ? s->group[t] : -1);
 }
 
-static const lam_pauli_set *sort_set;
-
-static int by_magnitude_pauli(const void *a, const void *b)
-{
-    size_t i = *(const size_t *)a, j = *(const size_t *)b;
-    int nw = sort_set->nwords;
-    int ii = lam_pauli_is_identity(nw, lam_pauli_x(sort_set, i), lam_pauli_z(sort_set, i));
-    int ij = lam_pauli_is_identity(nw, lam_pauli_x(sort_set, j), lam_pauli_z(sort_set, j));
-    if (ii != ij) return ij - ii;
-    double d = fabs(sort_set->coef[j]) - fabs(sort_set->coef[i]);
-    if (d != 0) return (d > 0) - (d < 0);
-    return (i > j) - (i < j);
-}
-
 static void sort_pauli(lam_pauli_set *s)
 {
-    size_t *order = lam_malloc(lam_mul_size(s->count, sizeof *order));
-    for (size_t t = 0; t < s->count; ++t) order[t] = t;
-    sort_set = s;
-    qsort(order, s->count, sizeof *order, by_magnitude_pauli);
+    char *constant = lam_malloc(s->count ? s->count : 1);
+    for (size_t t = 0; t < s->count; ++t)
+        constant[t] = (char)lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t));
+    size_t *order = order_by_magnitude(s->count, s->coef, constant);
     lam_pauli_set sorted;
     lam_pauli_set_init(&sorted, s->nqubits);
     lam_pauli_set_reserve(&sorted, s->count);
@@ -195,6 +207,7 @@ static void sort_pauli(lam_pauli_set *s)
         lam_pauli_set_add(&sorted, lam_pauli_x(s, t), lam_pauli_z(s, t), s->coef[t], s->group ? s->group[t] : -1);
     }
     free(order);
+    free(constant);
     lam_pauli_set_free(s);
     *s = sorted;
 }
@@ -208,25 +221,11 @@ static void add_fermion(lam_fermion_op *acc, const lam_fermion_op *s, double f)
         lam_fermion_add(acc, f * s->coef[t], s->ops + s->first[t], (int)lam_fermion_length(s, t), s->line[t]);
 }
 
-static const lam_fermion_op *sort_fermion_op;
-
-static int by_magnitude_fermion(const void *a, const void *b)
-{
-    size_t i = *(const size_t *)a, j = *(const size_t *)b;
-    const lam_fermion_op *op = sort_fermion_op;
-    int ci = lam_fermion_length(op, i) == 0, cj = lam_fermion_length(op, j) == 0;
-    if (ci != cj) return cj - ci;
-    double d = fabs(op->coef[j]) - fabs(op->coef[i]);
-    if (d != 0) return (d > 0) - (d < 0);
-    return (i > j) - (i < j);
-}
-
 static void sort_fermion(lam_fermion_op *op)
 {
-    size_t *order = lam_malloc(lam_mul_size(op->count, sizeof *order));
-    for (size_t t = 0; t < op->count; ++t) order[t] = t;
-    sort_fermion_op = op;
-    qsort(order, op->count, sizeof *order, by_magnitude_fermion);
+    char *constant = lam_malloc(op->count ? op->count : 1);
+    for (size_t t = 0; t < op->count; ++t) constant[t] = lam_fermion_length(op, t) == 0;
+    size_t *order = order_by_magnitude(op->count, op->coef, constant);
     lam_fermion_op sorted;
     lam_fermion_init(&sorted, op->nmodes);
     for (size_t k = 0; k < op->count; ++k) {
@@ -234,6 +233,7 @@ static void sort_fermion(lam_fermion_op *op)
         lam_fermion_add(&sorted, op->coef[t], op->ops + op->first[t], (int)lam_fermion_length(op, t), op->line[t]);
     }
     free(order);
+    free(constant);
     lam_fermion_free(op);
     *op = sorted;
 }
