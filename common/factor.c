@@ -521,12 +521,41 @@ typedef struct {
     double scale; /* 1 / ||resid||^2: the fit works on a relative norm */
 } fit_problem;
 
-static double fit_objective(const double *x, double *grad, void *ctx)
+double lam_fragment_fit_reduced(int n, const double *resid, const double *u0,
+                                const double *kappa, double *grad)
+{
+    int nk = kappa_count(n), dim = nk + lambda_count(n);
+    size_t nn = (size_t)n * n;
+    double *x = new_matrix((size_t)dim, 1), *full = new_matrix((size_t)dim, 1);
+    double *k = new_matrix((size_t)n, (size_t)n), *e = new_matrix((size_t)n, (size_t)n);
+    double *u = new_matrix((size_t)n, (size_t)n), *v = new_matrix(nn, (size_t)n);
+    double *lam = new_matrix((size_t)n, (size_t)n);
+    memcpy(x, kappa, (size_t)nk * sizeof(double));
+    generator_matrix(n, kappa, k);
+    lam_expm(n, k, e);
+    matmul(n, u0, e, u);
+    pair_projectors(n, u, v);
+    diagonal_projection(n, v, resid, lam);
+    pack_lambda(n, lam, x + nk);
+    /* At the best l the l-gradient vanishes, so the K-gradient of the
+     * joint objective is the gradient of the reduced one. */
+    double f = lam_fragment_fit(n, resid, u0, x, grad ? full : NULL);
+    if (grad) memcpy(grad, full, (size_t)nk * sizeof(double));
+    free(x);
+    free(full);
+    free(k);
+    free(e);
+    free(u);
+    free(v);
+    free(lam);
+    return f;
+}
+
+static double projected_objective(const double *kappa, double *grad, void *ctx)
 {
     const fit_problem *fp = ctx;
-    int dim = kappa_count(fp->n) + lambda_count(fp->n);
-    double f = lam_fragment_fit(fp->n, fp->resid, fp->u0, x, grad);
-    if (grad) cblas_dscal(dim, fp->scale, grad, 1);
+    double f = lam_fragment_fit_reduced(fp->n, fp->resid, fp->u0, kappa, grad);
+    if (grad) cblas_dscal(kappa_count(fp->n), fp->scale, grad, 1);
     return f * fp->scale;
 }
 
@@ -552,29 +581,24 @@ static void leading_factor_rotation(int n, const double *resid, double *u)
 static long fit_one_fragment(int n, double *resid, const lam_factor_options *o, double *u,
                              double *lam)
 {
-    int nk = kappa_count(n), dim = nk + lambda_count(n);
+    int nk = kappa_count(n);
     size_t nn = (size_t)n * n;
     double *u0 = new_matrix((size_t)n, (size_t)n), *v = new_matrix(nn, (size_t)n);
-    double *x = new_matrix((size_t)dim, 1), *k = new_matrix((size_t)n, (size_t)n);
+    double *kappa = new_matrix((size_t)nk, 1), *k = new_matrix((size_t)n, (size_t)n);
     double *e = new_matrix((size_t)n, (size_t)n);
     leading_factor_rotation(n, resid, u0);
-    pair_projectors(n, u0, v);
-    diagonal_projection(n, v, resid, lam);
-    pack_lambda(n, lam, x + nk);
     double norm2 = cblas_ddot((int)(nn * nn), resid, 1, resid, 1), fx;
     fit_problem fp = {n, resid, u0, 1.0 / norm2};
-    long iters = lam_lbfgs(dim, x, fit_objective, &fp, o->max_iter, 1e-12, &fx);
-    generator_matrix(n, x, k);
+    long iters = lam_lbfgs(nk, kappa, projected_objective, &fp, o->max_iter, 1e-12, &fx);
+    generator_matrix(n, kappa, k);
     lam_expm(n, k, e);
     matmul(n, u0, e, u);
-    /* Given U the best l is the projection (the u_i u_i^T are orthonormal),
-     * so refit it exactly and take the fragment out of the residual. */
     pair_projectors(n, u, v);
     diagonal_projection(n, v, resid, lam);
     add_fragment_tensor(n, v, lam, -1.0, resid);
     free(u0);
     free(v);
-    free(x);
+    free(kappa);
     free(k);
     free(e);
     return iters;

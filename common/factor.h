@@ -11,7 +11,8 @@
  *    gives U_f = V and l_ij = w_l e_i e_j.
  *  - full rank (greedy): each fragment fits U = U0 exp(K) (K real
  *    antisymmetric) and a symmetric l_ij to the two-body residual by
- *    minimizing its Frobenius norm with L-BFGS and analytic gradients.
+ *    minimizing its Frobenius norm with L-BFGS and analytic gradients; l is
+ *    eliminated exactly (it is linear), L-BFGS runs over K.
  *
  * Fragment 0 is the one-body part: T = h minus what the two-body
  * fragments' reflection form adds to the one-body operator, diagonalized.
@@ -85,5 +86,11 @@ int lam_lbfgs(int dim, double *x, lam_objective f, void *ctx, int max_iter,
  * resid is n^4 with (pq|rs) = (rs|pq) = (qp|rs). */
 double lam_fragment_fit(int n, const double *resid, const double *u0, const double *x,
                         double *grad);
+/* The same with l at its best for U (the rotated (ii|jj) of resid, the
+ * u_i u_i^T being orthonormal): a function of kappa alone, which is what
+ * the greedy fit minimizes (variable projection: fewer, better-conditioned
+ * unknowns). */
+double lam_fragment_fit_reduced(int n, const double *resid, const double *u0,
+                                const double *kappa, double *grad);
 
 #endif

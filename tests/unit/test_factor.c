@@ -141,6 +141,24 @@ static void test_fit_gradient(void)
         worst = fmax(worst, fabs((fp - fm) / (2 * h) - grad[i]));
     }
     tap_near(worst, 0.0, 1e-6, "full-rank fit: analytic gradient matches central differences");
+
+    double kappa[NK], gk[NK];
+    for (int i = 0; i < NK; ++i) kappa[i] = 0.4 * uniform();
+    double f0 = lam_fragment_fit_reduced(N, g, u0, kappa, gk);
+    worst = 0.0;
+    for (int i = 0; i < NK; ++i) {
+        double save = kappa[i];
+        kappa[i] = save + h;
+        double fp = lam_fragment_fit_reduced(N, g, u0, kappa, NULL);
+        kappa[i] = save - h;
+        double fm = lam_fragment_fit_reduced(N, g, u0, kappa, NULL);
+        kappa[i] = save;
+        worst = fmax(worst, fabs((fp - fm) / (2 * h) - gk[i]));
+    }
+    tap_near(worst, 0.0, 1e-6, "reduced fit (l eliminated): gradient matches central differences");
+    /* Eliminating l can only lower the objective at the same rotation. */
+    for (int i = 0; i < DIM; ++i) x[i] = i < NK ? kappa[i] : 0.5 * uniform();
+    tap_ok(f0 <= lam_fragment_fit(N, g, u0, x, NULL), "reduced fit is the minimum over l");
 }
 
 static lam_spinfree *random_operator(int n, int positive)
