@@ -581,3 +581,87 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
     lam_fermion_free(&op);
     return sf;
 }
+
+/* ---- an earlier shift recorded in the metadata ---- */
+
+static _Noreturn void bad_record(const char *src, const lam_meta_entry *e, const char *why)
+{
+    lam_fail_at(LAM_EX_DATA, src, e->line, "%s: %s '%s'", why, e->key, e->value);
+}
+
+static double record_number(const char *src, const lam_meta_entry *e)
+{
+    double v;
+    if (lam_parse_double(e->value, &v) != 0) bad_record(src, e, "not a number");
+    return v;
+}
+
+static void record_matrix(const char *src, const lam_meta_entry *e, lam_shift *k, int *idx)
+{
+    char buf[256];
+    snprintf(buf, sizeof buf, "%s", e->value);
+    char *save = NULL, *tp = strtok_r(buf, " \t", &save), *tq = strtok_r(NULL, " \t", &save);
+    char *tv = strtok_r(NULL, " \t", &save);
+    long p, q;
+    double v;
+    if (!tp || !tq || !tv || strtok_r(NULL, " \t", &save) || lam_parse_long(tp, &p) != 0 ||
+        lam_parse_long(tq, &q) != 0 || lam_parse_double(tv, &v) != 0)
+        bad_record(src, e, "want 'p q value'");
+    if (p < 0 || q < 0 || p >= k->n || q >= k->n) bad_record(src, e, "orbital out of range");
+    if (idx[p * k->n + q] < 0) bad_record(src, e, "not among shift-terms");
+    k->x[idx[p * k->n + q]] += v;
+}
+
+lam_shift *lam_shift_recorded(const lam_meta *meta, int n, const char *src)
+{
+    const lam_meta_entry *terms = lam_meta_find(meta, "shift-terms");
+    if (!terms) return NULL;
+    unsigned mask;
+    if (lam_shift_parse_terms(terms->value, &mask) != 0) bad_record(src, terms, "unknown terms");
+    const lam_meta_entry *ne = lam_meta_find(meta, "shift-electrons");
+    const lam_meta_entry *se = lam_meta_find(meta, "shift-ms2");
+    long n0 = -1, ms2 = 0;
+    if (!ne || lam_parse_long(ne->value, &n0) != 0 || n0 < 0 || n0 > 2L * n)
+        lam_fail_at(LAM_EX_DATA, src, terms->line, "shift-terms without a valid shift-electrons");
+    if (se && (lam_parse_long(se->value, &ms2) != 0 || labs(ms2) > 2L * n))
+        bad_record(src, se, "not a spin projection");
+    lam_shift *k = lam_shift_new(n, (int)n0, (int)ms2, mask);
+    for (size_t i = 0; i < meta->count; ++i) {
+        const lam_meta_entry *e = &meta->items[i];
+        int *slot = NULL;
+        if (strcmp(e->key, "shift-a1") == 0) slot = &k->ia1;
+        else if (strcmp(e->key, "shift-a2") == 0) slot = &k->ia2;
+        else if (strcmp(e->key, "shift-b1") == 0) slot = &k->ib1;
+        else if (strcmp(e->key, "shift-b2") == 0) slot = &k->ib2;
+        if (slot) {
+            double v = record_number(src, e);
+            if (*slot < 0 && v != 0) bad_record(src, e, "not among shift-terms");
+            if (*slot >= 0) k->x[*slot] += v;
+        } else if (strcmp(e->key, "shift-xi") == 0) {
+            record_matrix(src, e, k, k->ixi);
+        } else if (strcmp(e->key, "shift-zeta") == 0) {
+            record_matrix(src, e, k, k->izeta);
+        }
+    }
+    return k;
+}
+
+lam_shift *lam_shift_sum(const lam_shift *a, const lam_shift *b)
+{
+    lam_shift *s = lam_shift_new(a->n, a->electrons, a->ms2, a->terms | b->terms);
+    const lam_shift *parts[2] = {a, b};
+    for (int i = 0; i < 2; ++i) {
+        const lam_shift *k = parts[i];
+        if (s->ia1 >= 0) s->x[s->ia1] += lam_shift_a1(k);
+        if (s->ia2 >= 0) s->x[s->ia2] += lam_shift_a2(k);
+        if (s->ib1 >= 0) s->x[s->ib1] += lam_shift_b1(k);
+        if (s->ib2 >= 0) s->x[s->ib2] += lam_shift_b2(k);
+        for (int p = 0; p < s->n; ++p)
+            for (int q = p; q < s->n; ++q) {
+                if (s->ixi[p * s->n + q] >= 0) s->x[s->ixi[p * s->n + q]] += lam_shift_xi(k, p, q);
+                if (s->izeta[p * s->n + q] >= 0)
+                    s->x[s->izeta[p * s->n + q]] += lam_shift_zeta(k, p, q);
+            }
+    }
+    return s;
+}

@@ -95,4 +95,12 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *op, lam_spin_order or
  * entries. */
 void lam_shift_describe(const lam_shift *k, lam_meta *meta);
 
+/* The shift an earlier run recorded in meta (shift-terms, shift-a1, ...),
+ * or NULL when there is none; exit 65 naming src and the line of a
+ * malformed entry. */
+lam_shift *lam_shift_recorded(const lam_meta *meta, int n, const char *src);
+/* a + b, parameter by parameter, with the terms of both; the target (N0,
+ * S0) is a's (the caller checks that b has the same). */
+lam_shift *lam_shift_sum(const lam_shift *a, const lam_shift *b);
+
 #endif

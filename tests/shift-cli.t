@@ -105,6 +105,22 @@ if [ -x "$LAM_BIN/lam-map" ]; then
     near "$sl" "$sa" 1e-10 "--spin: lam-map | lam-norm of the output = lambda_after"
 fi
 
+# a second shift: the metadata then holds the sum of both (K is linear in
+# its parameters), so the original operator can still be rebuilt
+lam lam-shift -q --report "$TMP/ra" "$TMP/h2.sf" >"$TMP/s1.sf"
+lam lam-shift -q --report "$TMP/rb" "$TMP/s1.sf" >"$TMP/s2.sf"
+a1a=$(report_get a1 <"$TMP/ra")
+a1b=$(report_get a1 <"$TMP/rb")
+a1rec=$(awk '/^#% shift-a1:/ { print $3 }' "$TMP/s2.sf")
+near "$a1rec" "$(awk -v a="$a1a" -v b="$a1b" 'BEGIN { printf "%.17g", a + b }')" 1e-15 \
+    "second shift: recorded a1 is the sum of both"
+is "$(grep -c '^#% shift-terms:' "$TMP/s2.sf")" 1 "second shift: one set of shift metadata"
+near "$(report_get lambda_after <"$TMP/rb")" "$(report_get lambda_after <"$TMP/ra")" 1e-10 \
+    "second shift: already optimal"
+runlam lam-shift --electrons 1 "$TMP/s1.sf"
+is "$RC" 65 "second shift for another electron number: exit 65"
+like "$ERR" "already shifted for 2 electrons" "second shift for another N: message"
+
 # ---- bad input ----
 runlam lam-shift --terms a1,a3 "$TMP/h2.sf"
 is "$RC" 64 "unknown --terms word: exit 64"

@@ -240,6 +240,13 @@ int main(int argc, char **argv)
     require_real_symmetry(h, src);
     lam_shift *k;
     resolve_target(&o, h, src, &k);
+    lam_shift *earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
+    if (earlier && (earlier->electrons != k->electrons ||
+                    (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
+        lam_fail_at(LAM_EX_DATA, src, 0,
+                    "the stream was already shifted for %d electrons (2Sz %d); a second shift "
+                    "for %d (2Sz %d) would leave no block as in the original operator",
+                    earlier->electrons, earlier->ms2, k->electrons, k->ms2);
 
     double t_lp = lam_seconds();
     lam_l1_problem lp;
@@ -255,6 +262,9 @@ int main(int argc, char **argv)
     lam_l1_result res;
     int status = lam_l1_solve(&lp, &lo, show_iteration, &fixed, k->x, &res);
     t_lp = lam_seconds() - t_lp;
+    /* the metadata describes the whole shift since the original operator */
+    lam_shift *total = earlier && !o.emit_shift ? lam_shift_sum(earlier, k) : NULL;
+    const lam_shift *recorded = total ? total : k;
 
     double before = lam_spinfree_lambda(h);
     double after = fixed + res.primal;
@@ -271,7 +281,7 @@ int main(int argc, char **argv)
             lam_fail(LAM_EX_SOFTWARE, "lambda of H - K is %.17g, the LP says %.17g", check, after);
         lam_spinfree *out = o.emit_shift ? lam_shift_apply(NULL, k) : hk;
         lam_spinfree_describe(out, &meta);
-        lam_shift_describe(k, &meta);
+        lam_shift_describe(recorded, &meta);
         lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
         lam_spinfree_write_terms(w, out);
         if (out != hk) lam_spinfree_free(out);
@@ -284,7 +294,7 @@ int main(int argc, char **argv)
         lam_meta_set(&meta, "spin-order", lam_spin_order_name(o.order));
         lam_meta_setf(&meta, "electrons", "%d", k->electrons);
         lam_meta_setf(&meta, "ms2", "%d", k->ms2);
-        lam_shift_describe(k, &meta);
+        lam_shift_describe(recorded, &meta);
         lam_writer_header(w, LAM_KIND_FERMION, &meta, history);
         lam_fermion_write_terms(w, &out);
         lam_fermion_free(&out);
@@ -328,6 +338,8 @@ int main(int argc, char **argv)
     lam_meta_free(&meta);
     lam_l1_free(&lp);
     lam_shift_free(k);
+    lam_shift_free(earlier);
+    lam_shift_free(total);
     lam_spinfree_free(h);
     lam_reader_close(r);
     return 0;

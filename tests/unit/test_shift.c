@@ -176,6 +176,47 @@ static void optimum_brackets(void)
     lam_spinfree_free(h);
 }
 
+/* Folding the ladder form back gives the operator (lam_fermion_from_spinfree
+ * is another module's expansion of E_pq and e_pqrs over spins). */
+static void fold_round_trip(lam_spin_order order, const char *what)
+{
+    lam_spinfree *h = random_operator(3, 2);
+    lam_fermion_op op;
+    lam_fermion_from_spinfree(h, order, &op);
+    lam_spinfree *back = lam_shift_fold_fermion(&op, order, "test");
+    double worst = fabs(back->e0 - h->e0);
+    for (int i = 0; i < 9; ++i) worst = fmax(worst, fabs(back->h[i] - h->h[i]));
+    for (int i = 0; i < 81; ++i) worst = fmax(worst, fabs(back->g[i] - h->g[i]));
+    char name[96];
+    snprintf(name, sizeof name, "fermion form folds back to the spin-free operator (%s)", what);
+    tap_near(worst, 0, 1e-14, name);
+    lam_spinfree_free(back);
+    lam_fermion_free(&op);
+    lam_spinfree_free(h);
+}
+
+/* The metadata written by lam_shift_describe gives the parameters back. */
+static void metadata_round_trip(void)
+{
+    lam_shift *k = lam_shift_new(4, 3, 1, LAM_SHIFT_DEFAULT | LAM_SHIFT_SPIN_DEFAULT);
+    randomize(k);
+    lam_meta meta;
+    lam_meta_init(&meta);
+    lam_shift_describe(k, &meta);
+    lam_shift *back = lam_shift_recorded(&meta, 4, "test");
+    double worst = 0;
+    for (int j = 0; j < k->nparams; ++j) worst = fmax(worst, fabs(back->x[j] - k->x[j]));
+    tap_ok(back->nparams == k->nparams && back->electrons == 3 && back->ms2 == 1 && worst == 0,
+           "parameters survive the metadata exactly");
+    lam_shift *twice = lam_shift_sum(k, back);
+    tap_near(lam_shift_xi(twice, 1, 2), 2 * lam_shift_xi(k, 1, 2), 0, "sum of two shifts adds xi");
+    tap_near(lam_shift_b2(twice), 2 * lam_shift_b2(k), 0, "sum of two shifts adds b2");
+    lam_shift_free(twice);
+    lam_shift_free(back);
+    lam_meta_free(&meta);
+    lam_shift_free(k);
+}
+
 static void parse_terms(void)
 {
     unsigned m;
@@ -195,5 +236,8 @@ int main(void)
     spin_rows_match_majorana(0);
     spin_rows_match_majorana(1);
     optimum_brackets();
+    fold_round_trip(LAM_SPIN_INTERLEAVED, "interleaved");
+    fold_round_trip(LAM_SPIN_BLOCKED, "blocked");
+    metadata_round_trip();
     return tap_done();
 }
