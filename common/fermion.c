@@ -109,18 +109,13 @@ void lam_fermion_read(lam_reader *r, lam_fermion_op *op)
 {
     long declared = lam_reader_meta_long(r, "modes", -1, 0, LAM_MAX_MODES);
     lam_fermion_init(op, declared < 0 ? (int)LAM_MAX_MODES : (int)declared);
-    int32_t *buf = NULL;
-    int bufcap = 0;
+    int32_t buf[LAM_MAX_LADDER];
     int top = 0;
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
         if (ln.nfields > LAM_MAX_LADDER)
             lam_reader_fail_line(r, ln.line, "a term has %d ladder operators (at most %d)",
                                  ln.nfields, LAM_MAX_LADDER);
-        if (ln.nfields > bufcap) {
-            bufcap = ln.nfields;
-            buf = lam_realloc(buf, lam_mul_size((size_t)bufcap, sizeof *buf));
-        }
         for (int f = 0; f < ln.nfields; ++f) {
             long o = parse_ladder(ln.fields[f]);
             if (o < 0)
@@ -137,7 +132,6 @@ void lam_fermion_read(lam_reader *r, lam_fermion_op *op)
         }
         lam_fermion_add(op, ln.coef, buf, ln.nfields, ln.line);
     }
-    free(buf);
     if (declared < 0) op->nmodes = top;
 }
 

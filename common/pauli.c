@@ -426,29 +426,32 @@ static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines)
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
     int bounded = declared >= 0;
-    int nw = s->nwords;
-    uint64_t *scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
     size_t lines_cap = 0;
     if (lines) *lines = NULL;
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
         int32_t group;
         long need;
-        while ((need = parse_fields(r, &ln, bounded ? s->nqubits : -1, nw, scratch,
-                                    scratch + nw, &group)) >= 0) {
+        /* parse straight into the next row (no scratch buffer that an
+         * error exit would leave unreachable) */
+        reserve(s, s->count + 1);
+        while ((need = parse_fields(r, &ln, bounded ? s->nqubits : -1, s->nwords,
+                                    lam_pauli_x(s, s->count), lam_pauli_z(s, s->count),
+                                    &group)) >= 0)
             lam_pauli_set_grow_qubits(s, (int)need);
-            nw = s->nwords;
-            free(scratch);
-            scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
-        }
         if (lines && s->count == lines_cap) {
             lines_cap = lines_cap ? lam_mul_size(lines_cap, 2) : 1024;
             *lines = lam_realloc(*lines, lam_mul_size(lines_cap, sizeof(long)));
         }
         if (lines) (*lines)[s->count] = ln.line;
-        lam_pauli_set_add(s, scratch, scratch + nw, ln.coef, group);
+        if (group >= 0 && !s->group) {
+            s->group = lam_malloc(lam_mul_size(s->cap, sizeof(int32_t)));
+            for (size_t t = 0; t < s->count; ++t) s->group[t] = -1;
+        }
+        s->coef[s->count] = ln.coef;
+        if (s->group) s->group[s->count] = group;
+        ++s->count;
     }
-    free(scratch);
     if (!bounded) s->nqubits = highest_qubit(s);
 }
 

@@ -40,6 +40,7 @@ typedef struct {
     int spin_given;
     lam_spin_order spin;
     double drop;
+    const char *drop_text;
     int gzip;
     lam_kind kind;
     const char *output, *input;
@@ -70,6 +71,7 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case 'd':
             o->drop = lam_opt_double("--drop", optarg);
+            o->drop_text = optarg;
             if (o->drop < 0) lam_usage_error("--drop wants a tolerance >= 0, not '%s'", optarg);
             break;
         case 'k':
@@ -91,28 +93,27 @@ static void parse_options(int argc, char **argv, options *o)
 }
 
 /* Remove small non-identity terms and say what went: nothing silently. */
-static void drop_small(lam_pauli_set *s, double tol)
+static void drop_small(lam_pauli_set *s, double tol, const char *tol_text)
 {
     double norm;
     size_t dropped = lam_pauli_set_drop_small(s, tol, &norm);
-    char nb[LAM_DOUBLE_BUF], tb[LAM_DOUBLE_BUF];
+    char nb[LAM_DOUBLE_BUF];
     lam_format_double(nb, sizeof nb, norm);
-    lam_format_double(tb, sizeof tb, tol);
-    lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", dropped, tb, nb);
+    lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", dropped, tol_text, nb);
 }
 
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
-    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, -1.0, 0, LAM_KIND_UNKNOWN,
-                 NULL, NULL};
+    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, -1.0, NULL, 0,
+                 LAM_KIND_UNKNOWN, NULL, NULL};
     parse_options(argc, argv, &o);
 
     lam_reader *r = lam_reader_open(o.input);
     if (o.kind != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, o.kind);
     lam_kind kind = lam_reader_kind(r);
     if (kind != LAM_KIND_SPINFREE && kind != LAM_KIND_FERMION)
-        lam_reader_fail(r, "lam-map reads spinfree or fermion streams, not %s",
+        lam_reader_fail(r, "a %s stream: lam-map maps spinfree or fermion streams",
                         lam_kind_name(kind));
     double t0 = lam_seconds();
     lam_majorana_set m;
@@ -124,7 +125,7 @@ int main(int argc, char **argv)
     lam_encoding_map_majorana(enc, &m, &s);
     lam_encoding_free(enc);
     lam_majorana_free(&m);
-    if (o.drop >= 0) drop_small(&s, o.drop);
+    if (o.drop >= 0) drop_small(&s, o.drop, o.drop_text);
     lam_progress("%zu Pauli strings in %.1f s", s.count, lam_seconds() - t0);
 
     lam_meta meta;

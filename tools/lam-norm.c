@@ -155,8 +155,10 @@ int main(int argc, char **argv)
     case LAM_KIND_SPINFREE: norm_spinfree(rep, r); break;
     case LAM_KIND_FERMION: norm_fermion(rep, r); break;
     case LAM_KIND_PAULI: norm_pauli(rep, r); break;
+    case LAM_KIND_UNKNOWN:
+        lam_reader_fail(r, "cannot tell the kind of the stream: give --kind");
     default:
-        lam_reader_fail(r, "lam-norm does not read %s streams", lam_kind_name(kind));
+        lam_reader_fail(r, "%s streams are not supported", lam_kind_name(kind));
     }
     lam_report_save(rep, output, tsv);
     lam_report_free(rep);
