@@ -175,3 +175,43 @@ def sector_ground(H, nmodes, nelec):
     states = [i for i in range(1 << nmodes) if bin(i).count("1") == nelec]
     sub = H[states][:, states].toarray()
     return float(np.linalg.eigvalsh(sub)[0])
+
+
+def pauli_coefficients(H, nqubits):
+    """All 4^n Pauli coefficients c(x, z) = Tr(P(x,z)^+ H) / 2^n of a dense
+    matrix, with P(x,z) = i^(x.z) X^x Z^z (so x=z=1 on a qubit is Y):
+    Tr(P^+ H) = i^-(x.z) sum_b (-1)^(z.b) H[b^x, b], the sum over b being a
+    Walsh-Hadamard transform for each x.  Returns an array [x, z]."""
+    dim = 1 << nqubits
+    H = np.asarray(H)
+    b = np.arange(dim)
+    out = np.zeros((dim, dim), dtype=complex)
+    for x in range(dim):
+        v = H[b ^ x, b].astype(complex)
+        # fast Walsh-Hadamard transform: w[z] = sum_b (-1)^(z.b) v[b]
+        h = 1
+        while h < dim:
+            v = v.reshape(-1, 2, h)
+            v = np.stack((v[:, 0, :] + v[:, 1, :], v[:, 0, :] - v[:, 1, :]), axis=1)
+            v = v.reshape(dim)
+            h *= 2
+        out[x, :] = v
+    pc = np.array([[bin(x & z).count("1") for z in range(dim)] for x in range(dim)])
+    return out * (1j ** (-pc)) / dim
+
+
+def koridon_lambda(h, g):
+    """The closed-form Majorana one-norm of real symmetric integrals
+    (Koridon et al., Phys. Rev. Research 3, 033127 (2021), from memory):
+    sum_pq |h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq)| + 1/4 sum |(pq|rs)|
+    + 1/2 sum_{p>r, q>s} |(pq|rs) - (ps|rq)|."""
+    n = h.shape[0]
+    t = h + np.einsum("pqrr->pq", g) - 0.5 * np.einsum("prrq->pq", g)
+    lam = np.abs(t).sum() + 0.25 * np.abs(g).sum()
+    anti = g - np.einsum("psrq->pqrs", g)
+    for p in range(n):
+        for r in range(p):
+            for q in range(n):
+                for s in range(q):
+                    lam += 0.5 * abs(anti[p, q, r, s])
+    return lam
