@@ -415,6 +415,11 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
         s.y[t] = 0;
     }
 
+    /* A gap at the rounding level of the data also ends the iteration:
+     * an optimum of 0 (or nearly) has no relative gap to reach. */
+    double floor_gap = fabs(opt->offset);
+    for (size_t t = 0; t < m; ++t) floor_gap += p->weight[t] * fabs(p->target[t]);
+    floor_gap *= 1e-14;
     int status = 1;
     double primal = 0, dual = 0;
     for (int it = 0; it < opt->max_iter; ++it) {
@@ -430,7 +435,7 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
         dual = dual_value(p, s.y);
         res->iterations = it;
         if (monitor) monitor(it, primal, dual, ctx);
-        if (primal - dual <= opt->rel_gap * fabs(opt->offset + primal)) {
+        if (primal - dual <= fmax(opt->rel_gap * fabs(opt->offset + primal), floor_gap)) {
             status = 0;
             break;
         }
@@ -494,8 +499,8 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
     res->primal = lam_l1_objective(p, x);
     res->dual = certified_dual(p, &nm, s.y, s.tmp, s.rk);
     if (res->dual > res->primal) res->dual = res->primal;
-    res->converged =
-        res->primal - res->dual <= opt->rel_gap * fabs(opt->offset + res->primal);
+    res->converged = res->primal - res->dual <=
+                     fmax(opt->rel_gap * fabs(opt->offset + res->primal), floor_gap);
     if (status == 0 && !res->converged) status = 1;
 
     free(s.u), free(s.v), free(s.y), free(s.dx), free(s.du), free(s.dv);

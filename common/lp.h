@@ -41,7 +41,9 @@ void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
 double lam_l1_objective(const lam_l1_problem *p, const double *x);
 
 typedef struct {
-    double rel_gap;   /* stop when gap <= rel_gap * (offset + primal) */
+    double rel_gap;   /* stop when gap <= rel_gap * (offset + primal), or
+                         when the gap is at the rounding level, 1e-14 of
+                         offset + sum_t w_t |c_t| (the value at x = 0) */
     double offset;    /* fixed part of the objective (terms not in the LP),
                          counted in the scale of the relative gap */
     int max_iter;

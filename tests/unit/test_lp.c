@@ -134,11 +134,34 @@ static void rank_deficient(void)
     lam_l1_free(&p);
 }
 
+/* A system that a parameter fits exactly: the optimum is 0, where no
+ * relative gap exists; the rounding-level floor must end the iteration. */
+static void exact_fit(void)
+{
+    lam_l1_problem p;
+    lam_l1_init(&p, 1);
+    int col = 0;
+    for (int t = 1; t <= 6; ++t) {
+        double a = t;
+        lam_l1_add_row(&p, 1, 2.5 * t, 1, &col, &a);
+    }
+    lam_l1_options opt;
+    lam_l1_default_options(&opt);
+    double x;
+    lam_l1_result res;
+    int st = lam_l1_solve(&p, &opt, NULL, NULL, &x, &res);
+    tap_ok(st == 0 && res.converged, "exact fit: converged");
+    tap_near(x, 2.5, 1e-12, "exact fit: x = 2.5");
+    tap_near(res.primal, 0, 1e-12, "exact fit: objective 0");
+    lam_l1_free(&p);
+}
+
 int main(void)
 {
     weighted_median();
     random_two_parameter();
     decoupled_blocks();
     rank_deficient();
+    exact_fit();
     return tap_done();
 }
