@@ -22,11 +22,11 @@
 
 /* ---------------------------------------------------------------- Boys */
 
-#define BOYS_TAYLOR 8
+#define BOYS_TAYLOR 7
 #define BOYS_TOP (LAM_BOYS_MMAX + BOYS_TAYLOR)
-#define BOYS_STEP 0.1
-#define BOYS_TMAX 36.0
-#define BOYS_NGRID 361 /* BOYS_TMAX / BOYS_STEP + 1 */
+#define BOYS_STEP (1.0 / 32)
+#define BOYS_TMAX 60.0
+#define BOYS_NGRID 1921 /* BOYS_TMAX / BOYS_STEP + 1 */
 
 static double boys_table[BOYS_NGRID][BOYS_TOP + 1];
 static int boys_ready;
@@ -37,7 +37,7 @@ static int boys_ready;
 static double boys_series(int m, double t)
 {
     double term = 1.0 / (2 * m + 1), sum = term;
-    for (int k = 1; k < 2000; ++k) {
+    for (int k = 1; k < 4000; ++k) {
         term *= 2.0 * t / (2 * m + 2 * k + 1);
         sum += term;
         if (term < 1e-17 * sum) break;
@@ -60,21 +60,23 @@ static void boys_fill_table(void)
 void lam_boys(int mmax, double t, double *f)
 {
     if (!boys_ready) boys_fill_table();
-    double et = exp(-t);
     if (t < BOYS_TMAX) {
-        /* Taylor step from the nearest grid point: dF_m/dt = -F_{m+1} */
-        int i = (int)(t / BOYS_STEP + 0.5);
-        double dt = i * BOYS_STEP - t, fm = 0.0, fac = 1.0;
-        const double *row = boys_table[i] + mmax;
-        for (int k = 0; k < BOYS_TAYLOR; ++k) {
-            fm += row[k] * fac;
-            fac *= dt / (k + 1);
+        /* Taylor step from the nearest grid point, dF_m/dt = -F_{m+1}:
+         * F_m(t_i - d) = sum_k F_{m+k}(t_i) d^k / k!, |d| <= 1/64, so 7
+         * terms leave a relative error below 1e-16 */
+        int i = (int)(t * (1.0 / BOYS_STEP) + 0.5);
+        double d = i * BOYS_STEP - t, c[BOYS_TAYLOR];
+        c[0] = 1.0;
+        for (int k = 1; k < BOYS_TAYLOR; ++k) c[k] = c[k - 1] * d / k;
+        const double *row = boys_table[i];
+        for (int m = 0; m <= mmax; ++m) {
+            double fm = 0.0;
+            for (int k = BOYS_TAYLOR - 1; k >= 0; --k) fm += row[m + k] * c[k];
+            f[m] = fm;
         }
-        f[mmax] = fm;
-        for (int m = mmax - 1; m >= 0; --m)
-            f[m] = (2.0 * t * f[m + 1] + et) / (2 * m + 1);
     } else {
         /* upward recursion is stable once t exceeds the order */
+        double et = exp(-t);
         f[0] = 0.5 * sqrt(LAM_PI / t) * erf(sqrt(t));
         for (int m = 0; m < mmax; ++m)
             f[m + 1] = ((2 * m + 1) * f[m] - et) / (2.0 * t);
@@ -100,6 +102,7 @@ static int herm_dir[NHERM_TOTAL], herm_m1[NHERM_TOTAL], herm_m2[NHERM_TOTAL];
 static int herm_ready;
 
 static int herm_count(int l) { return (l + 1) * (l + 2) * (l + 3) / 6; }
+static const int herm_count_of[LMAX_TOTAL + 1] = {1, 4, 10, 20, 35, 56, 84, 120, 165};
 
 static void herm_init(void)
 {
@@ -139,24 +142,30 @@ static void herm_init(void)
 static void hermite_coulomb(int l, double alpha, const double pq[3], double *r)
 {
     double f[LMAX_TOTAL + 1];
-    double w[LMAX_TOTAL + 1][NHERM_TOTAL];
     lam_boys(l, alpha * (pq[0] * pq[0] + pq[1] * pq[1] + pq[2] * pq[2]), f);
+    if (l == 0) {
+        r[0] = f[0];
+        return;
+    }
+    double w[LMAX_TOTAL + 1][NHERM_TOTAL];
+    double *level[LMAX_TOTAL + 1];
     double scale = 1.0;
     for (int n = 0; n <= l; ++n) {
-        w[n][0] = scale * f[n];
+        level[n] = n ? w[n] : r;
+        level[n][0] = scale * f[n];
         scale *= -2.0 * alpha;
     }
     for (int n = l - 1; n >= 0; --n) {
-        int count = herm_count(l - n);
-        const double *up = w[n + 1];
+        int count = herm_count_of[l - n];
+        const double *up = level[n + 1];
+        double *cur = level[n];
         for (int i = 1; i < count; ++i) {
             int d = herm_dir[i];
             double val = pq[d] * up[herm_m1[i]];
             if (herm_m2[i] >= 0) val += (herm_tuv[i][d] - 1) * up[herm_m2[i]];
-            w[n][i] = val;
+            cur[i] = val;
         }
     }
-    memcpy(r, w[0], (size_t)herm_count(l) * sizeof *r);
 }
 
 /* ------------------------------------------------------- shell pairs */
@@ -189,6 +198,10 @@ typedef struct {
     int la, lb, l, nab, nherm, nprim;
     double *p, *centre, *pref; /* per primitive pair; centre has 3 each */
     double *e;            /* nprim x nab x nherm, Cartesian norms folded in */
+    /* Hermite functions that can be non-zero for each Cartesian product:
+     * t <= lx_a + lx_b, u <= ..., v <= ... (the same for every primitive) */
+    int *nz_count;        /* nab */
+    int *nz_index;        /* nab x nherm */
     double schwarz;       /* sqrt of max |(ab|ab)| */
 } shell_pair;
 
@@ -227,6 +240,18 @@ static void shell_pair_build(shell_pair *sp, const lam_basis *b, int ia, int ib)
         lam_cart_powers(B->l, k, &pb[k][0], &pb[k][1], &pb[k][2]);
         norm_b[k] = lam_cart_norm_ratio(pb[k][0], pb[k][1], pb[k][2]);
     }
+    sp->nz_count = lam_malloc((size_t)sp->nab * sizeof *sp->nz_count);
+    sp->nz_index = lam_malloc(lam_mul_size((size_t)sp->nab, (size_t)sp->nherm * sizeof *sp->nz_index));
+    for (int ka = 0; ka < A->ncart; ++ka)
+        for (int kb = 0; kb < B->ncart; ++kb) {
+            int ab = ka * B->ncart + kb, count = 0;
+            for (int h = 0; h < sp->nherm; ++h)
+                if (herm_tuv[h][0] <= pa[ka][0] + pb[kb][0] &&
+                    herm_tuv[h][1] <= pa[ka][1] + pb[kb][1] &&
+                    herm_tuv[h][2] <= pa[ka][2] + pb[kb][2])
+                    sp->nz_index[ab * sp->nherm + count++] = h;
+            sp->nz_count[ab] = count;
+        }
     hermite_1d ex[3];
     for (int i = 0; i < A->nprim; ++i)
         for (int j = 0; j < B->nprim; ++j) {
@@ -259,6 +284,8 @@ static void shell_pair_build(shell_pair *sp, const lam_basis *b, int ia, int ib)
 
 static void shell_pair_free(shell_pair *sp)
 {
+    free(sp->nz_count);
+    free(sp->nz_index);
     free(sp->p);
     free(sp->pref);
     free(sp->centre);
@@ -480,8 +507,9 @@ static void eri_quartet(const shell_pair *bra, const shell_pair *ket, double *ou
                 double *xt = x + t * ncd;
                 for (int cd = 0; cd < ncd; ++cd) {
                     const double *e = ek + cd * nhk;
+                    const int *nz = ket->nz_index + cd * nhk;
                     double acc = 0.0;
-                    for (int s = 0; s < nhk; ++s) acc += mt[s] * e[s];
+                    for (int k = 0; k < ket->nz_count[cd]; ++k) acc += mt[nz[k]] * e[nz[k]];
                     xt[cd] += acc;
                 }
             }
@@ -490,10 +518,11 @@ static void eri_quartet(const shell_pair *bra, const shell_pair *ket, double *ou
         double pref = bra->pref[i];
         for (int ab = 0; ab < nab; ++ab) {
             const double *e = eb + ab * nhb;
+            const int *nz = bra->nz_index + ab * nhb;
             double *o = out + (size_t)ab * ncd;
-            for (int t = 0; t < nhb; ++t) {
+            for (int k = 0; k < bra->nz_count[ab]; ++k) {
+                int t = nz[k];
                 double c = pref * e[t];
-                if (c == 0.0) continue;
                 const double *xt = x + t * ncd;
                 for (int cd = 0; cd < ncd; ++cd) o[cd] += c * xt[cd];
             }
