@@ -28,6 +28,10 @@
 /* Anchors with more Majorana indices than this are not filed by index. */
 #define DEG_MAX 16
 #define PAIR_ENTRIES_MAX 64
+#define TRIPLE_ENTRIES_MAX 64
+/* Members 0..ANCHORS-1 of a group are its anchors: they file the group in
+ * the index and are tested first. */
+#define ANCHORS 3
 /* Pair lists are kept while (2 * 64 * words)^2 lists stay this small. */
 #define PAIR_MAJORANAS_MAX 1024
 /* A share below this fraction of its term's coefficient is folded into
@@ -53,10 +57,36 @@ static void u32_push(u32vec *a, uint32_t x)
 
 enum filing { FILED_NONE, FILED_SINGLE, FILED_PAIRS, FILED_WIDE };
 
+/* A pair list holds, for each group, its id and the strings of its
+ * anchors inline, so a scan tests them without leaving the list. */
+typedef struct {
+    uint64_t *v;
+    size_t n, cap; /* words */
+} wvec;
+
+static uint64_t *wvec_grow(wvec *a, size_t words)
+{
+    if (a->n + words > a->cap) {
+        size_t cap = a->cap ? 2 * a->cap : 8 * words;
+        while (cap < a->n + words) cap *= 2;
+        a->v = lam_realloc(a->v, lam_mul_size(cap, sizeof *a->v));
+        a->cap = cap;
+    }
+    uint64_t *at = a->v + a->n;
+    a->n += words;
+    return at;
+}
+
 typedef struct {
     uint32_t *ids;  /* term ranks; positions 0 and 1 are the anchors */
     uint64_t *bits; /* the members' strings, 2 nw words each, same order */
     uint32_t size, cap;
+    /* Majorana columns: bit m of column i says member m holds Majorana
+     * index i; column M holds the parity of each member's degree.  The
+     * (anti)commutation of P with every member is then the XOR of the
+     * columns of P's indices: a few word operations for the whole group. */
+    uint64_t *cols;
+    uint32_t cw;    /* words per column */
     double weight;  /* sum of c^2 */
     uint8_t filing;
     uint8_t odd;    /* an anchor of odd Majorana degree */
@@ -72,9 +102,19 @@ typedef struct {
     uint32_t ng, gcap;
     /* index (anticommuting mode) */
     int use_index, use_pairs, M;
-    u32vec *single, *pair, wide, odd;
+    u32vec *single, wide, odd;
+    wvec *pair;
     uint32_t *stamp, now;
-    u32vec found; /* groups that admit the term of the last query */
+    /* hot copies of each group's two anchors (the single member twice for
+     * a group of one, zeros for an empty group), tested before the group's
+     * own storage is touched */
+    uint64_t *anchors;
+    u32vec cand;  /* groups whose anchors admit the term */
+    int *pidx, pdeg; /* Majorana indices of the term being placed */
+    int *pidx_member;
+    uint64_t *acc;   /* scratch, cw words */
+    uint32_t acc_cap;
+    u32vec found; /* groups that admit the term */
 } engine;
 
 /* ---------------------------------------------------------------- bits */
@@ -125,13 +165,95 @@ static const uint64_t *term_bits(const engine *e, uint32_t t)
     return e->tbits + (size_t)t * 2 * (size_t)e->nw;
 }
 
-static int admits(const engine *e, const group *g, const uint64_t *p)
+static uint64_t *anchor_bits(const engine *e, uint32_t gi)
 {
-    const uint64_t *b = g->bits;
+    return e->anchors + (size_t)gi * ANCHORS * 2 * (size_t)e->nw;
+}
+
+static int anchors_admit(const engine *e, uint32_t gi, const uint64_t *p)
+{
+    const uint64_t *a = anchor_bits(e, gi);
     size_t stride = 2 * (size_t)e->nw;
-    for (uint32_t m = 0; m < g->size; ++m, b += stride)
-        if (anticommute(e->nw, p, b) != e->want_anti) return 0;
-    return g->size > 0;
+    for (int k = 0; k < ANCHORS; ++k)
+        if (anticommute(e->nw, p, a + k * stride) != e->want_anti) return 0;
+    return 1;
+}
+
+/* Every member against the term prepared by prepare_term. */
+static int group_admits(engine *e, const group *g)
+{
+    if (g->size == 0) return 0;
+    uint32_t cw = (g->size + 63) / 64;
+    uint64_t *acc = e->acc;
+    memset(acc, 0, cw * sizeof *acc);
+    for (int k = 0; k < e->pdeg; ++k) {
+        const uint64_t *c = g->cols + (size_t)e->pidx[k] * g->cw;
+        for (uint32_t w = 0; w < cw; ++w) acc[w] ^= c[w];
+    }
+    if (e->pdeg & 1) {
+        const uint64_t *c = g->cols + (size_t)e->M * g->cw;
+        for (uint32_t w = 0; w < cw; ++w) acc[w] ^= c[w];
+    }
+    for (uint32_t w = 0; w < cw; ++w) {
+        uint32_t bits = g->size - 64 * w >= 64 ? 64 : g->size - 64 * w;
+        uint64_t mask = bits == 64 ? ~(uint64_t)0 : (((uint64_t)1 << bits) - 1);
+        if (acc[w] != (e->want_anti ? mask : 0)) return 0;
+    }
+    return 1;
+}
+
+static void prepare_term(engine *e, const uint64_t *p)
+{
+    e->pdeg = majorana_set(e->nw, p, e->pidx, e->M);
+}
+
+static void set_column_bit(group *g, int col, uint32_t m, int on)
+{
+    uint64_t *w = g->cols + (size_t)col * g->cw + m / 64, bit = (uint64_t)1 << (m % 64);
+    *w = on ? (*w | bit) : (*w & ~bit);
+}
+
+static int column_bit(const group *g, int col, uint32_t m)
+{
+    return (int)((g->cols[(size_t)col * g->cw + m / 64] >> (m % 64)) & 1);
+}
+
+static void grow_columns(engine *e, group *g)
+{
+    uint32_t cw = g->cw ? 2 * g->cw : 1;
+    size_t ncol = (size_t)e->M + 1;
+    uint64_t *cols = lam_calloc(lam_mul_size(ncol, cw), sizeof *cols);
+    for (size_t i = 0; g->cw && i < ncol; ++i)
+        memcpy(cols + i * cw, g->cols + i * g->cw, g->cw * sizeof *cols);
+    free(g->cols);
+    g->cols = cols;
+    g->cw = cw;
+    if (cw > e->acc_cap) {
+        e->acc_cap = cw;
+        e->acc = lam_realloc(e->acc, lam_mul_size(cw, sizeof *e->acc));
+    }
+}
+
+/* Columns for member m from its string. */
+static void put_columns(engine *e, group *g, uint32_t m, const uint64_t *bits)
+{
+    int d = majorana_set(e->nw, bits, e->pidx_member, e->M);
+    for (int k = 0; k < d; ++k) set_column_bit(g, e->pidx_member[k], m, 1);
+    set_column_bit(g, e->M, m, d & 1);
+}
+
+static void set_anchors(engine *e, uint32_t gi)
+{
+    const group *g = &e->g[gi];
+    size_t stride = 2 * (size_t)e->nw;
+    uint64_t *a = anchor_bits(e, gi);
+    if (g->size == 0) {
+        memset(a, 0, ANCHORS * stride * sizeof *a);
+        return;
+    }
+    for (uint32_t k = 0; k < ANCHORS; ++k) /* a short group repeats its last */
+        memcpy(a + k * stride, g->bits + (k < g->size ? k : g->size - 1) * stride,
+               stride * sizeof *a);
 }
 
 static void file_single(engine *e, uint32_t gi)
@@ -150,14 +272,22 @@ static void file_single(engine *e, uint32_t gi)
     for (int k = 0; k < d; ++k) u32_push(&e->single[idx[k]], gi);
 }
 
+/* Words of one pair-list entry: the group id, then the anchors. */
+static size_t pair_entry_words(const engine *e) { return 1 + ANCHORS * 2 * (size_t)e->nw; }
+
+/* A group of ANCHORS members leaves the single lists for the pair lists
+ * of (i, j), i in anchor 0, j in anchor 1; the third anchor is only
+ * tested. */
 static void file_pairs(engine *e, uint32_t gi)
 {
     group *g = &e->g[gi];
     if (g->filing != FILED_SINGLE || !e->use_pairs) return;
-    int a[DEG_MAX], b[DEG_MAX];
+    size_t stride = 2 * (size_t)e->nw;
+    int a[DEG_MAX], b[DEG_MAX], none[1], odd = 0;
     int da = majorana_set(e->nw, g->bits, a, DEG_MAX);
-    int db = majorana_set(e->nw, g->bits + 2 * (size_t)e->nw, b, DEG_MAX);
-    if ((db & 1) && !g->odd) {
+    int db = majorana_set(e->nw, g->bits + stride, b, DEG_MAX);
+    for (int k = 1; k < ANCHORS; ++k) odd |= majorana_set(e->nw, g->bits + k * stride, none, 0) & 1;
+    if (odd && !g->odd) {
         g->odd = 1;
         u32_push(&e->odd, gi);
     }
@@ -167,9 +297,13 @@ static void file_pairs(engine *e, uint32_t gi)
         return;
     }
     g->filing = FILED_PAIRS;
+    size_t words = pair_entry_words(e);
     for (int i = 0; i < da; ++i)
-        for (int j = 0; j < db; ++j)
-            u32_push(&e->pair[(size_t)a[i] * (size_t)e->M + (size_t)b[j]], gi);
+        for (int j = 0; j < db; ++j) {
+            uint64_t *at = wvec_grow(&e->pair[(size_t)a[i] * (size_t)e->M + (size_t)b[j]], words);
+            at[0] = gi;
+            memcpy(at + 1, anchor_bits(e, gi), (words - 1) * sizeof *at);
+        }
 }
 
 static void add_member(engine *e, uint32_t gi, uint32_t t)
@@ -182,12 +316,15 @@ static void add_member(engine *e, uint32_t gi, uint32_t t)
         g->bits = lam_realloc(g->bits, lam_mul_size(g->cap, stride * sizeof(uint64_t)));
     }
     memcpy(g->bits + g->size * stride, term_bits(e, t), stride * sizeof(uint64_t));
+    if (g->size == 64 * g->cw) grow_columns(e, g);
+    put_columns(e, g, g->size, term_bits(e, t));
     g->ids[g->size] = t;
     e->home[t] = gi;
     e->pos[t] = g->size;
     g->size++;
     g->weight += e->tc[t] * e->tc[t];
-    if (e->use_index && g->size == 2) file_pairs(e, gi);
+    if (g->size <= ANCHORS) set_anchors(e, gi);
+    if (e->use_index && g->size == ANCHORS) file_pairs(e, gi);
 }
 
 static uint32_t new_group(engine *e, uint32_t t)
@@ -196,6 +333,8 @@ static uint32_t new_group(engine *e, uint32_t t)
         uint32_t cap = e->gcap ? 2 * e->gcap : 1024;
         e->g = lam_realloc(e->g, lam_mul_size(cap, sizeof *e->g));
         e->stamp = lam_realloc(e->stamp, lam_mul_size(cap, sizeof *e->stamp));
+        e->anchors = lam_realloc(e->anchors,
+                                 lam_mul_size(cap, ANCHORS * 2 * (size_t)e->nw * sizeof(uint64_t)));
         memset(e->g + e->gcap, 0, (cap - e->gcap) * sizeof *e->g);
         memset(e->stamp + e->gcap, 0, (cap - e->gcap) * sizeof *e->stamp);
         e->gcap = cap;
@@ -217,9 +356,12 @@ static void remove_member(engine *e, uint32_t t)
         uint32_t moved = g->ids[last];
         g->ids[p] = moved;
         memcpy(g->bits + p * stride, g->bits + last * stride, stride * sizeof(uint64_t));
+        for (int c = 0; c <= e->M; ++c) set_column_bit(g, c, p, column_bit(g, c, last));
         e->pos[moved] = p;
     }
+    for (int c = 0; c <= e->M; ++c) set_column_bit(g, c, last, 0);
     g->size--;
+    if (g->size == 0) set_anchors(e, gi);
     g->weight -= e->tc[t] * e->tc[t];
     if (g->size == 0 || g->weight < 0) g->weight = 0;
     e->home[t] = NONE;
@@ -242,17 +384,18 @@ static void consider(engine *e, uint32_t gi, const uint64_t *p, uint32_t exclude
     if (e->stamp[gi] == e->now) return;
     e->stamp[gi] = e->now;
     if (gi == exclude) return;
-    if (admits(e, &e->g[gi], p)) u32_push(&e->found, gi);
+    if (anchors_admit(e, gi, p)) u32_push(&e->cand, gi);
 }
 
-/* Single lists drop groups that moved on to pair lists or died. */
-static void scan_single(engine *e, u32vec *list, const uint64_t *p, uint32_t exclude)
+/* Single and pair lists drop groups that moved on or died. */
+static void scan_filed(engine *e, u32vec *list, const uint64_t *p, uint32_t exclude,
+                       enum filing filing)
 {
     uint32_t keep = 0;
     for (uint32_t k = 0; k < list->n; ++k) {
         uint32_t gi = list->v[k];
         const group *g = &e->g[gi];
-        if (g->size == 0 || g->filing != FILED_SINGLE) continue;
+        if (g->size == 0 || g->filing != filing) continue;
         list->v[keep++] = gi;
         consider(e, gi, p, exclude);
     }
@@ -264,49 +407,85 @@ static void scan_list(engine *e, const u32vec *list, const uint64_t *p, uint32_t
     for (uint32_t k = 0; k < list->n; ++k) consider(e, list->v[k], p, exclude);
 }
 
-/* Every group (other than exclude) that admits p, into e->found. */
+/* Entries whose inline anchors admit p go on to the candidate list. */
+static void scan_pairs(engine *e, const wvec *list, const uint64_t *p, uint32_t exclude)
+{
+    size_t words = pair_entry_words(e), stride = 2 * (size_t)e->nw;
+    for (const uint64_t *at = list->v, *end = list->v + list->n; at < end; at += words) {
+        const uint64_t *a = at + 1;
+        int k = 0;
+        while (k < ANCHORS && anticommute(e->nw, p, a + k * stride) == e->want_anti) ++k;
+        if (k < ANCHORS) continue;
+        uint32_t gi = (uint32_t)at[0];
+        if (e->stamp[gi] == e->now) continue;
+        e->stamp[gi] = e->now;
+        if (gi != exclude) u32_push(&e->cand, gi);
+    }
+}
+
+/* Every group (other than exclude) whose anchors admit p, into e->cand. */
 static void query(engine *e, const uint64_t *p, uint32_t exclude)
 {
-    e->found.n = 0;
+    e->cand.n = 0;
     if (++e->now == 0) {
         memset(e->stamp, 0, e->gcap * sizeof *e->stamp);
         e->now = 1;
     }
-    int idx[DEG_MAX];
-    int d = e->use_index ? majorana_set(e->nw, p, idx, DEG_MAX) : 0;
+    const int *idx = e->pidx;
+    int d = e->pdeg;
     if (!e->use_index || d > DEG_MAX || (uint32_t)(d * d) > e->ng) {
         for (uint32_t gi = 0; gi < e->ng; ++gi) consider(e, gi, p, exclude);
         return;
     }
-    for (int i = 0; i < d; ++i) scan_single(e, &e->single[idx[i]], p, exclude);
+    for (int i = 0; i < d; ++i) scan_filed(e, &e->single[idx[i]], p, exclude, FILED_SINGLE);
     if (e->use_pairs)
         for (int i = 0; i < d; ++i)
             for (int j = 0; j < d; ++j)
-                scan_list(e, &e->pair[(size_t)idx[i] * (size_t)e->M + (size_t)idx[j]], p,
-                          exclude);
+                scan_pairs(e, &e->pair[(size_t)idx[i] * (size_t)e->M + (size_t)idx[j]], p,
+                           exclude);
     scan_list(e, &e->wide, p, exclude);
     if (d & 1) scan_list(e, &e->odd, p, exclude);
 }
 
-/* The heaviest admitting group (ties: the oldest), or NONE. */
-static uint32_t heaviest_found(const engine *e)
+/* Candidate order: heaviest first (ties: oldest), or oldest first. */
+static const engine *sort_engine;
+static int by_weight_desc(const void *pa, const void *pb)
+{
+    uint32_t a = *(const uint32_t *)pa, b = *(const uint32_t *)pb;
+    double wa = sort_engine->g[a].weight, wb = sort_engine->g[b].weight;
+    if (wa != wb) return wa > wb ? -1 : 1;
+    return (a > b) - (a < b);
+}
+
+/* Does candidate a come before b: heavier (ties: older), or older. */
+static int precedes(const engine *e, uint32_t a, uint32_t b, lam_group_method order)
+{
+    if (b == NONE) return 1;
+    if (order == LAM_GROUP_BEST && e->g[a].weight != e->g[b].weight)
+        return e->g[a].weight > e->g[b].weight;
+    return a < b;
+}
+
+/* The first candidate, in the order of the method, that admits p; only a
+ * candidate that would beat the best so far is tested in full. */
+static uint32_t first_admitting(engine *e, lam_group_method order)
 {
     uint32_t best = NONE;
-    for (uint32_t k = 0; k < e->found.n; ++k) {
-        uint32_t gi = e->found.v[k];
-        if (best == NONE || e->g[gi].weight > e->g[best].weight ||
-            (e->g[gi].weight == e->g[best].weight && gi < best))
-            best = gi;
+    for (uint32_t k = 0; k < e->cand.n; ++k) {
+        uint32_t gi = e->cand.v[k];
+        if (precedes(e, gi, best, order) && group_admits(e, &e->g[gi])) best = gi;
     }
     return best;
 }
 
-static uint32_t oldest_found(const engine *e)
+/* Every candidate that admits p, heaviest first, into e->found. */
+static void all_admitting(engine *e)
 {
-    uint32_t best = NONE;
-    for (uint32_t k = 0; k < e->found.n; ++k)
-        if (e->found.v[k] < best) best = e->found.v[k];
-    return best;
+    sort_engine = e;
+    qsort(e->cand.v, e->cand.n, sizeof *e->cand.v, by_weight_desc);
+    e->found.n = 0;
+    for (uint32_t k = 0; k < e->cand.n; ++k)
+        if (group_admits(e, &e->g[e->cand.v[k]])) u32_push(&e->found, e->cand.v[k]);
 }
 
 /* ---------------------------------------------------------------- phases */
@@ -331,8 +510,10 @@ static void greedy(engine *e, lam_group_method method)
 {
     double next = lam_seconds() + 1.0;
     for (size_t t = 0; t < e->nterms; ++t) {
-        query(e, term_bits(e, (uint32_t)t), NONE);
-        uint32_t gi = method == LAM_GROUP_SORTED ? oldest_found(e) : heaviest_found(e);
+        const uint64_t *p = term_bits(e, (uint32_t)t);
+        prepare_term(e, p);
+        query(e, p, NONE);
+        uint32_t gi = first_admitting(e, method);
         if (gi == NONE)
             new_group(e, (uint32_t)t);
         else
@@ -356,9 +537,11 @@ static double refine_pass(engine *e)
         if ((t & 4095) == 0) progress_every(&next, "refining", t, e->nterms);
         uint32_t a = e->home[t];
         group *ga = &e->g[a];
-        if (ga->size >= 2 && e->pos[t] < 2) continue; /* anchors stay */
-        query(e, term_bits(e, (uint32_t)t), a);
-        uint32_t b = heaviest_found(e);
+        if (ga->size >= 2 && e->pos[t] < ANCHORS) continue; /* anchors stay */
+        const uint64_t *p = term_bits(e, (uint32_t)t);
+        prepare_term(e, p);
+        query(e, p, a);
+        uint32_t b = first_admitting(e, LAM_GROUP_BEST);
         if (b == NONE) continue;
         double c2 = e->tc[t] * e->tc[t];
         double gain = move_gain(ga->weight, e->g[b].weight, c2);
@@ -401,7 +584,9 @@ static void collect_memberships(engine *e, int split, shares *sh)
         sh->gid[sh->count++] = home;
         if (!split || e->tc[t] == 0) continue;
         const uint64_t *p = term_bits(e, (uint32_t)t);
+        prepare_term(e, p);
         query(e, p, home);
+        all_admitting(e);
         int taken = 0;
         for (uint32_t k = 0; k < e->found.n && taken < SPLIT_GROUPS_MAX; ++k) {
             uint32_t gi = e->found.v[k];
@@ -638,8 +823,12 @@ static void engine_init(engine *e, const lam_pauli_set *in, const lam_group_opti
     e->home = lam_malloc(lam_mul_size(nterms ? nterms : 1, sizeof *e->home));
     e->pos = lam_malloc(lam_mul_size(nterms ? nterms : 1, sizeof *e->pos));
     e->use_index = !opt->commuting;
+    e->M = 2 * (in->nqubits > 0 ? in->nqubits : 1);
+    e->pidx = lam_malloc(lam_mul_size((size_t)e->M, sizeof *e->pidx));
+    e->pidx_member = lam_malloc(lam_mul_size((size_t)e->M, sizeof *e->pidx_member));
+    e->acc_cap = 1;
+    e->acc = lam_malloc(sizeof *e->acc);
     if (e->use_index) {
-        e->M = 128 * e->nw;
         e->use_pairs = e->M <= PAIR_MAJORANAS_MAX;
         e->single = lam_calloc((size_t)e->M, sizeof *e->single);
         if (e->use_pairs)
@@ -652,6 +841,7 @@ static void engine_free(engine *e)
     for (uint32_t gi = 0; gi < e->ng; ++gi) {
         free(e->g[gi].ids);
         free(e->g[gi].bits);
+        free(e->g[gi].cols);
     }
     free(e->g);
     free(e->stamp);
@@ -666,6 +856,11 @@ static void engine_free(engine *e)
     free(e->wide.v);
     free(e->odd.v);
     free(e->found.v);
+    free(e->cand.v);
+    free(e->anchors);
+    free(e->pidx);
+    free(e->pidx_member);
+    free(e->acc);
 }
 
 void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
