@@ -238,6 +238,23 @@ for tol in (1e-3, 1e-2):
     tap.ok(int(meta["fragments"]) < 16, "lih tol %g: truncation drops factors (%s fragments)"
            % (tol, meta["fragments"]))
 
+# Full rank stops once the two-body residual (Frobenius norm) is <= --tol.
+for tol in (1e-2, 1e-4):
+    meta, const, rot, terms = parse_fragments(factor(path, "--method", "full-rank", "--tol", str(tol)))
+    rebuilt = np.zeros_like(g)
+    for f, u in rot.items():
+        lam = np.zeros((n, n))
+        for c, ff, modes in terms:
+            if ff == f and len(modes) == 2:
+                (i, _), (j, _) = modes
+                lam[i, j] = lam[j, i] = 4.0 * c
+        v = np.einsum("pi,qi->pqi", u, u)
+        rebuilt += np.einsum("pqi,ij,rsj->pqrs", v, lam, v)
+    resid = np.sqrt(((rebuilt - g) ** 2).sum())
+    tap.ok(resid <= tol, "lih full-rank tol %g: numpy residual %.3g within tol" % (tol, resid))
+    tap.near(resid, float(meta["integral-norm-error"]), 1e-12,
+             "lih full-rank tol %g: stated integral-norm-error matches the numpy rebuild" % tol)
+
 # H - K from lam-shift: K vanishes on the N-electron states (lamina.md, the
 # symmetry shift), so the fragments of H - K, built as dense matrices, must
 # act as H does on the N-electron block; and lambda >= the half range of H on
