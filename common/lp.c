@@ -11,6 +11,7 @@
 #include <lapacke.h>
 #include <math.h>
 #include <stdlib.h>
+#include <stdint.h>
 #include <string.h>
 
 #include "util.h"
@@ -65,6 +66,73 @@ void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
     p->target[p->rows] = target;
     p->rows++;
     p->start[p->rows] = p->nnz;
+}
+
+static uint64_t mix(uint64_t h, uint64_t v)
+{
+    h ^= v + 0x9E3779B97F4A7C15ULL + (h << 6) + (h >> 2);
+    return h * 0xFF51AFD7ED558CCDULL;
+}
+
+static uint64_t bits_of(double d)
+{
+    uint64_t u;
+    d = d == 0 ? 0 : d; /* -0 and 0 alike */
+    memcpy(&u, &d, sizeof u);
+    return u;
+}
+
+static uint64_t row_hash(const lam_l1_problem *p, size_t t)
+{
+    uint64_t h = mix(0, bits_of(p->target[t]));
+    for (size_t e = p->start[t]; e < p->start[t + 1]; ++e)
+        h = mix(mix(h, (uint64_t)p->col[e]), bits_of(p->val[e]));
+    return h;
+}
+
+static int rows_equal(const lam_l1_problem *p, size_t a, size_t b)
+{
+    size_t na = p->start[a + 1] - p->start[a];
+    if (na != p->start[b + 1] - p->start[b]) return 0;
+    if (bits_of(p->target[a]) != bits_of(p->target[b])) return 0;
+    for (size_t i = 0; i < na; ++i) {
+        size_t ea = p->start[a] + i, eb = p->start[b] + i;
+        if (p->col[ea] != p->col[eb] || bits_of(p->val[ea]) != bits_of(p->val[eb])) return 0;
+    }
+    return 1;
+}
+
+size_t lam_l1_merge_rows(lam_l1_problem *p)
+{
+    size_t size = 16;
+    while (size < 2 * p->rows) size *= 2;
+    size_t *slot = lam_malloc(lam_mul_size(size, sizeof *slot));
+    for (size_t i = 0; i < size; ++i) slot[i] = SIZE_MAX;
+    size_t kept = 0, nnz = 0;
+    for (size_t t = 0; t < p->rows; ++t) {
+        size_t i = (size_t)row_hash(p, t) & (size - 1);
+        for (; slot[i] != SIZE_MAX; i = (i + 1) & (size - 1))
+            if (rows_equal(p, slot[i], t)) break;
+        if (slot[i] != SIZE_MAX) {
+            p->weight[slot[i]] += p->weight[t];
+            continue;
+        }
+        /* move row t down to position kept (rows only move down, so the
+         * rows already indexed stay where their slots say) */
+        size_t e0 = p->start[t], len = p->start[t + 1] - e0;
+        memmove(p->col + nnz, p->col + e0, len * sizeof *p->col);
+        memmove(p->val + nnz, p->val + e0, len * sizeof *p->val);
+        p->weight[kept] = p->weight[t];
+        p->target[kept] = p->target[t];
+        p->start[kept] = nnz;
+        p->start[kept + 1] = nnz + len;
+        nnz += len;
+        slot[i] = kept++;
+    }
+    p->rows = kept;
+    p->nnz = nnz;
+    free(slot);
+    return kept;
 }
 
 static double row_dot(const lam_l1_problem *p, size_t t, const double *x)

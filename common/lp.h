@@ -37,6 +37,10 @@ void lam_l1_free(lam_l1_problem *p);
 /* Append the row weight * |target - sum_i val[i] x[col[i]]|. */
 void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
                     const int *col, const double *val);
+/* Merge rows that are equal bit for bit (target, parameters, coefficients
+ * in the same order) by adding their weights; returns the rows left.
+ * The objective is unchanged. */
+size_t lam_l1_merge_rows(lam_l1_problem *p);
 /* sum_t w_t |c_t - a_t . x| */
 double lam_l1_objective(const lam_l1_problem *p, const double *x);
 

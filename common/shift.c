@@ -316,6 +316,8 @@ void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k, lam_l1_proble
                         emit(&b, 0.5 * wspin, g, &a);
                     }
     affine_free(&a);
+    /* the symmetries of the integrals repeat most rows two to eight times */
+    lam_l1_merge_rows(lp);
     *fixed = b.fixed;
 }
 

@@ -156,6 +156,26 @@ static void exact_fit(void)
     lam_l1_free(&p);
 }
 
+/* Merging equal rows keeps the objective and the optimum. */
+static void merge_rows(void)
+{
+    lam_l1_problem p;
+    lam_l1_init(&p, 2);
+    int cols[2] = {0, 1};
+    double a[3][2] = {{1, 2}, {1, -1}, {0.5, 0}};
+    const double c[3] = {1, 2, -3};
+    for (int rep = 0; rep < 4; ++rep)
+        for (int t = 0; t < 3; ++t) lam_l1_add_row(&p, 0.5, c[t], 2, cols, a[t]);
+    lam_l1_add_row(&p, 1, 7, 1, cols + 1, a[0]); /* a different one */
+    double x[2] = {0.3, -0.7};
+    double before = lam_l1_objective(&p, x);
+    size_t left = lam_l1_merge_rows(&p);
+    tap_ok(left == 4 && p.rows == 4 && p.nnz == 7, "13 rows merge to 4");
+    tap_near(lam_l1_objective(&p, x), before, 1e-14, "merging keeps the objective");
+    tap_near(p.weight[0], 2, 0, "merged weights add");
+    lam_l1_free(&p);
+}
+
 int main(void)
 {
     weighted_median();
@@ -163,5 +183,6 @@ int main(void)
     decoupled_blocks();
     rank_deficient();
     exact_fit();
+    merge_rows();
     return tap_done();
 }
