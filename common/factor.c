@@ -213,8 +213,9 @@ int lam_lbfgs(int dim, double *x, lam_objective f, void *ctx, int max_iter, doub
     int stored = 0, newest = LBFGS_MEMORY - 1, iter = 0;
     double fcur = f(x, g, ctx);
     for (; iter < max_iter; ++iter) {
+        if (dim == 0) break;
         double gmax = fabs(g[cblas_idamax(dim, g, 1)]);
-        if (dim == 0 || gmax <= gtol) break;
+        if (gmax <= gtol) break;
         lbfgs_direction(dim, stored, newest, sv, yv, rho, g, d);
         double slope = dot(dim, g, d);
         if (slope >= 0.0) { /* not a descent direction: restart */
@@ -233,18 +234,19 @@ int lam_lbfgs(int dim, double *x, lam_objective f, void *ctx, int max_iter, doub
             }
         }
         if (!accepted) break; /* no decrease left at machine precision */
-        newest = (newest + 1) % LBFGS_MEMORY;
-        double *s = sv + (size_t)newest * dim, *y = yv + (size_t)newest * dim;
-        for (int i = 0; i < dim; ++i) {
-            s[i] = xn[i] - x[i];
-            y[i] = gn[i] - g[i];
-        }
-        double sy = dot(dim, s, y);
+        double sy = 0.0;
+        for (int i = 0; i < dim; ++i) sy += (xn[i] - x[i]) * (gn[i] - g[i]);
+        /* A pair without positive curvature would spoil the inverse
+         * Hessian: keep the old pairs then. */
         if (sy > 1e-300) {
+            newest = (newest + 1) % LBFGS_MEMORY;
+            double *s = sv + (size_t)newest * dim, *y = yv + (size_t)newest * dim;
+            for (int i = 0; i < dim; ++i) {
+                s[i] = xn[i] - x[i];
+                y[i] = gn[i] - g[i];
+            }
             rho[newest] = 1.0 / sy;
             if (stored < LBFGS_MEMORY) ++stored;
-        } else {
-            newest = (newest + LBFGS_MEMORY - 1) % LBFGS_MEMORY; /* keep the old pairs */
         }
         memcpy(x, xn, (size_t)dim * sizeof(double));
         memcpy(g, gn, (size_t)dim * sizeof(double));
