@@ -260,7 +260,9 @@ int main(int argc, char **argv)
     lo.offset = fixed;
     lo.max_iter = (int)o.max_iter;
     lam_l1_result res;
+    double t_solve = lam_seconds();
     int status = lam_l1_solve(&lp, &lo, show_iteration, &fixed, k->x, &res);
+    t_solve = lam_seconds() - t_solve;
     t_lp = lam_seconds() - t_lp;
     /* the metadata describes the whole shift since the original operator */
     lam_shift *total = earlier && !o.emit_shift ? lam_shift_sum(earlier, k) : NULL;
@@ -325,6 +327,7 @@ int main(int argc, char **argv)
     lam_report_int(rep, "largest_block", res.largest_block);
     lam_report_int(rep, "iterations", res.iterations);
     lam_report_num(rep, "lp_seconds", t_lp);
+    lam_report_num(rep, "solve_seconds", t_solve);
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     if (o.report) lam_report_save(rep, o.report, o.tsv);
     else lam_report_write(rep, stderr, o.tsv);
