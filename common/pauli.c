@@ -300,7 +300,7 @@ void lam_pauli_set_merge(lam_pauli_set *s, int drop)
     /* sized once, so that slots can be prefetched a few terms ahead: the
      * look-ups are cache misses, and overlapping them is most of the speed */
     lam_rowhash_reserve(&h, s->bits, width, s->group, s->count);
-    enum { AHEAD = 12 };
+    enum { AHEAD = 16 };
     for (size_t t = 0; t < s->count; ++t) {
         if (t + AHEAD < s->count)
             lam_rowhash_prefetch(&h, lam_pauli_x(s, t + AHEAD), width,
@@ -350,7 +350,13 @@ static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, i
                          uint64_t *x, uint64_t *z, int32_t *group)
 {
     long need = -1;
-    for (int w = 0; w < nw; ++w) x[w] = z[w] = 0;
+    /* one or two words in practice: a call to memset per term was measured
+     * at a tenth of the reading time */
+    x[0] = z[0] = 0;
+    if (nw > 1) {
+        memset(x + 1, 0, (size_t)(nw - 1) * sizeof(uint64_t));
+        memset(z + 1, 0, (size_t)(nw - 1) * sizeof(uint64_t));
+    }
     *group = -1;
     for (int f = 0; f < ln->nfields; ++f) {
         const char *tok = ln->fields[f];
