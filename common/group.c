@@ -28,10 +28,9 @@
 /* Anchors with more Majorana indices than this are not filed by index. */
 #define DEG_MAX 16
 #define PAIR_ENTRIES_MAX 64
-#define TRIPLE_ENTRIES_MAX 64
-/* Members 0..ANCHORS-1 of a group are its anchors: they file the group in
- * the index and are tested first. */
-#define ANCHORS 3
+/* Members 0..ANCHORS-1 of a group file it in the index; they stay put
+ * during refinement. */
+#define ANCHORS 2
 /* Pair lists are kept while (2 * 64 * words)^2 lists stay this small. */
 #define PAIR_MAJORANAS_MAX 1024
 /* A share below this fraction of its term's coefficient is folded into
@@ -56,26 +55,6 @@ static void u32_push(u32vec *a, uint32_t x)
 }
 
 enum filing { FILED_NONE, FILED_SINGLE, FILED_PAIRS, FILED_WIDE };
-
-/* A pair list holds, for each group, its id and the strings of its
- * anchors inline, so a scan tests them without leaving the list. */
-typedef struct {
-    uint64_t *v;
-    size_t n, cap; /* words */
-} wvec;
-
-static uint64_t *wvec_grow(wvec *a, size_t words)
-{
-    if (a->n + words > a->cap) {
-        size_t cap = a->cap ? 2 * a->cap : 8 * words;
-        while (cap < a->n + words) cap *= 2;
-        a->v = lam_realloc(a->v, lam_mul_size(cap, sizeof *a->v));
-        a->cap = cap;
-    }
-    uint64_t *at = a->v + a->n;
-    a->n += words;
-    return at;
-}
 
 typedef struct {
     uint32_t *ids;  /* term ranks; positions 0 and 1 are the anchors */
@@ -102,18 +81,16 @@ typedef struct {
     uint32_t ng, gcap;
     /* index (anticommuting mode) */
     int use_index, use_pairs, M;
-    u32vec *single, wide, odd;
-    wvec *pair;
+    u32vec *single, *pair, wide, odd;
     uint32_t *stamp, now;
-    /* hot copies of each group's two anchors (the single member twice for
-     * a group of one, zeros for an empty group), tested before the group's
-     * own storage is touched */
-    uint64_t *anchors;
-    u32vec cand;  /* groups whose anchors admit the term */
+    /* Prefix columns, group-major per Majorana index: bit m of
+     * pcol[i][g] is bit m of column i of group g, for its first 64
+     * members; with gsize, the hot data a query touches. */
+    uint64_t **pcol;
+    uint32_t *gsize;
+    u32vec cand;  /* groups whose first 64 members admit the term */
     int *pidx, pdeg; /* Majorana indices of the term being placed */
     int *pidx_member;
-    uint64_t *acc;   /* scratch, cw words */
-    uint32_t acc_cap;
     u32vec found; /* groups that admit the term */
 } engine;
 
@@ -165,57 +142,56 @@ static const uint64_t *term_bits(const engine *e, uint32_t t)
     return e->tbits + (size_t)t * 2 * (size_t)e->nw;
 }
 
-static uint64_t *anchor_bits(const engine *e, uint32_t gi)
-{
-    return e->anchors + (size_t)gi * ANCHORS * 2 * (size_t)e->nw;
-}
-
-static int anchors_admit(const engine *e, uint32_t gi, const uint64_t *p)
-{
-    const uint64_t *a = anchor_bits(e, gi);
-    size_t stride = 2 * (size_t)e->nw;
-    for (int k = 0; k < ANCHORS; ++k)
-        if (anticommute(e->nw, p, a + k * stride) != e->want_anti) return 0;
-    return 1;
-}
-
-/* Every member against the term prepared by prepare_term. */
-static int group_admits(engine *e, const group *g)
-{
-    if (g->size == 0) return 0;
-    uint32_t cw = (g->size + 63) / 64;
-    uint64_t *acc = e->acc;
-    memset(acc, 0, cw * sizeof *acc);
-    for (int k = 0; k < e->pdeg; ++k) {
-        const uint64_t *c = g->cols + (size_t)e->pidx[k] * g->cw;
-        for (uint32_t w = 0; w < cw; ++w) acc[w] ^= c[w];
-    }
-    if (e->pdeg & 1) {
-        const uint64_t *c = g->cols + (size_t)e->M * g->cw;
-        for (uint32_t w = 0; w < cw; ++w) acc[w] ^= c[w];
-    }
-    for (uint32_t w = 0; w < cw; ++w) {
-        uint32_t bits = g->size - 64 * w >= 64 ? 64 : g->size - 64 * w;
-        uint64_t mask = bits == 64 ? ~(uint64_t)0 : (((uint64_t)1 << bits) - 1);
-        if (acc[w] != (e->want_anti ? mask : 0)) return 0;
-    }
-    return 1;
-}
-
 static void prepare_term(engine *e, const uint64_t *p)
 {
     e->pdeg = majorana_set(e->nw, p, e->pidx, e->M);
 }
 
-static void set_column_bit(group *g, int col, uint32_t m, int on)
+/* Members 0..63 against the prepared term, from the prefix columns: for
+ * most groups this is the whole test, in a few loads that stay in cache. */
+static int prefix_admits(const engine *e, uint32_t gi)
 {
-    uint64_t *w = g->cols + (size_t)col * g->cw + m / 64, bit = (uint64_t)1 << (m % 64);
-    *w = on ? (*w | bit) : (*w & ~bit);
+    uint32_t size = e->gsize[gi];
+    if (size == 0) return 0;
+    uint64_t acc = 0;
+    for (int k = 0; k < e->pdeg; ++k) acc ^= e->pcol[e->pidx[k]][gi];
+    if (e->pdeg & 1) acc ^= e->pcol[e->M][gi];
+    uint64_t mask = size >= 64 ? ~(uint64_t)0 : (((uint64_t)1 << size) - 1);
+    return (acc & mask) == (e->want_anti ? mask : 0);
 }
 
-static int column_bit(const group *g, int col, uint32_t m)
+/* The members from 64 on, from the group's own columns. */
+static int rest_admits(engine *e, const group *g)
 {
-    return (int)((g->cols[(size_t)col * g->cw + m / 64] >> (m % 64)) & 1);
+    for (uint32_t w = 1; 64 * w < g->size; ++w) {
+        uint64_t acc = 0;
+        for (int k = 0; k < e->pdeg; ++k) acc ^= g->cols[(size_t)e->pidx[k] * g->cw + w];
+        if (e->pdeg & 1) acc ^= g->cols[(size_t)e->M * g->cw + w];
+        uint32_t bits = g->size - 64 * w >= 64 ? 64 : g->size - 64 * w;
+        uint64_t mask = bits == 64 ? ~(uint64_t)0 : (((uint64_t)1 << bits) - 1);
+        if ((acc & mask) != (e->want_anti ? mask : 0)) return 0;
+    }
+    return 1;
+}
+
+static void set_bit(uint64_t *w, uint32_t b, int on)
+{
+    uint64_t bit = (uint64_t)1 << (b % 64);
+    w[b / 64] = on ? (w[b / 64] | bit) : (w[b / 64] & ~bit);
+}
+
+/* Column c, member m of group gi, in both the group's columns and (for
+ * m < 64) the prefix columns. */
+static void set_member_bit(engine *e, uint32_t gi, int c, uint32_t m, int on)
+{
+    group *g = &e->g[gi];
+    set_bit(g->cols + (size_t)c * g->cw, m, on);
+    if (m < 64) set_bit(&e->pcol[c][gi], m, on);
+}
+
+static int member_bit(const group *g, int c, uint32_t m)
+{
+    return (int)((g->cols[(size_t)c * g->cw + m / 64] >> (m % 64)) & 1);
 }
 
 static void grow_columns(engine *e, group *g)
@@ -228,32 +204,13 @@ static void grow_columns(engine *e, group *g)
     free(g->cols);
     g->cols = cols;
     g->cw = cw;
-    if (cw > e->acc_cap) {
-        e->acc_cap = cw;
-        e->acc = lam_realloc(e->acc, lam_mul_size(cw, sizeof *e->acc));
-    }
 }
 
-/* Columns for member m from its string. */
-static void put_columns(engine *e, group *g, uint32_t m, const uint64_t *bits)
+static void put_columns(engine *e, uint32_t gi, uint32_t m, const uint64_t *bits)
 {
     int d = majorana_set(e->nw, bits, e->pidx_member, e->M);
-    for (int k = 0; k < d; ++k) set_column_bit(g, e->pidx_member[k], m, 1);
-    set_column_bit(g, e->M, m, d & 1);
-}
-
-static void set_anchors(engine *e, uint32_t gi)
-{
-    const group *g = &e->g[gi];
-    size_t stride = 2 * (size_t)e->nw;
-    uint64_t *a = anchor_bits(e, gi);
-    if (g->size == 0) {
-        memset(a, 0, ANCHORS * stride * sizeof *a);
-        return;
-    }
-    for (uint32_t k = 0; k < ANCHORS; ++k) /* a short group repeats its last */
-        memcpy(a + k * stride, g->bits + (k < g->size ? k : g->size - 1) * stride,
-               stride * sizeof *a);
+    for (int k = 0; k < d; ++k) set_member_bit(e, gi, e->pidx_member[k], m, 1);
+    set_member_bit(e, gi, e->M, m, d & 1);
 }
 
 static void file_single(engine *e, uint32_t gi)
@@ -272,22 +229,17 @@ static void file_single(engine *e, uint32_t gi)
     for (int k = 0; k < d; ++k) u32_push(&e->single[idx[k]], gi);
 }
 
-/* Words of one pair-list entry: the group id, then the anchors. */
-static size_t pair_entry_words(const engine *e) { return 1 + ANCHORS * 2 * (size_t)e->nw; }
-
-/* A group of ANCHORS members leaves the single lists for the pair lists
- * of (i, j), i in anchor 0, j in anchor 1; the third anchor is only
- * tested. */
+/* A group of two leaves the single lists for the pair lists of (i, j),
+ * i in its first member, j in its second. */
 static void file_pairs(engine *e, uint32_t gi)
 {
     group *g = &e->g[gi];
     if (g->filing != FILED_SINGLE || !e->use_pairs) return;
     size_t stride = 2 * (size_t)e->nw;
-    int a[DEG_MAX], b[DEG_MAX], none[1], odd = 0;
+    int a[DEG_MAX], b[DEG_MAX];
     int da = majorana_set(e->nw, g->bits, a, DEG_MAX);
     int db = majorana_set(e->nw, g->bits + stride, b, DEG_MAX);
-    for (int k = 1; k < ANCHORS; ++k) odd |= majorana_set(e->nw, g->bits + k * stride, none, 0) & 1;
-    if (odd && !g->odd) {
+    if ((db & 1) && !g->odd) {
         g->odd = 1;
         u32_push(&e->odd, gi);
     }
@@ -297,13 +249,9 @@ static void file_pairs(engine *e, uint32_t gi)
         return;
     }
     g->filing = FILED_PAIRS;
-    size_t words = pair_entry_words(e);
     for (int i = 0; i < da; ++i)
-        for (int j = 0; j < db; ++j) {
-            uint64_t *at = wvec_grow(&e->pair[(size_t)a[i] * (size_t)e->M + (size_t)b[j]], words);
-            at[0] = gi;
-            memcpy(at + 1, anchor_bits(e, gi), (words - 1) * sizeof *at);
-        }
+        for (int j = 0; j < db; ++j)
+            u32_push(&e->pair[(size_t)a[i] * (size_t)e->M + (size_t)b[j]], gi);
 }
 
 static void add_member(engine *e, uint32_t gi, uint32_t t)
@@ -317,13 +265,13 @@ static void add_member(engine *e, uint32_t gi, uint32_t t)
     }
     memcpy(g->bits + g->size * stride, term_bits(e, t), stride * sizeof(uint64_t));
     if (g->size == 64 * g->cw) grow_columns(e, g);
-    put_columns(e, g, g->size, term_bits(e, t));
+    put_columns(e, gi, g->size, term_bits(e, t));
     g->ids[g->size] = t;
     e->home[t] = gi;
     e->pos[t] = g->size;
     g->size++;
+    e->gsize[gi] = g->size;
     g->weight += e->tc[t] * e->tc[t];
-    if (g->size <= ANCHORS) set_anchors(e, gi);
     if (e->use_index && g->size == ANCHORS) file_pairs(e, gi);
 }
 
@@ -333,10 +281,14 @@ static uint32_t new_group(engine *e, uint32_t t)
         uint32_t cap = e->gcap ? 2 * e->gcap : 1024;
         e->g = lam_realloc(e->g, lam_mul_size(cap, sizeof *e->g));
         e->stamp = lam_realloc(e->stamp, lam_mul_size(cap, sizeof *e->stamp));
-        e->anchors = lam_realloc(e->anchors,
-                                 lam_mul_size(cap, ANCHORS * 2 * (size_t)e->nw * sizeof(uint64_t)));
+        e->gsize = lam_realloc(e->gsize, lam_mul_size(cap, sizeof *e->gsize));
         memset(e->g + e->gcap, 0, (cap - e->gcap) * sizeof *e->g);
         memset(e->stamp + e->gcap, 0, (cap - e->gcap) * sizeof *e->stamp);
+        memset(e->gsize + e->gcap, 0, (cap - e->gcap) * sizeof *e->gsize);
+        for (int c = 0; c <= e->M; ++c) {
+            e->pcol[c] = lam_realloc(e->pcol[c], lam_mul_size(cap, sizeof(uint64_t)));
+            memset(e->pcol[c] + e->gcap, 0, (cap - e->gcap) * sizeof(uint64_t));
+        }
         e->gcap = cap;
     }
     uint32_t gi = e->ng++;
@@ -356,12 +308,12 @@ static void remove_member(engine *e, uint32_t t)
         uint32_t moved = g->ids[last];
         g->ids[p] = moved;
         memcpy(g->bits + p * stride, g->bits + last * stride, stride * sizeof(uint64_t));
-        for (int c = 0; c <= e->M; ++c) set_column_bit(g, c, p, column_bit(g, c, last));
+        for (int c = 0; c <= e->M; ++c) set_member_bit(e, gi, c, p, member_bit(g, c, last));
         e->pos[moved] = p;
     }
-    for (int c = 0; c <= e->M; ++c) set_column_bit(g, c, last, 0);
+    for (int c = 0; c <= e->M; ++c) set_member_bit(e, gi, c, last, 0);
     g->size--;
-    if (g->size == 0) set_anchors(e, gi);
+    e->gsize[gi] = g->size;
     g->weight -= e->tc[t] * e->tc[t];
     if (g->size == 0 || g->weight < 0) g->weight = 0;
     e->home[t] = NONE;
@@ -379,52 +331,34 @@ static void recompute_weights(engine *e)
 
 /* ---------------------------------------------------------------- queries */
 
-static void consider(engine *e, uint32_t gi, const uint64_t *p, uint32_t exclude)
+static void consider(engine *e, uint32_t gi, uint32_t exclude)
 {
     if (e->stamp[gi] == e->now) return;
     e->stamp[gi] = e->now;
-    if (gi == exclude) return;
-    if (anchors_admit(e, gi, p)) u32_push(&e->cand, gi);
+    if (gi != exclude && prefix_admits(e, gi)) u32_push(&e->cand, gi);
 }
 
-/* Single and pair lists drop groups that moved on or died. */
-static void scan_filed(engine *e, u32vec *list, const uint64_t *p, uint32_t exclude,
-                       enum filing filing)
+/* Single lists drop groups that moved on to pair lists or died. */
+static void scan_single(engine *e, u32vec *list, uint32_t exclude)
 {
     uint32_t keep = 0;
     for (uint32_t k = 0; k < list->n; ++k) {
         uint32_t gi = list->v[k];
-        const group *g = &e->g[gi];
-        if (g->size == 0 || g->filing != filing) continue;
+        if (e->gsize[gi] == 0 || e->g[gi].filing != FILED_SINGLE) continue;
         list->v[keep++] = gi;
-        consider(e, gi, p, exclude);
+        consider(e, gi, exclude);
     }
     list->n = keep;
 }
 
-static void scan_list(engine *e, const u32vec *list, const uint64_t *p, uint32_t exclude)
+static void scan_list(engine *e, const u32vec *list, uint32_t exclude)
 {
-    for (uint32_t k = 0; k < list->n; ++k) consider(e, list->v[k], p, exclude);
+    for (uint32_t k = 0; k < list->n; ++k) consider(e, list->v[k], exclude);
 }
 
-/* Entries whose inline anchors admit p go on to the candidate list. */
-static void scan_pairs(engine *e, const wvec *list, const uint64_t *p, uint32_t exclude)
-{
-    size_t words = pair_entry_words(e), stride = 2 * (size_t)e->nw;
-    for (const uint64_t *at = list->v, *end = list->v + list->n; at < end; at += words) {
-        const uint64_t *a = at + 1;
-        int k = 0;
-        while (k < ANCHORS && anticommute(e->nw, p, a + k * stride) == e->want_anti) ++k;
-        if (k < ANCHORS) continue;
-        uint32_t gi = (uint32_t)at[0];
-        if (e->stamp[gi] == e->now) continue;
-        e->stamp[gi] = e->now;
-        if (gi != exclude) u32_push(&e->cand, gi);
-    }
-}
-
-/* Every group (other than exclude) whose anchors admit p, into e->cand. */
-static void query(engine *e, const uint64_t *p, uint32_t exclude)
+/* Every group (other than exclude) whose first 64 members admit the
+ * prepared term, into e->cand. */
+static void query(engine *e, uint32_t exclude)
 {
     e->cand.n = 0;
     if (++e->now == 0) {
@@ -434,17 +368,16 @@ static void query(engine *e, const uint64_t *p, uint32_t exclude)
     const int *idx = e->pidx;
     int d = e->pdeg;
     if (!e->use_index || d > DEG_MAX || (uint32_t)(d * d) > e->ng) {
-        for (uint32_t gi = 0; gi < e->ng; ++gi) consider(e, gi, p, exclude);
+        for (uint32_t gi = 0; gi < e->ng; ++gi) consider(e, gi, exclude);
         return;
     }
-    for (int i = 0; i < d; ++i) scan_filed(e, &e->single[idx[i]], p, exclude, FILED_SINGLE);
+    for (int i = 0; i < d; ++i) scan_single(e, &e->single[idx[i]], exclude);
     if (e->use_pairs)
         for (int i = 0; i < d; ++i)
             for (int j = 0; j < d; ++j)
-                scan_pairs(e, &e->pair[(size_t)idx[i] * (size_t)e->M + (size_t)idx[j]], p,
-                           exclude);
-    scan_list(e, &e->wide, p, exclude);
-    if (d & 1) scan_list(e, &e->odd, p, exclude);
+                scan_list(e, &e->pair[(size_t)idx[i] * (size_t)e->M + (size_t)idx[j]], exclude);
+    scan_list(e, &e->wide, exclude);
+    if (d & 1) scan_list(e, &e->odd, exclude);
 }
 
 /* Candidate order: heaviest first (ties: oldest), or oldest first. */
@@ -473,7 +406,7 @@ static uint32_t first_admitting(engine *e, lam_group_method order)
     uint32_t best = NONE;
     for (uint32_t k = 0; k < e->cand.n; ++k) {
         uint32_t gi = e->cand.v[k];
-        if (precedes(e, gi, best, order) && group_admits(e, &e->g[gi])) best = gi;
+        if (precedes(e, gi, best, order) && rest_admits(e, &e->g[gi])) best = gi;
     }
     return best;
 }
@@ -485,7 +418,7 @@ static void all_admitting(engine *e)
     qsort(e->cand.v, e->cand.n, sizeof *e->cand.v, by_weight_desc);
     e->found.n = 0;
     for (uint32_t k = 0; k < e->cand.n; ++k)
-        if (group_admits(e, &e->g[e->cand.v[k]])) u32_push(&e->found, e->cand.v[k]);
+        if (rest_admits(e, &e->g[e->cand.v[k]])) u32_push(&e->found, e->cand.v[k]);
 }
 
 /* ---------------------------------------------------------------- phases */
@@ -512,7 +445,7 @@ static void greedy(engine *e, lam_group_method method)
     for (size_t t = 0; t < e->nterms; ++t) {
         const uint64_t *p = term_bits(e, (uint32_t)t);
         prepare_term(e, p);
-        query(e, p, NONE);
+        query(e, NONE);
         uint32_t gi = first_admitting(e, method);
         if (gi == NONE)
             new_group(e, (uint32_t)t);
@@ -540,7 +473,7 @@ static double refine_pass(engine *e)
         if (ga->size >= 2 && e->pos[t] < ANCHORS) continue; /* anchors stay */
         const uint64_t *p = term_bits(e, (uint32_t)t);
         prepare_term(e, p);
-        query(e, p, a);
+        query(e, a);
         uint32_t b = first_admitting(e, LAM_GROUP_BEST);
         if (b == NONE) continue;
         double c2 = e->tc[t] * e->tc[t];
@@ -585,7 +518,7 @@ static void collect_memberships(engine *e, int split, shares *sh)
         if (!split || e->tc[t] == 0) continue;
         const uint64_t *p = term_bits(e, (uint32_t)t);
         prepare_term(e, p);
-        query(e, p, home);
+        query(e, home);
         all_admitting(e);
         int taken = 0;
         for (uint32_t k = 0; k < e->found.n && taken < SPLIT_GROUPS_MAX; ++k) {
@@ -826,8 +759,7 @@ static void engine_init(engine *e, const lam_pauli_set *in, const lam_group_opti
     e->M = 2 * (in->nqubits > 0 ? in->nqubits : 1);
     e->pidx = lam_malloc(lam_mul_size((size_t)e->M, sizeof *e->pidx));
     e->pidx_member = lam_malloc(lam_mul_size((size_t)e->M, sizeof *e->pidx_member));
-    e->acc_cap = 1;
-    e->acc = lam_malloc(sizeof *e->acc);
+    e->pcol = lam_calloc((size_t)e->M + 1, sizeof *e->pcol);
     if (e->use_index) {
         e->use_pairs = e->M <= PAIR_MAJORANAS_MAX;
         e->single = lam_calloc((size_t)e->M, sizeof *e->single);
@@ -857,10 +789,11 @@ static void engine_free(engine *e)
     free(e->odd.v);
     free(e->found.v);
     free(e->cand.v);
-    free(e->anchors);
+    for (int c = 0; c <= e->M; ++c) free(e->pcol[c]);
+    free(e->pcol);
+    free(e->gsize);
     free(e->pidx);
     free(e->pidx_member);
-    free(e->acc);
 }
 
 void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
