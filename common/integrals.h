@@ -14,9 +14,9 @@
 #include "molecule.h"
 
 /* Boys function F_m(t) = int_0^1 u^(2m) exp(-t u^2) du for m = 0..mmax
- * (mmax <= LAM_BOYS_MMAX): a table with Taylor steps and downward
- * recursion below t = 36, F_0 from erf and upward recursion above, both
- * directions used where they are stable. */
+ * (mmax <= LAM_BOYS_MMAX): Taylor steps from a table (filled by the
+ * convergent series and downward recursion) below t = 60, F_0 from erf
+ * and upward recursion above, each recursion used where it is stable. */
 #define LAM_BOYS_MMAX 4 * LAM_MAX_L
 void lam_boys(int mmax, double t, double *f);
 

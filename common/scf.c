@@ -18,6 +18,7 @@ void lam_scf_options_default(lam_scf_options *o)
     o->diis_size = 8;
     o->schwarz = 1e-12;
     o->s_tol = 1e-7;
+    o->guess = LAM_GUESS_SAD;
     o->report = 0;
 }
 
@@ -225,6 +226,228 @@ static void diis_free(diis_store *st)
     free(st->e);
 }
 
+/* Work space of one SCF problem: fixed matrices and the iterates. */
+typedef struct {
+    int n, m;
+    size_t nn;
+    const double *h, *pk, *ovl, *x;
+    double e_nuc;
+    double *c, *eps, *occ;  /* orbitals, energies, occupation numbers */
+    double *d, *f, *err, *work, *scaled, *pd, *pg;
+} scf_state;
+
+static void scf_state_init(scf_state *w, int n, int m, const double *h, const double *pk,
+                           const double *ovl, const double *x, double e_nuc)
+{
+    memset(w, 0, sizeof *w);
+    w->n = n;
+    w->m = m;
+    w->nn = lam_mul_size((size_t)n, (size_t)n);
+    w->h = h;
+    w->pk = pk;
+    w->ovl = ovl;
+    w->x = x;
+    w->e_nuc = e_nuc;
+    size_t nm = lam_mul_size((size_t)n, (size_t)m), n2 = (size_t)n * (n + 1) / 2;
+    w->c = lam_malloc(nm * sizeof *w->c);
+    w->scaled = lam_malloc(nm * sizeof *w->scaled);
+    w->eps = lam_malloc((size_t)m * sizeof *w->eps);
+    w->occ = lam_malloc((size_t)m * sizeof *w->occ);
+    w->d = lam_calloc(w->nn, sizeof *w->d);
+    w->f = lam_malloc(w->nn * sizeof *w->f);
+    w->err = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *w->err);
+    w->work = lam_malloc(lam_mul_size(w->nn, 3 * sizeof *w->work));
+    w->pd = lam_malloc(n2 * sizeof *w->pd);
+    w->pg = lam_malloc(n2 * sizeof *w->pg);
+}
+
+static void scf_state_free(scf_state *w)
+{
+    free(w->c);
+    free(w->scaled);
+    free(w->eps);
+    free(w->occ);
+    free(w->d);
+    free(w->f);
+    free(w->err);
+    free(w->work);
+    free(w->pd);
+    free(w->pg);
+}
+
+/* Aufbau occupations for `electrons` over the orbital energies.  With
+ * fractional set, the electrons of a partly filled group of degenerate
+ * orbitals are shared evenly (the spherical average of an open-shell
+ * atom); otherwise orbitals are filled two by two. */
+static void occupations(scf_state *w, double electrons, int fractional)
+{
+    double left = electrons;
+    for (int i = 0; i < w->m;) {
+        int g = 1;
+        if (fractional)
+            while (i + g < w->m && fabs(w->eps[i + g] - w->eps[i]) < 1e-4) ++g;
+        double each = left >= 2.0 * g ? 2.0 : left / g;
+        for (int k = 0; k < g; ++k) w->occ[i + k] = each;
+        left -= each * g;
+        i += g;
+    }
+}
+
+/* D = C diag(occ) C^T. */
+static void occupied_density(scf_state *w)
+{
+    int n = w->n, m = w->m, used = 0;
+    for (int k = 0; k < m; ++k)
+        if (w->occ[k] > 0) used = k + 1;
+    for (int i = 0; i < n; ++i)
+        for (int k = 0; k < used; ++k)
+            w->scaled[(size_t)i * m + k] = w->c[(size_t)i * m + k] * sqrt(w->occ[k]);
+    if (used == 0) {
+        memset(w->d, 0, w->nn * sizeof *w->d);
+        return;
+    }
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, used, 1.0, w->scaled, m,
+                w->scaled, m, 0.0, w->d, n);
+}
+
+typedef struct {
+    double energy, change, gradient;
+    int iterations, converged;
+} scf_outcome;
+
+/* Roothaan-Hall iterations with DIIS from the core Hamiltonian or from
+ * the Fock matrix of a guessed density.  On convergence c and eps are the
+ * canonical orbitals of the converged Fock matrix. */
+static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double electrons,
+                               int fractional, const double *d_guess, int report)
+{
+    int n = w->n, m = w->m;
+    scf_outcome out = {0.0, 0.0, 0.0, 0, 0};
+    diis_store diis;
+    diis_init(&diis, o->diis_size > 8 ? 8 : o->diis_size, w->nn, (size_t)m * m);
+    if (d_guess) {
+        fock_build(n, w->pk, w->h, d_guess, w->f, w->pd, w->pg);
+        roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+    } else {
+        roothaan_step(n, m, w->x, w->h, w->c, w->eps, w->work);
+    }
+    if (report)
+        fprintf(stderr, "%s: iter  energy/Eh                 change/Eh   gradient\n", lam_program());
+    int it;
+    for (it = 1; it <= o->max_iter; ++it) {
+        occupations(w, electrons, fractional);
+        occupied_density(w);
+        fock_build(n, w->pk, w->h, w->d, w->f, w->pd, w->pg);
+        double e = 0.5 * (trace_product(w->nn, w->d, w->h) + trace_product(w->nn, w->d, w->f)) +
+                   w->e_nuc;
+        out.change = e - out.energy;
+        out.energy = e;
+        out.gradient = orbital_gradient(n, m, w->f, w->d, w->ovl, w->x, w->err, w->work);
+        if (report)
+            fprintf(stderr, "%s: %4d  %.15f  %10.3e  %.3e\n", lam_program(), it, e,
+                    it == 1 ? 0.0 : out.change, out.gradient);
+        if (it > 1 && fabs(out.change) < o->e_conv && out.gradient < o->d_conv) {
+            out.converged = 1;
+            break;
+        }
+        diis_push(&diis, w->f, w->err);
+        if (diis.count >= 2) diis_extrapolate(&diis, w->f);
+        roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+    }
+    out.iterations = it;
+    /* canonical orbitals of the converged (not extrapolated) Fock matrix */
+    if (out.converged) roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+    diis_free(&diis);
+    return out;
+}
+
+/* One-electron matrices: overlap and core Hamiltonian. */
+static void one_electron(const lam_basis *b, const lam_molecule *mol, double *ovl, double *h)
+{
+    size_t nn = (size_t)b->nbf * b->nbf;
+    double *kin = lam_calloc(nn, sizeof *kin);
+    lam_int_overlap(b, ovl);
+    lam_int_kinetic(b, kin);
+    lam_int_nuclear(b, mol, h);
+    for (size_t i = 0; i < nn; ++i) h[i] += kin[i];
+    free(kin);
+}
+
+/* First function and number of functions of an atom (its shells are
+ * consecutive). */
+static void atom_functions(const lam_basis *b, int atom, int *first, int *count)
+{
+    *first = -1;
+    *count = 0;
+    for (int k = 0; k < b->nshell; ++k) {
+        if (b->shell[k].atom != atom) continue;
+        if (*first < 0) *first = b->shell[k].first;
+        *count += b->shell[k].nfunc;
+    }
+}
+
+/* Density of the neutral atom `atom` alone in its own functions, from a
+ * spherically averaged (fractionally occupied) Hartree-Fock calculation. */
+static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int atom,
+                              const lam_scf_options *o)
+{
+    lam_basis ab = {0, 0, 0, NULL};
+    ab.shell = lam_malloc(lam_mul_size((size_t)b->nshell, sizeof *ab.shell));
+    for (int k = 0; k < b->nshell; ++k) {
+        if (b->shell[k].atom != atom) continue;
+        lam_shell *sh = &ab.shell[ab.nshell++];
+        *sh = b->shell[k];
+        sh->first = ab.nbf;
+        ab.nbf += sh->nfunc;
+        if (sh->l > ab.max_l) ab.max_l = sh->l;
+    }
+    lam_molecule am = {1, &mol->z[atom], mol->xyz + 3 * atom, &mol->line[atom], mol->source, 0};
+    int n = ab.nbf;
+    size_t nn = (size_t)n * n;
+    double *ovl = lam_calloc(nn, sizeof *ovl), *h = lam_calloc(nn, sizeof *h);
+    double *x = lam_malloc(nn * sizeof *x);
+    one_electron(&ab, &am, ovl, h);
+    double *eri = lam_int_eri(&ab, o->schwarz, NULL);
+    double *pk = pk_supermatrix(n, eri);
+    free(eri);
+    int m = orthogonalizer(n, ovl, o->s_tol, x);
+    scf_state w;
+    scf_state_init(&w, n, m, h, pk, ovl, x, 0.0);
+    lam_scf_options ao = *o;
+    ao.e_conv = 1e-8;
+    ao.d_conv = 1e-5;
+    ao.max_iter = 60;
+    /* not converging only makes the guess a little worse */
+    scf_iterate(&w, &ao, mol->z[atom], 1, NULL, 0);
+    double *d = w.d;
+    w.d = NULL;
+    scf_state_free(&w);
+    free(ovl);
+    free(h);
+    free(x);
+    free(pk);
+    free(ab.shell);
+    return d;
+}
+
+/* Superposition of atomic densities (one atomic calculation per element). */
+static double *sad_guess(const lam_basis *b, const lam_molecule *mol, const lam_scf_options *o)
+{
+    int n = b->nbf;
+    double *d = lam_calloc((size_t)n * n, sizeof *d);
+    double *by_element[LAM_MAX_Z + 1] = {NULL};
+    for (int a = 0; a < mol->natom; ++a) {
+        int z = mol->z[a], first, count;
+        atom_functions(b, a, &first, &count);
+        if (!by_element[z]) by_element[z] = atomic_density(b, mol, a, o);
+        for (int i = 0; i < count; ++i)
+            memcpy(d + (size_t)(first + i) * n + first, by_element[z] + (size_t)i * count,
+                   (size_t)count * sizeof *d);
+    }
+    for (int z = 0; z <= LAM_MAX_Z; ++z) free(by_element[z]);
+    return d;
+}
+
 lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
                      const lam_scf_options *o)
 {
@@ -237,13 +460,9 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
     s->e_nuc = lam_molecule_nuclear_repulsion(mol);
 
     double t0 = lam_seconds();
-    double *ovl = lam_calloc(nn, sizeof *ovl), *kin = lam_calloc(nn, sizeof *kin);
+    double *ovl = lam_calloc(nn, sizeof *ovl);
     s->hcore = lam_calloc(nn, sizeof *s->hcore);
-    lam_int_overlap(b, ovl);
-    lam_int_kinetic(b, kin);
-    lam_int_nuclear(b, mol, s->hcore);
-    for (size_t i = 0; i < nn; ++i) s->hcore[i] += kin[i];
-    free(kin);
+    one_electron(b, mol, ovl, s->hcore);
     lam_eri_stats st;
     s->eri = lam_int_eri(b, o->schwarz, &st);
     s->pk = pk_supermatrix(n, s->eri);
@@ -262,60 +481,30 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
         lam_fail_at(LAM_EX_DATA, mol->source, 0,
                     "%d electrons do not fit in %d orbitals", nelec, m);
     }
-    s->c = lam_malloc(lam_mul_size((size_t)n, (size_t)m) * sizeof *s->c);
-    s->eps = lam_malloc((size_t)m * sizeof *s->eps);
-    double *d = lam_calloc(nn, sizeof *d), *f = lam_malloc(nn * sizeof *f);
-    double *err = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *err);
-    double *work = lam_malloc(lam_mul_size(nn, 3 * sizeof *work));
-    size_t n2 = (size_t)n * (n + 1) / 2;
-    double *pd = lam_malloc(n2 * sizeof *pd), *pg = lam_malloc(n2 * sizeof *pg);
-    diis_store diis;
-    diis_init(&diis, o->diis_size > 8 ? 8 : o->diis_size, nn, (size_t)m * m);
-
-    /* core-Hamiltonian start */
-    roothaan_step(n, m, x, s->hcore, s->c, s->eps, work);
-    double energy = 0.0, de = 0.0, grad = 0.0;
-    int it, converged = 0;
     t0 = lam_seconds();
-    if (o->report) fprintf(stderr, "%s: iter  energy/Eh                 change/Eh   gradient\n", lam_program());
-    for (it = 1; it <= o->max_iter; ++it) {
-        density(n, m, s->nocc, s->c, d);
-        fock_build(n, s->pk, s->hcore, d, f, pd, pg);
-        double e = 0.5 * (trace_product(nn, d, s->hcore) + trace_product(nn, d, f)) + s->e_nuc;
-        de = e - energy;
-        energy = e;
-        grad = orbital_gradient(n, m, f, d, ovl, x, err, work);
-        if (o->report)
-            fprintf(stderr, "%s: %4d  %.15f  %10.3e  %.3e\n", lam_program(), it, e,
-                    it == 1 ? 0.0 : de, grad);
-        if (it > 1 && fabs(de) < o->e_conv && grad < o->d_conv) {
-            converged = 1;
-            break;
-        }
-        diis_push(&diis, f, err);
-        if (diis.count >= 2) diis_extrapolate(&diis, f);
-        roothaan_step(n, m, x, f, s->c, s->eps, work);
-    }
+    double *guess = o->guess == LAM_GUESS_SAD ? sad_guess(b, mol, o) : NULL;
+    if (o->report)
+        fprintf(stderr, "%s: start from %s\n", lam_program(),
+                guess ? "a superposition of atomic densities" : "the core Hamiltonian");
+    scf_state w;
+    scf_state_init(&w, n, m, s->hcore, s->pk, ovl, x, s->e_nuc);
+    scf_outcome r = scf_iterate(&w, o, nelec, 0, guess, o->report);
     s->seconds_iterations = lam_seconds() - t0;
-    /* canonical orbitals of the converged (not extrapolated) Fock matrix */
-    if (converged) roothaan_step(n, m, x, f, s->c, s->eps, work);
-    s->energy = energy;
-    s->iterations = it;
-    diis_free(&diis);
+    s->energy = r.energy;
+    s->iterations = r.iterations;
+    s->c = w.c;
+    s->eps = w.eps;
+    w.c = w.eps = NULL;
+    scf_state_free(&w);
+    free(guess);
     free(ovl);
     free(x);
-    free(d);
-    free(f);
-    free(err);
-    free(work);
-    free(pd);
-    free(pg);
-    if (!converged) {
+    if (!r.converged) {
         lam_scf_free(s);
         lam_fail_at(LAM_EX_DATA, mol->source, 0,
                     "RHF did not converge in %d iterations (last energy change "
                     "%.2e Eh, gradient %.2e); try --max-iter or looser --e-conv/--d-conv",
-                    o->max_iter, fabs(de), grad);
+                    o->max_iter, fabs(r.change), r.gradient);
     }
     return s;
 }

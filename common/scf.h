@@ -2,7 +2,9 @@
  * integrals.
  *
  * Roothaan-Hall equations in an orthonormal basis (canonical
- * orthogonalization), core-Hamiltonian start, Pulay DIIS (P. Pulay, Chem.
+ * orthogonalization), started from a superposition of atomic densities
+ * (spherically averaged atomic Hartree-Fock in the molecule's own
+ * functions) or from the core Hamiltonian, Pulay DIIS (P. Pulay, Chem.
  * Phys. Lett. 73, 393 (1980)) on the commutator FDS - SDF.  Two-electron
  * integrals are computed once and stored with the 8-fold symmetry; the
  * Fock matrix comes from the "PK" supermatrix
@@ -16,6 +18,8 @@
 #include "molecule.h"
 #include "spinfree.h"
 
+enum { LAM_GUESS_CORE, LAM_GUESS_SAD };
+
 typedef struct {
     int max_iter;     /* iterations before giving up */
     double e_conv;    /* |energy change| in Eh */
@@ -23,6 +27,7 @@ typedef struct {
     int diis_size;    /* stored Fock matrices, 0 turns DIIS off */
     double schwarz;   /* integral screening threshold, Eh */
     double s_tol;     /* overlap eigenvalues below are dropped */
+    int guess;        /* LAM_GUESS_SAD or LAM_GUESS_CORE */
     int report;       /* iteration table on stderr */
 } lam_scf_options;
 

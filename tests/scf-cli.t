@@ -75,6 +75,9 @@ runlam lam-scf --quiet --bohr --energy --tsv "$TMP/water.xyz"
 is "$(wc -l <<<"$OUT")" 2 "--tsv: header row and value row"
 like "$(head -1 <<<"$OUT")" $'scf_energy' "--tsv header names scf_energy"
 
+runlam lam-scf --quiet --bohr --energy --guess core "$TMP/water.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water from the core guess: same E_SCF"
+
 # angstrom is the default unit: the same geometry in angstrom (CODATA 2014 bohr)
 awk 'NR > 2 { printf "%s %.12f %.12f %.12f\n", $1, $2 * 0.52917721067, $3 * 0.52917721067, $4 * 0.52917721067 }' \
     "$TMP/water.xyz" >"$TMP/water-angstrom.xyz"
@@ -163,6 +166,8 @@ runlam lam-scf --quiet --bohr --active 4 "$TMP/water.xyz"
 is "$RC" 64 "10 electrons in 4 orbitals: exit 64"
 runlam lam-scf --quiet --tsv "$TMP/h2.xyz"
 is "$RC" 64 "--tsv without --energy: exit 64"
+runlam lam-scf --quiet --guess huckel "$TMP/h2.xyz"
+is "$RC" 64 "unknown --guess: exit 64"
 runlam lam-scf --quiet --e-conv abc "$TMP/h2.xyz"
 is "$RC" 64 "--e-conv not a number: exit 64"
 runlam lam-scf --quiet --bohr --max-iter 2 "$TMP/water.xyz"

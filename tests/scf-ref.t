@@ -1,7 +1,7 @@
 #!/usr/bin/python3
 """lam-scf against psi4 (Debian package), an independent reference.
 
-- RHF energies of nine molecules (one a cation) in STO-3G, 6-31G and cc-pVDZ (spherical
+- RHF energies of ten molecules (one a cation, one stretched) in STO-3G, 6-31G and cc-pVDZ (spherical
   and Cartesian d shells), psi4 with scf_type pk and tight convergence,
   to 1e-8 Eh.  Geometries are ours (angstrom).
 - The same molecule through lam-scf's FCIDUMP and psi4's fcidump(): the
@@ -40,6 +40,9 @@ ENERGY_CASES = [
     ("sih4", "Si 0 0 0\nH 0.8544 0.8544 0.8544\nH -0.8544 -0.8544 0.8544\n"
              "H -0.8544 0.8544 -0.8544\nH 0.8544 -0.8544 -0.8544", "sto-3g", None),
     ("hco+", "H 0 0 -1.09\nC 0 0 0\nO 0 0 1.11", "cc-pvdz", None),
+    # a stretched bond: the core-Hamiltonian start ends 0.055 Eh higher,
+    # the atomic-density start reaches psi4's state
+    ("n2-stretched", "N 0 0 0\nN 0 0 1.9", "cc-pvdz", None),
 ]
 CHARGE = {"hco+": 1}
 

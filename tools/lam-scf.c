@@ -34,6 +34,8 @@ static _Noreturn void usage(void)
            "                        (default 1e-8)\n"
            "      --max-iter N      give up after N iterations (default 100)\n"
            "      --diis N          Fock matrices kept for DIIS, 0 to 8 (default 8)\n"
+           "      --guess G         start from sad (superposition of atomic densities,\n"
+           "                        default) or core (core Hamiltonian)\n"
            "      --schwarz T       skip integral blocks bounded below T Eh (default 1e-12)\n"
            "      --cutoff T        omit integrals with |value| <= T Eh from the FCIDUMP\n"
            "                        (default 0: every non-zero integral is written)\n"
@@ -55,7 +57,7 @@ static _Noreturn void usage(void)
 
 enum {
     OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ECONV, OPT_DCONV, OPT_MAXIT, OPT_DIIS,
-    OPT_SCHWARZ, OPT_CUTOFF, OPT_MAXMEM, OPT_PROGRESS, OPT_VERSION, OPT_TSV
+    OPT_SCHWARZ, OPT_CUTOFF, OPT_MAXMEM, OPT_PROGRESS, OPT_VERSION, OPT_TSV, OPT_GUESS
 };
 
 typedef struct {
@@ -76,6 +78,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"d-conv", required_argument, 0, OPT_DCONV},
         {"max-iter", required_argument, 0, OPT_MAXIT},
         {"diis", required_argument, 0, OPT_DIIS},
+        {"guess", required_argument, 0, OPT_GUESS},
         {"schwarz", required_argument, 0, OPT_SCHWARZ},
         {"cutoff", required_argument, 0, OPT_CUTOFF},
         {"max-memory", required_argument, 0, OPT_MAXMEM},
@@ -103,6 +106,11 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_DCONV: o->scf.d_conv = lam_opt_double("--d-conv", optarg); break;
         case OPT_MAXIT: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
         case OPT_DIIS: o->scf.diis_size = (int)lam_opt_long("--diis", optarg, 0, 8); break;
+        case OPT_GUESS:
+            if (strcmp(optarg, "sad") == 0) o->scf.guess = LAM_GUESS_SAD;
+            else if (strcmp(optarg, "core") == 0) o->scf.guess = LAM_GUESS_CORE;
+            else lam_usage_error("--guess wants sad or core, not '%s'", optarg);
+            break;
         case OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
         case OPT_CUTOFF: o->cutoff = lam_opt_double("--cutoff", optarg); break;
         case OPT_MAXMEM: o->max_memory_mb = lam_opt_double("--max-memory", optarg); break;
