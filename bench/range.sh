@@ -1,0 +1,101 @@
+#!/bin/bash
+# bench/range.sh - lam-range against psi4's FCI, side by side in one run.
+#
+# 1. The N, Sz = 0 ground state of a 12-orbital, 12-electron problem
+#    (sector dimension 853,776): a stretched H12 chain (H-H 1.2 angstrom,
+#    STO-3G, our own scenario).  psi4 writes the FCIDUMP; its FCI step alone
+#    is timed (in the same determinant space, symmetry c1, and with the
+#    molecule's own point group, which psi4 exploits and lam-range does not).
+#    lam-range --lowest --sector 6,6 on the same integrals, default --tol.
+# 2. All sectors, both ends, 10 orbitals (H10 chain): time and peak memory
+#    against the size of one vector of the largest sector.
+# Prints figures; asserts no time.  One thread each (set THREADS=2 for two).
+set -u
+LAM_BIN=${LAM_BIN:-$(cd "$(dirname "$0")/.." && pwd)/bin}
+ROOT=$(cd "$(dirname "$0")/.." && pwd)
+W=$ROOT/build/bench-range
+THREADS=${THREADS:-1}
+mkdir -p "$W"
+cd "$W" || exit 1
+
+PSI4_ENV=(env PYTHONPATH=/usr/lib/x86_64-linux-gnu OMP_NUM_THREADS=$THREADS)
+cat > chain.py <<'EOF'
+import sys, time, psi4
+n, sym, do_fci = int(sys.argv[1]), sys.argv[2], sys.argv[3] == "1"
+threads = int(sys.argv[4])
+psi4.set_output_file("h%d-%s.out" % (n, sym), False)
+psi4.set_memory("4 GB")
+psi4.set_num_threads(threads)
+geom = "\n".join("H 0 0 %.4f" % (1.2 * i) for i in range(n))
+psi4.geometry("0 1\n%s\nsymmetry %s\nno_reorient\nno_com\n" % (geom, sym))
+psi4.set_options({"basis": "sto-3g", "scf_type": "pk", "e_convergence": 1e-10,
+                  "d_convergence": 1e-8, "r_convergence": 1e-7, "ci_maxiter": 100})
+e_scf, wfn = psi4.energy("scf", return_wfn=True)
+if sym == "c1":
+    from psi4.driver.p4util.fcidump import fcidump
+    fcidump(wfn, "h%d.fcidump" % n)
+if do_fci:
+    t = time.time()
+    e = psi4.energy("fci", ref_wfn=wfn)
+    print("%.3f %.12f" % (time.time() - t, e))
+EOF
+
+have_psi4=${PSI4:-1}
+[ "$have_psi4" = 1 ] && { "${PSI4_ENV[@]}" /usr/bin/python3 -c "import psi4" 2>/dev/null || have_psi4=0; }
+
+peak_kb() { awk -F': ' '/Maximum resident set size/ { print $2 }' "$1"; }
+wall_s() {
+    awk -F': ' '/Elapsed \(wall clock\)/ { n = split($2, t, ":"); s = 0; for (i = 1; i <= n; ++i) s = s * 60 + t[i]; print s }' "$1"
+}
+
+echo "== 12 orbitals, 12 electrons, sector (6,6), dimension 853776: lowest eigenvalue"
+echo "   stretched H12 chain, H-H 1.2 angstrom, STO-3G; threads: $THREADS; load: $(cut -d' ' -f1-3 /proc/loadavg)"
+if [ $have_psi4 = 1 ]; then
+    read -r psi4_c1_s psi4_c1_e < <("${PSI4_ENV[@]}" /usr/bin/python3 chain.py 12 c1 1 "$THREADS" | tail -1)
+    read -r psi4_pg_s psi4_pg_e < <("${PSI4_ENV[@]}" /usr/bin/python3 chain.py 12 d2h 1 "$THREADS" | tail -1)
+else
+    echo "   psi4 not available: only lam-range is timed (needs build/bench-range/h12.fcidump)"
+fi
+[ -f h12.fcidump ] || { echo "no h12.fcidump"; exit 1; }
+"$LAM_BIN/lam-ints" h12.fcidump > h12.op
+/usr/bin/time -v "$LAM_BIN/lam-range" --lowest --sector 6,6 --threads "$THREADS" --quiet h12.op \
+    > h12.range 2> h12.time || { cat h12.time; exit 1; }
+lam_e=$(awk -F'\t' '$1 == "sector" { print $4 }' h12.range)
+lam_s=$(wall_s h12.time)
+lam_mb=$(awk -v k="$(peak_kb h12.time)" 'BEGIN { printf "%.0f", k / 1024 }')
+printf '   %-34s %10s  %-20s\n' "program" "seconds" "energy (Eh)"
+printf '   %-34s %10.1f  %-20s  peak %s MB, %s\n' "lam-range --lowest --sector 6,6" "$lam_s" "$lam_e" "$lam_mb" \
+    "$(awk -F'\t' '$1 == "status" { print "status " $2 }' h12.range)"
+if [ $have_psi4 = 1 ]; then
+    printf '   %-34s %10.1f  %-20s\n' "psi4 fci, symmetry c1" "$psi4_c1_s" "$psi4_c1_e"
+    printf '   %-34s %10.1f  %-20s\n' "psi4 fci, symmetry d2h" "$psi4_pg_s" "$psi4_pg_e"
+    awk -v a="$lam_s" -v b="$psi4_c1_s" -v c="$psi4_pg_s" -v e="$lam_e" -v f="$psi4_c1_e" 'BEGIN {
+        printf "   lam-range / psi4 c1 = %.2f, lam-range / psi4 d2h = %.2f; |energy difference| = %.1e Eh\n",
+               a / b, a / c, (e - f < 0 ? f - e : e - f) }'
+fi
+
+echo
+echo "== 10 orbitals (H10 chain, same spacing): all sectors, both ends"
+if [ ! -f h10.fcidump ] && [ $have_psi4 = 1 ]; then
+    "${PSI4_ENV[@]}" /usr/bin/python3 chain.py 10 c1 0 "$THREADS" > /dev/null
+fi
+[ -f h10.fcidump ] || { echo "no h10.fcidump"; exit 1; }
+"$LAM_BIN/lam-ints" h10.fcidump > h10.op
+/usr/bin/time -v "$LAM_BIN/lam-range" --threads "$THREADS" --quiet h10.op > h10.range 2> h10.time || { cat h10.time; exit 1; }
+/usr/bin/time -v "$LAM_BIN/lam-range" --threads "$THREADS" --quiet --multiplets h10.op > h10m.range 2> h10m.time
+# the program's own footprint: the same run on a 2-orbital operator
+printf '#%% kind: spinfree\n-1 0 0\n-0.5 1 1\n0.3 0 0 1 1\n' > tiny.op
+/usr/bin/time -v "$LAM_BIN/lam-range" --threads "$THREADS" --quiet tiny.op > /dev/null 2> tiny.time
+vec_kb=$(awk 'BEGIN { printf "%.0f", 63504 * 8 / 1024 }')
+printf '   %-34s %10s  %10s  %s\n' "run" "seconds" "peak MB" "above a 2-orbital run, in vectors of the (5,5) sector"
+for t in h10 h10m; do
+    label="all sectors (computed + mirrored)"; [ $t = h10m ] && label="--multiplets"
+    printf '   %-34s %10.1f  %10.1f  %.1f\n' "$label" "$(wall_s $t.time)" \
+        "$(awk -v k="$(peak_kb $t.time)" 'BEGIN { print k / 1024 }')" \
+        "$(awk -v k="$(peak_kb $t.time)" -v b="$(peak_kb tiny.time)" -v v="$vec_kb" 'BEGIN { print (k - b) / v }')"
+done
+printf '   sectors: %s lines, %s computed; fock_half_range %s Eh (both runs: %s), status %s\n' \
+    "$(grep -c '^sector' h10.range)" "$(grep -c 'computed$' h10.range)" \
+    "$(awk -F'\t' '$1 == "fock_half_range" { print $2 }' h10.range)" \
+    "$(awk -F'\t' '$1 == "fock_half_range" { print $2 }' h10m.range)" \
+    "$(awk -F'\t' '$1 == "status" { print $2 }' h10.range)"
