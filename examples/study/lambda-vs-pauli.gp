@@ -6,9 +6,10 @@ set terminal pngcairo size 1100,720 font ",12"
 set output out
 set datafile separator "\t"
 set key outside right top box spacing 1.2
-# log y: the floors and the representations span a decade or more
-set logscale y
-set ytics (0.2, 0.3, 0.5, 0.7, 1, 1.5, 2, 3, 5, 7, 10, 15, 20, 30, 50, 70, 100)
+# log scales: molecules, representations and floors span decades
+set logscale xy
+set xtics (1, 1.5, 2, 3, 5, 7, 10, 15, 20, 30, 50, 70, 100, 150, 200)
+set ytics (0.2, 0.3, 0.5, 0.7, 1, 1.5, 2, 3, 5, 7, 10, 15, 20, 30, 50, 70, 100, 150, 200)
 set autoscale fix
 set offsets graph 0.04, graph 0.04, graph 0.04, graph 0.04
 set grid xtics ytics

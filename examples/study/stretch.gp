@@ -6,9 +6,9 @@ n = words(molecules)
 set terminal pngcairo size (n > 1 ? 560 * n : 700),620 font ",11"
 set output out
 set datafile separator "\t"
-set multiplot layout 1, n title "lambda along the bond stretch (STO-3G)"
+set multiplot layout 1, n
 set grid
-set key outside bottom center horizontal maxcols 3 font ",9"
+set key outside top center horizontal maxrows 3 font ",9"
 set xlabel "R, angstrom"
 set ylabel "lambda, Eh"
 set yrange [0:*]
@@ -16,7 +16,7 @@ set offsets graph 0.03, graph 0.03, 0, 0
 pick(c, m) = (strcol(1) eq m) ? column(c) : NaN
 do for [i = 1:n] {
     m = word(molecules, i)
-    set title m
+    set title sprintf("%s: lambda along the stretch (STO-3G)", m)
     plot data using (pick(2, m)):(pick(3, m)) skip 1 with linespoints ls 1 title "Pauli", \
          data using (pick(2, m)):(pick(4, m)) skip 1 with linespoints ls 2 title "groups", \
          data using (pick(2, m)):(pick(5, m)) skip 1 with linespoints ls 3 title "shift", \
