@@ -14,7 +14,8 @@ import sys
 import tempfile
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
-CACHE = os.path.join(ROOT, "build", "testdata")
+# The cache name carries a version: bump it when PSI4_SCRIPT changes.
+CACHE = os.path.join(ROOT, "build", "testdata", "v2")
 
 # name: (geometry, charge, basis, freeze_core)
 MOLECULES = {
@@ -29,19 +30,55 @@ MOLECULES = {
 
 PSI4_SCRIPT = r'''
 import json, sys
+import numpy as np
 import psi4
 name, geom, charge, basis, fc, fcidump_path, json_path = sys.argv[1:8]
 psi4.set_output_file(json_path + ".out", False)
 psi4.set_memory("2 GB")
-psi4.geometry("%s %d 1\n%s\nsymmetry c1\nno_reorient\nno_com\n" % ("", int(charge), geom))
+psi4.geometry("%d 1\n%s\nsymmetry c1\nno_reorient\nno_com\n" % (int(charge), geom))
 psi4.set_options({"basis": basis, "scf_type": "pk", "e_convergence": 1e-12,
                   "d_convergence": 1e-10, "freeze_core": fc == "1"})
 e_scf, wfn = psi4.energy("scf", return_wfn=True)
-from psi4.driver.p4util.fcidump import fcidump
-fcidump(wfn, fcidump_path)
+nfrozen = int(wfn.frzcpi().sum())
+if nfrozen == 0:
+    # psi4's own writer: the file format of a real FCIDUMP writer.
+    from psi4.driver.p4util.fcidump import fcidump
+    fcidump(wfn, fcidump_path)
+else:
+    # Debian's psi4 fcidump() drops one-body integrals of the last active
+    # orbitals when orbitals are frozen (it slices the active block with
+    # the active count as end index), so frozen-core files are written
+    # here from psi4's AO integrals and orbitals instead.
+    C = wfn.Ca().to_array()
+    mints = psi4.core.MintsHelper(wfn.basisset())
+    eri = mints.ao_eri().to_array()
+    hcore = mints.ao_kinetic().to_array() + mints.ao_potential().to_array()
+    Cc, Ca = C[:, :nfrozen], C[:, nfrozen:]
+    Dc = Cc @ Cc.T
+    J = np.einsum("pqrs,rs->pq", eri, Dc)
+    K = np.einsum("prqs,rs->pq", eri, Dc)
+    fcore = hcore + 2 * J - K
+    e_core = float(np.sum((hcore + fcore) * Dc)) + wfn.molecule().nuclear_repulsion_energy()
+    h = Ca.T @ fcore @ Ca
+    g = np.einsum("pqrs,pi,qj,rk,sl->ijkl", eri, Ca, Ca, Ca, Ca, optimize=True)
+    n = Ca.shape[1]
+    nelec = wfn.nalpha() + wfn.nbeta() - 2 * nfrozen
+    with open(fcidump_path, "w") as f:
+        f.write("&FCI\nNORB=%d,\nNELEC=%d,\nMS2=0,\nORBSYM=%s\nISYM=1,\n&END\n" % (n, nelec, "1," * n))
+        for i in range(n):
+            for j in range(i + 1):
+                for k in range(n):
+                    for l in range(k + 1):
+                        if i * (i + 1) // 2 + j >= k * (k + 1) // 2 + l and abs(g[i, j, k, l]) > 1e-14:
+                            f.write("%28.20E %4d %4d %4d %4d\n" % (g[i, j, k, l], i + 1, j + 1, k + 1, l + 1))
+        for i in range(n):
+            for j in range(i + 1):
+                if abs(h[i, j]) > 1e-14:
+                    f.write("%28.20E %4d %4d %4d %4d\n" % (h[i, j], i + 1, j + 1, 0, 0))
+        f.write("%28.20E %4d %4d %4d %4d\n" % (e_core, 0, 0, 0, 0))
 e_fci = psi4.energy("fci")
-json.dump({"scf": e_scf, "fci": e_fci, "nmo": wfn.nmo(),
-           "frozen": int(wfn.frzcpi().sum())}, open(json_path, "w"))
+json.dump({"scf": e_scf, "fci": e_fci, "nmo": wfn.nmo(), "frozen": nfrozen},
+          open(json_path, "w"))
 '''
 
 
