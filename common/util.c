@@ -2,6 +2,7 @@
 #include "util.h"
 
 #include <errno.h>
+#include <float.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdlib.h>
@@ -118,30 +119,97 @@ char *lam_strdup(const char *s)
     return d;
 }
 
-int lam_parse_double(const char *tok, double *out)
+/* Slow, always correct: glibc's strtod on a copy with the exponent letter
+ * made 'e' (Fortran writes D). */
+static int parse_double_strtod(const char *tok, size_t n, double *out)
 {
     char buf[128];
-    size_t n = strlen(tok);
-    if (n == 0 || n >= sizeof buf) return -1;
-    /* Fortran writers use D for the exponent; C wants E. */
-    const char *s = tok;
-    if (strpbrk(tok, "dD")) {
-        memcpy(buf, tok, n + 1);
-        for (char *c = buf; *c; ++c)
-            if (*c == 'd' || *c == 'D') *c = 'e';
-        s = buf;
-    }
-    /* strtod accepts "nan", "inf" and hex; a coefficient is a decimal. */
-    for (const char *c = s; *c; ++c)
-        if (!strchr("0123456789+-.eE", *c)) return -1;
+    if (n >= sizeof buf) return -1;
+    memcpy(buf, tok, n + 1);
+    for (char *c = buf; *c; ++c)
+        if (*c == 'd' || *c == 'D') *c = 'e';
     char *end;
     errno = 0;
-    double v = strtod(s, &end);
-    if (end == s || *end != '\0') return -1;
+    double v = strtod(buf, &end);
+    if (end == buf || *end != '\0') return -1;
     if (errno == ERANGE && (v == HUGE_VAL || v == -HUGE_VAL)) return -1;
     if (!isfinite(v)) return -1;
     *out = v;
     return 0;
+}
+
+/* Fast path: with at most 19 significant digits the mantissa m is exact in
+ * x87 extended precision (64-bit significand), and so is 10^k for k <= 27,
+ * so m * 10^k or m / 10^k is one correctly rounded extended operation.
+ * Rounding that to double is then correct unless the extended result lies
+ * within one extended ulp of a midpoint between two doubles; such rare
+ * cases, and everything outside the fast range, go to strtod. */
+static int parse_double_fast(int negative, uint64_t m, int e10, double *out)
+{
+#if defined(__LDBL_MANT_DIG__) && __LDBL_MANT_DIG__ == 64
+    static const long double pow10[] = {
+        1e0L,  1e1L,  1e2L,  1e3L,  1e4L,  1e5L,  1e6L,  1e7L,  1e8L,  1e9L,
+        1e10L, 1e11L, 1e12L, 1e13L, 1e14L, 1e15L, 1e16L, 1e17L, 1e18L, 1e19L,
+        1e20L, 1e21L, 1e22L, 1e23L, 1e24L, 1e25L, 1e26L, 1e27L};
+    if (m == 0) {
+        *out = negative ? -0.0 : 0.0;
+        return 0;
+    }
+    if (e10 < -27 || e10 > 27) return -1;
+    long double v = e10 >= 0 ? (long double)m * pow10[e10] : (long double)m / pow10[-e10];
+    double d = (double)v;
+    if (!(fabs(d) >= DBL_MIN) || !isfinite(d)) return -1;
+    /* the double spacing on v's side of d (it halves below a power of 2) */
+    long double ulp = fabsl((long double)nextafter(d, v > d ? INFINITY : -INFINITY) - (long double)d);
+    long double off = fabsl(v - (long double)d);
+    if (fabsl(off - ulp / 2) <= ulp * 0x1p-10L) return -1;
+    *out = negative ? -d : d;
+    return 0;
+#else
+    (void)negative, (void)m, (void)e10, (void)out;
+    return -1;
+#endif
+}
+
+int lam_parse_double(const char *tok, double *out)
+{
+    const char *c = tok;
+    int negative = 0, digits = 0, significant = 0, e10 = 0;
+    uint64_t m = 0;
+    if (*c == '+' || *c == '-') negative = *c++ == '-';
+    for (; *c >= '0' && *c <= '9'; ++c, ++digits) {
+        if (significant || *c != '0') {
+            if (significant < 19) m = 10 * m + (uint64_t)(*c - '0');
+            else ++e10;
+            ++significant;
+        }
+    }
+    if (*c == '.')
+        for (++c; *c >= '0' && *c <= '9'; ++c, ++digits) {
+            if (significant || *c != '0') {
+                if (significant < 19) {
+                    m = 10 * m + (uint64_t)(*c - '0');
+                    --e10;
+                }
+                ++significant;
+            } else {
+                --e10;
+            }
+        }
+    if (digits == 0) return -1;
+    if (*c == 'e' || *c == 'E' || *c == 'd' || *c == 'D') {
+        ++c;
+        int eneg = 0, edigits = 0;
+        long ev = 0;
+        if (*c == '+' || *c == '-') eneg = *c++ == '-';
+        for (; *c >= '0' && *c <= '9'; ++c, ++edigits)
+            if (ev < 100000) ev = 10 * ev + (*c - '0');
+        if (edigits == 0) return -1;
+        e10 += (int)(eneg ? -ev : ev);
+    }
+    if (*c != '\0') return -1; /* nan, inf, hex, trailing junk */
+    if (significant <= 19 && parse_double_fast(negative, m, e10, out) == 0) return 0;
+    return parse_double_strtod(tok, (size_t)(c - tok), out);
 }
 
 int lam_parse_long(const char *tok, long *out)
