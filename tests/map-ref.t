@@ -60,11 +60,8 @@ for name in ("h2", "h3plus", "h4chain", "lih", "hf"):
         if order == "blocked" and name not in ("h4chain", "lih"):
             continue
         H_ref = refops.fermion_hamiltonian(norb, e0, h, g, order)
-        if order == "interleaved" and energies["frozen"] == 0:
-            # psi4 FCI energy (psi4 is the reference here).  Not for frozen
-            # core: psi4's fcidump() leaves out one-body integrals of the last
-            # active orbitals then (see /work/briefs/requests.md), so its FCIDUMP
-            # and its FCI energy describe different operators.
+        if order == "interleaved":
+            # psi4 FCI energy (psi4 is the reference here)
             e_ref = refops.sector_ground(H_ref, nmodes, nelec)
             t.near(e_ref, energies["fci"], 1e-8,
                    "%s: numpy ground state of the reference in the %d-electron sector = "
