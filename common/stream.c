@@ -431,6 +431,7 @@ int lam_reader_next(lam_reader *r, lam_line *out)
 static lam_kind kind_of_field(const char *f)
 {
     size_t n = strlen(f);
+    if ((f[0] == 'U' || f[0] == 'R') && f[1] == '\0') return LAM_KIND_FRAGMENTS;
     if (f[0] == 'X' || f[0] == 'Y' || f[0] == 'Z' || f[0] == '@') return LAM_KIND_PAULI;
     if (n > 1 && (f[n - 1] == '+' || f[n - 1] == '-')) return LAM_KIND_FERMION;
     if (isdigit((unsigned char)f[0])) return LAM_KIND_SPINFREE;

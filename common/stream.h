@@ -70,7 +70,8 @@ long lam_reader_lineno(const lam_reader *r);
 /* Metadata read so far (header, plus any #% lines met between terms). */
 lam_meta *lam_reader_meta(lam_reader *r);
 /* The kind: from "#% kind:", else the forced kind, else inferred from the
- * first term (X0/Y1/Z2 -> pauli, 3+/0- -> fermion, integers -> spinfree).
+ * first term (X0/Y1/Z2 -> pauli, 3+/0- -> fermion, integers -> spinfree,
+ * U or R -> fragments).
  * A forced kind that contradicts the header is an error (exit 65). */
 void lam_reader_force_kind(lam_reader *r, lam_kind kind);
 lam_kind lam_reader_kind(lam_reader *r);

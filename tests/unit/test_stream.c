@@ -116,6 +116,11 @@ int main(void)
     tap_ok(lam_reader_kind(r) == LAM_KIND_SPINFREE, "spinfree kind inferred");
     lam_reader_close(r);
 
+    write_file("-1.5\n1 U 0 0 0\n0.25 R 0 1a\n");
+    r = lam_reader_open(path);
+    tap_ok(lam_reader_kind(r) == LAM_KIND_FRAGMENTS, "fragments kind inferred from U/R");
+    lam_reader_close(r);
+
     /* Metadata editing. */
     lam_meta m;
     lam_meta_init(&m);
