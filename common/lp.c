@@ -503,7 +503,11 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
         dual = dual_value(p, s.y);
         res->iterations = it;
         if (monitor) monitor(it, primal, dual, ctx);
-        if (primal - dual <= fmax(opt->rel_gap * fabs(opt->offset + primal), floor_gap)) {
+        double tol = fmax(opt->rel_gap * fabs(opt->offset + primal), floor_gap);
+        /* c.y of the iterate is a bound only up to its dual residual; stop
+         * when the certified bound (y made exactly feasible) is close enough */
+        if (primal - dual <= tol &&
+            primal - certified_dual(p, &nm, s.y, s.tmp, s.rk) <= tol) {
             status = 0;
             break;
         }
