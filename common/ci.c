@@ -549,10 +549,12 @@ double lam_ci_det_element(const lam_spinfree *sf, uint64_t a1, uint64_t b1, uint
 size_t lam_ci_scratch_bytes(size_t dim)
 {
     /* D and G of a few alpha strings stay in the second-level cache, which
-     * makes the gather and scatter loops run at cache speed; the matrix
-     * product is still wide enough (one row a determinant of the batch) */
-    (void)dim;
-    return (size_t)4 << 20;
+     * makes the gather and scatter loops run at cache speed while the
+     * matrix product stays wide (a row per determinant of the batch); two
+     * vectors' worth at most, so that small sectors stay small (a batch is
+     * never less than one alpha string) */
+    size_t cap = (size_t)4 << 20, two = dim > SIZE_MAX / 16 ? SIZE_MAX : 16 * dim;
+    return two < cap ? two : cap;
 }
 
 size_t lam_ci_solve_bytes(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *tmpl)

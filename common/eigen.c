@@ -14,14 +14,14 @@ void lam_eigen_defaults(lam_eigen_problem *p)
     memset(p, 0, sizeof *p);
     p->tol = 1e-9;
     p->max_iter = 400;
-    p->max_subspace = 16;
+    p->max_subspace = 8;
     p->dense_limit = 300;
 }
 
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit)
 {
     if (dim <= dense_limit) return lam_mul_size(lam_mul_size(dim, dim + 3), sizeof(double));
-    size_t vectors = 2 * (size_t)max_subspace + 5;
+    size_t vectors = 2 * (size_t)(max_subspace < 4 ? 4 : max_subspace) + 4;
     return lam_mul_size(lam_mul_size(dim, vectors), sizeof(double));
 }
 
@@ -209,12 +209,14 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     s.T = lam_calloc((size_t)cap * cap, sizeof(double));
     double *x = lam_malloc(dim * sizeof(double)), *ax = lam_malloc(dim * sizeof(double));
     double *r = lam_malloc(dim * sizeof(double)), *t = lam_malloc(dim * sizeof(double));
-    double *prev = lam_malloc(dim * sizeof(double)), *aprev = lam_malloc(dim * sizeof(double));
     double *y = lam_malloc((size_t)cap * sizeof(double));
+    /* the previous Ritz vector as coefficients over V, so that a restart
+     * can rebuild it without two more vectors held */
+    double *yprev = lam_malloc((size_t)cap * sizeof(double));
+    int mprev = 0;
     double *work = lam_malloc((size_t)cap * (cap + 1) * sizeof(double));
     double *ov = lam_malloc((size_t)cap * sizeof(double));
     double sign = op->sign;
-    int have_prev = 0;
     double theta = 0, rnorm = INFINITY;
 
     start_vector(dim, p->diag, sign, t);
@@ -236,16 +238,20 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
                      p->label ? ": " : "", s.applied, sign * theta, rnorm);
         if (rnorm <= p->tol || s.applied >= p->max_iter) break;
         if (s.m == cap) {
-            if (!have_prev) {
-                memcpy(prev, x, dim * sizeof(double));
-                memcpy(aprev, ax, dim * sizeof(double));
+            /* r and t are free here: they carry the previous Ritz pair */
+            if (mprev > 0) {
+                combine(dim, mprev, s.V, yprev, t);
+                combine(dim, mprev, s.AV, yprev, r);
+            } else {
+                memcpy(t, x, dim * sizeof(double));
+                memcpy(r, ax, dim * sizeof(double));
             }
-            restart(&s, x, ax, prev, aprev);
+            restart(&s, x, ax, t, r);
+            mprev = 0;
             continue;
         }
-        memcpy(prev, x, dim * sizeof(double));
-        memcpy(aprev, ax, dim * sizeof(double));
-        have_prev = 1;
+        memcpy(yprev, y, (size_t)s.m * sizeof(double));
+        mprev = s.m;
         olsen_correction(dim, p->diag, sign, theta, x, r, t);
         double nrm = orthonormalize(dim, s.m, s.V, t, ov);
         if (!(nrm > 1e-14)) {
@@ -268,8 +274,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     free(ax);
     free(r);
     free(t);
-    free(prev);
-    free(aprev);
+    free(yprev);
     free(y);
     free(work);
     free(ov);

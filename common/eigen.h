@@ -27,7 +27,7 @@ typedef struct {
     const double *diag;   /* dim diagonal elements (required) */
     double tol;           /* converged when |r| <= tol */
     int max_iter;         /* operator applications, e.g. 500 */
-    int max_subspace;     /* Davidson vectors kept, >= 4 */
+    int max_subspace;     /* Davidson vectors kept (at least 4 are used) */
     int highest;          /* 1: the highest eigenvalue, 0: the lowest */
     size_t dense_limit;   /* solve densely up to this dimension */
     const char *label;    /* progress label, may be NULL */
@@ -40,9 +40,10 @@ typedef struct {
     int converged;    /* residual <= tol */
 } lam_eigen_result;
 
-/* Fill defaults: tol 1e-9, max_iter 400, max_subspace 16, dense_limit 300. */
+/* Fill defaults: tol 1e-9, max_iter 400, max_subspace 8, dense_limit 300. */
 void lam_eigen_defaults(lam_eigen_problem *p);
-/* Bytes of working storage (beyond the diagonal) the solver allocates. */
+/* Bytes of working storage (beyond the diagonal) the solver allocates:
+ * 2 max_subspace + 4 vectors, or the dense matrix. */
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit);
 /* Solve; vec (may be NULL) receives the final unit vector. */
 void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res,

@@ -178,6 +178,7 @@ typedef struct {
     int mirror_of;     /* index of the entry whose values it copies, or -1 */
     int skipped;       /* --multiplets: not solved */
     int use_bounds;
+    int subspace;      /* Davidson vectors that fit the memory */
     size_t dim, bytes;
     double lo, hi, res_lo, res_hi;
     int exact_lo, exact_hi;
@@ -305,7 +306,12 @@ static void solve_spinfree(plan *p, const lam_spinfree *sf, const options *o)
             lam_fail(LAM_EX_USAGE, "sector (%d,%d) does not exist: %d orbitals hold at most %d electrons of each spin",
                      e->na, e->nb, sf->n, sf->n);
         e->dim = lam_ci_sector_dim(sf->n, e->na, e->nb);
-        e->bytes = lam_ci_solve_bytes(h, e->na, e->nb, &t);
+        /* fewer Davidson vectors (more iterations) before refusing */
+        for (e->subspace = 8; e->subspace >= 4; --e->subspace) {
+            t.max_subspace = e->subspace;
+            e->bytes = lam_ci_solve_bytes(h, e->na, e->nb, &t);
+            if (e->subspace == 4 || (e->bytes != SIZE_MAX && base + (double)e->bytes <= o->max_memory)) break;
+        }
     }
     check_memory(p, base, o);
     for (int i = 0; i < p->count; ++i) {
@@ -321,6 +327,7 @@ static void solve_spinfree(plan *p, const lam_spinfree *sf, const options *o)
         }
         lam_eigen_result lo, hi;
         t.label = label;
+        t.max_subspace = e->subspace;
         lam_ci_solve(h, e->na, e->nb, &t, o->want_low ? &lo : NULL, o->want_high ? &hi : NULL);
         take_results(e, &lo, &hi, o);
     }
@@ -405,7 +412,11 @@ static void solve_generic(plan *p, const lam_fockop *op, const conservation *c, 
             lam_fail(LAM_EX_USAGE, "sector (%d,%d) does not exist: %d qubits hold at most %d electrons of each spin",
                      e->na, e->nb, op->nqubits, op->nqubits / 2);
         e->dim = lam_fock_sector_dim(op, &s);
-        e->bytes = lam_fock_solve_bytes(op, &s, &t);
+        for (e->subspace = 8; e->subspace >= 4; --e->subspace) {
+            t.max_subspace = e->subspace;
+            e->bytes = lam_fock_solve_bytes(op, &s, &t);
+            if (e->subspace == 4 || (e->bytes != SIZE_MAX && base + (double)e->bytes <= o->max_memory)) break;
+        }
     }
     check_memory(p, base, o);
     for (int i = 0; i < p->count; ++i) {
@@ -423,6 +434,7 @@ static void solve_generic(plan *p, const lam_fockop *op, const conservation *c, 
         }
         lam_eigen_result lo, hi;
         t.label = label;
+        t.max_subspace = e->subspace;
         lam_fock_solve(op, &s, &t, o->want_low ? &lo : NULL, o->want_high ? &hi : NULL);
         take_results(e, &lo, &hi, o);
     }
