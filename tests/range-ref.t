@@ -157,4 +157,18 @@ tap.ok(b[0] >= exact[0] - 1e-12 and b[1] <= exact[1] + 1e-12,
        "h2o (4,4): bounds [%.6f, %.6f] inside the exact range [%.6f, %.6f]" % (b[0], b[1], exact[0], exact[1]))
 tap.ok(b[0] - exact[0] < 0.05, "h2o (4,4): the Rayleigh-Ritz lowest is within 50 mEh of the exact one")
 
+# the same for the generic path (a Jordan-Wigner pauli stream)
+fcid, _ = molecules.reference("lih")
+pauli = lamtest.run("lam-map", [], stdin=ints(fcid), check=True)[1]
+exact = sectors(lam_range(pauli, "--sector", "1,1"))[(1, 1)]
+bound = lam_range(pauli, "--sector", "1,1", "--bounds", "--max-memory", "1K", "--bound-subspace", "20")
+b = sectors(bound)[(1, 1)]
+tap.ok(b[2] == "bound" and b[0] >= exact[0] - 1e-12 and b[1] <= exact[1] + 1e-12,
+       "lih pauli (1,1): bounds [%.6f, %.6f] inside the exact range [%.6f, %.6f]" % (b[0], b[1], exact[0], exact[1]))
+full = lam_range(pauli, "--bounds", "--max-memory", "1K", "--bound-subspace", "20")
+ref_full = lam_range(pauli)
+tap.ok(full.get("fock_min", -1e9) >= ref_full["fock_min"] - 1e-12 and
+       full.get("fock_max", 1e9) <= ref_full["fock_max"] + 1e-12 and full.get("status") == "bound",
+       "lih pauli, every sector bounded: fock_min/fock_max inside the exact Fock range")
+
 tap.done()
