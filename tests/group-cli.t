@@ -1,0 +1,127 @@
+#!/bin/bash
+# lam-group on the command line: good input, bad input, exit codes.
+#
+# Reference values: the Jordan-Wigner Hamiltonian of H2/STO-3G at 0.7414 A
+# (interleaved spin order) from /work/shared/reference/facts.md (widely
+# published, from memory).  Its only anticommuting pairs are a single Z
+# with an XXYY-type term (common practice: two strings anticommute when
+# they differ on an odd number of qubits where both act), and the XXYY-type
+# terms commute with each other, so the best grouping pairs each Z_i with
+# one XXYY-type term and leaves the six ZZ terms alone.
+source "$(dirname "$0")/lib/tap.sh"
+
+H2="$TMP/h2.pauli"
+cat >"$H2" <<'EOF'
+#% lamina-op 1
+#% kind: pauli
+#% qubits: 4
+-0.0988639698
+0.1711977490 Z0
+0.1711977490 Z1
+-0.2227859302 Z2
+-0.2227859302 Z3
+0.1686221916 Z0 Z1
+0.1743484418 Z2 Z3
+0.1205448220 Z0 Z2
+0.1205448220 Z1 Z3
+0.1658670241 Z0 Z3
+0.1658670241 Z1 Z2
+-0.0453222021 X0 X1 Y2 Y3
+-0.0453222021 Y0 Y1 X2 X3
+0.0453222021 X0 Y1 Y2 X3
+0.0453222021 Y0 X1 X2 Y3
+#% end
+EOF
+want=$(awk 'BEGIN { a = 0.1711977490; b = 0.2227859302; x = 0.0453222021
+  printf "%.10f", 2 * sqrt(a*a + x*x) + 2 * sqrt(b*b + x*x) + 0.1686221916 + 0.1743484418 + 2 * 0.1205448220 + 2 * 0.1658670241 }')
+
+runlam lam-group --help
+is "$RC" 0 "--help exits 0"
+like "$OUT" "Eh" "--help names the unit"
+like "$OUT" "Example" "--help has an example"
+runlam lam-group --version
+is "$RC" 0 "--version exits 0"
+
+runlam lam-group "$H2"
+is "$RC" 0 "groups the H2 Hamiltonian"
+is "$(printf '%s\n' "$ERR" | report_get groups)" 10 "H2: 10 groups (4 pairs, 6 single ZZ)"
+near "$(printf '%s\n' "$ERR" | report_get lambda_grouped)" "$want" 1e-9 "H2: lambda_grouped of the best pairing"
+near "$(printf '%s\n' "$ERR" | report_get lambda)" 1.8850504923 1e-9 "H2: lambda as published"
+like "$OUT" "grouping: anticommuting" "header says how it is grouped"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | head -1)" "-0.098863969800000007" "identity first, unlabelled"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | grep -vc '@[0-9]*$')" 1 "every other term labelled"
+is "$(printf '%s\n' "$OUT" | tail -1)" "#% end" "stream closed"
+printf '%s\n' "$OUT" >"$TMP/h2.g"
+
+runlam lam-group --check "$TMP/h2.g"
+is "$RC" 0 "--check accepts lam-group's output"
+near "$(printf '%s\n' "$OUT" | report_get lambda_grouped)" "$want" 1e-9 "--check reports the same lambda_grouped"
+
+# Z0 and Z1 commute: put them in one group
+awk '/ Z0 @/ { sub(/@[0-9]+$/, "@4") } / Z1 @/ { sub(/@[0-9]+$/, "@4") } { print }' "$TMP/h2.g" >"$TMP/bad.g"
+zline=$(grep -n ' Z1 @' "$TMP/bad.g" | cut -d: -f1)
+runlam lam-group --check "$TMP/bad.g"
+is "$RC" 65 "--check: a commuting pair is exit 65"
+like "$ERR" "^lam-group: .*bad.g:$zline: group 4: 'Z1' commutes with 'Z0'" "--check names the pair and the line"
+
+runlam lam-group --check --tsv "$TMP/h2.g"
+is "$(printf '%s\n' "$OUT" | wc -l)" 2 "--tsv: header row and value row"
+
+runlam lam-group -o "$TMP/out.g" -z --report "$TMP/rep" "$H2"
+is "$RC" 0 "-o, -z and --report"
+is "$(zcat "$TMP/out.g" | tail -1)" "#% end" "-z writes gzip"
+is "$(report_get groups <"$TMP/rep")" 10 "--report writes the report to a file"
+runlam lam-group --check "$TMP/out.g"
+is "$RC" 0 "gzip input read back"
+
+a=$(lam lam-group "$H2" 2>/dev/null | md5sum)
+b=$(lam lam-group "$H2" 2>/dev/null | md5sum)
+is "$a" "$b" "same input, same output"
+
+runlam lam-group --commuting "$H2"
+is "$RC" 0 "--commuting"
+like "$OUT" "grouping: commuting" "--commuting header"
+# the Z terms all commute, the XXYY-type terms too: two groups suffice
+is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "--commuting: Z strings and XXYY strings"
+printf '%s\n' "$OUT" >"$TMP/c.g"
+runlam lam-group --check "$TMP/c.g"
+is "$RC" 0 "--check reads the grouping from the header"
+
+for m in sorted best; do
+    runlam lam-group -m "$m" -r 0 --no-split "$H2"
+    near "$(printf '%s\n' "$ERR" | report_get lambda_grouped)" "$want" 1e-9 "--method $m"
+done
+
+# bad input
+runlam lam-group --method fastest "$H2"
+is "$RC" 64 "unknown method: exit 64"
+runlam lam-group --bogus
+is "$RC" 64 "unknown option: exit 64"
+runlam lam-group "$H2" "$H2"
+is "$RC" 64 "two inputs: exit 64"
+runlam lam-group "$TMP/missing"
+is "$RC" 66 "missing file: exit 66"
+printf '#%% lamina-op 1\n#%% kind: spinfree\n1.0 0 0\n#%% end\n' >"$TMP/sf"
+runlam lam-group "$TMP/sf"
+is "$RC" 65 "spinfree input: exit 65"
+like "$ERR" "pauli" "says what it wants"
+printf '0.5 X0\n0.25 Q1\n' >"$TMP/badletter"
+runlam lam-group "$TMP/badletter"
+is "$RC" 65 "unknown letter: exit 65"
+like "$ERR" "badletter:2:" "names the line"
+printf '#%% lamina-op 1\n#%% kind: pauli\n0.5 X0\n' >"$TMP/trunc"
+runlam lam-group "$TMP/trunc"
+is "$RC" 65 "truncated stream: exit 65"
+printf '0.5 X0\nnan Z1\n' >"$TMP/nan"
+runlam lam-group "$TMP/nan"
+is "$RC" 65 "NaN coefficient: exit 65"
+
+# header-less input on stdin, already labelled input re-grouped
+runlam_in $'0.5 X0 @7\n0.5 Z0 @9\n0.25 Z1\n' lam-group
+is "$RC" 0 "stdin without header"
+is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "old labels replaced: X0 with Z0, Z1 alone"
+runlam_in $'0.5 X0 @1\n0.5 Z0 @1\n0.25 Z1 @1\n' lam-group --check
+is "$RC" 65 "--check on stdin without qubits: exit 65"
+like "$ERR" "<stdin>.*term 3 'Z1'" "names the term by position without a qubits line"
+
+done_testing
