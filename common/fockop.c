@@ -2,6 +2,7 @@
 #include "fockop.h"
 
 #include <math.h>
+#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -259,14 +260,24 @@ static double diagonal_of(const lam_fockop *op, uint64_t b)
 }
 
 /* y = H x in the real form: x, y of length dim (real operator) or 2 dim
- * (real part, then imaginary part). */
-static void fock_apply(void *ctx, const double *x, double *y)
+ * (real part, then imaginary part); rows [lo, hi). */
+typedef struct {
+    sector_index *ix;
+    const double *x;
+    double *y;
+    size_t lo, hi;
+} apply_range;
+
+static void *apply_rows(void *arg)
 {
-    sector_index *ix = ctx;
+    apply_range *a = arg;
+    sector_index *ix = a->ix;
     const lam_fockop *op = ix->op;
+    const double *x = a->x;
+    double *y = a->y;
     size_t dim = ix->dim;
     int cplx = op->is_complex;
-    for (size_t i = 0; i < dim; ++i) {
+    for (size_t i = a->lo; i < a->hi; ++i) {
         uint64_t b = state_at(ix, i);
         double yr = 0, yi = 0;
         for (size_t f = 0; f < op->nflip; ++f) {
@@ -285,6 +296,43 @@ static void fock_apply(void *ctx, const double *x, double *y)
         y[i] = yr;
         if (cplx) y[dim + i] = yi;
     }
+    return NULL;
+}
+
+static int fock_threads = 1;
+
+void lam_fockop_set_threads(int threads)
+{
+    fock_threads = threads < 1 ? 1 : threads > 64 ? 64 : threads;
+}
+
+/* Rows are independent (each y_i is written once), so threads split them. */
+static void fock_apply(void *ctx, const double *x, double *y)
+{
+    sector_index *ix = ctx;
+    size_t dim = ix->dim;
+    int nt = fock_threads;
+    if ((size_t)nt > dim) nt = (int)dim;
+    if (nt <= 1) {
+        apply_range a = {ix, x, y, 0, dim};
+        apply_rows(&a);
+        return;
+    }
+    pthread_t tid[64];
+    apply_range a[64];
+    size_t step = (dim + (size_t)nt - 1) / (size_t)nt;
+    for (int t = 0; t < nt; ++t) {
+        size_t lo = (size_t)t * step, hi = lo + step < dim ? lo + step : dim;
+        a[t] = (apply_range){ix, x, y, lo < dim ? lo : dim, hi};
+        tid[t] = 0;
+        if (t > 0 && pthread_create(&tid[t], NULL, apply_rows, &a[t]) != 0) {
+            apply_rows(&a[t]); /* no thread to be had: do it here */
+            tid[t] = 0;
+        }
+    }
+    apply_rows(&a[0]);
+    for (int t = 1; t < nt; ++t)
+        if (tid[t]) pthread_join(tid[t], NULL);
 }
 
 size_t lam_fock_solve_bytes(const lam_fockop *op, const lam_fock_sector *sec,

@@ -56,6 +56,9 @@ typedef struct {
 
 /* Dimension (strings), SIZE_MAX when not addressable. */
 size_t lam_fock_sector_dim(const lam_fockop *op, const lam_fock_sector *sec);
+/* Threads for the operator products (default 1). */
+void lam_fockop_set_threads(int threads);
+
 /* Bytes an exact solve allocates. */
 size_t lam_fock_solve_bytes(const lam_fockop *op, const lam_fock_sector *sec,
                             const lam_eigen_problem *tmpl);

@@ -37,8 +37,8 @@ static _Noreturn void usage(void)
            "      --bound-subspace K  determinants in that Rayleigh-Ritz (default 200)\n"
            "      --multiplets     spinfree input: per electron number solve only the\n"
            "                       sector of smallest |Sz| (enough for every extreme)\n"
-           "      --threads T      threads for the matrix products (OpenBLAS) and the CI\n"
-           "                       loops (default: 1 for the loops, OpenBLAS's default)\n"
+           "      --threads T      threads for the matrix products (OpenBLAS) and for the\n"
+           "                       CI and Pauli loops (default: 1 for the loops)\n"
            "      --kind K         kind of a stream without header (spinfree, fermion, pauli)\n"
            "      --progress       progress on stderr even when it is not a terminal\n"
            "      --quiet          no progress\n"
@@ -628,6 +628,7 @@ int main(int argc, char **argv)
     if (o.threads) {
         openblas_set_num_threads(o.threads);
         lam_ci_set_threads(o.threads);
+        lam_fockop_set_threads(o.threads);
     }
     lam_reader *r = lam_reader_open(o.input);
     if (o.kind) lam_reader_force_kind(r, o.kind);
