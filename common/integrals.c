@@ -65,14 +65,15 @@ void lam_boys(int mmax, double t, double *f)
          * F_m(t_i - d) = sum_k F_{m+k}(t_i) d^k / k!, |d| <= 1/64, so 7
          * terms leave a relative error below 1e-16 */
         int i = (int)(t * (1.0 / BOYS_STEP) + 0.5);
-        double d = i * BOYS_STEP - t, c[BOYS_TAYLOR];
-        c[0] = 1.0;
-        for (int k = 1; k < BOYS_TAYLOR; ++k) c[k] = c[k - 1] * d / k;
+        double d = i * BOYS_STEP - t;
+        /* Horner form with d/k, the reciprocals written out so that no
+         * division is left */
+        double d2 = d * 0.5, d3 = d * (1.0 / 3), d4 = d * 0.25, d5 = d * 0.2,
+               d6 = d * (1.0 / 6);
         const double *row = boys_table[i];
         for (int m = 0; m <= mmax; ++m) {
-            double fm = 0.0;
-            for (int k = BOYS_TAYLOR - 1; k >= 0; --k) fm += row[m + k] * c[k];
-            f[m] = fm;
+            const double *r = row + m;
+            f[m] = r[0] + d * (r[1] + d2 * (r[2] + d3 * (r[3] + d4 * (r[4] + d5 * (r[5] + d6 * r[6])))));
         }
     } else {
         /* upward recursion is stable once t exceeds the order */
