@@ -157,7 +157,9 @@ static void check_orbital_space(const options *o, const lam_scf *s, int *active)
 static void check_memory(const options *o, int nbf, int active)
 {
     double n2 = 0.5 * nbf * (nbf + 1.0), m2 = 0.5 * active * (active + 1.0);
-    double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + (double)lam_spinfree_bytes(active);
+    /* SCF data, half-transformed and MO pair matrices, the dense operator */
+    double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + 8.0 * m2 * m2 +
+                   (double)lam_spinfree_bytes(active);
     double mb = bytes / (1024.0 * 1024.0);
     if (mb > o->max_memory_mb)
         lam_fail(LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.0f MB, "
