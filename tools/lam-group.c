@@ -157,22 +157,22 @@ static void describe_term(char *buf, size_t size, const lam_pauli_set *s, size_t
         snprintf(buf, size, "(identity)");
 }
 
-static _Noreturn void fail_pair(lam_reader *r, const lam_pauli_set *s, const long *lines,
-                                size_t a, size_t b, int commuting)
+/* Describe the offending pair (and where it is) in msg. */
+static long describe_pair(char *msg, size_t size, const lam_pauli_set *s, const long *lines,
+                          size_t a, size_t b, int commuting)
 {
-    size_t size = (size_t)s->nqubits * 10 + 32;
-    if (size > 400) size = 400;
-    char *sa = lam_malloc(size), *sb = lam_malloc(size);
-    describe_term(sa, size, s, a);
-    describe_term(sb, size, s, b);
+    char sa[200], sb[200];
+    describe_term(sa, sizeof sa, s, a);
+    describe_term(sb, sizeof sb, s, b);
     const char *verb = commuting ? "anticommutes" : "commutes";
-    if (lines)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), lines[b],
-                    "group %d: '%s' %s with '%s' of line %ld", (int)s->group[b], sb, verb, sa,
-                    lines[a]);
-    lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                "group %d: term %zu '%s' %s with term %zu '%s' (terms counted from 1)",
-                (int)s->group[b], b + 1, sb, verb, a + 1, sa);
+    if (lines) {
+        snprintf(msg, size, "group %d: '%s' %s with '%s' of line %ld", (int)s->group[b], sb, verb,
+                 sa, lines[a]);
+        return lines[b];
+    }
+    snprintf(msg, size, "group %d: term %zu '%s' %s with term %zu '%s' (terms counted from 1)",
+             (int)s->group[b], b + 1, sb, verb, a + 1, sa);
+    return 0;
 }
 
 static int run_check(const options *o)
@@ -183,7 +183,14 @@ static int run_check(const options *o)
     lam_pauli_set s;
     long *lines = read_with_lines(r, &s);
     size_t a, b;
-    if (lam_group_check(&s, commuting, &a, &b)) fail_pair(r, &s, lines, a, b, commuting);
+    if (lam_group_check(&s, commuting, &a, &b)) {
+        char msg[600], *name = lam_strdup(lam_reader_name(r));
+        long line = describe_pair(msg, sizeof msg, &s, lines, a, b, commuting);
+        free(lines);
+        lam_pauli_set_free(&s);
+        lam_reader_close(r);
+        lam_fail_at(LAM_EX_DATA, name, line, "%s", msg);
+    }
 
     lam_pauli_set_merge(&s, 0);
     size_t groups = 0;
