@@ -122,6 +122,6 @@ is "$RC" 0 "stdin without header"
 is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "old labels replaced: X0 with Z0, Z1 alone"
 runlam_in $'0.5 X0 @1\n0.5 Z0 @1\n0.25 Z1 @1\n' lam-group --check
 is "$RC" 65 "--check on stdin without qubits: exit 65"
-like "$ERR" "<stdin>.*term 3 'Z1'" "names the term by position without a qubits line"
+like "$ERR" "<stdin>:3: group 1: 'Z1' commutes with 'X0' of line 1" "names both lines, also without a qubits line"
 
 done_testing

@@ -119,36 +119,6 @@ static int stream_is_commuting(lam_reader *r, int forced)
 
 /* ---------------------------------------------------------------- check */
 
-/* Terms with the line each came from.  With "qubits:" declared the lines
- * are read here; without it the reader must widen as it goes, and terms
- * are named by their position instead. */
-static long *read_with_lines(lam_reader *r, lam_pauli_set *s)
-{
-    long declared = lam_reader_meta_long(r, "qubits", -1, 0, 1L << 24);
-    if (declared < 0) {
-        lam_pauli_read(r, s);
-        return NULL;
-    }
-    lam_pauli_set_init(s, (int)declared);
-    int nw = s->nwords;
-    uint64_t *scratch = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
-    size_t cap = 1024;
-    long *lines = lam_malloc(lam_mul_size(cap, sizeof *lines));
-    lam_line ln;
-    while (lam_reader_next(r, &ln)) {
-        int32_t group;
-        lam_pauli_parse_fields(r, &ln, (int)declared, nw, scratch, scratch + nw, &group);
-        if (s->count == cap) {
-            cap = lam_mul_size(cap, 2);
-            lines = lam_realloc(lines, lam_mul_size(cap, sizeof *lines));
-        }
-        lines[s->count] = ln.line;
-        lam_pauli_set_add(s, scratch, scratch + nw, ln.coef, group);
-    }
-    free(scratch);
-    return lines;
-}
-
 static void describe_term(char *buf, size_t size, const lam_pauli_set *s, size_t t)
 {
     if (lam_pauli_format(buf, size, s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t)) < 0)
@@ -181,7 +151,8 @@ static int run_check(const options *o)
     require_pauli(r);
     int commuting = stream_is_commuting(r, o->group.commuting);
     lam_pauli_set s;
-    long *lines = read_with_lines(r, &s);
+    long *lines = NULL;
+    lam_pauli_read_lines(r, &s, &lines);
     size_t a, b;
     if (lam_group_check(&s, commuting, &a, &b)) {
         char msg[600], *name = lam_strdup(lam_reader_name(r));
