@@ -43,6 +43,7 @@ is "$ERR" "" "--quiet leaves stderr empty"
 
 OUT2=$(lam lam-cost -q < "$TMP/h2.pauli")
 is "$OUT2" "$(lam lam-cost -q "$TMP/h2.pauli")" "stdin and file give the same report"
+is "$(lam lam-cost -q <(cat "$TMP/h2.pauli"))" "$OUT2" "a pipe given by name, <(...)"
 gzip -c "$TMP/h2.pauli" > "$TMP/h2.pauli.gz"
 is "$(lam lam-cost -q < "$TMP/h2.pauli.gz")" "$OUT2" "gzip stream on stdin"
 
@@ -137,6 +138,11 @@ runlam lam-cost "$TMP/h2.pauli" "$TMP/h2.pauli"
 is "$RC" 64 "two inputs: exit 64"
 runlam lam-cost "$TMP/does-not-exist"
 is "$RC" 66 "missing file: exit 66"
+like "$ERR" "^lam-cost: cannot open .*does-not-exist" "names the missing file"
+runlam lam-cost "$TMP"
+is "$RC" 66 "a directory: exit 66"
+runlam lam-cost "$TMP/sf.op"
+like "$ERR" "^lam-cost: [^ ]*sf.op:4: lam-cost reads pauli or fragments" "wrong kind: file:line and reason"
 runlam lam-cost --error 1e-300 "$TMP/h2.pauli"
 is "$RC" 65 "walk steps past 2^53: exit 65"
 

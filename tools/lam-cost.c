@@ -2,6 +2,7 @@
  * estimation from a pauli stream, a fragments stream or a lam-norm report. */
 #include <errno.h>
 #include <fcntl.h>
+#include <sys/stat.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -139,6 +140,15 @@ static void spool_stdin(void)
     close(fd);
 }
 
+/* Inputs given by name are read twice only when they are regular files. */
+static int is_regular_file(const char *path, const char *name)
+{
+    struct stat st;
+    if (stat(path, &st) != 0) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
+    if (S_ISDIR(st.st_mode)) lam_fail(LAM_EX_NOINPUT, "cannot read %s: it is a directory", name);
+    return S_ISREG(st.st_mode);
+}
+
 static int looks_like_report(const char *path, const char *name)
 {
     int fd = path ? open(path, O_RDONLY) : 0;
@@ -175,8 +185,7 @@ static void summary_from_pauli_stream(lam_reader *r, const options *o, lam_lcu_s
     lam_pauli_set_free(&s);
 }
 
-static void summary_from_stream(const char *path, const char *name, const options *o,
-                                lam_lcu_summary *lcu)
+static void summary_from_stream(const char *path, const options *o, lam_lcu_summary *lcu)
 {
     lam_reader *r = lam_reader_open(path);
     if (o->kind != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, o->kind);
@@ -190,9 +199,9 @@ static void summary_from_stream(const char *path, const char *name, const option
         break;
     }
     default:
-        lam_reader_fail(r, "%s: lam-cost reads pauli or fragments streams, not %s "
+        lam_reader_fail(r, "lam-cost reads pauli or fragments streams, not %s "
                         "(map a spinfree stream with lam-map first)",
-                        name, lam_kind_name(kind));
+                        lam_kind_name(kind));
     }
     lam_reader_close(r);
 }
@@ -284,6 +293,13 @@ int main(int argc, char **argv)
     parse_options(argc, argv, &o);
     const char *path = o.input && strcmp(o.input, "-") != 0 ? o.input : NULL;
     const char *name = path ? path : "<stdin>";
+    if (path && !is_regular_file(path, name)) { /* a pipe such as <(...) */
+        int fd = open(path, O_RDONLY);
+        if (fd < 0 || dup2(fd, 0) < 0)
+            lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
+        close(fd);
+        path = NULL;
+    }
     if (!path) spool_stdin();
 
     lam_lcu_summary lcu;
@@ -291,7 +307,7 @@ int main(int argc, char **argv)
     if (looks_like_report(path, name))
         summary_from_report(path, name, &o, &lcu);
     else
-        summary_from_stream(path, name, &o, &lcu);
+        summary_from_stream(path, &o, &lcu);
 
     lam_cost_estimate est;
     const char *why = NULL;
