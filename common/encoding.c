@@ -150,16 +150,13 @@ void lam_encoding_free(lam_encoding *e)
     free(e);
 }
 
-void lam_encoding_map_majorana(const lam_encoding *e, const lam_majorana_set *m,
-                               lam_pauli_set *out)
+void lam_encoding_each_pauli(const lam_encoding *e, const lam_majorana_set *m,
+                             lam_pauli_visit visit, void *ctx)
 {
     int nw = e->nwords;
     if (m->nmodes != e->nmodes)
         lam_fail(LAM_EX_SOFTWARE, "internal: %d modes against an encoding of %d", m->nmodes,
                  e->nmodes);
-    lam_pauli_set_init(out, e->nmodes);
-    if (out->nwords != nw) lam_fail(LAM_EX_SOFTWARE, "internal: word counts differ");
-    lam_pauli_set_reserve(out, m->count);
     uint64_t *x = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t))), *z = x + nw;
     for (size_t t = 0; t < m->count; ++t) {
         double v = lam_majorana_value(m, t);
@@ -178,7 +175,21 @@ void lam_encoding_map_majorana(const lam_encoding *e, const lam_majorana_set *m,
         k += (degree % 4) >= 2;
         if (k % 2)
             lam_fail(LAM_EX_SOFTWARE, "internal: imaginary Pauli coefficient from a Majorana monomial");
-        lam_pauli_set_add(out, x, z, k % 4 == 0 ? v : -v, -1);
+        visit(ctx, x, z, k % 4 == 0 ? v : -v);
     }
     free(x);
+}
+
+static void add_to_set(void *ctx, const uint64_t *x, const uint64_t *z, double coef)
+{
+    lam_pauli_set_add(ctx, x, z, coef, -1);
+}
+
+void lam_encoding_map_majorana(const lam_encoding *e, const lam_majorana_set *m,
+                               lam_pauli_set *out)
+{
+    lam_pauli_set_init(out, e->nmodes);
+    if (out->nwords != e->nwords) lam_fail(LAM_EX_SOFTWARE, "internal: word counts differ");
+    lam_pauli_set_reserve(out, m->count);
+    lam_encoding_each_pauli(e, m, add_to_set, out);
 }

@@ -63,6 +63,13 @@ static inline const uint64_t *lam_encoding_image_z(const lam_encoding *e, int m)
     return e->images + (size_t)m * 2 * e->nwords + e->nwords;
 }
 
+/* Call visit once for each Pauli string of the monomials of a Hermitian
+ * Majorana set (require_hermitian done), in order, zero coefficients left
+ * out; x and z (e->nwords words each) are valid during the call only. */
+typedef void (*lam_pauli_visit)(void *ctx, const uint64_t *x, const uint64_t *z, double coef);
+void lam_encoding_each_pauli(const lam_encoding *e, const lam_majorana_set *m,
+                             lam_pauli_visit visit, void *ctx);
+
 /* Each monomial of a Hermitian Majorana set (require_hermitian done) to
  * one Pauli string with a real coefficient.  The images are independent,
  * so distinct monomials give distinct strings: nothing to merge.  Terms

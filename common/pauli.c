@@ -507,24 +507,6 @@ double lam_pauli_set_constant(const lam_pauli_set *s)
     return sum;
 }
 
-size_t lam_pauli_set_drop_small(lam_pauli_set *s, double tol, double *norm_removed)
-{
-    size_t kept = 0, dropped = 0;
-    double norm = 0.0;
-    for (size_t t = 0; t < s->count; ++t) {
-        double a = s->coef[t] < 0 ? -s->coef[t] : s->coef[t];
-        if (a <= tol && !lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t))) {
-            ++dropped;
-            norm += a;
-            continue;
-        }
-        move_term(s, kept++, t);
-    }
-    s->count = kept;
-    if (norm_removed) *norm_removed = norm;
-    return dropped;
-}
-
 int lam_pauli_set_max_weight(const lam_pauli_set *s)
 {
     int top = 0;

@@ -72,9 +72,6 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s);
  * non-identity term; *ngroups gets the number of labels (may be NULL).
  * The identity is never counted.  Merge first. */
 double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups);
-/* Remove the non-identity terms with |c| <= tol (order kept); returns how
- * many went and their one-norm in *norm_removed (may be NULL). */
-size_t lam_pauli_set_drop_small(lam_pauli_set *s, double tol, double *norm_removed);
 /* Merge repeated (string, group) pairs by hashing, in order of first
  * appearance; drop exact zeros when drop_zeros. */
 void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);

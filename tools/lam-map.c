@@ -1,5 +1,6 @@
 /* lam-map - spinfree or fermion operator stream to Pauli strings. */
 #include <getopt.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 
@@ -92,14 +93,30 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
-/* Remove small non-identity terms and say what went: nothing silently. */
-static void drop_small(lam_pauli_set *s, double tol, const char *tol_text)
+/* Strings go straight to the output, so no set of them is ever held;
+ * --drop removes small non-identity terms and says what went. */
+typedef struct {
+    lam_writer *w;
+    int nwords;
+    char *buf;
+    size_t size;
+    double drop;
+    size_t kept, dropped;
+    double dropped_norm;
+} writer_ctx;
+
+static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double coef)
 {
-    double norm;
-    size_t dropped = lam_pauli_set_drop_small(s, tol, &norm);
-    char nb[LAM_DOUBLE_BUF];
-    lam_format_double(nb, sizeof nb, norm);
-    lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", dropped, tol_text, nb);
+    writer_ctx *c = ctx;
+    if (fabs(coef) <= c->drop && !lam_pauli_is_identity(c->nwords, x, z)) {
+        ++c->dropped;
+        c->dropped_norm += fabs(coef);
+        return;
+    }
+    if (lam_pauli_format(c->buf, c->size, c->nwords, x, z) < 0)
+        lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+    lam_writer_term(c->w, coef, c->buf);
+    ++c->kept;
 }
 
 int main(int argc, char **argv)
@@ -121,30 +138,34 @@ int main(int argc, char **argv)
     lam_progress("%zu Majorana monomials in %.1f s", m.count, lam_seconds() - t0);
 
     lam_encoding *enc = lam_encoding_new(o.encoding, m.nmodes);
-    lam_pauli_set s;
-    lam_encoding_map_majorana(enc, &m, &s);
-    lam_encoding_free(enc);
-    lam_majorana_free(&m);
-    if (o.drop >= 0) drop_small(&s, o.drop, o.drop_text);
-    lam_progress("%zu Pauli strings in %.1f s", s.count, lam_seconds() - t0);
 
     lam_meta meta;
     lam_meta_copy(&meta, lam_reader_meta(r));
     lam_meta_remove(&meta, "orbitals");
     lam_meta_remove(&meta, "modes");
-    lam_meta_setf(&meta, "qubits", "%d", s.nqubits);
+    lam_meta_setf(&meta, "qubits", "%d", m.nmodes);
     lam_meta_set(&meta, "encoding", lam_encoding_name(o.encoding));
     lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
     char *history = lam_history_from_argv(argc, argv);
-    lam_writer *w = lam_writer_open(o.output, o.gzip);
-    lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
-    lam_pauli_write_terms(w, &s);
-    lam_writer_close(w);
-    lam_progress("written in %.1f s", lam_seconds() - t0);
+    writer_ctx c = {lam_writer_open(o.output, o.gzip), enc->nwords, NULL,
+                    (size_t)m.nmodes * 10 + 32, o.drop, 0, 0, 0.0};
+    c.buf = lam_malloc(c.size);
+    lam_writer_header(c.w, LAM_KIND_PAULI, &meta, history);
+    lam_encoding_each_pauli(enc, &m, write_string, &c);
+    lam_writer_close(c.w);
+    lam_progress("%zu Pauli strings written in %.1f s", c.kept, lam_seconds() - t0);
+    if (o.drop >= 0) {
+        char nb[LAM_DOUBLE_BUF];
+        lam_format_double(nb, sizeof nb, c.dropped_norm);
+        lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", c.dropped,
+                 o.drop_text, nb);
+    }
 
+    free(c.buf);
     free(history);
     lam_meta_free(&meta);
-    lam_pauli_set_free(&s);
+    lam_encoding_free(enc);
+    lam_majorana_free(&m);
     lam_reader_close(r);
     return 0;
 }
