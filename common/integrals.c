@@ -203,6 +203,10 @@ typedef struct {
      * t <= lx_a + lx_b, u <= ..., v <= ... (the same for every primitive) */
     int *nz_count;        /* nab */
     int *nz_index;        /* nab x nherm */
+    /* as e, but only the possibly non-zero entries (in nz_index order,
+     * packed at the start of each row) times (-1)^(t+u+v): the pair as
+     * the ket side of a Coulomb integral */
+    double *ket_e;
     double schwarz;       /* sqrt of max |(ab|ab)| */
 } shell_pair;
 
@@ -226,6 +230,7 @@ static void shell_pair_build(shell_pair *sp, const lam_basis *b, int ia, int ib)
     sp->pref = lam_malloc(maxprim * sizeof *sp->pref);
     sp->centre = lam_malloc(lam_mul_size(maxprim, 3 * sizeof *sp->centre));
     sp->e = lam_malloc(lam_mul_size(maxprim, (size_t)sp->nab * sp->nherm * sizeof *sp->e));
+    sp->ket_e = lam_malloc(lam_mul_size(maxprim, (size_t)sp->nab * sp->nherm * sizeof *sp->ket_e));
     double ab[3], r2 = 0.0;
     for (int k = 0; k < 3; ++k) {
         ab[k] = A->center[k] - B->center[k];
@@ -279,6 +284,11 @@ static void shell_pair_build(shell_pair *sp, const lam_basis *b, int ia, int ib)
                                  ex[1][pa[ka][1]][pb[kb][1]][tuv[1]] *
                                  ex[2][pa[ka][2]][pb[kb][2]][tuv[2]];
                     }
+                    int ab = ka * B->ncart + kb;
+                    double *krow = sp->ket_e + ((size_t)n * sp->nab + ab) * sp->nherm;
+                    const int *nz = sp->nz_index + ab * sp->nherm;
+                    for (int k = 0; k < sp->nz_count[ab]; ++k)
+                        krow[k] = herm_sign[nz[k]] * row[nz[k]];
                 }
         }
 }
@@ -291,6 +301,7 @@ static void shell_pair_free(shell_pair *sp)
     free(sp->pref);
     free(sp->centre);
     free(sp->e);
+    free(sp->ket_e);
 }
 
 /* All pairs a >= b, pair (a, b) at a(a+1)/2 + b. */
@@ -481,7 +492,7 @@ static void eri_quartet(const shell_pair *bra, const shell_pair *ket, double *ou
     enum { XMAX = NHERM_PAIR * 36 };
     int l = bra->l + ket->l, nhb = bra->nherm, nhk = ket->nherm;
     int nab = bra->nab, ncd = ket->nab;
-    double x[XMAX], m[NHERM_PAIR * NHERM_PAIR], r[NHERM_TOTAL];
+    double x[XMAX], r[NHERM_TOTAL];
     const double two_pi_52 = 2.0 * pow(LAM_PI, 2.5);
     memset(out, 0, (size_t)nab * ncd * sizeof *out);
     for (int i = 0; i < bra->nprim; ++i) {
@@ -500,18 +511,16 @@ static void eri_quartet(const shell_pair *bra, const shell_pair *ket, double *ou
                 for (int cd = 0; cd < ncd; ++cd) x[cd] += rv * ek[cd];
                 continue;
             }
-            for (int t = 0; t < nhb; ++t)
-                for (int s = 0; s < nhk; ++s)
-                    m[t * nhk + s] = f * herm_sign[s] * r[herm_sum[t][s]];
+            const double *kek = ket->ket_e + (size_t)j * ncd * nhk;
             for (int t = 0; t < nhb; ++t) {
-                const double *mt = m + t * nhk;
+                const int *sum_t = herm_sum[t];
                 double *xt = x + t * ncd;
                 for (int cd = 0; cd < ncd; ++cd) {
-                    const double *e = ek + cd * nhk;
+                    const double *e = kek + cd * nhk;
                     const int *nz = ket->nz_index + cd * nhk;
                     double acc = 0.0;
-                    for (int k = 0; k < ket->nz_count[cd]; ++k) acc += mt[nz[k]] * e[nz[k]];
-                    xt[cd] += acc;
+                    for (int k = 0; k < ket->nz_count[cd]; ++k) acc += r[sum_t[nz[k]]] * e[k];
+                    xt[cd] += f * acc;
                 }
             }
         }
