@@ -323,22 +323,12 @@ void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k, lam_l1_proble
 
 /* ---- the operators ---- */
 
-lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k)
+/* out += sign * K */
+static void add_shift(lam_spinfree *out, const lam_shift *k, double sign)
 {
     if (lam_shift_has_spin(k))
         lam_fail(LAM_EX_SOFTWARE, "shift: spin terms make a spin-free form impossible");
     int n = k->n;
-    lam_spinfree *out;
-    double sign;
-    if (h) {
-        out = lam_spinfree_clone(h);
-        sign = -1;
-    } else {
-        out = lam_spinfree_new(n);
-        out->electrons = k->electrons;
-        out->ms2 = k->ms2;
-        sign = 1;
-    }
     affine a;
     affine_init(&a, 2 * n + 16);
     out->e0 += sign * lam_shift_constant(k);
@@ -358,8 +348,23 @@ lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k)
                     LAM_G(out, p, q, r, s) += sign * affine_eval(&a, k->x);
                 }
     affine_free(&a);
+}
+
+lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k)
+{
+    lam_spinfree *out;
+    if (h) {
+        out = lam_spinfree_clone(h);
+    } else {
+        out = lam_spinfree_new(k->n);
+        out->electrons = k->electrons;
+        out->ms2 = k->ms2;
+    }
+    add_shift(out, k, h ? -1 : 1);
     return out;
 }
+
+void lam_shift_subtract(lam_spinfree *h, const lam_shift *k) { add_shift(h, k, -1); }
 
 void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,
                              lam_spin_order order, lam_fermion_op *out)

@@ -77,6 +77,8 @@ void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k,
 /* H - K as a spin-free operator (no spin terms), or K itself when h is
  * NULL (n, electrons taken from k). */
 lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k);
+/* h -= K in place (no spin terms); saves the copy for large n. */
+void lam_shift_subtract(lam_spinfree *h, const lam_shift *k);
 /* H - K (or K when h is NULL) as normal-ordered ladder terms over spin
  * orbitals in the given spin order; for spin terms. */
 void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,
