@@ -746,8 +746,8 @@ static void emit(const engine *e, const shares *sh, const lam_pauli_set *in,
 void lam_group_options_default(lam_group_options *opt)
 {
     opt->method = LAM_GROUP_SORTED;
-    opt->refine_passes = 8;
-    opt->split = 1;
+    opt->refine_passes = -1;
+    opt->split = -1;
     opt->split_iterations = 1000;
     opt->commuting = 0;
 }
@@ -872,18 +872,22 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
     recompute_weights(&e);
     st->lambda_greedy = grouped_norm(&e);
     st->lambda_refined = st->lambda_greedy;
-    for (int pass = 0; pass < opt->refine_passes; ++pass) {
+    int small = n <= LAM_GROUP_AUTO_TERMS;
+    int passes = opt->refine_passes >= 0 ? opt->refine_passes : (small ? 8 : 0);
+    int split = opt->split >= 0 ? opt->split : small;
+    st->split_done = split;
+    for (int pass = 0; pass < passes; ++pass) {
         double fall = refine_pass(&e);
         st->refine_passes_done = pass + 1;
         st->lambda_refined = grouped_norm(&e);
         lam_progress("refinement pass %d: lambda_grouped %.12g Eh", pass + 1,
                      st->lambda_refined);
-        if (fall <= 1e-12 * st->lambda_refined) break;
+        if (fall <= 1e-6 * st->lambda_refined) break; /* later passes gain less */
     }
 
     shares sh;
-    collect_memberships(&e, opt->split, &sh);
-    if (opt->split && sh.count > n) {
+    collect_memberships(&e, split, &sh);
+    if (split && sh.count > n) {
         st->split_iterations_done =
             optimize_split(&e, &sh, opt->split_iterations, &st->split_bound);
         tidy_shares(&e, &sh);

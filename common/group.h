@@ -30,10 +30,17 @@ typedef enum {
     LAM_GROUP_BEST        /* the admitting group whose norm grows least */
 } lam_group_method;
 
+/* Streams above this many terms get neither refinement nor split unless
+ * asked for: there they cost several times the greedy pass and gain well
+ * under one per cent (bench/group.sh). */
+#define LAM_GROUP_AUTO_TERMS 200000
+
 typedef struct {
     lam_group_method method;
-    int refine_passes;   /* passes of the move refinement (0: none) */
-    int split;           /* share terms between groups (IRLS) */
+    int refine_passes;   /* passes of the move refinement (0: none; -1: 8
+                            up to LAM_GROUP_AUTO_TERMS terms, else none) */
+    int split;           /* share terms between groups (IRLS); -1: on up
+                            to LAM_GROUP_AUTO_TERMS terms */
     int split_iterations;
     int commuting;       /* group mutually commuting terms instead */
 } lam_group_options;
@@ -57,6 +64,7 @@ typedef struct {
     double lambda_grouped; /* the final value */
     double split_bound;    /* lower bound on the optimal split (dual), or 0 */
     int refine_passes_done;
+    int split_done;        /* the split was applied */
     int split_iterations_done;
 } lam_group_stats;
 

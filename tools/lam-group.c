@@ -24,11 +24,13 @@ static _Noreturn void usage(void)
            "                       group that takes the term; default) or 'best' (the\n"
            "                       group whose norm grows least)\n"
            "  -r, --refine N       passes moving terms between groups while lambda_grouped\n"
-           "                       falls (default 8; 0 turns refinement off)\n"
+           "                       falls (0 turns refinement off)\n"
            "      --split          share a term between every group it anticommutes with\n"
-           "                       entirely, split optimally (default)\n"
+           "                       entirely, split optimally\n"
            "      --no-split       each term in one group only\n"
            "      --split-iterations N  iterations of the split optimization (default 1000)\n"
+           "                       Default: --refine 8 --split up to %d terms, greedy\n"
+           "                       only above (where they cost several times as much)\n"
            "      --commuting      group mutually commuting terms instead (measurement\n"
            "                       planning); the report gives group_norm_sum\n"
            "      --check          verify the groups of a labelled stream: exit 65 naming\n"
@@ -43,7 +45,7 @@ static _Noreturn void usage(void)
            "      --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2o.fcidump | lam-shift | lam-map | %s | lam-norm\n",
-           lam_program(), lam_program());
+           lam_program(), LAM_GROUP_AUTO_TERMS, lam_program());
     exit(0);
 }
 
@@ -203,7 +205,9 @@ static void add_report(lam_report *rep, const options *o, const lam_group_stats 
     lam_report_num(rep, name, st->lambda_greedy);
     snprintf(name, sizeof name, "%s_refined", key);
     lam_report_num(rep, name, st->lambda_refined);
-    if (o->group.split) {
+    lam_report_int(rep, "refine_passes", st->refine_passes_done);
+    lam_report_int(rep, "split", st->split_done);
+    if (st->split_done) {
         snprintf(name, sizeof name, "%s_split_bound", key);
         lam_report_num(rep, name, st->split_bound);
     }
