@@ -106,7 +106,9 @@ void lam_pauli_read(lam_reader *r, lam_pauli_set *s);
  * NULL. */
 void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines);
 /* Parse one term's fields into x,z (zeroed first) and the optional
- * trailing "@g" label (-1 when absent); nqubits < 0 means unbounded. */
+ * trailing "@g" label (-1 when absent).  nqubits >= 0: an index from
+ * nqubits on is "out of range"; nqubits < 0: any index that fits the nw
+ * words.  A repeated qubit, an unknown letter or a bad label: exit 65. */
 void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln,
                             int nqubits, int nw, uint64_t *x, uint64_t *z,
                             int32_t *group);
