@@ -137,6 +137,8 @@ typedef struct {
     lam_fock_sector sec;
     size_t count_a, count_b, dim;
     uint64_t *states;        /* NULL for the full space (index = string) */
+    int nbytes;              /* bytes of a string that can be set */
+    uint32_t *rank_a, *rank_b; /* rank of each compressed string, when small */
     uint64_t ctab_a[8][256]; /* byte -> compressed bits of mask_a, in place */
     uint64_t ctab_b[8][256];
 } sector_index;
@@ -159,11 +161,22 @@ static void compress_tables(uint64_t mask, uint64_t tab[8][256])
     }
 }
 
-static uint64_t compress(uint64_t b, uint64_t tab[8][256])
+static uint64_t compress(uint64_t b, uint64_t tab[8][256], int nbytes)
 {
     uint64_t out = 0;
-    for (int k = 0; k < 8; ++k) out |= tab[k][(b >> (8 * k)) & 0xFF];
+    for (int k = 0; k < nbytes; ++k) out |= tab[k][(b >> (8 * k)) & 0xFF];
     return out;
+}
+
+/* Ranks of all strings of a mask of width w <= 20 by direct lookup. */
+enum { RANK_TABLE_BITS = 20 };
+
+static uint32_t *rank_table(int w)
+{
+    if (w > RANK_TABLE_BITS) return NULL;
+    uint32_t *t = lam_malloc(((size_t)1 << w) * sizeof(uint32_t));
+    for (uint64_t c = 0; c < ((uint64_t)1 << w); ++c) t[c] = (uint32_t)lam_ci_string_rank(c);
+    return t;
 }
 
 static uint64_t expand(uint64_t c, uint64_t mask)
@@ -198,8 +211,9 @@ static int in_sector(const sector_index *ix, uint64_t b)
 static size_t index_of(sector_index *ix, uint64_t b)
 {
     if (ix->sec.full) return (size_t)b;
-    size_t ra = lam_ci_string_rank(compress(b, ix->ctab_a));
-    size_t rb = lam_ci_string_rank(compress(b, ix->ctab_b));
+    uint64_t ca = compress(b, ix->ctab_a, ix->nbytes), cb = compress(b, ix->ctab_b, ix->nbytes);
+    size_t ra = ix->rank_a ? ix->rank_a[ca] : lam_ci_string_rank(ca);
+    size_t rb = ix->rank_b ? ix->rank_b[cb] : lam_ci_string_rank(cb);
     return ra * ix->count_b + rb;
 }
 
@@ -224,6 +238,11 @@ static sector_index *sector_index_new(const lam_fockop *op, const lam_fock_secto
     if (sec->full) return ix;
     compress_tables(sec->mask_a, ix->ctab_a);
     compress_tables(sec->mask_b, ix->ctab_b);
+    ix->nbytes = (op->nqubits + 7) / 8;
+    if (list) {
+        ix->rank_a = rank_table(__builtin_popcountll(sec->mask_a));
+        ix->rank_b = rank_table(__builtin_popcountll(sec->mask_b));
+    }
     ix->count_a = lam_ci_binomial(__builtin_popcountll(sec->mask_a), sec->na);
     ix->count_b = lam_ci_binomial(__builtin_popcountll(sec->mask_b), sec->nb);
     if (!list) return ix;
@@ -241,6 +260,8 @@ static void sector_index_free(sector_index *ix)
 {
     if (!ix) return;
     free(ix->states);
+    free(ix->rank_a);
+    free(ix->rank_b);
     free(ix);
 }
 
@@ -342,7 +363,12 @@ size_t lam_fock_solve_bytes(const lam_fockop *op, const lam_fock_sector *sec,
     if (dim == SIZE_MAX || dim > ((size_t)1 << 40)) return SIZE_MAX;
     size_t n = op->is_complex ? 2 * dim : dim;
     size_t bytes = n * sizeof(double);                /* diagonal */
-    if (!sec->full) bytes += dim * sizeof(uint64_t);  /* strings */
+    if (!sec->full) {
+        bytes += dim * sizeof(uint64_t); /* strings */
+        int wa = __builtin_popcountll(sec->mask_a), wb = __builtin_popcountll(sec->mask_b);
+        if (wa <= RANK_TABLE_BITS) bytes += ((size_t)1 << wa) * sizeof(uint32_t);
+        if (wb <= RANK_TABLE_BITS) bytes += ((size_t)1 << wb) * sizeof(uint32_t);
+    }
     return bytes + lam_eigen_bytes(n, tmpl->max_subspace, tmpl->dense_limit);
 }
 
