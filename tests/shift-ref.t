@@ -250,7 +250,7 @@ for name in MOLECULES:
 # ---- spin terms ----------------------------------------------------------------
 # More parameters can only lower the optimum (the spin-free shift is the
 # case b = zeta = 0).  The (N, Sz) block keeps the spectrum of H.
-SPIN = os.environ.get("SHIFT_REF_SPIN", "h2 h3plus h4chain lih").split()
+SPIN = os.environ.get("SHIFT_REF_SPIN", "h2 h3plus h4chain").split()
 spin_table = []
 for name in SPIN:
     path, ref = molecules.reference(name)
