@@ -92,7 +92,7 @@ static void parse_atom_line(lam_molecule *mol, int *cap, char *text,
 /* The molecule and line buffer being read stay reachable from here while
  * a parse error exits the program, so that leak checkers (ASan) do not
  * report them and change the exit code. */
-static lam_molecule *molecule_being_read;
+static lam_molecule *volatile molecule_being_read; /* volatile: the stores must stay */
 static char *line_being_read;
 
 lam_molecule *lam_molecule_read_xyz(const char *path, int bohr)
