@@ -177,6 +177,10 @@ is "$OUT" "" "no convergence: nothing on stdout"
 runlam lam-scf --quiet --bohr --max-memory 0.001 "$TMP/water.xyz"
 is "$RC" 75 "over --max-memory: exit 75"
 runlam lam-scf --quiet --bohr -o "$TMP/no/such/dir/out" "$TMP/water.xyz"
-is "$RC" 74 "output cannot be written: exit 74"
+is "$RC" 74 "output cannot be opened: exit 74"
+if [ -w /dev/full ]; then
+    runlam lam-scf --quiet --bohr -o /dev/full "$TMP/water.xyz"
+    is "$RC" 74 "write error (full device): exit 74"
+fi
 
 done_testing
