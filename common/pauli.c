@@ -205,6 +205,13 @@ void lam_rowhash_free(lam_rowhash *h)
 
 /* Keep the table at most half full so that linear probing stays short;
  * the fingerprints are kept, the positions come from them and the rows. */
+/* The slot of a hash is taken from its top bits, which the fingerprint
+ * keeps: up to 2^24 slots a table can be resized without reading a row. */
+static inline size_t slot_of(uint64_t hv, size_t size)
+{
+    return size > 1 ? (size_t)(hv >> (64 - __builtin_ctzll(size))) : 0;
+}
+
 static void rowhash_resize(lam_rowhash *h, const uint64_t *rows, size_t width,
                            const int32_t *tags, size_t new_size)
 {
@@ -213,10 +220,16 @@ static void rowhash_resize(lam_rowhash *h, const uint64_t *rows, size_t width,
     h->size = new_size;
     h->slot = lam_calloc(h->size, sizeof(uint64_t));
     size_t mask = h->size - 1;
+    int from_fp = new_size <= ((size_t)1 << (64 - SLOT_INDEX_BITS));
     for (size_t i = 0; i < old_size; ++i) {
         if (!old[i]) continue;
-        size_t k = (size_t)(old[i] & SLOT_INDEX_MASK) - 1;
-        size_t j = (size_t)row_hash(rows + k * width, width, tags ? tags[k] : 0) & mask;
+        size_t j;
+        if (from_fp) {
+            j = slot_of(old[i] & ~SLOT_INDEX_MASK, new_size);
+        } else {
+            size_t k = (size_t)(old[i] & SLOT_INDEX_MASK) - 1;
+            j = slot_of(row_hash(rows + k * width, width, tags ? tags[k] : 0), new_size);
+        }
         while (h->slot[j]) j = (j + 1) & mask;
         h->slot[j] = old[i];
     }
@@ -242,7 +255,7 @@ void lam_rowhash_reserve(lam_rowhash *h, const uint64_t *rows, size_t width,
 void lam_rowhash_prefetch(const lam_rowhash *h, const uint64_t *row, size_t width,
                           int32_t tag)
 {
-    if (h->size) __builtin_prefetch(&h->slot[(size_t)row_hash(row, width, tag) & (h->size - 1)]);
+    if (h->size) __builtin_prefetch(&h->slot[slot_of(row_hash(row, width, tag), h->size)]);
 }
 
 size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
@@ -255,7 +268,7 @@ size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
     int32_t tag = tags ? tags[cand] : 0;
     uint64_t hv = row_hash(row, width, tag), fp = SLOT_FP(hv);
     size_t mask = h->size - 1;
-    size_t i = (size_t)hv & mask;
+    size_t i = slot_of(hv, h->size);
     for (;;) {
         uint64_t e = h->slot[i];
         if (!e) {
@@ -289,31 +302,37 @@ static void drop_zeros(lam_pauli_set *s)
     s->count = out;
 }
 
-/* Kept terms are compacted to the front in order of first appearance; the
- * candidate is moved to its would-be place before the look-up, so that the
- * index only ever names kept terms. */
-void lam_pauli_set_merge(lam_pauli_set *s, int drop)
+/* Rows [0, from) are distinct and indexed in h; merge rows [from, count)
+ * into them in place.  Kept terms are compacted in order of first
+ * appearance; the candidate is moved to its would-be place before the
+ * look-up, so that the index only ever names kept terms.  The table is
+ * sized first so that slots can be prefetched a few terms ahead: the
+ * look-ups are cache misses, and overlapping them is most of the speed. */
+static void merge_tail(lam_pauli_set *s, lam_rowhash *h, size_t from)
 {
-    size_t kept = 0, width = 2 * (size_t)s->nwords;
-    lam_rowhash h;
-    lam_rowhash_init(&h);
-    /* sized once, so that slots can be prefetched a few terms ahead: the
-     * look-ups are cache misses, and overlapping them is most of the speed */
-    lam_rowhash_reserve(&h, s->bits, width, s->group, s->count);
+    size_t kept = from, width = 2 * (size_t)s->nwords;
+    lam_rowhash_reserve(h, s->bits, width, s->group, s->count);
     enum { AHEAD = 16 };
-    for (size_t t = 0; t < s->count; ++t) {
+    for (size_t t = from; t < s->count; ++t) {
         if (t + AHEAD < s->count)
-            lam_rowhash_prefetch(&h, lam_pauli_x(s, t + AHEAD), width,
+            lam_rowhash_prefetch(h, lam_pauli_x(s, t + AHEAD), width,
                                  s->group ? s->group[t + AHEAD] : 0);
         move_term(s, kept, t);
-        size_t k = lam_rowhash_insert(&h, s->bits, width, s->group, kept);
+        size_t k = lam_rowhash_insert(h, s->bits, width, s->group, kept);
         if (k == kept)
             ++kept;
         else
             s->coef[k] += s->coef[kept];
     }
-    lam_rowhash_free(&h);
     s->count = kept;
+}
+
+void lam_pauli_set_merge(lam_pauli_set *s, int drop)
+{
+    lam_rowhash h;
+    lam_rowhash_init(&h);
+    merge_tail(s, &h, 0);
+    lam_rowhash_free(&h);
     if (drop) drop_zeros(s);
 }
 
@@ -424,15 +443,18 @@ static int highest_qubit(const lam_pauli_set *s)
     return top;
 }
 
-/* The reader behind lam_pauli_read*: lines optional.  (Merging as the
- * terms arrive was measured slower than merging afterwards, where the
- * hash slots can be prefetched.) */
-static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines)
+/* The reader behind lam_pauli_read*: lines optional.  With merge, the
+ * terms read so far are merged every few thousand lines, so repeated
+ * strings never pile up and the fresh rows are still in cache. */
+static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge)
 {
+    enum { BATCH = 4096 };
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
     int bounded = declared >= 0;
-    size_t lines_cap = 0;
+    size_t lines_cap = 0, merged = 0;
+    lam_rowhash h;
+    lam_rowhash_init(&h);
     if (lines) *lines = NULL;
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
@@ -443,8 +465,15 @@ static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines)
         reserve(s, s->count + 1);
         while ((need = parse_fields(r, &ln, bounded ? s->nqubits : -1, s->nwords,
                                     lam_pauli_x(s, s->count), lam_pauli_z(s, s->count),
-                                    &group)) >= 0)
+                                    &group)) >= 0) {
+            int nw = s->nwords;
             lam_pauli_set_grow_qubits(s, (int)need);
+            if (s->nwords != nw) { /* the rows changed width: index them again */
+                lam_rowhash_free(&h);
+                lam_rowhash_init(&h);
+                merged = 0;
+            }
+        }
         if (lines && s->count == lines_cap) {
             lines_cap = lines_cap ? lam_mul_size(lines_cap, 2) : 1024;
             *lines = lam_realloc(*lines, lam_mul_size(lines_cap, sizeof(long)));
@@ -457,16 +486,28 @@ static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines)
         s->coef[s->count] = ln.coef;
         if (s->group) s->group[s->count] = group;
         ++s->count;
+        if (merge && s->count - merged >= BATCH) {
+            merge_tail(s, &h, merged);
+            merged = s->count;
+        }
     }
+    if (merge) merge_tail(s, &h, merged);
+    lam_rowhash_free(&h);
     if (!bounded) s->nqubits = highest_qubit(s);
 }
 
 void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines)
 {
-    read_terms(r, s, lines);
+    read_terms(r, s, lines, 0);
 }
 
-void lam_pauli_read(lam_reader *r, lam_pauli_set *s) { read_terms(r, s, NULL); }
+void lam_pauli_read(lam_reader *r, lam_pauli_set *s) { read_terms(r, s, NULL, 0); }
+
+void lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop)
+{
+    read_terms(r, s, NULL, 1);
+    if (drop) drop_zeros(s);
+}
 
 void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
 {

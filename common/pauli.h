@@ -105,6 +105,9 @@ void lam_pauli_read(lam_reader *r, lam_pauli_set *s);
  * has no terms) gets the input line of each term, in order.  lines may be
  * NULL. */
 void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines);
+/* lam_pauli_read then lam_pauli_set_merge(s, drop), the same result, but
+ * merging as it reads: repeated strings never take room. */
+void lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop);
 /* Parse one term's fields into x,z (zeroed first) and the optional
  * trailing "@g" label (-1 when absent).  nqubits >= 0: an index from
  * nqubits on is "out of range"; nqubits < 0: any index that fits the nw

@@ -92,9 +92,8 @@ static void norm_pauli(lam_report *rep, lam_reader *r)
 {
     lam_pauli_set s;
     double t0 = lam_seconds();
-    lam_pauli_read(r, &s);
-    lam_progress("%zu terms read in %.1f s", s.count, lam_seconds() - t0);
-    lam_pauli_set_merge(&s, 1);
+    lam_pauli_read_merged(r, &s, 1);
+    lam_progress("%zu distinct terms read in %.1f s", s.count, lam_seconds() - t0);
     lam_report_int(rep, "terms", (long long)s.count);
     lam_report_num(rep, "constant", lam_pauli_set_constant(&s));
     lam_report_num(rep, "lambda", lam_pauli_set_lambda(&s));
