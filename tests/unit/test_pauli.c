@@ -287,6 +287,41 @@ static void test_read(void)
     unlink(path);
 }
 
+/* Merging while reading (batches of 4096 lines, the string width growing
+ * on the way) gives what reading and then merging gives. */
+static void test_read_merged(void)
+{
+    static char path[64];
+    strcpy(path, "/tmp/test_pauli_XXXXXX");
+    int fd = mkstemp(path);
+    FILE *f = fdopen(fd, "w");
+    for (int t = 0; t < 12000; ++t) {
+        int top = t < 5000 ? 30 : 150; /* one word, then three */
+        int q1 = (int)(rnd() % (uint64_t)top), q2 = (q1 + 1 + (int)(rnd() % 7)) % top;
+        if (q2 == q1) q2 = (q1 + 1) % top;
+        fprintf(f, "%g X%d Z%d%s\n", (double)(rnd() % 8) - 3.5, q1, q2, t % 5 ? "" : " @2");
+    }
+    fclose(f);
+    lam_pauli_set a, b;
+    lam_reader *r = lam_reader_open(path);
+    lam_reader_force_kind(r, LAM_KIND_PAULI);
+    lam_pauli_read(r, &a);
+    lam_reader_close(r);
+    lam_pauli_set_merge(&a, 1);
+    r = lam_reader_open(path);
+    lam_reader_force_kind(r, LAM_KIND_PAULI);
+    lam_pauli_read_merged(r, &b, 1);
+    lam_reader_close(r);
+    int ok = a.count == b.count && a.nqubits == b.nqubits && a.nwords == b.nwords &&
+             memcmp(a.bits, b.bits, a.count * 2 * (size_t)a.nwords * sizeof(uint64_t)) == 0 &&
+             memcmp(a.coef, b.coef, a.count * sizeof(double)) == 0 &&
+             memcmp(a.group, b.group, a.count * sizeof(int32_t)) == 0;
+    tap_ok(ok, "reading merged = reading then merging (same terms, order, sums)");
+    lam_pauli_set_free(&a);
+    lam_pauli_set_free(&b);
+    unlink(path);
+}
+
 int main(void)
 {
     lam_set_program("test_pauli");
@@ -296,5 +331,6 @@ int main(void)
     test_merge();
     test_grow_and_norms();
     test_read();
+    test_read_merged();
     return tap_done();
 }
