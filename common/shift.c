@@ -472,22 +472,39 @@ typedef struct {
     int n;
     lam_spin_order order;
     const char *src;
-} mode_map;
+    /* the work arrays, freed before a failure so that nothing leaks */
+    lam_fermion_op op;
+    lam_spinfree *sf;
+    double *t[2], *same[2];
+    long *same_line[2];
+} fold_work;
 
-static void orbital_of(const mode_map *mm, int mode, int *p, int *spin)
+static void orbital_of(const fold_work *fw, int mode, int *p, int *spin)
 {
-    if (mm->order == LAM_SPIN_INTERLEAVED) {
+    if (fw->order == LAM_SPIN_INTERLEAVED) {
         *p = mode / 2;
         *spin = mode % 2;
     } else {
-        *p = mode % mm->n;
-        *spin = mode / mm->n;
+        *p = mode % fw->n;
+        *spin = mode / fw->n;
     }
 }
 
-static _Noreturn void not_spin_free(const mode_map *mm, long line, const char *why)
+static void fold_free(fold_work *fw)
 {
-    lam_fail_at(LAM_EX_DATA, mm->src, line, "the operator is not spin-free: %s", why);
+    for (int sp = 0; sp < 2; ++sp) {
+        free(fw->t[sp]);
+        free(fw->same[sp]);
+        free(fw->same_line[sp]);
+    }
+    lam_fermion_free(&fw->op);
+}
+
+static _Noreturn void not_spin_free(fold_work *fw, long line, const char *why)
+{
+    fold_free(fw);
+    lam_spinfree_free(fw->sf);
+    lam_fail_at(LAM_EX_DATA, fw->src, line, "the operator is not spin-free: %s", why);
 }
 
 static size_t idx4(int n, int p, int q, int r, int s)
@@ -505,21 +522,27 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
     if (in->nmodes % 2 != 0)
         lam_fail_at(LAM_EX_DATA, src, 0,
                     "the operator is not spin-free: an odd number of modes (%d)", in->nmodes);
-    lam_fermion_op op;
-    lam_fermion_normal_order(in, &op);
-    int n = op.nmodes / 2;
-    mode_map mm = {n, order, src};
-    lam_spinfree *sf = lam_spinfree_new(n);
+    fold_work fw;
+    memset(&fw, 0, sizeof fw);
+    lam_fermion_normal_order(in, &fw.op);
+    int n = fw.op.nmodes / 2;
+    fw.n = n;
+    fw.order = order;
+    fw.src = src;
+    fw.sf = lam_spinfree_new(n);
+    lam_spinfree *sf = fw.sf;
+    const lam_fermion_op *op = &fw.op;
     size_t n4 = (size_t)n * n * n * n;
-    double *t[2] = {lam_calloc((size_t)n * n + 1, sizeof(double)),
-                    lam_calloc((size_t)n * n + 1, sizeof(double))};
-    double *same[2] = {lam_calloc(n4 + 1, sizeof(double)), lam_calloc(n4 + 1, sizeof(double))};
-    long *same_line[2] = {lam_calloc(n4 + 1, sizeof(long)), lam_calloc(n4 + 1, sizeof(long))};
+    for (int sp = 0; sp < 2; ++sp) {
+        fw.t[sp] = lam_calloc((size_t)n * n + 1, sizeof(double));
+        fw.same[sp] = lam_calloc(n4 + 1, sizeof(double));
+        fw.same_line[sp] = lam_calloc(n4 + 1, sizeof(long));
+    }
     double big = 0;
-    for (size_t k = 0; k < op.count; ++k) {
-        const int32_t *o = op.ops + op.first[k];
-        size_t len = lam_fermion_length(&op, k);
-        double c = op.coef[k];
+    for (size_t k = 0; k < op->count; ++k) {
+        const int32_t *o = op->ops + op->first[k];
+        size_t len = lam_fermion_length(op, k);
+        double c = op->coef[k];
         big = fmax(big, fabs(c));
         if (len == 0) {
             sf->e0 += c;
@@ -528,23 +551,24 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
         int cre = 0;
         for (size_t i = 0; i < len; ++i) cre += LAM_LADDER_IS_CREATOR(o[i]) ? 1 : 0;
         if ((len != 2 && len != 4) || 2 * (size_t)cre != len)
-            not_spin_free(&mm, op.line[k], "a term that is not a+ a or a+ a+ a a");
+            not_spin_free(&fw, op->line[k], "a term that is not a+ a or a+ a+ a a");
         int p[4], s[4];
-        for (size_t i = 0; i < len; ++i) orbital_of(&mm, LAM_LADDER_MODE(o[i]), &p[i], &s[i]);
+        for (size_t i = 0; i < len; ++i) orbital_of(&fw, LAM_LADDER_MODE(o[i]), &p[i], &s[i]);
         if (len == 2) {
-            if (s[0] != s[1]) not_spin_free(&mm, op.line[k], "a term that flips a spin");
-            t[s[0]][p[0] * n + p[1]] += c;
+            if (s[0] != s[1]) not_spin_free(&fw, op->line[k], "a term that flips a spin");
+            fw.t[s[0]][p[0] * n + p[1]] += c;
             continue;
         }
         /* a+_0 a+_1 a_2 a_3 */
-        if (s[0] + s[1] != s[2] + s[3]) not_spin_free(&mm, op.line[k], "a term that changes Sz");
+        if (s[0] + s[1] != s[2] + s[3])
+            not_spin_free(&fw, op->line[k], "a term that changes Sz");
         if (s[0] == s[1]) {
-            if (s[2] != s[0]) not_spin_free(&mm, op.line[k], "a term that flips spins");
+            if (s[2] != s[0]) not_spin_free(&fw, op->line[k], "a term that flips spins");
             /* creators descend and annihilators ascend in mode, hence in
              * orbital within one spin */
             size_t i = idx4(n, p[0], p[1], p[2], p[3]);
-            same[s[0]][i] += c;
-            if (!same_line[s[0]][i]) same_line[s[0]][i] = op.line[k];
+            fw.same[s[0]][i] += c;
+            if (!fw.same_line[s[0]][i]) fw.same_line[s[0]][i] = op->line[k];
             continue;
         }
         int up_c = s[0] == 0 ? 0 : 1, dn_c = 1 - up_c;
@@ -554,16 +578,16 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
     }
     double tol = 1e-12 * fmax(big, 1e-300);
     for (int i = 0; i < n * n; ++i) {
-        if (fabs(t[0][i] - t[1][i]) > tol)
-            not_spin_free(&mm, 0, "the one-body terms of the two spins differ");
-        sf->h[i] = 0.5 * (t[0][i] + t[1][i]);
+        if (fabs(fw.t[0][i] - fw.t[1][i]) > tol)
+            not_spin_free(&fw, 0, "the one-body terms of the two spins differ");
+        sf->h[i] = 0.5 * (fw.t[0][i] + fw.t[1][i]);
     }
     for (int a = 0; a < n; ++a)
         for (int b = 0; b < n; ++b)
             for (int c = 0; c < n; ++c)
                 for (int d = 0; d < n; ++d)
                     if (fabs(LAM_G(sf, a, b, c, d) - LAM_G(sf, c, d, a, b)) > tol)
-                        not_spin_free(&mm, 0, "up-down and down-up pair terms differ");
+                        not_spin_free(&fw, 0, "up-down and down-up pair terms differ");
     for (int sp = 0; sp < 2; ++sp)
         for (int x = 0; x < n; ++x)
             for (int y = 0; y < x; ++y)
@@ -571,35 +595,33 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
                     for (int w = z + 1; w < n; ++w) {
                         size_t i = idx4(n, x, y, z, w);
                         double want = LAM_G(sf, x, w, y, z) - LAM_G(sf, x, z, y, w);
-                        if (fabs(same[sp][i] - want) > tol) {
+                        if (fabs(fw.same[sp][i] - want) > tol) {
                             char why[160];
                             snprintf(why, sizeof why,
                                      "equal-spin pair term (orbitals %d %d %d %d, spin %s) is "
                                      "%.6g, its opposite-spin terms imply %.6g",
-                                     x, y, z, w, sp ? "down" : "up", same[sp][i], want);
-                            not_spin_free(&mm, same_line[sp][i], why);
+                                     x, y, z, w, sp ? "down" : "up", fw.same[sp][i], want);
+                            not_spin_free(&fw, fw.same_line[sp][i], why);
                         }
                     }
-    for (int sp = 0; sp < 2; ++sp) {
-        free(t[sp]);
-        free(same[sp]);
-        free(same_line[sp]);
-    }
-    lam_fermion_free(&op);
+    fold_free(&fw);
     return sf;
 }
 
 /* ---- an earlier shift recorded in the metadata ---- */
 
-static _Noreturn void bad_record(const char *src, const lam_meta_entry *e, const char *why)
+/* k (may be NULL) is freed first so that a failure leaks nothing */
+static _Noreturn void bad_record(const char *src, const lam_meta_entry *e, const char *why,
+                                 lam_shift *k)
 {
+    lam_shift_free(k);
     lam_fail_at(LAM_EX_DATA, src, e->line, "%s: %s '%s'", why, e->key, e->value);
 }
 
-static double record_number(const char *src, const lam_meta_entry *e)
+static double record_number(const char *src, const lam_meta_entry *e, lam_shift *k)
 {
     double v;
-    if (lam_parse_double(e->value, &v) != 0) bad_record(src, e, "not a number");
+    if (lam_parse_double(e->value, &v) != 0) bad_record(src, e, "not a number", k);
     return v;
 }
 
@@ -613,9 +635,9 @@ static void record_matrix(const char *src, const lam_meta_entry *e, lam_shift *k
     double v;
     if (!tp || !tq || !tv || strtok_r(NULL, " \t", &save) || lam_parse_long(tp, &p) != 0 ||
         lam_parse_long(tq, &q) != 0 || lam_parse_double(tv, &v) != 0)
-        bad_record(src, e, "want 'p q value'");
-    if (p < 0 || q < 0 || p >= k->n || q >= k->n) bad_record(src, e, "orbital out of range");
-    if (idx[p * k->n + q] < 0) bad_record(src, e, "not among shift-terms");
+        bad_record(src, e, "want 'p q value'", k);
+    if (p < 0 || q < 0 || p >= k->n || q >= k->n) bad_record(src, e, "orbital out of range", k);
+    if (idx[p * k->n + q] < 0) bad_record(src, e, "not among shift-terms", k);
     k->x[idx[p * k->n + q]] += v;
 }
 
@@ -624,14 +646,15 @@ lam_shift *lam_shift_recorded(const lam_meta *meta, int n, const char *src)
     const lam_meta_entry *terms = lam_meta_find(meta, "shift-terms");
     if (!terms) return NULL;
     unsigned mask;
-    if (lam_shift_parse_terms(terms->value, &mask) != 0) bad_record(src, terms, "unknown terms");
+    if (lam_shift_parse_terms(terms->value, &mask) != 0)
+        bad_record(src, terms, "unknown terms", NULL);
     const lam_meta_entry *ne = lam_meta_find(meta, "shift-electrons");
     const lam_meta_entry *se = lam_meta_find(meta, "shift-ms2");
     long n0 = -1, ms2 = 0;
     if (!ne || lam_parse_long(ne->value, &n0) != 0 || n0 < 0 || n0 > 2L * n)
         lam_fail_at(LAM_EX_DATA, src, terms->line, "shift-terms without a valid shift-electrons");
     if (se && (lam_parse_long(se->value, &ms2) != 0 || labs(ms2) > 2L * n))
-        bad_record(src, se, "not a spin projection");
+        bad_record(src, se, "not a spin projection", NULL);
     lam_shift *k = lam_shift_new(n, (int)n0, (int)ms2, mask);
     for (size_t i = 0; i < meta->count; ++i) {
         const lam_meta_entry *e = &meta->items[i];
@@ -641,8 +664,8 @@ lam_shift *lam_shift_recorded(const lam_meta *meta, int n, const char *src)
         else if (strcmp(e->key, "shift-b1") == 0) slot = &k->ib1;
         else if (strcmp(e->key, "shift-b2") == 0) slot = &k->ib2;
         if (slot) {
-            double v = record_number(src, e);
-            if (*slot < 0 && v != 0) bad_record(src, e, "not among shift-terms");
+            double v = record_number(src, e, k);
+            if (*slot < 0 && v != 0) bad_record(src, e, "not among shift-terms", k);
             if (*slot >= 0) k->x[*slot] += v;
         } else if (strcmp(e->key, "shift-xi") == 0) {
             record_matrix(src, e, k, k->ixi);

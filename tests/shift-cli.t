@@ -121,6 +121,12 @@ runlam lam-shift --electrons 1 "$TMP/s1.sf"
 is "$RC" 65 "second shift for another electron number: exit 65"
 like "$ERR" "already shifted for 2 electrons" "second shift for another N: message"
 
+sed 's/^#% shift-xi: 0 0 /#% shift-xi: 0 7 /' "$TMP/s1.sf" >"$TMP/bad-meta.sf"
+runlam lam-shift "$TMP/bad-meta.sf"
+is "$RC" 65 "recorded xi with an orbital out of range: exit 65"
+like "$ERR" "lam-shift: .*bad-meta.sf:[0-9]+: orbital out of range: shift-xi" \
+    "recorded xi out of range: file:line and reason"
+
 # ---- bad input ----
 runlam lam-shift --terms a1,a3 "$TMP/h2.sf"
 is "$RC" 64 "unknown --terms word: exit 64"

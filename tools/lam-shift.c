@@ -146,6 +146,9 @@ static lam_spinfree *read_operator(lam_reader *r)
         lam_fermion_free(&op);
         return sf;
     }
+    if (kind == LAM_KIND_UNKNOWN)
+        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
+                    "an empty stream without a kind: header; nothing to shift");
     lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
                 "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
 }
@@ -234,13 +237,16 @@ int main(int argc, char **argv)
     parse_options(argc, argv, &o);
     double t0 = lam_seconds();
 
-    lam_reader *r = lam_reader_open(o.input);
-    lam_spinfree *h = read_operator(r);
+    /* static: what main holds stays reachable when a check below exits */
+    static lam_reader *r;
+    static lam_spinfree *h;
+    static lam_shift *k, *earlier;
+    r = lam_reader_open(o.input);
+    h = read_operator(r);
     const char *src = lam_reader_name(r);
     require_real_symmetry(h, src);
-    lam_shift *k;
     resolve_target(&o, h, src, &k);
-    lam_shift *earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
+    earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
     if (earlier && (earlier->electrons != k->electrons ||
                     (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
         lam_fail_at(LAM_EX_DATA, src, 0,
