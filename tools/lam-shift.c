@@ -242,7 +242,9 @@ int main(int argc, char **argv)
     static lam_spinfree *h;
     static lam_shift *k, *earlier;
     r = lam_reader_open(o.input);
+    lam_progress("reading %s", lam_reader_name(r));
     h = read_operator(r);
+    lam_progress("read %d orbitals in %.2f s", h->n, lam_seconds() - t0);
     const char *src = lam_reader_name(r);
     require_real_symmetry(h, src);
     resolve_target(&o, h, src, &k);
@@ -280,6 +282,7 @@ int main(int argc, char **argv)
     lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
     char *history = lam_history_from_argv(argc, argv);
+    lam_progress("optimum found in %.2f s; writing %s", t_lp, o.emit_shift ? "K" : "H - K");
     lam_writer *w = lam_writer_open(o.output, o.gzip);
     if (!lam_shift_has_spin(k)) {
         lam_spinfree *out;
