@@ -235,6 +235,11 @@ for name in MOLECULES:
            "H %r %r, H-K %r %r" % (r_h["n_min"], r_h["n_max"], r_k["n_min"], r_k["n_max"]))
     fock_k = fock_half_range(HK, sectors)
     n_half = (hi_h - lo_h) / 2
+    tap.near(r_k["fock_half_range"], fock_k, 1e-9,
+             "%s: lam-range fock_half_range(H - K) = numpy's" % name)
+    tap.ok(after >= r_k["fock_half_range"] - 1e-10 and
+           r_k["fock_half_range"] >= r_h["n_half_range"] - 1e-10,
+           "%s: with lam-range too: lambda_after >= fock_half_range(H - K) >= n_half_range(H)" % name)
     tap.ok(after >= fock_k - 1e-10 and fock_k >= n_half - 1e-10,
            "%s: lambda_after %.6f >= fock_half_range(H - K) %.6f >= n_half_range(H) %.6f"
            % (name, after, fock_k, n_half))
