@@ -415,7 +415,7 @@ static uint32_t first_admitting(engine *e, lam_group_method order)
 static void all_admitting(engine *e)
 {
     sort_engine = e;
-    qsort(e->cand.v, e->cand.n, sizeof *e->cand.v, by_weight_desc);
+    if (e->cand.n > 1) qsort(e->cand.v, e->cand.n, sizeof *e->cand.v, by_weight_desc);
     e->found.n = 0;
     for (uint32_t k = 0; k < e->cand.n; ++k)
         if (rest_admits(e, &e->g[e->cand.v[k]])) u32_push(&e->found, e->cand.v[k]);
