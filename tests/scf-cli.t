@@ -99,10 +99,12 @@ lam lam-ints "$TMP/w.fcidump" >"$TMP/w.op" 2>/dev/null
 is "$?" 0 "lam-ints reads lam-scf's FCIDUMP"
 
 # d shells: cc-pVDZ spherical by definition, --cartesian overrides
-runlam lam-scf --quiet --bohr --energy --basis cc-pvdz "$TMP/water.xyz"
-is "$(report_get basis_functions <<<"$OUT")" 24 "water cc-pVDZ: 24 functions (spherical d)"
-runlam lam-scf --quiet --bohr --energy --basis cc-pvdz --cartesian "$TMP/water.xyz"
-is "$(report_get basis_functions <<<"$OUT")" 25 "water cc-pVDZ --cartesian: 25 functions"
+# (beryllium atom, 3s2p1d in cc-pVDZ: Dunning 1989 / Prascher et al. 2011)
+printf 'Be 0 0 0\n' >"$TMP/be.xyz"
+runlam lam-scf --quiet --energy --basis cc-pvdz "$TMP/be.xyz"
+is "$(report_get basis_functions <<<"$OUT")" 14 "Be cc-pVDZ: 14 functions (spherical d)"
+runlam lam-scf --quiet --energy --basis cc-pvdz --cartesian "$TMP/be.xyz"
+is "$(report_get basis_functions <<<"$OUT")" 15 "Be cc-pVDZ --cartesian: 15 functions"
 runlam lam-scf --quiet --bohr --energy --basis 6-31g --spherical "$TMP/water.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 13 "water 6-31G: 13 functions"
 
