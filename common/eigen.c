@@ -113,6 +113,9 @@ static void start_vector(size_t dim, const double *diag, double sign, double *t)
     t[best] += 1.0;
 }
 
+/* Smallest |D_i - theta| divided by: keeps the correction finite. */
+#define PRECOND_FLOOR 1e-8
+
 /* Olsen's correction: t = (D - theta)^-1 (r - eps x) with eps chosen so
  * that t is orthogonal to x. */
 static void olsen_correction(size_t dim, const double *diag, double sign, double theta,
@@ -121,14 +124,14 @@ static void olsen_correction(size_t dim, const double *diag, double sign, double
     double num = 0, den = 0;
     for (size_t i = 0; i < dim; ++i) {
         double d = sign * diag[i] - theta;
-        if (fabs(d) < 1e-8) d = d < 0 ? -1e-8 : 1e-8;
+        if (fabs(d) < PRECOND_FLOOR) d = d < 0 ? -PRECOND_FLOOR : PRECOND_FLOOR;
         num += x[i] * r[i] / d;
         den += x[i] * x[i] / d;
     }
     double eps = den != 0 ? num / den : 0;
     for (size_t i = 0; i < dim; ++i) {
         double d = sign * diag[i] - theta;
-        if (fabs(d) < 1e-8) d = d < 0 ? -1e-8 : 1e-8;
+        if (fabs(d) < PRECOND_FLOOR) d = d < 0 ? -PRECOND_FLOOR : PRECOND_FLOOR;
         t[i] = (r[i] - eps * x[i]) / d;
     }
 }
@@ -154,48 +157,78 @@ static void subspace_add(subspace *s, const signed_op *op, const double *t)
     ++s->m;
 }
 
-/* Lowest Ritz pair of the subspace: theta and coefficients y (length m). */
-static double ritz(const subspace *s, double *y, double *work)
+/* Ritz pairs of the subspace: the m eigenvectors as columns of Y (row i,
+ * column j at Y[i*m + j]), ascending; returns the lowest value. */
+static double ritz(const subspace *s, double *Y, double *w)
 {
     int m = s->m;
-    double *a = work, *w = work + (size_t)m * m;
     for (int i = 0; i < m; ++i)
-        for (int j = 0; j < m; ++j) a[i * m + j] = s->T[i * s->cap + j];
-    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', m, a, m, w);
+        for (int j = 0; j < m; ++j) Y[i * m + j] = s->T[i * s->cap + j];
+    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', m, Y, m, w);
     if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
-    for (int i = 0; i < m; ++i) y[i] = a[i * m];
     return w[0];
 }
 
-static void combine(size_t dim, int m, const double *V, const double *y, double *out)
+static void combine(size_t dim, int m, const double *V, const double *y, int stride, double *out)
 {
-    cblas_dgemv(CblasRowMajor, CblasTrans, m, (int)dim, 1.0, V, (int)dim, y, 1, 0.0, out, 1);
+    cblas_dgemv(CblasRowMajor, CblasTrans, m, (int)dim, 1.0, V, (int)dim, y, stride, 0.0, out, 1);
 }
 
-/* Keep x and the previous Ritz vector; A applied to them is recombined, not
- * recomputed. */
-static void restart(subspace *s, const double *x, const double *ax, double *prev, double *aprev)
+/* M (m vectors of length dim) <- M C with C m x k (row-major), in place,
+ * a block of components at a time. */
+static void transform_basis(double *M, size_t dim, int m, const double *C, int k, double *tmp,
+                            size_t chunk)
 {
-    size_t dim = s->dim;
-    memcpy(s->V, x, dim * sizeof(double));
-    memcpy(s->AV, ax, dim * sizeof(double));
-    s->m = 1;
-    double c = cblas_ddot((int)dim, x, 1, prev, 1);
-    cblas_daxpy((int)dim, -c, x, 1, prev, 1);
-    cblas_daxpy((int)dim, -c, ax, 1, aprev, 1);
-    double nrm = cblas_dnrm2((int)dim, prev, 1);
-    if (nrm > 1e-3) {
-        cblas_dscal((int)dim, 1.0 / nrm, prev, 1);
-        cblas_dscal((int)dim, 1.0 / nrm, aprev, 1);
-        memcpy(s->V + dim, prev, dim * sizeof(double));
-        memcpy(s->AV + dim, aprev, dim * sizeof(double));
-        s->m = 2;
+    for (size_t i0 = 0; i0 < dim; i0 += chunk) {
+        size_t len = i0 + chunk < dim ? chunk : dim - i0;
+        cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, k, (int)len, m, 1.0, C, k, M + i0,
+                    (int)dim, 0.0, tmp, (int)len);
+        for (int c = 0; c < k; ++c) memcpy(M + (size_t)c * dim + i0, tmp + (size_t)c * len, len * sizeof(double));
     }
-    for (int i = 0; i < s->m; ++i)
-        for (int j = 0; j < s->m; ++j)
-            s->T[i * s->cap + j] = cblas_ddot((int)dim, s->V + (size_t)i * dim, 1, s->AV + (size_t)j * dim, 1);
-    double sym = 0.5 * (s->T[1] + s->T[s->cap]);
-    if (s->m == 2) s->T[1] = s->T[s->cap] = sym;
+}
+
+enum { RESTART_CHUNK = 2048 };
+
+/* Thick restart: keep the lowest `keep` Ritz vectors and the previous Ritz
+ * vector (given by coefficients yprev over the first mprev vectors).  All
+ * of it is done on coefficients, V and AV are rotated in place, and the
+ * projected matrix is rebuilt from dot products. */
+static void restart(subspace *s, const double *Y, int keep, const double *yprev, int mprev,
+                    double *work)
+{
+    int m = s->m, k = 0;
+    double *C = work, *tmp = work + (size_t)m * (keep + 1);
+    for (int i = 0; i < m; ++i)
+        for (int c = 0; c < keep; ++c) C[i * (keep + 1) + c] = Y[i * m + c];
+    k = keep;
+    if (mprev > 0) {
+        double *col = tmp; /* the previous vector, orthogonalized in coefficient space */
+        for (int i = 0; i < m; ++i) col[i] = i < mprev ? yprev[i] : 0;
+        for (int c = 0; c < keep; ++c) {
+            double d = 0;
+            for (int i = 0; i < m; ++i) d += C[i * (keep + 1) + c] * col[i];
+            for (int i = 0; i < m; ++i) col[i] -= d * C[i * (keep + 1) + c];
+        }
+        double nrm = 0;
+        for (int i = 0; i < m; ++i) nrm += col[i] * col[i];
+        nrm = sqrt(nrm);
+        if (nrm > 1e-3) {
+            for (int i = 0; i < m; ++i) C[i * (keep + 1) + keep] = col[i] / nrm;
+            k = keep + 1;
+        }
+    }
+    if (k < keep + 1)
+        for (int i = 0; i < m; ++i) C[i * (keep + 1) + keep] = 0;
+    /* C has keep + 1 columns; the last is unused when k == keep */
+    transform_basis(s->V, s->dim, m, C, keep + 1, tmp, RESTART_CHUNK);
+    transform_basis(s->AV, s->dim, m, C, keep + 1, tmp, RESTART_CHUNK);
+    s->m = k;
+    for (int i = 0; i < k; ++i)
+        for (int j = 0; j <= i; ++j) {
+            double a = cblas_ddot((int)s->dim, s->V + (size_t)i * s->dim, 1, s->AV + (size_t)j * s->dim, 1);
+            double b = cblas_ddot((int)s->dim, s->V + (size_t)j * s->dim, 1, s->AV + (size_t)i * s->dim, 1);
+            s->T[i * s->cap + j] = s->T[j * s->cap + i] = 0.5 * (a + b);
+        }
 }
 
 static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
@@ -203,18 +236,20 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
 {
     size_t dim = p->dim;
     int cap = p->max_subspace < 4 ? 4 : p->max_subspace;
+    int keep = cap / 3 < 1 ? 1 : cap / 3;
     subspace s = {dim, cap, 0, 0, NULL, NULL, NULL};
     s.V = lam_malloc(lam_mul_size(lam_mul_size(dim, (size_t)cap), sizeof(double)));
     s.AV = lam_malloc(lam_mul_size(lam_mul_size(dim, (size_t)cap), sizeof(double)));
     s.T = lam_calloc((size_t)cap * cap, sizeof(double));
     double *x = lam_malloc(dim * sizeof(double)), *ax = lam_malloc(dim * sizeof(double));
     double *r = lam_malloc(dim * sizeof(double)), *t = lam_malloc(dim * sizeof(double));
-    double *y = lam_malloc((size_t)cap * sizeof(double));
-    /* the previous Ritz vector as coefficients over V, so that a restart
-     * can rebuild it without two more vectors held */
+    double *Y = lam_malloc((size_t)cap * cap * sizeof(double));
+    double *w = lam_malloc((size_t)cap * sizeof(double));
+    /* the previous Ritz vector as coefficients over V, kept at a restart */
     double *yprev = lam_malloc((size_t)cap * sizeof(double));
     int mprev = 0;
-    double *work = lam_malloc((size_t)cap * (cap + 1) * sizeof(double));
+    double *work = lam_malloc(((size_t)cap * (keep + 1) + (size_t)(keep + 1) * RESTART_CHUNK + cap) *
+                              sizeof(double));
     double *ov = lam_malloc((size_t)cap * sizeof(double));
     double sign = op->sign;
     double theta = 0, rnorm = INFINITY;
@@ -223,9 +258,9 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     orthonormalize(dim, 0, s.V, t, ov);
     subspace_add(&s, op, t);
     while (1) {
-        theta = ritz(&s, y, work);
-        combine(dim, s.m, s.V, y, x);
-        combine(dim, s.m, s.AV, y, ax);
+        ritz(&s, Y, w);
+        combine(dim, s.m, s.V, Y, s.m, x);
+        combine(dim, s.m, s.AV, Y, s.m, ax);
         /* the Rayleigh quotient of x itself, the value that is certified */
         double xx = cblas_ddot((int)dim, x, 1, x, 1);
         theta = cblas_ddot((int)dim, x, 1, ax, 1) / xx;
@@ -238,19 +273,11 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
                      p->label ? ": " : "", s.applied, sign * theta, rnorm);
         if (rnorm <= p->tol || s.applied >= p->max_iter) break;
         if (s.m == cap) {
-            /* r and t are free here: they carry the previous Ritz pair */
-            if (mprev > 0) {
-                combine(dim, mprev, s.V, yprev, t);
-                combine(dim, mprev, s.AV, yprev, r);
-            } else {
-                memcpy(t, x, dim * sizeof(double));
-                memcpy(r, ax, dim * sizeof(double));
-            }
-            restart(&s, x, ax, t, r);
+            restart(&s, Y, keep, yprev, mprev, work);
             mprev = 0;
             continue;
         }
-        memcpy(yprev, y, (size_t)s.m * sizeof(double));
+        for (int i = 0; i < s.m; ++i) yprev[i] = Y[i * s.m];
         mprev = s.m;
         olsen_correction(dim, p->diag, sign, theta, x, r, t);
         double nrm = orthonormalize(dim, s.m, s.V, t, ov);
@@ -274,8 +301,9 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     free(ax);
     free(r);
     free(t);
+    free(Y);
+    free(w);
     free(yprev);
-    free(y);
     free(work);
     free(ov);
 }

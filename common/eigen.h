@@ -3,7 +3,9 @@
  * Davidson's method (Davidson, J. Comput. Phys. 17, 87 (1975)) with the
  * diagonal preconditioner and Olsen's correction (Olsen, Jorgensen and
  * Simons, Chem. Phys. Lett. 169, 463 (1990); citations from memory),
- * restarted from the last two Ritz vectors.  The operator is matrix-free:
+ * thick-restarted from the lowest third of the Ritz vectors and the
+ * previous Ritz vector (which carries near-degenerate pairs through a
+ * restart).  The operator is matrix-free:
  * the caller supplies y = A x and the diagonal.  Small problems are solved
  * densely (the whole matrix is built column by column and diagonalized
  * with LAPACK), which is exact.

@@ -69,6 +69,15 @@ is "$RC" 0 "Z0 + Y0: exit 0"
 near "$(report_get fock_min <<<"$OUT")" -1.4142135623730951 1e-12 "Z0 + Y0: lowest -sqrt(2)"
 near "$(report_get fock_max <<<"$OUT")" 1.4142135623730951 1e-12 "Z0 + Y0: highest +sqrt(2)"
 
+# hopping between the two spin qubits of one orbital: conserves the total
+# number only (1 electron: Z0Z1 = -1 plus hopping +-1, so -2 and 0)
+runlam_in $'1 Z0 Z1\n0.5 X0 X1\n0.5 Y0 Y1\n' lam-range --quiet
+is "$RC" 0 "total-number-conserving Pauli operator: exit 0"
+like "$OUT" $'sector\t1\t\\*\t-2\t0\texact\tcomputed' "total-number block: NB is *, one electron gives -2 and 0"
+runlam_in $'1 Z0 Z1\n0.5 X0 X1\n0.5 Y0 Y1\n' lam-range --quiet --sector 1,0
+is "$RC" 65 "--sector on an operator that mixes the spins: exit 65"
+like "$ERR" "spin-up and spin-down numbers" "--sector on an operator that mixes the spins: message"
+
 # number-changing operator without sectors: only the Fock space
 runlam_in $'0.5 X0\n' lam-range --quiet
 is "$RC" 0 "X0 without sectors: exit 0"
@@ -111,6 +120,10 @@ runlam_in "$H2" lam-range --quiet --tol -1
 is "$RC" 64 "negative --tol: exit 64"
 runlam_in "$H2" lam-range --quiet --frobnicate
 is "$RC" 64 "unknown option: exit 64"
+
+runlam_in $'#% kind: spinfree\n1.0 64 64\n' lam-range --quiet
+is "$RC" 65 "65 orbitals: exit 65"
+like "$ERR" "at most 64" "65 orbitals: message"
 
 runlam_in $'#% lamina-op 1\n#% kind: spinfree\n1.0 0 0\n' lam-range --quiet
 is "$RC" 65 "truncated stream: exit 65"

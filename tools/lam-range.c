@@ -639,6 +639,8 @@ int main(int argc, char **argv)
     int electrons = (int)o.electrons;
     if (kind == LAM_KIND_SPINFREE) {
         lam_spinfree *sf = lam_spinfree_read(r);
+        if (sf->n > 64)
+            lam_fail_at(LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
         sf = hermitian_spinfree(sf, src);
         alive.sf = sf;
         if (electrons < 0 && o.electrons < 0) electrons = sf->electrons;
