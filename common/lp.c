@@ -151,6 +151,18 @@ double lam_l1_objective(const lam_l1_problem *p, const double *x)
     return s;
 }
 
+void lam_l1_write(FILE *f, const lam_l1_problem *p, double fixed)
+{
+    fprintf(f, "# minimize fixed + sum_t w_t |c_t - sum_j a_tj x_j|; rows: w c nnz (j a)...\n");
+    fprintf(f, "params %d\nfixed %.17g\nrows %zu\n", p->params, fixed, p->rows);
+    for (size_t t = 0; t < p->rows; ++t) {
+        fprintf(f, "%.17g %.17g %zu", p->weight[t], p->target[t], p->start[t + 1] - p->start[t]);
+        for (size_t e = p->start[t]; e < p->start[t + 1]; ++e)
+            fprintf(f, " %d %.17g", p->col[e], p->val[e]);
+        fputc('\n', f);
+    }
+}
+
 void lam_l1_default_options(lam_l1_options *opt)
 {
     opt->rel_gap = 1e-10;

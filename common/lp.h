@@ -19,6 +19,7 @@
 #define LAM_LP_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 typedef struct {
     int params;        /* k */
@@ -41,6 +42,9 @@ void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
  * in the same order) by adding their weights; returns the rows left.
  * The objective is unchanged. */
 size_t lam_l1_merge_rows(lam_l1_problem *p);
+/* Text form for other solvers: "params k", "fixed F", "rows m", then per
+ * row "w c nnz j a j a ..." (17 digits); the objective is F + the rows. */
+void lam_l1_write(FILE *f, const lam_l1_problem *p, double fixed);
 /* sum_t w_t |c_t - a_t . x| */
 double lam_l1_objective(const lam_l1_problem *p, const double *x);
 

@@ -194,21 +194,6 @@ static void show_iteration(int it, double primal, double dual, void *ctx)
                  fixed + dual);
 }
 
-static void dump_lp(const char *path, const lam_l1_problem *lp, double fixed)
-{
-    FILE *f = fopen(path, "w");
-    if (!f) lam_fail(LAM_EX_IOERR, "%s: cannot write", path);
-    fprintf(f, "# minimize fixed + sum_t w_t |c_t - sum_j a_tj x_j|; rows: w c nnz (j a)...\n");
-    fprintf(f, "params %d\nfixed %.17g\nrows %zu\n", lp->params, fixed, lp->rows);
-    for (size_t t = 0; t < lp->rows; ++t) {
-        fprintf(f, "%.17g %.17g %zu", lp->weight[t], lp->target[t], lp->start[t + 1] - lp->start[t]);
-        for (size_t e = lp->start[t]; e < lp->start[t + 1]; ++e)
-            fprintf(f, " %d %.17g", lp->col[e], lp->val[e]);
-        fputc('\n', f);
-    }
-    if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "%s: write failed", path);
-}
-
 static void report_matrix(lam_report *rep, const char *name, const lam_shift *k,
                           double (*get)(const lam_shift *, int, int))
 {
@@ -261,7 +246,12 @@ int main(int argc, char **argv)
     double fixed;
     lam_shift_build_lp(h, k, &lp, &fixed);
     lam_progress("%d orbitals, %d parameters, %zu rows depend on them", h->n, k->nparams, lp.rows);
-    if (o.dump) dump_lp(o.dump, &lp, fixed);
+    if (o.dump) {
+        FILE *f = fopen(o.dump, "w");
+        if (!f) lam_fail(LAM_EX_IOERR, "%s: cannot write", o.dump);
+        lam_l1_write(f, &lp, fixed);
+        if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "%s: write failed", o.dump);
+    }
     lam_l1_options lo;
     lam_l1_default_options(&lo);
     lo.rel_gap = o.gap;
