@@ -121,6 +121,21 @@ runlam lam-shift --electrons 1 "$TMP/s1.sf"
 is "$RC" 65 "second shift for another electron number: exit 65"
 like "$ERR" "already shifted for 2 electrons" "second shift for another N: message"
 
+# ... and rebuilt: H = (H - K1 - K2) + the K recorded
+runlam lam-shift --emit-recorded "$TMP/s2.sf"
+is "$RC" 0 "--emit-recorded exits 0"
+printf '%s\n' "$OUT" >"$TMP/krec.sf"
+if [ -x "$LAM_BIN/lam-sum" ]; then
+    lam lam-sum "$TMP/h2.sf" -1:"$TMP/s2.sf" -1:"$TMP/krec.sf" >"$TMP/diff.sf"
+    near "$(lam lam-norm "$TMP/diff.sf" | report_get lambda)" 0 1e-13 \
+        "H - (shifted twice + recorded K): lambda 0"
+    near "$(lam lam-norm "$TMP/diff.sf" | report_get constant)" 0 1e-13 \
+        "H - (shifted twice + recorded K): constant 0"
+fi
+runlam lam-shift --emit-recorded "$TMP/h2.sf"
+is "$RC" 65 "--emit-recorded without shift metadata: exit 65"
+like "$ERR" "no shift-\* metadata" "--emit-recorded without shift metadata: message"
+
 sed 's/^#% shift-xi: 0 0 /#% shift-xi: 0 7 /' "$TMP/s1.sf" >"$TMP/bad-meta.sf"
 runlam lam-shift "$TMP/bad-meta.sf"
 is "$RC" 65 "recorded xi with an orbital out of range: exit 65"
