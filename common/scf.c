@@ -121,10 +121,14 @@ static void fock_build(int n, const double *pk, const double *h, const double *d
                 h[(size_t)i * n + j] + packed_g[LAM_PAIR(i, j)];
 }
 
-/* d = 2 C_occ C_occ^T over the first nocc columns of c (n x m). */
-static void density(int n, int m, int nocc, const double *c, double *d)
+/* d = scale C C^T over the first `used` columns of c (n x m). */
+static void density(int n, int m, int used, double scale, const double *c, double *d)
 {
-    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, nocc, 2.0, c, m, c,
+    if (used == 0) {
+        memset(d, 0, (size_t)n * n * sizeof *d);
+        return;
+    }
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, used, scale, c, m, c,
                 m, 0.0, d, n);
 }
 
@@ -302,12 +306,7 @@ static void occupied_density(scf_state *w)
     for (int i = 0; i < n; ++i)
         for (int k = 0; k < used; ++k)
             w->scaled[(size_t)i * m + k] = w->c[(size_t)i * m + k] * sqrt(w->occ[k]);
-    if (used == 0) {
-        memset(w->d, 0, w->nn * sizeof *w->d);
-        return;
-    }
-    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, used, 1.0, w->scaled, m,
-                w->scaled, m, 0.0, w->d, n);
+    density(n, m, used, 1.0, w->scaled, w->d);
 }
 
 typedef struct {
@@ -644,7 +643,7 @@ lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active)
     double *ccore = orbital_block(s, 0, frozen);
     double *d = lam_calloc(nn, sizeof *d), *f = lam_malloc(nn * sizeof *f);
     double *pd = lam_malloc(n2 * sizeof *pd), *pg = lam_malloc(n2 * sizeof *pg);
-    if (frozen) density(n, frozen, frozen, ccore, d);
+    density(n, frozen, frozen, 2.0, ccore, d);
     fock_build(n, s->pk, s->hcore, d, f, pd, pg);
     double e_core = 0.5 * (trace_product(nn, d, s->hcore) + trace_product(nn, d, f));
 
