@@ -166,16 +166,29 @@ static int run_check(const options *o)
     }
 
     lam_pauli_set_merge(&s, 0);
-    size_t groups = 0;
+    size_t groups = 0, lines_out = 0;
     double grouped = lam_group_lambda(&s, &groups);
+    /* the operator itself: strings merged across groups */
+    lam_pauli_set op;
+    lam_pauli_set_init(&op, s.nqubits);
+    for (size_t t = 0; t < s.count; ++t) {
+        lam_pauli_set_add(&op, lam_pauli_x(&s, t), lam_pauli_z(&s, t), s.coef[t], -1);
+        lines_out += !lam_pauli_is_identity(s.nwords, lam_pauli_x(&s, t), lam_pauli_z(&s, t));
+    }
+    lam_pauli_set_merge(&op, 0);
+    size_t terms = 0;
+    for (size_t t = 0; t < op.count; ++t)
+        terms += !lam_pauli_is_identity(op.nwords, lam_pauli_x(&op, t), lam_pauli_z(&op, t));
     lam_report *rep = lam_report_new();
     lam_report_str(rep, "status", "ok");
     lam_report_str(rep, "grouping", commuting ? "commuting" : "anticommuting");
-    lam_report_int(rep, "terms", (long long)s.count);
+    lam_report_int(rep, "terms", (long long)terms);
+    lam_report_int(rep, "lines", (long long)lines_out);
     lam_report_int(rep, "groups", (long long)groups);
-    lam_report_num(rep, "constant", lam_pauli_set_constant(&s));
-    lam_report_num(rep, "lambda", lam_pauli_set_lambda(&s));
+    lam_report_num(rep, "constant", lam_pauli_set_constant(&op));
+    lam_report_num(rep, "lambda", lam_pauli_set_lambda(&op));
     lam_report_num(rep, commuting ? "group_norm_sum" : "lambda_grouped", grouped);
+    lam_pauli_set_free(&op);
     lam_report_save(rep, o->report ? o->report : o->output, o->tsv);
     lam_report_free(rep);
     free(lines);
