@@ -179,8 +179,8 @@ static void summary_from_pauli_stream(lam_reader *r, const options *o, lam_lcu_s
     lam_pauli_set s;
     lam_pauli_set_init(&s, (int)lam_reader_meta_long(r, "qubits", -1, 0, 1 << 24));
     double t0 = lam_seconds();
-    lam_pauli_read(r, &s);
-    lam_progress("read %zu Pauli terms in %.2f s", s.count, lam_seconds() - t0);
+    lam_pauli_read_merged(r, &s, 1); /* repeated strings never take room */
+    lam_progress("read %zu distinct Pauli terms in %.2f s", s.count, lam_seconds() - t0);
     lam_cost_summary_from_pauli(&s, !o->ungrouped, lcu);
     lam_pauli_set_free(&s);
 }
