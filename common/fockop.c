@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "ci.h"
+#include "encoding.h"
 #include "util.h"
 
 typedef struct {
@@ -518,4 +519,52 @@ void lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subsp
     if (subspace < 1) subspace = 1;
     if (lo) *lo = ritz_bound(op, sec, subspace, 1.0);
     if (hi) *hi = ritz_bound(op, sec, subspace, -1.0);
+}
+
+/* ---- reading and what is conserved ---- */
+
+void lam_fockop_read_stream(lam_reader *r, lam_kind kind, lam_pauli_set *set,
+                            lam_spin_order *order, int *jw)
+{
+    *order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+    *jw = 1;
+    if (kind == LAM_KIND_PAULI) {
+        const lam_meta_entry *enc = lam_meta_find(lam_reader_meta(r), "encoding");
+        lam_encoding_kind ek;
+        if (enc) *jw = lam_encoding_parse(enc->value, &ek) == 0 && ek == LAM_ENC_JORDAN_WIGNER;
+        lam_pauli_set_init(set, 0);
+        lam_pauli_read(r, set);
+        lam_pauli_set_merge(set, 1);
+        return;
+    }
+    lam_fermion_op f;
+    lam_majorana_set m;
+    lam_fermion_read(r, &f);
+    lam_majorana_init(&m, f.nmodes);
+    lam_majorana_from_fermion(&f, &m);
+    lam_majorana_require_hermitian(&m, lam_reader_name(r));
+    lam_encoding *e = lam_encoding_new(LAM_ENC_JORDAN_WIGNER, f.nmodes);
+    lam_pauli_set_init(set, f.nmodes);
+    lam_encoding_map_majorana(e, &m, set);
+    lam_encoding_free(e);
+    lam_majorana_free(&m);
+    lam_fermion_free(&f);
+}
+
+lam_fock_conservation lam_fockop_conservation(const lam_fockop *op, lam_spin_order order, int jw)
+{
+    lam_fock_conservation c = {0, 0, 0, 0, 0};
+    int nq = op->nqubits;
+    c.all = nq >= 64 ? ~0ULL : (1ULL << nq) - 1;
+    if (!jw) return c;
+    if (nq % 2 == 0) {
+        int n = nq / 2;
+        for (int p = 0; p < n; ++p) {
+            c.mask_a |= 1ULL << lam_spin_mode(order, n, p, 0);
+            c.mask_b |= 1ULL << lam_spin_mode(order, n, p, 1);
+        }
+        c.spin_sectors = lam_fockop_conserves(op, c.mask_a) && lam_fockop_conserves(op, c.mask_b);
+    }
+    c.number_blocks = c.spin_sectors || lam_fockop_conserves(op, c.all);
+    return c;
 }

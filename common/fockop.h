@@ -22,7 +22,9 @@
 #include <stdint.h>
 
 #include "eigen.h"
+#include "fermion.h"
 #include "pauli.h"
+#include "stream.h"
 
 typedef struct {
     int nqubits;
@@ -44,6 +46,24 @@ void lam_fockop_free(lam_fockop *op);
  * more than 20 qubits (the exact check enumerates 2^|x| patterns; such an
  * operator is then treated as not conserving). */
 int lam_fockop_conserves(const lam_fockop *op, uint64_t mask);
+
+/* Read a pauli stream, or a fermion stream mapped by Jordan-Wigner (exit
+ * 65 when it is not Hermitian), into set; the spin order from the header
+ * (interleaved by default); *jw = 0 when a pauli stream names another
+ * encoding (its strings then carry no Hamming-weight sectors). */
+void lam_fockop_read_stream(lam_reader *r, lam_kind kind, lam_pauli_set *set,
+                            lam_spin_order *order, int *jw);
+
+/* What a Jordan-Wigner operator conserves: the spin-up and spin-down
+ * numbers on their masks (spin_sectors), or at least the total number on
+ * all qubits (number_blocks). */
+typedef struct {
+    uint64_t mask_a, mask_b, all;
+    int spin_sectors, number_blocks;
+} lam_fock_conservation;
+
+lam_fock_conservation lam_fockop_conservation(const lam_fockop *op,
+                                              lam_spin_order order, int jw);
 
 /* A sector: strings with weight na on mask_a and nb on mask_b (the masks
  * are disjoint and cover all qubits; mask_b = 0 for a total-number

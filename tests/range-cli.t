@@ -56,8 +56,12 @@ ok $(grep -q fock_max <<<"$OUT"; echo $((! $?))) "--lowest leaves out fock_max"
 runlam_in "$H2" lam-range --quiet --sector 1,1 -o "$TMP/rep"
 is "$RC" 0 "-o FILE: exit 0"
 is "$OUT" "" "-o FILE: nothing on stdout"
-is "$(grep -c '^sector' "$TMP/rep")" 1 "--sector: one sector line"
+is "$(grep -c $'^sector\t' "$TMP/rep")" 1 "--sector: one sector line"
 near "$(awk -F'\t' '$1 == "sector" { print $4 }' "$TMP/rep")" -1.1373 5e-5 "--sector 1,1: the full CI energy"
+
+runlam_in "$H2" lam-range --quiet --sector 1,1 --tsv
+like "$(head -1 <<<"$OUT")" $'^sector_na\tsector_nb\tsector_min\tsector_max\tsector_half_range' "--sector --tsv: the sector's keys"
+near "$(tail -1 <<<"$OUT" | cut -f3)" -1.1373 5e-5 "--sector --tsv: sector_min is the full CI energy"
 
 runlam_in "$H2" lam-range --quiet --multiplets
 like "$OUT" $'sector\t2\t0\t-\t-\t-\twithin:1,1' "--multiplets: (2,0) lies within (1,1)"

@@ -9,7 +9,6 @@
 
 #include "ci.h"
 #include "eigen.h"
-#include "encoding.h"
 #include "fermion.h"
 #include "fockop.h"
 #include "pauli.h"
@@ -46,9 +45,10 @@ static _Noreturn void usage(void)
            "  -o, --output FILE    write the report to FILE instead of stdout\n"
            "  -h, --help           show this help\n"
            "      --version        show the version\n\n"
-           "Sector lines: sector NA NB min max status how (tab separated; how is computed,\n"
-           "mirror:NB,NA or rayleigh-ritz).  Then fock_min, fock_max, fock_half_range and,\n"
-           "with an electron number, n_min, n_max, n_half_range; status is exact or bound.\n\n"
+           "Sector lines: sector NA NB min max status how (tab separated; how: computed,\n"
+           "mirror:NB,NA, within:NA,NB or rayleigh-ritz).  Then fock_min, fock_max,\n"
+           "fock_half_range and, with an electron number, n_min, n_max, n_half_range (with\n"
+           "--sector: sector_min, sector_max, sector_half_range); status: exact or bound.\n\n"
            "Example:\n"
            "  lam-ints h4.fcidump | %s --electrons 4\n",
            lam_program(), lam_program());
@@ -336,30 +336,7 @@ static void solve_spinfree(plan *p, const lam_spinfree *sf, const options *o)
 
 /* ---- the generic path: pauli and fermion streams ---- */
 
-typedef struct {
-    uint64_t mask_a, mask_b, all;
-    int spin_sectors, number_blocks;
-} conservation;
-
-static conservation detect_conservation(const lam_fockop *op, lam_spin_order order, int jw)
-{
-    conservation c = {0, 0, 0, 0, 0};
-    int nq = op->nqubits;
-    c.all = nq >= 64 ? ~0ULL : (1ULL << nq) - 1;
-    if (!jw) return c;
-    if (nq % 2 == 0) {
-        int n = nq / 2;
-        for (int p = 0; p < n; ++p) {
-            c.mask_a |= 1ULL << lam_spin_mode(order, n, p, 0);
-            c.mask_b |= 1ULL << lam_spin_mode(order, n, p, 1);
-        }
-        c.spin_sectors = lam_fockop_conserves(op, c.mask_a) && lam_fockop_conserves(op, c.mask_b);
-    }
-    c.number_blocks = c.spin_sectors || lam_fockop_conserves(op, c.all);
-    return c;
-}
-
-static lam_fock_sector fock_sector_of(const sector_plan *e, const conservation *c)
+static lam_fock_sector fock_sector_of(const sector_plan *e, const lam_fock_conservation *c)
 {
     lam_fock_sector s = {0, 0, 0, 0, 0};
     if (e->na < 0) {
@@ -376,7 +353,7 @@ static lam_fock_sector fock_sector_of(const sector_plan *e, const conservation *
     return s;
 }
 
-static void plan_generic(plan *p, const conservation *c, int nq, const options *o, const char *src)
+static void plan_generic(plan *p, const lam_fock_conservation *c, int nq, const options *o, const char *src)
 {
     if ((o->sector_na >= 0 || o->electrons >= 0) && !c->number_blocks)
         lam_fail_at(LAM_EX_DATA, src, 0,
@@ -400,7 +377,7 @@ static void plan_generic(plan *p, const conservation *c, int nq, const options *
     }
 }
 
-static void solve_generic(plan *p, const lam_fockop *op, const conservation *c, const options *o)
+static void solve_generic(plan *p, const lam_fockop *op, const lam_fock_conservation *c, const options *o)
 {
     lam_eigen_problem t;
     eigen_template(o, &t);
@@ -438,35 +415,6 @@ static void solve_generic(plan *p, const lam_fockop *op, const conservation *c, 
         lam_fock_solve(op, &s, &t, o->want_low ? &lo : NULL, o->want_high ? &hi : NULL);
         take_results(e, &lo, &hi, o);
     }
-}
-
-static void read_generic(lam_reader *r, lam_kind kind, lam_pauli_set *set, lam_spin_order *order,
-                         int *jw)
-{
-    *order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
-    *jw = 1;
-    if (kind == LAM_KIND_PAULI) {
-        const lam_meta_entry *enc = lam_meta_find(lam_reader_meta(r), "encoding");
-        lam_encoding_kind ek;
-        if (enc && lam_encoding_parse(enc->value, &ek) == 0) *jw = ek == LAM_ENC_JORDAN_WIGNER;
-        else if (enc) *jw = 0;
-        lam_pauli_set_init(set, 0);
-        lam_pauli_read(r, set);
-        lam_pauli_set_merge(set, 1);
-        return;
-    }
-    lam_fermion_op f;
-    lam_majorana_set m;
-    lam_fermion_read(r, &f);
-    lam_majorana_init(&m, f.nmodes);
-    lam_majorana_from_fermion(&f, &m);
-    lam_majorana_require_hermitian(&m, lam_reader_name(r));
-    lam_encoding *e = lam_encoding_new(LAM_ENC_JORDAN_WIGNER, f.nmodes);
-    lam_pauli_set_init(set, f.nmodes);
-    lam_encoding_map_majorana(e, &m, set);
-    lam_encoding_free(e);
-    lam_majorana_free(&m);
-    lam_fermion_free(&f);
 }
 
 /* ---- report ---- */
@@ -569,6 +517,13 @@ static void write_report(const plan *p, int electrons, const options *o)
         exact &= entry_exact(e, o);
         if (!e->use_bounds) max_res = fmax(max_res, fmax(e->res_lo, e->res_hi));
     }
+    if (o->sector_na >= 0 && p->count == 1) {
+        /* one sector: its values as keys too, so that --tsv carries them */
+        const sector_plan *e = &p->s[0];
+        lam_report_int(rep, "sector_na", e->na);
+        lam_report_int(rep, "sector_nb", e->nb);
+        add_extremes(rep, "sector", e->lo, e->hi, o);
+    }
     if (o->sector_na < 0) {
         double lo, hi;
         extremes(p, -1, o, &lo, &hi);
@@ -586,31 +541,6 @@ static void write_report(const plan *p, int electrons, const options *o)
 }
 
 /* ---- main ---- */
-
-static lam_spinfree *hermitian_spinfree(lam_spinfree *sf, const char *src)
-{
-    double err = lam_spinfree_hermiticity_error(sf), scale = 1;
-    size_t nn = (size_t)sf->n * sf->n;
-    for (size_t i = 0; i < nn; ++i) scale = fmax(scale, fabs(sf->h[i]));
-    for (size_t i = 0; i < nn * nn; ++i) scale = fmax(scale, fabs(sf->g[i]));
-    if (err > 1e-10 * scale)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the operator is not Hermitian (h_pq differs from h_qp or (pq|rs) from (qp|sr) "
-                    "by up to %.3g): its eigenvalues need not be real", err);
-    if (err == 0) return sf;
-    /* rounding-level asymmetry: use (H + H^T)/2 */
-    int n = sf->n;
-    lam_spinfree *s = lam_spinfree_clone(sf);
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q) {
-            LAM_H(s, p, q) = 0.5 * (LAM_H(sf, p, q) + LAM_H(sf, q, p));
-            for (int r = 0; r < n; ++r)
-                for (int t = 0; t < n; ++t)
-                    LAM_G(s, p, q, r, t) = 0.5 * (LAM_G(sf, p, q, r, t) + LAM_G(sf, q, p, t, r));
-        }
-    lam_spinfree_free(sf);
-    return s;
-}
 
 /* Objects alive while a check may still exit: reachable from here, so
  * that an error exit does not look like a leak to valgrind. */
@@ -641,7 +571,7 @@ int main(int argc, char **argv)
         lam_spinfree *sf = lam_spinfree_read(r);
         if (sf->n > 64)
             lam_fail_at(LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
-        sf = hermitian_spinfree(sf, src);
+        sf = lam_ci_hermitian(sf, src);
         alive.sf = sf;
         if (electrons < 0 && o.electrons < 0) electrons = sf->electrons;
         if (electrons > 2 * sf->n)
@@ -657,11 +587,11 @@ int main(int argc, char **argv)
         lam_spin_order order;
         int jw;
         long header_electrons = lam_reader_meta_long(r, "electrons", -1, 0, 128);
-        read_generic(r, kind, &set, &order, &jw);
+        lam_fockop_read_stream(r, kind, &set, &order, &jw);
         if (electrons < 0) electrons = (int)header_electrons;
         lam_fockop *op = lam_fockop_new(&set, src);
         alive.op = op;
-        conservation c = detect_conservation(op, order, jw);
+        lam_fock_conservation c = lam_fockop_conservation(op, order, jw);
         if (electrons > op->nqubits)
             lam_fail(LAM_EX_USAGE, "%d electrons do not fit in %d modes", electrons, op->nqubits);
         /* the header's electron number is a wish, not a demand: without
