@@ -10,7 +10,8 @@
 #    (1e-9 Eh residual norm), and at psi4's r_convergence 1e-7.
 # 2. All sectors, both ends, 10 orbitals (H10 chain): time and peak memory
 #    against the size of one vector of the largest sector.
-# Prints figures; asserts no time.  One thread each (set THREADS=2 for two).
+# Prints wall and CPU seconds (the machine may be shared: CPU time is the
+# fairer figure); asserts no time.  One thread each (THREADS=2 for two).
 set -u
 LAM_BIN=${LAM_BIN:-$(cd "$(dirname "$0")/.." && pwd)/bin}
 ROOT=$(cd "$(dirname "$0")/.." && pwd)
@@ -39,15 +40,16 @@ if sym == "c1":
     from psi4.driver.p4util.fcidump import fcidump
     fcidump(wfn, "h%d.fcidump" % n)
 if do_fci:
-    t = time.time()
+    t, c = time.time(), time.process_time()
     e = psi4.energy("fci", ref_wfn=wfn)
-    print("%.3f %.12f" % (time.time() - t, e))
+    print("%.3f %.12f %.3f" % (time.time() - t, e, time.process_time() - c))
 EOF
 
 have_psi4=${PSI4:-1}
 [ "$have_psi4" = 1 ] && { "${PSI4_ENV[@]}" /usr/bin/python3 -c "import psi4" 2>/dev/null || have_psi4=0; }
 
 peak_kb() { awk -F': ' '/Maximum resident set size/ { print $2 }' "$1"; }
+cpu_s() { awk -F': ' '/User time|System time/ { s += $2 } END { print s }' "$1"; }
 wall_s() {
     awk -F': ' '/Elapsed \(wall clock\)/ { n = split($2, t, ":"); s = 0; for (i = 1; i <= n; ++i) s = s * 60 + t[i]; print s }' "$1"
 }
@@ -55,8 +57,8 @@ wall_s() {
 echo "== 12 orbitals, 12 electrons, sector (6,6), dimension 853776: lowest eigenvalue"
 echo "   stretched H12 chain, H-H 1.2 angstrom, STO-3G; threads: $THREADS; load: $(cut -d' ' -f1-3 /proc/loadavg)"
 if [ $have_psi4 = 1 ]; then
-    read -r psi4_c1_s psi4_c1_e < <("${PSI4_ENV[@]}" /usr/bin/python3 chain.py 12 c1 1 "$THREADS" | tail -1)
-    read -r psi4_pg_s psi4_pg_e < <("${PSI4_ENV[@]}" /usr/bin/python3 chain.py 12 auto 1 "$THREADS" | tail -1)
+    read -r psi4_c1_s psi4_c1_e psi4_c1_cpu < <("${PSI4_ENV[@]}" /usr/bin/python3 chain.py 12 c1 1 "$THREADS" | tail -1)
+    read -r psi4_pg_s psi4_pg_e psi4_pg_cpu < <("${PSI4_ENV[@]}" /usr/bin/python3 chain.py 12 auto 1 "$THREADS" | tail -1)
 else
     echo "   psi4 not available: only lam-range is timed (needs build/bench-range/h12.fcidump)"
 fi
@@ -70,16 +72,17 @@ lam_mb=$(awk -v k="$(peak_kb h12.time)" 'BEGIN { printf "%.0f", k / 1024 }')
 # the residual criterion of psi4's run above (r_convergence 1e-7), for a like-for-like line
 /usr/bin/time -v "$LAM_BIN/lam-range" --lowest --sector 6,6 --tol 1e-7 --threads "$THREADS" --quiet h12.op \
     > h12t.range 2> h12t.time || { cat h12t.time; exit 1; }
-printf '   %-34s %10s  %-20s\n' "program" "seconds" "energy (Eh)"
-printf '   %-34s %10.1f  %-20s  peak %s MB, %s\n' "lam-range --lowest --sector 6,6" "$lam_s" "$lam_e" "$lam_mb" \
+lam_cpu=$(cpu_s h12.time)
+printf '   %-34s %8s %8s  %-20s\n' "program" "wall s" "CPU s" "energy (Eh)"
+printf '   %-34s %8.1f %8.1f  %-20s  peak %s MB, %s\n' "lam-range --lowest --sector 6,6" "$lam_s" "$lam_cpu" "$lam_e" "$lam_mb" \
     "$(awk -F'\t' '$1 == "status" { print "status " $2 }' h12.range)"
-printf '   %-34s %10.1f  %-20s\n' "lam-range ... --tol 1e-7" "$(wall_s h12t.time)" \
+printf '   %-34s %8.1f %8.1f  %-20s\n' "lam-range ... --tol 1e-7" "$(wall_s h12t.time)" "$(cpu_s h12t.time)" \
     "$(awk -F'\t' '$1 == "sector" { print $4 }' h12t.range)"
 if [ $have_psi4 = 1 ]; then
-    printf '   %-34s %10.1f  %-20s\n' "psi4 fci, symmetry c1" "$psi4_c1_s" "$psi4_c1_e"
-    printf '   %-34s %10.1f  %-20s\n' "psi4 fci, its point group" "$psi4_pg_s" "$psi4_pg_e"
-    awk -v a="$lam_s" -v b="$psi4_c1_s" -v c="$psi4_pg_s" -v e="$lam_e" -v f="$psi4_c1_e" 'BEGIN {
-        printf "   time ratio lam-range / psi4: %.2f (c1), %.2f (point group); |energy difference| = %.1e Eh\n",
+    printf '   %-34s %8.1f %8.1f  %-20s\n' "psi4 fci, symmetry c1" "$psi4_c1_s" "$psi4_c1_cpu" "$psi4_c1_e"
+    printf '   %-34s %8.1f %8.1f  %-20s\n' "psi4 fci, its point group" "$psi4_pg_s" "$psi4_pg_cpu" "$psi4_pg_e"
+    awk -v a="$lam_cpu" -v b="$psi4_c1_cpu" -v c="$psi4_pg_cpu" -v e="$lam_e" -v f="$psi4_c1_e" 'BEGIN {
+        printf "   CPU time ratio lam-range / psi4: %.2f (c1), %.2f (point group); |energy difference| = %.1e Eh\n",
                a / b, a / c, (e - f < 0 ? f - e : e - f) }'
 fi
 
@@ -96,10 +99,10 @@ fi
 printf '#%% kind: spinfree\n-1 0 0\n-0.5 1 1\n0.3 0 0 1 1\n' > tiny.op
 /usr/bin/time -v "$LAM_BIN/lam-range" --threads "$THREADS" --quiet tiny.op > /dev/null 2> tiny.time
 vec_kb=$(awk 'BEGIN { printf "%.0f", 63504 * 8 / 1024 }')
-printf '   %-34s %10s  %10s  %s\n' "run" "seconds" "peak MB" "above a 2-orbital run, in vectors of the (5,5) sector"
+printf '   %-34s %8s %8s  %8s  %s\n' "run" "wall s" "CPU s" "peak MB" "above a 2-orbital run, in vectors of the (5,5) sector"
 for t in h10 h10m; do
     label="all sectors (computed + mirrored)"; [ $t = h10m ] && label="--multiplets"
-    printf '   %-34s %10.1f  %10.1f  %.1f\n' "$label" "$(wall_s $t.time)" \
+    printf '   %-34s %8.1f %8.1f  %8.1f  %.1f\n' "$label" "$(wall_s $t.time)" "$(cpu_s $t.time)" \
         "$(awk -v k="$(peak_kb $t.time)" 'BEGIN { print k / 1024 }')" \
         "$(awk -v k="$(peak_kb $t.time)" -v b="$(peak_kb tiny.time)" -v v="$vec_kb" 'BEGIN { print (k - b) / v }')"
 done
