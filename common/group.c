@@ -36,8 +36,12 @@
 /* A share below this fraction of its term's coefficient is folded into
  * the term's largest share. */
 #define SPLIT_DROP 1e-10
-/* A term joins at most this many groups when split. */
+/* A term joins at most this many groups when split.  Shares given to one
+ * term block lighter terms from those groups, so the split is tried with
+ * each of these limits and the best kept (measured: no single limit wins on
+ * every test molecule). */
 #define SPLIT_GROUPS_MAX 32
+static const int split_limits[] = {1, 2, 4, SPLIT_GROUPS_MAX};
 #define NONE UINT32_MAX
 
 typedef struct {
@@ -81,6 +85,7 @@ typedef struct {
     uint32_t ng, gcap;
     /* index (anticommuting mode) */
     int use_index, use_pairs, M;
+    int freeze_filing; /* split shares join member lists but not the index */
     u32vec *single, *pair, wide, odd;
     uint32_t *stamp, now;
     /* Prefix columns, group-major per Majorana index: bit m of
@@ -272,7 +277,7 @@ static void add_member(engine *e, uint32_t gi, uint32_t t)
     g->size++;
     e->gsize[gi] = g->size;
     g->weight += e->tc[t] * e->tc[t];
-    if (e->use_index && g->size == ANCHORS) file_pairs(e, gi);
+    if (e->use_index && !e->freeze_filing && g->size == ANCHORS) file_pairs(e, gi);
 }
 
 static uint32_t new_group(engine *e, uint32_t t)
@@ -515,8 +520,9 @@ typedef struct {
 
 /* Home group first, then every group that admits the term next to its core
  * and the extras given to it before (so each group stays anticommuting). */
-static void collect_memberships(engine *e, int split, shares *sh)
+static void collect_memberships(engine *e, int split, int limit, shares *sh)
 {
+    e->freeze_filing = 1;
     size_t cap = e->nterms + 16;
     sh->start = lam_malloc(lam_mul_size(e->nterms + 1, sizeof *sh->start));
     sh->gid = lam_malloc(lam_mul_size(cap, sizeof *sh->gid));
@@ -524,7 +530,7 @@ static void collect_memberships(engine *e, int split, shares *sh)
     double next = lam_seconds() + 1.0;
     for (size_t t = 0; t < e->nterms; ++t) {
         sh->start[t] = sh->count;
-        size_t need = sh->count + 1 + (split ? SPLIT_GROUPS_MAX : 0);
+        size_t need = sh->count + 1 + (split ? (size_t)limit : 0);
         if (need > cap) {
             while (cap < need) cap = lam_mul_size(cap, 2);
             sh->gid = lam_realloc(sh->gid, lam_mul_size(cap, sizeof *sh->gid));
@@ -537,7 +543,7 @@ static void collect_memberships(engine *e, int split, shares *sh)
         query(e, home);
         all_admitting(e);
         int taken = 0;
-        for (uint32_t k = 0; k < e->found.n && taken < SPLIT_GROUPS_MAX; ++k) {
+        for (uint32_t k = 0; k < e->found.n && taken < limit; ++k) {
             uint32_t gi = e->found.v[k];
             /* an extra joins the member list so later terms are tested
              * against it; weights stay those of the cores */
@@ -553,6 +559,7 @@ static void collect_memberships(engine *e, int split, shares *sh)
         if ((t & 4095) == 0) progress_every(&next, "splitting", t, e->nterms);
     }
     sh->start[e->nterms] = sh->count;
+    e->freeze_filing = 0;
     sh->share = lam_malloc(lam_mul_size(sh->count ? sh->count : 1, sizeof *sh->share));
     for (size_t t = 0; t < e->nterms; ++t) sh->share[sh->start[t]] = e->tc[t];
     for (size_t t = 0; t < e->nterms; ++t)
@@ -655,6 +662,39 @@ static int optimize_split(const engine *e, shares *sh, int iterations, double *b
     free(trial);
     free(trial_next);
     return it;
+}
+
+static void shares_free(shares *sh)
+{
+    free(sh->start);
+    free(sh->gid);
+    free(sh->share);
+    memset(sh, 0, sizeof *sh);
+}
+
+/* sum_g ||c_g|| of the shares as they stand. */
+static double shares_objective(const engine *e, const shares *sh)
+{
+    double *acc = lam_calloc(e->ng ? e->ng : 1, sizeof *acc), sum = 0;
+    for (size_t t = 0; t < e->nterms; ++t)
+        for (size_t k = sh->start[t]; k < sh->start[t + 1]; ++k)
+            acc[sh->gid[k]] += sh->share[k] * sh->share[k];
+    for (uint32_t gi = 0; gi < e->ng; ++gi) sum += sqrt(acc[gi]);
+    free(acc);
+    return sum;
+}
+
+/* Drop the split shares from the member lists: back to the groups found by
+ * grouping and refinement (the shares never entered the index). */
+static void truncate_to_cores(engine *e, const uint32_t *core)
+{
+    for (uint32_t gi = 0; gi < e->ng; ++gi) {
+        group *g = &e->g[gi];
+        for (uint32_t m = core[gi]; m < g->size; ++m)
+            for (int c = 0; c <= e->M; ++c) set_member_bit(e, gi, c, m, 0);
+        g->size = core[gi];
+        e->gsize[gi] = core[gi];
+    }
 }
 
 /* Fold negligible shares into the largest one, which takes whatever the
@@ -901,19 +941,39 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
         if (fall <= 1e-6 * st->lambda_refined) break; /* later passes gain less */
     }
 
-    shares sh;
-    collect_memberships(&e, split, &sh);
-    if (split && sh.count > n) {
-        st->split_iterations_done =
-            optimize_split(&e, &sh, opt->split_iterations, &st->split_bound);
-        tidy_shares(&e, &sh);
+    shares sh = {0};
+    uint32_t *core = lam_malloc(lam_mul_size(e.ng ? e.ng : 1, sizeof *core));
+    for (uint32_t gi = 0; gi < e.ng; ++gi) core[gi] = e.g[gi].size;
+    double best = HUGE_VAL;
+    int tries = split ? (int)(sizeof split_limits / sizeof *split_limits) : 1;
+    for (int k = 0; k < tries; ++k) {
+        shares trial;
+        double bound = 0;
+        int iterations = 0;
+        collect_memberships(&e, split, split_limits[k], &trial);
+        if (split && trial.count > n) {
+            iterations = optimize_split(&e, &trial, opt->split_iterations, &bound);
+            tidy_shares(&e, &trial);
+        }
+        double value = shares_objective(&e, &trial);
+        lam_progress("split over at most %d groups a term: lambda_grouped %.12g Eh",
+                     split_limits[k], value);
+        if (value < best) {
+            best = value;
+            shares_free(&sh);
+            sh = trial;
+            st->split_bound = bound;
+            st->split_iterations_done = iterations;
+        } else {
+            shares_free(&trial);
+        }
+        truncate_to_cores(&e, core);
     }
+    free(core);
     emit(&e, &sh, in, rank_to_term, out, st);
     st->lambda_grouped = lam_group_lambda(out, NULL);
 
-    free(sh.start);
-    free(sh.gid);
-    free(sh.share);
+    shares_free(&sh);
     engine_free(&e);
     free(tbits);
     free(tc);
