@@ -1,21 +1,29 @@
 /* group.c - anticommuting (or commuting) grouping of Pauli terms.
  *
- * Terms are processed by decreasing |c|.  A group keeps copies of its
- * members' bit strings next to each other, so testing a group touches one
- * short run of memory.
+ * Terms are processed by decreasing |c|.
  *
- * The index.  Read back through the inverse Jordan-Wigner map, every Pauli
- * string is (up to phase) a product of Majorana operators gamma_A over a
- * set A of the 2n Majorana indices, and gamma_A, gamma_B anticommute
- * exactly when |A||B| + |A n B| is odd.  When |A||B| is even (molecular
- * Hamiltonians are sums of even monomials) anticommuting sets must
- * intersect.  So a term P can only join a group whose first two members
- * a1, a2 both meet A_P: the group is filed under every pair (i, j) with
- * i in a1, j in a2, and P looks at the lists of the |A_P|^2 pairs drawn
- * from its own set.  For Jordan-Wigner streams of molecules (|A| <= 4) that
- * is a small fraction of all groups; for other encodings the sets are
- * wider, the filter weaker, and the result the same.  The map is a linear
- * bijection preserving commutation, so it is exact for any input.
+ * Read back through the inverse Jordan-Wigner map, every Pauli string is
+ * (up to phase) a product of Majorana operators gamma_A over a set A of the
+ * 2n Majorana indices, and gamma_A, gamma_B anticommute exactly when
+ * |A||B| + |A n B| is odd.  The map is a linear bijection that keeps
+ * commutation, so all of this is exact whatever encoding wrote the stream;
+ * it is fast when the sets are small, as for Jordan-Wigner molecules.
+ *
+ * The test.  A group keeps, per Majorana index i, a bit column over its
+ * members (bit m: member m holds i) and one column of degree parities.  A
+ * term anticommutes with every member exactly when the XOR of the columns
+ * of its indices (and the parity column when its degree is odd) is all
+ * ones: four or five word operations for a whole two-body group.  The words
+ * of the first 64 members of all groups sit in one array per index, which
+ * stays in cache; longer groups finish from their own columns.
+ *
+ * The index.  When |A||B| is even (molecular Hamiltonians are sums of even
+ * monomials), anticommuting sets must intersect.  So a term can only join
+ * a group whose first two members a1, a2 both meet its set: the group is
+ * filed under every pair (i, j), i in a1, j in a2, and a term scans only
+ * the lists of the pairs drawn from its own set.  Groups of one member are
+ * filed by single index; groups with an odd anchor also go on a list that
+ * odd terms scan; anchors with many indices go on a list every term scans.
  */
 #include "group.h"
 
