@@ -964,6 +964,7 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
             tidy_shares(&e, &trial);
         }
         double value = shares_objective(&e, &trial);
+        if (!(split && trial.count > n)) bound = value; /* nothing shared: optimal */
         lam_progress("split over at most %d groups a term: lambda_grouped %.12g Eh",
                      split_limits[k], value);
         if (value < best) {
