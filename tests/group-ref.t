@@ -143,6 +143,13 @@ def check_stream(name, pauli_text, electrons=None):
     floor = half_range([x for x in terms if x[1]], nq)
     t.ok(rep["lambda_grouped"] >= floor * (1 - 1e-10),
          "%s: lambda_grouped %.6f >= Fock half range %.6f" % (name, rep["lambda_grouped"], floor))
+    norm = lamtest.report(lamtest.run("lam-norm", [], stdin=out, check=True)[1])
+    t.near(norm.get("lambda_grouped"), rep["lambda_grouped"], 1e-12,
+           "%s: lam-norm reads the same lambda_grouped" % name, rel=True)
+    if nq <= 10 and os.path.exists(os.path.join(lamtest.BIN, "lam-range")):
+        rng = lamtest.report(lamtest.run("lam-range", ["--quiet"], stdin=out, check=True)[1])
+        t.near(rng.get("fock_half_range"), floor, 1e-8,
+               "%s: lam-range's fock_half_range agrees with numpy" % name, rel=True)
     if nq <= 6:
         worst = 0.0
         for m in groups.values():
