@@ -67,7 +67,7 @@ static uint64_t rng(void)
 static void random_set(lam_pauli_set *s, int nq, size_t count, int maxweight)
 {
     lam_pauli_set_init(s, nq);
-    uint64_t x[4], z[4];
+    uint64_t x[16], z[16]; /* up to 1024 qubits */
     for (size_t t = 0; t < count; ++t) {
         memset(x, 0, sizeof x);
         memset(z, 0, sizeof z);
@@ -299,6 +299,7 @@ int main(void)
     test_random(40, 600, 12, LAM_GROUP_BEST, 1, 0);
     test_random(70, 500, 20, LAM_GROUP_SORTED, 1, 0);
     test_random(130, 300, 30, LAM_GROUP_BEST, 1, 0);
+    test_random(600, 200, 6, LAM_GROUP_SORTED, 1, 0); /* too many Majoranas for pair lists */
     test_random(8, 300, 4, LAM_GROUP_BEST, 0, 1);
     test_random(70, 300, 10, LAM_GROUP_SORTED, 1, 1);
     return tap_done();
