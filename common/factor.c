@@ -1,5 +1,6 @@
 /* factor.c - double factorization and greedy full-rank fragments. */
 #include "factor.h"
+#include "linalg.h"
 
 #include <cblas.h>
 #include <lapacke.h>
@@ -50,18 +51,12 @@ static double frobenius(size_t len, const double *a)
 }
 
 /* Eigenvalues ascending in w, eigenvectors as the columns of z; a is
- * overwritten.  LAPACK failure is an internal error. */
+ * left as it was given. */
 static void symmetric_eigen(int n, double *a, double *w, double *z)
 {
     if (n == 0) return;
-    lapack_int found = 0;
-    lapack_int *support = lam_malloc(lam_mul_size(2 * (size_t)n, sizeof(lapack_int)));
-    lapack_int info = LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'A', 'U', n, a, n, 0.0, 0.0, 0, 0,
-                                     0.0, &found, w, z, n, support);
-    free(support);
-    if (info != 0 || found != n)
-        lam_fail(LAM_EX_SOFTWARE, "dsyevr failed (info %d) on a %d x %d matrix", (int)info, n,
-                 n);
+    memcpy(z, a, (size_t)n * (size_t)n * sizeof(double));
+    lam_symmetric_eigen(n, z, w);
 }
 
 /* Make det(v) = +1 by flipping the sign of column 0 when needed: the sign

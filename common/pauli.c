@@ -558,6 +558,64 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s)
     return top;
 }
 
+void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
+{
+    long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
+    int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
+    uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
+    lam_rowhash labels_index;
+    lam_rowhash_init(&labels_index);
+    uint64_t *labels = NULL;
+    double *sumsq = NULL;
+    size_t labels_cap = 0;
+    memset(out, 0, sizeof *out);
+    lam_line ln;
+    while (lam_reader_next(r, &ln)) {
+        int32_t group;
+        long need;
+        while ((need = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group)) >= 0) {
+            nw = lam_pauli_words((int)need);
+            xz = lam_realloc(xz, lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+        }
+        int weight = lam_pauli_weight(nw, xz, xz + nw);
+        for (int k = nw - 1; k >= 0; --k)
+            if (xz[k] | xz[nw + k]) {
+                int top = k * 64 + 64 - __builtin_clzll(xz[k] | xz[nw + k]);
+                if (top > out->nqubits) out->nqubits = top;
+                break;
+            }
+        if (ln.coef == 0) continue;
+        ++out->terms;
+        if (weight == 0) {
+            out->constant += ln.coef;
+            continue;
+        }
+        double a = ln.coef < 0 ? -ln.coef : ln.coef;
+        out->lambda += a;
+        if (weight > out->max_weight) out->max_weight = weight;
+        if (group < 0) {
+            out->lambda_grouped += a;
+            continue;
+        }
+        out->labelled = 1;
+        if (out->groups == labels_cap) {
+            labels_cap = labels_cap ? 2 * labels_cap : 256;
+            labels = lam_realloc(labels, lam_mul_size(labels_cap, sizeof *labels));
+            sumsq = lam_realloc(sumsq, lam_mul_size(labels_cap, sizeof *sumsq));
+        }
+        labels[out->groups] = (uint64_t)group;
+        size_t k = lam_rowhash_insert(&labels_index, labels, 1, NULL, out->groups);
+        if (k == out->groups) sumsq[out->groups++] = ln.coef * ln.coef;
+        else sumsq[k] += ln.coef * ln.coef;
+    }
+    for (size_t g = 0; g < out->groups; ++g) out->lambda_grouped += sqrt(sumsq[g]);
+    if (declared >= 0) out->nqubits = (int)declared;
+    lam_rowhash_free(&labels_index);
+    free(labels);
+    free(sumsq);
+    free(xz);
+}
+
 /* A group of anticommuting strings is sqrt(sum c^2) times a unitary
  * (fact of the trade): each label costs the Euclidean norm of its
  * coefficients, each unlabelled string its |c|. */

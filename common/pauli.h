@@ -115,6 +115,22 @@ void lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop);
 void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln,
                             int nqubits, int nw, uint64_t *x, uint64_t *z,
                             int32_t *group);
+/* What lam-norm reports of a pauli stream, gathered in one pass without
+ * storing the terms: valid as the operator's one-norm only when no string
+ * appears twice (the writer's "distinct: yes").  Exact zeros are not
+ * counted. */
+typedef struct {
+    size_t terms;       /* non-zero term lines, identity included */
+    double constant;    /* identity coefficient */
+    double lambda;      /* sum |c| over non-identity lines */
+    double lambda_grouped; /* sum over labels of sqrt(sum c^2) + unlabelled |c| */
+    size_t groups;      /* distinct labels */
+    int labelled;       /* any line had a label */
+    int nqubits;        /* "qubits:" or the highest index + 1 */
+    int max_weight;
+} lam_pauli_summary;
+void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out);
+
 /* Write every term (with "@g" when labelled); not the header. */
 void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s);
 

@@ -1,5 +1,6 @@
 /* scf.c - restricted Hartree-Fock with DIIS, and the MO Hamiltonian. */
 #include "scf.h"
+#include "linalg.h"
 
 #include <cblas.h>
 #include <lapacke.h>
@@ -42,11 +43,6 @@ double lam_scf_bytes(int nbf)
     return 2.0 * 8.0 * (double)lam_eri_count(nbf) + 8.0 * 40.0 * n * n;
 }
 
-static void symmetric_eigen(int n, double *a, double *w)
-{
-    if (LAPACKE_dsyevd(LAPACK_ROW_MAJOR, 'V', 'U', n, a, n, w) != 0)
-        lam_fail(LAM_EX_SOFTWARE, "symmetric eigensolver failed (n = %d)", n);
-}
 
 /* c = a^T b (a: k x m, b: k x n, c: m x n). */
 static void mat_tn(int m, int n, int k, const double *a, const double *b, double *c)
@@ -69,7 +65,7 @@ static int orthogonalizer(int n, const double *s, double s_tol, double *x)
     double *u = lam_malloc(lam_mul_size((size_t)n * n, sizeof *u));
     double *w = lam_malloc((size_t)n * sizeof *w);
     memcpy(u, s, (size_t)n * n * sizeof *u);
-    symmetric_eigen(n, u, w);
+    lam_symmetric_eigen(n, u, w);
     int first = 0;
     while (first < n && w[first] < s_tol) ++first;
     int m = n - first;
@@ -146,7 +142,7 @@ static void roothaan_step(int n, int m, const double *x, const double *f,
     double *fx = work, *fo = work + (size_t)n * m;
     mat_nn(n, m, n, f, x, fx);
     mat_tn(m, m, n, x, fx, fo);
-    symmetric_eigen(m, fo, eps);
+    lam_symmetric_eigen(m, fo, eps);
     mat_nn(n, m, m, x, fo, c);
 }
 

@@ -514,7 +514,10 @@ struct lam_writer {
     gzFile gz;
     char *name;
     int owns_fp;
+    int distinct;
 };
+
+void lam_writer_set_distinct(lam_writer *w) { w->distinct = 1; }
 
 lam_writer *lam_writer_open(const char *path, int gzip)
 {
@@ -573,7 +576,7 @@ void lam_writer_printf(lam_writer *w, const char *fmt, ...)
 static int reserved_key(const char *key)
 {
     return strcmp(key, "kind") == 0 || strcmp(key, "lamina-op") == 0 ||
-           strcmp(key, "end") == 0;
+           strcmp(key, "end") == 0 || strcmp(key, "distinct") == 0;
 }
 
 void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
@@ -583,6 +586,7 @@ void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
     for (size_t i = 0; meta && i < meta->count; ++i)
         if (!reserved_key(meta->items[i].key))
             lam_writer_printf(w, "#%% %s: %s\n", meta->items[i].key, meta->items[i].value);
+    if (w->distinct) lam_writer_printf(w, "#%% distinct: yes\n");
     if (history) lam_writer_printf(w, "#%% history: %s\n", history);
 }
 

@@ -101,7 +101,10 @@ typedef struct lam_writer lam_writer;
  * failure. */
 lam_writer *lam_writer_open(const char *path, int gzip);
 /* "#% lamina-op 1", "#% kind: K", every entry of meta except the reserved
- * keys (lamina-op, kind, end), then "#% history: <history>". */
+ * keys (lamina-op, kind, end, distinct), then "#% history: <history>".
+ * "distinct: yes" is written only after lam_writer_set_distinct: a program
+ * states it of its own output, it never passes through. */
+void lam_writer_set_distinct(lam_writer *w);
 void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
                        const char *history);
 /* One term: coefficient with 17 significant digits, then rest (may be

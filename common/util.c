@@ -157,10 +157,18 @@ static int parse_double_fast(int negative, uint64_t m, int e10, double *out)
     }
     if (e10 < -27 || e10 > 27) return -1;
     long double v = e10 >= 0 ? (long double)m * pow10[e10] : (long double)m / pow10[-e10];
-    double d = (double)v;
-    if (!(fabs(d) >= DBL_MIN) || !isfinite(d)) return -1;
-    /* the double spacing on v's side of d (it halves below a power of 2) */
-    long double ulp = fabsl((long double)nextafter(d, v > d ? INFINITY : -INFINITY) - (long double)d);
+    double d = (double)v; /* v > 0 */
+    uint64_t bits;
+    memcpy(&bits, &d, sizeof bits);
+    uint64_t exponent = bits >> 52;
+    if (exponent <= 53 || exponent >= 0x7ff) return -1; /* tiny, subnormal or inf */
+    /* the double spacing on v's side of d: 2^(e-52), halved below a power
+     * of two */
+    uint64_t ulp_bits = (exponent - 52) << 52;
+    if ((bits & ((UINT64_C(1) << 52) - 1)) == 0 && v < (long double)d) ulp_bits -= UINT64_C(1) << 52;
+    double ulp_d;
+    memcpy(&ulp_d, &ulp_bits, sizeof ulp_d);
+    long double ulp = ulp_d;
     long double off = fabsl(v - (long double)d);
     if (fabsl(off - ulp / 2) <= ulp * 0x1p-10L) return -1;
     *out = negative ? -d : d;

@@ -114,4 +114,27 @@ printf '%s1 0 2\n#%% end\n' "$S" > "$TMP/b11.op"
 runlam lam-norm "$TMP/b11.op"
 is "$RC" 65 "spinfree index out of range: exit 65"
 
+# A stream written by lam-map says "distinct: yes" and is summed in one pass;
+# the same terms without that line go through the hash merge: same report.
+SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+lam lam-ints "$SZ" | lam lam-map > "$TMP/d.op"
+like "$(cat "$TMP/d.op")" '#% distinct: yes' "lam-map states that its strings are distinct"
+is "$(lam lam-norm "$TMP/d.op")" "$(grep -v '^#% distinct' "$TMP/d.op" | lam lam-norm)" \
+   "one-pass sum and hash merge give the same report"
+# distinct is never passed through: a tool must state it of its own output.
+lam lam-group "$TMP/d.op" 2>/dev/null > "$TMP/g.op"
+ok "$(grep -q '^#% distinct' "$TMP/g.op"; [ $? -ne 0 ]; echo $?)" "lam-group output does not inherit distinct"
+# Repeated strings without the header line are merged (0.25 + 0.25 - 0.5 = 0).
+runlam_in "$(printf '0.25 X0\n0.25 X0\n-0.5 X0\n0.1 Z1\n')" lam-norm
+is "$(printf '%s\n' "$OUT" | report_get lambda)" "0.10000000000000001" "repeated strings merged before the one-norm"
+
+# Fragments streams (lam-factor): lam-norm reports the LCU of reflections.
+lam lam-ints "$SZ" | lam lam-factor --report "$TMP/frep" > "$TMP/f.op" 2>/dev/null
+runlam lam-norm "$TMP/f.op"
+is "$RC" 0 "fragments stream: exit 0"
+is "$(printf '%s\n' "$OUT" | report_get kind)" fragments "kind fragments"
+near "$(printf '%s\n' "$OUT" | report_get lambda)" "$(report_get lambda < "$TMP/frep")" 1e-12 \
+   "lambda of the fragments equals lam-factor's own report"
+like "$OUT" 'unitaries	[0-9]+' "unitary count reported"
+
 done_testing

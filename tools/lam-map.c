@@ -150,6 +150,8 @@ int main(int argc, char **argv)
     writer_ctx c = {lam_writer_open(o.output, o.gzip), enc->nwords, NULL,
                     (size_t)m.nmodes * 10 + 32, o.drop, 0, 0, 0.0};
     c.buf = lam_malloc(c.size);
+    /* merged Majorana monomials map one to one onto Pauli strings */
+    lam_writer_set_distinct(c.w);
     lam_writer_header(c.w, LAM_KIND_PAULI, &meta, history);
     lam_encoding_each_pauli(enc, &m, write_string, &c);
     lam_writer_close(c.w);

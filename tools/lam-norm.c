@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "fermion.h"
+#include "fragments.h"
 #include "pauli.h"
 #include "report.h"
 #include "spinfree.h"
@@ -88,8 +89,47 @@ static void norm_fermion(lam_report *rep, lam_reader *r)
     lam_fermion_free(&op);
 }
 
+/* A label names an anticommuting group unless the header says the groups
+ * only commute (measurement groups are not unitaries up to scale, so they
+ * have no grouped one-norm). */
+static void report_groups(lam_report *rep, lam_reader *r, size_t groups, double grouped)
+{
+    const char *grouping = lam_meta_get(lam_reader_meta(r), "grouping");
+    lam_report_int(rep, "groups", (long long)groups);
+    if (!grouping || strcmp(grouping, "anticommuting") == 0)
+        lam_report_num(rep, "lambda_grouped", grouped);
+    else
+        lam_report_str(rep, "grouping", grouping);
+}
+
+/* A stream whose writer stated "distinct: yes" has no string twice, so its
+ * one-norm is a running sum: no terms held, no merging. */
+static void norm_fragments(lam_report *rep, lam_reader *r)
+{
+    lam_fragments *fr = lam_fragments_read(r);
+    lam_fragments_report(fr, rep);
+    lam_fragments_free(fr);
+}
+
+static void norm_pauli_distinct(lam_report *rep, lam_reader *r)
+{
+    lam_pauli_summary sum;
+    lam_pauli_summarize(r, &sum);
+    lam_report_int(rep, "terms", (long long)sum.terms);
+    lam_report_num(rep, "constant", sum.constant);
+    lam_report_num(rep, "lambda", sum.lambda);
+    if (sum.labelled) report_groups(rep, r, sum.groups, sum.lambda_grouped);
+    lam_report_int(rep, "qubits", sum.nqubits);
+    lam_report_int(rep, "max_weight", sum.max_weight);
+}
+
 static void norm_pauli(lam_report *rep, lam_reader *r)
 {
+    const char *distinct = lam_meta_get(lam_reader_meta(r), "distinct");
+    if (distinct && strcmp(distinct, "yes") == 0) {
+        norm_pauli_distinct(rep, r);
+        return;
+    }
     lam_pauli_set s;
     double t0 = lam_seconds();
     lam_pauli_read_merged(r, &s, 1);
@@ -98,17 +138,9 @@ static void norm_pauli(lam_report *rep, lam_reader *r)
     lam_report_num(rep, "constant", lam_pauli_set_constant(&s));
     lam_report_num(rep, "lambda", lam_pauli_set_lambda(&s));
     if (s.group) {
-        /* a label names an anticommuting group unless the header says the
-         * groups only commute (measurement groups are not unitaries up to
-         * scale, so they have no grouped one-norm) */
-        const char *grouping = lam_meta_get(lam_reader_meta(r), "grouping");
         size_t groups;
         double grouped = lam_pauli_set_lambda_grouped(&s, &groups);
-        lam_report_int(rep, "groups", (long long)groups);
-        if (!grouping || strcmp(grouping, "anticommuting") == 0)
-            lam_report_num(rep, "lambda_grouped", grouped);
-        else
-            lam_report_str(rep, "grouping", grouping);
+        report_groups(rep, r, groups, grouped);
     }
     lam_report_int(rep, "qubits", s.nqubits);
     lam_report_int(rep, "max_weight", lam_pauli_set_max_weight(&s));
@@ -154,6 +186,7 @@ int main(int argc, char **argv)
     case LAM_KIND_SPINFREE: norm_spinfree(rep, r); break;
     case LAM_KIND_FERMION: norm_fermion(rep, r); break;
     case LAM_KIND_PAULI: norm_pauli(rep, r); break;
+    case LAM_KIND_FRAGMENTS: norm_fragments(rep, r); break;
     case LAM_KIND_UNKNOWN:
         lam_reader_fail(r, "cannot tell the kind of the stream: give --kind");
     default:

@@ -357,6 +357,8 @@ int main(int argc, char **argv)
         lam_pauli_set_merge(&pauli_acc, 1);
         if (sort) sort_pauli(&pauli_acc);
         lam_meta_setf(&meta, "qubits", "%d", pauli_acc.nqubits);
+        /* merged by (string, label): strings are distinct only unlabelled */
+        if (!pauli_acc.group) lam_writer_set_distinct(w);
         lam_writer_header(w, kind, &meta, history);
         lam_pauli_write_terms(w, &pauli_acc);
     } else {
