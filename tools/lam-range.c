@@ -569,6 +569,7 @@ int main(int argc, char **argv)
     int electrons = (int)o.electrons;
     if (kind == LAM_KIND_SPINFREE) {
         lam_spinfree *sf = lam_spinfree_read(r);
+        alive.sf = sf;
         if (sf->n > 64)
             lam_fail_at(LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
         sf = lam_ci_hermitian(sf, src);
