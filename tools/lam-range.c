@@ -508,14 +508,17 @@ static void add_extremes(lam_report *rep, const char *prefix, double lo, double 
 static void write_report(const plan *p, int electrons, const options *o)
 {
     lam_report *rep = lam_report_new();
-    int exact = 1;
+    int exact = 1, solved = 0;
     double max_res = 0;
     for (int i = 0; i < p->count; ++i) {
         const sector_plan *e = &p->s[i];
         if (e->na >= 0) sector_line(rep, p, e, o);
         if (e->skipped) continue;
         exact &= entry_exact(e, o);
-        if (!e->use_bounds) max_res = fmax(max_res, fmax(e->res_lo, e->res_hi));
+        if (!e->use_bounds) {
+            max_res = fmax(max_res, fmax(e->res_lo, e->res_hi));
+            solved = 1;
+        }
     }
     if (o->sector_na >= 0 && p->count == 1) {
         /* one sector: its values as keys too, so that --tsv carries them */
@@ -534,7 +537,7 @@ static void write_report(const plan *p, int electrons, const options *o)
             add_extremes(rep, "n", lo, hi, o);
         }
     }
-    lam_report_num(rep, "max_residual", max_res);
+    if (solved) lam_report_num(rep, "max_residual", max_res);
     lam_report_str(rep, "status", exact ? "exact" : "bound");
     lam_report_save(rep, o->output, o->tsv);
     lam_report_free(rep);
