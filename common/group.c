@@ -94,6 +94,7 @@ typedef struct {
     /* index (anticommuting mode) */
     int use_index, use_pairs, M;
     int freeze_filing; /* split shares join member lists but not the index */
+    int near;          /* queries look for swap partners (near_admits) */
     u32vec *single, *pair, wide, odd;
     uint32_t *stamp, now;
     /* Prefix columns, group-major per Majorana index: bit m of
@@ -160,17 +161,32 @@ static void prepare_term(engine *e, const uint64_t *p)
     e->pdeg = majorana_set(e->nw, p, e->pidx, e->M);
 }
 
-/* Members 0..63 against the prepared term, from the prefix columns: for
- * most groups this is the whole test, in a few loads that stay in cache. */
-static int prefix_admits(const engine *e, uint32_t gi)
+/* Members 0..63 that fail against the prepared term (a bit each), from
+ * the prefix columns: for most groups this is the whole test, in a few
+ * loads that stay in cache. */
+static uint64_t prefix_mismatch(const engine *e, uint32_t gi)
 {
     uint32_t size = e->gsize[gi];
-    if (size == 0) return 0;
     uint64_t acc = 0;
     for (int k = 0; k < e->pdeg; ++k) acc ^= e->pcol[e->pidx[k]][gi];
     if (e->pdeg & 1) acc ^= e->pcol[e->M][gi];
     uint64_t mask = size >= 64 ? ~(uint64_t)0 : (((uint64_t)1 << size) - 1);
-    return (acc & mask) == (e->want_anti ? mask : 0);
+    return (acc ^ (e->want_anti ? mask : 0)) & mask;
+}
+
+static int prefix_admits(const engine *e, uint32_t gi)
+{
+    return e->gsize[gi] > 0 && prefix_mismatch(e, gi) == 0;
+}
+
+/* A group of at most 64 where the term fails against exactly one member,
+ * not an anchor: a partner for a swap. */
+static int near_admits(const engine *e, uint32_t gi)
+{
+    uint32_t size = e->gsize[gi];
+    if (size <= ANCHORS || size > 64) return 0;
+    uint64_t miss = prefix_mismatch(e, gi);
+    return miss && (miss & (miss - 1)) == 0 && __builtin_ctzll(miss) >= ANCHORS;
 }
 
 /* The members from 64 on, from the group's own columns. */
@@ -348,7 +364,8 @@ static void consider(engine *e, uint32_t gi, uint32_t exclude)
 {
     if (e->stamp[gi] == e->now) return;
     e->stamp[gi] = e->now;
-    if (gi != exclude && prefix_admits(e, gi)) u32_push(&e->cand, gi);
+    if (gi != exclude && (e->near ? near_admits(e, gi) : prefix_admits(e, gi)))
+        u32_push(&e->cand, gi);
 }
 
 /* Single lists drop groups that moved on to pair lists or died. */
@@ -491,7 +508,44 @@ static double move_gain(double wa, double wb, double c2)
     return (sqrt(wa) - sqrt(rest)) - (sqrt(wb + c2) - sqrt(wb));
 }
 
-/* One pass of moves; returns the fall of lambda_grouped. */
+/* Exchange t (in group a) with a member u of another group b that is the
+ * only one t fails against, when u fits in a without t and the exchange
+ * lowers lambda_grouped; the best such exchange.  Returns the fall. */
+static double try_swap(engine *e, uint32_t t)
+{
+    uint32_t a = e->home[t];
+    if (e->pos[t] < ANCHORS || e->gsize[a] > 64) return 0;
+    prepare_term(e, term_bits(e, t));
+    e->near = 1;
+    query(e, a);
+    e->near = 0;
+    double wa = e->g[a].weight, ct2 = e->tc[t] * e->tc[t], best = 0;
+    uint32_t best_u = NONE;
+    uint64_t t_bit = (uint64_t)1 << e->pos[t];
+    for (uint32_t k = 0; k < e->cand.n; ++k) {
+        uint32_t b = e->cand.v[k];
+        prepare_term(e, term_bits(e, t));
+        uint32_t u = e->g[b].ids[__builtin_ctzll(prefix_mismatch(e, b))];
+        double wb = e->g[b].weight, cu2 = e->tc[u] * e->tc[u];
+        double gain = sqrt(wa) + sqrt(wb) - sqrt(fmax(wa - ct2 + cu2, 0)) -
+                      sqrt(fmax(wb - cu2 + ct2, 0));
+        if (gain <= best || gain <= 1e-14 * (sqrt(wa) + sqrt(wb))) continue;
+        prepare_term(e, term_bits(e, u));
+        if ((prefix_mismatch(e, a) & ~t_bit) != 0) continue;
+        best = gain;
+        best_u = u;
+    }
+    if (best_u == NONE) return 0;
+    uint32_t b = e->home[best_u];
+    remove_member(e, t);
+    remove_member(e, best_u);
+    add_member(e, b, t);
+    add_member(e, a, best_u);
+    return best;
+}
+
+/* One pass of moves (and swaps where no move helps); returns the fall of
+ * lambda_grouped. */
 static double refine_pass(engine *e)
 {
     double fall = 0, next = lam_seconds() + 1.0;
@@ -504,7 +558,10 @@ static double refine_pass(engine *e)
         prepare_term(e, p);
         query(e, a);
         uint32_t b = first_admitting(e, LAM_GROUP_BEST);
-        if (b == NONE) continue;
+        if (b == NONE) {
+            fall += try_swap(e, (uint32_t)t);
+            continue;
+        }
         double c2 = e->tc[t] * e->tc[t];
         double gain = move_gain(ga->weight, e->g[b].weight, c2);
         /* strict improvement, above rounding, so passes cannot cycle */
