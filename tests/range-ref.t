@@ -4,10 +4,8 @@
 - Szabo and Ostlund, Modern Quantum Chemistry (1989), ch. 3: H2 in STO-3G at
   R = 1.4 bohr, full CI -1.1373 Eh from the printed MO integrals (from
   memory, 4 decimals).
-- psi4 (Debian package): FCI energies of our test molecules, to 1e-8 Eh.
-  psi4's frozen-core FCIDUMP does not reproduce its own frozen-core FCI
-  energy (see /work/briefs/requests.md), so the psi4 comparison uses
-  all-electron variants of the same geometries, registered here.
+- psi4 (Debian package): FCI energies of our seven test molecules (four of
+  them with a frozen core), to 1e-8 Eh.
 - numpy eigvalsh of the Hamiltonian built independently in
   tests/lib/refops.py (Jordan-Wigner matrices from the definitions): both
   ends of every (Na, Nb) sector and the Fock-space range, to 1e-9 Eh.
@@ -71,10 +69,7 @@ tap.near(rep.get("n_min"), -1.1373, 5e-5, "Szabo-Ostlund H2 full CI -1.1373 Eh")
 tap.ok(rep.get("status") == "exact", "Szabo-Ostlund H2: status exact")
 
 # ---- psi4 FCI energies (lowest eigenvalue of the N, Sz = 0 sector) ----
-for name in ("lih", "hf", "h2o", "beh2"):
-    g, c, b, _ = molecules.MOLECULES[name]
-    molecules.MOLECULES[name + "-ae"] = (g, c, b, False)
-for name in ("h2", "h3plus", "h4chain", "lih-ae", "hf-ae", "h2o-ae", "beh2-ae"):
+for name in ("h2", "h3plus", "h4chain", "lih", "hf", "h2o", "beh2"):
     fcid, ref = molecules.reference(name)
     norb, nelec = refops.read_fcidump(fcid)[:2]
     na, nb = (nelec + 1) // 2, nelec // 2
