@@ -25,35 +25,15 @@ import numpy as np
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
 import lamtest  # noqa: E402
 import molecules  # noqa: E402
+import refops  # noqa: E402
 
 tap = lamtest.Tap()
 
 
 def read_fcidump(path):
-    """(n, e0, h, g) from an FCIDUMP, 8-fold symmetry filled (Knowles and
-    Handy 1989 format; parser of this test, independent of lamina)."""
-    text = open(path).read()
-    head, _, body = text.partition("&END") if "&END" in text else text.partition("/")
-    norb = int(head.upper().split("NORB")[1].split("=")[1].split(",")[0])
-    h = np.zeros((norb, norb))
-    g = np.zeros((norb,) * 4)
-    e0 = 0.0
-    for line in body.splitlines():
-        f = line.split()
-        if len(f) != 5:
-            continue
-        v = float(f[0].replace("D", "E").replace("d", "e"))
-        i, j, k, l = (int(x) - 1 for x in f[1:])
-        if i < 0:
-            e0 += v
-        elif k < 0:
-            if j >= 0:
-                h[i, j] = h[j, i] = v
-        else:
-            for a, b, c, d in ((i, j, k, l), (j, i, k, l), (i, j, l, k), (j, i, l, k),
-                               (k, l, i, j), (l, k, i, j), (k, l, j, i), (l, k, j, i)):
-                g[a, b, c, d] = v
-    return norb, e0, h, g
+    """(n, e0, h, g) from an FCIDUMP through the tests' own reader."""
+    n, _, e0, h, g = refops.read_fcidump(path)
+    return n, e0, h, g
 
 
 def ladder(nmodes):

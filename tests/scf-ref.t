@@ -28,6 +28,7 @@ import tempfile
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
 import lamtest  # noqa: E402
 import molecules  # noqa: E402
+import refops  # noqa: E402
 import numpy as np  # noqa: E402
 
 tap = lamtest.Tap()
@@ -168,33 +169,6 @@ for name in ("h2o", "lih"):
 # ---- frozen core + active space against numpy folding of psi4's integrals
 
 
-def read_fcidump(text):
-    """(norb, nelec, e0, h, g) from an FCIDUMP with 8-fold symmetry."""
-    head, _, body = text.partition("&END")
-    if not body:
-        head, _, body = text.partition("/")
-    fields = head.replace(",", " ").replace("=", " ").split()
-    norb = int(fields[fields.index("NORB") + 1])
-    nelec = int(fields[fields.index("NELEC") + 1])
-    h = np.zeros((norb, norb))
-    g = np.zeros((norb,) * 4)
-    e0 = 0.0
-    for line in body.splitlines():
-        f = line.split()
-        if len(f) != 5:
-            continue
-        v = float(f[0].replace("D", "E").replace("d", "e"))
-        i, j, k, l = (int(x) - 1 for x in f[1:])
-        if i < 0:
-            e0 += v
-        elif k < 0:
-            h[i, j] = h[j, i] = v
-        else:
-            for a, b, c, d in ((i, j, k, l), (j, i, k, l), (i, j, l, k), (j, i, l, k)):
-                g[a, b, c, d] = g[c, d, a, b] = v
-    return norb, nelec, e0, h, g
-
-
 def write_fcidump(nelec, e0, h, g):
     n = h.shape[0]
     out = ["&FCI NORB=%d,NELEC=%d,MS2=0," % (n, nelec),
@@ -214,8 +188,7 @@ def write_fcidump(nelec, e0, h, g):
 
 
 path, info = molecules.reference("h2o-ae")
-with open(path) as f:
-    norb, nelec, e0, h, g = read_fcidump(f.read())
+norb, nelec, e0, h, g = refops.read_fcidump(path)
 core, act = [0], list(range(1, 6))
 e0f = e0 + sum(2 * h[c, c] for c in core) + sum(
     2 * g[c, c, d, d] - g[c, d, d, c] for c in core for d in core)
