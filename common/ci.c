@@ -618,14 +618,7 @@ void lam_ci_solve(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *
     p.apply = sigma_apply;
     p.ctx = &ctx;
     p.diag = diag;
-    if (lo) {
-        p.highest = 0;
-        lam_eigen_extreme(&p, lo, NULL);
-    }
-    if (hi) {
-        p.highest = 1;
-        lam_eigen_extreme(&p, hi, NULL);
-    }
+    lam_eigen_ends(&p, lo, hi);
     free(diag);
     lam_ci_sector_free(s);
 }

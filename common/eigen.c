@@ -318,3 +318,16 @@ void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res, double
     else
         solve_davidson(p, &op, res, vec);
 }
+
+void lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo, lam_eigen_result *hi)
+{
+    lam_eigen_problem q = *p;
+    if (lo) {
+        q.highest = 0;
+        lam_eigen_extreme(&q, lo, NULL);
+    }
+    if (hi) {
+        q.highest = 1;
+        lam_eigen_extreme(&q, hi, NULL);
+    }
+}

@@ -51,6 +51,11 @@ size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit);
 void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res,
                        double *vec);
 
+/* The lowest into *lo and the highest into *hi (either may be NULL): the
+ * problem's own `highest` is ignored. */
+void lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo,
+                    lam_eigen_result *hi);
+
 /* All eigenvalues of a dense symmetric n x n matrix (row-major, destroyed),
  * ascending, into w.  exit 70 if LAPACK fails. */
 void lam_eigen_dense(int n, double *a, double *w);

@@ -388,14 +388,7 @@ void lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec,
     p.apply = fock_apply;
     p.ctx = ix;
     p.diag = diag;
-    if (lo) {
-        p.highest = 0;
-        lam_eigen_extreme(&p, lo, NULL);
-    }
-    if (hi) {
-        p.highest = 1;
-        lam_eigen_extreme(&p, hi, NULL);
-    }
+    lam_eigen_ends(&p, lo, hi);
     free(diag);
     sector_index_free(ix);
 }
