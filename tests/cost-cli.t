@@ -4,27 +4,7 @@ source "$(dirname "$0")/lib/tap.sh"
 
 # H2/STO-3G at 0.7414 A, Jordan-Wigner, interleaved spin order: the widely
 # published coefficients of facts.md (from memory).
-cat > "$TMP/h2.pauli" <<'OP'
-#% lamina-op 1
-#% kind: pauli
-#% qubits: 4
--0.0988639698
-0.1711977490 Z0
-0.1711977490 Z1
--0.2227859302 Z2
--0.2227859302 Z3
-0.1686221916 Z0 Z1
-0.1743484418 Z2 Z3
-0.1205448220 Z0 Z2
-0.1205448220 Z1 Z3
-0.1658670241 Z0 Z3
-0.1658670241 Z1 Z2
--0.0453222021 X0 X1 Y2 Y3
--0.0453222021 Y0 Y1 X2 X3
-0.0453222021 X0 Y1 Y2 X3
-0.0453222021 Y0 X1 X2 Y3
-#% end
-OP
+cp "$TESTS_DIR/data/h2-jw-published.op" "$TMP/h2.pauli"
 
 # Walk steps ceil(pi lambda / (2 eps)) (Babbush et al., PRX 8, 041015
 # (2018), from memory), by hand: pi * 1.8850504924 / 0.0032 = 1850.64 -> 1851.

@@ -6,19 +6,7 @@ source "$(dirname "$0")/lib/tap.sh"
 # (Szabo and Ostlund, Modern Quantum Chemistry (1989), ch. 3; from memory,
 # four figures).  (12|12) = 0.1813 fills (12|21), (21|12), (21|21) by the
 # format's 8-fold symmetry.
-cat >"$TMP/h2.fcidump" <<'EOF'
-&FCI NORB=2,NELEC=2,MS2=0,
- ORBSYM=1,1,
- ISYM=1,
-&END
- 0.6746 1 1 1 1
- 0.6636 1 1 2 2
- 0.1813 1 2 1 2
- 0.6975 2 2 2 2
- -1.2528 1 1 0 0
- -0.4756 2 2 0 0
- 0.7143 0 0 0 0
-EOF
+cp "$TESTS_DIR/data/szabo-h2.fcidump" "$TMP/h2.fcidump"
 lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
 ok $? "lam-ints turns the FCIDUMP into a spinfree stream"
 

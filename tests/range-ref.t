@@ -50,20 +50,8 @@ def ints(path, *args):
 
 
 # ---- Szabo-Ostlund H2 (textbook integrals typed in by hand) ----
-SZABO = """&FCI NORB=2,NELEC=2,MS2=0,ORBSYM=1,1,ISYM=1 &END
-0.6746 1 1 1 1
-0.6636 1 1 2 2
-0.1813 1 2 1 2
-0.6975 2 2 2 2
--1.2528 1 1 0 0
--0.4756 2 2 0 0
-0.7143 0 0 0 0
-"""
-path = os.path.join(TMP, "range-ref-szabo-%d.fcidump" % os.getpid())
-with open(path, "w") as f:
-    f.write(SZABO)
+path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data", "szabo-h2.fcidump")
 rep = lam_range(ints(path))
-os.unlink(path)
 # Szabo and Ostlund (1989), ch. 3, from memory: full CI -1.1373 Eh (4 decimals)
 tap.near(rep.get("n_min"), -1.1373, 5e-5, "Szabo-Ostlund H2 full CI -1.1373 Eh")
 tap.ok(rep.get("status") == "exact", "Szabo-Ostlund H2: status exact")
