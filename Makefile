@@ -119,13 +119,11 @@ fuzz: deps
 	@mkdir -p $(FUZZ_BIN)
 	@for f in $(FUZZ_SRC); do \
 	  n=$$(basename $$f .c); \
-	  clang -std=c11 -g -O1 -fsanitize=fuzzer,address,undefined $(CPPFLAGS) -Ifuzz $$f $(LIB_SRC) \
+	  clang -std=c11 -g -O1 -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined $(CPPFLAGS) -Ifuzz $$f $(LIB_SRC) \
 	    -llapacke -lopenblas -lz -lm -lpthread -o $(FUZZ_BIN)/$$n || exit 1; \
 	  mkdir -p $(FUZZ_BIN)/corpus-$$n; cp fuzz/corpus/$$n/* $(FUZZ_BIN)/corpus-$$n/ 2>/dev/null; \
 	  echo "== $$n for $(FUZZ_SECONDS) s"; \
-	  ASAN_OPTIONS=detect_leaks=0 $(FUZZ_BIN)/$$n -max_total_time=$(FUZZ_SECONDS) -rss_limit_mb=2048 -detect_leaks=0 -print_final_stats=1 \
-	    $(FUZZ_BIN)/corpus-$$n >$(FUZZ_BIN)/$$n.log 2>&1 || { tail -40 $(FUZZ_BIN)/$$n.log; exit 1; }; \
-	  grep -E 'stat::number_of_executed_units' $(FUZZ_BIN)/$$n.log; \
+	  bash fuzz/run.sh $(FUZZ_BIN)/$$n $(FUZZ_BIN)/corpus-$$n $(FUZZ_SECONDS) $(FUZZ_BIN)/$$n.log || exit 1; \
 	done
 
 install: all
