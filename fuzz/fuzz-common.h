@@ -23,4 +23,14 @@ static const char *fuzz_input_file(const uint8_t *data, size_t size)
     return path;
 }
 
+/* Run body on the input file with lam_fail turned into a return. */
+static void fuzz_run(const uint8_t *data, size_t size, void (*body)(const char *path))
+{
+    const char *path = fuzz_input_file(data, size);
+    jmp_buf jb;
+    lam_fail_jump(&jb);
+    if (setjmp(jb) == 0) body(path);
+    lam_fail_jump(NULL);
+}
+
 #endif

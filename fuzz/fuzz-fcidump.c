@@ -4,15 +4,13 @@
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
+static void read_fcidump(const char *path)
+{
+    lam_fcidump_free(lam_fcidump_read(path));
+}
+
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
-    const char *path = fuzz_input_file(data, size);
-    jmp_buf jb;
-    lam_fail_jump(&jb);
-    if (setjmp(jb) == 0) {
-        lam_fcidump *fd = lam_fcidump_read(path);
-        lam_fcidump_free(fd);
-    }
-    lam_fail_jump(NULL);
+    fuzz_run(data, size, read_fcidump);
     return 0;
 }

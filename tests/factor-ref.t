@@ -117,6 +117,23 @@ def dense_lcu(n, const, rot, terms):
     return total
 
 
+def two_body_from_fragments(n, rot, terms):
+    """(pq|rs) rebuilt from the pair terms: c R_i R_j with R = 1 - 2 n gives
+    4 c n_i n_j, i.e. lambda_ij = 4 c in U (sum lambda_ij n_i n_j) U^T
+    (fragments with single reflections only, such as the one-body
+    fragment, add nothing)."""
+    rebuilt = np.zeros((n,) * 4)
+    for f, u in rot.items():
+        lam = np.zeros((n, n))
+        for c, ff, modes in terms:
+            if ff == f and len(modes) == 2:
+                (i, _), (j, _) = modes
+                lam[i, j] = lam[j, i] = 4.0 * c
+        v = np.einsum("pi,qi->pqi", u, u)
+        rebuilt += np.einsum("pqi,ij,rsj->pqrs", v, lam, v)
+    return rebuilt
+
+
 def factor(fcidump, *args):
     ints = lamtest.run("lam-ints", [fcidump], check=True)[1]
     rc, out, err = lamtest.run("lam-factor", list(args), stdin=ints)
@@ -197,17 +214,7 @@ for tol in (1e-3, 1e-2):
         k += 1
     tap.near(float(meta["discarded-weight"]), dropped, 1e-12,
              "lih tol %g: discarded weight is the sum of the dropped eigenvalues (numpy eigh)" % tol)
-    rebuilt = np.zeros_like(g)
-    for f, u in rot.items():
-        if f == 0:
-            continue
-        lam = np.zeros((n, n))
-        for c, ff, modes in terms:
-            if ff == f and len(modes) == 2:
-                (i, _), (j, _) = modes
-                lam[i, j] = lam[j, i] = 4.0 * c
-        v = np.einsum("pi,qi->pqi", u, u)
-        rebuilt += np.einsum("pqi,ij,rsj->pqrs", v, lam, v)
+    rebuilt = two_body_from_fragments(n, rot, terms)
     err = np.abs(rebuilt - g).max()
     tap.ok(err <= dropped + 1e-12,
            "lih tol %g: integral error %.3g within the discarded weight %.3g" % (tol, err, dropped))
@@ -221,15 +228,7 @@ for tol in (1e-3, 1e-2):
 # Full rank stops once the two-body residual (Frobenius norm) is <= --tol.
 for tol in (1e-2, 1e-4):
     meta, const, rot, terms = parse_fragments(factor(path, "--method", "full-rank", "--tol", str(tol)))
-    rebuilt = np.zeros_like(g)
-    for f, u in rot.items():
-        lam = np.zeros((n, n))
-        for c, ff, modes in terms:
-            if ff == f and len(modes) == 2:
-                (i, _), (j, _) = modes
-                lam[i, j] = lam[j, i] = 4.0 * c
-        v = np.einsum("pi,qi->pqi", u, u)
-        rebuilt += np.einsum("pqi,ij,rsj->pqrs", v, lam, v)
+    rebuilt = two_body_from_fragments(n, rot, terms)
     resid = np.sqrt(((rebuilt - g) ** 2).sum())
     tap.ok(resid <= tol, "lih full-rank tol %g: numpy residual %.3g within tol" % (tol, resid))
     tap.near(resid, float(meta["integral-norm-error"]), 1e-12,
