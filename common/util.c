@@ -250,6 +250,54 @@ long lam_opt_long(const char *opt, const char *arg, long min, long max)
     return v;
 }
 
+double lam_opt_size(const char *opt, const char *arg)
+{
+    char *end;
+    double v = strtod(arg, &end);
+    double unit = 1;
+    if (end != arg && *end) {
+        switch (*end) {
+        case 'k': case 'K': unit = 1024.0; break;
+        case 'm': case 'M': unit = 1024.0 * 1024; break;
+        case 'g': case 'G': unit = 1024.0 * 1024 * 1024; break;
+        case 't': case 'T': unit = 1024.0 * 1024 * 1024 * 1024; break;
+        default: unit = 0;
+        }
+        if (unit && end[1] && strcmp(end + 1, "B") && strcmp(end + 1, "iB")) unit = 0;
+    }
+    if (end == arg || unit == 0 || !(v > 0) || !isfinite(v))
+        lam_usage_error("option %s wants a size such as 2G, 512M or 1000000, not '%s'", opt, arg);
+    return v * unit;
+}
+
+double lam_machine_memory(void)
+{
+    FILE *f = fopen("/proc/meminfo", "r");
+    double kb = 0;
+    if (f) {
+        char line[256];
+        while (fgets(line, sizeof line, f))
+            if (sscanf(line, "MemTotal: %lf kB", &kb) == 1) break;
+        fclose(f);
+    }
+    return kb > 0 ? kb * 1024 : INFINITY;
+}
+
+void lam_bad_option(const char *word, int optopt_now, int missing_value)
+{
+    int is_long = word && strncmp(word, "--", 2) == 0;
+    if (missing_value) {
+        if (is_long) lam_usage_error("option '%s' needs a value", word);
+        lam_usage_error("option '-%c' needs a value", optopt_now);
+    }
+    if (is_long) {
+        size_t len = strcspn(word, "=");
+        lam_usage_error("unknown option '%.*s'", (int)len, word);
+    }
+    if (optopt_now > ' ' && optopt_now < 127) lam_usage_error("unknown option '-%c'", optopt_now);
+    lam_usage_error("unknown option '%s'", word ? word : "");
+}
+
 void lam_print_version(void)
 {
     printf("%s (lamina) %s\n", program_name, LAMINA_VERSION);

@@ -62,6 +62,15 @@ int lam_parse_long(const char *tok, long *out);
  * exit 64 naming the option. */
 double lam_opt_double(const char *opt, const char *arg);
 long lam_opt_long(const char *opt, const char *arg, long min, long max);
+/* A size in bytes: a positive number with an optional suffix K, M, G or T
+ * (powers of 1024, optionally followed by B or iB); exit 64 naming opt. */
+double lam_opt_size(const char *opt, const char *arg);
+/* Installed memory in bytes (MemTotal), INFINITY when it cannot be read. */
+double lam_machine_memory(void);
+/* The one message for a bad option, then exit 64.  Set opterr = 0, start
+ * the short-option string with ':' and call, for getopt_long's ':' and '?':
+ *     lam_bad_option(argv[optind - 1], optopt, c == ':');            */
+_Noreturn void lam_bad_option(const char *word, int optopt_now, int missing_value);
 /* Print "prog VERSION" and exit 0. */
 _Noreturn void lam_print_version(void);
 /* Print "prog: msg\nTry 'prog --help'." and exit 64. */

@@ -68,39 +68,6 @@ typedef struct {
     const char *output, *input;
 } options;
 
-static double parse_memory(const char *arg)
-{
-    char *end;
-    double v = strtod(arg, &end);
-    double unit = 1;
-    if (*end) {
-        switch (*end) {
-        case 'k': case 'K': unit = 1024.0; break;
-        case 'm': case 'M': unit = 1024.0 * 1024; break;
-        case 'g': case 'G': unit = 1024.0 * 1024 * 1024; break;
-        case 't': case 'T': unit = 1024.0 * 1024 * 1024 * 1024; break;
-        default: unit = 0;
-        }
-        if (unit && end[1] && strcmp(end + 1, "B") && strcmp(end + 1, "iB")) unit = 0;
-    }
-    if (end == arg || unit == 0 || !(v > 0) || !isfinite(v))
-        lam_usage_error("--max-memory wants a size such as 2G, 512M or 1000000, not '%s'", arg);
-    return v * unit;
-}
-
-static double machine_memory(void)
-{
-    FILE *f = fopen("/proc/meminfo", "r");
-    double kb = 0;
-    if (f) {
-        char line[256];
-        while (fgets(line, sizeof line, f))
-            if (sscanf(line, "MemTotal: %lf kB", &kb) == 1) break;
-        fclose(f);
-    }
-    return kb > 0 ? kb * 1024 : INFINITY;
-}
-
 static void parse_sector(const char *arg, options *o)
 {
     char *comma = strchr(arg, ',');
@@ -146,7 +113,7 @@ static void parse_options(int argc, char **argv, options *o)
             o->tol = lam_opt_double("--tol", optarg);
             if (!(o->tol > 0)) lam_usage_error("--tol must be positive");
             break;
-        case O_MEM: o->max_memory = parse_memory(optarg); break;
+        case O_MEM: o->max_memory = lam_opt_size("--max-memory", optarg); break;
         case O_BOUNDS: o->bounds = 1; break;
         case O_BSUB: o->bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 5000); break;
         case O_MULT: o->multiplets = 1; break;
@@ -168,7 +135,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
     o->want_low = low || !high;
     o->want_high = high || !low;
-    if (!o->max_memory) o->max_memory = machine_memory();
+    if (!o->max_memory) o->max_memory = lam_machine_memory();
 }
 
 /* ---- the plan: one entry a sector ---- */
