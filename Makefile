@@ -10,11 +10,16 @@
 
 PREFIX  ?= /usr/local
 DESTDIR ?=
-CC      ?= gcc
+# make's built-in default for CC is cc; gcc unless the user names another.
+ifeq ($(origin CC),default)
+CC      := gcc
+endif
 SHELL   := /bin/bash
 
 WARN    := -std=c11 -Wall -Wextra -Werror
-CPPFLAGS += -D_POSIX_C_SOURCE=200809L -Icommon -I/usr/include/x86_64-linux-gnu
+# cblas.h lives in Debian's multiarch include directory.
+MULTIARCH := $(shell $(CC) -print-multiarch 2>/dev/null)
+CPPFLAGS += -D_POSIX_C_SOURCE=200809L -Icommon $(if $(MULTIARCH),-I/usr/include/$(MULTIARCH))
 OPT     ?= -O2
 LDLIBS  += -llapacke -lopenblas -lz -lm -lpthread
 
@@ -45,11 +50,16 @@ UNITS     := $(UNIT_SRC:tests/unit/%.c=$(OBJDIR)/unit/%)
 FUZZ_SRC  := $(sort $(wildcard fuzz/fuzz-*.c))
 MANPAGES  := $(sort $(wildcard man/*.[157]))
 
+# What each entry point needs from Debian: the demo only the build packages
+# (plots are optional: gnuplot-nox); the tests the independent references;
+# valgrind-check valgrind; fuzz clang with its sanitizer runtime.
 DEB_BUILD := libopenblas-dev liblapacke-dev zlib1g-dev
-DEB_TEST  := python3-numpy python3-scipy psi4 valgrind
-DEB_EXTRA := gnuplot-nox clang libclang-rt-14-dev
+DEB_TEST  := python3-numpy python3-scipy psi4
+DEB_PLOT  := gnuplot-nox
+DEB_VALGRIND := valgrind
+DEB_FUZZ  := clang libclang-rt-14-dev
 
-.PHONY: all deps check test sanitize valgrind-check demo bench fuzz install clean
+.PHONY: all deps deps-build deps-test deps-plot deps-valgrind deps-fuzz check test sanitize valgrind-check demo bench fuzz install clean
 .DELETE_ON_ERROR:
 
 all: $(TOOLS) $(UNITS)
@@ -70,21 +80,36 @@ $(OBJDIR)/unit/%: tests/unit/%.c tests/unit/tap.h $(LIB)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) -Itests/unit $(CFLAGS) $< $(LIB) $(LDFLAGS) $(LDLIBS) -o $@
 
-# deps: install what is missing from Debian; when not root, print the
-# command and stop.
-deps:
-	@missing=""; for p in $(DEB_BUILD) $(DEB_TEST) $(DEB_EXTRA); do \
+# deps-*: install what is missing from Debian when root; otherwise print
+# the apt-get command and stop (or, for the optional plot package, go on).
+# Nothing is installed or asked for when everything is present.
+define need_debs
+	@missing=""; for p in $(1); do \
 	  dpkg-query -W -f='$${Status}' $$p 2>/dev/null | grep -q 'ok installed' || missing="$$missing $$p"; \
 	done; \
 	if [ -n "$$missing" ]; then \
 	  if [ "$$(id -u)" = 0 ]; then \
-	    echo "installing:$$missing"; \
+	    echo "installing Debian packages:$$missing"; \
 	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq $$missing; \
 	  else \
-	    echo "missing Debian packages; run:"; \
-	    echo "  sudo apt-get update && sudo apt-get install -y$$missing"; exit 1; \
+	    echo "missing Debian packages ($(2)); as root, run:"; \
+	    echo "  apt-get update && apt-get install -y$$missing"; \
+	    $(if $(3),echo "$(3)",exit 1); \
 	  fi; \
 	fi
+endef
+
+deps: deps-build deps-test
+deps-build:
+	$(call need_debs,$(DEB_BUILD),to build)
+deps-test:
+	$(call need_debs,$(DEB_TEST),the tests' independent references)
+deps-plot:
+	$(call need_debs,$(DEB_PLOT),the demo's plots,going on without the plots)
+deps-valgrind:
+	$(call need_debs,$(DEB_VALGRIND),valgrind-check)
+deps-fuzz:
+	$(call need_debs,$(DEB_FUZZ),the fuzz targets)
 
 sanitize:
 	@true
@@ -102,11 +127,11 @@ check: deps
 test: all
 	$(TEST_ENV) prove -j2 $(UNITS) tests/*.t
 
-valgrind-check: all
+valgrind-check: deps-valgrind all
 	$(TEST_ENV) LAM_WRAP="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite" \
 	  prove -j2 $(wildcard tests/*-cli.t)
 
-demo: deps
+demo: deps-build deps-plot
 	@$(MAKE) --no-print-directory all
 	@$(MAKE) --no-print-directory -C examples demo LAM_BIN=$(CURDIR)/bin
 
@@ -115,12 +140,12 @@ bench: all
 
 FUZZ_SECONDS ?= 60
 FUZZ_BIN := build/fuzz
-fuzz: deps
+fuzz: deps-build deps-fuzz
 	@mkdir -p $(FUZZ_BIN)
 	@for f in $(FUZZ_SRC); do \
 	  n=$$(basename $$f .c); \
 	  clang -std=c11 -g -O1 -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined $(CPPFLAGS) -Ifuzz $$f $(LIB_SRC) \
-	    -llapacke -lopenblas -lz -lm -lpthread -o $(FUZZ_BIN)/$$n || exit 1; \
+	    $(LDLIBS) -o $(FUZZ_BIN)/$$n || exit 1; \
 	  mkdir -p $(FUZZ_BIN)/corpus-$$n; cp fuzz/corpus/$$n/* $(FUZZ_BIN)/corpus-$$n/ 2>/dev/null; \
 	  echo "== $$n for $(FUZZ_SECONDS) s"; \
 	  bash fuzz/run.sh $(FUZZ_BIN)/$$n $(FUZZ_BIN)/corpus-$$n $(FUZZ_SECONDS) $(FUZZ_BIN)/$$n.log || exit 1; \
