@@ -69,26 +69,59 @@ static int put_index(char *buf, unsigned long v)
     return n;
 }
 
+/* The qubits that carry one letter: X alone, Y (both bits) or Z alone. */
+static inline uint64_t letter_word(char letter, const uint64_t *x, const uint64_t *z, int w)
+{
+    return letter == 'x' ? x[w] & ~z[w] : letter == 'y' ? x[w] & z[w] : z[w] & ~x[w];
+}
+
+/* First qubit from q on whose bit in the letter's set equals `want` (1 or
+ * 0); 64*nw when there is none. */
+static long next_qubit(char letter, const uint64_t *x, const uint64_t *z, int nw, long q,
+                       int want)
+{
+    for (int w = (int)(q >> 6); w < nw; ++w) {
+        uint64_t word = letter_word(letter, x, z, w);
+        if (!want) word = ~word;
+        if (w == (int)(q >> 6)) word &= ~(uint64_t)0 << (q & 63);
+        if (word) return (long)w * 64 + __builtin_ctzll(word);
+    }
+    return 64L * nw;
+}
+
+/* Canonical spelling: one field per letter in the order x, y, z, sorted
+ * indices, every maximal run of two or more consecutive qubits as a-b. */
 int lam_pauli_format(char *buf, size_t size, int nw, const uint64_t *x,
                      const uint64_t *z)
 {
     size_t len = 0;
     if (size == 0) return -1;
-    for (int w = 0; w < nw; ++w) {
-        uint64_t any = x[w] | z[w];
-        while (any) {
-            int b = __builtin_ctzll(any);
-            any &= any - 1;
-            uint64_t bit = (uint64_t)1 << b;
-            char letter = (x[w] & bit) ? ((z[w] & bit) ? 'Y' : 'X') : 'Z';
-            char digits[24];
-            int nd = put_index(digits, (unsigned long)w * 64 + (unsigned)b);
-            /* space, letter, digits, terminator */
-            if (len + 3 + (size_t)nd > size) return -1;
-            if (len) buf[len++] = ' ';
-            buf[len++] = letter;
+    static const char letters[3] = {'x', 'y', 'z'};
+    for (int l = 0; l < 3; ++l) {
+        char letter = letters[l];
+        long q = next_qubit(letter, x, z, nw, 0, 1);
+        if (q >= 64L * nw) continue;
+        /* space, letter, colon */
+        if (len + 3 >= size) return -1;
+        if (len) buf[len++] = ' ';
+        buf[len++] = letter;
+        buf[len++] = ':';
+        int first = 1;
+        while (q < 64L * nw) {
+            long end = next_qubit(letter, x, z, nw, q, 0) - 1; /* last of the run */
+            char digits[52];
+            int nd = 0;
+            if (!first) digits[nd++] = ',';
+            nd += put_index(digits + nd, (unsigned long)q);
+            if (end > q) {
+                digits[nd++] = '-';
+                nd += put_index(digits + nd, (unsigned long)end);
+            }
+            if (len + (size_t)nd + 1 > size) return -1;
             memcpy(buf + len, digits, (size_t)nd);
             len += (size_t)nd;
+            first = 0;
+            q = next_qubit(letter, x, z, nw, end + 1, 1);
         }
     }
     buf[len] = '\0';
@@ -362,13 +395,8 @@ static int32_t parse_group(const lam_reader *r, const lam_line *ln, const char *
     return (int32_t)g;
 }
 
-/* Parse the fields of one term into x, z (nw words).  Returns -1 when the
- * term fits, else the qubit count it needs (only when nqubits < 0, i.e.
- * unbounded, and an index lies beyond the nw words given). */
-static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, int nw,
-                         uint64_t *x, uint64_t *z, int32_t *group)
+static inline void clear_words(int nw, uint64_t *x, uint64_t *z)
 {
-    long need = -1;
     /* one or two words in practice: a call to memset per term was measured
      * at a tenth of the reading time */
     x[0] = z[0] = 0;
@@ -376,7 +404,112 @@ static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, i
         memset(x + 1, 0, (size_t)(nw - 1) * sizeof(uint64_t));
         memset(z + 1, 0, (size_t)(nw - 1) * sizeof(uint64_t));
     }
+}
+
+/* Where a term's qubits go: the bounds, the words, and the qubit count an
+ * index beyond the words would need (unbounded reading only). */
+typedef struct {
+    const lam_reader *r;
+    const lam_line *ln;
+    int nqubits, nw;
+    uint64_t *x, *z;
+    long need;
+} term_target;
+
+/* Put qubit q under a letter ('X','Y','Z' of either case). */
+static inline void set_qubit(term_target *t, long q, char letter)
+{
+    if (t->nqubits >= 0 && q >= t->nqubits)
+        lam_reader_fail_line(t->r, t->ln->line,
+                             "qubit index %ld out of range (the stream has %d qubits)", q,
+                             t->nqubits);
+    if (q >= 64L * t->nw) {
+        if (t->nqubits >= 0)
+            lam_fail(LAM_EX_SOFTWARE, "internal: %d words too few for %d qubits", t->nw,
+                     t->nqubits);
+        if (q + 1 > t->need) t->need = q + 1;
+        return;
+    }
+    uint64_t bit = (uint64_t)1 << (q & 63);
+    size_t w = (size_t)(q >> 6);
+    if ((t->x[w] | t->z[w]) & bit)
+        lam_reader_fail_line(t->r, t->ln->line, "qubit %ld appears twice in one term", q);
+    letter |= 0x20; /* lower case */
+    if (letter != 'z') t->x[w] |= bit;
+    if (letter != 'x') t->z[w] |= bit;
+}
+
+/* Decimal digits at *p (no sign, no leading zero); advances *p; -1 when
+ * there are none or the value passes the suite's limit. */
+static inline long scan_qubit(const char **p)
+{
+    const char *c = *p;
+    long v = 0;
+    if (*c < '0' || *c > '9') return -1;
+    if (*c == '0' && c[1] >= '0' && c[1] <= '9') return -1;
+    for (; *c >= '0' && *c <= '9'; ++c) {
+        v = v * 10 + (*c - '0');
+        if (v >= LAM_PAULI_MAX_QUBITS) return -1;
+    }
+    *p = c;
+    return v;
+}
+
+/* "x:0,3-5": the qubit list of one letter field, items a or a-b (a <= b),
+ * in any order. */
+static void parse_letter_field(term_target *t, const char *tok)
+{
+    const char *p = tok + 2;
+    if (!*p)
+        lam_reader_fail_line(t->r, t->ln->line, "empty qubit list in '%s'", tok);
+    for (;;) {
+        long a = scan_qubit(&p), b = a;
+        if (a >= 0 && *p == '-') {
+            ++p;
+            b = scan_qubit(&p);
+        }
+        if (a < 0 || b < 0 || (*p != ',' && *p != '\0'))
+            lam_reader_fail_line(t->r, t->ln->line,
+                                 "bad qubit list in '%s' (want indices and ranges such as "
+                                 "%c:0,3-5)",
+                                 tok, tok[0]);
+        if (b < a)
+            lam_reader_fail_line(t->r, t->ln->line, "backward range %ld-%ld in '%s'", a, b, tok);
+        for (long q = a; q <= b; ++q) set_qubit(t, q, tok[0]);
+        if (*p == '\0') return;
+        if (*++p == '\0')
+            lam_reader_fail_line(t->r, t->ln->line, "bad qubit list in '%s' (a trailing comma)",
+                                 tok);
+    }
+}
+
+/* The spelling of a term from its first Pauli field: 2 for x:/y:/z:, 1
+ * for the version-1 X0, 0 when the term has none. */
+static int term_spelling(const lam_line *ln)
+{
+    for (int f = 0; f < ln->nfields; ++f) {
+        const char *tok = ln->fields[f];
+        if (tok[0] == '@') continue;
+        return (tok[0] == 'X' || tok[0] == 'Y' || tok[0] == 'Z') &&
+                       tok[1] >= '0' && tok[1] <= '9'
+                   ? 1
+                   : 2;
+    }
+    return 0;
+}
+
+/* Parse the fields of one term into x, z (nw words).  Returns -1 when the
+ * term fits, else the qubit count it needs (only when nqubits < 0, i.e.
+ * unbounded, and an index lies beyond the nw words given). */
+static long parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
+                         uint64_t *x, uint64_t *z, int32_t *group)
+{
+    term_target t = {r, ln, nqubits, nw, x, z, -1};
+    clear_words(nw, x, z);
     *group = -1;
+    int spelling = term_spelling(ln);
+    if (spelling) lam_reader_term_syntax(r, ln, spelling);
+    unsigned letters_seen = 0;
     for (int f = 0; f < ln->nfields; ++f) {
         const char *tok = ln->fields[f];
         if (tok[0] == '@') {
@@ -387,35 +520,32 @@ static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, i
             continue;
         }
         char letter = tok[0];
-        if (letter != 'X' && letter != 'Y' && letter != 'Z')
-            lam_reader_fail_line(r, ln->line,
-                                 "unknown Pauli factor '%s' (want X, Y or Z and a qubit index)",
-                                 tok);
-        long q = parse_qubit(tok + 1);
-        if (q < 0)
-            lam_reader_fail_line(r, ln->line, "bad qubit index in '%s'", tok);
-        if (nqubits >= 0 && q >= nqubits)
-            lam_reader_fail_line(r, ln->line,
-                                 "qubit index %ld out of range (the stream has %d qubits)",
-                                 q, nqubits);
-        if (q >= 64L * nw) {
-            if (nqubits >= 0)
-                lam_fail(LAM_EX_SOFTWARE, "internal: %d words too few for %d qubits", nw,
-                         nqubits);
-            if (q + 1 > need) need = q + 1;
+        if (spelling == 1) { /* version 1: X0 Y1 Z5, one factor a field */
+            long q = -1;
+            if (letter == 'X' || letter == 'Y' || letter == 'Z') q = parse_qubit(tok + 1);
+            if (q < 0)
+                lam_reader_fail_line(r, ln->line,
+                                     "unknown Pauli factor '%s' in a version-1 term "
+                                     "(want X, Y or Z and a qubit index)",
+                                     tok);
+            set_qubit(&t, q, letter);
             continue;
         }
-        uint64_t bit = (uint64_t)1 << (q & 63);
-        size_t w = (size_t)(q >> 6);
-        if ((x[w] | z[w]) & bit)
-            lam_reader_fail_line(r, ln->line, "qubit %ld appears twice in one term", q);
-        if (letter != 'Z') x[w] |= bit;
-        if (letter != 'X') z[w] |= bit;
+        if ((letter != 'x' && letter != 'y' && letter != 'z') || tok[1] != ':')
+            lam_reader_fail_line(r, ln->line,
+                                 "unknown Pauli field '%s' (want x:, y: or z: and a qubit "
+                                 "list, such as z:1-3,7)",
+                                 tok);
+        unsigned bit = 1u << (letter - 'x');
+        if (letters_seen & bit)
+            lam_reader_fail_line(r, ln->line, "letter '%c' has two fields in one term", letter);
+        letters_seen |= bit;
+        parse_letter_field(&t, tok);
     }
-    return need;
+    return t.need;
 }
 
-void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln, int nqubits,
+void lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits,
                             int nw, uint64_t *x, uint64_t *z, int32_t *group)
 {
     long need = parse_fields(r, ln, nqubits, nw, x, z, group);
