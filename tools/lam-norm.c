@@ -29,6 +29,7 @@ static _Noreturn void usage(void)
            "      --progress       report progress on stderr (default: when a terminal)\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
+           "      --allow-empty    read an empty input as the zero operator\n"
            "      --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2.fcidump | %s\n",
@@ -152,6 +153,7 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     enum { OPT_PROGRESS = 256, OPT_VERSION };
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"kind", required_argument, 0, 'k'},     {"tsv", no_argument, 0, 't'},
         {"output", required_argument, 0, 'o'},   {"progress", no_argument, 0, OPT_PROGRESS},
         {"quiet", no_argument, 0, 'q'},          {"help", no_argument, 0, 'h'},
@@ -161,6 +163,7 @@ int main(int argc, char **argv)
     const char *output = NULL;
     while ((c = getopt_long(argc, argv, "k:to:qh", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'k':
             if (lam_kind_parse(optarg, &forced) != 0)
                 lam_usage_error("--kind wants spinfree, fermion, pauli or fragments, not '%s'",
