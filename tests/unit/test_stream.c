@@ -86,8 +86,8 @@ int main(void)
     tap_ok(strcmp(buf, "0") == 0, "negative zero written as 0");
 
     /* A full suite stream: header, comment, blank line, terms, trailer. */
-    write_file("#% lamina-op 1\n#% kind: pauli\n#% qubits: 4\n# a comment\n\n"
-               "-0.5\n0.25 X0 Z3\n#% late: yes\n1e-3 Y1 @2\n#% end\n");
+    write_file("#% lamina-op 2\n#% kind: pauli\n#% qubits: 4\n# a comment\n\n"
+               "-0.5\n0.25 x:0 z:3\n#% late: yes\n1e-3 y:1 @2\n#% end\n");
     lam_reader *r = lam_reader_open(path);
     tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI, "kind from header");
     tap_ok(strcmp(lam_meta_get(lam_reader_meta(r), "qubits"), "4") == 0, "metadata read");
@@ -104,12 +104,31 @@ int main(void)
     lam_reader_close(r);
 
     /* Kind inferred from the terms of a stream without header. */
-    write_file("0.5\n0.25 3+ 1-\n");
+    write_file("0.5\n0.25 3 1 / 0 2\n");
     r = lam_reader_open(path);
     tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "fermion kind inferred past a bare constant");
     n = 0;
     while (lam_reader_next(r, &ln)) ++n;
     tap_ok(n == 2, "inferred-kind stream still yields every term");
+    tap_ok(lam_reader_syntax(r) == 0, "the generic reader leaves the spelling to the kind's parser");
+    lam_reader_close(r);
+    write_file("0.25 2 /\n");
+    r = lam_reader_open(path);
+    tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "a lone creator with its '/' is fermion");
+    lam_reader_close(r);
+    write_file("0.25 z:1-3 @2\n");
+    r = lam_reader_open(path);
+    tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI, "pauli kind inferred from z:");
+    lam_reader_close(r);
+    /* version 1, read for one release of grace */
+    write_file("#% lamina-op 1\n0.25 X0 Y1\n#% end\n");
+    r = lam_reader_open(path);
+    tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI && lam_reader_syntax(r) == 1,
+           "version-1 header read, pauli kind inferred from X0");
+    lam_reader_close(r);
+    write_file("0.25 3+ 1-\n");
+    r = lam_reader_open(path);
+    tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "headerless version-1 fermion term inferred");
     lam_reader_close(r);
     write_file("1.0 0 1 1 0\n");
     r = lam_reader_open(path);
