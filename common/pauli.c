@@ -688,6 +688,25 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s)
     return top;
 }
 
+/* A Euclidean norm accumulated as scale * sqrt(ssq) with scale the
+ * largest |c| so far (the scaling of LAPACK's dnrm2): no square overflows
+ * or underflows, so subnormal coefficients keep their grouped norm. */
+static void norm_add(double acc[2], double c)
+{
+    double a = fabs(c);
+    if (a == 0) return;
+    if (a > acc[0]) {
+        double r = acc[0] / a;
+        acc[1] = 1 + acc[1] * r * r;
+        acc[0] = a;
+    } else {
+        double r = a / acc[0];
+        acc[1] += r * r;
+    }
+}
+
+static double norm_value(const double acc[2]) { return acc[0] * sqrt(acc[1]); }
+
 void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
 {
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
@@ -696,7 +715,7 @@ void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
     lam_rowhash labels_index;
     lam_rowhash_init(&labels_index);
     uint64_t *labels = NULL;
-    double *sumsq = NULL;
+    double(*sumsq)[2] = NULL;
     size_t labels_cap = 0;
     memset(out, 0, sizeof *out);
     lam_line ln;
@@ -735,10 +754,10 @@ void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
         }
         labels[out->groups] = (uint64_t)group;
         size_t k = lam_rowhash_insert(&labels_index, labels, 1, NULL, out->groups);
-        if (k == out->groups) sumsq[out->groups++] = ln.coef * ln.coef;
-        else sumsq[k] += ln.coef * ln.coef;
+        if (k == out->groups) sumsq[out->groups][0] = sumsq[out->groups][1] = 0, ++out->groups;
+        norm_add(sumsq[k], ln.coef);
     }
-    for (size_t g = 0; g < out->groups; ++g) out->lambda_grouped += sqrt(sumsq[g]);
+    for (size_t g = 0; g < out->groups; ++g) out->lambda_grouped += norm_value(sumsq[g]);
     if (declared >= 0) out->nqubits = (int)declared;
     lam_rowhash_free(&labels_index);
     free(labels);
@@ -754,7 +773,7 @@ double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups)
     lam_rowhash h;
     lam_rowhash_init(&h);
     uint64_t *labels = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof(uint64_t)));
-    double *sumsq = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof(double)));
+    double(*sumsq)[2] = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof *sumsq));
     size_t n = 0;
     double lambda = 0.0;
     for (size_t t = 0; t < s->count; ++t) {
@@ -766,10 +785,10 @@ double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups)
         }
         labels[n] = (uint64_t)s->group[t];
         size_t k = lam_rowhash_insert(&h, labels, 1, NULL, n);
-        if (k == n) sumsq[n++] = c * c;
-        else sumsq[k] += c * c;
+        if (k == n) sumsq[n][0] = sumsq[n][1] = 0, ++n;
+        norm_add(sumsq[k], c);
     }
-    for (size_t g = 0; g < n; ++g) lambda += sqrt(sumsq[g]);
+    for (size_t g = 0; g < n; ++g) lambda += norm_value(sumsq[g]);
     lam_rowhash_free(&h);
     free(labels);
     free(sumsq);
