@@ -134,6 +134,10 @@ typedef struct {
     int max_weight;
 } lam_pauli_summary;
 void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out);
+/* The same for any pauli stream: repeated (string, label) pairs are merged
+ * (summed) first, as compact keys in one hash table, without storing the
+ * strings' bits; terms counts the merged ones that are not zero. */
+void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out);
 
 /* Write every term (with "@g" when labelled); not the header. */
 void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s);

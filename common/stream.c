@@ -7,6 +7,8 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <fcntl.h>
+#include <sys/stat.h>
 #include <zlib.h>
 
 #include "util.h"
@@ -137,6 +139,7 @@ typedef struct {
 
 struct lam_reader {
     gzFile gz;
+    int fd;
     char *name;
     long lineno;
     /* input buffer: bytes [pos, len) are unread */
@@ -364,7 +367,9 @@ lam_reader *lam_reader_open(const char *path)
     lam_reader *r = lam_calloc(1, sizeof *r);
     int use_stdin = !path || strcmp(path, "-") == 0;
     r->name = lam_strdup(use_stdin ? "<stdin>" : path);
-    r->gz = use_stdin ? gzdopen(0, "rb") : gzopen(path, "rb");
+    r->fd = use_stdin ? 0 : open(path, O_RDONLY);
+    if (r->fd < 0) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name, strerror(errno));
+    r->gz = gzdopen(r->fd, "rb");
     if (!r->gz)
         lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name,
                  errno ? strerror(errno) : "out of memory");
@@ -461,6 +466,19 @@ int lam_reader_next(lam_reader *r, lam_line *out)
 }
 
 int lam_reader_syntax(const lam_reader *r) { return r->syntax; }
+
+long long lam_reader_bytes_left(const lam_reader *r)
+{
+    struct stat st;
+    if (!gzdirect(r->gz) || fstat(r->fd, &st) != 0 || !S_ISREG(st.st_mode)) return -1;
+    long long consumed = (long long)gztell(r->gz) - (long long)(r->len - r->pos);
+    return consumed <= st.st_size ? st.st_size - consumed : 0;
+}
+
+long long lam_reader_bytes_read(const lam_reader *r)
+{
+    return (long long)gztell(r->gz) - (long long)(r->len - r->pos);
+}
 
 void lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax)
 {

@@ -102,6 +102,10 @@ int lam_reader_syntax(const lam_reader *r);
  * term of a headerless stream fixes it, a term of the other version is
  * exit 65 at its line. */
 void lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax);
+/* Bytes of a plain regular file not read yet, -1 when unknown (gzip,
+ * pipes); and the bytes read so far.  For sizing tables ahead. */
+long long lam_reader_bytes_left(const lam_reader *r);
+long long lam_reader_bytes_read(const lam_reader *r);
 /* exit 65 with "file:line: message" at the current line. */
 _Noreturn void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));

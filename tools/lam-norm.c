@@ -112,40 +112,24 @@ static void norm_fragments(lam_report *rep, lam_reader *r)
     lam_fragments_free(fr);
 }
 
-static void norm_pauli_distinct(lam_report *rep, lam_reader *r)
+static void norm_pauli(lam_report *rep, lam_reader *r)
 {
+    /* a stream whose writer stated "distinct: yes" is summed as it is read;
+     * any other merges repeated strings first */
+    const char *distinct = lam_meta_get(lam_reader_meta(r), "distinct");
     lam_pauli_summary sum;
-    lam_pauli_summarize(r, &sum);
+    double t0 = lam_seconds();
+    if (distinct && strcmp(distinct, "yes") == 0)
+        lam_pauli_summarize(r, &sum);
+    else
+        lam_pauli_summarize_merged(r, &sum);
+    lam_progress("%zu terms read in %.1f s", sum.terms, lam_seconds() - t0);
     lam_report_int(rep, "terms", (long long)sum.terms);
     lam_report_num(rep, "constant", sum.constant);
     lam_report_num(rep, "lambda", sum.lambda);
     if (sum.labelled) report_groups(rep, r, sum.groups, sum.lambda_grouped);
     lam_report_int(rep, "qubits", sum.nqubits);
     lam_report_int(rep, "max_weight", sum.max_weight);
-}
-
-static void norm_pauli(lam_report *rep, lam_reader *r)
-{
-    const char *distinct = lam_meta_get(lam_reader_meta(r), "distinct");
-    if (distinct && strcmp(distinct, "yes") == 0) {
-        norm_pauli_distinct(rep, r);
-        return;
-    }
-    lam_pauli_set s;
-    double t0 = lam_seconds();
-    lam_pauli_read_merged(r, &s, 1);
-    lam_progress("%zu distinct terms read in %.1f s", s.count, lam_seconds() - t0);
-    lam_report_int(rep, "terms", (long long)s.count);
-    lam_report_num(rep, "constant", lam_pauli_set_constant(&s));
-    lam_report_num(rep, "lambda", lam_pauli_set_lambda(&s));
-    if (s.group) {
-        size_t groups;
-        double grouped = lam_pauli_set_lambda_grouped(&s, &groups);
-        report_groups(rep, r, groups, grouped);
-    }
-    lam_report_int(rep, "qubits", s.nqubits);
-    lam_report_int(rep, "max_weight", lam_pauli_set_max_weight(&s));
-    lam_pauli_set_free(&s);
 }
 
 int main(int argc, char **argv)
