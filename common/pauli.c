@@ -986,6 +986,66 @@ static int key_weight(const uint8_t *key, size_t len, int32_t *group)
     return weight;
 }
 
+/* A well-formed version-2 term straight from its text into x, z (nw words,
+ * all qubits below `limit`), its label and coefficient, without splitting
+ * it: 0 when it parsed, -1 for anything else (another spelling, an error,
+ * a qubit beyond the words), which the caller hands to the full parser
+ * for its message or its growth.  The text is left as it was. */
+static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *z,
+                         int32_t *group, double *coef)
+{
+    char *p = text;
+    while (*p == ' ' || *p == '\t') ++p;
+    char *tok = p;
+    while (*p && *p != ' ' && *p != '\t') ++p;
+    char save = *p;
+    *p = '\0';
+    int bad = lam_reader_coefficient(tok, coef);
+    *p = save;
+    if (bad) return -1;
+    clear_words(nw, x, z);
+    *group = -1;
+    unsigned seen = 0;
+    for (;;) {
+        while (*p == ' ' || *p == '\t') ++p;
+        if (!*p) return 0;
+        if (*group >= 0) return -1; /* the label must come last */
+        if (*p == '@') {
+            const char *c = p + 1;
+            long g = scan_qubit(&c); /* digits, no leading zero */
+            if (g < 0 || (*c && *c != ' ' && *c != '\t')) return -1;
+            *group = (int32_t)g;
+            p = (char *)c;
+            continue;
+        }
+        char letter = *p;
+        if ((letter != 'x' && letter != 'y' && letter != 'z') || p[1] != ':') return -1;
+        unsigned bit = 1u << (letter - 'x');
+        if (seen & bit) return -1;
+        seen |= bit;
+        const char *c = p + 2;
+        for (;;) {
+            long a = scan_qubit(&c), b = a;
+            if (a >= 0 && *c == '-') {
+                ++c;
+                b = scan_qubit(&c);
+            }
+            if (a < 0 || b < a || b >= limit) return -1;
+            for (long q = a; q <= b; ++q) {
+                uint64_t m = (uint64_t)1 << (q & 63);
+                size_t w = (size_t)(q >> 6);
+                if ((x[w] | z[w]) & m) return -1;
+                if (letter != 'z') x[w] |= m;
+                if (letter != 'x') z[w] |= m;
+            }
+            if (*c != ',') break;
+            ++c;
+        }
+        if (*c && *c != ' ' && *c != '\t') return -1;
+        p = (char *)c;
+    }
+}
+
 /* Keys of a batch of lines wait in the arena past its end while their
  * slots are prefetched: the look-ups are cache misses, and overlapping
  * them is most of the speed. */
@@ -1030,12 +1090,22 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
     size_t nbatch = 0, lines = 0, next_at = 0;
     memset(out, 0, sizeof *out);
     lam_line ln;
-    while (lam_reader_next(r, &ln)) {
+    char *text;
+    long line;
+    while (lam_reader_next_text(r, &text, &line)) {
         int32_t group;
-        long need;
-        while ((need = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group)) >= 0) {
-            nw = lam_pauli_words((int)need);
-            xz = lam_realloc(xz, lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+        double coef;
+        long limit = declared >= 0 ? declared : 64L * nw;
+        /* the fast path once the stream is known to be version 2 */
+        if (lam_reader_syntax(r) != 2 ||
+            parse_text_v2(text, limit, nw, xz, xz + nw, &group, &coef) != 0) {
+            lam_reader_split(r, text, line, &ln);
+            long need;
+            while ((need = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group)) >= 0) {
+                nw = lam_pauli_words((int)need);
+                xz = lam_realloc(xz, lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+            }
+            coef = ln.coef;
         }
         for (int k = nw - 1; k >= 0; --k)
             if (xz[k] | xz[nw + k]) {
@@ -1045,12 +1115,13 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
             }
         /* at most 4 varint bytes a qubit (indices below 2^24), the label */
         if (nbatch == 0) next_at = kt.arena_len;
-        key_table_room(&kt, next_at, 4 * (size_t)lam_pauli_weight(nw, xz, xz + nw) + 8);
+        size_t most = nw <= 4 ? 256 * (size_t)nw : (size_t)lam_pauli_weight(nw, xz, xz + nw);
+        key_table_room(&kt, next_at, 4 * most + 8);
         pending_key *pk = &batch[nbatch++];
         pk->at = next_at;
         pk->len = encode_key(kt.arena + next_at, nw, xz, xz + nw, group);
         pk->hash = key_hash(kt.arena + next_at, pk->len);
-        pk->coef = ln.coef;
+        pk->coef = coef;
         next_at += pk->len;
         if (nbatch == BATCH) {
             add_batch(&kt, batch, nbatch);

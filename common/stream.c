@@ -443,19 +443,14 @@ static void check_not_empty(const lam_reader *r)
                     "operator)");
 }
 
-int lam_reader_next(lam_reader *r, lam_line *out)
+int lam_reader_next_text(lam_reader *r, char **text, long *line)
 {
     if (r->ended) return 0;
-    long line;
-    char *s = next_term_line(r, &line);
+    char *s = next_term_line(r, line);
     if (s) {
         r->saw_term = 1;
-        int n = split_fields(r, s);
-        parse_coefficient(r, r->fields[0], line, &out->coef);
-        out->nfields = n - 1;
-        out->fields = r->fields + 1;
-        out->line = line;
-        r->lineno = line;
+        r->lineno = *line;
+        *text = s;
         return 1;
     }
     if (r->suite_stream && !r->ended)
@@ -463,6 +458,31 @@ int lam_reader_next(lam_reader *r, lam_line *out)
                     "truncated stream: it ends without '#%% end'");
     check_not_empty(r);
     return 0;
+}
+
+void lam_reader_split(lam_reader *r, char *text, long line, lam_line *out)
+{
+    int n = split_fields(r, text);
+    parse_coefficient(r, r->fields[0], line, &out->coef);
+    out->nfields = n - 1;
+    out->fields = r->fields + 1;
+    out->line = line;
+}
+
+int lam_reader_coefficient(const char *tok, double *out)
+{
+    return lam_parse_double(tok, out) == 0 && *out <= LAM_COEF_MAX && *out >= -LAM_COEF_MAX
+               ? 0
+               : -1;
+}
+
+int lam_reader_next(lam_reader *r, lam_line *out)
+{
+    char *text;
+    long line;
+    if (!lam_reader_next_text(r, &text, &line)) return 0;
+    lam_reader_split(r, text, line, out);
+    return 1;
 }
 
 int lam_reader_syntax(const lam_reader *r) { return r->syntax; }

@@ -93,6 +93,15 @@ lam_kind lam_reader_kind(lam_reader *r);
  * "#%" line and no term (empty, or comments only) is exit 65 "empty input"
  * unless lam_reader_allow_empty(1) was called (--allow-empty). */
 int lam_reader_next(lam_reader *r, lam_line *out);
+/* lam_reader_next in two steps, for a reader that parses the text itself:
+ * the next term line as text (NUL terminated, writable, valid until the
+ * next call; 0 at the end, with the same checks), and the split into
+ * fields with the coefficient checked (exit 65 as lam_reader_next). */
+int lam_reader_next_text(lam_reader *r, char **text, long *line);
+void lam_reader_split(lam_reader *r, char *text, long line, lam_line *out);
+/* 0 and *out for a coefficient the reader accepts (as lam_reader_next),
+ * -1 otherwise (the caller splits the line to get the message). */
+int lam_reader_coefficient(const char *tok, double *out);
 /* Process-wide: let an empty input read as the zero operator. */
 void lam_reader_allow_empty(int allow);
 /* Term spelling of the stream: 2, 1 (version 1), or 0 while neither the
