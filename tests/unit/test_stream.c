@@ -18,6 +18,17 @@ static void write_file(const char *text)
     fclose(f);
 }
 
+/* The kind a reader finds for text, and the spelling version it read. */
+static lam_kind kind_of(const char *text, int *syntax)
+{
+    write_file(text);
+    lam_reader *r = lam_reader_open(path);
+    lam_kind kind = lam_reader_kind(r);
+    if (syntax) *syntax = lam_reader_syntax(r);
+    lam_reader_close(r);
+    return kind;
+}
+
 int main(void)
 {
     int fd = mkstemp(path);
@@ -112,33 +123,17 @@ int main(void)
     tap_ok(n == 2, "inferred-kind stream still yields every term");
     tap_ok(lam_reader_syntax(r) == 0, "the generic reader leaves the spelling to the kind's parser");
     lam_reader_close(r);
-    write_file("0.25 2 /\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "a lone creator with its '/' is fermion");
-    lam_reader_close(r);
-    write_file("0.25 z:1-3 @2\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI, "pauli kind inferred from z:");
-    lam_reader_close(r);
+    tap_ok(kind_of("0.25 2 /\n", NULL) == LAM_KIND_FERMION, "a lone creator with its '/' is fermion");
+    tap_ok(kind_of("0.25 z:1-3 @2\n", NULL) == LAM_KIND_PAULI, "pauli kind inferred from z:");
     /* version 1, read for one release of grace */
-    write_file("#% lamina-op 1\n0.25 X0 Y1\n#% end\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI && lam_reader_syntax(r) == 1,
+    int syntax;
+    tap_ok(kind_of("#% lamina-op 1\n0.25 X0 Y1\n#% end\n", &syntax) == LAM_KIND_PAULI && syntax == 1,
            "version-1 header read, pauli kind inferred from X0");
-    lam_reader_close(r);
-    write_file("0.25 3+ 1-\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "headerless version-1 fermion term inferred");
-    lam_reader_close(r);
-    write_file("1.0 0 1 1 0\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_SPINFREE, "spinfree kind inferred");
-    lam_reader_close(r);
-
-    write_file("-1.5\n1 U 0 0 0\n0.25 R 0 1a\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_FRAGMENTS, "fragments kind inferred from U/R");
-    lam_reader_close(r);
+    tap_ok(kind_of("0.25 3+ 1-\n", NULL) == LAM_KIND_FERMION,
+           "headerless version-1 fermion term inferred");
+    tap_ok(kind_of("1.0 0 1 1 0\n", NULL) == LAM_KIND_SPINFREE, "spinfree kind inferred");
+    tap_ok(kind_of("-1.5\n1 U 0 0 0\n0.25 R 0 1a\n", NULL) == LAM_KIND_FRAGMENTS,
+           "fragments kind inferred from U/R");
 
     /* Metadata editing. */
     lam_meta m;
