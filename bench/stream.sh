@@ -45,17 +45,18 @@ if [ "$ORB" -gt 0 ]; then
         /^#% lamina-op/ { print "#% lamina-op 1"; next }
         /^#/ || NF == 1 { print; next }
         {
-            n = 0; delete letter
+            top = -1; delete letter
             for (f = 2; f <= NF; ++f) {
                 if (substr($f, 1, 1) == "@") continue
                 split(substr($f, 3), items, ",")
                 for (i in items) {
                     if (split(items[i], ab, "-") == 1) ab[2] = ab[1]
                     for (q = ab[1] + 0; q <= ab[2] + 0; ++q) letter[q] = toupper(substr($f, 1, 1))
+                    if (ab[2] + 0 > top) top = ab[2] + 0
                 }
             }
             line = $1
-            for (q = 0; q <= 4 * NF + 1000; ++q) if (q in letter) { line = line " " letter[q] q; if (++n == length(letter)) break }
+            for (q = 0; q <= top; ++q) if (q in letter) line = line " " letter[q] q
             if (substr($NF, 1, 1) == "@") line = line " " $NF
             print line
         }' "$JW" | wc -c)
