@@ -1,6 +1,8 @@
 /* gen-ops - synthetic operator streams for the benchmarks.
  *
- *   gen-ops pauli TERMS QUBITS [SEED]   random Pauli strings of weight 1..8
+ *   gen-ops pauli TERMS QUBITS [SEED [WEIGHT]]
+ *                                       random Pauli strings of weight 1..8
+ *                                       (or exactly WEIGHT), stream version 2
  *   gen-ops spinfree ORBITALS [SEED]    every integral non-zero, with the
  *                                       8-fold symmetry of real orbitals
  *
@@ -25,29 +27,58 @@ static uint64_t next(void)
 /* Uniform in (-1, 1). */
 static double uniform(void) { return ((double)(next() >> 11) / 9007199254740992.0) * 2.0 - 1.0; }
 
-static void pauli(long terms, int qubits)
+/* One letter's qubits (sorted) as "l:a,b-c" into out; returns the length. */
+static int letter_field(char *out, char letter, const int *qs, int n)
 {
-    printf("#%% lamina-op 1\n#%% kind: pauli\n#%% qubits: %d\n", qubits);
+    int len = sprintf(out, " %c:", letter);
+    for (int i = 0; i < n;) {
+        int j = i;
+        while (j + 1 < n && qs[j + 1] == qs[j] + 1) ++j;
+        len += sprintf(out + len, i ? ",%d" : "%d", qs[i]);
+        if (j > i) len += sprintf(out + len, "-%d", qs[j]);
+        i = j + 1;
+    }
+    return len;
+}
+
+static int by_int(const void *a, const void *b)
+{
+    return (*(const int *)a > *(const int *)b) - (*(const int *)a < *(const int *)b);
+}
+
+/* Canonical version-2 spelling, as the programs of the suite write it. */
+static void pauli(long terms, int qubits, int fixed_weight)
+{
+    printf("#%% lamina-op 2\n#%% kind: pauli\n#%% qubits: %d\n", qubits);
     char *used = calloc((size_t)qubits, 1);
-    int *chosen = malloc(sizeof(int) * 8);
-    if (!used || !chosen) exit(70);
+    int *chosen = malloc(sizeof(int) * 3 * 64);
+    char *line = malloc(64 * 12 + 64);
+    if (!used || !chosen || !line) exit(70);
     for (long t = 0; t < terms; ++t) {
-        int weight = 1 + (int)(next() % 8);
+        int weight = fixed_weight > 0 ? fixed_weight : 1 + (int)(next() % 8);
         if (weight > qubits) weight = qubits;
-        printf("%.17g", uniform() * 0.5);
+        if (weight > 64) weight = 64;
+        int count[3] = {0, 0, 0};
         for (int k = 0; k < weight; ++k) {
             int q;
             do q = (int)(next() % (uint64_t)qubits); while (used[q]);
             used[q] = 1;
-            chosen[k] = q;
-            printf(" %c%d", "XYZ"[next() % 3], q);
+            int l = (int)(next() % 3);
+            chosen[l * 64 + count[l]++] = q;
         }
-        for (int k = 0; k < weight; ++k) used[chosen[k]] = 0;
-        putchar('\n');
+        int len = sprintf(line, "%.17g", uniform() * 0.5);
+        for (int l = 0; l < 3; ++l) {
+            qsort(chosen + l * 64, (size_t)count[l], sizeof(int), by_int);
+            for (int k = 0; k < count[l]; ++k) used[chosen[l * 64 + k]] = 0;
+            if (count[l]) len += letter_field(line + len, "xyz"[l], chosen + l * 64, count[l]);
+        }
+        line[len++] = '\n';
+        fwrite(line, 1, (size_t)len, stdout);
     }
     printf("#%% end\n");
     free(used);
     free(chosen);
+    free(line);
 }
 
 /* Integrals decay with the index distance, like those of a real molecule,
@@ -72,7 +103,7 @@ static void spinfree(int n)
                     g[pq * nn + rs] = g[qp * nn + rs] = g[pq * nn + sr] = g[qp * nn + sr] = v;
                     g[rs * nn + pq] = g[sr * nn + pq] = g[rs * nn + qp] = g[sr * nn + qp] = v;
                 }
-    printf("#%% lamina-op 1\n#%% kind: spinfree\n#%% orbitals: %d\n#%% electrons: %d\n", n, n);
+    printf("#%% lamina-op 2\n#%% kind: spinfree\n#%% orbitals: %d\n#%% electrons: %d\n", n, n);
     printf("%.17g\n", 10.0);
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q) printf("%.17g %d %d\n", h[p * n + q], p, q);
@@ -95,7 +126,7 @@ int main(int argc, char **argv)
 {
     if (argc >= 4 && strcmp(argv[1], "pauli") == 0) {
         if (argc > 4) state += strtoull(argv[4], NULL, 10);
-        pauli(atol(argv[2]), atoi(argv[3]));
+        pauli(atol(argv[2]), atoi(argv[3]), argc > 5 ? atoi(argv[5]) : 0);
         return 0;
     }
     if (argc >= 3 && strcmp(argv[1], "spinfree") == 0) {
@@ -103,6 +134,6 @@ int main(int argc, char **argv)
         spinfree(atoi(argv[2]));
         return 0;
     }
-    fprintf(stderr, "usage: gen-ops pauli TERMS QUBITS [SEED] | gen-ops spinfree ORBITALS [SEED]\n");
+    fprintf(stderr, "usage: gen-ops pauli TERMS QUBITS [SEED [WEIGHT]] | gen-ops spinfree ORBITALS [SEED]\n");
     return 64;
 }

@@ -90,7 +90,8 @@ void lam_fermion_add(lam_fermion_op *op, double coef, const int32_t *ops, int k,
     op->first[++op->count] = op->nops;
 }
 
-/* "12+" -> creator of mode 12; -1 when the field is malformed. */
+/* "12+" -> creator of mode 12 (version 1); -1 when the field is
+ * malformed. */
 static long parse_ladder(const char *tok)
 {
     long mode = 0;
@@ -105,55 +106,176 @@ static long parse_ladder(const char *tok)
     return *p == '+' ? LAM_CREATE(mode) : LAM_ANNIHILATE(mode);
 }
 
+/* A mode: digits only, no leading zero; -1 otherwise. */
+static long parse_mode(const char *tok)
+{
+    long mode = 0;
+    const char *p = tok;
+    if (*p < '0' || *p > '9') return -1;
+    if (*p == '0' && p[1] != '\0') return -1;
+    for (; *p; ++p) {
+        if (*p < '0' || *p > '9') return -1;
+        mode = mode * 10 + (*p - '0');
+        if (mode >= LAM_MAX_MODES) return -1;
+    }
+    return mode;
+}
+
+/* Version 2: "3 1 / 0 2" is a+3 a+1 a0 a2.  A mode twice on one side
+ * makes the term zero, which no writer writes: refused as a typo. */
+static void parse_term_v2(const lam_reader *r, const lam_line *ln, int32_t *buf)
+{
+    int slash = -1;
+    for (int f = 0; f < ln->nfields; ++f)
+        if (strcmp(ln->fields[f], "/") == 0) {
+            if (slash >= 0)
+                lam_reader_fail_line(r, ln->line, "a fermion term has one '/', this one two");
+            slash = f;
+        }
+    if (slash < 0)
+        lam_reader_fail_line(r, ln->line,
+                             "a fermion term needs a '/' between creators and annihilators "
+                             "(such as '3 1 / 0 2')");
+    for (int f = 0; f < ln->nfields; ++f) {
+        if (f == slash) continue;
+        long mode = parse_mode(ln->fields[f]);
+        if (mode < 0)
+            lam_reader_fail_line(r, ln->line, "'%s' is not a mode (want an index from 0)",
+                                 ln->fields[f]);
+        int creator = f < slash;
+        int k = f < slash ? f : f - 1;
+        buf[k] = (int32_t)(creator ? LAM_CREATE(mode) : LAM_ANNIHILATE(mode));
+        for (int j = creator ? 0 : slash; j < k; ++j)
+            if (buf[j] == buf[k])
+                lam_reader_fail_line(r, ln->line, "mode %ld is %s twice (the term would be zero)",
+                                     mode, creator ? "created" : "annihilated");
+    }
+}
+
+/* Version 1: "3+ 1+ 0- 2-", any order. */
+static void parse_term_v1(const lam_reader *r, const lam_line *ln, int32_t *buf)
+{
+    for (int f = 0; f < ln->nfields; ++f) {
+        long o = parse_ladder(ln->fields[f]);
+        if (o < 0)
+            lam_reader_fail_line(r, ln->line,
+                                 "'%s' is not a ladder operator of a version-1 term (want N+ "
+                                 "or N-)",
+                                 ln->fields[f]);
+        buf[f] = (int32_t)o;
+    }
+}
+
+/* The spelling of a fermion term: 1 when its first field is "N+"/"N-",
+ * 0 for the bare constant, else 2. */
+static int fermion_spelling(const lam_line *ln)
+{
+    if (ln->nfields == 0) return 0;
+    if (strcmp(ln->fields[0], "/") == 0) return 2;
+    return parse_ladder(ln->fields[0]) >= 0 ? 1 : 2;
+}
+
 void lam_fermion_read(lam_reader *r, lam_fermion_op *op)
 {
     long declared = lam_reader_meta_long(r, "modes", -1, 0, LAM_MAX_MODES);
     lam_fermion_init(op, declared < 0 ? (int)LAM_MAX_MODES : (int)declared);
-    int32_t buf[LAM_MAX_LADDER];
+    int32_t buf[LAM_MAX_LADDER + 1];
     int top = 0;
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
-        if (ln.nfields > LAM_MAX_LADDER)
+        int spelling = fermion_spelling(&ln);
+        if (spelling) lam_reader_term_syntax(r, &ln, spelling);
+        int nops = ln.nfields - (spelling == 2);
+        if (nops > LAM_MAX_LADDER)
             lam_reader_fail_line(r, ln.line, "a term has %d ladder operators (at most %d)",
-                                 ln.nfields, LAM_MAX_LADDER);
-        for (int f = 0; f < ln.nfields; ++f) {
-            long o = parse_ladder(ln.fields[f]);
-            if (o < 0)
-                lam_reader_fail_line(r, ln.line,
-                                     "'%s' is not a ladder operator (want N+ or N-)",
-                                     ln.fields[f]);
-            long mode = LAM_LADDER_MODE(o);
+                                 nops, LAM_MAX_LADDER);
+        if (spelling == 2)
+            parse_term_v2(r, &ln, buf);
+        else
+            parse_term_v1(r, &ln, buf);
+        for (int k = 0; k < nops; ++k) {
+            long mode = LAM_LADDER_MODE(buf[k]);
             if (declared >= 0 && mode >= declared)
                 lam_reader_fail_line(r, ln.line,
                                      "mode %ld out of range (the stream has %ld modes)",
                                      mode, declared);
             if (mode + 1 > top) top = (int)mode + 1;
-            buf[f] = (int32_t)o;
         }
-        lam_fermion_add(op, ln.coef, buf, ln.nfields, ln.line);
+        lam_fermion_add(op, ln.coef, buf, nops, ln.line);
     }
     if (declared < 0) op->nmodes = top;
 }
 
+/* 1 when every creator of the term stands before every annihilator. */
+static int creators_first(const lam_fermion_op *op, size_t t)
+{
+    int seen_annihilator = 0;
+    for (size_t i = op->first[t]; i < op->first[t + 1]; ++i) {
+        if (!LAM_LADDER_IS_CREATOR(op->ops[i]))
+            seen_annihilator = 1;
+        else if (seen_annihilator)
+            return 0;
+    }
+    return 1;
+}
+
+static long order_key(int32_t o);
+
+/* The term in canonical order (creators by descending mode, then
+ * annihilators by ascending mode) into ops; returns the sign of the
+ * reordering, 0 when a mode repeats on one side (the term is zero). */
+static int canonical_term(const lam_fermion_op *op, size_t t, int32_t *ops)
+{
+    int k = (int)lam_fermion_length(op, t), sign = 1;
+    memcpy(ops, op->ops + op->first[t], (size_t)k * sizeof *ops);
+    for (int i = 1; i < k; ++i)
+        for (int j = i; j > 0 && order_key(ops[j - 1]) > order_key(ops[j]); --j) {
+            int32_t tmp = ops[j];
+            ops[j] = ops[j - 1];
+            ops[j - 1] = tmp;
+            sign = -sign;
+        }
+    for (int i = 1; i < k; ++i)
+        if (ops[i] == ops[i - 1]) return 0;
+    return sign;
+}
+
+static void write_ordered_terms(lam_writer *w, const lam_fermion_op *op)
+{
+    char buf[LAM_MAX_LADDER * 12 + 8];
+    int32_t ops[LAM_MAX_LADDER];
+    for (size_t t = 0; t < op->count; ++t) {
+        int k = (int)lam_fermion_length(op, t);
+        int sign = canonical_term(op, t, ops);
+        if (sign == 0) continue;
+        size_t len = 0;
+        int slash = k > 0;
+        for (int i = 0; i < k; ++i) {
+            if (slash && !LAM_LADDER_IS_CREATOR(ops[i])) {
+                len += (size_t)snprintf(buf + len, sizeof buf - len, "%s/", len ? " " : "");
+                slash = 0;
+            }
+            len += (size_t)snprintf(buf + len, sizeof buf - len, "%s%d", len ? " " : "",
+                                    (int)LAM_LADDER_MODE(ops[i]));
+        }
+        if (slash) len += (size_t)snprintf(buf + len, sizeof buf - len, " /");
+        buf[len] = '\0';
+        lam_writer_term(w, sign * op->coef[t], buf);
+    }
+}
+
 void lam_fermion_write_terms(lam_writer *w, const lam_fermion_op *op)
 {
-    size_t cap = 256;
-    char *buf = lam_malloc(cap);
-    for (size_t t = 0; t < op->count; ++t) {
-        size_t len = 0;
-        for (size_t i = op->first[t]; i < op->first[t + 1]; ++i) {
-            if (len + 16 > cap) {
-                cap = lam_mul_size(cap, 2);
-                buf = lam_realloc(buf, cap);
-            }
-            len += (size_t)snprintf(buf + len, cap - len, "%s%d%c", len ? " " : "",
-                                    (int)LAM_LADDER_MODE(op->ops[i]),
-                                    LAM_LADDER_IS_CREATOR(op->ops[i]) ? '+' : '-');
+    for (size_t t = 0; t < op->count; ++t)
+        if (!creators_first(op, t)) {
+            /* version 2 spells normal-ordered products only */
+            lam_fermion_op ordered;
+            lam_fermion_normal_order(op, &ordered);
+            write_ordered_terms(w, &ordered);
+            lam_fermion_free(&ordered);
+            return;
         }
-        buf[len] = '\0';
-        lam_writer_term(w, op->coef[t], buf);
-    }
-    free(buf);
+    write_ordered_terms(w, op);
 }
 
 /* ------------------------------------------------------------ normal order */

@@ -2,8 +2,8 @@
  * monomials.
  *
  * A term is c * o_1 o_2 ... o_k with each o a creator a+_j or an
- * annihilator a_j of mode j, in the written order (stream syntax
- * "c 3+ 1+ 0- 2-").  Modes are spin orbitals; the spin order says which
+ * annihilator a_j of mode j, in the written order (stream syntax,
+ * version 2: "c 3 1 / 0 2", creators, a "/", annihilators).  Modes are spin orbitals; the spin order says which
  * mode holds orbital p with spin up or down:
  *   interleaved: up = 2p, down = 2p + 1
  *   blocked:     up = p,  down = n + p       (n spatial orbitals)
@@ -74,10 +74,18 @@ void lam_fermion_add(lam_fermion_op *op, double coef, const int32_t *ops, int k,
                      long line);
 
 /* Read the terms of a fermion stream: "modes:" from the header, else the
- * largest mode + 1.  A field that is not "N+" or "N-", or a mode out of
- * range: exit 65 with file:line. */
+ * largest mode + 1.  Version 2 "c 3 1 / 0 2" (creators, "/",
+ * annihilators, each side in any order, as written; the bare "c" is the
+ * constant) or version 1 "c 3+ 1+ 0- 2-".  A malformed field, a missing
+ * or second "/", a mode twice on one side or out of range: exit 65 with
+ * file:line. */
 void lam_fermion_read(lam_reader *r, lam_fermion_op *op);
-/* Write every term ("c 3+ 1+ 0- 2-"; the constant as the bare number). */
+/* Write every term in version 2, canonical: creators by descending mode,
+ * "/", annihilators by ascending mode, with the sign of the reordering
+ * ("c 3 1 / 0 2"; "c 2 /" and "c / 0" for one side; the constant as the
+ * bare number).  Terms that are zero (a mode twice on one side) are left
+ * out; an operator with a term not normal ordered is written normal
+ * ordered (lam_fermion_normal_order). */
 void lam_fermion_write_terms(lam_writer *w, const lam_fermion_op *op);
 
 /* The same operator in normal order: in each term the creators first in

@@ -1024,7 +1024,7 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
         if (!(split && trial.count > n)) bound = value; /* nothing shared: optimal */
         lam_progress("split over at most %d groups a term: lambda_grouped %.12g Eh",
                      split_limits[k], value);
-        if (value < best) {
+        if (k == 0 || value < best) { /* the first always: value may be inf or NaN */
             best = value;
             shares_free(&sh);
             sh = trial;

@@ -1,11 +1,13 @@
 /* pauli.c - Pauli strings in the symplectic bit representation, sets of
  * weighted strings, hash merge, and the pauli stream terms. */
+#define _DEFAULT_SOURCE /* madvise */
 #include "pauli.h"
 
 #include <limits.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 
 #include "util.h"
 
@@ -69,26 +71,59 @@ static int put_index(char *buf, unsigned long v)
     return n;
 }
 
+/* The qubits that carry one letter: X alone, Y (both bits) or Z alone. */
+static inline uint64_t letter_word(char letter, const uint64_t *x, const uint64_t *z, int w)
+{
+    return letter == 'x' ? x[w] & ~z[w] : letter == 'y' ? x[w] & z[w] : z[w] & ~x[w];
+}
+
+/* First qubit from q on whose bit in the letter's set equals `want` (1 or
+ * 0); 64*nw when there is none. */
+static long next_qubit(char letter, const uint64_t *x, const uint64_t *z, int nw, long q,
+                       int want)
+{
+    for (int w = (int)(q >> 6); w < nw; ++w) {
+        uint64_t word = letter_word(letter, x, z, w);
+        if (!want) word = ~word;
+        if (w == (int)(q >> 6)) word &= ~(uint64_t)0 << (q & 63);
+        if (word) return (long)w * 64 + __builtin_ctzll(word);
+    }
+    return 64L * nw;
+}
+
+/* Canonical spelling: one field per letter in the order x, y, z, sorted
+ * indices, every maximal run of two or more consecutive qubits as a-b. */
 int lam_pauli_format(char *buf, size_t size, int nw, const uint64_t *x,
                      const uint64_t *z)
 {
     size_t len = 0;
     if (size == 0) return -1;
-    for (int w = 0; w < nw; ++w) {
-        uint64_t any = x[w] | z[w];
-        while (any) {
-            int b = __builtin_ctzll(any);
-            any &= any - 1;
-            uint64_t bit = (uint64_t)1 << b;
-            char letter = (x[w] & bit) ? ((z[w] & bit) ? 'Y' : 'X') : 'Z';
-            char digits[24];
-            int nd = put_index(digits, (unsigned long)w * 64 + (unsigned)b);
-            /* space, letter, digits, terminator */
-            if (len + 3 + (size_t)nd > size) return -1;
-            if (len) buf[len++] = ' ';
-            buf[len++] = letter;
+    static const char letters[3] = {'x', 'y', 'z'};
+    for (int l = 0; l < 3; ++l) {
+        char letter = letters[l];
+        long q = next_qubit(letter, x, z, nw, 0, 1);
+        if (q >= 64L * nw) continue;
+        /* space, letter, colon */
+        if (len + 3 >= size) return -1;
+        if (len) buf[len++] = ' ';
+        buf[len++] = letter;
+        buf[len++] = ':';
+        int first = 1;
+        while (q < 64L * nw) {
+            long end = next_qubit(letter, x, z, nw, q, 0) - 1; /* last of the run */
+            char digits[52];
+            int nd = 0;
+            if (!first) digits[nd++] = ',';
+            nd += put_index(digits + nd, (unsigned long)q);
+            if (end > q) {
+                digits[nd++] = '-';
+                nd += put_index(digits + nd, (unsigned long)end);
+            }
+            if (len + (size_t)nd + 1 > size) return -1;
             memcpy(buf + len, digits, (size_t)nd);
             len += (size_t)nd;
+            first = 0;
+            q = next_qubit(letter, x, z, nw, end + 1, 1);
         }
     }
     buf[len] = '\0';
@@ -362,21 +397,117 @@ static int32_t parse_group(const lam_reader *r, const lam_line *ln, const char *
     return (int32_t)g;
 }
 
+static inline void clear_words(int nw, uint64_t *x, uint64_t *z)
+{
+    /* a few words in practice: a call to memset per term was measured at a
+     * tenth of the reading time */
+    for (int w = 0; w < nw; ++w) x[w] = z[w] = 0;
+}
+
+/* Where a term's qubits go: the bounds, the words, and the qubit count an
+ * index beyond the words would need (unbounded reading only). */
+typedef struct {
+    const lam_reader *r;
+    const lam_line *ln;
+    int nqubits, nw;
+    uint64_t *x, *z;
+    long need;
+} term_target;
+
+/* Put qubit q under a letter ('X','Y','Z' of either case). */
+static inline void set_qubit(term_target *t, long q, char letter)
+{
+    if (t->nqubits >= 0 && q >= t->nqubits)
+        lam_reader_fail_line(t->r, t->ln->line,
+                             "qubit index %ld out of range (the stream has %d qubits)", q,
+                             t->nqubits);
+    if (q >= 64L * t->nw) {
+        if (t->nqubits >= 0)
+            lam_fail(LAM_EX_SOFTWARE, "internal: %d words too few for %d qubits", t->nw,
+                     t->nqubits);
+        if (q + 1 > t->need) t->need = q + 1;
+        return;
+    }
+    uint64_t bit = (uint64_t)1 << (q & 63);
+    size_t w = (size_t)(q >> 6);
+    if ((t->x[w] | t->z[w]) & bit)
+        lam_reader_fail_line(t->r, t->ln->line, "qubit %ld appears twice in one term", q);
+    letter |= 0x20; /* lower case */
+    if (letter != 'z') t->x[w] |= bit;
+    if (letter != 'x') t->z[w] |= bit;
+}
+
+/* Decimal digits at *p (no sign, no leading zero); advances *p; -1 when
+ * there are none or the value passes the suite's limit. */
+static inline long scan_qubit(const char **p)
+{
+    const char *c = *p;
+    long v = 0;
+    if (*c < '0' || *c > '9') return -1;
+    if (*c == '0' && c[1] >= '0' && c[1] <= '9') return -1;
+    for (; *c >= '0' && *c <= '9'; ++c) {
+        v = v * 10 + (*c - '0');
+        if (v >= LAM_PAULI_MAX_QUBITS) return -1;
+    }
+    *p = c;
+    return v;
+}
+
+/* "x:0,3-5": the qubit list of one letter field, items a or a-b (a <= b),
+ * in any order. */
+static void parse_letter_field(term_target *t, const char *tok)
+{
+    const char *p = tok + 2;
+    if (!*p)
+        lam_reader_fail_line(t->r, t->ln->line, "empty qubit list in '%s'", tok);
+    for (;;) {
+        long a = scan_qubit(&p), b = a;
+        if (a >= 0 && *p == '-') {
+            ++p;
+            b = scan_qubit(&p);
+        }
+        if (a < 0 || b < 0 || (*p != ',' && *p != '\0'))
+            lam_reader_fail_line(t->r, t->ln->line,
+                                 "bad qubit list in '%s' (want indices and ranges such as "
+                                 "%c:0,3-5)",
+                                 tok, tok[0]);
+        if (b < a)
+            lam_reader_fail_line(t->r, t->ln->line, "backward range %ld-%ld in '%s'", a, b, tok);
+        for (long q = a; q <= b; ++q) set_qubit(t, q, tok[0]);
+        if (*p == '\0') return;
+        if (*++p == '\0')
+            lam_reader_fail_line(t->r, t->ln->line, "bad qubit list in '%s' (a trailing comma)",
+                                 tok);
+    }
+}
+
+/* The spelling of a term from its first Pauli field: 2 for x:/y:/z:, 1
+ * for the version-1 X0, 0 when the term has none. */
+static int term_spelling(const lam_line *ln)
+{
+    for (int f = 0; f < ln->nfields; ++f) {
+        const char *tok = ln->fields[f];
+        if (tok[0] == '@') continue;
+        return (tok[0] == 'X' || tok[0] == 'Y' || tok[0] == 'Z') &&
+                       tok[1] >= '0' && tok[1] <= '9'
+                   ? 1
+                   : 2;
+    }
+    return 0;
+}
+
 /* Parse the fields of one term into x, z (nw words).  Returns -1 when the
  * term fits, else the qubit count it needs (only when nqubits < 0, i.e.
  * unbounded, and an index lies beyond the nw words given). */
-static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, int nw,
+static long parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
                          uint64_t *x, uint64_t *z, int32_t *group)
 {
-    long need = -1;
-    /* one or two words in practice: a call to memset per term was measured
-     * at a tenth of the reading time */
-    x[0] = z[0] = 0;
-    if (nw > 1) {
-        memset(x + 1, 0, (size_t)(nw - 1) * sizeof(uint64_t));
-        memset(z + 1, 0, (size_t)(nw - 1) * sizeof(uint64_t));
-    }
+    term_target t = {r, ln, nqubits, nw, x, z, -1};
+    clear_words(nw, x, z);
     *group = -1;
+    int spelling = term_spelling(ln);
+    if (spelling) lam_reader_term_syntax(r, ln, spelling);
+    unsigned letters_seen = 0;
     for (int f = 0; f < ln->nfields; ++f) {
         const char *tok = ln->fields[f];
         if (tok[0] == '@') {
@@ -387,35 +518,32 @@ static long parse_fields(const lam_reader *r, const lam_line *ln, int nqubits, i
             continue;
         }
         char letter = tok[0];
-        if (letter != 'X' && letter != 'Y' && letter != 'Z')
-            lam_reader_fail_line(r, ln->line,
-                                 "unknown Pauli factor '%s' (want X, Y or Z and a qubit index)",
-                                 tok);
-        long q = parse_qubit(tok + 1);
-        if (q < 0)
-            lam_reader_fail_line(r, ln->line, "bad qubit index in '%s'", tok);
-        if (nqubits >= 0 && q >= nqubits)
-            lam_reader_fail_line(r, ln->line,
-                                 "qubit index %ld out of range (the stream has %d qubits)",
-                                 q, nqubits);
-        if (q >= 64L * nw) {
-            if (nqubits >= 0)
-                lam_fail(LAM_EX_SOFTWARE, "internal: %d words too few for %d qubits", nw,
-                         nqubits);
-            if (q + 1 > need) need = q + 1;
+        if (spelling == 1) { /* version 1: X0 Y1 Z5, one factor a field */
+            long q = -1;
+            if (letter == 'X' || letter == 'Y' || letter == 'Z') q = parse_qubit(tok + 1);
+            if (q < 0)
+                lam_reader_fail_line(r, ln->line,
+                                     "unknown Pauli factor '%s' in a version-1 term "
+                                     "(want X, Y or Z and a qubit index)",
+                                     tok);
+            set_qubit(&t, q, letter);
             continue;
         }
-        uint64_t bit = (uint64_t)1 << (q & 63);
-        size_t w = (size_t)(q >> 6);
-        if ((x[w] | z[w]) & bit)
-            lam_reader_fail_line(r, ln->line, "qubit %ld appears twice in one term", q);
-        if (letter != 'Z') x[w] |= bit;
-        if (letter != 'X') z[w] |= bit;
+        if ((letter != 'x' && letter != 'y' && letter != 'z') || tok[1] != ':')
+            lam_reader_fail_line(r, ln->line,
+                                 "unknown Pauli field '%s' (want x:, y: or z: and a qubit "
+                                 "list, such as z:1-3,7)",
+                                 tok);
+        unsigned bit = 1u << (letter - 'x');
+        if (letters_seen & bit)
+            lam_reader_fail_line(r, ln->line, "letter '%c' has two fields in one term", letter);
+        letters_seen |= bit;
+        parse_letter_field(&t, tok);
     }
-    return need;
+    return t.need;
 }
 
-void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln, int nqubits,
+void lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits,
                             int nw, uint64_t *x, uint64_t *z, int32_t *group)
 {
     long need = parse_fields(r, ln, nqubits, nw, x, z, group);
@@ -558,16 +686,63 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s)
     return top;
 }
 
+/* A Euclidean norm accumulated as scale * sqrt(ssq) with scale the
+ * largest |c| so far (the scaling of LAPACK's dnrm2): no square overflows
+ * or underflows, so subnormal coefficients keep their grouped norm. */
+static void norm_add(double acc[2], double c)
+{
+    double a = fabs(c);
+    if (a == 0) return;
+    if (a > acc[0]) {
+        double r = acc[0] / a;
+        acc[1] = 1 + acc[1] * r * r;
+        acc[0] = a;
+    } else {
+        double r = a / acc[0];
+        acc[1] += r * r;
+    }
+}
+
+static double norm_value(const double acc[2]) { return acc[0] * sqrt(acc[1]); }
+
+/* The Euclidean norm of the coefficients of each group label. */
+typedef struct {
+    lam_rowhash index;
+    uint64_t *labels;
+    double (*norm)[2];
+    size_t count, cap;
+} label_norms;
+
+static void label_norms_add(label_norms *ln, int32_t group, double c)
+{
+    if (ln->count == ln->cap) {
+        ln->cap = ln->cap ? 2 * ln->cap : 256;
+        ln->labels = lam_realloc(ln->labels, lam_mul_size(ln->cap, sizeof *ln->labels));
+        ln->norm = lam_realloc(ln->norm, lam_mul_size(ln->cap, sizeof *ln->norm));
+    }
+    ln->labels[ln->count] = (uint64_t)group;
+    size_t k = lam_rowhash_insert(&ln->index, ln->labels, 1, NULL, ln->count);
+    if (k == ln->count) ln->norm[ln->count][0] = ln->norm[ln->count][1] = 0, ++ln->count;
+    norm_add(ln->norm[k], c);
+}
+
+/* Sum over labels of the norms; frees the table. */
+static double label_norms_total(label_norms *ln)
+{
+    double sum = 0;
+    for (size_t g = 0; g < ln->count; ++g) sum += norm_value(ln->norm[g]);
+    lam_rowhash_free(&ln->index);
+    free(ln->labels);
+    free(ln->norm);
+    return sum;
+}
+
 void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
 {
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
     uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
-    lam_rowhash labels_index;
-    lam_rowhash_init(&labels_index);
-    uint64_t *labels = NULL;
-    double *sumsq = NULL;
-    size_t labels_cap = 0;
+    label_norms labels = {0};
     memset(out, 0, sizeof *out);
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
@@ -598,21 +773,387 @@ void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
             continue;
         }
         out->labelled = 1;
-        if (out->groups == labels_cap) {
-            labels_cap = labels_cap ? 2 * labels_cap : 256;
-            labels = lam_realloc(labels, lam_mul_size(labels_cap, sizeof *labels));
-            sumsq = lam_realloc(sumsq, lam_mul_size(labels_cap, sizeof *sumsq));
-        }
-        labels[out->groups] = (uint64_t)group;
-        size_t k = lam_rowhash_insert(&labels_index, labels, 1, NULL, out->groups);
-        if (k == out->groups) sumsq[out->groups++] = ln.coef * ln.coef;
-        else sumsq[k] += ln.coef * ln.coef;
+        label_norms_add(&labels, group, ln.coef);
     }
-    for (size_t g = 0; g < out->groups; ++g) out->lambda_grouped += sqrt(sumsq[g]);
+    out->groups = labels.count;
+    out->lambda_grouped += label_norms_total(&labels);
     if (declared >= 0) out->nqubits = (int)declared;
-    lam_rowhash_free(&labels_index);
-    free(labels);
-    free(sumsq);
+    free(xz);
+}
+
+/* ------------------------------------------------- merging while summing */
+
+/* A term as a short byte key: every qubit in ascending order as the
+ * varint of (gap from the previous qubit) * 4 + letter (1 x, 2 y, 3 z),
+ * then, for a labelled term, a 0 byte and the varint of the label.  Equal
+ * (string, label) pairs have equal keys; a 5-factor string on 200 qubits
+ * takes 5 to 10 bytes instead of 64 of bits. */
+static size_t put_varint(uint8_t *p, uint64_t v)
+{
+    size_t n = 0;
+    while (v >= 0x80) {
+        p[n++] = (uint8_t)(v | 0x80);
+        v >>= 7;
+    }
+    p[n++] = (uint8_t)v;
+    return n;
+}
+
+static size_t encode_key(uint8_t *key, int nw, const uint64_t *x, const uint64_t *z,
+                         int32_t group)
+{
+    size_t n = 0;
+    uint64_t prev = 0;
+    for (int w = 0; w < nw; ++w) {
+        uint64_t any = x[w] | z[w];
+        while (any) {
+            int b = __builtin_ctzll(any);
+            any &= any - 1;
+            uint64_t q = (uint64_t)w * 64 + (unsigned)b, bit = (uint64_t)1 << b;
+            uint64_t letter = (x[w] & bit) ? ((z[w] & bit) ? 2 : 1) : 3;
+            n += put_varint(key + n, ((q - prev) << 2) | letter);
+            prev = q;
+        }
+    }
+    if (group >= 0) {
+        key[n++] = 0;
+        n += put_varint(key + n, (uint64_t)group);
+    }
+    return n;
+}
+
+static inline uint64_t key_hash(const uint8_t *key, size_t n)
+{
+    uint64_t h = 0x9e3779b97f4a7c15ULL ^ n;
+    size_t i = 0;
+    for (; i + 8 <= n; i += 8) {
+        uint64_t v;
+        memcpy(&v, key + i, 8);
+        h = mix64(h ^ v);
+    }
+    uint64_t tail = 0;
+    for (size_t k = 0; i + k < n; ++k) tail |= (uint64_t)key[i + k] << (8 * k);
+    return mix64(h ^ tail ^ 0x5bd1e995);
+}
+
+/* Distinct keys with their summed coefficients: keys live end to end in
+ * one arena (key t is [off[t], off[t+1])), the open-addressing table
+ * holds 24 bits of each key's hash and its number, at most half full. */
+typedef struct {
+    uint8_t *arena;
+    size_t arena_len, arena_cap;
+    uint64_t *off;
+    double *coef;
+    size_t count, cap;
+    uint64_t *slot;
+    size_t size;
+} key_table;
+
+/* The table is kept at most 70 % full: with the fingerprints a probe
+ * sequence still stays within a cache line or two. */
+static int key_table_full(const key_table *kt, size_t count)
+{
+    return 10 * count > 7 * kt->size;
+}
+
+/* Large arrays on huge pages where the system lends them: every table
+ * look-up lands on a page of its own, and the page faults and page-table
+ * walks of 4 KB pages were measured to cost as much as the cache misses.
+ * Growing copies old_bytes over (the arrays grow rarely: they are sized
+ * from the file ahead). */
+static void *big_realloc(void *old, size_t old_bytes, size_t bytes)
+{
+    size_t huge = (size_t)2 << 20;
+    if (bytes < 2 * huge) return lam_realloc(old, bytes);
+    size_t rounded = (bytes + huge - 1) / huge * huge;
+    void *p = aligned_alloc(huge, rounded);
+    if (!p) lam_fail(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", rounded);
+#ifdef MADV_HUGEPAGE
+    madvise(p, rounded, MADV_HUGEPAGE); /* a hint: without it, 4 KB pages */
+#endif
+    if (old) memcpy(p, old, old_bytes < bytes ? old_bytes : bytes);
+    free(old);
+    return p;
+}
+
+static uint64_t *alloc_slots(size_t size)
+{
+    size_t bytes = lam_mul_size(size, sizeof(uint64_t));
+    uint64_t *slot = big_realloc(NULL, 0, bytes);
+    memset(slot, 0, bytes);
+    return slot;
+}
+
+static void key_table_resize(key_table *kt, size_t size)
+{
+    uint64_t *slot = alloc_slots(size);
+    for (size_t i = 0; i < kt->size; ++i) {
+        uint64_t e = kt->slot[i];
+        if (!e) continue;
+        size_t k = (size_t)(e & SLOT_INDEX_MASK) - 1;
+        uint64_t hv = size <= ((size_t)1 << (64 - SLOT_INDEX_BITS))
+                          ? e & ~SLOT_INDEX_MASK
+                          : key_hash(kt->arena + kt->off[k], kt->off[k + 1] - kt->off[k]);
+        size_t j = slot_of(hv, size);
+        while (slot[j]) j = (j + 1) & (size - 1);
+        slot[j] = e;
+    }
+    free(kt->slot);
+    kt->slot = slot;
+    kt->size = size;
+}
+
+static void key_table_reserve(key_table *kt, size_t count)
+{
+    size_t size = kt->size ? kt->size : 1 << 12;
+    while (10 * count > 7 * size) size = lam_mul_size(size, 2);
+    if (size != kt->size) key_table_resize(kt, size);
+}
+
+static void key_table_reserve_entries(key_table *kt, size_t cap)
+{
+    if (cap <= kt->cap) return;
+    if (cap < 1 << 12) cap = 1 << 12;
+    kt->off = big_realloc(kt->off, (kt->cap + 1) * sizeof *kt->off,
+                          lam_mul_size(cap + 1, sizeof *kt->off));
+    kt->coef = big_realloc(kt->coef, kt->cap * sizeof *kt->coef,
+                           lam_mul_size(cap, sizeof *kt->coef));
+    kt->cap = cap;
+}
+
+static inline void key_table_prefetch(const key_table *kt, uint64_t hv)
+{
+    __builtin_prefetch(&kt->slot[slot_of(hv, kt->size)]);
+}
+
+/* Add c to the key at arena + at (at >= arena_len, not yet committed): a
+ * new entry, moved down to the arena's end, or the sum of an equal one. */
+static void key_table_add(key_table *kt, size_t at, size_t len, uint64_t hv, double c)
+{
+    if (key_table_full(kt, kt->count + 1)) key_table_reserve(kt, kt->count + 1);
+    const uint8_t *key = kt->arena + at;
+    uint64_t fp = SLOT_FP(hv);
+    size_t i = slot_of(hv, kt->size), mask = kt->size - 1;
+    for (;; i = (i + 1) & mask) {
+        uint64_t e = kt->slot[i];
+        if (!e) break;
+        if ((e >> SLOT_INDEX_BITS) != fp) continue;
+        size_t k = (size_t)(e & SLOT_INDEX_MASK) - 1;
+        if (kt->off[k + 1] - kt->off[k] == len && memcmp(kt->arena + kt->off[k], key, len) == 0) {
+            kt->coef[k] += c;
+            return;
+        }
+    }
+    if (kt->count + 1 >= kt->cap) key_table_reserve_entries(kt, 2 * kt->cap);
+    if (kt->count + 1 >= SLOT_INDEX_MASK) lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
+    kt->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(kt->count + 1);
+    kt->coef[kt->count] = c;
+    if (at != kt->arena_len) memmove(kt->arena + kt->arena_len, key, len);
+    kt->arena_len += len;
+    kt->off[++kt->count] = kt->arena_len;
+}
+
+/* Room for len more bytes from arena + at on. */
+static void key_table_room(key_table *kt, size_t at, size_t len)
+{
+    if (at + len <= kt->arena_cap) return;
+    size_t cap = kt->arena_cap ? kt->arena_cap : 1 << 16;
+    while (cap < at + len) cap = lam_mul_size(cap, 2);
+    kt->arena = big_realloc(kt->arena, kt->arena_cap, cap);
+    kt->arena_cap = cap;
+}
+
+static void key_table_free(key_table *kt)
+{
+    free(kt->arena);
+    free(kt->off);
+    free(kt->coef);
+    free(kt->slot);
+}
+
+/* Weight and label of a key (label -1 when it has none). */
+static int key_weight(const uint8_t *key, size_t len, int32_t *group)
+{
+    int weight = 0;
+    size_t i = 0;
+    *group = -1;
+    for (; i < len && key[i] != 0; ++i) weight += key[i] < 0x80;
+    if (i < len) {
+        uint64_t g = 0;
+        for (unsigned shift = 0; ++i < len; shift += 7) g |= (uint64_t)(key[i] & 0x7f) << shift;
+        *group = (int32_t)g;
+    }
+    return weight;
+}
+
+/* A well-formed version-2 term straight from its text into x, z (nw words,
+ * all qubits below `limit`), its label and coefficient, without splitting
+ * it: 0 when it parsed, -1 for anything else (another spelling, an error,
+ * a qubit beyond the words), which the caller hands to the full parser
+ * for its message or its growth.  The text is left as it was. */
+static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *z,
+                         int32_t *group, double *coef)
+{
+    char *p = text;
+    while (*p == ' ' || *p == '\t') ++p;
+    char *tok = p;
+    while (*p && *p != ' ' && *p != '\t') ++p;
+    char save = *p;
+    *p = '\0';
+    int bad = lam_reader_coefficient(tok, coef);
+    *p = save;
+    if (bad) return -1;
+    clear_words(nw, x, z);
+    *group = -1;
+    unsigned seen = 0;
+    for (;;) {
+        while (*p == ' ' || *p == '\t') ++p;
+        if (!*p) return 0;
+        if (*group >= 0) return -1; /* the label must come last */
+        if (*p == '@') {
+            const char *c = p + 1;
+            long g = scan_qubit(&c); /* digits, no leading zero */
+            if (g < 0 || (*c && *c != ' ' && *c != '\t')) return -1;
+            *group = (int32_t)g;
+            p = (char *)c;
+            continue;
+        }
+        char letter = *p;
+        if ((letter != 'x' && letter != 'y' && letter != 'z') || p[1] != ':') return -1;
+        unsigned bit = 1u << (letter - 'x');
+        if (seen & bit) return -1;
+        seen |= bit;
+        const char *c = p + 2;
+        for (;;) {
+            long a = scan_qubit(&c), b = a;
+            if (a >= 0 && *c == '-') {
+                ++c;
+                b = scan_qubit(&c);
+            }
+            if (a < 0 || b < a || b >= limit) return -1;
+            for (long q = a; q <= b; ++q) {
+                uint64_t m = (uint64_t)1 << (q & 63);
+                size_t w = (size_t)(q >> 6);
+                if ((x[w] | z[w]) & m) return -1;
+                if (letter != 'z') x[w] |= m;
+                if (letter != 'x') z[w] |= m;
+            }
+            if (*c != ',') break;
+            ++c;
+        }
+        if (*c && *c != ' ' && *c != '\t') return -1;
+        p = (char *)c;
+    }
+}
+
+/* Keys of a batch of lines wait in the arena past its end while their
+ * slots are prefetched: the look-ups are cache misses, and overlapping
+ * them is most of the speed. */
+typedef struct {
+    size_t at, len;
+    uint64_t hash;
+    double coef;
+} pending_key;
+
+static void add_batch(key_table *kt, pending_key *batch, size_t n)
+{
+    for (size_t i = 0; i < n; ++i) key_table_prefetch(kt, batch[i].hash);
+    for (size_t i = 0; i < n; ++i)
+        key_table_add(kt, batch[i].at, batch[i].len, batch[i].hash, batch[i].coef);
+}
+
+/* Expected distinct keys, from the bytes a line took so far and the bytes
+ * left in the file (plain files only). */
+static void presize(lam_reader *r, key_table *kt, size_t lines)
+{
+    long long left = lam_reader_bytes_left(r), done = lam_reader_bytes_read(r);
+    if (left < 0 || done <= 0 || lines == 0) return;
+    double expect = 1.05 * ((double)lines + (double)left * (double)lines / (double)done);
+    if (expect >= 1e10) return;
+    key_table_reserve(kt, (size_t)expect);
+    key_table_reserve_entries(kt, (size_t)expect);
+    double per_key = (double)kt->arena_len / (double)(kt->count ? kt->count : 1);
+    key_table_room(kt, kt->arena_len, (size_t)(expect * per_key) + 4096);
+}
+
+void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
+{
+    enum { BATCH = 32, SIZE_AFTER = 4096 };
+    long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
+    int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
+    uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
+    key_table kt = {0};
+    key_table_reserve_entries(&kt, 1);
+    kt.off[0] = 0;
+    key_table_reserve(&kt, 1);
+    pending_key batch[BATCH];
+    size_t nbatch = 0, lines = 0, next_at = 0;
+    memset(out, 0, sizeof *out);
+    lam_line ln;
+    char *text;
+    long line;
+    while (lam_reader_next_text(r, &text, &line)) {
+        int32_t group;
+        double coef;
+        long limit = declared >= 0 ? declared : 64L * nw;
+        /* the fast path once the stream is known to be version 2 */
+        if (lam_reader_syntax(r) != 2 ||
+            parse_text_v2(text, limit, nw, xz, xz + nw, &group, &coef) != 0) {
+            lam_reader_split(r, text, line, &ln);
+            long need;
+            while ((need = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group)) >= 0) {
+                nw = lam_pauli_words((int)need);
+                xz = lam_realloc(xz, lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
+            }
+            coef = ln.coef;
+        }
+        for (int k = nw - 1; k >= 0; --k)
+            if (xz[k] | xz[nw + k]) {
+                int top = k * 64 + 64 - __builtin_clzll(xz[k] | xz[nw + k]);
+                if (top > out->nqubits) out->nqubits = top;
+                break;
+            }
+        /* at most 4 varint bytes a qubit (indices below 2^24), the label */
+        if (nbatch == 0) next_at = kt.arena_len;
+        size_t most = nw <= 4 ? 256 * (size_t)nw : (size_t)lam_pauli_weight(nw, xz, xz + nw);
+        key_table_room(&kt, next_at, 4 * most + 8);
+        pending_key *pk = &batch[nbatch++];
+        pk->at = next_at;
+        pk->len = encode_key(kt.arena + next_at, nw, xz, xz + nw, group);
+        pk->hash = key_hash(kt.arena + next_at, pk->len);
+        pk->coef = coef;
+        next_at += pk->len;
+        if (nbatch == BATCH) {
+            add_batch(&kt, batch, nbatch);
+            nbatch = 0;
+        }
+        if (++lines == SIZE_AFTER) presize(r, &kt, lines);
+    }
+    add_batch(&kt, batch, nbatch);
+    label_norms labels = {0};
+    for (size_t t = 0; t < kt.count; ++t) {
+        double c = kt.coef[t];
+        if (c == 0) continue;
+        ++out->terms;
+        int32_t group;
+        int weight = key_weight(kt.arena + kt.off[t], kt.off[t + 1] - kt.off[t], &group);
+        if (weight == 0) {
+            out->constant += c;
+            continue;
+        }
+        out->lambda += fabs(c);
+        if (weight > out->max_weight) out->max_weight = weight;
+        if (group < 0) {
+            out->lambda_grouped += fabs(c);
+        } else {
+            out->labelled = 1;
+            label_norms_add(&labels, group, c);
+        }
+    }
+    out->groups = labels.count;
+    out->lambda_grouped += label_norms_total(&labels);
+    if (declared >= 0) out->nqubits = (int)declared;
+    key_table_free(&kt);
     free(xz);
 }
 
@@ -621,28 +1162,16 @@ void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
  * coefficients, each unlabelled string its |c|. */
 double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups)
 {
-    lam_rowhash h;
-    lam_rowhash_init(&h);
-    uint64_t *labels = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof(uint64_t)));
-    double *sumsq = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof(double)));
-    size_t n = 0;
+    label_norms labels = {0};
     double lambda = 0.0;
     for (size_t t = 0; t < s->count; ++t) {
         if (lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t))) continue;
         double c = s->coef[t];
-        if (!s->group || s->group[t] < 0) {
+        if (!s->group || s->group[t] < 0)
             lambda += c < 0 ? -c : c;
-            continue;
-        }
-        labels[n] = (uint64_t)s->group[t];
-        size_t k = lam_rowhash_insert(&h, labels, 1, NULL, n);
-        if (k == n) sumsq[n++] = c * c;
-        else sumsq[k] += c * c;
+        else
+            label_norms_add(&labels, s->group[t], c);
     }
-    for (size_t g = 0; g < n; ++g) lambda += sqrt(sumsq[g]);
-    lam_rowhash_free(&h);
-    free(labels);
-    free(sumsq);
-    if (ngroups) *ngroups = n;
-    return lambda;
+    if (ngroups) *ngroups = labels.count;
+    return lambda + label_norms_total(&labels);
 }

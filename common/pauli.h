@@ -26,8 +26,10 @@ int lam_pauli_mul(int nw, const uint64_t *x1, const uint64_t *z1,
 int lam_pauli_is_identity(int nw, const uint64_t *x, const uint64_t *z);
 /* Number of qubits acted on non-trivially. */
 int lam_pauli_weight(int nw, const uint64_t *x, const uint64_t *z);
-/* "X0 Y1 Z5" (empty for the identity) into buf; returns length, or -1 if
- * it does not fit. */
+/* The canonical version-2 spelling "x:0,3 y:5 z:1-2" (empty for the
+ * identity) into buf: one field per letter in the order x, y, z, sorted
+ * indices, every maximal run of two or more consecutive qubits as a-b.
+ * Returns the length, or -1 if it does not fit. */
 int lam_pauli_format(char *buf, size_t size, int nw, const uint64_t *x,
                      const uint64_t *z);
 
@@ -109,10 +111,12 @@ void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines);
  * merging as it reads: repeated strings never take room. */
 void lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop);
 /* Parse one term's fields into x,z (zeroed first) and the optional
- * trailing "@g" label (-1 when absent).  nqubits >= 0: an index from
+ * trailing "@g" label (-1 when absent): version 2 ("x:0,3 z:1-2", letters
+ * in any order, each at most once, indices and ranges a-b with a <= b in
+ * any order) or, by the first field, version 1 ("X0 Z1").  nqubits >= 0: an index from
  * nqubits on is "out of range"; nqubits < 0: any index that fits the nw
  * words.  A repeated qubit, an unknown letter or a bad label: exit 65. */
-void lam_pauli_parse_fields(const lam_reader *r, const lam_line *ln,
+void lam_pauli_parse_fields(lam_reader *r, const lam_line *ln,
                             int nqubits, int nw, uint64_t *x, uint64_t *z,
                             int32_t *group);
 /* What lam-norm reports of a pauli stream, gathered in one pass without
@@ -130,6 +134,10 @@ typedef struct {
     int max_weight;
 } lam_pauli_summary;
 void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out);
+/* The same for any pauli stream: repeated (string, label) pairs are merged
+ * (summed) first, as compact keys in one hash table, without storing the
+ * strings' bits; terms counts the merged ones that are not zero. */
+void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out);
 
 /* Write every term (with "@g" when labelled); not the header. */
 void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s);

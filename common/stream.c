@@ -1,4 +1,5 @@
-/* stream.c - reader and writer of the lamina operator stream, version 1. */
+/* stream.c - reader and writer of the lamina operator stream, version 2
+ * (version 1 still read). */
 #include "stream.h"
 
 #include <ctype.h>
@@ -6,6 +7,8 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <fcntl.h>
+#include <sys/stat.h>
 #include <zlib.h>
 
 #include "util.h"
@@ -136,6 +139,7 @@ typedef struct {
 
 struct lam_reader {
     gzFile gz;
+    int fd;
     char *name;
     long lineno;
     /* input buffer: bytes [pos, len) are unread */
@@ -149,7 +153,10 @@ struct lam_reader {
     lam_meta meta;
     lam_kind kind, forced;
     int kind_resolved;
-    int suite_stream; /* started with "#% lamina-op 1" */
+    int suite_stream; /* started with "#% lamina-op N" */
+    int syntax;       /* term spelling: 1 or 2, 0 while unknown */
+    int saw_meta;     /* any "#%" line */
+    int saw_term;     /* any term line */
     int ended;        /* met "#% end" */
     char **fields;
     int fields_cap;
@@ -297,11 +304,16 @@ static enum line_class classify(lam_reader *r, char *s, long line)
             if (line != 1)
                 lam_reader_fail_line(r, line, "'#%% lamina-op' is only allowed on the first line");
             char *ver = trim(body + 9);
-            if (strcmp(ver, "1") != 0)
-                lam_reader_fail_line(r, line, "stream version '%s' is not supported (this is version 1)", ver);
+            if (strcmp(ver, "1") != 0 && strcmp(ver, "2") != 0)
+                lam_reader_fail_line(r, line,
+                                     "stream version '%s' is not supported (this reader reads 2, and 1)",
+                                     ver);
             r->suite_stream = 1;
+            r->saw_meta = 1;
+            r->syntax = ver[0] - '0';
             return LINE_SKIP;
         }
+        r->saw_meta = 1;
         take_meta(r, body, line);
         return LINE_SKIP;
     }
@@ -355,7 +367,9 @@ lam_reader *lam_reader_open(const char *path)
     lam_reader *r = lam_calloc(1, sizeof *r);
     int use_stdin = !path || strcmp(path, "-") == 0;
     r->name = lam_strdup(use_stdin ? "<stdin>" : path);
-    r->gz = use_stdin ? gzdopen(0, "rb") : gzopen(path, "rb");
+    r->fd = use_stdin ? 0 : open(path, O_RDONLY);
+    if (r->fd < 0) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name, strerror(errno));
+    r->gz = gzdopen(r->fd, "rb");
     if (!r->gz)
         lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name,
                  errno ? strerror(errno) : "out of memory");
@@ -399,7 +413,14 @@ static int split_fields(lam_reader *r, char *s)
 static void parse_coefficient(const lam_reader *r, const char *tok, long line,
                               double *out)
 {
-    if (lam_parse_double(tok, out) == 0) return;
+    if (lam_parse_double(tok, out) == 0) {
+        if (*out > LAM_COEF_MAX || *out < -LAM_COEF_MAX)
+            lam_reader_fail_line(r, line,
+                                 "coefficient '%s' is too large (|c| > 1e100: sums of squares "
+                                 "and products could overflow)",
+                                 tok);
+        return;
+    }
     char low[8] = {0};
     for (int i = 0; i < 7 && tok[i]; ++i) low[i] = (char)tolower((unsigned char)tok[i]);
     const char *t = low[0] == '+' || low[0] == '-' ? low + 1 : low;
@@ -408,34 +429,128 @@ static void parse_coefficient(const lam_reader *r, const char *tok, long line,
     lam_reader_fail_line(r, line, "coefficient '%s' is not a number", tok);
 }
 
-int lam_reader_next(lam_reader *r, lam_line *out)
+static int allow_empty;
+
+void lam_reader_allow_empty(int allow) { allow_empty = allow; }
+
+/* A failed step upstream in a shell pipeline leaves nothing at all: that
+ * is refused rather than read as the zero operator. */
+static void check_not_empty(const lam_reader *r)
+{
+    if (!r->saw_meta && !r->saw_term && !allow_empty)
+        lam_fail_at(LAM_EX_DATA, r->name, 0,
+                    "empty input: no header and no terms (--allow-empty reads it as the zero "
+                    "operator)");
+}
+
+int lam_reader_next_text(lam_reader *r, char **text, long *line)
 {
     if (r->ended) return 0;
-    long line;
-    char *s = next_term_line(r, &line);
+    char *s = next_term_line(r, line);
     if (s) {
-        int n = split_fields(r, s);
-        parse_coefficient(r, r->fields[0], line, &out->coef);
-        out->nfields = n - 1;
-        out->fields = r->fields + 1;
-        out->line = line;
-        r->lineno = line;
+        r->saw_term = 1;
+        r->lineno = *line;
+        *text = s;
         return 1;
     }
     if (r->suite_stream && !r->ended)
         lam_fail_at(LAM_EX_DATA, r->name, r->lineno,
                     "truncated stream: it ends without '#%% end'");
+    check_not_empty(r);
     return 0;
+}
+
+void lam_reader_split(lam_reader *r, char *text, long line, lam_line *out)
+{
+    int n = split_fields(r, text);
+    parse_coefficient(r, r->fields[0], line, &out->coef);
+    out->nfields = n - 1;
+    out->fields = r->fields + 1;
+    out->line = line;
+}
+
+int lam_reader_coefficient(const char *tok, double *out)
+{
+    return lam_parse_double(tok, out) == 0 && *out <= LAM_COEF_MAX && *out >= -LAM_COEF_MAX
+               ? 0
+               : -1;
+}
+
+int lam_reader_next(lam_reader *r, lam_line *out)
+{
+    char *text;
+    long line;
+    if (!lam_reader_next_text(r, &text, &line)) return 0;
+    lam_reader_split(r, text, line, out);
+    return 1;
+}
+
+int lam_reader_syntax(const lam_reader *r) { return r->syntax; }
+
+long long lam_reader_bytes_left(const lam_reader *r)
+{
+    struct stat st;
+    if (!gzdirect(r->gz) || fstat(r->fd, &st) != 0 || !S_ISREG(st.st_mode)) return -1;
+    long long consumed = (long long)gztell(r->gz) - (long long)(r->len - r->pos);
+    return consumed <= st.st_size ? st.st_size - consumed : 0;
+}
+
+long long lam_reader_bytes_read(const lam_reader *r)
+{
+    return (long long)gztell(r->gz) - (long long)(r->len - r->pos);
+}
+
+void lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax)
+{
+    if (r->syntax == syntax) return;
+    if (r->syntax == 0) {
+        r->syntax = syntax;
+        return;
+    }
+    lam_reader_fail_line(r, ln->line,
+                         "a version-%d term in a version-%d stream (one spelling a stream; "
+                         "see lamina-stream(5))",
+                         syntax, r->syntax);
 }
 
 static lam_kind kind_of_field(const char *f)
 {
     size_t n = strlen(f);
     if ((f[0] == 'U' || f[0] == 'R') && f[1] == '\0') return LAM_KIND_FRAGMENTS;
-    if (f[0] == 'X' || f[0] == 'Y' || f[0] == 'Z' || f[0] == '@') return LAM_KIND_PAULI;
+    if ((f[0] == 'x' || f[0] == 'y' || f[0] == 'z') && f[1] == ':') return LAM_KIND_PAULI;
+    if (f[0] == '@') return LAM_KIND_PAULI;
+    if (f[0] == '/' && f[1] == '\0') return LAM_KIND_FERMION;
+    /* version 1 spellings (X0, 3+), read for one release of grace */
+    if ((f[0] == 'X' || f[0] == 'Y' || f[0] == 'Z') && isdigit((unsigned char)f[1]))
+        return LAM_KIND_PAULI;
     if (n > 1 && (f[n - 1] == '+' || f[n - 1] == '-')) return LAM_KIND_FERMION;
     if (isdigit((unsigned char)f[0])) return LAM_KIND_SPINFREE;
     return LAM_KIND_UNKNOWN;
+}
+
+/* The kind a term line's fields tell (s points past the coefficient): a
+ * "/" field anywhere makes a fermion term, else the first field decides;
+ * LAM_KIND_UNKNOWN when the line has no fields. */
+static lam_kind kind_of_fields(const char *s)
+{
+    lam_kind first = LAM_KIND_UNKNOWN;
+    for (;;) {
+        while (*s == ' ' || *s == '\t') ++s;
+        if (!*s) return first;
+        char f[64] = {0};
+        size_t k = 0;
+        while (s[k] && s[k] != ' ' && s[k] != '\t') {
+            if (k < sizeof f - 1) f[k] = s[k];
+            ++k;
+        }
+        s += k;
+        lam_kind kind = kind_of_field(f);
+        if (kind == LAM_KIND_FERMION && f[0] == '/') return kind;
+        if (first == LAM_KIND_UNKNOWN) {
+            first = kind;
+            if (kind != LAM_KIND_SPINFREE) return first; /* only digits can precede "/" */
+        }
+    }
 }
 
 /* Look ahead for the first term with fields; its first field tells the
@@ -452,19 +567,22 @@ static lam_kind infer_kind(lam_reader *r)
         if (s[0] == '#' || is_blank(s)) continue;
         while (*s == ' ' || *s == '\t') ++s;
         while (*s && *s != ' ' && *s != '\t') ++s; /* coefficient */
-        while (*s == ' ' || *s == '\t') ++s;
-        if (!*s) continue;
-        char first[64] = {0};
-        size_t k = 0;
-        while (s[k] && s[k] != ' ' && s[k] != '\t' && k < sizeof first - 1) {
-            first[k] = s[k];
-            ++k;
-        }
-        return kind_of_field(first);
+        lam_kind kind = kind_of_fields(s);
+        if (kind != LAM_KIND_UNKNOWN || !is_blank(s)) return kind;
     }
 }
 
 void lam_reader_force_kind(lam_reader *r, lam_kind kind) { r->forced = kind; }
+
+/* A metadata or term line among those read ahead. */
+static int pending_has_content(const lam_reader *r)
+{
+    for (size_t i = r->pending_next; i < r->npending; ++i) {
+        const char *s = r->pending[i].text;
+        if ((s[0] == '#' && s[1] == '%') || (s[0] != '#' && !is_blank(s))) return 1;
+    }
+    return 0;
+}
 
 lam_kind lam_reader_kind(lam_reader *r)
 {
@@ -479,6 +597,7 @@ lam_kind lam_reader_kind(lam_reader *r)
         return r->kind;
     }
     r->kind = r->forced != LAM_KIND_UNKNOWN ? r->forced : infer_kind(r);
+    if (r->kind == LAM_KIND_UNKNOWN && !pending_has_content(r)) check_not_empty(r);
     return r->kind;
 }
 
@@ -582,7 +701,7 @@ static int reserved_key(const char *key)
 void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
                        const char *history)
 {
-    lam_writer_printf(w, "#%% lamina-op 1\n#%% kind: %s\n", lam_kind_name(kind));
+    lam_writer_printf(w, "#%% lamina-op 2\n#%% kind: %s\n", lam_kind_name(kind));
     for (size_t i = 0; meta && i < meta->count; ++i)
         if (!reserved_key(meta->items[i].key))
             lam_writer_printf(w, "#%% %s: %s\n", meta->items[i].key, meta->items[i].value);

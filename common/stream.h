@@ -1,16 +1,27 @@
-/* stream.h - the lamina operator stream, version 1 (see man/lamina-stream.5).
+/* stream.h - the lamina operator stream, version 2 (see man/lamina-stream.5).
  *
  * A stream is line oriented: "#%" lines are metadata (key: value), other
  * "#" lines are comments, blank lines are ignored, every other line is one
  * term with its real coefficient in column 1.  A stream that starts with
- * "#% lamina-op 1" must end with "#% end"; a reader that meets EOF first
+ * "#% lamina-op 2" must end with "#% end"; a reader that meets EOF first
  * fails with "truncated stream" (exit 65).  gzip input is read
- * transparently through zlib.
+ * transparently through zlib.  Version-1 streams ("#% lamina-op 1", or
+ * headerless terms spelled X0 Y1 / 3+ 0-) are still read, for one release.
  */
 #ifndef LAM_STREAM_H
 #define LAM_STREAM_H
 
 #include <stddef.h>
+
+/* The largest coefficient magnitude a reader accepts: with |c| <= 1e100
+ * sums of squares and products of a few coefficients stay far from
+ * overflow in every program.  Tiny values (subnormals too) are read as
+ * they are. */
+#define LAM_COEF_MAX 1e100
+
+/* getopt_long value of the long-only option --allow-empty, the same in
+ * every program that reads a stream. */
+#define LAM_OPT_ALLOW_EMPTY 0x4c45
 
 typedef enum {
     LAM_KIND_UNKNOWN = 0,
@@ -70,15 +81,40 @@ long lam_reader_lineno(const lam_reader *r);
 /* Metadata read so far (header, plus any #% lines met between terms). */
 lam_meta *lam_reader_meta(lam_reader *r);
 /* The kind: from "#% kind:", else the forced kind, else inferred from the
- * first term (X0/Y1/Z2 -> pauli, 3+/0- -> fermion, integers -> spinfree,
- * U or R -> fragments).
+ * first term with fields (x:/y:/z: or @g -> pauli, a "/" field -> fermion,
+ * integers -> spinfree, U or R -> fragments; version-1 X0 -> pauli,
+ * 3+ -> fermion).
  * A forced kind that contradicts the header is an error (exit 65). */
 void lam_reader_force_kind(lam_reader *r, lam_kind kind);
 lam_kind lam_reader_kind(lam_reader *r);
 /* Next term: 1 and *out filled, or 0 at the end of the stream (the
- * "#% end" trailer checked).  A coefficient that does not parse, NaN or
- * Inf is exit 65 with file and line. */
+ * "#% end" trailer checked).  A coefficient that does not parse, NaN, Inf
+ * or |c| > LAM_COEF_MAX is exit 65 with file and line.  An input with no
+ * "#%" line and no term (empty, or comments only) is exit 65 "empty input"
+ * unless lam_reader_allow_empty(1) was called (--allow-empty). */
 int lam_reader_next(lam_reader *r, lam_line *out);
+/* lam_reader_next in two steps, for a reader that parses the text itself:
+ * the next term line as text (NUL terminated, writable, valid until the
+ * next call; 0 at the end, with the same checks), and the split into
+ * fields with the coefficient checked (exit 65 as lam_reader_next). */
+int lam_reader_next_text(lam_reader *r, char **text, long *line);
+void lam_reader_split(lam_reader *r, char *text, long line, lam_line *out);
+/* 0 and *out for a coefficient the reader accepts (as lam_reader_next),
+ * -1 otherwise (the caller splits the line to get the message). */
+int lam_reader_coefficient(const char *tok, double *out);
+/* Process-wide: let an empty input read as the zero operator. */
+void lam_reader_allow_empty(int allow);
+/* Term spelling of the stream: 2, 1 (version 1), or 0 while neither the
+ * header nor a term has told it. */
+int lam_reader_syntax(const lam_reader *r);
+/* Note that this term is spelled in version `syntax`; the first spelled
+ * term of a headerless stream fixes it, a term of the other version is
+ * exit 65 at its line. */
+void lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax);
+/* Bytes of a plain regular file not read yet, -1 when unknown (gzip,
+ * pipes); and the bytes read so far.  For sizing tables ahead. */
+long long lam_reader_bytes_left(const lam_reader *r);
+long long lam_reader_bytes_read(const lam_reader *r);
 /* exit 65 with "file:line: message" at the current line. */
 _Noreturn void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
@@ -100,7 +136,7 @@ typedef struct lam_writer lam_writer;
 /* Open path (NULL or "-" for stdout); gzip != 0 writes gzip.  exit 74 on
  * failure. */
 lam_writer *lam_writer_open(const char *path, int gzip);
-/* "#% lamina-op 1", "#% kind: K", every entry of meta except the reserved
+/* "#% lamina-op 2", "#% kind: K", every entry of meta except the reserved
  * keys (lamina-op, kind, end, distinct), then "#% history: <history>".
  * "distinct: yes" is written only after lam_writer_set_distinct: a program
  * states it of its own output, it never passes through. */

@@ -33,9 +33,9 @@ is "$(printf '%s\n' "$OUT" | awk -F'\t' '{print NF}' | sort -u | wc -l | tr -d '
 lam lam-cost -q -o "$TMP/out.txt" "$TMP/h2.pauli"
 is "$(cat "$TMP/out.txt")" "$OUT2" "-o writes the report"
 
-# Anticommuting groups: {X0 Z1, Z0 Z1} costs sqrt(3^2 + 4^2) = 5 (fact of
-# the trade, common practice); the unlabelled Z1 adds 0.5.
-printf '2.0\n3 X0 Z1 @0\n-4 Z0 Z1 @0\n0.5 Z1\n' > "$TMP/grouped.pauli"
+# Anticommuting groups: {x:0 z:1, z:0-1} costs sqrt(3^2 + 4^2) = 5 (fact of
+# the trade, common practice); the unlabelled z:1 adds 0.5.
+printf '2.0\n3 x:0 z:1 @0\n-4 z:0-1 @0\n0.5 z:1\n' > "$TMP/grouped.pauli"
 runlam lam-cost -q --kind pauli "$TMP/grouped.pauli"
 is "$RC" 0 "header-less grouped stream: exit 0"
 near "$(report_get lambda <<< "$OUT")" 5.5 1e-12 "grouped lambda 5.5"
@@ -55,7 +55,7 @@ is "$(printf '%s' "$OUT")" "$OUT2" "report and stream give the same estimate"
 
 # A fragments stream (format of lam-factor(1)).
 cat > "$TMP/f.op" <<'OP'
-#% lamina-op 1
+#% lamina-op 2
 #% kind: fragments
 #% orbitals: 2
 #% fragments: 1
@@ -76,19 +76,19 @@ is "$(report_get rotations_per_step <<< "$OUT")" 8 "one rotated fragment of 2 or
 is "$(report_get qubits_system <<< "$OUT")" 4 "2 orbitals: 4 system qubits"
 
 # Bad input.
-printf '#%% lamina-op 1\n#%% kind: pauli\n0.5 X0\n0.x Z1\n#%% end\n' > "$TMP/badnum.pauli"
+printf '#%% lamina-op 2\n#%% kind: pauli\n0.5 x:0\n0.x z:1\n#%% end\n' > "$TMP/badnum.pauli"
 runlam lam-cost "$TMP/badnum.pauli"
 is "$RC" 65 "coefficient that does not parse: exit 65"
 like "$ERR" "^lam-cost: .*badnum.pauli:4: " "message names file and line"
-printf '#%% lamina-op 1\n#%% kind: pauli\n0.5 X0\n0.25 Z1\n' > "$TMP/cut.pauli"
+printf '#%% lamina-op 2\n#%% kind: pauli\n0.5 x:0\n0.25 z:1\n' > "$TMP/cut.pauli"
 runlam lam-cost "$TMP/cut.pauli"
 is "$RC" 65 "stream cut before #% end: exit 65"
 like "$ERR" "truncated" "says truncated"
-printf '#%% lamina-op 1\n#%% kind: spinfree\n#%% orbitals: 1\n-1.0 0 0\n#%% end\n' > "$TMP/sf.op"
+printf '#%% lamina-op 2\n#%% kind: spinfree\n#%% orbitals: 1\n-1.0 0 0\n#%% end\n' > "$TMP/sf.op"
 runlam lam-cost "$TMP/sf.op"
 is "$RC" 65 "spinfree stream: exit 65"
 like "$ERR" "lam-map" "says to map it first"
-printf '#%% lamina-op 1\n#%% kind: pauli\n-1.25\n#%% end\n' > "$TMP/id.pauli"
+printf '#%% lamina-op 2\n#%% kind: pauli\n-1.25\n#%% end\n' > "$TMP/id.pauli"
 runlam lam-cost "$TMP/id.pauli"
 is "$RC" 65 "identity only: exit 65"
 like "$ERR" "nothing to estimate" "says there is nothing to estimate"

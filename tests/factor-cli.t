@@ -61,19 +61,19 @@ awk -v d="$dw" -v e="$err" 'BEGIN { exit !(d > 0 && d <= 0.1 && e <= d + 1e-12) 
 ok $? "--tol 0.1: discarded weight in (0, 0.1], integral error within it (got $dw, $err)"
 
 # Bad input.
-runlam_in $'#% lamina-op 1\n#% kind: pauli\n#% qubits: 2\n0.5 Z0\n#% end\n' lam-factor
+runlam_in $'#% lamina-op 2\n#% kind: pauli\n#% qubits: 2\n0.5 z:0\n#% end\n' lam-factor
 is "$RC" 65 "pauli stream: exit 65"
 like "$ERR" "^lam-factor: .*spinfree" "pauli stream: message names the kind wanted"
 
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 1 0 0\n#% end\n' lam-factor
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 1 0 0\n#% end\n' lam-factor
 is "$RC" 65 "integrals without real symmetry: exit 65"
 like "$ERR" "^lam-factor: .*symmetry" "integrals without real symmetry: message"
 
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 0\n' lam-factor
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 0\n' lam-factor
 is "$RC" 65 "truncated stream: exit 65"
 like "$ERR" "truncated" "truncated stream: message"
 
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\nnan 0 0\n#% end\n' lam-factor
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\nnan 0 0\n#% end\n' lam-factor
 is "$RC" 65 "NaN coefficient: exit 65"
 
 runlam_in '' lam-factor

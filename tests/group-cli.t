@@ -37,12 +37,12 @@ runlam lam-group --check "$TMP/h2.g"
 is "$RC" 0 "--check accepts lam-group's output"
 near "$(printf '%s\n' "$OUT" | report_get lambda_grouped)" "$want" 1e-9 "--check reports the same lambda_grouped"
 
-# Z0 and Z1 commute: put them in one group
-awk '/ Z0 @/ { sub(/@[0-9]+$/, "@4") } / Z1 @/ { sub(/@[0-9]+$/, "@4") } { print }' "$TMP/h2.g" >"$TMP/bad.g"
-zline=$(grep -n ' Z1 @' "$TMP/bad.g" | cut -d: -f1)
+# z:0 and z:1 commute: put them in one group
+awk '/ z:0 @/ { sub(/@[0-9]+$/, "@4") } / z:1 @/ { sub(/@[0-9]+$/, "@4") } { print }' "$TMP/h2.g" >"$TMP/bad.g"
+zline=$(grep -n ' z:1 @' "$TMP/bad.g" | cut -d: -f1)
 runlam lam-group --check "$TMP/bad.g"
 is "$RC" 65 "--check: a commuting pair is exit 65"
-like "$ERR" "^lam-group: .*bad.g:$zline: group 4: 'Z1' commutes with 'Z0'" "--check names the pair and the line"
+like "$ERR" "^lam-group: .*bad.g:$zline: group 4: 'z:1' commutes with 'z:0'" "--check names the pair and the line"
 
 runlam lam-group --check --tsv "$TMP/h2.g"
 is "$(printf '%s\n' "$OUT" | wc -l)" 2 "--tsv: header row and value row"
@@ -81,27 +81,27 @@ runlam lam-group "$H2" "$H2"
 is "$RC" 64 "two inputs: exit 64"
 runlam lam-group "$TMP/missing"
 is "$RC" 66 "missing file: exit 66"
-printf '#%% lamina-op 1\n#%% kind: spinfree\n1.0 0 0\n#%% end\n' >"$TMP/sf"
+printf '#%% lamina-op 2\n#%% kind: spinfree\n1.0 0 0\n#%% end\n' >"$TMP/sf"
 runlam lam-group "$TMP/sf"
 is "$RC" 65 "spinfree input: exit 65"
 like "$ERR" "pauli" "says what it wants"
-printf '0.5 X0\n0.25 Q1\n' >"$TMP/badletter"
+printf '0.5 x:0\n0.25 Q1\n' >"$TMP/badletter"
 runlam lam-group "$TMP/badletter"
 is "$RC" 65 "unknown letter: exit 65"
 like "$ERR" "badletter:2:" "names the line"
-printf '#%% lamina-op 1\n#%% kind: pauli\n0.5 X0\n' >"$TMP/trunc"
+printf '#%% lamina-op 2\n#%% kind: pauli\n0.5 x:0\n' >"$TMP/trunc"
 runlam lam-group "$TMP/trunc"
 is "$RC" 65 "truncated stream: exit 65"
-printf '0.5 X0\nnan Z1\n' >"$TMP/nan"
+printf '0.5 x:0\nnan z:1\n' >"$TMP/nan"
 runlam lam-group "$TMP/nan"
 is "$RC" 65 "NaN coefficient: exit 65"
 
 # header-less input on stdin, already labelled input re-grouped
-runlam_in $'0.5 X0 @7\n0.5 Z0 @9\n0.25 Z1\n' lam-group
+runlam_in $'0.5 x:0 @7\n0.5 z:0 @9\n0.25 z:1\n' lam-group
 is "$RC" 0 "stdin without header"
-is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "old labels replaced: X0 with Z0, Z1 alone"
-runlam_in $'0.5 X0 @1\n0.5 Z0 @1\n0.25 Z1 @1\n' lam-group --check
+is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "old labels replaced: x:0 with z:0, z:1 alone"
+runlam_in $'0.5 x:0 @1\n0.5 z:0 @1\n0.25 z:1 @1\n' lam-group --check
 is "$RC" 65 "--check on stdin without qubits: exit 65"
-like "$ERR" "<stdin>:3: group 1: 'Z1' commutes with 'X0' of line 1" "names both lines, also without a qubits line"
+like "$ERR" "<stdin>:3: group 1: 'z:1' commutes with 'x:0' of line 1" "names both lines, also without a qubits line"
 
 done_testing

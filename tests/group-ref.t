@@ -26,6 +26,7 @@ import sys
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
 import lamtest  # noqa: E402
 import molecules  # noqa: E402
+import refops  # noqa: E402
 import numpy as np  # noqa: E402
 import scipy.sparse  # noqa: E402
 import scipy.sparse.linalg  # noqa: E402
@@ -45,7 +46,7 @@ def parse(text):
         group = None
         if fields[-1].startswith("@"):
             group = int(fields.pop()[1:])
-        ops = {int(f[1:]): f[0] for f in fields[1:]}
+        ops = {q: letter for letter, q in refops.parse_pauli_fields(fields[1:])}
         terms.append((float(fields[0]), ops, group))
     return nq, terms
 

@@ -5,7 +5,7 @@ SZ="$TESTS_DIR/data/szabo-h2.fcidump"
 
 runlam lam-ints "$SZ"
 is "$RC" 0 "good FCIDUMP: exit 0"
-like "$OUT" '^#% lamina-op 1' "stream starts with the version line"
+like "$OUT" '^#% lamina-op 2' "stream starts with the version line"
 like "$(printf '%s' "$OUT" | tail -1)" '^#% end$' "stream ends with the trailer"
 like "$OUT" '#% history: lam-ints ' "history line"
 
@@ -24,9 +24,9 @@ is "$RC" 64 "--electrons beyond 2 x orbitals: exit 64"
 
 runlam lam-ints --fermion "$SZ"
 like "$OUT" '#% modes: 4' "--fermion: modes in the header"
-is "$(printf '%s\n' "$OUT" | awk '$1 == -1.2528 { print $2, $3 }' | tr '\n' ,)" "0+ 0-,1+ 1-," "--fermion: h11 once per spin (interleaved modes 0, 1)"
+is "$(printf '%s\n' "$OUT" | awk '$1 == -1.2528 { print $2, $3, $4 }' | tr '\n' ,)" "0 / 0,1 / 1," "--fermion: h11 once per spin (interleaved modes 0, 1)"
 runlam lam-ints --fermion --spin-order blocked "$SZ"
-like "$OUT" '-1.2527999999999999 2\+ 2-' "--spin-order blocked: spin down of orbital 0 is mode 2"
+like "$OUT" '-1.2527999999999999 2 / 2' "--spin-order blocked: spin down of orbital 0 is mode 2"
 
 # Bad input: exit 65 and FILE:LINE.
 printf '&FCI NORB=2,NELEC=2,&END\n0.5 1 1 1\n' > "$TMP/short.fd"

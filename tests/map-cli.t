@@ -2,7 +2,7 @@
 # lam-map on the command line: good input, bad input, exit codes.
 source "$(dirname "$0")/lib/tap.sh"
 
-H=$'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\n#% electrons: 2\n'
+H=$'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n#% electrons: 2\n'
 
 # --- help, version, usage (exit codes: sysexits, common practice)
 runlam lam-map --help
@@ -34,16 +34,16 @@ like "$OUT" $'#% spin-order: interleaved\n' "default spin order interleaved"
 like "$OUT" $'#% electrons: 2\n' "electrons passed through"
 like "$OUT" $'#% history: lam-map' "history line appended"
 like "$OUT" $'\n#% end$' "closes with #% end"
-# identity: 0.5 - 2 x 1/2 (n_0up + n_0down = 1 - (Z0 + Z1)/2) = -0.5, bare number
+# identity: 0.5 - 2 x 1/2 (n_0up + n_0down = 1 - (Z_0 + Z_1)/2) = -0.5, bare number
 like "$OUT" $'\n-0.5\n' "the identity is the bare constant line"
-# -E_00 = -(n0 + n1) -> +0.5 Z0 + 0.5 Z1 under Jordan-Wigner, (1-Z)/2 for n (common practice)
-like "$OUT" $'\n0.5 Z0\n' "number operator gives +1/2 Z0"
-# 1/4 (E_01 + E_10) spin up = 1/8 (X0 Z1 X2 + Y0 Z1 Y2) (textbook hopping, common practice)
-like "$OUT" $'\n0.125 X0 Z1 X2\n' "hopping gives X0 Z1 X2 with 1/8"
-like "$OUT" $'\n0.125 Y0 Z1 Y2\n' "hopping gives Y0 Z1 Y2 with 1/8"
+# -E_00 = -(n0 + n1) -> +0.5 z:0 + 0.5 z:1 under Jordan-Wigner, (1-Z)/2 for n (common practice)
+like "$OUT" $'\n0.5 z:0\n' "number operator gives +1/2 z:0"
+# 1/4 (E_01 + E_10) spin up = 1/8 (X_0 Z_1 X_2 + Y_0 Z_1 Y_2) (textbook hopping, common practice)
+like "$OUT" $'\n0.125 x:0,2 z:1\n' "hopping gives x:0,2 z:1 with 1/8"
+like "$OUT" $'\n0.125 y:0,2 z:1\n' "hopping gives y:0,2 z:1 with 1/8"
 
 runlam lam-map --spin-order blocked "$TMP/a.op"
-like "$OUT" $'\n0.125 X0 X1\n' "blocked: orbitals 0 and 1 spin up are qubits 0 and 1"
+like "$OUT" $'\n0.125 x:0-1\n' "blocked: orbitals 0 and 1 spin up are qubits 0 and 1"
 like "$OUT" $'#% spin-order: blocked\n' "blocked in the header"
 runlam lam-map -e parity "$TMP/a.op"
 like "$OUT" $'#% encoding: parity\n' "parity in the header"
@@ -65,14 +65,14 @@ like "$OUT" $'lambda\t1.5' "gzip output reads back (lambda 1 + 4 x 1/8)"
 runlam_in $'1 0 0\n' lam-map
 is "$RC" 0 "a header-less spinfree stream maps"
 like "$OUT" $'#% qubits: 2\n' "header-less: orbitals from the largest index"
-runlam_in $'0.5 1+ 0-\n0.5 0+ 1-\n' lam-map --kind fermion
+runlam_in $'0.5 1 / 0\n0.5 0 / 1\n' lam-map --kind fermion
 is "$RC" 0 "--kind fermion"
-like "$OUT" $'\n0.25 X0 X1\n' "fermion hopping under Jordan-Wigner"
+like "$OUT" $'\n0.25 x:0-1\n' "fermion hopping under Jordan-Wigner"
 
 # fermion stream with blocked spin order relabelled to interleaved
-printf '#%% lamina-op 1\n#%% kind: fermion\n#%% modes: 4\n#%% spin-order: blocked\n1 2+ 2-\n#%% end\n' > "$TMP/f.op"
+printf '#%% lamina-op 2\n#%% kind: fermion\n#%% modes: 4\n#%% spin-order: blocked\n1 2 / 2\n#%% end\n' > "$TMP/f.op"
 runlam lam-map --spin-order interleaved "$TMP/f.op"
-like "$OUT" $'\n-0.5 Z1\n' "blocked mode 2 (orbital 0 down) becomes qubit 1 interleaved"
+like "$OUT" $'\n-0.5 z:1\n' "blocked mode 2 (orbital 0 down) becomes qubit 1 interleaved"
 
 # --- bad input: exit 65 and "lam-map: FILE:LINE: reason"
 printf '%s1.2.3 0 0\n#%% end\n' "$H" > "$TMP/b1.op"
@@ -95,11 +95,11 @@ runlam lam-map "$TMP/b5.op"
 is "$RC" 65 "a stream cut before #% end: exit 65"
 like "$ERR" "^lam-map: $TMP/b5.op:[0-9]+: truncated stream" "truncation named"
 is "$OUT" "" "nothing on stdout for a truncated stream"
-printf '#%% lamina-op 1\n#%% kind: pauli\n1 X0\n#%% end\n' > "$TMP/b6.op"
+printf '#%% lamina-op 2\n#%% kind: pauli\n1 x:0\n#%% end\n' > "$TMP/b6.op"
 runlam lam-map "$TMP/b6.op"
 is "$RC" 65 "a pauli stream is the wrong kind: exit 65"
 like "$ERR" "^lam-map: $TMP/b6.op:[0-9]+: a pauli stream" "wrong kind named"
-printf '#%% lamina-op 1\n#%% kind: fermion\n#%% modes: 4\n0.5 1+ 0-\n0.5 2+ 3-\n0.5 3+ 2-\n#%% end\n' > "$TMP/b7.op"
+printf '#%% lamina-op 2\n#%% kind: fermion\n#%% modes: 4\n0.5 1 / 0\n0.5 2 / 3\n0.5 3 / 2\n#%% end\n' > "$TMP/b7.op"
 runlam lam-map "$TMP/b7.op"
 is "$RC" 65 "a non-Hermitian fermion operator: exit 65"
 like "$ERR" "^lam-map: $TMP/b7.op:4: the operator is not Hermitian" "the offending term's line is named"
@@ -107,10 +107,10 @@ printf '%s1 0 1\n#%% end\n' "$H" > "$TMP/b8.op"
 runlam lam-map "$TMP/b8.op"
 is "$RC" 65 "a non-Hermitian spinfree operator: exit 65"
 like "$ERR" "not Hermitian: term '0 1'" "the offending spinfree term is named"
-runlam_in $'1 3x 0-\n' lam-map --kind fermion
+runlam_in $'1 3x / 0\n' lam-map --kind fermion
 is "$RC" 65 "a malformed ladder operator: exit 65"
-like "$ERR" "^lam-map: <stdin>:1: '3x' is not a ladder operator" "malformed ladder operator named"
-printf '#%% lamina-op 1\n#%% kind: fermion\n#%% modes: 2\n1 2+ 2-\n#%% end\n' > "$TMP/b9.op"
+like "$ERR" "^lam-map: <stdin>:1: '3x' is not a mode" "malformed ladder operator named"
+printf '#%% lamina-op 2\n#%% kind: fermion\n#%% modes: 2\n1 2 / 2\n#%% end\n' > "$TMP/b9.op"
 runlam lam-map "$TMP/b9.op"
 is "$RC" 65 "a mode out of range: exit 65"
 like "$ERR" "^lam-map: $TMP/b9.op:4: mode 2 out of range" "mode out of range named"

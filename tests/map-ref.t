@@ -34,15 +34,15 @@ def mapped(fcidump, *args):
 # --- H2 Jordan-Wigner coefficients (facts.md, widely published, from memory)
 fcid, energies = molecules.reference("h2")
 terms, nq = refops.parse_pauli_stream(mapped(fcid))
-got = {" ".join("%s%d" % f for f in factors): c for c, factors in terms}
+got = {refops.format_pauli(factors): c for c, factors in terms}
 want = {
     "": -0.0988639698,
-    "Z0": 0.1711977490, "Z1": 0.1711977490, "Z2": -0.2227859302, "Z3": -0.2227859302,
-    "Z0 Z1": 0.1686221916, "Z2 Z3": 0.1743484418,
-    "Z0 Z2": 0.1205448220, "Z1 Z3": 0.1205448220,
-    "Z0 Z3": 0.1658670241, "Z1 Z2": 0.1658670241,
-    "X0 X1 Y2 Y3": -0.0453222021, "Y0 Y1 X2 X3": -0.0453222021,
-    "X0 Y1 Y2 X3": 0.0453222021, "Y0 X1 X2 Y3": 0.0453222021,
+    "z:0": 0.1711977490, "z:1": 0.1711977490, "z:2": -0.2227859302, "z:3": -0.2227859302,
+    "z:0-1": 0.1686221916, "z:2-3": 0.1743484418,
+    "z:0,2": 0.1205448220, "z:1,3": 0.1205448220,
+    "z:0,3": 0.1658670241, "z:1-2": 0.1658670241,
+    "x:0-1 y:2-3": -0.0453222021, "x:2-3 y:0-1": -0.0453222021,
+    "x:0,3 y:1-2": 0.0453222021, "x:1-2 y:0,3": 0.0453222021,
 }
 t.ok(set(got) == set(want), "H2 JW: exactly the 15 published Pauli strings",
      "got %s" % sorted(got))

@@ -14,8 +14,8 @@ runlam lam-norm "$TMP/none.op"
 is "$RC" 66 "a missing input exits 66"
 
 # --- pauli: merged terms, identity apart, weight, qubits
-P=$'#% lamina-op 1\n#% kind: pauli\n#% qubits: 5\n'
-printf '%s-1.5\n0.25 X0 Y1\n-0.5 Z4\n0.25 X0 Y1\n0.5\n#%% end\n' "$P" > "$TMP/p.op"
+P=$'#% lamina-op 2\n#% kind: pauli\n#% qubits: 5\n'
+printf '%s-1.5\n0.25 x:0 y:1\n-0.5 z:4\n0.25 x:0 y:1\n0.5\n#%% end\n' "$P" > "$TMP/p.op"
 runlam lam-norm "$TMP/p.op"
 is "$RC" 0 "a pauli stream"
 is "$(report_get kind <<<"$OUT")" pauli "kind pauli"
@@ -35,22 +35,22 @@ is "$(tail -1 <<<"$OUT" | cut -f1-4)" $'pauli\t3\t-1\t1' "--tsv value row"
 
 # groups: lambda_grouped = sum over groups of sqrt(sum c^2) + unlabelled |c|
 # (anticommuting groups, fact of the trade: (sum c P)^2 = sum c^2)
-printf '%s0.3 X0 @1\n0.4 Z0 @1\n1 Y3\n2 X2 @7\n7\n#%% end\n' "$P" > "$TMP/g.op"
+printf '%s0.3 x:0 @1\n0.4 z:0 @1\n1 y:3\n2 x:2 @7\n7\n#%% end\n' "$P" > "$TMP/g.op"
 runlam lam-norm "$TMP/g.op"
 is "$(report_get groups <<<"$OUT")" 2 "two group labels"
 near "$(report_get lambda_grouped <<<"$OUT")" 3.5 1e-15 "lambda_grouped 0.5 + 2 + 1"
 near "$(report_get lambda <<<"$OUT")" 3.7 1e-15 "lambda 0.3 + 0.4 + 1 + 2"
-printf '#%% lamina-op 1\n#%% kind: pauli\n#%% grouping: commuting\n0.3 X0 @1\n0.4 X1 @1\n#%% end\n' > "$TMP/gc.op"
+printf '#%% lamina-op 2\n#%% kind: pauli\n#%% grouping: commuting\n0.3 x:0 @1\n0.4 x:1 @1\n#%% end\n' > "$TMP/gc.op"
 runlam lam-norm "$TMP/gc.op"
 is "$(report_get lambda_grouped <<<"$OUT")" "" "commuting groups: no lambda_grouped"
 is "$(report_get grouping <<<"$OUT")" commuting "commuting groups are reported as such"
 
 # header-less pauli: qubits from the largest index
-runlam_in $'1 X9\n' lam-norm
+runlam_in $'1 x:9\n' lam-norm
 is "$(report_get qubits <<<"$OUT")" 10 "header-less: qubits = largest index + 1"
 
 # --- spinfree and fermion: the Majorana one-norm without a Pauli expansion
-S=$'#% lamina-op 1\n#% kind: spinfree\n#% orbitals: 2\n'
+S=$'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n'
 printf '%s0.5\n-1 0 0\n0.25 0 1\n0.25 1 0\n#%% end\n' "$S" > "$TMP/s.op"
 runlam lam-norm "$TMP/s.op"
 is "$(report_get kind <<<"$OUT")" spinfree "kind spinfree"
@@ -60,53 +60,53 @@ near "$(report_get constant <<<"$OUT")" -0.5 1e-15 "spinfree constant"
 is "$(report_get orbitals <<<"$OUT")" 2 "orbitals reported"
 MAPPED=$(lam lam-map "$TMP/s.op" | lam lam-norm)
 is "$(report_get lambda <<<"$MAPPED")" "$(report_get lambda <<<"$OUT")" "lam-map | lam-norm gives the same lambda"
-printf '#%% lamina-op 1\n#%% kind: fermion\n#%% modes: 4\n0.5 1+ 0-\n0.5 0+ 1-\n2 3+ 2+ 2- 3-\n#%% end\n' > "$TMP/f.op"
+printf '#%% lamina-op 2\n#%% kind: fermion\n#%% modes: 4\n0.5 1 / 0\n0.5 0 / 1\n2 3 2 / 2 3\n#%% end\n' > "$TMP/f.op"
 runlam lam-norm "$TMP/f.op"
 is "$(report_get kind <<<"$OUT")" fermion "kind fermion"
 is "$(report_get modes <<<"$OUT")" 4 "modes reported"
 is "$(report_get terms <<<"$OUT")" 3 "normal-ordered terms"
-# hopping: 1/2 (XX+YY)/2 -> 0.5; 2 n2 n3 = 2 (1-Z2)(1-Z3)/4 -> 0.5 + 0.5 + 0.5 (common practice)
+# hopping: 1/2 (XX+YY)/2 -> 0.5; 2 n2 n3 = 2 (1-Z_2)(1-Z_3)/4 -> 0.5 + 0.5 + 0.5 (common practice)
 near "$(report_get lambda <<<"$OUT")" 2 1e-15 "fermion lambda"
 near "$(report_get constant <<<"$OUT")" 0.5 1e-15 "fermion constant"
 
 # --- bad input
-printf '%s1 X0 X0\n#%% end\n' "$P" > "$TMP/b1.op"
+printf '%s1 x:0,0\n#%% end\n' "$P" > "$TMP/b1.op"
 runlam lam-norm "$TMP/b1.op"
 is "$RC" 65 "a repeated qubit: exit 65"
 is "$ERR" "lam-norm: $TMP/b1.op:4: qubit 0 appears twice in one term" "repeated qubit named with its line"
-printf '%s1 X7\n#%% end\n' "$P" > "$TMP/b2.op"
+printf '%s1 x:7\n#%% end\n' "$P" > "$TMP/b2.op"
 runlam lam-norm "$TMP/b2.op"
 is "$RC" 65 "a qubit index out of range: exit 65"
 like "$ERR" "^lam-norm: $TMP/b2.op:4: qubit index 7 out of range" "index out of range named"
-printf '%s1 W2\n#%% end\n' "$P" > "$TMP/b3.op"
+printf '%s1 w:2\n#%% end\n' "$P" > "$TMP/b3.op"
 runlam lam-norm "$TMP/b3.op"
 is "$RC" 65 "an unknown Pauli letter: exit 65"
-like "$ERR" "^lam-norm: $TMP/b3.op:4: unknown Pauli factor 'W2'" "unknown letter named"
-printf '%s0x1g X2\n#%% end\n' "$P" > "$TMP/b4.op"
+like "$ERR" "^lam-norm: $TMP/b3.op:4: unknown Pauli field 'w:2'" "unknown letter named"
+printf '%s0x1g x:2\n#%% end\n' "$P" > "$TMP/b4.op"
 runlam lam-norm "$TMP/b4.op"
 is "$RC" 65 "a number that does not parse: exit 65"
 like "$ERR" "^lam-norm: $TMP/b4.op:4: coefficient" "bad number named"
-printf '%sinf X2\n#%% end\n' "$P" > "$TMP/b5.op"
+printf '%sinf x:2\n#%% end\n' "$P" > "$TMP/b5.op"
 runlam lam-norm "$TMP/b5.op"
 is "$RC" 65 "Inf: exit 65"
 like "$ERR" "^lam-norm: $TMP/b5.op:4: coefficient 'inf' is not finite" "Inf named"
-printf '%s1 X2\n' "$P" > "$TMP/b6.op"
+printf '%s1 x:2\n' "$P" > "$TMP/b6.op"
 runlam lam-norm "$TMP/b6.op"
 is "$RC" 65 "a stream cut before #% end: exit 65"
 like "$ERR" "^lam-norm: $TMP/b6.op:[0-9]+: truncated stream" "truncation named"
 is "$OUT" "" "no partial report"
-printf '%s1 X2 @3 Z1\n#%% end\n' "$P" > "$TMP/b7.op"
+printf '%s1 x:2 @3 z:1\n#%% end\n' "$P" > "$TMP/b7.op"
 runlam lam-norm "$TMP/b7.op"
 is "$RC" 65 "a group label before the last field: exit 65"
 like "$ERR" "^lam-norm: $TMP/b7.op:4: group label '@3' must be the last field" "misplaced label named"
-printf '%s1 X2 @x\n#%% end\n' "$P" > "$TMP/b8.op"
+printf '%s1 x:2 @x\n#%% end\n' "$P" > "$TMP/b8.op"
 runlam lam-norm "$TMP/b8.op"
 is "$RC" 65 "a bad group label: exit 65"
 printf '1 foo\n' > "$TMP/b9.op"
 runlam lam-norm "$TMP/b9.op"
 is "$RC" 65 "a stream of no known kind: exit 65"
 like "$ERR" "^lam-norm: $TMP/b9.op:[0-9]+: cannot tell the kind" "unknown kind named"
-printf '#%% lamina-op 1\n#%% kind: fermion\n#%% modes: 2\n1 1+ 0-\n#%% end\n' > "$TMP/b10.op"
+printf '#%% lamina-op 2\n#%% kind: fermion\n#%% modes: 2\n1 1 / 0\n#%% end\n' > "$TMP/b10.op"
 runlam lam-norm "$TMP/b10.op"
 is "$RC" 65 "a non-Hermitian fermion operator: exit 65"
 like "$ERR" "^lam-norm: $TMP/b10.op:4: the operator is not Hermitian" "offending line named"
@@ -125,7 +125,7 @@ is "$(lam lam-norm "$TMP/d.op")" "$(grep -v '^#% distinct' "$TMP/d.op" | lam lam
 lam lam-group "$TMP/d.op" 2>/dev/null > "$TMP/g.op"
 ok "$(grep -q '^#% distinct' "$TMP/g.op"; [ $? -ne 0 ]; echo $?)" "lam-group output does not inherit distinct"
 # Repeated strings without the header line are merged (0.25 + 0.25 - 0.5 = 0).
-runlam_in "$(printf '0.25 X0\n0.25 X0\n-0.5 X0\n0.1 Z1\n')" lam-norm
+runlam_in "$(printf '0.25 x:0\n0.25 x:0\n-0.5 x:0\n0.1 z:1\n')" lam-norm
 is "$(printf '%s\n' "$OUT" | report_get lambda)" "0.10000000000000001" "repeated strings merged before the one-norm"
 
 # Fragments streams (lam-factor): lam-norm reports the LCU of reflections.

@@ -8,7 +8,7 @@ source "$(dirname "$0")/lib/tap.sh"
 
 # H2, Szabo-Ostlund MO integrals written as a spinfree stream by hand:
 # 1/2 (pq|rs) on e_pqrs for every index order of the 8-fold symmetry.
-H2='#% lamina-op 1
+H2='#% lamina-op 2
 #% kind: spinfree
 #% orbitals: 2
 #% electrons: 2
@@ -67,39 +67,39 @@ runlam_in "$H2" lam-range --quiet --multiplets
 like "$OUT" $'sector\t2\t0\t-\t-\t-\twithin:1,1' "--multiplets: (2,0) lies within (1,1)"
 near "$(report_get n_min <<<"$OUT")" -1.1373 5e-5 "--multiplets: same n_min"
 
-# complex Pauli operator: Z0 + Y0 has eigenvalues +-sqrt(2)
-runlam_in $'1 Z0\n1 Y0\n' lam-range --quiet
-is "$RC" 0 "Z0 + Y0: exit 0"
-near "$(report_get fock_min <<<"$OUT")" -1.4142135623730951 1e-12 "Z0 + Y0: lowest -sqrt(2)"
-near "$(report_get fock_max <<<"$OUT")" 1.4142135623730951 1e-12 "Z0 + Y0: highest +sqrt(2)"
+# complex Pauli operator: z:0 + y:0 has eigenvalues +-sqrt(2)
+runlam_in $'1 z:0\n1 y:0\n' lam-range --quiet
+is "$RC" 0 "z:0 + y:0: exit 0"
+near "$(report_get fock_min <<<"$OUT")" -1.4142135623730951 1e-12 "z:0 + y:0: lowest -sqrt(2)"
+near "$(report_get fock_max <<<"$OUT")" 1.4142135623730951 1e-12 "z:0 + y:0: highest +sqrt(2)"
 
 # hopping between the two spin qubits of one orbital: conserves the total
 # number only (1 electron: Z0Z1 = -1 plus hopping +-1, so -2 and 0)
-runlam_in $'1 Z0 Z1\n0.5 X0 X1\n0.5 Y0 Y1\n' lam-range --quiet
+runlam_in $'1 z:0-1\n0.5 x:0-1\n0.5 y:0-1\n' lam-range --quiet
 is "$RC" 0 "total-number-conserving Pauli operator: exit 0"
 like "$OUT" $'sector\t1\t\\*\t-2\t0\texact\tcomputed' "total-number block: NB is *, one electron gives -2 and 0"
-runlam_in $'1 Z0 Z1\n0.5 X0 X1\n0.5 Y0 Y1\n' lam-range --quiet --sector 1,0
+runlam_in $'1 z:0-1\n0.5 x:0-1\n0.5 y:0-1\n' lam-range --quiet --sector 1,0
 is "$RC" 65 "--sector on an operator that mixes the spins: exit 65"
 like "$ERR" "spin-up and spin-down numbers" "--sector on an operator that mixes the spins: message"
 
 # number-changing operator without sectors: only the Fock space
-runlam_in $'0.5 X0\n' lam-range --quiet
-is "$RC" 0 "X0 without sectors: exit 0"
-near "$(report_get fock_min <<<"$OUT")" -0.5 1e-12 "0.5 X0: lowest -0.5"
+runlam_in $'0.5 x:0\n' lam-range --quiet
+is "$RC" 0 "x:0 without sectors: exit 0"
+near "$(report_get fock_min <<<"$OUT")" -0.5 1e-12 "0.5 x:0: lowest -0.5"
 
 # ---- bad input ----
 runlam_in $'#% kind: spinfree\n1.0 0 1\n' lam-range --quiet
 is "$RC" 65 "non-Hermitian spinfree operator: exit 65"
 like "$ERR" "^lam-range: .*not Hermitian" "non-Hermitian spinfree: message"
 
-runlam_in $'#% kind: fermion\n1.0 0+ 1-\n' lam-range --quiet
+runlam_in $'#% kind: fermion\n1.0 0 / 1\n' lam-range --quiet
 is "$RC" 65 "non-Hermitian fermion operator: exit 65"
 like "$ERR" "^lam-range: " "non-Hermitian fermion: message"
 
-runlam_in $'0.5 X0\n0.1 Z1\n' lam-range --quiet --sector 1,0
+runlam_in $'0.5 x:0\n0.1 z:1\n' lam-range --quiet --sector 1,0
 is "$RC" 65 "number-changing operator with --sector: exit 65"
 like "$ERR" "^lam-range: .*changes the particle number" "number-changing with --sector: message"
-runlam_in $'0.5 X0 X1\n' lam-range --quiet --electrons 1
+runlam_in $'0.5 x:0-1\n' lam-range --quiet --electrons 1
 is "$RC" 65 "number-changing operator with --electrons: exit 65"
 like "$ERR" "changes the particle number" "number-changing with --electrons: message"
 
@@ -129,7 +129,7 @@ runlam_in $'#% kind: spinfree\n1.0 64 64\n' lam-range --quiet
 is "$RC" 65 "65 orbitals: exit 65"
 like "$ERR" "at most 64" "65 orbitals: message"
 
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n1.0 0 0\n' lam-range --quiet
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n1.0 0 0\n' lam-range --quiet
 is "$RC" 65 "truncated stream: exit 65"
 runlam lam-range --quiet "$TMP/does-not-exist"
 is "$RC" 66 "missing input file: exit 66"

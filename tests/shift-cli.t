@@ -21,7 +21,7 @@ runlam lam-shift "$TMP/h2.sf"
 is "$RC" 0 "shift of H2 exits 0"
 printf '%s\n' "$OUT" >"$TMP/hk.sf"
 printf '%s\n' "$ERR" >"$TMP/rep"
-like "$OUT" "^#% lamina-op 1" "stream header written"
+like "$OUT" "^#% lamina-op 2" "stream header written"
 like "$OUT" "#% kind: spinfree" "H - K is spinfree"
 like "$OUT" "#% shift-a1: " "a1 in the metadata"
 like "$OUT" "#% shift-xi: 0 0 " "xi in the metadata"
@@ -154,22 +154,22 @@ is "$RC" 0 "headerless spinfree stream with --electrons"
 runlam_in $'1.0\n-0.5 0 0\n0.25 0 0 0 0\n' lam-shift --electrons 3
 is "$RC" 64 "3 electrons in 1 orbital: exit 64"
 
-runlam_in $'#% lamina-op 1\n#% kind: pauli\n0.5 Z0\n#% end\n' lam-shift --electrons 1
+runlam_in $'#% lamina-op 2\n#% kind: pauli\n0.5 z:0\n#% end\n' lam-shift --electrons 1
 is "$RC" 65 "pauli input: exit 65"
 like "$ERR" "lam-shift: <stdin>.*not pauli" "pauli input: message"
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\n' lam-shift
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\n' lam-shift
 is "$RC" 65 "truncated stream: exit 65"
 like "$ERR" "truncated" "truncated stream: message"
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\nnan 0 1\n#% end\n' lam-shift
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\nnan 0 1\n#% end\n' lam-shift
 is "$RC" 65 "NaN coefficient: exit 65"
 like "$ERR" "lam-shift: <stdin>:5: " "NaN coefficient: file:line"
-runlam_in $'#% lamina-op 1\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 1\n0.25 1 0\n#% end\n' lam-shift
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 1\n0.25 1 0\n#% end\n' lam-shift
 is "$RC" 65 "integrals without the real symmetry: exit 65"
 like "$ERR" "8-fold symmetry" "integrals without the real symmetry: message"
-runlam_in $'#% lamina-op 1\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0+ 0-\n0.1 0+ 1-\n#% end\n' lam-shift
+runlam_in $'#% lamina-op 2\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0 / 0\n0.1 0 / 1\n#% end\n' lam-shift
 is "$RC" 65 "fermion term that flips a spin: exit 65"
 like "$ERR" "lam-shift: <stdin>:6: the operator is not spin-free" "spin flip: file:line and reason"
-runlam_in $'#% lamina-op 1\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0+ 0-\n#% end\n' lam-shift
+runlam_in $'#% lamina-op 2\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0 / 0\n#% end\n' lam-shift
 is "$RC" 65 "fermion one-body term on one spin only: exit 65"
 like "$ERR" "not spin-free" "one spin only: reason"
 

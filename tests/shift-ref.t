@@ -57,9 +57,11 @@ def read_spinfree(text):
 
 
 def fermion_stream(nmodes, terms):
-    lines = ["#% lamina-op 1", "#% kind: fermion", "#% modes: " + str(nmodes)]
+    lines = ["#% lamina-op 2", "#% kind: fermion", "#% modes: " + str(nmodes)]
     for c, ops in terms:
-        lines.append(" ".join(["%.17g" % c] + ops))
+        ladder = [(int(o[:-1]), o[-1] == "+") for o in ops]
+        for d, cre, ann in refops.normal_order(c, ladder):
+            lines.append(refops.fermion_line(d, cre, ann))
     lines.append("#% end")
     return "\n".join(lines) + "\n"
 

@@ -35,6 +35,7 @@ static _Noreturn void usage(void)
         "  -q, --quiet           no note and no progress on stderr\n"
         "      --progress        progress on stderr even when it is not a terminal\n"
         "  -h, --help            this help\n"
+        "      --allow-empty     read an empty input as the zero operator\n"
         "      --version         version\n"
         "\n"
         "Walk steps = ceil(pi*lambda/(2*EPS)) (Babbush et al. 2018; Lee et al. 2021).\n"
@@ -57,6 +58,7 @@ static void parse_options(int argc, char **argv, options *o)
 {
     enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_TSV, OPT_PROGRESS, OPT_VERSION };
     static const struct option longopts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"error", required_argument, 0, 'e'},
         {"keep-bits", required_argument, 0, 'b'},
         {"ungrouped", no_argument, 0, OPT_UNGROUPED},
@@ -73,6 +75,7 @@ static void parse_options(int argc, char **argv, options *o)
     int c;
     while ((c = getopt_long(argc, argv, "e:b:o:qh", longopts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'e':
             o->par.error = lam_opt_double("--error", optarg);
             if (!(o->par.error > 0))

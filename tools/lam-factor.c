@@ -40,6 +40,7 @@ static _Noreturn void usage(void)
            "      --progress        show progress on stderr (default: when it is a terminal)\n"
            "      --quiet           no progress\n"
            "  -h, --help            show this help\n"
+           "      --allow-empty     read an empty input as the zero operator\n"
            "      --version         show the version\n\n"
            "Example:\n"
            "  lam-ints h4.fcidump | %s --method double --tol 1e-6 | lam-norm\n",
@@ -74,6 +75,7 @@ static void parse_args(int argc, char **argv, cli *c)
     enum { OPT_CUTOFF = 256, OPT_MAXFRAG, OPT_MAXITER, OPT_TSV, OPT_PROGRESS, OPT_QUIET,
            OPT_VERSION };
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"method", required_argument, 0, 'm'},      {"tol", required_argument, 0, 't'},
         {"cutoff", required_argument, 0, OPT_CUTOFF}, {"max-fragments", required_argument, 0, OPT_MAXFRAG},
         {"max-iter", required_argument, 0, OPT_MAXITER}, {"report", required_argument, 0, 'r'},
@@ -87,6 +89,7 @@ static void parse_args(int argc, char **argv, cli *c)
     c->max_fragments = c->max_iter = -1;
     while ((o = getopt_long(argc, argv, "m:t:r:o:zh", opts, NULL)) != -1) {
         switch (o) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm': c->method = parse_method(optarg); break;
         case 't': c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
         case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;

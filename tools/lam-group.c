@@ -42,6 +42,7 @@ static _Noreturn void usage(void)
            "      --progress       progress on stderr even when it is not a terminal\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
+           "      --allow-empty    read an empty input as the zero operator\n"
            "      --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2o.fcidump | lam-shift | lam-map | %s | lam-norm\n",
@@ -61,6 +62,7 @@ enum { OPT_SPLIT = 256, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK, 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"method", required_argument, 0, 'm'},    {"refine", required_argument, 0, 'r'},
         {"split", no_argument, 0, OPT_SPLIT},     {"no-split", no_argument, 0, OPT_NO_SPLIT},
         {"split-iterations", required_argument, 0, OPT_SPLIT_ITER},
@@ -75,6 +77,7 @@ static void parse_options(int argc, char **argv, options *o)
     int c;
     while ((c = getopt_long(argc, argv, "m:r:o:zqh", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm':
             if (lam_group_method_parse(optarg, &o->group.method) != 0)
                 lam_usage_error("--method wants sorted or best, not '%s'", optarg);

@@ -29,6 +29,7 @@ static _Noreturn void usage(void)
            "      --progress       report progress on stderr (default: when a terminal)\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
+           "      --allow-empty    read an empty input as the zero operator\n"
            "      --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2.fcidump | %s --encoding bravyi-kitaev | lam-norm\n",
@@ -51,6 +52,7 @@ static void parse_options(int argc, char **argv, options *o)
 {
     enum { OPT_PROGRESS = 256, OPT_VERSION };
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"encoding", required_argument, 0, 'e'}, {"spin-order", required_argument, 0, 's'},
         {"drop", required_argument, 0, 'd'},     {"kind", required_argument, 0, 'k'},
         {"output", required_argument, 0, 'o'},   {"gzip", no_argument, 0, 'z'},
@@ -60,6 +62,7 @@ static void parse_options(int argc, char **argv, options *o)
     int c;
     while ((c = getopt_long(argc, argv, "e:s:d:k:o:zqh", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'e':
             if (lam_encoding_parse(optarg, &o->encoding) != 0)
                 lam_usage_error("--encoding wants jordan-wigner, bravyi-kitaev or parity, not '%s'",

@@ -29,6 +29,7 @@ static _Noreturn void usage(void)
            "      --progress       report progress on stderr (default: when a terminal)\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
+           "      --allow-empty    read an empty input as the zero operator\n"
            "      --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2.fcidump | %s\n",
@@ -111,10 +112,18 @@ static void norm_fragments(lam_report *rep, lam_reader *r)
     lam_fragments_free(fr);
 }
 
-static void norm_pauli_distinct(lam_report *rep, lam_reader *r)
+static void norm_pauli(lam_report *rep, lam_reader *r)
 {
+    /* a stream whose writer stated "distinct: yes" is summed as it is read;
+     * any other merges repeated strings first */
+    const char *distinct = lam_meta_get(lam_reader_meta(r), "distinct");
     lam_pauli_summary sum;
-    lam_pauli_summarize(r, &sum);
+    double t0 = lam_seconds();
+    if (distinct && strcmp(distinct, "yes") == 0)
+        lam_pauli_summarize(r, &sum);
+    else
+        lam_pauli_summarize_merged(r, &sum);
+    lam_progress("%zu terms read in %.1f s", sum.terms, lam_seconds() - t0);
     lam_report_int(rep, "terms", (long long)sum.terms);
     lam_report_num(rep, "constant", sum.constant);
     lam_report_num(rep, "lambda", sum.lambda);
@@ -123,35 +132,12 @@ static void norm_pauli_distinct(lam_report *rep, lam_reader *r)
     lam_report_int(rep, "max_weight", sum.max_weight);
 }
 
-static void norm_pauli(lam_report *rep, lam_reader *r)
-{
-    const char *distinct = lam_meta_get(lam_reader_meta(r), "distinct");
-    if (distinct && strcmp(distinct, "yes") == 0) {
-        norm_pauli_distinct(rep, r);
-        return;
-    }
-    lam_pauli_set s;
-    double t0 = lam_seconds();
-    lam_pauli_read_merged(r, &s, 1);
-    lam_progress("%zu distinct terms read in %.1f s", s.count, lam_seconds() - t0);
-    lam_report_int(rep, "terms", (long long)s.count);
-    lam_report_num(rep, "constant", lam_pauli_set_constant(&s));
-    lam_report_num(rep, "lambda", lam_pauli_set_lambda(&s));
-    if (s.group) {
-        size_t groups;
-        double grouped = lam_pauli_set_lambda_grouped(&s, &groups);
-        report_groups(rep, r, groups, grouped);
-    }
-    lam_report_int(rep, "qubits", s.nqubits);
-    lam_report_int(rep, "max_weight", lam_pauli_set_max_weight(&s));
-    lam_pauli_set_free(&s);
-}
-
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     enum { OPT_PROGRESS = 256, OPT_VERSION };
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"kind", required_argument, 0, 'k'},     {"tsv", no_argument, 0, 't'},
         {"output", required_argument, 0, 'o'},   {"progress", no_argument, 0, OPT_PROGRESS},
         {"quiet", no_argument, 0, 'q'},          {"help", no_argument, 0, 'h'},
@@ -161,6 +147,7 @@ int main(int argc, char **argv)
     const char *output = NULL;
     while ((c = getopt_long(argc, argv, "k:to:qh", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'k':
             if (lam_kind_parse(optarg, &forced) != 0)
                 lam_usage_error("--kind wants spinfree, fermion, pauli or fragments, not '%s'",

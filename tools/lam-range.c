@@ -44,6 +44,7 @@ static _Noreturn void usage(void)
            "      --tsv            one header row and one value row (no sector lines)\n"
            "  -o, --output FILE    write the report to FILE instead of stdout\n"
            "  -h, --help           show this help\n"
+           "      --allow-empty    read an empty input as the zero operator\n"
            "      --version        show the version\n\n"
            "Sector lines: sector NA NB min max status how (tab separated; how: computed,\n"
            "mirror:NB,NA, within:NA,NB or rayleigh-ritz).  Then fock_min, fock_max,\n"
@@ -88,6 +89,7 @@ static void parse_options(int argc, char **argv, options *o)
     enum { O_LOW = 256, O_HIGH, O_TOL, O_MEM, O_BOUNDS, O_BSUB, O_MULT, O_THREADS, O_KIND,
            O_PROGRESS, O_QUIET, O_TSV, O_VERSION };
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'e'},
         {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
         {"tol", required_argument, 0, O_TOL}, {"max-memory", required_argument, 0, O_MEM},
@@ -105,6 +107,7 @@ static void parse_options(int argc, char **argv, options *o)
     int low = 0, high = 0, c;
     while ((c = getopt_long(argc, argv, "s:e:o:h", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 's': parse_sector(optarg, o); break;
         case 'e': o->electrons = lam_opt_long("--electrons", optarg, 0, 128); break;
         case O_LOW: low = 1; break;

@@ -46,6 +46,7 @@ static _Noreturn void usage(void)
         "      --progress       progress on stderr (default: when a terminal)\n"
         "  -q, --quiet          no progress\n"
         "  -h, --help           show this help\n"
+        "      --allow-empty    read an empty input as the zero operator\n"
         "      --version        show the version\n\n"
         "Example:\n"
         "  lam-ints h2o.fcidump | %s --report shift.txt | lam-map | lam-norm\n",
@@ -70,6 +71,7 @@ enum { OPT_TERMS = 256, OPT_SPIN, OPT_SZ, OPT_ORDER, OPT_EMIT, OPT_RECORDED, OPT
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"electrons", required_argument, 0, 'e'}, {"terms", required_argument, 0, OPT_TERMS},
         {"spin", no_argument, 0, OPT_SPIN},       {"sz", required_argument, 0, OPT_SZ},
         {"spin-order", required_argument, 0, OPT_ORDER},
@@ -89,6 +91,7 @@ static void parse_options(int argc, char **argv, options *o)
     int explicit_terms = 0, c;
     while ((c = getopt_long(argc, argv, "e:to:zqh", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'e': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
         case OPT_TERMS:
             if (lam_shift_parse_terms(optarg, &o->terms) != 0 || o->terms == 0)

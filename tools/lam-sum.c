@@ -24,6 +24,7 @@ static _Noreturn void usage(void)
            "  -o, --output FILE   write to FILE instead of stdout\n"
            "  -z, --gzip          gzip the output\n"
            "  -h, --help          show this help\n"
+           "      --allow-empty   read an empty input as the zero operator\n"
            "      --version       show the version\n\n"
            "Example (H minus a shift K, both spinfree):\n"
            "  %s H.op -1:K.op > HK.op\n",
@@ -275,6 +276,7 @@ int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     static const struct option opts[] = {
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"sort", no_argument, 0, 's'},     {"kind", required_argument, 0, 'k'},
         {"output", required_argument, 0, 'o'}, {"gzip", no_argument, 0, 'z'},
         {"help", no_argument, 0, 'h'},     {"version", no_argument, 0, 'V'},
@@ -288,6 +290,7 @@ int main(int argc, char **argv)
     int ninputs = split_inputs(argc, argv, optv, &optc, inputs);
     while ((c = getopt_long(optc, optv, "sk:o:zh", opts, NULL)) != -1) {
         switch (c) {
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 's': sort = 1; break;
         case 'k':
             if (lam_kind_parse(optarg, &forced) != 0 || forced == LAM_KIND_FRAGMENTS)

@@ -97,6 +97,68 @@ def fermion_hamiltonian(norb, e0, h, g, order="interleaved"):
     return H.tocsr()
 
 
+def parse_pauli_fields(fields):
+    """[(letter, qubit), ...] of a term's fields in the stream's version-2
+    spelling ("x:0,3 y:5 z:1-2", lamina-stream(5)); group labels skipped."""
+    factors = []
+    for f in fields:
+        if f.startswith("@"):
+            continue
+        letter, _, items = f.partition(":")
+        if letter not in ("x", "y", "z") or not items:
+            raise ValueError("not a version-2 Pauli field: %r" % f)
+        for item in items.split(","):
+            a, _, b = item.partition("-")
+            for q in range(int(a), int(b or a) + 1):
+                factors.append((letter.upper(), q))
+    return factors
+
+
+def format_pauli(factors):
+    """The canonical version-2 spelling of [(letter, qubit), ...]: letters in
+    the order x, y, z, sorted qubits, runs of two or more as a-b."""
+    fields = []
+    for letter in "XYZ":
+        qs = sorted(q for l, q in factors if l == letter)
+        items, i = [], 0
+        while i < len(qs):
+            j = i
+            while j + 1 < len(qs) and qs[j + 1] == qs[j] + 1:
+                j += 1
+            items.append(str(qs[i]) if j == i else "%d-%d" % (qs[i], qs[j]))
+            i = j + 1
+        if items:
+            fields.append(letter.lower() + ":" + ",".join(items))
+    return " ".join(fields)
+
+
+def normal_order(coef, ops):
+    """[(c, creators, annihilators)] equal to coef times the product of the
+    ladder operators ops = [(mode, is_creator), ...], from the canonical
+    anticommutation relations a_i a+_j = delta_ij - a+_j a_i (textbook,
+    common practice); products with a mode twice on one side vanish."""
+    for k in range(len(ops) - 1):
+        (i, ci), (j, cj) = ops[k], ops[k + 1]
+        if not ci and cj:  # a_i a+_j
+            swapped = ops[:k] + [ops[k + 1], ops[k]] + ops[k + 2:]
+            out = [(-c, cr, an) for c, cr, an in normal_order(coef, swapped)]
+            if i == j:
+                out += normal_order(coef, ops[:k] + ops[k + 2:])
+            return out
+    cre = [m for m, c in ops if c]
+    ann = [m for m, c in ops if not c]
+    if len(set(cre)) < len(cre) or len(set(ann)) < len(ann):
+        return []
+    return [(coef, cre, ann)]
+
+
+def fermion_line(coef, cre, ann):
+    """One version-2 fermion term: creators, '/', annihilators."""
+    if not cre and not ann:
+        return "%.17g" % coef
+    return " ".join(["%.17g" % coef] + [str(m) for m in cre] + ["/"] + [str(m) for m in ann])
+
+
 def parse_pauli_stream(text):
     """[(coef, [(letter, qubit), ...])], and the 'qubits' header value."""
     terms, nq = [], None
@@ -106,7 +168,7 @@ def parse_pauli_stream(text):
         if not line.strip() or line.startswith("#"):
             continue
         f = line.split()
-        terms.append((float(f[0]), [(t[0], int(t[1:])) for t in f[1:] if not t.startswith("@")]))
+        terms.append((float(f[0]), parse_pauli_fields(f[1:])))
     return terms, nq
 
 

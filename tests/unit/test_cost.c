@@ -67,9 +67,9 @@ static void pauli_summary(void)
     lam_pauli_set s;
     lam_pauli_set_init(&s, 2);
     add_term(&s, -1, -1, 5.0, -1);  /* identity */
-    add_term(&s, 0, -1, 3.0, 1);    /* X0 */
-    add_term(&s, -1, 0, -4.0, 1);   /* Z0: anticommutes with X0 */
-    add_term(&s, -1, 1, 0.5, -1);   /* Z1 unlabelled */
+    add_term(&s, 0, -1, 3.0, 1);    /* x:0 */
+    add_term(&s, -1, 0, -4.0, 1);   /* z:0: anticommutes with x:0 */
+    add_term(&s, -1, 1, 0.5, -1);   /* z:1 unlabelled */
     lam_lcu_summary lcu;
     lam_cost_summary_from_pauli(&s, 1, &lcu);
     tap_near(lcu.lambda, 5.5, 1e-15, "grouped lambda = 5 + 0.5");

@@ -315,7 +315,7 @@ static void expect_rejected(const char *body, const char *needle, const char *na
 {
     char text[1024], err[1024];
     snprintf(text, sizeof text,
-             "#%% lamina-op 1\n#%% kind: fragments\n#%% orbitals: 2\n#%% fragments: 2\n%s#%% end\n",
+             "#%% lamina-op 2\n#%% kind: fragments\n#%% orbitals: 2\n#%% fragments: 2\n%s#%% end\n",
              body);
     int rc = read_in_child(text, err, sizeof err);
     int ok = rc == 65 && strstr(err, needle) && strncmp(err, "lam-test: ", 10) == 0;
@@ -326,7 +326,7 @@ static void expect_rejected(const char *body, const char *needle, const char *na
 static void test_reader_rejects(void)
 {
     char err[1024];
-    int rc = read_in_child("#% lamina-op 1\n#% kind: fragments\n#% orbitals: 2\n-1.5\n"
+    int rc = read_in_child("#% lamina-op 2\n#% kind: fragments\n#% orbitals: 2\n-1.5\n"
                            "0.6 U 1 0 0\n0.8 U 1 1 0\n-0.8 U 1 0 1\n0.6 U 1 1 1\n"
                            "0.25 R 1 0a 1b\n0.25 R 1 0b 1a\n0.25 R 1 0a 1a\n0.25 R 1 0b 1b\n"
                            "0.1 R 0 1a\n0.1 R 0 1b\n#% end\n",

@@ -5,12 +5,14 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "fermion.h"
 #include "tap.h"
 #include "util.h"
 
-/* Parse "c o o o; c o o" into an operator (modes < 8). */
+/* Parse "c o o o; c o o" into an operator (modes < 8); o is a+N for the
+ * creator or aN for the annihilator of mode N, in any order. */
 static void build(lam_fermion_op *op, const char *text)
 {
     lam_fermion_init(op, 8);
@@ -21,8 +23,9 @@ static void build(lam_fermion_op *op, const char *text)
         char *save2 = NULL, *tok = strtok_r(term, " ", &save2);
         double c = atof(tok);
         while ((tok = strtok_r(NULL, " ", &save2)) != NULL) {
-            int mode = atoi(tok);
-            ops[k++] = strchr(tok, '+') ? LAM_CREATE(mode) : LAM_ANNIHILATE(mode);
+            int creator = tok[1] == '+';
+            int mode = atoi(tok + 1 + creator);
+            ops[k++] = creator ? LAM_CREATE(mode) : LAM_ANNIHILATE(mode);
         }
         lam_fermion_add(op, c, ops, k, 0);
     }
@@ -65,8 +68,8 @@ static void check_order(const char *in, const char *want, const char *name)
         for (size_t t = 0; t < out.count; ++t) {
             printf(" %g", out.coef[t]);
             for (size_t i = out.first[t]; i < out.first[t + 1]; ++i)
-                printf(" %d%c", (int)LAM_LADDER_MODE(out.ops[i]),
-                       LAM_LADDER_IS_CREATOR(out.ops[i]) ? '+' : '-');
+                printf(" a%s%d", LAM_LADDER_IS_CREATOR(out.ops[i]) ? "+" : "",
+                       (int)LAM_LADDER_MODE(out.ops[i]));
             printf(";");
         }
         printf("\n");
@@ -79,7 +82,7 @@ static void test_normal_order(void)
 {
     /* the canonical form itself: creators descending, annihilators ascending */
     lam_fermion_op op, out;
-    build(&op, "2 0+ 1+ 1- 0-");
+    build(&op, "2 a+0 a+1 a1 a0");
     lam_fermion_normal_order(&op, &out);
     int ok = out.count == 1 && out.coef[0] == 2.0 && out.ops[0] == LAM_CREATE(1) &&
              out.ops[1] == LAM_CREATE(0) && out.ops[2] == LAM_ANNIHILATE(0) &&
@@ -88,17 +91,17 @@ static void test_normal_order(void)
     lam_fermion_free(&op);
     lam_fermion_free(&out);
 
-    check_order("1 1- 1+", "1; -1 1+ 1-", "a_1 a+_1 = 1 - a+_1 a_1");
-    check_order("1 0- 1+", "-1 1+ 0-", "a_0 a+_1 = -a+_1 a_0");
-    check_order("1 1+ 1+", "", "a+_1 a+_1 = 0");
-    check_order("1 2- 0+ 2-", "", "a_2 a+_0 a_2 = 0 (repeated annihilator)");
-    check_order("1 0+ 1+", "-1 1+ 0+", "a+_0 a+_1 = -a+_1 a+_0");
-    check_order("1 2- 2+; 1 2+ 2-", "1", "{a_2, a+_2} = 1");
-    check_order("1 0- 1+; 1 1+ 0-", "", "{a_0, a+_1} = 0");
-    check_order("1 0+ 0- 0+ 0-", "1 0+ 0-", "n_0 n_0 = n_0");
-    check_order("1 0- 1- 1+ 0+", "1; -1 0+ 0-; -1 1+ 1-; 1 1+ 0+ 0- 1-",
+    check_order("1 a1 a+1", "1; -1 a+1 a1", "a_1 a+_1 = 1 - a+_1 a_1");
+    check_order("1 a0 a+1", "-1 a+1 a0", "a_0 a+_1 = -a+_1 a_0");
+    check_order("1 a+1 a+1", "", "a+_1 a+_1 = 0");
+    check_order("1 a2 a+0 a2", "", "a_2 a+_0 a_2 = 0 (repeated annihilator)");
+    check_order("1 a+0 a+1", "-1 a+1 a+0", "a+_0 a+_1 = -a+_1 a+_0");
+    check_order("1 a2 a+2; 1 a+2 a2", "1", "{a_2, a+_2} = 1");
+    check_order("1 a0 a+1; 1 a+1 a0", "", "{a_0, a+_1} = 0");
+    check_order("1 a+0 a0 a+0 a0", "1 a+0 a0", "n_0 n_0 = n_0");
+    check_order("1 a0 a1 a+1 a+0", "1; -1 a+0 a0; -1 a+1 a1; 1 a+1 a+0 a0 a1",
                 "a_0 a_1 a+_1 a+_0 = (1 - n_0)(1 - n_1)");
-    check_order("0.5 3+ 1-; 0.25 3+ 1-; -0.75 3+ 1-", "", "repeated terms merge to zero");
+    check_order("0.5 a+3 a1; 0.25 a+3 a1; -0.75 a+3 a1", "", "repeated terms merge to zero");
 }
 
 /* Find monomial idx (ascending) in the set; returns its index or -1. */
@@ -121,7 +124,7 @@ static void test_majorana(void)
     lam_fermion_op op;
     lam_majorana_set m;
     /* n_1 = (1 + i g_2 g_3)/2 */
-    build(&op, "1 1+ 1-");
+    build(&op, "1 a+1 a1");
     op.nmodes = 2;
     lam_majorana_from_fermion(&op, &m);
     int pair[2] = {2, 3};
@@ -146,7 +149,7 @@ static void test_majorana(void)
 
     /* a+_0 a_1 + a+_1 a_0 = (i/2)(g_0 g_3 + g_2 g_1)... as monomials:
      * the hopping term has one-norm 1 (two strings of 1/2). */
-    build(&op, "1 0+ 1-; 1 1+ 0-");
+    build(&op, "1 a+0 a1; 1 a+1 a0");
     op.nmodes = 2;
     lam_majorana_from_fermion(&op, &m);
     lam_majorana_require_hermitian(&m, "test");
@@ -226,7 +229,7 @@ static void test_spin_order(void)
                lam_spin_mode(LAM_SPIN_BLOCKED, 5, 3, 0) == 3,
            "spin orders: interleaved 2p+s, blocked s*n+p");
     lam_fermion_op op;
-    build(&op, "1 3+ 2-");
+    build(&op, "1 a+3 a2");
     op.nmodes = 4; /* 2 orbitals */
     lam_fermion_relabel_spin(&op, LAM_SPIN_INTERLEAVED, LAM_SPIN_BLOCKED);
     tap_ok(op.ops[0] == LAM_CREATE(3) && op.ops[1] == LAM_ANNIHILATE(1),
@@ -234,9 +237,73 @@ static void test_spin_order(void)
     lam_fermion_free(&op);
 }
 
+/* Terms read from a stream text. */
+static void read_terms_of(const char *text, lam_fermion_op *op)
+{
+    char path[] = "/tmp/test_fermion_XXXXXX";
+    int fd = mkstemp(path);
+    if (fd < 0 || write(fd, text, strlen(text)) != (ssize_t)strlen(text)) exit(70);
+    close(fd);
+    lam_reader *r = lam_reader_open(path);
+    lam_reader_force_kind(r, LAM_KIND_FERMION);
+    lam_fermion_read(r, op);
+    lam_reader_close(r);
+    unlink(path);
+}
+
+/* The terms lam_fermion_write_terms writes, without header or trailer. */
+static void written_terms(const lam_fermion_op *op, char *out, size_t size)
+{
+    char path[] = "/tmp/test_fermion_XXXXXX";
+    close(mkstemp(path));
+    lam_writer *w = lam_writer_open(path, 0);
+    lam_fermion_write_terms(w, op);
+    lam_writer_close_raw(w);
+    FILE *f = fopen(path, "r");
+    size_t n = fread(out, 1, size - 1, f);
+    out[n] = '\0';
+    fclose(f);
+    unlink(path);
+}
+
+static void test_stream_terms(void)
+{
+    lam_fermion_op op, v1;
+    read_terms_of("0.5 3 1 / 0 2\n-1 / 0\n2 4 /\n0.75\n1.5 /\n", &op);
+    int32_t want[] = {LAM_CREATE(3), LAM_CREATE(1), LAM_ANNIHILATE(0), LAM_ANNIHILATE(2),
+                      LAM_ANNIHILATE(0), LAM_CREATE(4)};
+    int ok = op.count == 5 && op.nops == 6 && op.nmodes == 5 &&
+             memcmp(op.ops, want, sizeof want) == 0 && lam_fermion_length(&op, 3) == 0 &&
+             lam_fermion_length(&op, 4) == 0 && op.coef[4] == 1.5;
+    tap_ok(ok, "version 2: creators, '/', annihilators as written; 'c' and 'c /' constants");
+    read_terms_of("0.5 3+ 1+ 0- 2-\n-1 0-\n2 4+\n0.75\n1.5\n", &v1);
+    tap_ok(v1.count == op.count && v1.nops == op.nops &&
+               memcmp(v1.ops, op.ops, sizeof want) == 0,
+           "version 1 (N+ N-) reads to the same terms");
+    lam_fermion_free(&v1);
+    lam_fermion_free(&op);
+
+    /* canonical on write: creators descending, annihilators ascending, the
+     * reordering sign: a+1 a+3 a2 a0 = (-1)(-1) a+3 a+1 a0 a2 */
+    char text[512];
+    build(&op, "0.5 a+1 a+3 a2 a0; -0.25 a+0 a+2 a1; 1 a3; 2 a+3 a+3 a0; 3");
+    written_terms(&op, text, sizeof text);
+    tap_ok(strcmp(text, "0.5 3 1 / 0 2\n0.25 2 0 / 1\n1 / 3\n3\n") == 0,
+           "written canonical with the sign, zero products left out");
+    if (strcmp(text, "0.5 3 1 / 0 2\n0.25 2 0 / 1\n1 / 3\n3\n") != 0) printf("# got %s", text);
+    lam_fermion_free(&op);
+    /* a product not normal ordered is written normal ordered */
+    build(&op, "1 a1 a+1");
+    written_terms(&op, text, sizeof text);
+    tap_ok(strcmp(text, "1\n-1 1 / 1\n") == 0 || strcmp(text, "-1 1 / 1\n1\n") == 0,
+           "a1 a+1 written as 1 - a+1 a1");
+    lam_fermion_free(&op);
+}
+
 int main(void)
 {
     lam_set_program("test_fermion");
+    test_stream_terms();
     test_normal_order();
     test_majorana();
     test_spinfree_paths();

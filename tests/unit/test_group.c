@@ -43,12 +43,18 @@ static int letters_anticommute(const lam_pauli_set *s, size_t a, size_t b)
 static void add_string(lam_pauli_set *s, const char *text, double c)
 {
     uint64_t x[4] = {0}, z[4] = {0};
+    /* "x:0 z:1,2": a letter, a colon, qubits separated by commas */
     for (const char *p = text; *p;) {
-        char l = *p++;
-        int q = (int)strtol(p, (char **)&p, 10);
-        uint64_t bit = (uint64_t)1 << (q % 64);
-        if (l != 'Z') x[q / 64] |= bit;
-        if (l != 'X') z[q / 64] |= bit;
+        char l = *p;
+        p += 2;
+        for (;;) {
+            int q = (int)strtol(p, (char **)&p, 10);
+            uint64_t bit = (uint64_t)1 << (q % 64);
+            if (l != 'z') x[q / 64] |= bit;
+            if (l != 'x') z[q / 64] |= bit;
+            if (*p != ',') break;
+            ++p;
+        }
         while (*p == ' ') ++p;
     }
     lam_pauli_set_add(s, x, z, c, -1);
@@ -134,11 +140,11 @@ static void test_clique(void)
      * mutually anticommuting strings, the largest such set. */
     lam_pauli_set in, out;
     lam_pauli_set_init(&in, 2);
-    add_string(&in, "X0", 0.3);
-    add_string(&in, "Y0", -0.4);
-    add_string(&in, "Z0 X1", 0.5);
-    add_string(&in, "Z0 Y1", 0.1);
-    add_string(&in, "Z0 Z1", -0.2);
+    add_string(&in, "x:0", 0.3);
+    add_string(&in, "y:0", -0.4);
+    add_string(&in, "x:1 z:0", 0.5);
+    add_string(&in, "y:1 z:0", 0.1);
+    add_string(&in, "z:0,1", -0.2);
     add_string(&in, "", 1.5);
     lam_group_options opt;
     lam_group_options_default(&opt);
@@ -158,8 +164,8 @@ static void test_commuting_apart(void)
 {
     lam_pauli_set in, out;
     lam_pauli_set_init(&in, 2);
-    add_string(&in, "Z0", 0.7);
-    add_string(&in, "Z1", -0.2);
+    add_string(&in, "z:0", 0.7);
+    add_string(&in, "z:1", -0.2);
     lam_group_options opt;
     lam_group_options_default(&opt);
     lam_group_stats st;
@@ -171,25 +177,25 @@ static void test_commuting_apart(void)
 
     opt.commuting = 1;
     lam_pauli_set_init(&in, 2);
-    add_string(&in, "Z0", 0.7);
-    add_string(&in, "Z1", -0.2);
-    add_string(&in, "X0", 0.1);
+    add_string(&in, "z:0", 0.7);
+    add_string(&in, "z:1", -0.2);
+    add_string(&in, "x:0", 0.1);
     lam_group_build(&in, &opt, &out, &st);
-    tap_ok(st.groups == 2 && groups_valid(&out, 0), "--commuting: Z0 Z1 together, X0 apart");
+    tap_ok(st.groups == 2 && groups_valid(&out, 0), "--commuting: z:0,1 together, x:0 apart");
     lam_pauli_set_free(&in);
     lam_pauli_set_free(&out);
 }
 
 static void test_split_optimum(void)
 {
-    /* X0 anticommutes with Z0 and with Z0 Z1, which commute with each
-     * other: with unit coefficients the best split of X0 is 1/2 + 1/2 and
+    /* x:0 anticommutes with z:0 and with z:0,1, which commute with each
+     * other: with unit coefficients the best split of x:0 is 1/2 + 1/2 and
      * lambda = 2 sqrt(1 + 1/4) (calculus), against 1 + sqrt 2 unsplit. */
     lam_pauli_set in, out;
     lam_pauli_set_init(&in, 2);
-    add_string(&in, "Z0", 1.0);
-    add_string(&in, "Z0 Z1", 1.0);
-    add_string(&in, "X0", 1.0);
+    add_string(&in, "z:0", 1.0);
+    add_string(&in, "z:0,1", 1.0);
+    add_string(&in, "x:0", 1.0);
     lam_group_options opt;
     lam_group_options_default(&opt);
     opt.split = 0;
@@ -262,8 +268,8 @@ static void test_check(void)
     lam_pauli_set s;
     lam_pauli_set_init(&s, 3);
     uint64_t x[1] = {0}, z[1] = {0};
-    /* group 0: X0, Z0, Y0 fine; group 1: Z1, Z2 X1, then Z2 (commutes with Z1) */
-    const char *text[] = {"X0", "Z1", "Z0", "X1 Z2", "Y0", "Z2"};
+    /* group 0: x:0, z:0, y:0 fine; group 1: z:1, x:1 z:2, then z:2 (commutes with z:1) */
+    const char *text[] = {"x:0", "z:1", "z:0", "x:1 z:2", "y:0", "z:2"};
     int label[] = {0, 1, 0, 1, 0, 1};
     for (int k = 0; k < 6; ++k) {
         lam_pauli_set tmp;
@@ -276,11 +282,11 @@ static void test_check(void)
     }
     size_t f = 0, g = 0;
     tap_ok(lam_group_check(&s, 0, &f, &g) == 1 && f == 1 && g == 5,
-           "check names Z1 (term 1) and Z2 (term 5) of group 1");
+           "check names z:1 (term 1) and z:2 (term 5) of group 1");
     s.group[5] = 2;
-    tap_ok(lam_group_check(&s, 0, &f, &g) == 0, "check passes once Z2 has its own group");
+    tap_ok(lam_group_check(&s, 0, &f, &g) == 0, "check passes once z:2 has its own group");
     tap_ok(lam_group_check(&s, 1, &f, &g) == 1 && f == 0 && g == 2,
-           "as commuting groups, X0 and Z0 fail first");
+           "as commuting groups, x:0 and z:0 fail first");
     size_t ng = 0;
     tap_near(lam_group_lambda(&s, &ng), sqrt(3.0) + sqrt(2.0) + 1.0, 1e-15,
              "lam_group_lambda: sqrt 3 + sqrt 2 + 1");

@@ -157,14 +157,24 @@ static void test_format_weight(void)
     tap_ok(lam_pauli_format(buf, sizeof buf, 2, x, z) == 0 && buf[0] == '\0',
            "the identity formats as the empty string");
     tap_ok(lam_pauli_is_identity(2, x, z), "all-zero bits are the identity");
-    x[0] = 1;                   /* X0 */
-    x[0] |= 2, z[0] |= 2;       /* Y1 */
-    z[0] |= 32;                 /* Z5 */
-    z[1] |= (uint64_t)1 << 6;   /* Z70 */
+    x[0] = 1;                   /* X on 0 */
+    x[0] |= 2, z[0] |= 2;       /* Y on 1 */
+    z[0] |= 32;                 /* Z on 5 */
+    z[1] |= (uint64_t)1 << 6;   /* Z on 70 */
     int len = lam_pauli_format(buf, sizeof buf, 2, x, z);
-    tap_ok(len > 0 && strcmp(buf, "X0 Y1 Z5 Z70") == 0, "format writes X0 Y1 Z5 Z70");
+    tap_ok(len > 0 && strcmp(buf, "x:0 y:1 z:5,70") == 0, "format writes x:0 y:1 z:5,70");
     tap_ok(lam_pauli_weight(2, x, z) == 4, "weight counts the non-identity factors");
     tap_ok(lam_pauli_format(buf, 8, 2, x, z) == -1, "format reports a buffer too small");
+    /* runs: two or more consecutive qubits as a-b, also across a word */
+    memset(x, 0, sizeof x);
+    memset(z, 0, sizeof z);
+    z[0] = 0x7 | 0x18 << 4;         /* 0-2, 7-8 */
+    z[0] |= (uint64_t)0xf << 60;    /* 60-63 ... */
+    z[1] = 0x3;                     /* ... 64-65 */
+    x[1] = (uint64_t)1 << 10;       /* 74 */
+    len = lam_pauli_format(buf, sizeof buf, 2, x, z);
+    tap_ok(len > 0 && strcmp(buf, "x:74 z:0-2,7-8,60-65") == 0,
+           "maximal runs written a-b, a run of two too, across words");
 }
 
 /* Brute force: the merged set of a random list equals a quadratic count. */
@@ -257,8 +267,8 @@ static char *write_temp(const char *text)
 
 static void test_read(void)
 {
-    const char *text = "#% lamina-op 1\n#% kind: pauli\n#% qubits: 6\n"
-                       "-0.5\n0.25 X0 Y1 Z5\n1e-3 Z2 @7\n#% end\n";
+    const char *text = "#% lamina-op 2\n#% kind: pauli\n#% qubits: 6\n"
+                       "-0.5\n0.25 x:0 y:1 z:5\n1e-3 z:2 @7\n#% end\n";
     char *path = write_temp(text);
     lam_reader *r = lam_reader_open(path);
     lam_pauli_set s;
@@ -269,13 +279,13 @@ static void test_read(void)
              lam_pauli_is_identity(s.nwords, lam_pauli_x(&s, 0), lam_pauli_z(&s, 0)) &&
              lam_pauli_format(buf, sizeof buf, s.nwords, lam_pauli_x(&s, 1),
                               lam_pauli_z(&s, 1)) > 0 &&
-             strcmp(buf, "X0 Y1 Z5") == 0 && s.group && s.group[1] == -1 && s.group[2] == 7;
+             strcmp(buf, "x:0 y:1 z:5") == 0 && s.group && s.group[1] == -1 && s.group[2] == 7;
     tap_ok(ok, "reader: identity, a string, a group label, qubits from the header");
     lam_pauli_set_free(&s);
     unlink(path);
 
     /* without a header: the qubit count grows to the largest index */
-    path = write_temp("1 X3\n2 Z130 X1\n");
+    path = write_temp("1 x:3\n2 z:130 x:1\n");
     r = lam_reader_open(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
     lam_pauli_read(r, &s);
@@ -285,6 +295,96 @@ static void test_read(void)
     tap_ok(ok, "reader without header grows to the largest index + 1");
     lam_pauli_set_free(&s);
     unlink(path);
+}
+
+/* Bits of the terms read from text (pauli kind forced). */
+static void read_text(const char *text, lam_pauli_set *s)
+{
+    char *path = write_temp(text);
+    lam_reader *r = lam_reader_open(path);
+    lam_reader_force_kind(r, LAM_KIND_PAULI);
+    lam_pauli_read(r, s);
+    lam_reader_close(r);
+    unlink(path);
+}
+
+static int same_bits(const lam_pauli_set *a, const lam_pauli_set *b)
+{
+    return a->count == b->count && a->nwords == b->nwords &&
+           memcmp(a->bits, b->bits, a->count * 2 * (size_t)a->nwords * sizeof(uint64_t)) == 0;
+}
+
+/* Random strings on 150 qubits written canonically, and respelled in
+ * other valid ways (letters z, y, x; indices descending one by one; a
+ * range cut in two), read back to the same bits. */
+static void test_spellings(void)
+{
+    enum { N = 400, NQ = 150 };
+    lam_pauli_set want;
+    lam_pauli_set_init(&want, NQ);
+    size_t cap = (size_t)N * 2000;
+    char *canon = lam_malloc(cap), *other = lam_malloc(cap);
+    size_t lc = 0, lo = 0;
+    for (int t = 0; t < N; ++t) {
+        uint64_t x[3] = {0}, z[3] = {0};
+        int w = 1 + (int)(rnd() % 40);
+        for (int k = 0; k < w; ++k) {
+            int q = (int)(rnd() % NQ), letter = 1 + (int)(rnd() % 3);
+            if (k > 0 && rnd() % 2) q = (q + 1) % NQ; /* make runs likely */
+            uint64_t bit = (uint64_t)1 << (q % 64);
+            if ((x[q / 64] | z[q / 64]) & bit) continue;
+            if (letter != 3) x[q / 64] |= bit;
+            if (letter != 1) z[q / 64] |= bit;
+        }
+        lam_pauli_set_add(&want, x, z, 1.0, -1);
+        char buf[1024];
+        lam_pauli_format(buf, sizeof buf, 3, x, z);
+        lc += (size_t)snprintf(canon + lc, cap - lc, "1 %s\n", buf);
+        lo += (size_t)snprintf(other + lo, cap - lo, "1");
+        for (const char *l = "zyx"; *l; ++l) {
+            int first = 1;
+            for (int q = NQ - 1; q >= 0; --q) {
+                uint64_t bit = (uint64_t)1 << (q % 64), xb = x[q / 64] & bit, zb = z[q / 64] & bit;
+                char mine = xb && zb ? 'y' : xb ? 'x' : zb ? 'z' : 0;
+                if (mine != *l) continue;
+                lo += (size_t)snprintf(other + lo, cap - lo, "%s%d", first ? (char[]){' ', *l, ':', 0} : ",", q);
+                first = 0;
+            }
+        }
+        lo += (size_t)snprintf(other + lo, cap - lo, "\n");
+    }
+    lam_pauli_set a, b;
+    read_text(canon, &a);
+    read_text(other, &b);
+    lam_pauli_set_grow_qubits(&a, NQ);
+    lam_pauli_set_grow_qubits(&b, NQ);
+    tap_ok(same_bits(&a, &want), "canonical spelling reads back to the same strings");
+    tap_ok(same_bits(&b, &want), "any valid spelling (letter order, index order) reads the same");
+    lam_pauli_set_free(&a);
+    lam_pauli_set_free(&b);
+    read_text("1 z:3-4,0 x:1,2-2\n1 z:0,3,4 x:1-2\n", &a);
+    tap_ok(a.count == 2 && memcmp(lam_pauli_x(&a, 0), lam_pauli_x(&a, 1),
+                                  2 * sizeof(uint64_t)) == 0,
+           "ranges that are not maximal and a one-qubit range a-a");
+    lam_pauli_set_free(&a);
+    lam_pauli_set_free(&want);
+    free(canon);
+    free(other);
+}
+
+/* Version 1 is still read, with or without its header line. */
+static void test_read_v1(void)
+{
+    lam_pauli_set a, b, c;
+    read_text("#% lamina-op 1\n#% kind: pauli\n0.5 X0 Z1 Z2 X3 Y5 @4\n-1\n#% end\n", &a);
+    read_text("0.5 X0 Z1 Z2 X3 Y5 @4\n-1\n", &b);
+    read_text("0.5 x:0,3 y:5 z:1-2 @4\n-1\n", &c);
+    tap_ok(same_bits(&a, &c) && a.group && a.group[0] == 4 && a.coef[1] == -1,
+           "a version-1 stream reads as its version-2 spelling");
+    tap_ok(same_bits(&b, &c), "headerless version-1 terms read too");
+    lam_pauli_set_free(&a);
+    lam_pauli_set_free(&b);
+    lam_pauli_set_free(&c);
 }
 
 /* Merging while reading (batches of 4096 lines, the string width growing
@@ -299,7 +399,7 @@ static void test_read_merged(void)
         int top = t < 5000 ? 30 : 150; /* one word, then three */
         int q1 = (int)(rnd() % (uint64_t)top), q2 = (q1 + 1 + (int)(rnd() % 7)) % top;
         if (q2 == q1) q2 = (q1 + 1) % top;
-        fprintf(f, "%g X%d Z%d%s\n", (double)(rnd() % 8) - 3.5, q1, q2, t % 5 ? "" : " @2");
+        fprintf(f, "%g x:%d z:%d%s\n", (double)(rnd() % 8) - 3.5, q1, q2, t % 5 ? "" : " @2");
     }
     fclose(f);
     lam_pauli_set a, b;
@@ -328,6 +428,8 @@ int main(void)
     test_single_qubit_table();
     test_many_qubits();
     test_format_weight();
+    test_spellings();
+    test_read_v1();
     test_merge();
     test_grow_and_norms();
     test_read();

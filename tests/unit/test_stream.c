@@ -18,6 +18,17 @@ static void write_file(const char *text)
     fclose(f);
 }
 
+/* The kind a reader finds for text, and the spelling version it read. */
+static lam_kind kind_of(const char *text, int *syntax)
+{
+    write_file(text);
+    lam_reader *r = lam_reader_open(path);
+    lam_kind kind = lam_reader_kind(r);
+    if (syntax) *syntax = lam_reader_syntax(r);
+    lam_reader_close(r);
+    return kind;
+}
+
 int main(void)
 {
     int fd = mkstemp(path);
@@ -86,8 +97,8 @@ int main(void)
     tap_ok(strcmp(buf, "0") == 0, "negative zero written as 0");
 
     /* A full suite stream: header, comment, blank line, terms, trailer. */
-    write_file("#% lamina-op 1\n#% kind: pauli\n#% qubits: 4\n# a comment\n\n"
-               "-0.5\n0.25 X0 Z3\n#% late: yes\n1e-3 Y1 @2\n#% end\n");
+    write_file("#% lamina-op 2\n#% kind: pauli\n#% qubits: 4\n# a comment\n\n"
+               "-0.5\n0.25 x:0 z:3\n#% late: yes\n1e-3 y:1 @2\n#% end\n");
     lam_reader *r = lam_reader_open(path);
     tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI, "kind from header");
     tap_ok(strcmp(lam_meta_get(lam_reader_meta(r), "qubits"), "4") == 0, "metadata read");
@@ -104,22 +115,25 @@ int main(void)
     lam_reader_close(r);
 
     /* Kind inferred from the terms of a stream without header. */
-    write_file("0.5\n0.25 3+ 1-\n");
+    write_file("0.5\n0.25 3 1 / 0 2\n");
     r = lam_reader_open(path);
     tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "fermion kind inferred past a bare constant");
     n = 0;
     while (lam_reader_next(r, &ln)) ++n;
     tap_ok(n == 2, "inferred-kind stream still yields every term");
+    tap_ok(lam_reader_syntax(r) == 0, "the generic reader leaves the spelling to the kind's parser");
     lam_reader_close(r);
-    write_file("1.0 0 1 1 0\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_SPINFREE, "spinfree kind inferred");
-    lam_reader_close(r);
-
-    write_file("-1.5\n1 U 0 0 0\n0.25 R 0 1a\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_FRAGMENTS, "fragments kind inferred from U/R");
-    lam_reader_close(r);
+    tap_ok(kind_of("0.25 2 /\n", NULL) == LAM_KIND_FERMION, "a lone creator with its '/' is fermion");
+    tap_ok(kind_of("0.25 z:1-3 @2\n", NULL) == LAM_KIND_PAULI, "pauli kind inferred from z:");
+    /* version 1, read for one release of grace */
+    int syntax;
+    tap_ok(kind_of("#% lamina-op 1\n0.25 X0 Y1\n#% end\n", &syntax) == LAM_KIND_PAULI && syntax == 1,
+           "version-1 header read, pauli kind inferred from X0");
+    tap_ok(kind_of("0.25 3+ 1-\n", NULL) == LAM_KIND_FERMION,
+           "headerless version-1 fermion term inferred");
+    tap_ok(kind_of("1.0 0 1 1 0\n", NULL) == LAM_KIND_SPINFREE, "spinfree kind inferred");
+    tap_ok(kind_of("-1.5\n1 U 0 0 0\n0.25 R 0 1a\n", NULL) == LAM_KIND_FRAGMENTS,
+           "fragments kind inferred from U/R");
 
     /* Metadata editing. */
     lam_meta m;
