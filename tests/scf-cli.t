@@ -6,9 +6,11 @@
 #   h22 -0.4756, (11|11) 0.6746, (11|22) 0.6636, (12|12) 0.1813,
 #   (22|22) 0.6975, orbital energies -0.5782 and 0.6703, E_HF -1.1167 Eh;
 #   compared to 4 decimals.
-# - Water, STO-3G, bohr geometry of T. D. Crawford's programming projects
-#   3 and 4 (from memory, /work/shared/reference/facts.md): E_nuc
-#   8.002367061810450, E_SCF -74.942079928192 Eh.
+# - Water, STO-3G, in the bohr geometry published with T. D. Crawford's
+#   "Programming Projects" (CrawfordGroup/ProgrammingProjects, Project #3,
+#   the Hartree-Fock SCF method: input geom.dat and its reference output;
+#   from memory): E_nuc 8.002367061810450, E_SCF -74.942079928192 Eh.  A
+#   published value, so this test keeps that published geometry.
 # - FCIDUMP header layout (Knowles and Handy 1989; common practice).
 source "$(dirname "$0")/lib/tap.sh"
 
@@ -59,31 +61,31 @@ near "$(integral 1 1 2 2 <"$TMP/h2.fcidump")" 0.6636 5e-5 "H2: (11|22) = 0.6636 
 near "$(integral 1 2 1 2 <"$TMP/h2.fcidump")" 0.1813 5e-5 "H2: (12|12) = 0.1813 (Szabo-Ostlund)"
 near "$(integral 2 2 2 2 <"$TMP/h2.fcidump")" 0.6975 5e-5 "H2: (22|22) = 0.6975 (Szabo-Ostlund)"
 near "$(integral 0 0 0 0 <"$TMP/h2.fcidump")" 0.7143 5e-5 "H2: constant 1/R = 0.7143 (Szabo-Ostlund)"
-runlam lam-scf --quiet --bohr --energy "$TMP/h2.xyz"
+runlam lam-scf --quiet --bohr --energy-only "$TMP/h2.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -1.1167 5e-5 "H2: E_HF = -1.1167 Eh (Szabo-Ostlund)"
 near "$(report_get homo <<<"$OUT")" -0.5782 5e-5 "H2: orbital energy -0.5782 (Szabo-Ostlund)"
 near "$(report_get lumo <<<"$OUT")" 0.6703 5e-5 "H2: orbital energy 0.6703 (Szabo-Ostlund)"
 
 # ---- Crawford water
-runlam lam-scf --quiet --bohr --energy "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only "$TMP/water.xyz"
 is "$RC" 0 "water --energy: exit 0"
 near "$(report_get nuclear_repulsion <<<"$OUT")" 8.002367061810450 1e-9 "water: E_nuc 8.002367061810450 (Crawford)"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water: E_SCF -74.942079928192 Eh (Crawford)"
 is "$(report_get basis_functions <<<"$OUT")" 7 "water STO-3G: 7 basis functions"
 is "$(report_get electrons <<<"$OUT")" 10 "water: 10 electrons"
-runlam lam-scf --quiet --bohr --energy --tsv "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only --tsv "$TMP/water.xyz"
 is "$(wc -l <<<"$OUT")" 2 "--tsv: header row and value row"
 like "$(head -1 <<<"$OUT")" $'scf_energy' "--tsv header names scf_energy"
 
-runlam lam-scf --quiet --bohr --energy --guess core "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only --start core "$TMP/water.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water from the core guess: same E_SCF"
 
 # angstrom is the default unit: the same geometry in angstrom (CODATA 2014 bohr)
 awk 'NR > 2 { printf "%s %.12f %.12f %.12f\n", $1, $2 * 0.52917721067, $3 * 0.52917721067, $4 * 0.52917721067 }' \
     "$TMP/water.xyz" >"$TMP/water-angstrom.xyz"
-runlam lam-scf --quiet --energy "$TMP/water-angstrom.xyz"
+runlam lam-scf --quiet --energy-only "$TMP/water-angstrom.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water in angstrom: same E_SCF"
-OUT=$(lam lam-scf --quiet --energy <"$TMP/water-angstrom.xyz" 2>/dev/null); RC=$?
+OUT=$(lam lam-scf --quiet --energy-only <"$TMP/water-angstrom.xyz" 2>/dev/null); RC=$?
 is "$RC" 0 "molecule on stdin: exit 0"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "molecule on stdin: same E_SCF"
 
@@ -101,18 +103,18 @@ is "$?" 0 "lam-ints reads lam-scf's FCIDUMP"
 # d shells: cc-pVDZ spherical by definition, --cartesian overrides
 # (beryllium atom, 3s2p1d in cc-pVDZ: Dunning 1989 / Prascher et al. 2011)
 printf 'Be 0 0 0\n' >"$TMP/be.xyz"
-runlam lam-scf --quiet --energy --basis cc-pvdz "$TMP/be.xyz"
+runlam lam-scf --quiet --energy-only --basis cc-pvdz "$TMP/be.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 14 "Be cc-pVDZ: 14 functions (spherical d)"
-runlam lam-scf --quiet --energy --basis cc-pvdz --cartesian "$TMP/be.xyz"
+runlam lam-scf --quiet --energy-only --basis cc-pvdz --cartesian "$TMP/be.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 15 "Be cc-pVDZ --cartesian: 15 functions"
-runlam lam-scf --quiet --bohr --energy --basis 6-31g --spherical "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only --basis 6-31g --spherical "$TMP/water.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 13 "water 6-31G: 13 functions"
 
 # convergence report on stderr
-runlam lam-scf --progress --bohr --energy "$TMP/water.xyz"
+runlam lam-scf --progress --bohr --energy-only "$TMP/water.xyz"
 like "$ERR" "iter +energy" "--progress: iteration table on stderr"
 like "$ERR" "RHF energy -74.94207992" "summary line on stderr"
-runlam lam-scf --quiet --bohr --energy "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only "$TMP/water.xyz"
 is "$ERR" "" "--quiet: nothing on stderr"
 
 # ---- bad input: message with file:line and the documented exit code
@@ -150,7 +152,7 @@ printf 'Na 0 0 0\nH 0 0 1.89\n' >"$TMP/nah.xyz"
 runlam lam-scf --quiet --basis cc-pvdz "$TMP/nah.xyz"
 is "$RC" 65 "cc-pVDZ has no Na: exit 65"
 like "$ERR" "nah.xyz:1: basis cc-pvdz has no functions for Na" "missing element in the basis: file:line"
-runlam lam-scf --quiet --basis 6-31g --energy "$TMP/nah.xyz"
+runlam lam-scf --quiet --basis 6-31g --energy-only "$TMP/nah.xyz"
 is "$RC" 0 "6-31G has Na: exit 0"
 
 runlam lam-scf --quiet "$TMP/no-such-file.xyz"
@@ -167,16 +169,16 @@ is "$RC" 64 "--active above the orbitals: exit 64"
 runlam lam-scf --quiet --bohr --active 4 "$TMP/water.xyz"
 is "$RC" 64 "10 electrons in 4 orbitals: exit 64"
 runlam lam-scf --quiet --tsv "$TMP/h2.xyz"
-is "$RC" 64 "--tsv without --energy: exit 64"
-runlam lam-scf --quiet --guess huckel "$TMP/h2.xyz"
-is "$RC" 64 "unknown --guess: exit 64"
-runlam lam-scf --quiet --e-conv abc "$TMP/h2.xyz"
-is "$RC" 64 "--e-conv not a number: exit 64"
+is "$RC" 64 "--tsv without --energy-only: exit 64"
+runlam lam-scf --quiet --start huckel "$TMP/h2.xyz"
+is "$RC" 64 "unknown --start: exit 64"
+runlam lam-scf --quiet --energy-tol abc "$TMP/h2.xyz"
+is "$RC" 64 "--energy-tol not a number: exit 64"
 runlam lam-scf --quiet --bohr --max-iter 2 "$TMP/water.xyz"
 is "$RC" 65 "no convergence in 2 iterations: exit 65"
 like "$ERR" "did not converge in 2 iterations" "no convergence: the reason"
 is "$OUT" "" "no convergence: nothing on stdout"
-runlam lam-scf --quiet --bohr --max-memory 0.001 "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr -M 1K "$TMP/water.xyz"
 is "$RC" 75 "over --max-memory: exit 75"
 runlam lam-scf --quiet --bohr -o "$TMP/no/such/dir/out" "$TMP/water.xyz"
 is "$RC" 74 "output cannot be opened: exit 74"
