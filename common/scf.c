@@ -402,6 +402,59 @@ static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double el
     return out;
 }
 
+/* Sum over basis functions of the fourth powers of orbital columns k and
+ * l of c (n x m) turned by theta. */
+static double quartic_spread(int n, int m, const double *c, int k, int l, double theta)
+{
+    double cs = cos(theta), sn = sin(theta), f = 0.0;
+    for (int i = 0; i < n; ++i) {
+        double a = c[(size_t)i * m + k], b = c[(size_t)i * m + l];
+        double u = cs * a + sn * b, v = -sn * a + cs * b;
+        f += u * u * u * u + v * v * v * v;
+    }
+    return f;
+}
+
+#define DEGENERATE_EPS 1e-7
+
+/* Orbitals of one energy (within DEGENERATE_EPS Eh) are an arbitrary
+ * rotation of each other after a diagonalization; integrals that vanish
+ * by symmetry in the symmetry-adapted choice (pi_x, pi_y of N2) do not in
+ * a rotated one.  Within each degenerate set, Jacobi rotations maximize
+ * the sum of fourth powers of the coefficients over the basis functions,
+ * which turns the set onto the Cartesian axes when the molecule's
+ * symmetry elements lie along them.  The sum is c0 + A cos 4t + B sin 4t
+ * for a pair, so three values give its maximum.  Sets never straddle the
+ * first `nocc` orbitals (occupied and virtual stay apart). */
+static void align_degenerate(int n, int m, int nocc, const double *eps, double *c)
+{
+    for (int first = 0; first < m;) {
+        int end = first + 1;
+        while (end < m && end != nocc && eps[end] - eps[first] < DEGENERATE_EPS) ++end;
+        for (int sweep = 0; sweep < 8 && end - first > 1; ++sweep) {
+            double gain = 0.0;
+            for (int k = first; k < end; ++k)
+                for (int l = k + 1; l < end; ++l) {
+                    double f0 = quartic_spread(n, m, c, k, l, 0.0);
+                    double f8 = quartic_spread(n, m, c, k, l, 0.125 * acos(-1.0));
+                    double f4 = quartic_spread(n, m, c, k, l, 0.25 * acos(-1.0));
+                    double c0 = 0.5 * (f0 + f4), a = 0.5 * (f0 - f4), b = f8 - c0;
+                    double theta = 0.25 * atan2(b, a), best = c0 + sqrt(a * a + b * b);
+                    if (best - f0 <= 1e-14 * (1.0 + f0)) continue;
+                    gain += best - f0;
+                    double cs = cos(theta), sn = sin(theta);
+                    for (int i = 0; i < n; ++i) {
+                        double *row = c + (size_t)i * m, x = row[k], y = row[l];
+                        row[k] = cs * x + sn * y;
+                        row[l] = -sn * x + cs * y;
+                    }
+                }
+            if (gain < 1e-12) break;
+        }
+        first = end;
+    }
+}
+
 /* Energy of the closed-shell determinant of the first electrons/2
  * orbitals in w->c; leaves its density and Fock matrix in w->d, w->f. */
 static double determinant_energy(scf_state *w, double electrons)
@@ -792,7 +845,10 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
     scf_state_init(&w, n, m, s->hcore, s->pk, ovl, x, s->e_nuc);
     scf_outcome r = scf_iterate(&w, o, nelec, 0, guess ? FROM_DENSITY : FROM_CORE, guess,
                                 o->report);
-    if (r.converged) ensure_stable(&w, o, nelec, &r, s, mol);
+    if (r.converged) {
+        ensure_stable(&w, o, nelec, &r, s, mol);
+        align_degenerate(n, m, nelec / 2, w.eps, w.c);
+    }
     s->seconds_iterations = lam_seconds() - t0;
     s->energy = r.energy;
     s->iterations = r.iterations;
