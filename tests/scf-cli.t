@@ -65,6 +65,11 @@ runlam lam-scf --quiet --bohr --energy-only "$TMP/h2.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -1.1167 5e-5 "H2: E_HF = -1.1167 Eh (Szabo-Ostlund)"
 near "$(report_get homo <<<"$OUT")" -0.5782 5e-5 "H2: orbital energy -0.5782 (Szabo-Ostlund)"
 near "$(report_get lumo <<<"$OUT")" 0.6703 5e-5 "H2: orbital energy 0.6703 (Szabo-Ostlund)"
+# the one orbital-Hessian element of minimal-basis H2 (Seeger and Pople
+# 1977, from memory): (A+B) = e2 - e1 + 4 (12|12) - (11|22) - (12|21)
+# = 0.6703 + 0.5782 + 3 x 0.1813 - 0.6636 = 1.1288 from Szabo-Ostlund's numbers
+near "$(report_get stability_eigenvalue <<<"$OUT")" 1.1288 5e-4 "H2: orbital Hessian 1.1288 Eh from Szabo-Ostlund's integrals"
+is "$(report_get instabilities_followed <<<"$OUT")" 0 "H2: stable, nothing followed"
 
 # ---- Crawford water
 runlam lam-scf --quiet --bohr --energy-only "$TMP/water.xyz"
@@ -162,6 +167,56 @@ is "$RC" 64 "unknown basis: exit 64"
 like "$ERR" "unknown basis '3-21g'" "unknown basis: message"
 runlam lam-scf --quiet --no-such-option "$TMP/h2.xyz"
 is "$RC" 64 "unknown option: exit 64"
+is "$ERR" "lam-scf: unknown option '--no-such-option'
+Try 'lam-scf --help'." "unknown option: one message"
+runlam lam-scf --quiet -e "$TMP/h2.xyz"
+is "$RC" 64 "-e is not lam-scf's (the suite's -e is --encoding)"
+runlam lam-scf --quiet --basis
+like "$ERR" "option '--basis' needs a value" "missing value: one message"
+runlam lam-scf -V
+like "$OUT" "^lam-scf .*[0-9]+\.[0-9]+" "-V is --version"
+runlam lam-scf --quiet --stability maybe "$TMP/h2.xyz"
+is "$RC" 64 "unknown --stability: exit 64"
+runlam lam-scf --quiet --diis-depth 9 "$TMP/h2.xyz"
+is "$RC" 64 "--diis-depth above 8: exit 64"
+runlam lam-scf --quiet --bohr --energy-only --diis-depth 0 --gradient-tol 1e-9 --max-iter 300 "$TMP/water.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "--diis-depth 0 (plain Roothaan iterations): same E_SCF"
+runlam lam-scf --quiet --bohr --energy-only -M 2G "$TMP/water.xyz"
+is "$RC" 0 "-M 2G: exit 0"
+runlam lam-scf --quiet --bohr --energy-only --max-memory 2x "$TMP/water.xyz"
+is "$RC" 64 "--max-memory with a bad suffix: exit 64"
+runlam lam-scf --quiet --cutoff -1 "$TMP/h2.xyz"
+is "$RC" 64 "negative --cutoff: exit 64"
+
+# ---- stability: H2 at 20 A; the iterations reach the ionic H+ H- saddle
+printf 'H 0 0 0\nH 0 0 20\n' >"$TMP/h2-far.xyz"
+runlam lam-scf --energy-only "$TMP/h2-far.xyz"
+is "$RC" 0 "H2 at 20 A: exit 0"
+like "$ERR" "note: the first RHF solution \(-0.18501661[0-9]* Eh\) was unstable" "H2 at 20 A: the ionic saddle is named on stderr"
+near "$(report_get scf_energy <<<"$OUT")" -0.559090157 1e-8 "H2 at 20 A: the stable sigma_g^2 state (closed form in scf-ref.t)"
+runlam lam-scf --quiet --energy-only --stability check "$TMP/h2-far.xyz"
+is "$RC" 65 "H2 at 20 A --stability check: exit 65"
+like "$ERR" "h2-far.xyz: the RHF solution \(-0.185016615728 Eh\) is unstable: the orbital Hessian has the eigenvalue -7.48" "--stability check: the message"
+is "$OUT" "" "--stability check: nothing on stdout"
+runlam lam-scf --quiet --energy-only --stability off "$TMP/h2-far.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -0.185016616 1e-8 "--stability off: the saddle point stays"
+is "$(report_get stability_eigenvalue <<<"$OUT")" "" "--stability off: no stability key"
+runlam lam-scf --quiet -o "$TMP/h2-far.fcidump" "$TMP/h2-far.xyz"
+runlam lam-ints "$TMP/h2-far.fcidump"
+runlam_in "$OUT" lam-range --quiet
+near "$(report_get n_min <<<"$OUT")" -0.933164 1e-5 "H2 at 20 A: FCI from the FCIDUMP = 2 x STO-3G hydrogen atom (-0.4666 Eh, Szabo-Ostlund)"
+
+# ---- symmetry noise: the default cutoff and --cutoff
+lam lam-scf --bohr "$TMP/water.xyz" >"$TMP/wclean.fcidump" 2>"$TMP/err"
+like "$(cat "$TMP/err")" "integrals written, [0-9]+ at or below the cutoff" "cleaning said on stderr"
+is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { v = $1 + 0; if (v < 0) v = -v; if (v > 0 && v < 1e-8) n++ } END { print n + 0 }' "$TMP/wclean.fcidump")" 0 \
+    "water (C2v): no integral between 0 and 1e-8 Eh by default"
+lam lam-scf --quiet --bohr --cutoff 0 "$TMP/water.xyz" >"$TMP/wnoisy.fcidump"
+is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { v = $1 + 0; if (v < 0) v = -v; if (v > 0 && v < 1e-8) n++ } END { print (n > 0) }' "$TMP/wnoisy.fcidump")" 1 \
+    "--cutoff 0: the rounding noise is written"
+lam lam-scf --quiet --bohr --cutoff 0.01 "$TMP/water.xyz" >"$TMP/wcut.fcidump"
+is "$(awk 'NF == 5 && $2 ~ /^[1-9]/ { v = $1 + 0; if (v < 0) v = -v; if (v <= 0.01) n++ } END { print n + 0 }' "$TMP/wcut.fcidump")" 0 \
+    "--cutoff 0.01: nothing at or below 0.01 Eh"
 runlam lam-scf --quiet --bohr --frozen 6 "$TMP/water.xyz"
 is "$RC" 64 "--frozen above the occupied orbitals: exit 64"
 runlam lam-scf --quiet --bohr --active 9 "$TMP/water.xyz"
