@@ -122,6 +122,16 @@ like "$ERR" "RHF energy -74.94207992" "summary line on stderr"
 runlam lam-scf --quiet --bohr --energy-only "$TMP/water.xyz"
 is "$ERR" "" "--quiet: nothing on stderr"
 
+# ---- the demo's integrals are lam-scf's, from the demo's geometry
+DEMO="$TESTS_DIR/../examples/data"
+lam lam-scf --quiet --frozen 1 "$DEMO/water.xyz" >"$TMP/demo.fcidump"
+# (same lines, values to 1e-12 Eh: BLAS threads change the last digits)
+is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { k = $2 " " $3 " " $4 " " $5; v = $1 + 0
+          if (FNR == NR) { a[k] = v; next } if (!(k in a)) { print "extra " k; next }
+          d = a[k] - v; if (d < 0) d = -d; if (d > 1e-12) print "differs " k; delete a[k] }
+          END { for (k in a) print "missing " k }' "$TMP/demo.fcidump" "$DEMO/water.fcidump")" "" \
+    "examples/data/water.fcidump = lam-scf --frozen 1 examples/data/water.xyz"
+
 # ---- bad input: message with file:line and the documented exit code
 printf 'H 0 0 0\nXx 0 0 1\n' >"$TMP/bad-element.xyz"
 runlam lam-scf --quiet "$TMP/bad-element.xyz"

@@ -236,6 +236,19 @@ if tap.ok(rc == 0, "h2o: lam-scf --frozen 1 --active 5", err):
                  "h2o --frozen 1 --active 5: lam-range %s = numpy folding of psi4's integrals" % key)
 
 
+# ---- the demo's integrals (examples/data, written by lam-scf): psi4's
+# frozen-core FCI energy for the same geometry is their lowest eigenvalue
+demo = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "examples", "data")
+with open(os.path.join(demo, "water.xyz")) as f:
+    demo_geom = "\n".join(f.read().splitlines()[2:])
+molecules.MOLECULES["water-demo"] = (demo_geom, 0, "sto-3g", True)
+path, info = molecules.reference("water-demo")
+with open(os.path.join(demo, "water.fcidump")) as f:
+    r = lam_report("lam-range", ints(f.read()), "--lowest")
+tap.near(r.get("n_min"), info["fci"], 1e-8,
+         "examples/data/water.fcidump: lowest 8-electron eigenvalue = psi4 frozen-core FCI %.10f"
+         % info["fci"])
+
 # ---- symmetry noise: non-zero unique integrals of N2 against psi4's orbitals
 PSI4_N2_COUNT = r'''
 import json, sys
