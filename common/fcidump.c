@@ -293,7 +293,7 @@ lam_fcidump *lam_fcidump_read(const char *path)
     fd->source = lam_strdup(in.name);
     fd->ms2_line = h.ms2_line;
     if (fd->idle_orbitals)
-        lam_warn("%s: warning: NORB=%d, but %d of the orbitals have no integral line (all "
+        lam_warn("%s: warning: NORB=%d, but no integral line names %d of the orbitals (all "
                  "their integrals are zero)", in.name, fd->norb, fd->idle_orbitals);
     if (!fd->has_constant)
         lam_warn("%s:%ld: warning: no constant line (0 0 0 0): the constant is taken as 0; "

@@ -103,7 +103,7 @@ like "$ERR" "ms2.fd:1: MS2=4 is impossible for NELEC=2" "impossible MS2: the rea
 printf '&FCI NORB=5,NELEC=2,MS2=0,&END\n0.5 1 1 1 1\n-1.2 1 1 0 0\n-0.4 2 2 0 0\n0.1 0 0 0 0\n' > "$TMP/idle.fd"
 runlam lam-ints "$TMP/idle.fd"
 is "$RC" 0 "NORB=5, integrals on 2 orbitals: exit 0"
-like "$ERR" "idle.fd: warning: NORB=5, but 3 of the orbitals have no integral line" "idle orbitals: warning says how many"
+like "$ERR" "idle.fd: warning: NORB=5, but no integral line names 3 of the orbitals" "idle orbitals: warning says how many"
 runlam lam-ints "$SZ"
 is "$ERR" "" "complete file: no warning"
 
