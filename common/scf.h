@@ -86,7 +86,7 @@ lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active);
 /* Default cutoff of the written integrals, relative to the largest one:
  * integrals that vanish by symmetry come out of the transformation as
  * rounding noise (measured up to 1e-12 of the largest integral; N2 in
- * STO-3G: 3990 of 5151 terms), real ones are many orders larger. */
+ * STO-3G: 4290 of 5151 spin-free terms), real ones are many orders larger. */
 #define LAM_SCF_CUTOFF_RELATIVE 1e-10
 
 typedef struct {
