@@ -455,6 +455,23 @@ static void align_degenerate(int n, int m, int nocc, const double *eps, double *
     }
 }
 
+/* Each orbital's sign is arbitrary, and BLAS kernels (which differ by
+ * processor, or under valgrind) choose differently; integrals with an odd
+ * count of one orbital change sign with it.  Fixed here: the first
+ * coefficient within 1e-6 of the largest magnitude is positive, so that
+ * the same input gives the same FCIDUMP everywhere (to rounding). */
+static void fix_signs(int n, int m, double *c)
+{
+    for (int k = 0; k < m; ++k) {
+        double mx = 0.0;
+        for (int i = 0; i < n; ++i) mx = fmax(mx, fabs(c[(size_t)i * m + k]));
+        int i = 0;
+        while (i < n - 1 && fabs(c[(size_t)i * m + k]) < mx * (1.0 - 1e-6)) ++i;
+        if (c[(size_t)i * m + k] < 0)
+            for (int r = 0; r < n; ++r) c[(size_t)r * m + k] = -c[(size_t)r * m + k];
+    }
+}
+
 /* Energy of the closed-shell determinant of the first electrons/2
  * orbitals in w->c; leaves its density and Fock matrix in w->d, w->f. */
 static double determinant_energy(scf_state *w, double electrons)
@@ -655,14 +672,16 @@ static scf_outcome follow_instability(scf_state *w, const lam_scf_options *o, in
 }
 
 /* The stability test on the converged solution in w, and with
- * LAM_STABILITY_FOLLOW the way down from each instability found. */
-static void ensure_stable(scf_state *w, const lam_scf_options *o, int nelec,
-                          scf_outcome *r, lam_scf *s, const lam_molecule *mol)
+ * LAM_STABILITY_FOLLOW the way down from each instability found.  Returns
+ * 0, or -1 with the reason in why (the caller frees and fails: what it
+ * holds must not count as leaked). */
+static int ensure_stable(scf_state *w, const lam_scf_options *o, int nelec, scf_outcome *r,
+                         lam_scf *s, char *why, size_t why_size)
 {
-    int nocc = nelec / 2;
+    int nocc = nelec / 2, status = 0;
     size_t dim = (size_t)nocc * (w->m - nocc);
     s->hessian_lowest = s->hessian_residual = NAN;
-    if (o->stability == LAM_STABILITY_OFF || dim == 0) return;
+    if (o->stability == LAM_STABILITY_OFF || dim == 0) return 0;
     double *vec = lam_malloc(dim * sizeof *vec);
     for (;;) {
         lam_eigen_result hr;
@@ -680,25 +699,30 @@ static void ensure_stable(scf_state *w, const lam_scf_options *o, int nelec,
             break;
         }
         /* a negative Rayleigh quotient proves the instability, converged or not */
-        if (o->stability == LAM_STABILITY_CHECK)
-            lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                        "the RHF solution (%.12f Eh) is unstable: the orbital Hessian has the "
-                        "eigenvalue %.6e Eh; --stability follow goes on to a lower solution",
-                        r->energy, hr.value);
-        if (s->instabilities_followed == o->max_follow)
-            lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                        "the RHF solution (%.12f Eh) is still unstable after %d instabilities "
-                        "were followed (orbital Hessian eigenvalue %.6e Eh)",
-                        r->energy, o->max_follow, hr.value);
+        status = -1;
+        if (o->stability == LAM_STABILITY_CHECK) {
+            snprintf(why, why_size, "the RHF solution (%.12f Eh) is unstable: the orbital "
+                     "Hessian has the eigenvalue %.6e Eh; --stability follow goes on to a "
+                     "lower solution", r->energy, hr.value);
+            break;
+        }
+        if (s->instabilities_followed == o->max_follow) {
+            snprintf(why, why_size, "the RHF solution (%.12f Eh) is still unstable after %d "
+                     "instabilities were followed (orbital Hessian eigenvalue %.6e Eh)",
+                     r->energy, o->max_follow, hr.value);
+            break;
+        }
         double e_unstable = r->energy;
         scf_outcome next = follow_instability(w, o, nelec, vec, e_unstable);
-        if (!next.converged || next.energy > e_unstable)
-            lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                        "the RHF solution (%.12f Eh) is unstable (orbital Hessian eigenvalue "
-                        "%.6e Eh), and no lower solution was reached along it (%s)",
-                        e_unstable, hr.value,
-                        next.iterations == 0 ? "no lower determinant on the way"
-                                             : "the iterations did not converge");
+        if (!next.converged || next.energy > e_unstable) {
+            snprintf(why, why_size, "the RHF solution (%.12f Eh) is unstable (orbital Hessian "
+                     "eigenvalue %.6e Eh), and no lower solution was reached along it (%s)",
+                     e_unstable, hr.value,
+                     next.iterations == 0 ? "no lower determinant on the way"
+                                          : "the iterations did not converge");
+            break;
+        }
+        status = 0;
         if (o->report)
             fprintf(stderr, "%s: instability followed from %.12f Eh down to %.12f Eh\n",
                     lam_program(), e_unstable, next.energy);
@@ -713,6 +737,7 @@ static void ensure_stable(scf_state *w, const lam_scf_options *o, int nelec,
         s->instabilities_followed++;
     }
     free(vec);
+    return status;
 }
 
 /* One-electron matrices: overlap and core Hamiltonian. */
@@ -845,9 +870,12 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
     scf_state_init(&w, n, m, s->hcore, s->pk, ovl, x, s->e_nuc);
     scf_outcome r = scf_iterate(&w, o, nelec, 0, guess ? FROM_DENSITY : FROM_CORE, guess,
                                 o->report);
+    char unstable[320] = "";
+    int stable = 0;
     if (r.converged) {
-        ensure_stable(&w, o, nelec, &r, s, mol);
+        stable = ensure_stable(&w, o, nelec, &r, s, unstable, sizeof unstable);
         align_degenerate(n, m, nelec / 2, w.eps, w.c);
+        fix_signs(n, m, w.c);
     }
     s->seconds_iterations = lam_seconds() - t0;
     s->energy = r.energy;
@@ -865,6 +893,10 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
                     "RHF did not converge in %d iterations (last energy change "
                     "%.2e Eh, gradient %.2e); try --max-iter or looser --energy-tol/--gradient-tol",
                     o->max_iter, fabs(r.change), r.gradient);
+    }
+    if (stable != 0) {
+        lam_scf_free(s);
+        lam_fail_at(LAM_EX_DATA, mol->source, 0, "%s", unstable);
     }
     return s;
 }
