@@ -47,6 +47,7 @@ static char *read_line(text_in *in)
 
 typedef struct {
     long norb, nelec, ms2, isym;
+    long first_line, nelec_line, ms2_line;
     int have_norb, have_nelec;
     long *orbsym;
     size_t norbsym, orbsym_cap;
@@ -102,8 +103,8 @@ static void take_value(text_in *in, header *h, const char *key, const char *tok)
     }
     if (repeat != 1) goto bad;
     if (strcmp(key, "NORB") == 0) h->norb = v, h->have_norb = 1;
-    else if (strcmp(key, "NELEC") == 0) h->nelec = v, h->have_nelec = 1;
-    else if (strcmp(key, "MS2") == 0) h->ms2 = v;
+    else if (strcmp(key, "NELEC") == 0) h->nelec = v, h->have_nelec = 1, h->nelec_line = in->line;
+    else if (strcmp(key, "MS2") == 0) h->ms2 = v, h->ms2_line = in->line;
     else h->isym = v;
     return;
 bad:
@@ -129,6 +130,7 @@ static int header_line(text_in *in, header *h, char *s, char *key, int *started)
                 lam_fail_at(LAM_EX_DATA, in->name, in->line,
                             "FCIDUMP header must start with '&FCI', found '%s'", tok);
             *started = 1;
+            h->first_line = in->line;
             continue;
         }
         if (strncmp(tok, "&FCI", 4) == 0 && tok[4]) tok += 4;
@@ -174,6 +176,16 @@ static void read_header(text_in *in, header *h)
         lam_fail_at(LAM_EX_DATA, in->name, in->line, "FCIDUMP header needs NELEC between 0 and 2*NORB");
     if (h->uhf)
         lam_fail_at(LAM_EX_DATA, in->name, in->line, "spin-unrestricted (UHF) integrals are not supported");
+    if (!h->ms2_line) h->ms2_line = h->first_line;
+    if ((h->nelec + h->ms2) % 2 != 0)
+        lam_fail_at(LAM_EX_DATA, in->name, h->ms2_line > h->nelec_line ? h->ms2_line : h->nelec_line,
+                    "NELEC=%ld and MS2=%ld differ in parity (an electron count and twice "
+                    "its spin projection are both even or both odd)", h->nelec, h->ms2);
+    long most = h->nelec < 2 * h->norb - h->nelec ? h->nelec : 2 * h->norb - h->nelec;
+    if (labs(h->ms2) > most)
+        lam_fail_at(LAM_EX_DATA, in->name, h->ms2_line,
+                    "MS2=%ld is impossible for NELEC=%ld in NORB=%ld orbitals (|MS2| <= %ld)",
+                    h->ms2, h->nelec, h->norb, most);
     if (h->norbsym && h->norbsym != (size_t)h->norb)
         lam_fail_at(LAM_EX_DATA, in->name, in->line, "ORBSYM has %zu entries for NORB=%ld", h->norbsym, h->norb);
 }
@@ -205,7 +217,8 @@ static void check_repeat(text_in *in, long *seen, size_t slot, double old, doubl
                     what, v, old, seen[slot]);
 }
 
-static void read_integral_line(text_in *in, lam_fcidump *fd, char *s, long *seen2, long *seen1, long *seen0)
+static void read_integral_line(text_in *in, lam_fcidump *fd, char *s, long *seen2, long *seen1,
+                               long *seen0, char *named)
 {
     char *tok[6];
     int nt = 0;
@@ -226,6 +239,8 @@ static void read_integral_line(text_in *in, lam_fcidump *fd, char *s, long *seen
     lam_spinfree *sf = fd->op;
     int i = (int)idx[0] - 1, j = (int)idx[1] - 1, k = (int)idx[2] - 1, l = (int)idx[3] - 1;
     char what[96];
+    for (int a = 0; a < 4; ++a)
+        if (idx[a] > 0) named[idx[a] - 1] = 1;
     if (i >= 0 && j >= 0 && k >= 0 && l >= 0) {
         snprintf(what, sizeof what, "(%d %d|%d %d)", i + 1, j + 1, k + 1, l + 1);
         size_t slot = pair_index((int)pair_index(i, j), (int)pair_index(k, l));
@@ -270,8 +285,21 @@ lam_fcidump *lam_fcidump_read(const char *path)
     long *seen2 = lam_calloc(npair * (npair + 1) / 2, sizeof(long));
     long *seen1 = lam_calloc(npair, sizeof(long));
     long seen0 = 0;
+    char *named = lam_calloc((size_t)fd->norb, 1);
     char *s;
-    while ((s = read_line(&in)) != NULL) read_integral_line(&in, fd, s, seen2, seen1, &seen0);
+    while ((s = read_line(&in)) != NULL) read_integral_line(&in, fd, s, seen2, seen1, &seen0, named);
+    for (int p = 0; p < fd->norb; ++p) fd->idle_orbitals += !named[p];
+    fd->has_constant = seen0 != 0;
+    fd->source = lam_strdup(in.name);
+    fd->ms2_line = h.ms2_line;
+    if (fd->idle_orbitals)
+        lam_warn("%s: warning: NORB=%d, but no integral line names %d of the orbitals (all "
+                 "their integrals are zero)", in.name, fd->norb, fd->idle_orbitals);
+    if (!fd->has_constant)
+        lam_warn("%s:%ld: warning: no constant line (0 0 0 0): the constant is taken as 0; "
+                 "complete files end with it, so the file may have been cut short",
+                 in.name, in.line);
+    free(named);
     free(seen2);
     free(seen1);
     free(in.buf);
@@ -284,6 +312,7 @@ void lam_fcidump_free(lam_fcidump *fd)
     if (!fd) return;
     lam_spinfree_free(fd->op);
     free(fd->orbsym);
+    free(fd->source);
     free(fd);
 }
 

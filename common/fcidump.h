@@ -19,10 +19,19 @@ typedef struct {
     int norb, nelec, ms2, isym;
     int *orbsym;        /* norb entries, 1 when absent */
     long orbital_energy_lines;
+    char *source;       /* file name for messages ("<stdin>") */
+    long ms2_line;      /* header line of MS2 (of &FCI when absent) */
+    int idle_orbitals;  /* orbitals no integral line names */
+    int has_constant;   /* a "0 0 0 0" line was read */
 } lam_fcidump;
 
 /* Read path (NULL or "-" for stdin, gzip allowed).  exit 66 when it cannot
- * be opened, exit 65 with file:line for anything malformed. */
+ * be opened, exit 65 with file:line for anything malformed, including
+ * NELEC and MS2 of different parity or |MS2| above what NELEC electrons in
+ * NORB orbitals allow.  Warnings on stderr (not errors: the file can be
+ * right) for orbitals that no integral line names and for a missing
+ * constant line (the last line of a complete file; without it a file cut
+ * at a line boundary would pass for a complete one). */
 lam_fcidump *lam_fcidump_read(const char *path);
 void lam_fcidump_free(lam_fcidump *fd);
 /* Write header and the unique integrals with |value| > tol (tol = 0 writes

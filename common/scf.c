@@ -8,18 +8,21 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "eigen.h"
 #include "integrals.h"
 #include "util.h"
 
 void lam_scf_options_default(lam_scf_options *o)
 {
     o->max_iter = 100;
-    o->e_conv = 1e-10;
-    o->d_conv = 1e-8;
-    o->diis_size = 8;
+    o->energy_tol = 1e-10;
+    o->gradient_tol = 1e-8;
+    o->diis_depth = 8;
     o->schwarz = 1e-12;
     o->s_tol = 1e-7;
-    o->guess = LAM_GUESS_SAD;
+    o->start = LAM_START_ATOMS;
+    o->stability = LAM_STABILITY_FOLLOW;
+    o->max_follow = 4;
     o->report = 0;
 }
 
@@ -101,7 +104,8 @@ static double *pk_supermatrix(int n, const double *eri)
     return pk;
 }
 
-/* f = h + G(d) for a total density d (nbf x nbf). */
+/* f = h + G(d) = h + J(d) - K(d)/2 for a symmetric d (nbf x nbf, lower
+ * triangle read); h NULL gives G(d) alone. */
 static void fock_build(int n, const double *pk, const double *h, const double *d,
                        double *f, double *packed_d, double *packed_g)
 {
@@ -114,7 +118,7 @@ static void fock_build(int n, const double *pk, const double *h, const double *d
     for (int i = 0; i < n; ++i)
         for (int j = 0; j <= i; ++j)
             f[(size_t)i * n + j] = f[(size_t)j * n + i] =
-                h[(size_t)i * n + j] + packed_g[LAM_PAIR(i, j)];
+                (h ? h[(size_t)i * n + j] : 0.0) + packed_g[LAM_PAIR(i, j)];
 }
 
 /* d = scale C C^T over the first `used` columns of c (n x m). */
@@ -310,20 +314,53 @@ typedef struct {
     int iterations, converged;
 } scf_outcome;
 
-/* Roothaan-Hall iterations with DIIS from the core Hamiltonian or from
- * the Fock matrix of a guessed density.  On convergence c and eps are the
- * canonical orbitals of the converged Fock matrix. */
+/* Canonical orbitals of the determinant in w->c (occupied: the first
+ * nocc columns): the Fock matrix w->f diagonalized within the occupied and
+ * within the virtual orbitals separately.  At convergence this is the
+ * diagonalization of the whole Fock matrix, except that a degeneracy
+ * across the Fermi level cannot swap an occupied orbital for a virtual one
+ * (H2 at 20 angstrom: sigma_g and sigma_u have the same energy). */
+static void canonicalize(scf_state *w, int nocc)
+{
+    int n = w->n, m = w->m;
+    double *fc = w->work; /* n x m */
+    double *blk = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *blk);
+    double *cnew = lam_malloc(lam_mul_size((size_t)n, (size_t)m) * sizeof *cnew);
+    mat_nn(n, m, n, w->f, w->c, fc);
+    int first[2] = {0, nocc}, count[2] = {nocc, m - nocc};
+    for (int b = 0; b < 2; ++b) {
+        int f0 = first[b], k = count[b];
+        if (k == 0) continue;
+        cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, k, k, n, 1.0, w->c + f0, m,
+                    fc + f0, m, 0.0, blk, k);
+        lam_symmetric_eigen(k, blk, w->eps + f0);
+        cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, k, k, 1.0, w->c + f0, m,
+                    blk, k, 0.0, cnew + f0, m);
+    }
+    memcpy(w->c, cnew, (size_t)n * m * sizeof *cnew);
+    free(blk);
+    free(cnew);
+}
+
+/* Where the iterations start: the core Hamiltonian, the Fock matrix of a
+ * guessed density, or the orbitals already in w->c. */
+typedef enum { FROM_CORE, FROM_DENSITY, FROM_ORBITALS } scf_start;
+
+/* Roothaan-Hall iterations with DIIS.  On convergence c and eps are the
+ * canonical orbitals of the converged Fock matrix (for a closed shell,
+ * canonical within the occupied and the virtual orbitals). */
 static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double electrons,
-                               int fractional, const double *d_guess, int report)
+                               int fractional, scf_start from, const double *d_guess,
+                               int report)
 {
     int n = w->n, m = w->m;
     scf_outcome out = {0.0, 0.0, 0.0, 0, 0};
     diis_store diis;
-    diis_init(&diis, o->diis_size > 8 ? 8 : o->diis_size, w->nn, (size_t)m * m);
-    if (d_guess) {
+    diis_init(&diis, o->diis_depth > 8 ? 8 : o->diis_depth, w->nn, (size_t)m * m);
+    if (from == FROM_DENSITY) {
         fock_build(n, w->pk, w->h, d_guess, w->f, w->pd, w->pg);
         roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
-    } else {
+    } else if (from == FROM_CORE) {
         roothaan_step(n, m, w->x, w->h, w->c, w->eps, w->work);
     }
     if (report)
@@ -341,7 +378,11 @@ static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double el
         if (report)
             fprintf(stderr, "%s: %4d  %.15f  %10.3e  %.3e\n", lam_program(), it, e,
                     it == 1 ? 0.0 : out.change, out.gradient);
-        if (it > 1 && fabs(out.change) < o->e_conv && out.gradient < o->d_conv) {
+        /* given orbitals that are already stationary are kept as they
+         * are: a diagonalization could swap degenerate orbitals across
+         * the Fermi level */
+        int settled = it > 1 ? fabs(out.change) < o->energy_tol : from == FROM_ORBITALS;
+        if (settled && out.gradient < o->gradient_tol) {
             out.converged = 1;
             break;
         }
@@ -351,9 +392,352 @@ static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double el
     }
     out.iterations = it;
     /* canonical orbitals of the converged (not extrapolated) Fock matrix */
-    if (out.converged) roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+    if (out.converged) {
+        if (fractional)
+            roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+        else
+            canonicalize(w, (int)(electrons / 2));
+    }
     diis_free(&diis);
     return out;
+}
+
+/* Sum over basis functions of the fourth powers of orbital columns k and
+ * l of c (n x m) turned by theta. */
+static double quartic_spread(int n, int m, const double *c, int k, int l, double theta)
+{
+    double cs = cos(theta), sn = sin(theta), f = 0.0;
+    for (int i = 0; i < n; ++i) {
+        double a = c[(size_t)i * m + k], b = c[(size_t)i * m + l];
+        double u = cs * a + sn * b, v = -sn * a + cs * b;
+        f += u * u * u * u + v * v * v * v;
+    }
+    return f;
+}
+
+#define DEGENERATE_EPS 1e-7
+
+/* Orbitals of one energy (within DEGENERATE_EPS Eh) are an arbitrary
+ * rotation of each other after a diagonalization; integrals that vanish
+ * by symmetry in the symmetry-adapted choice (pi_x, pi_y of N2) do not in
+ * a rotated one.  Within each degenerate set, Jacobi rotations maximize
+ * the sum of fourth powers of the coefficients over the basis functions,
+ * which turns the set onto the Cartesian axes when the molecule's
+ * symmetry elements lie along them.  The sum is c0 + A cos 4t + B sin 4t
+ * for a pair, so three values give its maximum.  Sets never straddle the
+ * first `nocc` orbitals (occupied and virtual stay apart). */
+static void align_degenerate(int n, int m, int nocc, const double *eps, double *c)
+{
+    for (int first = 0; first < m;) {
+        int end = first + 1;
+        while (end < m && end != nocc && eps[end] - eps[first] < DEGENERATE_EPS) ++end;
+        for (int sweep = 0; sweep < 8 && end - first > 1; ++sweep) {
+            double gain = 0.0;
+            for (int k = first; k < end; ++k)
+                for (int l = k + 1; l < end; ++l) {
+                    double f0 = quartic_spread(n, m, c, k, l, 0.0);
+                    double f8 = quartic_spread(n, m, c, k, l, 0.125 * acos(-1.0));
+                    double f4 = quartic_spread(n, m, c, k, l, 0.25 * acos(-1.0));
+                    double c0 = 0.5 * (f0 + f4), a = 0.5 * (f0 - f4), b = f8 - c0;
+                    double theta = 0.25 * atan2(b, a), best = c0 + sqrt(a * a + b * b);
+                    if (best - f0 <= 1e-14 * (1.0 + f0)) continue;
+                    gain += best - f0;
+                    double cs = cos(theta), sn = sin(theta);
+                    for (int i = 0; i < n; ++i) {
+                        double *row = c + (size_t)i * m, x = row[k], y = row[l];
+                        row[k] = cs * x + sn * y;
+                        row[l] = -sn * x + cs * y;
+                    }
+                }
+            if (gain < 1e-12) break;
+        }
+        first = end;
+    }
+}
+
+/* Each orbital's sign is arbitrary, and BLAS kernels (which differ by
+ * processor, or under valgrind) choose differently; integrals with an odd
+ * count of one orbital change sign with it.  Fixed here: the first
+ * coefficient within 1e-6 of the largest magnitude is positive, so that
+ * the same input gives the same FCIDUMP everywhere (to rounding). */
+static void fix_signs(int n, int m, double *c)
+{
+    for (int k = 0; k < m; ++k) {
+        double mx = 0.0;
+        for (int i = 0; i < n; ++i) mx = fmax(mx, fabs(c[(size_t)i * m + k]));
+        int i = 0;
+        while (i < n - 1 && fabs(c[(size_t)i * m + k]) < mx * (1.0 - 1e-6)) ++i;
+        if (c[(size_t)i * m + k] < 0)
+            for (int r = 0; r < n; ++r) c[(size_t)r * m + k] = -c[(size_t)r * m + k];
+    }
+}
+
+/* Energy of the closed-shell determinant of the first electrons/2
+ * orbitals in w->c; leaves its density and Fock matrix in w->d, w->f. */
+static double determinant_energy(scf_state *w, double electrons)
+{
+    occupations(w, electrons, 0);
+    occupied_density(w);
+    fock_build(w->n, w->pk, w->h, w->d, w->f, w->pd, w->pg);
+    return 0.5 * (trace_product(w->nn, w->d, w->h) + trace_product(w->nn, w->d, w->f)) +
+           w->e_nuc;
+}
+
+/* ---- stability of the RHF solution ----
+ *
+ * Real RHF -> real RHF (singlet, internal) stability: the solution is a
+ * minimum when the orbital Hessian for real rotations between occupied
+ * orbitals i, j and virtual orbitals a, b,
+ *     (A+B)_{ai,bj} = (e_a - e_i) d_ab d_ij + 4 (ai|bj) - (ab|ij) - (aj|bi),
+ * has no negative eigenvalue (R. Seeger and J. A. Pople, J. Chem. Phys.
+ * 66, 3045 (1977); from memory).  Its product with a rotation X (nv x no)
+ * needs one Fock-like build: with D = C_v X C_o^T and Ds = D + D^T,
+ *     [(A+B) X]_ai = (e_a - e_i) X_ai + 2 [C_v^T G(Ds) C_o]_ai,
+ * G = J - K/2 from the PK supermatrix.  The lowest eigenvalue comes from
+ * Davidson's method (common/eigen.h). */
+
+typedef struct {
+    const scf_state *w;
+    int nocc, nvir;
+    const double *u;          /* unit vector of a Householder reflection, or NULL */
+    double *x, *t, *d, *g;    /* work: dim, n x nocc, n x n, n x n */
+    double *pd, *pg;          /* packed work of the G build */
+} hessian_op;
+
+/* y = (1 - 2 u u^T) x; y may be x. */
+static void reflect(size_t dim, const double *u, const double *x, double *y)
+{
+    double s = 2.0 * cblas_ddot((int)dim, u, 1, x, 1);
+    if (y != x) memcpy(y, x, dim * sizeof *y);
+    cblas_daxpy((int)dim, -s, u, 1, y, 1);
+}
+
+static void hessian_apply(void *ctx, const double *xin, double *y)
+{
+    hessian_op *h = ctx;
+    const scf_state *w = h->w;
+    int n = w->n, m = w->m, no = h->nocc, nv = h->nvir;
+    size_t dim = (size_t)no * nv;
+    const double *x = xin;
+    if (h->u) {
+        reflect(dim, h->u, xin, h->x);
+        x = h->x;
+    }
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, no, nv, 1.0, w->c + no, m, x,
+                no, 0.0, h->t, no);
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, no, 1.0, h->t, no, w->c, m,
+                0.0, h->d, n);
+    for (int i = 0; i < n; ++i)
+        for (int j = 0; j <= i; ++j)
+            h->d[(size_t)i * n + j] = h->d[(size_t)j * n + i] =
+                h->d[(size_t)i * n + j] + h->d[(size_t)j * n + i];
+    fock_build(n, w->pk, NULL, h->d, h->g, h->pd, h->pg);
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, no, n, 1.0, h->g, n, w->c, m,
+                0.0, h->t, no);
+    cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, nv, no, n, 2.0, w->c + no, m, h->t,
+                no, 0.0, y, no);
+    for (int a = 0; a < nv; ++a)
+        for (int i = 0; i < no; ++i)
+            y[(size_t)a * no + i] += (w->eps[no + a] - w->eps[i]) * x[(size_t)a * no + i];
+    if (h->u) reflect(dim, h->u, y, y);
+}
+
+/* Lowest eigenvalue of (A+B) for the solution in w (nocc occupied
+ * orbitals) and its unit eigenvector (nv x no) in vec.  Davidson starts
+ * from one excitation and, with a diagonal preconditioner, would never
+ * leave its symmetry species; the reflection mixes every species into the
+ * start (the dense path, for small problems, needs none). */
+static void hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_result *res)
+{
+    int n = w->n, nv = w->m - nocc;
+    size_t dim = (size_t)nocc * nv, nn = (size_t)n * n, n2 = (size_t)n * (n + 1) / 2;
+    hessian_op h = {w, nocc, nv, NULL, NULL, NULL, NULL, NULL, NULL, NULL};
+    h.x = lam_malloc(dim * sizeof *h.x);
+    h.t = lam_malloc(lam_mul_size((size_t)n, (size_t)nocc) * sizeof *h.t);
+    h.d = lam_malloc(nn * sizeof *h.d);
+    h.g = lam_malloc(nn * sizeof *h.g);
+    h.pd = lam_malloc(n2 * sizeof *h.pd);
+    h.pg = lam_malloc(n2 * sizeof *h.pg);
+    double *diag = lam_malloc(dim * sizeof *diag), *u = NULL;
+    for (int a = 0; a < nv; ++a)
+        for (int i = 0; i < nocc; ++i) diag[(size_t)a * nocc + i] = w->eps[nocc + a] - w->eps[i];
+    lam_eigen_problem p;
+    lam_eigen_defaults(&p);
+    p.dim = dim;
+    p.apply = hessian_apply;
+    p.ctx = &h;
+    p.diag = diag;
+    p.tol = 1e-7;
+    p.max_iter = 300;
+    p.max_subspace = 16;
+    p.dense_limit = 200;
+    p.label = "stability test";
+    if (dim > p.dense_limit) {
+        /* any fixed vector with no zero and no symmetry pattern */
+        u = lam_malloc(dim * sizeof *u);
+        for (size_t k = 0; k < dim; ++k) u[k] = 1.0 + 0.5 * sin(12.9898 * (double)(k + 1));
+        cblas_dscal((int)dim, 1.0 / cblas_dnrm2((int)dim, u, 1), u, 1);
+        h.u = u;
+    }
+    lam_eigen_extreme(&p, res, vec);
+    if (u) reflect(dim, u, vec, vec);
+    free(u);
+    free(diag);
+    free(h.x);
+    free(h.t);
+    free(h.d);
+    free(h.g);
+    free(h.pd);
+    free(h.pg);
+}
+
+/* b (n x k, leading dimension ld) <- b m^(-1/2) for a symmetric positive
+ * definite k x k matrix m (destroyed). */
+static void times_inverse_sqrt(int n, int k, int ld, double *b, double *m)
+{
+    double *mu = lam_malloc((size_t)k * sizeof *mu);
+    double *r = lam_malloc(lam_mul_size((size_t)k, (size_t)k) * sizeof *r);
+    double *t = lam_malloc(lam_mul_size((size_t)n, (size_t)k) * sizeof *t);
+    lam_symmetric_eigen(k, m, mu);
+    for (int i = 0; i < k; ++i)
+        for (int j = 0; j < k; ++j) {
+            double v = 0.0;
+            for (int l = 0; l < k; ++l) v += m[(size_t)i * k + l] * m[(size_t)j * k + l] / sqrt(mu[l]);
+            r[(size_t)i * k + j] = v;
+        }
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, k, k, 1.0, b, ld, r, k, 0.0, t, k);
+    for (int i = 0; i < n; ++i) memcpy(b + (size_t)i * ld, t + (size_t)i * k, (size_t)k * sizeof *t);
+    free(mu);
+    free(r);
+    free(t);
+}
+
+/* Orbitals c (n x m, the first nocc occupied) turned by the rotation
+ * whose virtual-occupied block is tan * x (nv x no), into out:
+ *     C_o' = (C_o + t C_v X) (1 + t^2 X^T X)^(-1/2),
+ *     C_v' = (C_v - t C_o X^T) (1 + t^2 X X^T)^(-1/2),
+ * orthonormal, and C_o' orthogonal to C_v'. */
+static void rotate_orbitals(int n, int m, int nocc, const double *c, const double *x, double t,
+                            double *out)
+{
+    int nv = m - nocc;
+    memcpy(out, c, (size_t)n * m * sizeof *out);
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, nocc, nv, t, c + nocc, m, x, nocc,
+                1.0, out, m);
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, nv, nocc, -t, c, m, x, nocc, 1.0,
+                out + nocc, m);
+    double *mo = lam_malloc(lam_mul_size((size_t)nocc, (size_t)nocc) * sizeof *mo);
+    double *mv = lam_malloc(lam_mul_size((size_t)nv, (size_t)nv) * sizeof *mv);
+    cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, nocc, nocc, nv, t * t, x, nocc, x, nocc,
+                0.0, mo, nocc);
+    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, nv, nv, nocc, t * t, x, nocc, x, nocc,
+                0.0, mv, nv);
+    for (int i = 0; i < nocc; ++i) mo[(size_t)i * nocc + i] += 1.0;
+    for (int a = 0; a < nv; ++a) mv[(size_t)a * nv + a] += 1.0;
+    times_inverse_sqrt(n, nocc, m, out, mo);
+    times_inverse_sqrt(n, nv, m, out + nocc, mv);
+    free(mo);
+    free(mv);
+}
+
+#define FOLLOW_STEPS 20
+
+/* Leave the unstable solution in w along the eigenvector x of its lowest
+ * Hessian eigenvalue: the lowest determinant of a scan of the rotation
+ * angle over (0, pi/2), then iterations from its orbitals. */
+static scf_outcome follow_instability(scf_state *w, const lam_scf_options *o, int nelec,
+                                      const double *x, double e_unstable)
+{
+    int n = w->n, m = w->m, nocc = nelec / 2;
+    size_t nm = (size_t)n * m;
+    double *c0 = lam_malloc(nm * sizeof *c0), *best = lam_malloc(nm * sizeof *best);
+    memcpy(c0, w->c, nm * sizeof *c0);
+    double e_best = e_unstable, quarter = 0.5 * acos(-1.0);
+    for (int k = 1; k < FOLLOW_STEPS; ++k) {
+        rotate_orbitals(n, m, nocc, c0, x, tan(quarter * k / FOLLOW_STEPS), w->c);
+        double e = determinant_energy(w, nelec);
+        if (e < e_best) {
+            e_best = e;
+            memcpy(best, w->c, nm * sizeof *best);
+        }
+    }
+    scf_outcome r = {e_unstable, 0.0, 0.0, 0, 0};
+    if (e_best < e_unstable) {
+        memcpy(w->c, best, nm * sizeof *best);
+        r = scf_iterate(w, o, nelec, 0, FROM_ORBITALS, NULL, o->report);
+    }
+    free(c0);
+    free(best);
+    return r;
+}
+
+/* The stability test on the converged solution in w, and with
+ * LAM_STABILITY_FOLLOW the way down from each instability found.  Returns
+ * 0, or -1 with the reason in why (the caller frees and fails: what it
+ * holds must not count as leaked). */
+static int ensure_stable(scf_state *w, const lam_scf_options *o, int nelec, scf_outcome *r,
+                         lam_scf *s, char *why, size_t why_size)
+{
+    int nocc = nelec / 2, status = 0;
+    size_t dim = (size_t)nocc * (w->m - nocc);
+    s->hessian_lowest = s->hessian_residual = NAN;
+    if (o->stability == LAM_STABILITY_OFF || dim == 0) return 0;
+    double *vec = lam_malloc(dim * sizeof *vec);
+    for (;;) {
+        lam_eigen_result hr;
+        hessian_lowest(w, nocc, vec, &hr);
+        s->hessian_lowest = hr.value;
+        s->hessian_residual = hr.residual;
+        if (o->report)
+            fprintf(stderr, "%s: stability test: lowest orbital Hessian eigenvalue %.6e Eh "
+                    "(residual %.1e)\n", lam_program(), hr.value, hr.residual);
+        if (hr.value >= -LAM_STABILITY_TOL) {
+            if (!hr.converged)
+                lam_warn("warning: stability test not converged (lowest orbital Hessian "
+                         "eigenvalue %.3e Eh, residual %.1e): the solution may be unstable",
+                         hr.value, hr.residual);
+            break;
+        }
+        /* a negative Rayleigh quotient proves the instability, converged or not */
+        status = -1;
+        if (o->stability == LAM_STABILITY_CHECK) {
+            snprintf(why, why_size, "the RHF solution (%.12f Eh) is unstable: the orbital "
+                     "Hessian has the eigenvalue %.6e Eh; --stability follow goes on to a "
+                     "lower solution", r->energy, hr.value);
+            break;
+        }
+        if (s->instabilities_followed == o->max_follow) {
+            snprintf(why, why_size, "the RHF solution (%.12f Eh) is still unstable after %d "
+                     "instabilities were followed (orbital Hessian eigenvalue %.6e Eh)",
+                     r->energy, o->max_follow, hr.value);
+            break;
+        }
+        double e_unstable = r->energy;
+        scf_outcome next = follow_instability(w, o, nelec, vec, e_unstable);
+        if (!next.converged || next.energy > e_unstable) {
+            snprintf(why, why_size, "the RHF solution (%.12f Eh) is unstable (orbital Hessian "
+                     "eigenvalue %.6e Eh), and no lower solution was reached along it (%s)",
+                     e_unstable, hr.value,
+                     next.iterations == 0 ? "no lower determinant on the way"
+                                          : "the iterations did not converge");
+            break;
+        }
+        status = 0;
+        if (o->report)
+            fprintf(stderr, "%s: instability followed from %.12f Eh down to %.12f Eh\n",
+                    lam_program(), e_unstable, next.energy);
+        if (!s->instabilities_followed) {
+            s->unstable_energy = e_unstable;
+            s->unstable_eigenvalue = hr.value;
+        }
+        r->iterations += next.iterations;
+        r->energy = next.energy;
+        r->change = next.change;
+        r->gradient = next.gradient;
+        s->instabilities_followed++;
+    }
+    free(vec);
+    return status;
 }
 
 /* One-electron matrices: overlap and core Hamiltonian. */
@@ -409,11 +793,11 @@ static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int a
     scf_state w;
     scf_state_init(&w, n, m, h, pk, ovl, x, 0.0);
     lam_scf_options ao = *o;
-    ao.e_conv = 1e-8;
-    ao.d_conv = 1e-5;
+    ao.energy_tol = 1e-8;
+    ao.gradient_tol = 1e-5;
     ao.max_iter = 60;
     /* not converging only makes the guess a little worse */
-    scf_iterate(&w, &ao, mol->z[atom], 1, NULL, 0);
+    scf_iterate(&w, &ao, mol->z[atom], 1, FROM_CORE, NULL, 0);
     double *d = w.d;
     w.d = NULL;
     scf_state_free(&w);
@@ -426,7 +810,8 @@ static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int a
 }
 
 /* Superposition of atomic densities (one atomic calculation per element). */
-static double *sad_guess(const lam_basis *b, const lam_molecule *mol, const lam_scf_options *o)
+static double *atomic_densities(const lam_basis *b, const lam_molecule *mol,
+                                const lam_scf_options *o)
 {
     int n = b->nbf;
     double *d = lam_calloc((size_t)n * n, sizeof *d);
@@ -477,13 +862,21 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
                     "%d electrons do not fit in %d orbitals", nelec, m);
     }
     t0 = lam_seconds();
-    double *guess = o->guess == LAM_GUESS_SAD ? sad_guess(b, mol, o) : NULL;
+    double *guess = o->start == LAM_START_ATOMS ? atomic_densities(b, mol, o) : NULL;
     if (o->report)
         fprintf(stderr, "%s: start from %s\n", lam_program(),
                 guess ? "a superposition of atomic densities" : "the core Hamiltonian");
     scf_state w;
     scf_state_init(&w, n, m, s->hcore, s->pk, ovl, x, s->e_nuc);
-    scf_outcome r = scf_iterate(&w, o, nelec, 0, guess, o->report);
+    scf_outcome r = scf_iterate(&w, o, nelec, 0, guess ? FROM_DENSITY : FROM_CORE, guess,
+                                o->report);
+    char unstable[320] = "";
+    int stable = 0;
+    if (r.converged) {
+        stable = ensure_stable(&w, o, nelec, &r, s, unstable, sizeof unstable);
+        align_degenerate(n, m, nelec / 2, w.eps, w.c);
+        fix_signs(n, m, w.c);
+    }
     s->seconds_iterations = lam_seconds() - t0;
     s->energy = r.energy;
     s->iterations = r.iterations;
@@ -498,8 +891,12 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
         lam_scf_free(s);
         lam_fail_at(LAM_EX_DATA, mol->source, 0,
                     "RHF did not converge in %d iterations (last energy change "
-                    "%.2e Eh, gradient %.2e); try --max-iter or looser --e-conv/--d-conv",
+                    "%.2e Eh, gradient %.2e); try --max-iter or looser --energy-tol/--gradient-tol",
                     o->max_iter, fabs(r.change), r.gradient);
+    }
+    if (stable != 0) {
+        lam_scf_free(s);
+        lam_fail_at(LAM_EX_DATA, mol->source, 0, "%s", unstable);
     }
     return s;
 }
@@ -662,4 +1059,51 @@ lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active)
     free(c);
     free(t);
     return sf;
+}
+
+double lam_scf_integral_scale(const lam_spinfree *sf)
+{
+    size_t n = (size_t)sf->n, n2 = n * n;
+    double mx = 0.0;
+    for (size_t i = 0; i < n2; ++i) mx = fmax(mx, fabs(sf->h[i]));
+    for (size_t i = 0; i < n2 * n2; ++i) mx = fmax(mx, fabs(sf->g[i]));
+    return mx;
+}
+
+/* One unique integral (and its copies) against the cutoff. */
+static void clean_one(double *v, double cutoff, lam_scf_cleaning *c)
+{
+    if (*v == 0.0) return;
+    if (fabs(*v) > cutoff) {
+        ++c->kept;
+        return;
+    }
+    ++c->dropped;
+    c->largest_dropped = fmax(c->largest_dropped, fabs(*v));
+    *v = 0.0;
+}
+
+void lam_scf_clean_integrals(lam_spinfree *sf, double cutoff, lam_scf_cleaning *out)
+{
+    int n = sf->n;
+    memset(out, 0, sizeof *out);
+    out->scale = lam_scf_integral_scale(sf);
+    out->cutoff = cutoff;
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q) {
+            double v = LAM_H(sf, p, q);
+            clean_one(&v, cutoff, out);
+            LAM_H(sf, p, q) = LAM_H(sf, q, p) = v;
+        }
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q)
+            for (int r = 0; r <= p; ++r)
+                for (int t = 0; t <= (r == p ? q : r); ++t) {
+                    double v = LAM_G(sf, p, q, r, t);
+                    clean_one(&v, cutoff, out);
+                    if (v != 0.0) continue;
+                    int a[8][4] = {{p, q, r, t}, {q, p, r, t}, {p, q, t, r}, {q, p, t, r},
+                                   {r, t, p, q}, {t, r, p, q}, {r, t, q, p}, {t, r, q, p}};
+                    for (int k = 0; k < 8; ++k) LAM_G(sf, a[k][0], a[k][1], a[k][2], a[k][3]) = 0.0;
+                }
 }

@@ -17,8 +17,10 @@ is "$(gzip -dc "$TMP/out.gz" | grep -v history)" "$(lam lam-ints "$SZ" | grep -v
 runlam_in "$(cat "$SZ")" lam-ints
 is "$RC" 0 "reads stdin"
 
-runlam lam-ints --electrons 1 "$SZ"
-like "$OUT" '#% electrons: 1' "--electrons overrides NELEC"
+runlam lam-ints --electrons 4 "$SZ"
+like "$OUT" '#% electrons: 4' "--electrons overrides NELEC"
+runlam lam-ints -n 0 "$SZ"
+like "$OUT" '#% electrons: 0' "-n is --electrons"
 runlam lam-ints --electrons 5 "$SZ"
 is "$RC" 64 "--electrons beyond 2 x orbitals: exit 64"
 
@@ -73,6 +75,43 @@ runlam lam-ints "$TMP/does-not-exist"
 is "$RC" 66 "missing file: exit 66"
 runlam lam-ints --bogus
 is "$RC" 64 "unknown option: exit 64"
+is "$ERR" "lam-ints: unknown option '--bogus'
+Try 'lam-ints --help'." "unknown option: one message"
+runlam lam-ints -e 2 "$SZ"
+is "$RC" 64 "-e is not an option of lam-ints (the suite's -e is --encoding)"
+runlam lam-ints --electrons
+like "$ERR" "option '--electrons' needs a value" "missing value: one message"
+
+# FCIDUMP consistency (issue 15): parity of NELEC and MS2 is an error naming the line
+printf '&FCI NORB=2,NELEC=2,\n MS2=1,\n&END\n0.5 1 1 1 1\n0.1 0 0 0 0\n' > "$TMP/parity.fd"
+runlam lam-ints "$TMP/parity.fd"
+is "$RC" 65 "NELEC=2 with MS2=1: exit 65"
+like "$ERR" "parity.fd:2: NELEC=2 and MS2=1 differ in parity" "parity: names the MS2 line"
+is "$OUT" "" "parity: nothing on stdout"
+printf '&FCI NORB=2,NELEC=3,MS2=1,&END\n0.5 1 1 1 1\n0.1 0 0 0 0\n' > "$TMP/odd.fd"
+runlam lam-ints "$TMP/odd.fd"
+is "$RC" 0 "NELEC=3 with MS2=1: accepted"
+runlam lam-ints --electrons 2 "$TMP/odd.fd"
+is "$RC" 65 "--electrons 2 against MS2=1: exit 65"
+like "$ERR" "odd.fd:1: --electrons 2 and MS2=1 differ in parity" "--electrons against MS2: names the line"
+printf '&FCI NORB=2,NELEC=2,MS2=4,&END\n0.5 1 1 1 1\n0.1 0 0 0 0\n' > "$TMP/ms2.fd"
+runlam lam-ints "$TMP/ms2.fd"
+is "$RC" 65 "MS2=4 with 2 electrons: exit 65"
+like "$ERR" "ms2.fd:1: MS2=4 is impossible for NELEC=2" "impossible MS2: the reason"
+
+# NORB above the orbitals that have integrals: a warning with the count
+printf '&FCI NORB=5,NELEC=2,MS2=0,&END\n0.5 1 1 1 1\n-1.2 1 1 0 0\n-0.4 2 2 0 0\n0.1 0 0 0 0\n' > "$TMP/idle.fd"
+runlam lam-ints "$TMP/idle.fd"
+is "$RC" 0 "NORB=5, integrals on 2 orbitals: exit 0"
+like "$ERR" "idle.fd: warning: NORB=5, but no integral line names 3 of the orbitals" "idle orbitals: warning says how many"
+runlam lam-ints "$SZ"
+is "$ERR" "" "complete file: no warning"
+
+# a file cut at a line boundary: the constant (last line) is missing
+head -n -1 "$SZ" > "$TMP/cut.fd"
+runlam lam-ints "$TMP/cut.fd"
+is "$RC" 0 "file without its constant line: exit 0 (the format allows it)"
+like "$ERR" "cut.fd:[0-9]+: warning: no constant line .0 0 0 0." "missing constant: warning"
 runlam lam-ints "$SZ" "$SZ"
 is "$RC" 64 "two inputs: exit 64"
 runlam lam-ints -o /nonexistent/dir/x "$SZ"

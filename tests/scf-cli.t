@@ -6,9 +6,11 @@
 #   h22 -0.4756, (11|11) 0.6746, (11|22) 0.6636, (12|12) 0.1813,
 #   (22|22) 0.6975, orbital energies -0.5782 and 0.6703, E_HF -1.1167 Eh;
 #   compared to 4 decimals.
-# - Water, STO-3G, bohr geometry of T. D. Crawford's programming projects
-#   3 and 4 (from memory, /work/shared/reference/facts.md): E_nuc
-#   8.002367061810450, E_SCF -74.942079928192 Eh.
+# - Water, STO-3G, in the bohr geometry published with T. D. Crawford's
+#   "Programming Projects" (CrawfordGroup/ProgrammingProjects, Project #3,
+#   the Hartree-Fock SCF method: input geom.dat and its reference output;
+#   from memory): E_nuc 8.002367061810450, E_SCF -74.942079928192 Eh.  A
+#   published value, so this test keeps that published geometry.
 # - FCIDUMP header layout (Knowles and Handy 1989; common practice).
 source "$(dirname "$0")/lib/tap.sh"
 
@@ -59,31 +61,36 @@ near "$(integral 1 1 2 2 <"$TMP/h2.fcidump")" 0.6636 5e-5 "H2: (11|22) = 0.6636 
 near "$(integral 1 2 1 2 <"$TMP/h2.fcidump")" 0.1813 5e-5 "H2: (12|12) = 0.1813 (Szabo-Ostlund)"
 near "$(integral 2 2 2 2 <"$TMP/h2.fcidump")" 0.6975 5e-5 "H2: (22|22) = 0.6975 (Szabo-Ostlund)"
 near "$(integral 0 0 0 0 <"$TMP/h2.fcidump")" 0.7143 5e-5 "H2: constant 1/R = 0.7143 (Szabo-Ostlund)"
-runlam lam-scf --quiet --bohr --energy "$TMP/h2.xyz"
+runlam lam-scf --quiet --bohr --energy-only "$TMP/h2.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -1.1167 5e-5 "H2: E_HF = -1.1167 Eh (Szabo-Ostlund)"
 near "$(report_get homo <<<"$OUT")" -0.5782 5e-5 "H2: orbital energy -0.5782 (Szabo-Ostlund)"
 near "$(report_get lumo <<<"$OUT")" 0.6703 5e-5 "H2: orbital energy 0.6703 (Szabo-Ostlund)"
+# the one orbital-Hessian element of minimal-basis H2 (Seeger and Pople
+# 1977, from memory): (A+B) = e2 - e1 + 4 (12|12) - (11|22) - (12|21)
+# = 0.6703 + 0.5782 + 3 x 0.1813 - 0.6636 = 1.1288 from Szabo-Ostlund's numbers
+near "$(report_get stability_eigenvalue <<<"$OUT")" 1.1288 5e-4 "H2: orbital Hessian 1.1288 Eh from Szabo-Ostlund's integrals"
+is "$(report_get instabilities_followed <<<"$OUT")" 0 "H2: stable, nothing followed"
 
 # ---- Crawford water
-runlam lam-scf --quiet --bohr --energy "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only "$TMP/water.xyz"
 is "$RC" 0 "water --energy: exit 0"
 near "$(report_get nuclear_repulsion <<<"$OUT")" 8.002367061810450 1e-9 "water: E_nuc 8.002367061810450 (Crawford)"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water: E_SCF -74.942079928192 Eh (Crawford)"
 is "$(report_get basis_functions <<<"$OUT")" 7 "water STO-3G: 7 basis functions"
 is "$(report_get electrons <<<"$OUT")" 10 "water: 10 electrons"
-runlam lam-scf --quiet --bohr --energy --tsv "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only --tsv "$TMP/water.xyz"
 is "$(wc -l <<<"$OUT")" 2 "--tsv: header row and value row"
 like "$(head -1 <<<"$OUT")" $'scf_energy' "--tsv header names scf_energy"
 
-runlam lam-scf --quiet --bohr --energy --guess core "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only --start core "$TMP/water.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water from the core guess: same E_SCF"
 
 # angstrom is the default unit: the same geometry in angstrom (CODATA 2014 bohr)
 awk 'NR > 2 { printf "%s %.12f %.12f %.12f\n", $1, $2 * 0.52917721067, $3 * 0.52917721067, $4 * 0.52917721067 }' \
     "$TMP/water.xyz" >"$TMP/water-angstrom.xyz"
-runlam lam-scf --quiet --energy "$TMP/water-angstrom.xyz"
+runlam lam-scf --quiet --energy-only "$TMP/water-angstrom.xyz"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "water in angstrom: same E_SCF"
-OUT=$(lam lam-scf --quiet --energy <"$TMP/water-angstrom.xyz" 2>/dev/null); RC=$?
+OUT=$(lam lam-scf --quiet --energy-only <"$TMP/water-angstrom.xyz" 2>/dev/null); RC=$?
 is "$RC" 0 "molecule on stdin: exit 0"
 near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "molecule on stdin: same E_SCF"
 
@@ -101,19 +108,29 @@ is "$?" 0 "lam-ints reads lam-scf's FCIDUMP"
 # d shells: cc-pVDZ spherical by definition, --cartesian overrides
 # (beryllium atom, 3s2p1d in cc-pVDZ: Dunning 1989 / Prascher et al. 2011)
 printf 'Be 0 0 0\n' >"$TMP/be.xyz"
-runlam lam-scf --quiet --energy --basis cc-pvdz "$TMP/be.xyz"
+runlam lam-scf --quiet --energy-only --basis cc-pvdz "$TMP/be.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 14 "Be cc-pVDZ: 14 functions (spherical d)"
-runlam lam-scf --quiet --energy --basis cc-pvdz --cartesian "$TMP/be.xyz"
+runlam lam-scf --quiet --energy-only --basis cc-pvdz --cartesian "$TMP/be.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 15 "Be cc-pVDZ --cartesian: 15 functions"
-runlam lam-scf --quiet --bohr --energy --basis 6-31g --spherical "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only --basis 6-31g --spherical "$TMP/water.xyz"
 is "$(report_get basis_functions <<<"$OUT")" 13 "water 6-31G: 13 functions"
 
 # convergence report on stderr
-runlam lam-scf --progress --bohr --energy "$TMP/water.xyz"
+runlam lam-scf --progress --bohr --energy-only "$TMP/water.xyz"
 like "$ERR" "iter +energy" "--progress: iteration table on stderr"
 like "$ERR" "RHF energy -74.94207992" "summary line on stderr"
-runlam lam-scf --quiet --bohr --energy "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr --energy-only "$TMP/water.xyz"
 is "$ERR" "" "--quiet: nothing on stderr"
+
+# ---- the demo's integrals are lam-scf's, from the demo's geometry
+DEMO="$TESTS_DIR/../examples/data"
+lam lam-scf --quiet --frozen 1 "$DEMO/water.xyz" >"$TMP/demo.fcidump"
+# (same lines, values to 1e-12 Eh: BLAS threads change the last digits)
+is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { k = $2 " " $3 " " $4 " " $5; v = $1 + 0
+          if (FNR == NR) { a[k] = v; next } if (!(k in a)) { print "extra " k; next }
+          d = a[k] - v; if (d < 0) d = -d; if (d > 1e-12) print "differs " k; delete a[k] }
+          END { for (k in a) print "missing " k }' "$TMP/demo.fcidump" "$DEMO/water.fcidump")" "" \
+    "examples/data/water.fcidump = lam-scf --frozen 1 examples/data/water.xyz"
 
 # ---- bad input: message with file:line and the documented exit code
 printf 'H 0 0 0\nXx 0 0 1\n' >"$TMP/bad-element.xyz"
@@ -150,7 +167,7 @@ printf 'Na 0 0 0\nH 0 0 1.89\n' >"$TMP/nah.xyz"
 runlam lam-scf --quiet --basis cc-pvdz "$TMP/nah.xyz"
 is "$RC" 65 "cc-pVDZ has no Na: exit 65"
 like "$ERR" "nah.xyz:1: basis cc-pvdz has no functions for Na" "missing element in the basis: file:line"
-runlam lam-scf --quiet --basis 6-31g --energy "$TMP/nah.xyz"
+runlam lam-scf --quiet --basis 6-31g --energy-only "$TMP/nah.xyz"
 is "$RC" 0 "6-31G has Na: exit 0"
 
 runlam lam-scf --quiet "$TMP/no-such-file.xyz"
@@ -160,6 +177,56 @@ is "$RC" 64 "unknown basis: exit 64"
 like "$ERR" "unknown basis '3-21g'" "unknown basis: message"
 runlam lam-scf --quiet --no-such-option "$TMP/h2.xyz"
 is "$RC" 64 "unknown option: exit 64"
+is "$ERR" "lam-scf: unknown option '--no-such-option'
+Try 'lam-scf --help'." "unknown option: one message"
+runlam lam-scf --quiet -e "$TMP/h2.xyz"
+is "$RC" 64 "-e is not lam-scf's (the suite's -e is --encoding)"
+runlam lam-scf --quiet --basis
+like "$ERR" "option '--basis' needs a value" "missing value: one message"
+runlam lam-scf -V
+like "$OUT" "^lam-scf .*[0-9]+\.[0-9]+" "-V is --version"
+runlam lam-scf --quiet --stability maybe "$TMP/h2.xyz"
+is "$RC" 64 "unknown --stability: exit 64"
+runlam lam-scf --quiet --diis-depth 9 "$TMP/h2.xyz"
+is "$RC" 64 "--diis-depth above 8: exit 64"
+runlam lam-scf --quiet --bohr --energy-only --diis-depth 0 --gradient-tol 1e-9 --max-iter 300 "$TMP/water.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -74.942079928192 1e-8 "--diis-depth 0 (plain Roothaan iterations): same E_SCF"
+runlam lam-scf --quiet --bohr --energy-only -M 2G "$TMP/water.xyz"
+is "$RC" 0 "-M 2G: exit 0"
+runlam lam-scf --quiet --bohr --energy-only --max-memory 2x "$TMP/water.xyz"
+is "$RC" 64 "--max-memory with a bad suffix: exit 64"
+runlam lam-scf --quiet --cutoff -1 "$TMP/h2.xyz"
+is "$RC" 64 "negative --cutoff: exit 64"
+
+# ---- stability: H2 at 20 A; the iterations reach the ionic H+ H- saddle
+printf 'H 0 0 0\nH 0 0 20\n' >"$TMP/h2-far.xyz"
+runlam lam-scf --energy-only "$TMP/h2-far.xyz"
+is "$RC" 0 "H2 at 20 A: exit 0"
+like "$ERR" "note: the first RHF solution \(-0.18501661[0-9]* Eh\) was unstable" "H2 at 20 A: the ionic saddle is named on stderr"
+near "$(report_get scf_energy <<<"$OUT")" -0.559090157 1e-8 "H2 at 20 A: the stable sigma_g^2 state (closed form in scf-ref.t)"
+runlam lam-scf --quiet --energy-only --stability check "$TMP/h2-far.xyz"
+is "$RC" 65 "H2 at 20 A --stability check: exit 65"
+like "$ERR" "h2-far.xyz: the RHF solution \(-0.185016615728 Eh\) is unstable: the orbital Hessian has the eigenvalue -7.48" "--stability check: the message"
+is "$OUT" "" "--stability check: nothing on stdout"
+runlam lam-scf --quiet --energy-only --stability off "$TMP/h2-far.xyz"
+near "$(report_get scf_energy <<<"$OUT")" -0.185016616 1e-8 "--stability off: the saddle point stays"
+is "$(report_get stability_eigenvalue <<<"$OUT")" "" "--stability off: no stability key"
+runlam lam-scf --quiet -o "$TMP/h2-far.fcidump" "$TMP/h2-far.xyz"
+runlam lam-ints "$TMP/h2-far.fcidump"
+runlam_in "$OUT" lam-range --quiet
+near "$(report_get n_min <<<"$OUT")" -0.933164 1e-5 "H2 at 20 A: FCI from the FCIDUMP = 2 x STO-3G hydrogen atom (-0.4666 Eh, Szabo-Ostlund)"
+
+# ---- symmetry noise: the default cutoff and --cutoff
+lam lam-scf --bohr "$TMP/water.xyz" >"$TMP/wclean.fcidump" 2>"$TMP/err"
+like "$(cat "$TMP/err")" "integrals written, [0-9]+ at or below the cutoff" "cleaning said on stderr"
+is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { v = $1 + 0; if (v < 0) v = -v; if (v > 0 && v < 1e-8) n++ } END { print n + 0 }' "$TMP/wclean.fcidump")" 0 \
+    "water (C2v): no integral between 0 and 1e-8 Eh by default"
+lam lam-scf --quiet --bohr --cutoff 0 "$TMP/water.xyz" >"$TMP/wnoisy.fcidump"
+is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { v = $1 + 0; if (v < 0) v = -v; if (v > 0 && v < 1e-8) n++ } END { print (n > 0) }' "$TMP/wnoisy.fcidump")" 1 \
+    "--cutoff 0: the rounding noise is written"
+lam lam-scf --quiet --bohr --cutoff 0.01 "$TMP/water.xyz" >"$TMP/wcut.fcidump"
+is "$(awk 'NF == 5 && $2 ~ /^[1-9]/ { v = $1 + 0; if (v < 0) v = -v; if (v <= 0.01) n++ } END { print n + 0 }' "$TMP/wcut.fcidump")" 0 \
+    "--cutoff 0.01: nothing at or below 0.01 Eh"
 runlam lam-scf --quiet --bohr --frozen 6 "$TMP/water.xyz"
 is "$RC" 64 "--frozen above the occupied orbitals: exit 64"
 runlam lam-scf --quiet --bohr --active 9 "$TMP/water.xyz"
@@ -167,16 +234,16 @@ is "$RC" 64 "--active above the orbitals: exit 64"
 runlam lam-scf --quiet --bohr --active 4 "$TMP/water.xyz"
 is "$RC" 64 "10 electrons in 4 orbitals: exit 64"
 runlam lam-scf --quiet --tsv "$TMP/h2.xyz"
-is "$RC" 64 "--tsv without --energy: exit 64"
-runlam lam-scf --quiet --guess huckel "$TMP/h2.xyz"
-is "$RC" 64 "unknown --guess: exit 64"
-runlam lam-scf --quiet --e-conv abc "$TMP/h2.xyz"
-is "$RC" 64 "--e-conv not a number: exit 64"
+is "$RC" 64 "--tsv without --energy-only: exit 64"
+runlam lam-scf --quiet --start huckel "$TMP/h2.xyz"
+is "$RC" 64 "unknown --start: exit 64"
+runlam lam-scf --quiet --energy-tol abc "$TMP/h2.xyz"
+is "$RC" 64 "--energy-tol not a number: exit 64"
 runlam lam-scf --quiet --bohr --max-iter 2 "$TMP/water.xyz"
 is "$RC" 65 "no convergence in 2 iterations: exit 65"
 like "$ERR" "did not converge in 2 iterations" "no convergence: the reason"
 is "$OUT" "" "no convergence: nothing on stdout"
-runlam lam-scf --quiet --bohr --max-memory 0.001 "$TMP/water.xyz"
+runlam lam-scf --quiet --bohr -M 1K "$TMP/water.xyz"
 is "$RC" 75 "over --max-memory: exit 75"
 runlam lam-scf --quiet --bohr -o "$TMP/no/such/dir/out" "$TMP/water.xyz"
 is "$RC" 74 "output cannot be opened: exit 74"

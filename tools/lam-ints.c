@@ -16,7 +16,8 @@ static _Noreturn void usage(void)
            "Read molecular integrals in the FCIDUMP format (file or stdin, gzip allowed)\n"
            "and write the Hamiltonian H = E0 + sum h_pq E_pq + 1/2 sum (pq|rs) e_pqrs\n"
            "(hartree, Eh) as a lamina operator stream.\n\n"
-           "  -e, --electrons N    target electron number (default: NELEC of the file)\n"
+           "  -n, --electrons N    target electron number (default: NELEC of the file;\n"
+           "                       its parity must match MS2)\n"
            "      --fermion        write spin-orbital ladder terms (kind fermion) instead\n"
            "                       of spin-free terms\n"
            "      --spin-order O   for --fermion: interleaved (default, mode 2p is orbital p\n"
@@ -24,30 +25,33 @@ static _Noreturn void usage(void)
            "  -o, --output FILE    write to FILE instead of stdout\n"
            "  -z, --gzip           gzip the output\n"
            "  -h, --help           show this help\n"
-           "      --version        show the version\n\n"
+           "  -V, --version        show the version\n\n"
            "Example:\n"
            "  %s h4.fcidump | lam-map | lam-norm\n",
            lam_program(), lam_program());
     exit(0);
 }
 
+enum { OPT_FERMION = 256, OPT_SPIN_ORDER };
+
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     static const struct option opts[] = {
-        {"electrons", required_argument, 0, 'e'}, {"fermion", no_argument, 0, 'f'},
-        {"spin-order", required_argument, 0, 's'}, {"output", required_argument, 0, 'o'},
+        {"electrons", required_argument, 0, 'n'}, {"fermion", no_argument, 0, OPT_FERMION},
+        {"spin-order", required_argument, 0, OPT_SPIN_ORDER}, {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'}, {"help", no_argument, 0, 'h'},
         {"version", no_argument, 0, 'V'}, {0, 0, 0, 0}};
     long electrons = -1;
     int fermion = 0, gzip = 0, c;
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
     const char *out = NULL;
-    while ((c = getopt_long(argc, argv, "e:o:zh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":n:o:zhV", opts, NULL)) != -1) {
         switch (c) {
-        case 'e': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
-        case 'f': fermion = 1; break;
-        case 's':
+        case 'n': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
+        case OPT_FERMION: fermion = 1; break;
+        case OPT_SPIN_ORDER:
             if (lam_spin_order_parse(optarg, &order) != 0)
                 lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
             break;
@@ -55,7 +59,7 @@ int main(int argc, char **argv)
         case 'z': gzip = 1; break;
         case 'h': usage();
         case 'V': lam_print_version();
-        default: lam_usage_error("unknown option");
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
     if (argc - optind > 1) lam_usage_error("one FCIDUMP at a time");
@@ -66,6 +70,10 @@ int main(int argc, char **argv)
     if (electrons >= 0) {
         if (electrons > 2L * sf->n)
             lam_fail(LAM_EX_USAGE, "--electrons %ld exceeds 2 x %d orbitals", electrons, sf->n);
+        if ((electrons + fd->ms2) % 2 != 0)
+            lam_fail_at(LAM_EX_DATA, fd->source, fd->ms2_line,
+                        "--electrons %ld and MS2=%d differ in parity (an electron count and "
+                        "twice its spin projection are both even or both odd)", electrons, fd->ms2);
         sf->electrons = (int)electrons;
     }
     if (fd->orbital_energy_lines)

@@ -1,5 +1,6 @@
 /* lam-scf - geometry to restricted Hartree-Fock to FCIDUMP. */
 #include <errno.h>
+#include <math.h>
 #include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -28,27 +29,33 @@ static _Noreturn void usage(void)
            "  -f, --frozen K        fold the K lowest orbitals (doubly occupied) into the\n"
            "                        constant and the one-body integrals (default 0)\n"
            "  -a, --active N        keep N orbitals after the frozen ones (default: all)\n"
-           "      --e-conv E        converged when the energy changes by less (default\n"
-           "                        1e-10 Eh)\n"
-           "      --d-conv G        ... and the orbital gradient FDS-SDF is below G\n"
-           "                        (default 1e-8)\n"
+           "      --energy-tol E    converged when the energy changes by less than E Eh\n"
+           "                        between iterations (default 1e-10) ...\n"
+           "      --gradient-tol G  ... and no element of the orbital gradient FDS-SDF\n"
+           "                        (orthonormal basis, Eh) exceeds G (default 1e-8)\n"
            "      --max-iter N      give up after N iterations (default 100)\n"
-           "      --diis N          Fock matrices kept for DIIS, 0 to 8 (default 8)\n"
-           "      --guess G         start from sad (superposition of atomic densities,\n"
-           "                        default) or core (core Hamiltonian)\n"
+           "      --diis-depth N    Fock matrices kept for DIIS, 0 (off) to 8 (default 8)\n"
+           "      --start FROM      atoms (superposition of atomic densities, default) or\n"
+           "                        core (core Hamiltonian)\n"
+           "      --stability WHAT  follow (default): test the solution with the orbital\n"
+           "                        Hessian and follow an instability down to a stable\n"
+           "                        solution; check: stop (exit 65) on an instability;\n"
+           "                        off: no test\n"
            "      --schwarz T       skip integral blocks bounded below T Eh (default 1e-12)\n"
-           "      --cutoff T        omit integrals with |value| <= T Eh from the FCIDUMP\n"
-           "                        (default 0: every non-zero integral is written)\n"
-           "      --max-memory MB   refuse work that needs more (default 4096)\n"
-           "  -e, --energy          write a key/value report (basis_functions, orbitals,\n"
+           "      --cutoff T        write integrals with |value| > T Eh only (default:\n"
+           "                        1e-10 x the largest integral; 0 writes every non-zero)\n"
+           "  -M, --max-memory SIZE refuse (exit 75) work that needs more than SIZE bytes\n"
+           "                        (suffix K, M or G; default: the installed memory)\n"
+           "      --energy-only     write a key/value report (basis_functions, orbitals,\n"
            "                        electrons, nuclear_repulsion, scf_energy, iterations,\n"
-           "                        homo, lumo; energies in Eh) instead of the FCIDUMP\n"
-           "      --tsv             with --energy: one header row and one value row\n"
+           "                        homo, lumo, stability; energies in Eh) instead of the\n"
+           "                        FCIDUMP\n"
+           "  -t, --tsv             with --energy-only: one header row and one value row\n"
            "  -o, --output FILE     write to FILE instead of stdout\n"
            "      --progress        iteration table on stderr even when not a terminal\n"
            "  -q, --quiet           no progress and no summary line on stderr\n"
            "  -h, --help            show this help\n"
-           "      --version         show the version\n\n"
+           "  -V, --version         show the version\n\n"
            "Example:\n"
            "  %s --basis 6-31g --frozen 1 water.xyz | lam-ints | lam-norm\n",
            lam_program(), lam_program());
@@ -56,17 +63,27 @@ static _Noreturn void usage(void)
 }
 
 enum {
-    OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ECONV, OPT_DCONV, OPT_MAXIT, OPT_DIIS,
-    OPT_SCHWARZ, OPT_CUTOFF, OPT_MAXMEM, OPT_PROGRESS, OPT_VERSION, OPT_TSV, OPT_GUESS
+    OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ENERGY_TOL, OPT_GRADIENT_TOL, OPT_MAXIT,
+    OPT_DIIS_DEPTH, OPT_SCHWARZ, OPT_CUTOFF, OPT_PROGRESS, OPT_START, OPT_STABILITY,
+    OPT_ENERGY_ONLY
 };
 
 typedef struct {
     const char *basis, *output, *input;
-    int bohr, pure, quiet, energy, tsv;
+    int bohr, pure, quiet, energy_only, tsv;
     long charge, frozen, active;
-    double cutoff, max_memory_mb;
+    double cutoff;      /* < 0: LAM_SCF_CUTOFF_RELATIVE x the largest integral */
+    double max_memory;  /* bytes */
     lam_scf_options scf;
 } options;
+
+static int parse_choice(const char *opt, const char *arg, const char *const *names, int count)
+{
+    for (int k = 0; k < count; ++k)
+        if (strcmp(arg, names[k]) == 0) return k;
+    if (count == 2) lam_usage_error("%s wants %s or %s, not '%s'", opt, names[0], names[1], arg);
+    lam_usage_error("%s wants %s, %s or %s, not '%s'", opt, names[0], names[1], names[2], arg);
+}
 
 static void parse_options(int argc, char **argv, options *o)
 {
@@ -74,26 +91,32 @@ static void parse_options(int argc, char **argv, options *o)
         {"basis", required_argument, 0, 'b'},   {"charge", required_argument, 0, 'c'},
         {"bohr", no_argument, 0, OPT_BOHR},     {"cartesian", no_argument, 0, OPT_CART},
         {"spherical", no_argument, 0, OPT_SPH}, {"frozen", required_argument, 0, 'f'},
-        {"active", required_argument, 0, 'a'},  {"e-conv", required_argument, 0, OPT_ECONV},
-        {"d-conv", required_argument, 0, OPT_DCONV},
+        {"active", required_argument, 0, 'a'},
+        {"energy-tol", required_argument, 0, OPT_ENERGY_TOL},
+        {"gradient-tol", required_argument, 0, OPT_GRADIENT_TOL},
         {"max-iter", required_argument, 0, OPT_MAXIT},
-        {"diis", required_argument, 0, OPT_DIIS},
-        {"guess", required_argument, 0, OPT_GUESS},
+        {"diis-depth", required_argument, 0, OPT_DIIS_DEPTH},
+        {"start", required_argument, 0, OPT_START},
+        {"stability", required_argument, 0, OPT_STABILITY},
         {"schwarz", required_argument, 0, OPT_SCHWARZ},
         {"cutoff", required_argument, 0, OPT_CUTOFF},
-        {"max-memory", required_argument, 0, OPT_MAXMEM},
-        {"energy", no_argument, 0, 'e'},        {"tsv", no_argument, 0, OPT_TSV},
+        {"max-memory", required_argument, 0, 'M'},
+        {"energy-only", no_argument, 0, OPT_ENERGY_ONLY}, {"tsv", no_argument, 0, 't'},
         {"output", required_argument, 0, 'o'},  {"progress", no_argument, 0, OPT_PROGRESS},
         {"quiet", no_argument, 0, 'q'},         {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, OPT_VERSION}, {0, 0, 0, 0}};
+        {"version", no_argument, 0, 'V'},       {0, 0, 0, 0}};
+    static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
+    static const char *const stabilities[] = {"follow", "check", "off"};
     memset(o, 0, sizeof *o);
     o->basis = "sto-3g";
     o->pure = -1;
     o->active = -1;
-    o->max_memory_mb = 4096;
+    o->cutoff = -1;
+    o->max_memory = lam_machine_memory();
     lam_scf_options_default(&o->scf);
     int c;
-    while ((c = getopt_long(argc, argv, "b:c:f:a:eo:qh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":b:c:f:a:M:to:qhV", opts, NULL)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
@@ -102,34 +125,38 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_SPH: o->pure = 1; break;
         case 'f': o->frozen = lam_opt_long("--frozen", optarg, 0, 100000); break;
         case 'a': o->active = lam_opt_long("--active", optarg, 1, 100000); break;
-        case OPT_ECONV: o->scf.e_conv = lam_opt_double("--e-conv", optarg); break;
-        case OPT_DCONV: o->scf.d_conv = lam_opt_double("--d-conv", optarg); break;
+        case OPT_ENERGY_TOL: o->scf.energy_tol = lam_opt_double("--energy-tol", optarg); break;
+        case OPT_GRADIENT_TOL:
+            o->scf.gradient_tol = lam_opt_double("--gradient-tol", optarg);
+            break;
         case OPT_MAXIT: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case OPT_DIIS: o->scf.diis_size = (int)lam_opt_long("--diis", optarg, 0, 8); break;
-        case OPT_GUESS:
-            if (strcmp(optarg, "sad") == 0) o->scf.guess = LAM_GUESS_SAD;
-            else if (strcmp(optarg, "core") == 0) o->scf.guess = LAM_GUESS_CORE;
-            else lam_usage_error("--guess wants sad or core, not '%s'", optarg);
+        case OPT_DIIS_DEPTH:
+            o->scf.diis_depth = (int)lam_opt_long("--diis-depth", optarg, 0, 8);
+            break;
+        case OPT_START: o->scf.start = parse_choice("--start", optarg, starts, 2); break;
+        case OPT_STABILITY:
+            o->scf.stability = parse_choice("--stability", optarg, stabilities, 3);
             break;
         case OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
-        case OPT_CUTOFF: o->cutoff = lam_opt_double("--cutoff", optarg); break;
-        case OPT_MAXMEM: o->max_memory_mb = lam_opt_double("--max-memory", optarg); break;
-        case 'e': o->energy = 1; break;
-        case OPT_TSV: o->tsv = 1; break;
+        case OPT_CUTOFF:
+            o->cutoff = lam_opt_double("--cutoff", optarg);
+            if (o->cutoff < 0) lam_usage_error("--cutoff must not be negative");
+            break;
+        case 'M': o->max_memory = lam_opt_size("--max-memory", optarg); break;
+        case OPT_ENERGY_ONLY: o->energy_only = 1; break;
+        case 't': o->tsv = 1; break;
         case 'o': o->output = optarg; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': o->quiet = 1; lam_progress_set(0); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
-    if (o->scf.e_conv <= 0 || o->scf.d_conv <= 0)
-        lam_usage_error("--e-conv and --d-conv must be positive");
-    if (o->scf.schwarz < 0 || o->cutoff < 0)
-        lam_usage_error("--schwarz and --cutoff must not be negative");
-    if (o->max_memory_mb <= 0) lam_usage_error("--max-memory must be positive");
-    if (o->tsv && !o->energy) lam_usage_error("--tsv goes with --energy");
+    if (o->scf.energy_tol <= 0 || o->scf.gradient_tol <= 0)
+        lam_usage_error("--energy-tol and --gradient-tol must be positive");
+    if (o->scf.schwarz < 0) lam_usage_error("--schwarz must not be negative");
+    if (o->tsv && !o->energy_only) lam_usage_error("--tsv goes with --energy-only");
     if (argc - optind > 1) lam_usage_error("one molecule at a time");
     o->input = optind < argc ? argv[optind] : NULL;
     if (!lam_basis_set_find(o->basis))
@@ -160,10 +187,10 @@ static void check_memory(const options *o, int nbf, int active)
     /* SCF data, half-transformed and MO pair matrices, the dense operator */
     double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + 8.0 * m2 * m2 +
                    (double)lam_spinfree_bytes(active);
-    double mb = bytes / (1024.0 * 1024.0);
-    if (mb > o->max_memory_mb)
-        lam_fail(LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.0f MB, "
-                 "over --max-memory %.0f MB", nbf, active, mb, o->max_memory_mb);
+    if (bytes > o->max_memory)
+        lam_fail(LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
+                 "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
+                 o->max_memory / 1048576.0);
 }
 
 /* Opened before any work, so that a wrong -o path fails at once. */
@@ -181,7 +208,21 @@ static void close_output(FILE *out, const char *path)
         lam_fail(LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
 }
 
-static void write_fcidump(FILE *out, const options *o, lam_spinfree *sf)
+/* Integrals that vanish by symmetry come out as rounding noise: below the
+ * cutoff they are set to exactly zero (said on stderr). */
+static void clean_integrals(const options *o, lam_spinfree *sf)
+{
+    double cutoff = o->cutoff >= 0 ? o->cutoff
+                                   : LAM_SCF_CUTOFF_RELATIVE * lam_scf_integral_scale(sf);
+    lam_scf_cleaning cl;
+    lam_scf_clean_integrals(sf, cutoff, &cl);
+    if (!o->quiet)
+        fprintf(stderr, "%s: %zu integrals written, %zu at or below the cutoff %.3g Eh set to "
+                "zero (largest %.3g Eh)\n", lam_program(), cl.kept, cl.dropped, cutoff,
+                cl.largest_dropped);
+}
+
+static void write_fcidump(FILE *out, lam_spinfree *sf)
 {
     lam_fcidump fd = {0};
     fd.op = sf;
@@ -191,7 +232,7 @@ static void write_fcidump(FILE *out, const options *o, lam_spinfree *sf)
     fd.isym = 1;
     fd.orbsym = lam_malloc((size_t)sf->n * sizeof *fd.orbsym);
     for (int i = 0; i < sf->n; ++i) fd.orbsym[i] = 1;
-    lam_fcidump_write(out, &fd, o->cutoff);
+    lam_fcidump_write(out, &fd, 0.0);
     free(fd.orbsym);
 }
 
@@ -207,6 +248,10 @@ static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
     lam_report_int(rep, "iterations", s->iterations);
     lam_report_num(rep, "homo", s->eps[s->nocc - 1]);
     if (s->nocc < s->nmo) lam_report_num(rep, "lumo", s->eps[s->nocc]);
+    if (!isnan(s->hessian_lowest)) {
+        lam_report_num(rep, "stability_eigenvalue", s->hessian_lowest);
+        lam_report_int(rep, "instabilities_followed", s->instabilities_followed);
+    }
     lam_report_write(rep, out, o->tsv);
     lam_report_free(rep);
 }
@@ -230,8 +275,8 @@ int main(int argc, char **argv)
     lam_scf_closed_shell_electrons(mol);
     lam_basis *basis = held_basis = lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure);
     /* the largest possible active space bounds the memory before any work */
-    int guess_active = o.energy ? 1 : (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
-    check_memory(&o, basis->nbf, guess_active > 0 ? guess_active : 1);
+    int most_active = o.energy_only ? 1 : (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
+    check_memory(&o, basis->nbf, most_active > 0 ? most_active : 1);
     FILE *out = open_output(o.output);
 
     lam_scf *s = held_scf = lam_scf_run(mol, basis, &o.scf);
@@ -240,13 +285,19 @@ int main(int argc, char **argv)
                 "%d orbitals, E_nuc %.12f Eh; integrals %.2f s, iterations %.2f s)\n",
                 lam_program(), s->energy, s->iterations, s->nbf, s->nmo, s->e_nuc,
                 s->seconds_integrals, s->seconds_iterations);
-    if (o.energy) {
+    if (!o.quiet && s->instabilities_followed)
+        fprintf(stderr, "%s: note: the first RHF solution (%.12f Eh) was unstable (orbital "
+                "Hessian eigenvalue %.3e Eh); %d instabilit%s followed down to this one\n",
+                lam_program(), s->unstable_energy, s->unstable_eigenvalue,
+                s->instabilities_followed, s->instabilities_followed == 1 ? "y" : "ies");
+    if (o.energy_only) {
         write_energy_report(out, &o, s);
     } else {
         int active;
         check_orbital_space(&o, s, &active);
         lam_spinfree *sf = held_op = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
-        write_fcidump(out, &o, sf);
+        clean_integrals(&o, sf);
+        write_fcidump(out, sf);
         lam_spinfree_free(sf);
         held_op = NULL;
     }

@@ -41,6 +41,15 @@ int main(void)
     tap_ok(d->norb == 3 && d->orbsym[0] == 1 && d->orbsym[1] == 3 && d->orbsym[2] == 3,
            "ORBSYM over several lines with a repeat count");
     tap_ok(d->orbital_energy_lines == 1, "orbital-energy line counted, not added");
+    /* orbital 2 is named by no line, and there is no constant line: both
+     * recorded (and warned about on stderr) */
+    tap_ok(d->idle_orbitals == 1, "one orbital without integral lines counted");
+    tap_ok(!d->has_constant, "missing constant line recorded");
+    tap_ok(d->ms2_line == 4, "MS2 header line kept for messages");
+    lam_fcidump_free(d);
+    d = read_text("&FCI NORB=2,NELEC=1,MS2=-1,&END\n0.5 1 1 1 1\n0.1 2 2 0 0\n0 0 0 0 0\n");
+    tap_ok(d->nelec == 1 && d->ms2 == -1 && d->idle_orbitals == 0 && d->has_constant,
+           "odd NELEC with odd MS2, every orbital named, constant line read (even if 0)");
     lam_fcidump_free(d);
 
     /* Write, read back: the same integrals to the last bit. */
