@@ -76,7 +76,9 @@ typedef struct {
                                 plus the one-body fragment's orbitals */
     double df_lambda;        /* the one-norm the DF walk block-encodes */
     int df_complete;         /* 1 when the factors were derived from a
-                                stream; 0 from a report (no DF row then) */
+                                spin-symmetric stream; 0 from a report or
+                                a fragment that is not spin symmetric (no
+                                DF row then) */
 } lam_lcu_summary;
 
 /* Constructions. */

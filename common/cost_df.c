@@ -148,6 +148,33 @@ static void fragment_matrix(const lam_fragments *fr, size_t lo, size_t hi, doubl
     }
 }
 
+/* The DF walk applies the same rotated one-body operator to both spins:
+ * it needs every pair of orbitals i != j at l_ij / 4 on all four spin
+ * pairs and equal reflections of both spins.  0 when the fragment is not
+ * so (then only the flat count prices it). */
+static int spin_symmetric(const lam_fragments *fr, size_t lo, size_t hi, const double *l)
+{
+    int n = fr->n;
+    double big = 0, *single = lam_calloc((size_t)2 * n, sizeof *single);
+    for (size_t i = 0; i < (size_t)n * n; ++i) big = fmax(big, fabs(l[i]));
+    for (size_t t = lo; t < hi; ++t) {
+        const lam_frag_term *T = &fr->terms[t];
+        if (T->b < 0) {
+            single[T->a] = T->coef;
+            big = fmax(big, fabs(T->coef));
+        }
+    }
+    int ok = 1;
+    for (int i = 0; i < n && ok; ++i) ok = fabs(single[2 * i] - single[2 * i + 1]) <= 1e-12 * big;
+    for (size_t t = lo; t < hi && ok; ++t) {
+        const lam_frag_term *T = &fr->terms[t];
+        int i = T->a / 2, j = T->b / 2;
+        if (T->b >= 0 && i != j) ok = fabs(T->coef - l[(size_t)i * n + j] / 4) <= 1e-12 * big;
+    }
+    free(single);
+    return ok;
+}
+
 /* Add fragment [lo, hi)'s factors to lcu. */
 static void add_fragment_factors(const lam_fragments *fr, size_t lo, size_t hi, double *l,
                                  double *w, lam_lcu_summary *lcu)
@@ -163,6 +190,7 @@ static void add_fragment_factors(const lam_fragments *fr, size_t lo, size_t hi, 
     free(used);
     if (singles > 0) lcu->df_eigvecs += singles; /* the one-body factor */
     fragment_matrix(fr, lo, hi, l);
+    if (!spin_symmetric(fr, lo, hi, l)) lcu->df_complete = -1;
     double big = 0;
     for (size_t i = 0; i < (size_t)n * n; ++i) big = fmax(big, fabs(l[i]));
     if (big == 0) return;
@@ -216,7 +244,7 @@ void lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *me
     free(l);
     free(w);
     if (keep_unknown < 0 && lcu->trunc_input == 0) lcu->trunc_input = -1;
-    lcu->df_complete = 1;
+    lcu->df_complete = lcu->df_complete == 0; /* -1: a fragment is not spin symmetric */
     for (int f = 0; f < fr->nfrag; ++f) {
         int identity = 1;
         for (int p = 0; p < fr->n && identity; ++p)

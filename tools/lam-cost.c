@@ -395,10 +395,10 @@ static void one_input(const options *o, const lam_cost_budget *bud)
     summarize(input, o, &lcu);
     lam_construction con = o->have_con ? o->con : lam_cost_headline(&lcu);
     if (!lam_cost_applies(&lcu, con))
-        lam_fail_at(LAM_EX_DATA, name, 0, "construction %s does not apply to a %s input%s",
-                    lam_cost_construction_name(con), lcu.form,
-                    con == LAM_CON_DF && strcmp(lcu.form, "fragments") == 0
-                        ? " given as a report (give lam-cost the stream)" : "");
+        lam_fail_at(LAM_EX_DATA, name, 0,
+                    "construction %s does not apply to this %s input (df needs a spin-symmetric "
+                    "fragments stream, not a report; grouped needs group labels; sparse needs "
+                    "Pauli strings)", lam_cost_construction_name(con), lcu.form);
     lam_cost_estimate est;
     const char *why = NULL;
     if (lam_cost_estimate_one(&lcu, con, bud, &o->par, &est, &why) != 0)
