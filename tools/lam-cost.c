@@ -150,10 +150,11 @@ static void parse_options(int argc, char **argv, options *o)
         case 'h': usage();
         case 'V': lam_print_version();
         case ':':
-            if (optopt) lam_usage_error("option '-%c' needs a value", optopt);
+            if (optopt > 0 && optopt < 128)
+                lam_usage_error("option '-%c' needs a value", optopt);
             lam_usage_error("option '%s' needs a value", argv[optind - 1]);
         default:
-            if (optopt) lam_usage_error("unknown option '-%c'", optopt);
+            if (optopt > 0 && optopt < 128) lam_usage_error("unknown option '-%c'", optopt);
             lam_usage_error("unknown option '%s'", argv[optind - 1]);
         }
     }
