@@ -42,6 +42,19 @@ static int sparse_work_qubits(const lam_cost_sparse_step *st, int aleph)
     return st->index_bits + aleph + st->read_bits * st->k + 2 + 1;
 }
 
+/* The sparse step's Toffolis into est; returns its work qubits. */
+static int sparse_step_into(const lam_cost_sparse_in *in, lam_cost_estimate *est)
+{
+    lam_cost_sparse_step st;
+    lam_cost_sparse_step_of(in, &st);
+    est->qroam_block = st.k;
+    est->qroam_block_erase = st.k_erase;
+    est->toffoli_prepare = st.prepare;
+    est->toffoli_select = st.select;
+    est->toffoli_other = st.other;
+    return sparse_work_qubits(&st, in->prep_bits);
+}
+
 /* A Pauli string is loaded as its x and z masks (2n bits) and two bits of
  * its phase (the sign of c and the power of i of its Y factors); SELECT
  * applies X and Z on every qubit controlled by the walk's control and the
@@ -55,15 +68,8 @@ int lam_cost_sparse(const lam_lcu_summary *lcu, const lam_cost_budget *bud,
     est->prep_bits = par->prep_bits > 0 ? par->prep_bits
                                         : lam_cost_prep_bits(est->lambda, bud->synth);
     lam_cost_sparse_in in = {lcu->strings, 2 * n + 2, 2LL * n + 1, est->prep_bits};
-    lam_cost_sparse_step st;
-    lam_cost_sparse_step_of(&in, &st);
-    est->qroam_block = st.k;
-    est->qroam_block_erase = st.k_erase;
-    est->toffoli_prepare = st.prepare;
-    est->toffoli_select = st.select;
-    est->toffoli_other = st.other;
     est->qubits_system = n;
-    est->qubits_work = sparse_work_qubits(&st, est->prep_bits);
+    est->qubits_work = sparse_step_into(&in, est);
     est->synth_error = est->lambda * ldexp(1.0, -est->prep_bits);
     return 0;
 }
@@ -91,13 +97,7 @@ int lam_cost_grouped(const lam_lcu_summary *lcu, const lam_cost_budget *bud,
     est->prep_bits = par->prep_bits > 0 ? par->prep_bits : lam_cost_prep_bits(est->lambda, eps_prep);
     int gbits = lam_cost_index_bits(G);
     lam_cost_sparse_in in = {G, gbits + 1, G - 1, est->prep_bits};
-    lam_cost_sparse_step st;
-    lam_cost_sparse_step_of(&in, &st);
-    est->qroam_block = st.k;
-    est->qroam_block_erase = st.k_erase;
-    est->toffoli_prepare = st.prepare;
-    est->toffoli_select = st.select;
-    est->toffoli_other = st.other;
+    int prepare_qubits = sparse_step_into(&in, est);
     est->step_rotations = 2 * lcu->flat_rotations;
     est->synth_error = est->lambda * ldexp(1.0, -est->prep_bits);
     if (est->step_rotations > 0) {
@@ -108,7 +108,7 @@ int lam_cost_grouped(const lam_lcu_summary *lcu, const lam_cost_budget *bud,
                             ldexp(1.0, -est->rot_bits);
     }
     est->qubits_system = lcu->system_qubits;
-    est->qubits_work = sparse_work_qubits(&st, est->prep_bits) + gbits /* AND chain */ +
+    est->qubits_work = prepare_qubits + gbits /* AND chain */ +
                        est->rot_bits /* phase gradient */;
     return 0;
 }

@@ -66,6 +66,16 @@ static void budget_by_hand(void)
     tap_ok(lam_cost_budget_split(1.6e-3, nosynth, &b, &why) == -1, "no synthesis share refused");
 }
 
+/* 1.6 mEh split 0.8, 0.1, 0.1 (the default of lam-cost(1)). */
+static lam_cost_budget default_budget(void)
+{
+    double f[3] = {0.8, 0.1, 0.1};
+    lam_cost_budget bud;
+    const char *why = NULL;
+    lam_cost_budget_split(1.6e-3, f, &bud, &why);
+    return bud;
+}
+
 /* Flat count of lam-cost(1) for L = 14, b = 4, mu = 11 (given): SELECT 13;
  * PREPARE (13 + 11 + 4 + usp(14) = 14) = 42, twice 84; reflection on
  * b + (b + 2 mu + 1) = 31 qubits: 30; per step 127. */
@@ -77,10 +87,8 @@ static void flat_by_hand(void)
     lcu.lambda = lcu.lambda_strings = 1.8850504923;
     lcu.unitaries = lcu.strings = 14;
     lcu.system_qubits = 4;
-    double f[3] = {0.8, 0.1, 0.1};
-    lam_cost_budget bud;
+    lam_cost_budget bud = default_budget();
     const char *why = NULL;
-    lam_cost_budget_split(1.6e-3, f, &bud, &why);
     lam_cost_params par = {11, 0};
     lam_cost_estimate est;
     tap_ok(lam_cost_estimate_one(&lcu, LAM_CON_FLAT, &bud, &par, &est, &why) == 0, "flat H2 succeeds");
@@ -203,10 +211,8 @@ static void pauli_summary(void)
      * 2, erase 3, 2*17, 2*2 -> 43; reflection 1 + 17 + 2 = 20; rotations
      * 2 * 2 = 4 of 18 Toffolis = 72; per step 43 + 1 + 20 + 72 = 136;
      * steps ceil(pi 5.5 / 0.00256) = 6750. */
-    double f[3] = {0.8, 0.1, 0.1};
-    lam_cost_budget bud;
+    lam_cost_budget bud = default_budget();
     const char *why = NULL;
-    lam_cost_budget_split(1.6e-3, f, &bud, &why);
     lam_cost_params par = {0, 0};
     lam_cost_estimate est;
     tap_ok(lam_cost_estimate_one(&lcu, LAM_CON_GROUPED, &bud, &par, &est, &why) == 0, "grouped succeeds");
