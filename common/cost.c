@@ -361,15 +361,13 @@ void lam_cost_report(lam_report *rep, const lam_lcu_summary *lcu, const lam_cost
     lam_report_int(rep, "rot.bits", est->rot_bits);
     lam_report_int(rep, "qroam.block", est->qroam_block);
     lam_report_int(rep, "qroam.block.erase", est->qroam_block_erase);
-    if (est->con == LAM_CON_GROUPED) {
-        lam_report_int(rep, "groups", lcu->groups);
-        lam_report_int(rep, "groups.largest", lcu->largest_group);
-    }
-    if (est->con == LAM_CON_SPARSE) lam_report_int(rep, "terms", lcu->strings);
-    if (est->con == LAM_CON_DF) {
-        lam_report_int(rep, "df.factors", lcu->df_factors);
-        lam_report_int(rep, "df.eigenvectors", lcu->df_eigvecs);
-    }
+    /* every key in every report, so that --tsv columns never depend on
+     * the input: 0 where a figure does not belong to the input */
+    lam_report_int(rep, "strings", lcu->strings);
+    lam_report_int(rep, "groups", lcu->groups);
+    lam_report_int(rep, "groups.largest", lcu->largest_group);
+    lam_report_int(rep, "df.factors", lcu->df_factors);
+    lam_report_int(rep, "df.eigenvectors", lcu->df_eigvecs);
     lam_report_int(rep, "walk.steps", est->walk_steps);
     lam_report_int(rep, "step.toffoli.select", est->toffoli_select);
     lam_report_int(rep, "step.toffoli.prepare", est->toffoli_prepare);

@@ -137,6 +137,13 @@ runlam lam-cost -q --construction df "$TMP/asym.op"
 is "$RC" 65 "--construction df on asymmetric fragments: exit 65"
 like "$ERR" "spin-symmetric" "says why"
 
+# Issue 15.12: --tsv has the same columns whatever the input.
+h_p=$(lam lam-cost -q --tsv "$TMP/h2.pauli" | head -1)
+h_g=$(lam lam-cost -q --tsv "$TMP/grouped.pauli" | head -1)
+h_f=$(lam lam-cost -q --tsv "$TMP/f.op" | head -1)
+is "$h_g" "$h_p" "--tsv columns of a grouped stream = those of a pauli stream"
+is "$h_f" "$h_p" "--tsv columns of a fragments stream = those of a pauli stream"
+
 # Table mode: one row per construction and input, sorted by run.toffoli.
 runlam lam-cost -q -C "$TMP/h2.pauli" "$TMP/grouped.pauli" "$TMP/f.op"
 is "$RC" 0 "-C: exit 0"
