@@ -73,8 +73,8 @@ fit() {
     awk -v col="$1" '$col != "-" { x = log($1); y = log($col); n++; sx += x; sy += y; sxx += x * x; sxy += x * y }
         END { if (n < 2) { print "-"; exit } printf "%.2f", (n * sxy - sx * sy) / (n * sxx - sx * sx) }' "$dir/fit.txt"
 }
-printf '%-12s %10s   %s\n' sparse "$(fit 2)" "~2: O(sqrt(d)) with d ~ N^4 terms (Berry et al., Quantum 3, 208 (2019))"
+printf '%-12s %10s   %s\n' sparse "$(fit 2)" "~2: O(sqrt(d m)), d ~ N^4 terms, m ~ log N index bits (Berry et al., Quantum 3, 208 (2019)); ~2.5 with the 2N-bit Pauli masks loaded here"
 printf '%-12s %10s   %s\n' flat-pauli "$(fit 3)" "~4: O(L), L ~ N^4 unitaries (unary iteration; Babbush et al., PRX 8, 041015 (2018))"
 printf '%-12s %10s   %s\n' grouped "$(fit 4)" "no published exponent; O(strings) rotations in the branches of this construction"
-printf '%-12s %10s   %s\n' df "$(fit 5)" "~1.5: O(sqrt(N Xi) + N), Xi ~ N^2 (von Burg et al. 2021; Lee et al. 2021)"
+printf '%-12s %10s   %s\n' df "$(fit 5)" "~1.5: O(sqrt(N Xi beta) + N beta), Xi ~ N^2 (von Burg et al. 2021; Lee et al. 2021); beta grows with log N here"
 printf '%-12s %10s   %s\n' flat-df "$(fit 6)" "~4: O(L), L ~ N^4 unitaries (N^2 factors x 2N^2 pairs each)"
