@@ -88,6 +88,11 @@ is "$(report_get walk.steps <<< "$OUT")" 2314 "report input: same walk steps"
 is "$(report_get unitaries <<< "$OUT")" 14 "report input: terms minus the identity"
 is "$(printf '%s' "$OUT")" "$OUT2" "report and stream give the same estimate"
 
+# A report whose first key is scope-first (the dot scheme) is still a report.
+printf 'lambda.h1\t0.5\nkind\tpauli\nterms\t15\nconstant\t-0.0988639698\nlambda\t1.8850504924\nqubits\t4\n' > "$TMP/dotted.norm"
+runlam lam-cost -q "$TMP/dotted.norm"
+is "$(report_get walk.steps <<< "$OUT")" 2314 "report with dotted keys: same walk steps"
+
 # A spin-symmetric fragments stream (format of lam-factor(1)) on 2
 # orbitals: fragment 0 one-body, fragment 1 the rank-one l = eps eps^T,
 # eps = (0.6, 0.8), at l/4 on every pair.  Flat lambda 1.5 + 0.09 + 0.16 +

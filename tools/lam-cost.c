@@ -233,7 +233,7 @@ static int looks_like_report(const char *path, const char *name)
     for (char *line = buf; *line;) {
         char *next = strchr(line, '\n');
         if (line[0] != '#' && line[strspn(line, " \t\r\n")] != '\0' && line[0] != '\n') {
-            size_t key = strspn(line, "abcdefghijklmnopqrstuvwxyz_0123456789");
+            size_t key = strspn(line, "abcdefghijklmnopqrstuvwxyz_.0123456789");
             return key > 0 && line[key] == '\t' && line[0] >= 'a' && line[0] <= 'z';
         }
         if (!next) break;
