@@ -1,9 +1,12 @@
 /* lam-cost - walk steps, Toffolis and logical qubits of qubitized phase
- * estimation from a pauli stream, a fragments stream or a lam-norm report. */
+ * estimation from a pauli stream, a fragments stream or a lam-norm report,
+ * priced by the construction the literature uses for each form (and the
+ * flat LCU count beside it). */
 #include <errno.h>
 #include <fcntl.h>
 #include <sys/stat.h>
 #include <getopt.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -20,75 +23,127 @@ static _Noreturn void usage(void)
 {
     printf(
         "Usage: lam-cost [OPTION]... [FILE]\n"
-        "Estimate the cost of qubitized phase estimation of an LCU: walk steps,\n"
-        "Toffoli gates per step and in total, and logical qubits.\n"
+        "  or:  lam-cost -C [OPTION]... FILE...\n"
+        "Estimate the cost of qubitized phase estimation of an operator: walk steps,\n"
+        "Toffoli gates (rotations included) per step and in total, logical qubits,\n"
+        "priced by the construction the literature uses for its form:\n"
+        "  pauli          sparse   (Berry et al. 2019, QROAM)\n"
+        "  pauli grouped  grouped  (SELECT over anticommuting groups, Izmaylov et al. 2020)\n"
+        "  fragments      df       (double factorization, von Burg et al. 2021, Lee et al. 2021)\n"
+        "  any            flat     (unary-iteration SELECT, alias-sampling PREPARE)\n"
         "FILE (default stdin) is a pauli stream (grouped or not), a fragments\n"
         "stream, or a text report of lam-norm for one of them.\n"
         "\n"
-        "  -e, --error EPS       target energy error in Eh (default 0.0016 Eh)\n"
-        "  -b, --keep-bits MU    bits of the alias-sampling keep probabilities\n"
-        "                        (default ceil(log2(lambda/EPS)))\n"
+        "  -C, --compare         one row per construction and input, sorted by\n"
+        "                        total Toffolis (several inputs of one molecule)\n"
+        "      --error EPS       target energy error in Eh (default 0.0016 Eh)\n"
+        "      --split P,T,S     shares of EPS for phase estimation, truncation of\n"
+        "                        the representation, synthesis (default 0.8,0.1,0.1)\n"
+        "      --construction C  price with C (flat, sparse, grouped, df) instead of\n"
+        "                        the form's own\n"
+        "      --prep-bits N     keep-probability bits of alias sampling (default\n"
+        "                        from the budget)\n"
+        "      --rot-bits N      bits of every rotation angle (default from the budget)\n"
         "      --ungrouped       ignore group labels: one unitary per Pauli string\n"
         "      --kind KIND       kind of a stream without header (pauli, fragments)\n"
-        "      --tsv             one header row and one value row\n"
+        "  -t, --tsv             one header row and one value row\n"
+        "  -l, --label TEXT      a label column (first) in --tsv and --compare\n"
         "  -o, --output FILE     write the report to FILE (default stdout)\n"
         "  -q, --quiet           no note and no progress on stderr\n"
         "      --progress        progress on stderr even when it is not a terminal\n"
         "  -h, --help            this help\n"
         "      --allow-empty     read an empty input as the zero operator\n"
-        "      --version         version\n"
+        "  -V, --version         version\n"
         "\n"
-        "Walk steps = ceil(pi*lambda/(2*EPS)) (Babbush et al. 2018; Lee et al. 2021).\n"
-        "The figures are estimates of one textbook construction; lam-cost(1)\n"
-        "lists the counting and what it leaves out.\n"
+        "Walk steps = ceil(pi*lambda/(2*eps.phase)) (Babbush et al. 2018; Lee et al.\n"
+        "2021).  The figures are estimates of one construction each; they leave out\n"
+        "magic-state distillation, routing and layout (lam-cost(1)).\n"
         "\n"
-        "Example:\n"
-        "  lam-ints lih.fcidump | lam-map | lam-group | lam-cost --error 0.001\n");
+        "Examples:\n"
+        "  lam-ints mol.fcidump | lam-map | lam-group | lam-cost\n"
+        "  lam-cost -C mol.pauli mol.grouped mol.frag\n");
     exit(0);
 }
 
 typedef struct {
     lam_cost_params par;
-    int ungrouped, tsv, quiet;
+    double error, split[3];
+    int ungrouped, tsv, quiet, compare, have_con;
+    lam_construction con;
     lam_kind kind;
-    const char *output, *input;
+    const char *output, *label;
+    char **inputs;
+    int ninputs;
 } options;
+
+static void parse_split(const char *arg, double split[3])
+{
+    char *end;
+    const char *p = arg;
+    for (int i = 0; i < 3; ++i) {
+        errno = 0;
+        split[i] = strtod(p, &end);
+        if (end == p || errno || (i < 2 && *end != ',') || (i == 2 && *end != '\0'))
+            lam_usage_error("option --split wants three fractions P,T,S, not '%s'", arg);
+        p = end + 1;
+    }
+}
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_TSV, OPT_PROGRESS, OPT_VERSION };
+    enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_PROGRESS, OPT_ERROR, OPT_SPLIT, OPT_CON,
+           OPT_PREP, OPT_ROT };
     static const struct option longopts[] = {
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"error", required_argument, 0, 'e'},
-        {"keep-bits", required_argument, 0, 'b'},
+        {"compare", no_argument, 0, 'C'},
+        {"error", required_argument, 0, OPT_ERROR},
+        {"split", required_argument, 0, OPT_SPLIT},
+        {"construction", required_argument, 0, OPT_CON},
+        {"prep-bits", required_argument, 0, OPT_PREP},
+        {"rot-bits", required_argument, 0, OPT_ROT},
         {"ungrouped", no_argument, 0, OPT_UNGROUPED},
         {"kind", required_argument, 0, OPT_KIND},
-        {"tsv", no_argument, 0, OPT_TSV},
+        {"tsv", no_argument, 0, 't'},
+        {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},
         {"quiet", no_argument, 0, 'q'},
         {"progress", no_argument, 0, OPT_PROGRESS},
         {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, OPT_VERSION},
+        {"version", no_argument, 0, 'V'},
         {0, 0, 0, 0}};
     memset(o, 0, sizeof *o);
-    o->par.error = LAM_COST_DEFAULT_ERROR;
+    o->error = LAM_COST_DEFAULT_ERROR;
+    o->split[0] = LAM_COST_DEFAULT_SPLIT_PHASE;
+    o->split[1] = LAM_COST_DEFAULT_SPLIT_TRUNC;
+    o->split[2] = LAM_COST_DEFAULT_SPLIT_SYNTH;
+    opterr = 0;
     int c;
-    while ((c = getopt_long(argc, argv, "e:b:o:qh", longopts, NULL)) != -1) {
+    while ((c = getopt_long(argc, argv, ":Ctl:o:qhV", longopts, NULL)) != -1) {
         switch (c) {
+        case 'C': o->compare = 1; break;
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
-        case 'e':
-            o->par.error = lam_opt_double("--error", optarg);
-            if (!(o->par.error > 0))
+        case OPT_ERROR:
+            o->error = lam_opt_double("--error", optarg);
+            if (!(o->error > 0))
                 lam_usage_error("option --error wants a positive energy in Eh, not '%s'", optarg);
             break;
-        case 'b': o->par.keep_bits = (int)lam_opt_long("--keep-bits", optarg, 1, 60); break;
+        case OPT_SPLIT: parse_split(optarg, o->split); break;
+        case OPT_CON:
+            if (lam_cost_construction_parse(optarg, &o->con) != 0)
+                lam_usage_error("option --construction wants flat, sparse, grouped or df, not '%s'",
+                                optarg);
+            o->have_con = 1;
+            break;
+        case OPT_PREP: o->par.prep_bits = (int)lam_opt_long("--prep-bits", optarg, 1, 60); break;
+        case OPT_ROT: o->par.rot_bits = (int)lam_opt_long("--rot-bits", optarg, 3, 60); break;
         case OPT_UNGROUPED: o->ungrouped = 1; break;
         case OPT_KIND:
             if (lam_kind_parse(optarg, &o->kind) != 0 ||
                 (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS))
                 lam_usage_error("option --kind wants pauli or fragments, not '%s'", optarg);
             break;
-        case OPT_TSV: o->tsv = 1; break;
+        case 't': o->tsv = 1; break;
+        case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
         case 'q':
             o->quiet = 1;
@@ -96,12 +151,27 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        case ':':
+            if (optopt > 0 && optopt < 128)
+                lam_usage_error("option '-%c' needs a value", optopt);
+            lam_usage_error("option '%s' needs a value", argv[optind - 1]);
+        default:
+            if (optopt > 0 && optopt < 128) lam_usage_error("unknown option '-%c'", optopt);
+            lam_usage_error("unknown option '%s'", argv[optind - 1]);
         }
     }
-    if (argc - optind > 1) lam_usage_error("one input at most, got %d", argc - optind);
-    o->input = optind < argc ? argv[optind] : NULL;
+    o->inputs = argv + optind;
+    o->ninputs = argc - optind;
+    if (!o->compare && o->ninputs > 1)
+        lam_usage_error("one input at most, got %d (several inputs want -C)", o->ninputs);
+    if (o->compare && o->tsv) lam_usage_error("-C writes a table already; leave out --tsv");
+    int stdin_uses = o->ninputs == 0;
+    for (int i = 0; i < o->ninputs; ++i) stdin_uses += strcmp(o->inputs[i], "-") == 0;
+    if (stdin_uses > 1) lam_usage_error("standard input can be read once only");
+    const char *why;
+    lam_cost_budget b;
+    if (lam_cost_budget_split(o->error, o->split, &b, &why) != 0) lam_usage_error("%s", why);
 }
 
 /* ---- telling a report from a stream ----
@@ -166,7 +236,7 @@ static int looks_like_report(const char *path, const char *name)
     for (char *line = buf; *line;) {
         char *next = strchr(line, '\n');
         if (line[0] != '#' && line[strspn(line, " \t\r\n")] != '\0' && line[0] != '\n') {
-            size_t key = strspn(line, "abcdefghijklmnopqrstuvwxyz_0123456789");
+            size_t key = strspn(line, "abcdefghijklmnopqrstuvwxyz_.0123456789");
             return key > 0 && line[key] == '\t' && line[0] >= 'a' && line[0] <= 'z';
         }
         if (!next) break;
@@ -197,7 +267,7 @@ static void summary_from_stream(const char *path, const options *o, lam_lcu_summ
     case LAM_KIND_PAULI: summary_from_pauli_stream(r, o, lcu); break;
     case LAM_KIND_FRAGMENTS: {
         lam_fragments *fr = lam_fragments_read(r);
-        lam_cost_summary_from_fragments(fr, lcu);
+        lam_cost_summary_from_fragments(fr, lam_reader_meta(r), lcu);
         lam_fragments_free(fr);
         break;
     }
@@ -229,7 +299,9 @@ static long long report_count(const lam_report_in *in, const char *name, const c
 
 /* lam-norm's report of a pauli stream: terms counts every line of the
  * merged operator, the identity included when the constant is not zero;
- * groups and lambda_grouped are present for labelled streams. */
+ * groups and lambda_grouped are present for labelled streams.  The report
+ * does not give the largest group: the bound strings - groups + 1 sets
+ * the rotation bits then. */
 static void summary_from_pauli_report(const lam_report_in *in, const char *name,
                                       const options *o, lam_lcu_summary *lcu)
 {
@@ -238,8 +310,10 @@ static void summary_from_pauli_report(const lam_report_in *in, const char *name,
     long long strings = terms - (constant != 0 && terms > 0 ? 1 : 0);
     lcu->form = "pauli";
     lcu->system_qubits = (int)report_count(in, name, "qubits");
-    lcu->lambda = report_number(in, name, "lambda");
-    lcu->unitaries = strings;
+    lcu->lambda = lcu->lambda_strings = report_number(in, name, "lambda");
+    lcu->unitaries = lcu->strings = strings;
+    lcu->trunc_input = -1;
+    lcu->trunc_source = "unknown (a report does not say)";
     int labelled = lam_report_get_str(in, "groups") != NULL;
     if (labelled && o->ungrouped)
         lam_fail_at(LAM_EX_DATA, name, 0,
@@ -247,17 +321,19 @@ static void summary_from_pauli_report(const lam_report_in *in, const char *name,
                     "how many distinct strings there are; give lam-cost the stream");
     if (labelled) {
         long long groups = report_count(in, name, "groups");
-        lcu->form = "pauli_grouped";
-        lcu->lambda = report_number(in, name, "lambda_grouped");
-        lcu->unitaries = groups;
-        lcu->rotations = 2 * (strings - groups);
-        if (lcu->rotations < 0)
+        if (groups > strings)
             lam_fail_at(LAM_EX_DATA, name, 0, "report has more groups (%lld) than terms (%lld)",
                         groups, strings);
+        lcu->form = "pauli_grouped";
+        lcu->lambda = report_number(in, name, "lambda_grouped");
+        lcu->unitaries = lcu->groups = groups;
+        lcu->flat_rotations = 2 * (strings - groups);
+        lcu->largest_group = (int)(strings - groups + 1 < 1 << 30 ? strings - groups + 1 : 1 << 30);
     }
 }
 
-/* lam-norm's report of a fragments stream carries the LCU size itself. */
+/* lam-norm's report of a fragments stream carries the LCU size, not the
+ * factors: only the flat count applies to it. */
 static void summary_from_fragments_report(const lam_report_in *in, const char *name,
                                           lam_lcu_summary *lcu)
 {
@@ -267,7 +343,11 @@ static void summary_from_fragments_report(const lam_report_in *in, const char *n
     lcu->lambda = report_number(in, name, "lambda");
     lcu->unitaries = report_count(in, name, "unitaries");
     lcu->system_qubits = 2 * (int)orbitals;
-    lcu->rotations = lam_cost_fragment_rotations(report_count(in, name, "fragments"), (int)orbitals);
+    lcu->orbitals = (int)orbitals;
+    lcu->trunc_input = -1;
+    lcu->trunc_source = "unknown (a report does not say)";
+    lcu->flat_rotations =
+        lam_cost_fragment_rotations(report_count(in, name, "fragments"), (int)orbitals);
 }
 
 static void summary_from_report(const char *path, const char *name, const options *o,
@@ -289,12 +369,10 @@ static void summary_from_report(const char *path, const char *name, const option
     lam_report_in_free(in);
 }
 
-int main(int argc, char **argv)
+/* Read one input (a file name, "-" or NULL for stdin) into lcu. */
+static void summarize(const char *input, const options *o, lam_lcu_summary *lcu)
 {
-    lam_set_program(argv[0]);
-    options o;
-    parse_options(argc, argv, &o);
-    const char *path = o.input && strcmp(o.input, "-") != 0 ? o.input : NULL;
+    const char *path = input && strcmp(input, "-") != 0 ? input : NULL;
     const char *name = path ? path : "<stdin>";
     if (path && !is_regular_file(path, name)) { /* a pipe such as <(...) */
         int fd = open(path, O_RDONLY);
@@ -304,25 +382,130 @@ int main(int argc, char **argv)
         path = NULL;
     }
     if (!path) spool_stdin();
-
-    lam_lcu_summary lcu;
-    memset(&lcu, 0, sizeof lcu);
+    memset(lcu, 0, sizeof *lcu);
     if (looks_like_report(path, name))
-        summary_from_report(path, name, &o, &lcu);
+        summary_from_report(path, name, o, lcu);
     else
-        summary_from_stream(path, &o, &lcu);
+        summary_from_stream(path, o, lcu);
+}
 
+/* ---- one input: the key/value report ---- */
+
+static void one_input(const options *o, const lam_cost_budget *bud)
+{
+    const char *input = o->ninputs ? o->inputs[0] : NULL;
+    const char *name = input && strcmp(input, "-") != 0 ? input : "<stdin>";
+    lam_lcu_summary lcu;
+    summarize(input, o, &lcu);
+    lam_construction con = o->have_con ? o->con : lam_cost_headline(&lcu);
+    if (!lam_cost_applies(&lcu, con))
+        lam_fail_at(LAM_EX_DATA, name, 0,
+                    "construction %s does not apply to this %s input (df needs a spin-symmetric "
+                    "fragments stream, not a report; grouped needs group labels; sparse needs "
+                    "Pauli strings)", lam_cost_construction_name(con), lcu.form);
     lam_cost_estimate est;
     const char *why = NULL;
-    if (lam_cost_estimate_lcu(&lcu, &o.par, &est, &why) != 0)
+    if (lam_cost_estimate_one(&lcu, con, bud, &o->par, &est, &why) != 0)
         lam_fail_at(LAM_EX_DATA, name, 0, "%s", why);
-
+    if (lcu.trunc_input > bud->trunc && !o->quiet)
+        lam_warn("%s: the input's truncation (%.3g Eh, from %s) exceeds its share eps.trunc "
+                 "(%.3g Eh)", name, lcu.trunc_input, lcu.trunc_source, bud->trunc);
     lam_report *rep = lam_report_new();
-    lam_cost_report(rep, &lcu, &o.par, &est);
-    lam_report_save(rep, o.output, o.tsv);
+    if (o->label) lam_report_str(rep, "label", o->label);
+    lam_cost_report(rep, &lcu, bud, &est);
+    lam_report_save(rep, o->output, o->tsv);
     lam_report_free(rep);
+}
+
+/* ---- several inputs: one row per construction that applies ---- */
+
+typedef struct {
+    const char *input;
+    lam_lcu_summary lcu;
+    lam_cost_estimate est;
+} row;
+
+static int by_run_toffoli(const void *a, const void *b)
+{
+    long long x = ((const row *)a)->est.run_toffoli, y = ((const row *)b)->est.run_toffoli;
+    return (x > y) - (x < y);
+}
+
+static void write_table(FILE *f, const options *o, const lam_cost_budget *bud, const row *rows,
+                        size_t n)
+{
+    char lam[40], trunc[40];
+    if (o->label) fputs("label\t", f);
+    fputs("input\tform\tconstruction\tlambda\twalk.steps\tstep.toffoli\tstep.rotations\t"
+          "rot.bits\trun.toffoli\trun.qubits\teps.total\teps.phase\teps.trunc\teps.synth\t"
+          "trunc.input\n", f);
+    for (size_t i = 0; i < n; ++i) {
+        const row *r = &rows[i];
+        lam_format_double(lam, sizeof lam, r->est.lambda);
+        if (r->lcu.trunc_input >= 0)
+            snprintf(trunc, sizeof trunc, "%.3g", r->lcu.trunc_input);
+        else
+            snprintf(trunc, sizeof trunc, "unknown");
+        if (o->label) fprintf(f, "%s\t", o->label);
+        fprintf(f, "%s\t%s\t%s\t%s\t%lld\t%lld\t%lld\t%d\t%lld\t%d\t%g\t%g\t%g\t%g\t%s\n",
+                r->input, r->lcu.form, lam_cost_construction_name(r->est.con), lam,
+                r->est.walk_steps, r->est.step_toffoli, r->est.step_rotations, r->est.rot_bits,
+                r->est.run_toffoli, r->est.run_qubits, bud->total, bud->phase, bud->trunc,
+                bud->synth, trunc);
+    }
+    fputs("# estimates of one construction each (lam-cost(1)); they leave out magic-state "
+          "distillation, routing, layout and error-correction overhead\n", f);
+}
+
+static void compare(const options *o, const lam_cost_budget *bud)
+{
+    int ninputs = o->ninputs ? o->ninputs : 1;
+    row *rows = lam_malloc(lam_mul_size((size_t)ninputs * LAM_CON_COUNT, sizeof *rows));
+    size_t n = 0;
+    for (int i = 0; i < ninputs; ++i) {
+        const char *input = o->ninputs ? o->inputs[i] : "-";
+        const char *name = strcmp(input, "-") != 0 ? input : "<stdin>";
+        lam_lcu_summary lcu;
+        summarize(input, o, &lcu);
+        for (int c = 0; c < LAM_CON_COUNT; ++c) {
+            if (!lam_cost_applies(&lcu, (lam_construction)c)) continue;
+            if (o->have_con && c != (int)o->con) continue;
+            row *r = &rows[n];
+            const char *why = NULL;
+            if (lam_cost_estimate_one(&lcu, (lam_construction)c, bud, &o->par, &r->est, &why) != 0)
+                lam_fail_at(LAM_EX_DATA, name, 0, "%s", why);
+            r->input = name;
+            r->lcu = lcu;
+            ++n;
+        }
+        if (lcu.trunc_input > bud->trunc && !o->quiet)
+            lam_warn("%s: the input's truncation (%.3g Eh, from %s) exceeds its share "
+                     "eps.trunc (%.3g Eh)", name, lcu.trunc_input, lcu.trunc_source, bud->trunc);
+    }
+    qsort(rows, n, sizeof *rows, by_run_toffoli);
+    FILE *f = o->output && strcmp(o->output, "-") != 0 ? fopen(o->output, "w") : stdout;
+    if (!f) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", o->output, strerror(errno));
+    write_table(f, o, bud, rows, n);
+    if ((f == stdout ? fflush(f) : fclose(f)) != 0 || (f == stdout && ferror(f)))
+        lam_fail(LAM_EX_IOERR, "cannot write %s: %s", f == stdout ? "<stdout>" : o->output,
+                 strerror(errno));
+    free(rows);
+}
+
+int main(int argc, char **argv)
+{
+    lam_set_program(argv[0]);
+    options o;
+    parse_options(argc, argv, &o);
+    lam_cost_budget bud;
+    const char *why = NULL;
+    lam_cost_budget_split(o.error, o.split, &bud, &why); /* checked by parse_options */
+    if (o.compare)
+        compare(&o, &bud);
+    else
+        one_input(&o, &bud);
     if (!o.quiet)
-        fprintf(stderr, "%s: note: these figures are estimates of one textbook construction "
+        fprintf(stderr, "%s: note: these figures are estimates of one construction each "
                 "(see the 'assumes' line and lam-cost(1))\n", lam_program());
     return 0;
 }
