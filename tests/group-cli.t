@@ -22,11 +22,11 @@ like "$OUT" "Example" "--help has an example"
 runlam lam-group --version
 is "$RC" 0 "--version exits 0"
 
-runlam lam-group "$H2"
+runlam lam-group -r "$TMP/r" "$H2"
 is "$RC" 0 "groups the H2 Hamiltonian"
-is "$(printf '%s\n' "$ERR" | report_get groups)" 10 "H2: 10 groups (4 pairs, 6 single ZZ)"
-near "$(printf '%s\n' "$ERR" | report_get lambda_grouped)" "$want" 1e-9 "H2: lambda_grouped of the best pairing"
-near "$(printf '%s\n' "$ERR" | report_get lambda)" 1.8850504923 1e-9 "H2: lambda as published"
+is "$(report_get groups <"$TMP/r")" 10 "H2: 10 groups (4 pairs, 6 single ZZ)"
+near "$(report_get lambda_grouped <"$TMP/r")" "$want" 1e-9 "H2: lambda_grouped of the best pairing"
+near "$(report_get lambda <"$TMP/r")" 1.8850504923 1e-9 "H2: lambda as published"
 like "$OUT" "grouping: anticommuting" "header says how it is grouped"
 is "$(printf '%s\n' "$OUT" | grep -v '^#' | head -1)" "-0.098863969800000007" "identity first, unlabelled"
 is "$(printf '%s\n' "$OUT" | grep -v '^#' | grep -vc '@[0-9]*$')" 1 "every other term labelled"
@@ -58,18 +58,18 @@ a=$(lam lam-group "$H2" 2>/dev/null | md5sum)
 b=$(lam lam-group "$H2" 2>/dev/null | md5sum)
 is "$a" "$b" "same input, same output"
 
-runlam lam-group --commuting "$H2"
+runlam lam-group --commuting -r "$TMP/r" "$H2"
 is "$RC" 0 "--commuting"
 like "$OUT" "grouping: commuting" "--commuting header"
 # the Z terms all commute, the XXYY-type terms too: two groups suffice
-is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "--commuting: Z strings and XXYY strings"
+is "$(report_get groups <"$TMP/r")" 2 "--commuting: Z strings and XXYY strings"
 printf '%s\n' "$OUT" >"$TMP/c.g"
 runlam lam-group --check "$TMP/c.g"
 is "$RC" 0 "--check reads the grouping from the header"
 
 for m in sorted best; do
-    runlam lam-group -m "$m" -r 0 --no-split "$H2"
-    near "$(printf '%s\n' "$ERR" | report_get lambda_grouped)" "$want" 1e-9 "--method $m"
+    runlam lam-group -m "$m" --refine 0 --no-split -r "$TMP/r" "$H2"
+    near "$(report_get lambda_grouped <"$TMP/r")" "$want" 1e-9 "--method $m"
 done
 
 # bad input
@@ -97,11 +97,41 @@ runlam lam-group "$TMP/nan"
 is "$RC" 65 "NaN coefficient: exit 65"
 
 # header-less input on stdin, already labelled input re-grouped
-runlam_in $'0.5 X0 @7\n0.5 Z0 @9\n0.25 Z1\n' lam-group
+runlam_in $'0.5 X0 @7\n0.5 Z0 @9\n0.25 Z1\n' lam-group -r "$TMP/r"
 is "$RC" 0 "stdin without header"
-is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "old labels replaced: X0 with Z0, Z1 alone"
+is "$(report_get groups <"$TMP/r")" 2 "old labels replaced: X0 with Z0, Z1 alone"
 runlam_in $'0.5 X0 @1\n0.5 Z0 @1\n0.25 Z1 @1\n' lam-group --check
 is "$RC" 65 "--check on stdin without qubits: exit 65"
 like "$ERR" "<stdin>:3: group 1: 'Z1' commutes with 'X0' of line 1" "names both lines, also without a qubits line"
+
+# Issue 15 item 11: the report goes to --report only, never to stderr, so
+# errors stay visible; without --report there is none.
+runlam lam-group "$H2"
+is "$RC/$ERR" "0/" "no --report: nothing on stderr"
+runlam lam-group -r - -o "$TMP/s.g" "$H2"
+is "$(report_get groups <<<"$OUT")" 10 "-r - with -o FILE: the report on stdout"
+runlam lam-group -r - "$H2"
+is "$RC" 64 "-r - without -o: exit 64 (stdout carries the stream)"
+runlam lam-group -t "$H2"
+is "$RC" 64 "--tsv without --report: exit 64"
+
+# Issue 15 item 4: an unwritable report path fails before the stream is written.
+runlam lam-group -r "$TMP/no-such-dir/rep" "$H2"
+is "$RC/${#OUT}" "74/0" "unwritable --report: exit 74, nothing on stdout"
+like "$ERR" "^lam-group: cannot open .*no-such-dir/rep" "unwritable --report: message names the path"
+
+# Issue 15 item 12: one fixed TSV column set for every mode, a label column.
+runlam lam-group -r "$TMP/a.tsv" -t -l anti -o /dev/null "$H2"
+runlam lam-group --commuting -r "$TMP/c.tsv" -t -o /dev/null "$H2"
+runlam lam-group --check -t "$TMP/c.g"
+printf '%s\n' "$OUT" >"$TMP/k.tsv"
+is "$(head -qn1 "$TMP/a.tsv" "$TMP/c.tsv" "$TMP/k.tsv" | sort -u | wc -l)" 1 "--tsv: the same header for anticommuting, commuting and --check"
+col() { awk -F'\t' -v k="$1" 'NR == 1 { for (i = 1; i <= NF; i++) if ($i == k) c = i; next } { print $c }' "$2"; }
+is "$(col label "$TMP/a.tsv")/$(col label "$TMP/c.tsv")" "anti/$H2" "--tsv: -l sets the label, the input's name by default"
+is "$(col group_norm_sum "$TMP/a.tsv")/$(col lambda_grouped "$TMP/c.tsv")/$(col status "$TMP/k.tsv")" "NA/NA/ok" \
+    "--tsv: values of the other grouping are NA"
+near "$(col lambda_grouped "$TMP/a.tsv")" "$want" 1e-9 "--tsv: lambda_grouped in its column"
+
+one_bad_option_message lam-group -r
 
 done_testing
