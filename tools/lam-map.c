@@ -7,6 +7,7 @@
 #include "encoding.h"
 #include "fermion.h"
 #include "pauli.h"
+#include "spinfree.h"
 #include "stream.h"
 #include "util.h"
 
@@ -18,7 +19,7 @@ static _Noreturn void usage(void)
            "(Eh), the identity as the bare constant.  Every Majorana monomial becomes one\n"
            "Pauli string, so the one-norm is the same under every encoding.\n\n"
            "  -e, --encoding E     jordan-wigner (default), bravyi-kitaev or parity\n"
-           "  -s, --spin-order O   interleaved (default: qubit 2p is orbital p spin up,\n"
+           "      --spin-order O   interleaved (default: qubit 2p is orbital p spin up,\n"
            "                       2p+1 spin down) or blocked (spin-up modes first); a\n"
            "                       fermion stream is relabelled from its own spin-order\n"
            "  -d, --drop TOL       remove terms with |c| <= TOL Eh (never the identity);\n"
@@ -29,7 +30,7 @@ static _Noreturn void usage(void)
            "      --progress       report progress on stderr (default: when a terminal)\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
-           "      --version        show the version\n\n"
+           "  -V, --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2.fcidump | %s --encoding bravyi-kitaev | lam-norm\n",
            lam_program(), lam_program());
@@ -49,23 +50,29 @@ typedef struct {
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_PROGRESS = 256, OPT_VERSION };
+    enum { OPT_SPIN_ORDER = 256, OPT_PROGRESS };
     static const struct option opts[] = {
-        {"encoding", required_argument, 0, 'e'}, {"spin-order", required_argument, 0, 's'},
-        {"drop", required_argument, 0, 'd'},     {"kind", required_argument, 0, 'k'},
-        {"output", required_argument, 0, 'o'},   {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS}, {"quiet", no_argument, 0, 'q'},
-        {"help", no_argument, 0, 'h'},           {"version", no_argument, 0, OPT_VERSION},
+        {"encoding", required_argument, 0, 'e'},
+        {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
+        {"drop", required_argument, 0, 'd'},
+        {"kind", required_argument, 0, 'k'},
+        {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},
+        {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},
+        {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, 'V'},
         {0, 0, 0, 0}};
     int c;
-    while ((c = getopt_long(argc, argv, "e:s:d:k:o:zqh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":e:d:k:o:zqhV", opts, NULL)) != -1) {
         switch (c) {
         case 'e':
             if (lam_encoding_parse(optarg, &o->encoding) != 0)
                 lam_usage_error("--encoding wants jordan-wigner, bravyi-kitaev or parity, not '%s'",
                                 optarg);
             break;
-        case 's':
+        case OPT_SPIN_ORDER:
             if (lam_spin_order_parse(optarg, &o->spin) != 0)
                 lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
             o->spin_given = 1;
@@ -85,12 +92,52 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': lam_progress_set(0); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
     if (argc - optind > 1) lam_usage_error("one stream at a time");
     o->input = optind < argc ? argv[optind] : NULL;
+}
+
+/* Past this size the dense h and (pq|rs) of a spinfree stream are not
+ * built: its terms go one by one into ladder operators, so the memory
+ * follows the terms written, not n^4 (a sparse stream that declares 3000
+ * orbitals would otherwise ask for 650 TB). */
+#define DENSE_SPINFREE_BYTES (256.0 * 1024 * 1024)
+
+static int wants_term_by_term(lam_reader *r, lam_kind kind)
+{
+    if (kind != LAM_KIND_SPINFREE) return 0;
+    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    return n >= 0 && (double)lam_spinfree_bytes((int)n) > DENSE_SPINFREE_BYTES;
+}
+
+typedef struct {
+    lam_fermion_op op;
+    lam_spin_order order;
+    int n;
+} sparse_ctx;
+
+static void add_sparse_term(void *ctx, double c, int nidx, const int *idx, long line)
+{
+    sparse_ctx *s = ctx;
+    lam_fermion_add_spinfree_term(&s->op, s->order, s->n, c, nidx, idx, line);
+}
+
+/* The Majorana monomials of a large spinfree stream, term by term. */
+static lam_spin_order read_majorana_term_by_term(lam_reader *r, const options *o,
+                                                 lam_majorana_set *m)
+{
+    sparse_ctx s;
+    s.order = o->spin_given ? o->spin : lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+    s.n = (int)lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    lam_fermion_init(&s.op, 2 * s.n);
+    lam_spinfree_read_each(r, add_sparse_term, &s);
+    lam_majorana_from_fermion(&s.op, m);
+    lam_fermion_free(&s.op);
+    lam_majorana_require_hermitian(m, lam_reader_name(r));
+    return s.order;
 }
 
 /* Strings go straight to the output, so no set of them is ever held;
@@ -134,7 +181,9 @@ int main(int argc, char **argv)
                         lam_kind_name(kind));
     double t0 = lam_seconds();
     lam_majorana_set m;
-    lam_spin_order order = lam_majorana_read(r, kind, o.spin_given ? &o.spin : NULL, &m);
+    lam_spin_order order = wants_term_by_term(r, kind)
+                               ? read_majorana_term_by_term(r, &o, &m)
+                               : lam_majorana_read(r, kind, o.spin_given ? &o.spin : NULL, &m);
     lam_progress("%zu Majorana monomials in %.1f s", m.count, lam_seconds() - t0);
 
     lam_encoding *enc = lam_encoding_new(o.encoding, m.nmodes);
