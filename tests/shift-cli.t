@@ -128,7 +128,7 @@ runlam lam-shift --emit-recorded "$TMP/s2.sf"
 is "$RC" 0 "--emit-recorded exits 0"
 printf '%s\n' "$OUT" >"$TMP/krec.sf"
 if [ -x "$LAM_BIN/lam-sum" ]; then
-    lam lam-sum "$TMP/h2.sf" -1:"$TMP/s2.sf" -1:"$TMP/krec.sf" >"$TMP/diff.sf"
+    lam lam-sum "$TMP/h2.sf" --scale -1 "$TMP/s2.sf" --scale -1 "$TMP/krec.sf" >"$TMP/diff.sf"
     near "$(lam lam-norm "$TMP/diff.sf" | report_get lambda)" 0 1e-13 \
         "H - (shifted twice + recorded K): lambda 0"
     near "$(lam lam-norm "$TMP/diff.sf" | report_get constant)" 0 1e-13 \
