@@ -2,21 +2,20 @@
 # cost-cli.t - lam-cost on the command line: good input, bad input, exit codes.
 source "$(dirname "$0")/lib/tap.sh"
 
-# H2/STO-3G at 0.7414 A, Jordan-Wigner, interleaved spin order: the widely
-# published coefficients of facts.md (from memory).
-cp "$TESTS_DIR/data/h2-jw-published.op" "$TMP/h2.pauli"
+# H2/STO-3G at 1.4 bohr, Jordan-Wigner, from the Szabo-Ostlund integrals (derivation in the file).
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr-jw.op" "$TMP/h2.pauli"
 
 # Walk steps ceil(pi lambda / (2 eps)) (Babbush et al., PRX 8, 041015
-# (2018), from memory), by hand: pi * 1.8850504924 / 0.0032 = 1850.64 -> 1851.
+# (2018), from memory), by hand: pi * 1.885925 / 0.0032 = 1851.50 -> 1852.
 runlam lam-cost "$TMP/h2.pauli"
 is "$RC" 0 "pauli stream: exit 0"
-is "$(report_get walk_steps <<< "$OUT")" 1851 "H2 walk steps at 1.6 mEh by hand: 1851"
-near "$(report_get lambda <<< "$OUT")" 1.8850504924 1e-10 "lambda is the sum of |c| without the identity"
+is "$(report_get walk_steps <<< "$OUT")" 1852 "H2 walk steps at 1.6 mEh by hand: 1852"
+near "$(report_get lambda <<< "$OUT")" 1.885925 1e-10 "lambda is the sum of |c| without the identity"
 is "$(report_get unitaries <<< "$OUT")" 14 "14 unitaries (identity not counted)"
 is "$(report_get form <<< "$OUT")" pauli "form pauli"
 like "$(report_get assumes <<< "$OUT")" "estimate" "report says what it assumes"
 like "$ERR" "estimates" "note on stderr"
-# pi * 1.8850504924 / 0.02 = 296.10 -> 297 (same source).
+# pi * 1.885925 / 0.02 = 296.24 -> 297 (same source).
 runlam lam-cost --error 0.01 -q "$TMP/h2.pauli"
 is "$(report_get walk_steps <<< "$OUT")" 297 "H2 walk steps at 10 mEh by hand: 297"
 is "$ERR" "" "--quiet leaves stderr empty"
@@ -46,10 +45,10 @@ runlam lam-cost -q --ungrouped "$TMP/grouped.pauli"
 near "$(report_get lambda <<< "$OUT")" 7.5 1e-12 "--ungrouped: lambda 7.5"
 
 # A lam-norm style report.
-printf 'kind\tpauli\nterms\t15\nconstant\t-0.0988639698\nlambda\t1.8850504924\nqubits\t4\n' > "$TMP/h2.norm"
+printf 'kind\tpauli\nterms\t15\nconstant\t-0.098125\nlambda\t1.8859250000000003\nqubits\t4\n' > "$TMP/h2.norm"
 runlam lam-cost -q "$TMP/h2.norm"
 is "$RC" 0 "report input: exit 0"
-is "$(report_get walk_steps <<< "$OUT")" 1851 "report input: same walk steps"
+is "$(report_get walk_steps <<< "$OUT")" 1852 "report input: same walk steps"
 is "$(report_get unitaries <<< "$OUT")" 14 "report input: terms minus the identity"
 is "$(printf '%s' "$OUT")" "$OUT2" "report and stream give the same estimate"
 

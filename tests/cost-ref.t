@@ -5,7 +5,7 @@ Walk steps of qubitized phase estimation: ceil(pi * lambda / (2 eps))
 (Babbush et al., Phys. Rev. X 8, 041015 (2018); Lee et al., PRX Quantum 2,
 030305 (2021); both from memory).  The one-norms are recomputed here in
 Python from the operators the pipeline writes, independently of lamina's
-readers, and the H2 one-norm is the published value of facts.md.
+readers; the H2 one-norm is the one norm-ref.t checks against numpy.
 """
 import math
 import os
@@ -56,7 +56,7 @@ def pauli_lambda(terms, grouped):
 
 
 # 1. H2/STO-3G at 0.7414 A: Jordan-Wigner one-norm 1.8850504923 Eh
-# (facts.md, widely published, from memory).  By hand:
+# (of psi4's integrals, as lam-norm gives it; see norm-ref.t).  By hand:
 # pi * 1.8850504923 / 0.0032 = 1850.64 -> 1851 at 1.6 mEh and
 # pi * 1.8850504923 / 0.0002 = 29610.30 -> 29611 at 0.1 mEh.
 h2, _ = molecules.reference("h2")
@@ -66,7 +66,7 @@ for eps, want in ((1.6e-3, 1851), (1e-4, 29611)):
                                      stdin=h2_pauli, check=True)[1])
     t.ok(rep.get("walk_steps") == want,
          "H2 walk steps at %g Eh: %d by hand" % (eps, want), rep.get("walk_steps"))
-    t.near(rep.get("lambda"), 1.8850504923, 1e-9, "H2 lambda = published 1.8850504923 Eh")
+    t.near(rep.get("lambda"), 1.8850504923, 1e-9, "H2 lambda = 1.8850504923 Eh")
 
 # 2. LiH (frozen core) and water: lambda recomputed here from the Pauli
 # terms, with and without grouping, and from the fragments stream.

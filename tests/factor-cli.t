@@ -6,7 +6,7 @@ source "$(dirname "$0")/lib/tap.sh"
 # (Szabo and Ostlund, Modern Quantum Chemistry (1989), ch. 3; from memory,
 # four figures).  (12|12) = 0.1813 fills (12|21), (21|12), (21|21) by the
 # format's 8-fold symmetry.
-cp "$TESTS_DIR/data/szabo-h2.fcidump" "$TMP/h2.fcidump"
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump" "$TMP/h2.fcidump"
 lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
 ok $? "lam-ints turns the FCIDUMP into a spinfree stream"
 

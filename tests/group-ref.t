@@ -16,7 +16,7 @@ integrals).  For each, `lam-ints | lam-map | lam-group` without and with
   operator built here from the stream;
 - with the shift, lambda_grouped >= n_half_range (the floor on the
   N-electron block), from numpy on that block;
-- the rule of thumb of the trade (common practice, facts.md): shift plus
+- the rule of thumb of the trade (common practice): shift plus
   grouping lowers the one-norm by about a factor of three against the
   plain Pauli one-norm; asserted loosely as a factor of at least 2.
 """

@@ -118,7 +118,7 @@ like "$ERR" "^lam-map: $TMP/b9.op:4: mode 2 out of range" "mode out of range nam
 # Issue 15 item 5: a sparse spinfree stream that declares 3000 orbitals is
 # mapped term by term, never as dense n^4 arrays (650 TB here).  The H2
 # terms placed in such a stream give the Pauli one-norm of H2 itself.
-lam lam-ints "$TESTS_DIR/data/szabo-h2.fcidump" >"$TMP/h2.sf"
+lam lam-ints "$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump" >"$TMP/h2.sf"
 sed 's/^#% orbitals: 2$/#% orbitals: 3000/' "$TMP/h2.sf" >"$TMP/h2-3000.sf"
 like "$(cat "$TMP/h2-3000.sf")" "#% orbitals: 3000" "a 3000-orbital stream with the H2 terms"
 (ulimit -v 400000; lam lam-map -o "$TMP/h2-3000.p" "$TMP/h2-3000.sf" 2>"$TMP/err")

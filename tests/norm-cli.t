@@ -116,7 +116,7 @@ is "$RC" 65 "spinfree index out of range: exit 65"
 
 # A stream written by lam-map says "distinct: yes" and is summed in one pass;
 # the same terms without that line go through the hash merge: same report.
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 lam lam-ints "$SZ" | lam lam-map > "$TMP/d.op"
 like "$(cat "$TMP/d.op")" '#% distinct: yes' "lam-map states that its strings are distinct"
 is "$(lam lam-norm -l d "$TMP/d.op")" "$(grep -v '^#% distinct' "$TMP/d.op" | lam lam-norm -l d)" \

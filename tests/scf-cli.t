@@ -7,7 +7,7 @@
 #   (22|22) 0.6975, orbital energies -0.5782 and 0.6703, E_HF -1.1167 Eh;
 #   compared to 4 decimals.
 # - Water, STO-3G, bohr geometry of T. D. Crawford's programming projects
-#   3 and 4 (from memory, /work/shared/reference/facts.md): E_nuc
+#   3 and 4 (from memory): E_nuc
 #   8.002367061810450, E_SCF -74.942079928192 Eh.
 # - FCIDUMP header layout (Knowles and Handy 1989; common practice).
 source "$(dirname "$0")/lib/tap.sh"

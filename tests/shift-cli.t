@@ -3,8 +3,8 @@
 source "$(dirname "$0")/lib/tap.sh"
 
 # H2 in a minimal basis at R = 1.4 bohr: Szabo and Ostlund, Modern Quantum
-# Chemistry (1989), chapter 3 (values from memory, see facts.md).
-cp "$TESTS_DIR/data/szabo-h2.fcidump" "$TMP/h2.fcidump"
+# Chemistry (Dover 1996), section 3.5.2 (values from memory).
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump" "$TMP/h2.fcidump"
 lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
 
 runlam lam-shift --help

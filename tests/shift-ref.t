@@ -228,8 +228,8 @@ for name in MOLECULES:
     tap.ok(kmax <= 1e-10, "%s: K is zero on the %d-electron block (max %.2g)" % (name, nelec, kmax))
     lo_h, hi_h, ev_h = extremes(H, nb)
     if ref["frozen"] == 0:
-        # psi4's frozen-core FCIDUMPs lack some one-body integrals (see
-        # /work/briefs/requests.md), so only all-electron ones are compared
+        # psi4's frozen-core FCIDUMPs lack some one-body integrals (observed
+        # in scf-ref.t), so only all-electron ones are compared
         tap.near(lo_h, ref["fci"], 1e-8, "%s: N-block minimum of H = psi4 FCI" % name)
     lo_k, hi_k, ev_k = extremes(HK, nb)
     tap.ok(np.max(np.abs(ev_h - ev_k)) <= 1e-9,

@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # lam-sum on the command line, and the stream reader's error handling.
 source "$(dirname "$0")/lib/tap.sh"
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 lam lam-ints "$SZ" > "$TMP/h.op"
 terms() { grep -v '^#' "$1"; }
 
