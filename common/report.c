@@ -169,6 +169,32 @@ void lam_report_save(const lam_report *rep, const char *path, int tsv)
     lam_report_close(f, path);
 }
 
+/* ---- --drop ---- */
+
+void lam_drop_parse(lam_drop *d, const char *arg)
+{
+    d->tol = lam_opt_double("--drop", arg);
+    if (d->tol < 0) lam_usage_error("--drop wants a tolerance >= 0, not '%s'", arg);
+    d->text = arg;
+    d->on = 1;
+}
+
+int lam_drop_takes(lam_drop *d, double c, int is_constant)
+{
+    if (!d->on || is_constant || fabs(c) > d->tol) return 0;
+    d->count++;
+    d->norm += fabs(c);
+    return 1;
+}
+
+void lam_drop_say(const lam_drop *d)
+{
+    if (!d->on) return;
+    char nb[LAM_DOUBLE_BUF];
+    lam_format_double(nb, sizeof nb, d->norm);
+    lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", d->count, d->text, nb);
+}
+
 /* ---- reading ---- */
 
 struct lam_report_in {

@@ -43,6 +43,24 @@ void lam_report_save(const lam_report *rep, const char *path, int tsv);
 FILE *lam_report_open(const char *path);
 void lam_report_close(FILE *f, const char *path);
 
+/* --drop TOL of the programs that remove small terms (lam-map, lam-sum):
+ * the tolerance, and what was removed, counted so that the program can say
+ * it on stderr.  Nothing is dropped while no --drop was given. */
+typedef struct {
+    int on;
+    double tol;
+    const char *text; /* TOL as given */
+    size_t count;
+    double norm;
+} lam_drop;
+/* Parse the option's value (a number >= 0; exit 64 otherwise). */
+void lam_drop_parse(lam_drop *d, const char *arg);
+/* 1 (and counted) when a term of coefficient c is to be removed; the
+ * constant or identity (is_constant) never is. */
+int lam_drop_takes(lam_drop *d, double c, int is_constant);
+/* "dropped N terms with |c| <= TOL Eh, one-norm removed X Eh" on stderr. */
+void lam_drop_say(const lam_drop *d);
+
 /* Read a text report (as written above; path NULL or "-" is stdin).
  * lam_report_get returns 1 and the value when key is present and numeric,
  * else 0 and NAN.  Used by programs that take a report as input. */

@@ -7,6 +7,7 @@
 #include "encoding.h"
 #include "fermion.h"
 #include "pauli.h"
+#include "report.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
@@ -41,8 +42,7 @@ typedef struct {
     lam_encoding_kind encoding;
     int spin_given;
     lam_spin_order spin;
-    double drop;
-    const char *drop_text;
+    lam_drop drop;
     int gzip;
     lam_kind kind;
     const char *output, *input;
@@ -78,9 +78,7 @@ static void parse_options(int argc, char **argv, options *o)
             o->spin_given = 1;
             break;
         case 'd':
-            o->drop = lam_opt_double("--drop", optarg);
-            o->drop_text = optarg;
-            if (o->drop < 0) lam_usage_error("--drop wants a tolerance >= 0, not '%s'", optarg);
+            lam_drop_parse(&o->drop, optarg);
             break;
         case 'k':
             if (lam_kind_parse(optarg, &o->kind) != 0 ||
@@ -147,19 +145,14 @@ typedef struct {
     int nwords;
     char *buf;
     size_t size;
-    double drop;
-    size_t kept, dropped;
-    double dropped_norm;
+    lam_drop *drop;
+    size_t kept;
 } writer_ctx;
 
 static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double coef)
 {
     writer_ctx *c = ctx;
-    if (fabs(coef) <= c->drop && !lam_pauli_is_identity(c->nwords, x, z)) {
-        ++c->dropped;
-        c->dropped_norm += fabs(coef);
-        return;
-    }
+    if (lam_drop_takes(c->drop, coef, lam_pauli_is_identity(c->nwords, x, z))) return;
     if (lam_pauli_format(c->buf, c->size, c->nwords, x, z) < 0)
         lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
     lam_writer_term(c->w, coef, c->buf);
@@ -169,7 +162,7 @@ static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
-    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, -1.0, NULL, 0,
+    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, {0, 0.0, NULL, 0, 0.0}, 0,
                  LAM_KIND_UNKNOWN, NULL, NULL};
     parse_options(argc, argv, &o);
 
@@ -197,7 +190,7 @@ int main(int argc, char **argv)
     lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
     char *history = lam_history_from_argv(argc, argv);
     writer_ctx c = {lam_writer_open(o.output, o.gzip), enc->nwords, NULL,
-                    (size_t)m.nmodes * 10 + 32, o.drop, 0, 0, 0.0};
+                    (size_t)m.nmodes * 10 + 32, &o.drop, 0};
     c.buf = lam_malloc(c.size);
     /* merged Majorana monomials map one to one onto Pauli strings */
     lam_writer_set_distinct(c.w);
@@ -205,12 +198,7 @@ int main(int argc, char **argv)
     lam_encoding_each_pauli(enc, &m, write_string, &c);
     lam_writer_close(c.w);
     lam_progress("%zu Pauli strings written in %.1f s", c.kept, lam_seconds() - t0);
-    if (o.drop >= 0) {
-        char nb[LAM_DOUBLE_BUF];
-        lam_format_double(nb, sizeof nb, c.dropped_norm);
-        lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", c.dropped,
-                 o.drop_text, nb);
-    }
+    lam_drop_say(&o.drop);
 
     free(c.buf);
     free(history);

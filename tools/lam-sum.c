@@ -8,6 +8,7 @@
 
 #include "fermion.h"
 #include "pauli.h"
+#include "report.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
@@ -45,8 +46,7 @@ typedef struct {
     int sort, gzip;
     lam_kind forced;
     const char *out;
-    double drop; /* < 0: no --drop */
-    const char *drop_text;
+    lam_drop drop;
     input *inputs;
     int ninputs;
 } options;
@@ -233,43 +233,29 @@ static void sort_fermion(lam_fermion_op *op)
 
 /* ---- --drop: what is removed is counted, never the constant ---- */
 
-typedef struct {
-    double tol;
-    size_t count;
-    double norm;
-} drop_tally;
-
-static int drops(drop_tally *d, double c, int is_constant)
-{
-    if (is_constant || c == 0.0 || fabs(c) > d->tol) return 0;
-    d->count++;
-    d->norm += fabs(c);
-    return 1;
-}
-
-static void drop_spinfree(lam_spinfree *sf, drop_tally *d)
+static void drop_spinfree(lam_spinfree *sf, lam_drop *d)
 {
     int n = sf->n;
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q)
-            if (drops(d, LAM_H(sf, p, q), 0)) LAM_H(sf, p, q) = 0.0;
+            if (LAM_H(sf, p, q) != 0.0 && lam_drop_takes(d, LAM_H(sf, p, q), 0)) LAM_H(sf, p, q) = 0.0;
     /* a written two-body line merges e_pqrs and e_rspq: drop both halves */
     for (int pq = 0; pq < n * n; ++pq)
         for (int rs = pq; rs < n * n; ++rs) {
             int p = pq / n, q = pq % n, r = rs / n, s = rs % n;
             double c = pq == rs ? 0.5 * LAM_G(sf, p, q, r, s)
                                 : 0.5 * (LAM_G(sf, p, q, r, s) + LAM_G(sf, r, s, p, q));
-            if (drops(d, c, 0)) LAM_G(sf, p, q, r, s) = LAM_G(sf, r, s, p, q) = 0.0;
+            if (c != 0.0 && lam_drop_takes(d, c, 0)) LAM_G(sf, p, q, r, s) = LAM_G(sf, r, s, p, q) = 0.0;
         }
 }
 
-static void drop_pauli(lam_pauli_set *s, drop_tally *d)
+static void drop_pauli(lam_pauli_set *s, lam_drop *d)
 {
     lam_pauli_set kept;
     lam_pauli_set_init(&kept, s->nqubits);
     lam_pauli_set_reserve(&kept, s->count);
     for (size_t t = 0; t < s->count; ++t)
-        if (!drops(d, s->coef[t],
+        if (!lam_drop_takes(d, s->coef[t],
                    lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t))))
             lam_pauli_set_add(&kept, lam_pauli_x(s, t), lam_pauli_z(s, t), s->coef[t],
                               s->group ? s->group[t] : -1);
@@ -277,26 +263,17 @@ static void drop_pauli(lam_pauli_set *s, drop_tally *d)
     *s = kept;
 }
 
-static void drop_fermion(lam_fermion_op *op, drop_tally *d)
+static void drop_fermion(lam_fermion_op *op, lam_drop *d)
 {
     lam_fermion_op kept;
     lam_fermion_init(&kept, op->nmodes);
     for (size_t t = 0; t < op->count; ++t) {
         int len = (int)lam_fermion_length(op, t);
-        if (!drops(d, op->coef[t], len == 0))
+        if (!lam_drop_takes(d, op->coef[t], len == 0))
             lam_fermion_add(&kept, op->coef[t], op->ops + op->first[t], len, op->line[t]);
     }
     lam_fermion_free(op);
     *op = kept;
-}
-
-static void report_dropped(const options *o, const drop_tally *d)
-{
-    if (o->drop < 0) return;
-    char nb[LAM_DOUBLE_BUF];
-    lam_format_double(nb, sizeof nb, d->norm);
-    lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", d->count,
-             o->drop_text, nb);
 }
 
 /* ---- command line ---- */
@@ -350,7 +327,6 @@ static void parse_options(int argc, char **argv, options *o)
     const char *scale_text = NULL;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
-    o->drop = -1.0;
     o->inputs = lam_malloc(lam_mul_size((size_t)argc + 1, sizeof *o->inputs));
     opterr = 0;
     while ((c = getopt_long(argc, argv, "-:d:k:o:zhV", opts, NULL)) != -1) {
@@ -364,11 +340,7 @@ static void parse_options(int argc, char **argv, options *o)
             scale_text = optarg;
             scaled = 1;
             break;
-        case 'd':
-            o->drop = lam_opt_double("--drop", optarg);
-            o->drop_text = optarg;
-            if (o->drop < 0) lam_usage_error("--drop wants a tolerance >= 0, not '%s'", optarg);
-            break;
+        case 'd': lam_drop_parse(&o->drop, optarg); break;
         case OPT_SORT: o->sort = 1; break;
         case 'k':
             if (lam_kind_parse(optarg, &o->forced) != 0 || o->forced == LAM_KIND_FRAGMENTS)
@@ -420,7 +392,6 @@ int main(int argc, char **argv)
     int ninputs = o.ninputs, sort = o.sort, gzip = o.gzip;
     lam_kind forced = o.forced;
     const char *out = o.out;
-    drop_tally dropped = {o.drop, 0, 0.0};
 
     lam_meta meta;
     lam_kind kind = LAM_KIND_UNKNOWN;
@@ -463,7 +434,7 @@ int main(int argc, char **argv)
     char *history = lam_history_from_argv(argc, argv);
     lam_writer *w = lam_writer_open(out, gzip);
     if (kind == LAM_KIND_SPINFREE) {
-        if (o.drop >= 0) drop_spinfree(sf_acc, &dropped);
+        if (o.drop.on) drop_spinfree(sf_acc, &o.drop);
         lam_spinfree_describe(sf_acc, &meta);
         lam_writer_header(w, kind, &meta, history);
         if (sort) write_spinfree_sorted(w, sf_acc);
@@ -471,7 +442,7 @@ int main(int argc, char **argv)
         lam_spinfree_free(sf_acc);
     } else if (kind == LAM_KIND_PAULI) {
         lam_pauli_set_merge(&pauli_acc, 1);
-        if (o.drop >= 0) drop_pauli(&pauli_acc, &dropped);
+        if (o.drop.on) drop_pauli(&pauli_acc, &o.drop);
         if (sort) sort_pauli(&pauli_acc);
         lam_meta_setf(&meta, "qubits", "%d", pauli_acc.nqubits);
         /* merged by (string, label): strings are distinct only unlabelled */
@@ -481,7 +452,7 @@ int main(int argc, char **argv)
     } else {
         lam_fermion_op ordered;
         lam_fermion_normal_order(&fermion_acc, &ordered);
-        if (o.drop >= 0) drop_fermion(&ordered, &dropped);
+        if (o.drop.on) drop_fermion(&ordered, &o.drop);
         if (sort) sort_fermion(&ordered);
         lam_meta_setf(&meta, "modes", "%d", ordered.nmodes);
         lam_writer_header(w, kind, &meta, history);
@@ -489,7 +460,7 @@ int main(int argc, char **argv)
         lam_fermion_free(&ordered);
     }
     lam_writer_close(w);
-    report_dropped(&o, &dropped);
+    lam_drop_say(&o.drop);
     lam_pauli_set_free(&pauli_acc);
     lam_fermion_free(&fermion_acc);
     lam_meta_free(&meta);
