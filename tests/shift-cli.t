@@ -73,6 +73,10 @@ is "$RC" 64 "-r - without -o: exit 64"
 runlam lam-shift -r "$TMP/no-such-dir/rep" "$TMP/h2.sf"
 is "$RC/${#OUT}" "74/0" "unwritable --report: exit 74, nothing on stdout"
 like "$ERR" "^lam-shift: cannot open .*no-such-dir/rep" "unwritable --report: message names the path"
+runlam lam-shift --dump-lp "$TMP/no-such-dir/lp" -r "$TMP/lp.rep" "$TMP/h2.sf"
+is "$RC/${#OUT}" "74/0" "unwritable --dump-lp: exit 74, nothing on stdout"
+runlam lam-shift --dump-lp "$TMP/lp" -o /dev/null "$TMP/h2.sf"
+like "$(grep "^params" "$TMP/lp")" "^params [0-9]+$" "--dump-lp writes the linear program"
 one_bad_option_message lam-shift -n
 
 runlam lam-shift -q --report "$TMP/r2" -o "$TMP/out.sf" "$TMP/h2.sf"

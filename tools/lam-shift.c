@@ -1,4 +1,5 @@
 /* lam-shift - the optimal symmetry shift H - K, certified by an LP gap. */
+#include <errno.h>
 #include <getopt.h>
 #include <math.h>
 #include <stdio.h>
@@ -317,12 +318,6 @@ int main(int argc, char **argv)
     double fixed;
     lam_shift_build_lp(h, k, &lp, &fixed);
     lam_progress("%d orbitals, %d parameters, %zu rows depend on them", h->n, k->nparams, lp.rows);
-    if (o.dump) {
-        FILE *f = fopen(o.dump, "w");
-        if (!f) lam_fail(LAM_EX_IOERR, "%s: cannot write", o.dump);
-        lam_l1_write(f, &lp, fixed);
-        if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "%s: write failed", o.dump);
-    }
     lam_l1_options lo;
     lam_l1_default_options(&lo);
     lo.rel_gap = o.gap;
@@ -346,7 +341,13 @@ int main(int argc, char **argv)
     lam_progress("optimum found in %.2f s; writing %s", t_lp, o.emit_shift ? "K" : "H - K");
     /* both outputs open before the first byte of either is written */
     FILE *report = o.report ? lam_report_open(o.report) : NULL;
+    FILE *dump = o.dump ? fopen(o.dump, "w") : NULL;
+    if (o.dump && !dump) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", o.dump, strerror(errno));
     lam_writer *w = lam_writer_open(o.output, o.gzip);
+    if (dump) {
+        lam_l1_write(dump, &lp, fixed);
+        if (fclose(dump) != 0) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", o.dump, strerror(errno));
+    }
     if (!lam_shift_has_spin(k)) {
         lam_spinfree *out;
         if (o.emit_shift) {
