@@ -126,7 +126,9 @@ static void parse_args(int argc, char **argv, cli *c)
                         "residual");
 }
 
-static lam_spinfree *read_operator(lam_reader *r)
+/* *out is set as soon as the operator is read, so that it stays reachable
+ * from main's static when a check below exits. */
+static void read_operator(lam_reader *r, lam_spinfree **out)
 {
     lam_kind kind = lam_reader_kind(r);
     /* An empty input is refused too: it is most often a failed program
@@ -135,7 +137,7 @@ static lam_spinfree *read_operator(lam_reader *r)
         lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
                     "lam-factor reads a spinfree stream, not %s (make one with lam-ints)",
                     kind == LAM_KIND_UNKNOWN ? "an empty or unrecognised one" : lam_kind_name(kind));
-    lam_spinfree *sf = lam_spinfree_read(r);
+    lam_spinfree *sf = *out = lam_spinfree_read(r);
     double scale = 1.0;
     size_t n4 = (size_t)sf->n * sf->n * sf->n * sf->n;
     for (size_t k = 0; k < n4; ++k) scale = fmax(scale, fabs(sf->g[k]));
@@ -147,7 +149,6 @@ static lam_spinfree *read_operator(lam_reader *r)
                     "(qp|rs)): largest violation %.3g Eh; the fragments need real symmetric "
                     "integrals",
                     fmax(herm, real));
-    return sf;
 }
 
 static void options_from_cli(const cli *c, int n, lam_factor_options *o)
@@ -244,7 +245,7 @@ int main(int argc, char **argv)
     static lam_meta meta;
     static char *history;
     r = lam_reader_open(c.in);
-    sf = read_operator(r);
+    read_operator(r, &sf);
     lam_factor_options o;
     lam_factor_info info;
     options_from_cli(&c, sf->n, &o);
