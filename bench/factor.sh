@@ -29,7 +29,7 @@ for m in $MOLS; do
         floor=$("$BIN/lam-range" "$TMP/$op.sf" | awk -F'\t' '$1 == "fock_half_range" { print $2 }')
         printf '%-8s %-5s %9.4f %9.4f %9.4f %9.4f %7d %7d %8.2f %8.2f\n' "$m" \
             "$([ $op = H ] && echo H || echo H-K)" \
-            "$(key lambda_pauli "$TMP/d")" "$(key lambda "$TMP/d")" "$(key lambda "$TMP/f")" \
+            "$(key lambda.pauli "$TMP/d")" "$(key lambda "$TMP/d")" "$(key lambda "$TMP/f")" \
             "${floor:-nan}" "$(key fragments "$TMP/d")" "$(key fragments "$TMP/f")" \
             "$(echo "$t1 - $t0" | bc)" "$(echo "$t2 - $t1" | bc)"
     done

@@ -31,8 +31,8 @@ printf '%-8s %-10s %-26s %9s %9s %9s %8s %20s %20s %7s\n' orbitals terms method 
     groups lambda lambda_grouped ratio
 for n in $sizes; do
     f=$(stream "$n")
-    for method in "sorted:-m sorted -r 0 --no-split" "best:-m best -r 0 --no-split" \
-                  "sorted+refine+split:-m sorted -r 8 --split"; do
+    for method in "sorted:-m sorted --refine 0 --no-split" "best:-m best --refine 0 --no-split" \
+                  "sorted+refine+split:-m sorted --refine 8 --split"; do
         name=${method%%:*} args=${method#*:}
         # the full treatment on ~10^7 terms takes far longer; run it by hand
         if [ "$n" -ge 50 ] && [ "$name" != sorted ]; then continue; fi

@@ -422,39 +422,52 @@ void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out)
 
 /* ------------------------------------------------------------ from spinfree */
 
+void lam_fermion_add_spinfree_term(lam_fermion_op *out, lam_spin_order order, int n, double c,
+                                   int nidx, const int *idx, long line)
+{
+    if (nidx == 0) {
+        if (c != 0.0) lam_fermion_add(out, c, NULL, 0, line);
+        return;
+    }
+    int p = idx[0], q = idx[1];
+    if (nidx == 2) {
+        for (int s = 0; s < 2; ++s) {
+            int32_t ops[2] = {LAM_CREATE(lam_spin_mode(order, n, p, s)),
+                              LAM_ANNIHILATE(lam_spin_mode(order, n, q, s))};
+            lam_fermion_add(out, c, ops, 2, line);
+        }
+        return;
+    }
+    int r = idx[2], s = idx[3];
+    for (int a = 0; a < 2; ++a)
+        for (int b = 0; b < 2; ++b) {
+            /* e_pqrs = sum a+_pa a+_rb a_sb a_qa */
+            int32_t ops[4] = {LAM_CREATE(lam_spin_mode(order, n, p, a)),
+                              LAM_CREATE(lam_spin_mode(order, n, r, b)),
+                              LAM_ANNIHILATE(lam_spin_mode(order, n, s, b)),
+                              LAM_ANNIHILATE(lam_spin_mode(order, n, q, a))};
+            if (ops[0] == ops[1] || ops[2] == ops[3]) continue;
+            lam_fermion_add(out, c, ops, 4, line);
+        }
+}
+
 void lam_fermion_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                                lam_fermion_op *out)
 {
     int n = sf->n;
     lam_fermion_init(out, 2 * n);
-    if (sf->e0 != 0.0) lam_fermion_add(out, sf->e0, NULL, 0, 0);
+    lam_fermion_add_spinfree_term(out, order, n, sf->e0, 0, NULL, 0);
     for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q) {
-            double h = LAM_H(sf, p, q);
-            if (h == 0.0) continue;
-            for (int s = 0; s < 2; ++s) {
-                int32_t ops[2] = {LAM_CREATE(lam_spin_mode(order, n, p, s)),
-                                  LAM_ANNIHILATE(lam_spin_mode(order, n, q, s))};
-                lam_fermion_add(out, h, ops, 2, 0);
-            }
-        }
+        for (int q = 0; q < n; ++q)
+            if (LAM_H(sf, p, q) != 0.0)
+                lam_fermion_add_spinfree_term(out, order, n, LAM_H(sf, p, q), 2, (int[]){p, q}, 0);
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q)
             for (int r = 0; r < n; ++r)
-                for (int s = 0; s < n; ++s) {
-                    double g = LAM_G(sf, p, q, r, s);
-                    if (g == 0.0) continue;
-                    for (int a = 0; a < 2; ++a)
-                        for (int b = 0; b < 2; ++b) {
-                            /* e_pqrs = sum a+_pa a+_rb a_sb a_qa */
-                            int32_t ops[4] = {LAM_CREATE(lam_spin_mode(order, n, p, a)),
-                                              LAM_CREATE(lam_spin_mode(order, n, r, b)),
-                                              LAM_ANNIHILATE(lam_spin_mode(order, n, s, b)),
-                                              LAM_ANNIHILATE(lam_spin_mode(order, n, q, a))};
-                            if (ops[0] == ops[1] || ops[2] == ops[3]) continue;
-                            lam_fermion_add(out, 0.5 * g, ops, 4, 0);
-                        }
-                }
+                for (int s = 0; s < n; ++s)
+                    if (LAM_G(sf, p, q, r, s) != 0.0)
+                        lam_fermion_add_spinfree_term(out, order, n, 0.5 * LAM_G(sf, p, q, r, s), 4,
+                                                      (int[]){p, q, r, s}, 0);
 }
 
 /* ------------------------------------------------------------ Majorana */

@@ -102,6 +102,12 @@ void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out);
 void lam_fermion_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                                lam_fermion_op *out);
 
+/* Add one spin-free term to a ladder operator of 2n modes: c alone
+ * (nidx 0), c E_pq summed over spins (nidx 2) or c e_pqrs summed over both
+ * spins (nidx 4); line is kept for messages. */
+void lam_fermion_add_spinfree_term(lam_fermion_op *out, lam_spin_order order, int n, double c,
+                                   int nidx, const int *idx, long line);
+
 /* Rename the modes of an operator written in spin order `from` to the
  * modes of spin order `to` (nmodes must be even). */
 void lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_order to);

@@ -18,6 +18,7 @@ typedef struct {
 struct lam_report {
     entry *items;
     size_t count, cap;
+    const char *const *columns; /* fixed TSV columns, or NULL: the TSV entries */
 };
 
 lam_report *lam_report_new(void) { return lam_calloc(1, sizeof(lam_report)); }
@@ -77,41 +78,121 @@ void lam_report_line(lam_report *rep, const char *key, const char *value)
     add(rep, key, value, 0);
 }
 
-void lam_report_write(const lam_report *rep, FILE *out, int tsv)
+void lam_report_columns(lam_report *rep, const char *const *columns) { rep->columns = columns; }
+
+static const entry *find_tsv(const lam_report *rep, const char *key)
 {
-    if (tsv) {
-        int first = 1;
-        for (size_t i = 0; i < rep->count; ++i)
-            if (rep->items[i].tsv) {
-                fprintf(out, "%s%s", first ? "" : "\t", rep->items[i].key);
-                first = 0;
-            }
-        fputc('\n', out);
-        first = 1;
-        for (size_t i = 0; i < rep->count; ++i)
-            if (rep->items[i].tsv) {
-                fprintf(out, "%s%s", first ? "" : "\t", rep->items[i].value);
-                first = 0;
-            }
-        fputc('\n', out);
-    } else {
-        for (size_t i = 0; i < rep->count; ++i)
-            fprintf(out, "%s\t%s\n", rep->items[i].key, rep->items[i].value);
+    for (size_t i = 0; i < rep->count; ++i)
+        if (rep->items[i].tsv && strcmp(rep->items[i].key, key) == 0) return &rep->items[i];
+    return NULL;
+}
+
+static void require_columns_cover(const lam_report *rep)
+{
+    for (size_t i = 0; i < rep->count; ++i) {
+        if (!rep->items[i].tsv) continue;
+        size_t c = 0;
+        while (rep->columns[c] && strcmp(rep->columns[c], rep->items[i].key) != 0) ++c;
+        if (!rep->columns[c])
+            lam_fail(LAM_EX_SOFTWARE, "internal: report key '%s' is not a TSV column",
+                     rep->items[i].key);
     }
+}
+
+static void check_written(FILE *out)
+{
     if (fflush(out) != 0 || ferror(out))
         lam_fail(LAM_EX_IOERR, "cannot write the report: %s", strerror(errno));
 }
 
-void lam_report_save(const lam_report *rep, const char *path, int tsv)
+/* One TSV line: the keys (header) or the values of the columns. */
+static void write_tsv_line(const lam_report *rep, FILE *out, int values)
 {
-    if (!path || strcmp(path, "-") == 0) {
-        lam_report_write(rep, stdout, tsv);
+    int first = 1;
+    if (rep->columns) {
+        require_columns_cover(rep);
+        for (size_t c = 0; rep->columns[c]; ++c) {
+            const entry *e = values ? find_tsv(rep, rep->columns[c]) : NULL;
+            fprintf(out, "%s%s", first ? "" : "\t",
+                    !values ? rep->columns[c] : e ? e->value : LAM_REPORT_ABSENT);
+            first = 0;
+        }
+    } else {
+        for (size_t i = 0; i < rep->count; ++i)
+            if (rep->items[i].tsv) {
+                fprintf(out, "%s%s", first ? "" : "\t",
+                        values ? rep->items[i].value : rep->items[i].key);
+                first = 0;
+            }
+    }
+    fputc('\n', out);
+    check_written(out);
+}
+
+void lam_report_write_header(const lam_report *rep, FILE *out) { write_tsv_line(rep, out, 0); }
+
+void lam_report_write_row(const lam_report *rep, FILE *out) { write_tsv_line(rep, out, 1); }
+
+void lam_report_write(const lam_report *rep, FILE *out, int tsv)
+{
+    if (tsv) {
+        lam_report_write_header(rep, out);
+        lam_report_write_row(rep, out);
         return;
     }
+    for (size_t i = 0; i < rep->count; ++i)
+        fprintf(out, "%s\t%s\n", rep->items[i].key, rep->items[i].value);
+    check_written(out);
+}
+
+FILE *lam_report_open(const char *path)
+{
+    if (!path || strcmp(path, "-") == 0) return stdout;
     FILE *f = fopen(path, "w");
     if (!f) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", path, strerror(errno));
-    lam_report_write(rep, f, tsv);
+    return f;
+}
+
+void lam_report_close(FILE *f, const char *path)
+{
+    if (f == stdout) {
+        check_written(f);
+        return;
+    }
     if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+}
+
+void lam_report_save(const lam_report *rep, const char *path, int tsv)
+{
+    FILE *f = lam_report_open(path);
+    lam_report_write(rep, f, tsv);
+    lam_report_close(f, path);
+}
+
+/* ---- --drop ---- */
+
+void lam_drop_parse(lam_drop *d, const char *arg)
+{
+    d->tol = lam_opt_double("--drop", arg);
+    if (d->tol < 0) lam_usage_error("--drop wants a tolerance >= 0, not '%s'", arg);
+    d->text = arg;
+    d->on = 1;
+}
+
+int lam_drop_takes(lam_drop *d, double c, int is_constant)
+{
+    if (!d->on || is_constant || fabs(c) > d->tol) return 0;
+    d->count++;
+    d->norm += fabs(c);
+    return 1;
+}
+
+void lam_drop_say(const lam_drop *d)
+{
+    if (!d->on) return;
+    char nb[LAM_DOUBLE_BUF];
+    lam_format_double(nb, sizeof nb, d->norm);
+    lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", d->count, d->text, nb);
 }
 
 /* ---- reading ---- */

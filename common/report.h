@@ -21,10 +21,45 @@ void lam_report_str(lam_report *rep, const char *key, const char *value);
 /* A repeated-key line (e.g. "sector"), text form only; value is the
  * whole rest of the line (tabs allowed). */
 void lam_report_line(lam_report *rep, const char *key, const char *value);
+/* The fixed TSV columns of a program (NULL-terminated, kept by pointer):
+ * the TSV form then has exactly these columns in this order whatever the
+ * input, with LAM_REPORT_ABSENT where a value does not apply.  A TSV entry
+ * whose key is not a column is an internal error (exit 70), so the set
+ * cannot drift from what the program reports. */
+#define LAM_REPORT_ABSENT "NA"
+void lam_report_columns(lam_report *rep, const char *const *columns);
 /* Write to out in text or TSV form; exit 74 on a write error. */
 void lam_report_write(const lam_report *rep, FILE *out, int tsv);
+/* The two halves of the TSV form, for a program that writes one row per
+ * input under one header (every report given the same columns). */
+void lam_report_write_header(const lam_report *rep, FILE *out);
+void lam_report_write_row(const lam_report *rep, FILE *out);
 /* Write to path ("-" or NULL: stdout). */
 void lam_report_save(const lam_report *rep, const char *path, int tsv);
+/* Open a report destination before anything else is written, so that an
+ * unwritable path fails (exit 74) before a byte of the main output goes
+ * out; "-" or NULL is stdout.  lam_report_close writes nothing itself:
+ * it flushes and closes (exit 74 on a write error). */
+FILE *lam_report_open(const char *path);
+void lam_report_close(FILE *f, const char *path);
+
+/* --drop TOL of the programs that remove small terms (lam-map, lam-sum):
+ * the tolerance, and what was removed, counted so that the program can say
+ * it on stderr.  Nothing is dropped while no --drop was given. */
+typedef struct {
+    int on;
+    double tol;
+    const char *text; /* TOL as given */
+    size_t count;
+    double norm;
+} lam_drop;
+/* Parse the option's value (a number >= 0; exit 64 otherwise). */
+void lam_drop_parse(lam_drop *d, const char *arg);
+/* 1 (and counted) when a term of coefficient c is to be removed; the
+ * constant or identity (is_constant) never is. */
+int lam_drop_takes(lam_drop *d, double c, int is_constant);
+/* "dropped N terms with |c| <= TOL Eh, one-norm removed X Eh" on stderr. */
+void lam_drop_say(const lam_drop *d);
 
 /* Read a text report (as written above; path NULL or "-" is stdin).
  * lam_report_get returns 1 and the value when key is present and numeric,

@@ -124,6 +124,21 @@ lam_spinfree *lam_spinfree_read(lam_reader *r)
     return sf;
 }
 
+int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx)
+{
+    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    if (n < 0)
+        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
+                    "term by term reading needs an 'orbitals:' line in the header");
+    lam_line ln;
+    held_term t;
+    while (lam_reader_next(r, &ln)) {
+        parse_term(r, &ln, n, &t);
+        fn(ctx, t.c, t.nidx, t.idx, t.line);
+    }
+    return (int)n;
+}
+
 /* ---- writing ---- */
 
 void lam_spinfree_format_indices(char *buf, size_t size, int nidx, const int *idx)

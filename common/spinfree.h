@@ -43,6 +43,12 @@ void lam_spinfree_add_two(lam_spinfree *sf, int p, int q, int r, int s,
  * lam_reader_open).  Orbital count from "orbitals:" or, when absent, from
  * the largest index.  "electrons:" and "ms2:" are taken when present. */
 lam_spinfree *lam_spinfree_read(lam_reader *r);
+/* Read the terms of a spinfree stream that declares "orbitals: n" one at a
+ * time, without the dense n^4 arrays: fn gets each line's coefficient and
+ * indices (c alone, c E_pq or c e_pqrs) and its line number.  Returns n;
+ * a stream without "orbitals:" is refused (exit 65). */
+typedef void (*lam_spinfree_line_visit)(void *ctx, double c, int nidx, const int *idx, long line);
+int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx);
 /* Visit the terms in stream order: the constant (nidx 0), every non-zero
  * h_pq (nidx 2), and e_pqrs for (pq) <= (rs) with the coefficient of the
  * merged pair (nidx 4), non-zero only. */

@@ -3,17 +3,16 @@
 # Every count below is worked out by hand from the accounting of lam-cost(1).
 source "$(dirname "$0")/lib/tap.sh"
 
-# H2/STO-3G at 0.7414 A, Jordan-Wigner, interleaved spin order (the
-# published table of tests/data, whose source that file names).
-cp "$TESTS_DIR/data/h2-jw-published.op" "$TMP/h2.pauli"
+# H2/STO-3G at 1.4 bohr, Jordan-Wigner, from the Szabo-Ostlund integrals (derivation in the file).
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr-jw.op" "$TMP/h2.pauli"
 
 # Walk steps ceil(pi lambda / (2 eps.phase)) (Babbush et al., PRX 8, 041015
 # (2018), from memory), eps.phase = 0.8 x 1.6 mEh by default:
-# pi * 1.8850504924 / 0.00256 = 2313.3 -> 2314.
+# pi * 1.885925 / 0.00256 = 2314.4 -> 2315.
 runlam lam-cost "$TMP/h2.pauli"
 is "$RC" 0 "pauli stream: exit 0"
-is "$(report_get walk.steps <<< "$OUT")" 2314 "H2 walk steps at eps.phase 1.28 mEh by hand: 2314"
-near "$(report_get lambda <<< "$OUT")" 1.8850504924 1e-10 "lambda is the sum of |c| without the identity"
+is "$(report_get walk.steps <<< "$OUT")" 2315 "H2 walk steps at eps.phase 1.28 mEh by hand: 2315"
+near "$(report_get lambda <<< "$OUT")" 1.885925 1e-10 "lambda is the sum of |c| without the identity"
 is "$(report_get unitaries <<< "$OUT")" 14 "14 unitaries (identity not counted)"
 is "$(report_get form <<< "$OUT")" pauli "form pauli"
 is "$(report_get construction <<< "$OUT")" sparse "a pauli stream is priced as sparse"
@@ -21,13 +20,13 @@ near "$(report_get eps.total <<< "$OUT")" 0.0016 1e-15 "eps.total 1.6 mEh"
 near "$(report_get eps.phase <<< "$OUT")" 0.00128 1e-15 "eps.phase 0.8 of it"
 near "$(report_get eps.synth <<< "$OUT")" 0.00016 1e-15 "eps.synth 0.1 of it"
 is "$(report_get trunc.input <<< "$OUT")" unknown "truncation of a pauli stream: unknown"
-# keep bits ceil(log2(1.885 / 1.6e-4)) = ceil(13.52) = 14; sparse step with
+# keep bits ceil(log2(1.886 / 1.6e-4)) = ceil(13.52) = 14; sparse step with
 # d = 14, data 2*4 + 2 = 10, SELECT 9: m = 34, read 14 (k 1), erase 8 (k'
 # 4), usp 2*14, keep test 2*14, swap 2*10 -> 98; reflection 4 + 14 + 2 = 20;
 # per step 98 + 9 + 20 = 127.
 is "$(report_get prep.bits <<< "$OUT")" 14 "keep bits from eps.synth: 14"
 is "$(report_get step.toffoli <<< "$OUT")" 127 "H2 sparse per step by hand: 127"
-is "$(report_get run.toffoli <<< "$OUT")" $((127 * 2314)) "total = per step x walk steps"
+is "$(report_get run.toffoli <<< "$OUT")" $((127 * 2315)) "total = per step x walk steps"
 is "$(report_get qroam.block <<< "$OUT")" 1 "QROAM block printed: 1"
 like "$(report_get assumes <<< "$OUT")" "estimate of one construction.*distillation, routing, layout" \
     "report says what it is and leaves out"
@@ -35,13 +34,13 @@ like "$ERR" "estimates" "note on stderr"
 for old in toffoli_per_step toffoli_total logical_qubits walk_steps; do
     is "$(grep -c "^$old" <<< "$OUT")" 0 "no old key $old"
 done
-# pi * 1.8850504924 / 0.016 = 370.1 -> 371 (same source), --split 1,0,... refused
+# pi * 1.885925 / 0.016 = 370.3 -> 371 (same source), --split 1,0,... refused
 runlam lam-cost --error 0.01 -q "$TMP/h2.pauli"
 is "$(report_get walk.steps <<< "$OUT")" 371 "H2 walk steps at 10 mEh (phase 8 mEh) by hand: 371"
 is "$ERR" "" "--quiet leaves stderr empty"
 runlam lam-cost -q --split 0.5,0.25,0.25 "$TMP/h2.pauli"
-# pi * 1.8850504924 / 0.0016 = 3701.3 -> 3702
-is "$(report_get walk.steps <<< "$OUT")" 3702 "--split 0.5,0.25,0.25: 3702 walk steps"
+# pi * 1.885925 / 0.0016 = 3703.0 -> 3704
+is "$(report_get walk.steps <<< "$OUT")" 3704 "--split 0.5,0.25,0.25: 3704 walk steps"
 near "$(report_get eps.trunc <<< "$OUT")" 0.0004 1e-15 "--split sets eps.trunc"
 
 runlam lam-cost -q --construction flat "$TMP/h2.pauli"
@@ -81,10 +80,10 @@ near "$(report_get lambda <<< "$OUT")" 7.5 1e-12 "--ungrouped: lambda 7.5"
 is "$(report_get construction <<< "$OUT")" sparse "--ungrouped: sparse"
 
 # A lam-norm style report.
-printf 'kind\tpauli\nterms\t15\nconstant\t-0.0988639698\nlambda\t1.8850504924\nqubits\t4\n' > "$TMP/h2.norm"
+printf 'kind\tpauli\nterms\t15\nconstant\t-0.098125\nlambda\t1.8859250000000003\nqubits\t4\n' > "$TMP/h2.norm"
 runlam lam-cost -q "$TMP/h2.norm"
 is "$RC" 0 "report input: exit 0"
-is "$(report_get walk.steps <<< "$OUT")" 2314 "report input: same walk steps"
+is "$(report_get walk.steps <<< "$OUT")" 2315 "report input: same walk steps"
 is "$(report_get unitaries <<< "$OUT")" 14 "report input: terms minus the identity"
 is "$(printf '%s' "$OUT")" "$OUT2" "report and stream give the same estimate"
 

@@ -111,7 +111,7 @@ def cost(args, stdin):
 
 
 # 1. H2/STO-3G at 0.7414 A: Jordan-Wigner one-norm 1.8850504923 Eh
-# (Szabo and Ostlund's integrals; widely published, from memory).  By hand:
+# (of psi4's integrals, as lam-norm gives it; see norm-ref.t).  By hand:
 # pi * 1.8850504923 / 0.00256 = 2313.3 -> 2314 at 1.6 mEh and
 # pi * 1.8850504923 / 0.00016 = 37012.9 -> 37013 at 0.1 mEh.
 h2, _ = molecules.reference("h2")
@@ -120,7 +120,7 @@ for eps, want in ((1.6e-3, 2314), (1e-4, 37013)):
     rep = cost(["--error", repr(eps)], h2_pauli)
     t.ok(rep.get("walk.steps") == want,
          "H2 walk steps at %g Eh: %d by hand" % (eps, want), rep.get("walk.steps"))
-    t.near(rep.get("lambda"), 1.8850504923, 1e-9, "H2 lambda = published 1.8850504923 Eh")
+    t.near(rep.get("lambda"), 1.8850504923, 1e-9, "H2 lambda = 1.8850504923 Eh (norm-ref.t checks it against numpy)")
 
 # 2. LiH (frozen core) and water: lambda recomputed here from the Pauli
 # terms, with and without grouping, and the DF parameters from the

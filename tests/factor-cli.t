@@ -6,7 +6,7 @@ source "$(dirname "$0")/lib/tap.sh"
 # (Szabo and Ostlund, Modern Quantum Chemistry (1989), ch. 3; from memory,
 # four figures).  (12|12) = 0.1813 fills (12|21), (21|12), (21|21) by the
 # format's 8-fold symmetry.
-cp "$TESTS_DIR/data/szabo-h2.fcidump" "$TMP/h2.fcidump"
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump" "$TMP/h2.fcidump"
 lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
 ok $? "lam-ints turns the FCIDUMP into a spinfree stream"
 
@@ -51,12 +51,38 @@ is "$RC" 0 "stdin input, gzip output"
 is "$(gzip -dc "$TMP/h2.gz" | tail -1)" "#% end" "gzip output decompresses to a whole stream"
 is "$(wc -l <"$TMP/rep.tsv" | tr -d ' ')" 2 "--tsv report: header row and value row"
 like "$(head -1 "$TMP/rep.tsv")" "lambda" "--tsv header names lambda"
+like "$(sed -n 2p "$TMP/rep.tsv")" "^<stdin>"$'\t' "--tsv label column: the input's name by default"
+
+# The TSV columns are one fixed set whatever the method, NA where a figure
+# does not apply; -t and -l are the short forms, -l sets the label.
+runlam lam-factor -m full-rank -r "$TMP/rep.fr" -t -l fr -o /dev/null "$TMP/h2.sf"
+runlam lam-factor -m double -r "$TMP/rep.df" -t -l df -o /dev/null "$TMP/h2.sf"
+is "$(head -1 "$TMP/rep.fr")" "$(head -1 "$TMP/rep.df")" "--tsv: the same header for double and full-rank"
+col() { awk -F'\t' -v k="$1" 'NR == 1 { for (i = 1; i <= NF; i++) if ($i == k) c = i; next } { print $c }' "$2"; }
+is "$(col label "$TMP/rep.fr")/$(col trunc.weight "$TMP/rep.fr")/$(col fit.iterations "$TMP/rep.df")" "fr/NA/NA" \
+    "--tsv: -l sets the label; figures of the other method are NA"
+for k in lambda.h1 lambda.h2 lambda.pauli fragments.h2 residual.h2 error.max dropped.lambda; do
+    is "$(col "$k" "$TMP/rep.df" | grep -Ec '^-?[0-9]')" 1 "--tsv: $k is a number for double factorization"
+done
+# lambda = lambda.h1 + lambda.h2 (the one- and two-body unitaries).
+runlam lam-factor -r "$TMP/rep.kv" -o /dev/null "$TMP/h2.sf"
+near "$(awk -F'\t' '$1 == "lambda.h1" { a = $2 } $1 == "lambda.h2" { b = $2 } END { printf "%.15g", a + b }' "$TMP/rep.kv")" \
+    "$(report_get lambda <"$TMP/rep.kv")" 1e-12 "lambda = lambda.h1 + lambda.h2"
+# Issue 11: none of the old snake-case key names is left.
+like "$(cut -f1 "$TMP/rep.kv" | tr '\n' ' ')" "^[a-z0-9.]+( [a-z0-9.]+)* \$" "report keys: scope-first dot names only"
+
+# An unwritable report path fails before a byte of the stream is written.
+runlam lam-factor -r "$TMP/no-such-dir/rep" "$TMP/h2.sf"
+is "$RC/${#OUT}" "74/0" "unwritable --report: exit 74 and nothing on stdout"
+like "$ERR" "^lam-factor: cannot open .*no-such-dir/rep" "unwritable --report: message names the path"
+runlam lam-factor -r "$TMP/no-such-dir/rep" -o "$TMP/fr.out" "$TMP/h2.sf"
+ok "$([ ! -e "$TMP/fr.out" ]; echo $?)" "unwritable --report: -o FILE not created"
 
 # Truncation.
 runlam lam-factor --tol 0.1 --report "$TMP/rep.t" -o "$TMP/h2.t" "$TMP/h2.sf"
 is "$RC" 0 "--tol 0.1 runs"
-dw=$(report_get discarded_weight <"$TMP/rep.t")
-err=$(report_get integral_max_error <"$TMP/rep.t")
+dw=$(report_get trunc.weight <"$TMP/rep.t")
+err=$(report_get error.max <"$TMP/rep.t")
 awk -v d="$dw" -v e="$err" 'BEGIN { exit !(d > 0 && d <= 0.1 && e <= d + 1e-12) }'
 ok $? "--tol 0.1: discarded weight in (0, 0.1], integral error within it (got $dw, $err)"
 
@@ -103,6 +129,9 @@ runlam lam-factor --report - "$TMP/h2.sf"
 is "$RC" 64 "--report - without -o: exit 64"
 runlam lam-factor --tsv "$TMP/h2.sf"
 is "$RC" 64 "--tsv without --report: exit 64"
+runlam lam-factor -t 0.1 "$TMP/h2.sf"
+is "$RC" 64 "-t is --tsv now, not --tol: a stray value is an error"
+one_bad_option_message lam-factor -m
 
 # Full rank that cannot reach --tol within --max-fragments.
 runlam lam-factor --method full-rank --tol 1e-12 --max-fragments 1 "$TMP/h2.sf"

@@ -9,8 +9,8 @@
 - Floor: any LCU has lambda >= (E_max - E_min)/2 (fact of the trade,
   common practice; triangle inequality), from numpy eigvalsh of the dense H
   and from lam-range when it is built.
-- Double factorization one-norm: the closed form of
-  /work/shared/reference/formulas.md (lambda_DF), computed here with numpy
+- Double factorization one-norm: the closed form lambda_DF derived in
+  lam-factor(1), REFLECTION COUNTING, computed here with numpy
   from the FCIDUMP integrals.
 - Reconstruction: the two-body integrals rebuilt from the stream agree
   with the FCIDUMP to the stated truncation error, and the discarded weight
@@ -143,7 +143,7 @@ def factor(fcidump, *args):
 
 
 def lambda_df_formula(n, h, g):
-    """lambda_DF of formulas.md from the supermatrix with numpy."""
+    """lambda_DF of lam-factor(1) from the supermatrix with numpy."""
     T = h - 0.5 * np.einsum("prrq->pq", g) + np.einsum("pqrr->pq", g)
     lam = np.abs(np.linalg.eigvalsh(T)).sum()
     w, z = np.linalg.eigh(g.reshape(n * n, n * n))
@@ -195,7 +195,7 @@ for name in ("h2", "h3plus", "h4chain"):
                    % (name, method), "lambda %r, fock_half_range %r" % (lam, from_range))
         if method == "double":
             tap.near(lam, lambda_df_formula(n, h, g), 1e-9,
-                     "%s double: lambda equals lambda_DF of formulas.md" % name)
+                     "%s double: lambda equals lambda_DF of lam-factor(1)" % name)
     if from_range is not None:
         tap.near(from_range, half_range, 1e-8,
                  "%s: lam-range fock_half_range agrees with numpy eigvalsh" % name)
@@ -234,8 +234,8 @@ for tol in (1e-2, 1e-4):
     tap.near(resid, float(meta["integral-norm-error"]), 1e-12,
              "lih full-rank tol %g: stated integral-norm-error matches the numpy rebuild" % tol)
 
-# H - K from lam-shift: K vanishes on the N-electron states (lamina.md, the
-# symmetry shift), so the fragments of H - K, built as dense matrices, must
+# H - K from lam-shift: K vanishes on the N-electron states (lam-shift(1),
+# the symmetry shift), so the fragments of H - K, built as dense matrices, must
 # act as H does on the N-electron block; and lambda >= the half range of H on
 # that block (fact of the trade, common practice).
 if os.path.exists(os.path.join(lamtest.BIN, "lam-shift")):

@@ -1,9 +1,9 @@
 #!/bin/bash
 # lam-group on the command line: good input, bad input, exit codes.
 #
-# Reference values: the Jordan-Wigner Hamiltonian of H2/STO-3G at 0.7414 A
-# (interleaved spin order) from /work/shared/reference/facts.md (widely
-# published, from memory).  Its only anticommuting pairs are a single Z
+# Reference values: the Jordan-Wigner Hamiltonian of H2/STO-3G at 1.4 bohr
+# (interleaved spin order), derived by hand from the Szabo-Ostlund integrals
+# (tests/data/h2-sto3g-r1.4bohr-jw.op says how).  Its only anticommuting pairs are a single Z
 # with an XXYY-type term (common practice: two strings anticommute when
 # they differ on an odd number of qubits where both act), and the XXYY-type
 # terms commute with each other, so the best grouping pairs each Z_i with
@@ -11,9 +11,9 @@
 source "$(dirname "$0")/lib/tap.sh"
 
 H2="$TMP/h2.pauli"
-cp "$TESTS_DIR/data/h2-jw-published.op" "$H2"
-want=$(awk 'BEGIN { a = 0.1711977490; b = 0.2227859302; x = 0.0453222021
-  printf "%.10f", 2 * sqrt(a*a + x*x) + 2 * sqrt(b*b + x*x) + 0.1686221916 + 0.1743484418 + 2 * 0.1205448220 + 2 * 0.1658670241 }')
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr-jw.op" "$H2"
+want=$(awk 'BEGIN { a = 0.171275; b = 0.22305; x = 0.045325
+  printf "%.10f", 2 * sqrt(a*a + x*x) + 2 * sqrt(b*b + x*x) + 0.16865 + 0.174375 + 2 * 0.120575 + 2 * 0.1659 }')
 
 runlam lam-group --help
 is "$RC" 0 "--help exits 0"
@@ -22,13 +22,13 @@ like "$OUT" "Example" "--help has an example"
 runlam lam-group --version
 is "$RC" 0 "--version exits 0"
 
-runlam lam-group "$H2"
+runlam lam-group -r "$TMP/r" "$H2"
 is "$RC" 0 "groups the H2 Hamiltonian"
-is "$(printf '%s\n' "$ERR" | report_get groups)" 10 "H2: 10 groups (4 pairs, 6 single ZZ)"
-near "$(printf '%s\n' "$ERR" | report_get lambda_grouped)" "$want" 1e-9 "H2: lambda_grouped of the best pairing"
-near "$(printf '%s\n' "$ERR" | report_get lambda)" 1.8850504923 1e-9 "H2: lambda as published"
+is "$(report_get groups <"$TMP/r")" 10 "H2: 10 groups (4 pairs, 6 single ZZ)"
+near "$(report_get lambda_grouped <"$TMP/r")" "$want" 1e-9 "H2: lambda_grouped of the best pairing"
+near "$(report_get lambda <"$TMP/r")" 1.885925 1e-9 "H2: lambda, the sum of |c| of the file"
 like "$OUT" "grouping: anticommuting" "header says how it is grouped"
-is "$(printf '%s\n' "$OUT" | grep -v '^#' | head -1)" "-0.098863969800000007" "identity first, unlabelled"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | head -1)" "-0.098125000000000004" "identity first, unlabelled"
 is "$(printf '%s\n' "$OUT" | grep -v '^#' | grep -vc '@[0-9]*$')" 1 "every other term labelled"
 is "$(printf '%s\n' "$OUT" | tail -1)" "#% end" "stream closed"
 printf '%s\n' "$OUT" >"$TMP/h2.g"
@@ -58,18 +58,18 @@ a=$(lam lam-group "$H2" 2>/dev/null | md5sum)
 b=$(lam lam-group "$H2" 2>/dev/null | md5sum)
 is "$a" "$b" "same input, same output"
 
-runlam lam-group --commuting "$H2"
+runlam lam-group --commuting -r "$TMP/r" "$H2"
 is "$RC" 0 "--commuting"
 like "$OUT" "grouping: commuting" "--commuting header"
 # the Z terms all commute, the XXYY-type terms too: two groups suffice
-is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "--commuting: Z strings and XXYY strings"
+is "$(report_get groups <"$TMP/r")" 2 "--commuting: Z strings and XXYY strings"
 printf '%s\n' "$OUT" >"$TMP/c.g"
 runlam lam-group --check "$TMP/c.g"
 is "$RC" 0 "--check reads the grouping from the header"
 
 for m in sorted best; do
-    runlam lam-group -m "$m" -r 0 --no-split "$H2"
-    near "$(printf '%s\n' "$ERR" | report_get lambda_grouped)" "$want" 1e-9 "--method $m"
+    runlam lam-group -m "$m" --refine 0 --no-split -r "$TMP/r" "$H2"
+    near "$(report_get lambda_grouped <"$TMP/r")" "$want" 1e-9 "--method $m"
 done
 
 # bad input
@@ -97,11 +97,41 @@ runlam lam-group "$TMP/nan"
 is "$RC" 65 "NaN coefficient: exit 65"
 
 # header-less input on stdin, already labelled input re-grouped
-runlam_in $'0.5 x:0 @7\n0.5 z:0 @9\n0.25 z:1\n' lam-group
+runlam_in $'0.5 x:0 @7\n0.5 z:0 @9\n0.25 z:1\n' lam-group -r "$TMP/r"
 is "$RC" 0 "stdin without header"
-is "$(printf '%s\n' "$ERR" | report_get groups)" 2 "old labels replaced: x:0 with z:0, z:1 alone"
+is "$(report_get groups <"$TMP/r")" 2 "old labels replaced: x:0 with z:0, z:1 alone"
 runlam_in $'0.5 x:0 @1\n0.5 z:0 @1\n0.25 z:1 @1\n' lam-group --check
 is "$RC" 65 "--check on stdin without qubits: exit 65"
 like "$ERR" "<stdin>:3: group 1: 'z:1' commutes with 'x:0' of line 1" "names both lines, also without a qubits line"
+
+# Issue 15 item 11: the report goes to --report only, never to stderr, so
+# errors stay visible; without --report there is none.
+runlam lam-group "$H2"
+is "$RC/$ERR" "0/" "no --report: nothing on stderr"
+runlam lam-group -r - -o "$TMP/s.g" "$H2"
+is "$(report_get groups <<<"$OUT")" 10 "-r - with -o FILE: the report on stdout"
+runlam lam-group -r - "$H2"
+is "$RC" 64 "-r - without -o: exit 64 (stdout carries the stream)"
+runlam lam-group -t "$H2"
+is "$RC" 64 "--tsv without --report: exit 64"
+
+# Issue 15 item 4: an unwritable report path fails before the stream is written.
+runlam lam-group -r "$TMP/no-such-dir/rep" "$H2"
+is "$RC/${#OUT}" "74/0" "unwritable --report: exit 74, nothing on stdout"
+like "$ERR" "^lam-group: cannot open .*no-such-dir/rep" "unwritable --report: message names the path"
+
+# Issue 15 item 12: one fixed TSV column set for every mode, a label column.
+runlam lam-group -r "$TMP/a.tsv" -t -l anti -o /dev/null "$H2"
+runlam lam-group --commuting -r "$TMP/c.tsv" -t -o /dev/null "$H2"
+runlam lam-group --check -t "$TMP/c.g"
+printf '%s\n' "$OUT" >"$TMP/k.tsv"
+is "$(head -qn1 "$TMP/a.tsv" "$TMP/c.tsv" "$TMP/k.tsv" | sort -u | wc -l)" 1 "--tsv: the same header for anticommuting, commuting and --check"
+col() { awk -F'\t' -v k="$1" 'NR == 1 { for (i = 1; i <= NF; i++) if ($i == k) c = i; next } { print $c }' "$2"; }
+is "$(col label "$TMP/a.tsv")/$(col label "$TMP/c.tsv")" "anti/$H2" "--tsv: -l sets the label, the input's name by default"
+is "$(col group_norm_sum "$TMP/a.tsv")/$(col lambda_grouped "$TMP/c.tsv")/$(col status "$TMP/k.tsv")" "NA/NA/ok" \
+    "--tsv: values of the other grouping are NA"
+near "$(col lambda_grouped "$TMP/a.tsv")" "$want" 1e-9 "--tsv: lambda_grouped in its column"
+
+one_bad_option_message lam-group -r
 
 done_testing

@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # lam-ints on the command line: good input, bad input, exit codes.
 source "$(dirname "$0")/lib/tap.sh"
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 
 runlam lam-ints "$SZ"
 is "$RC" 0 "good FCIDUMP: exit 0"

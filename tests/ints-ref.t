@@ -4,8 +4,8 @@ source "$(dirname "$0")/lib/tap.sh"
 
 # Szabo and Ostlund, Modern Quantum Chemistry (1989), ch. 3, H2/STO-3G at
 # R = 1.4 bohr (values from memory, four figures), typed by hand into
-# tests/data/szabo-h2.fcidump: lam-ints must give them back exactly.
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+# tests/data/h2-sto3g-r1.4bohr.fcidump: lam-ints must give them back exactly.
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 lam lam-ints "$SZ" > "$TMP/sz.op"; ok $? "lam-ints reads the hand-written textbook FCIDUMP"
 term() { awk -v k="$1" '!/^#/ { c = $1; $1 = ""; sub(/^ /, ""); if ($0 == k) print c }' "$TMP/sz.op"; }
 is "$(term '')" 0.71430000000000005 "constant 1/R = 0.7143"
@@ -21,7 +21,7 @@ is "$(grep -c '^[^#]' "$TMP/sz.op")" 9 "nine terms, nothing else"
 is "$(grep '^#% electrons' "$TMP/sz.op")" "#% electrons: 2" "NELEC carried as electrons"
 
 # The textbook H2 total energy check through the pipeline is in
-# range-ref.t; the published JW coefficients (facts.md) are checked in
+# range-ref.t; the JW coefficients derived from them are checked in
 # map-ref.t.  Here: the spinfree stream read back gives the same
 # integrals (round trip through lam-sum, exact).
 lam lam-sum "$TMP/sz.op" > "$TMP/sz2.op"

@@ -1,8 +1,9 @@
 #!/usr/bin/python3
 """lam-map against independent references.
 
-- H2/STO-3G at 0.7414 A, Jordan-Wigner, interleaved: the widely published
-  coefficients listed in /work/shared/reference/facts.md (from memory there).
+- H2/STO-3G, Jordan-Wigner, interleaved: the 15 coefficients in closed form
+  from the integrals (derived by hand, below), for the textbook integrals of
+  Szabo & Ostlund (Dover 1996, section 3.5.2, from memory) and psi4's.
 - psi4 FCIDUMPs (tests/lib/molecules.py): the matrix of the lam-map output
   equals the fermionic Hamiltonian that tests/lib/refops.py builds from the
   FCIDUMP with its own Jordan-Wigner ladder matrices, to 1e-10.  For
@@ -31,25 +32,50 @@ def mapped(fcidump, *args):
     return lamtest.pipe(("lam-ints", [fcidump]), ("lam-map", list(args)))
 
 
-# --- H2 Jordan-Wigner coefficients (facts.md, widely published, from memory)
-fcid, energies = molecules.reference("h2")
-terms, nq = refops.parse_pauli_stream(mapped(fcid))
-got = {refops.format_pauli(factors): c for c, factors in terms}
-want = {
-    "": -0.0988639698,
-    "z:0": 0.1711977490, "z:1": 0.1711977490, "z:2": -0.2227859302, "z:3": -0.2227859302,
-    "z:0-1": 0.1686221916, "z:2-3": 0.1743484418,
-    "z:0,2": 0.1205448220, "z:1,3": 0.1205448220,
-    "z:0,3": 0.1658670241, "z:1-2": 0.1658670241,
-    "x:0-1 y:2-3": -0.0453222021, "x:2-3 y:0-1": -0.0453222021,
-    "x:0,3 y:1-2": 0.0453222021, "x:1-2 y:0,3": 0.0453222021,
-}
-t.ok(set(got) == set(want), "H2 JW: exactly the 15 published Pauli strings",
-     "got %s" % sorted(got))
-for k, v in want.items():
-    # published to 10 decimals: 1e-9 is the rounding of the table
-    t.near(got.get(k), v, 1e-9, "H2 JW coefficient of '%s' (facts.md, from memory)" % (k or "I"))
-t.ok(nq == 4, "H2: qubits: 4 in the header")
+# --- H2 Jordan-Wigner coefficients in closed form.  For H2 in a minimal
+# basis (two real orbitals of different symmetry: h12 = (11|12) = (22|12) = 0)
+# n_i = (1 - Z_i)/2 and the exchange pairs written with X and Y give, in the
+# interleaved order (derived by hand; the derivation and its numbers for the
+# textbook integrals are in tests/data/h2-sto3g-r1.4bohr-jw.op):
+def h2_jordan_wigner(e0, h, g):
+    h11, h22 = h[0, 0], h[1, 1]
+    j11, j12, j22, k12 = g[0, 0, 0, 0], g[0, 0, 1, 1], g[1, 1, 1, 1], g[0, 1, 0, 1]
+    z0 = -(h11 / 2 + j11 / 4 + j12 / 2 - k12 / 4)
+    z2 = -(h22 / 2 + j22 / 4 + j12 / 2 - k12 / 4)
+    return {
+        "": e0 + h11 + h22 + j11 / 4 + j22 / 4 + j12 - k12 / 2,
+        "z:0": z0, "z:1": z0, "z:2": z2, "z:3": z2,
+        "z:0-1": j11 / 4, "z:2-3": j22 / 4,
+        "z:0,2": (j12 - k12) / 4, "z:1,3": (j12 - k12) / 4,
+        "z:0,3": j12 / 4, "z:1-2": j12 / 4,
+        "x:0-1 y:2-3": -k12 / 4, "x:2-3 y:0-1": -k12 / 4,
+        "x:0,3 y:1-2": k12 / 4, "x:1-2 y:0,3": k12 / 4,
+    }
+
+
+def by_string(stream_text):
+    terms, nq = refops.parse_pauli_stream(stream_text)
+    return {refops.format_pauli(factors): c for c, factors in terms}, nq
+
+
+DATA = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data")
+textbook = os.path.join(DATA, "h2-sto3g-r1.4bohr.fcidump")
+cases = (("textbook integrals (Szabo & Ostlund 1996, section 3.5.2, from memory)", textbook),
+         ("psi4 integrals at 0.7414 A", molecules.reference("h2")[0]))
+for label, fcid in cases:
+    norb, nelec, e0, h, g = refops.read_fcidump(fcid)
+    want = h2_jordan_wigner(e0, h, g)
+    got, nq = by_string(mapped(fcid))
+    t.ok(set(got) == set(want), "H2 JW, %s: exactly the 15 strings of the closed form" % label,
+         "got %s" % sorted(got))
+    for k, v in want.items():
+        t.near(got.get(k), v, 1e-12, "H2 JW, %s: coefficient of '%s'" % (label, k or "I"))
+    t.ok(nq == 4, "H2 JW, %s: qubits: 4 in the header" % label)
+# The file derived by hand from the textbook integrals says the same.
+hand, _ = by_string(open(os.path.join(DATA, "h2-sto3g-r1.4bohr-jw.op")).read())
+got, _ = by_string(mapped(textbook))
+t.ok(set(hand) == set(got) and all(abs(hand[k] - got[k]) <= 1e-12 for k in hand),
+     "H2 JW: lam-map of the textbook integrals equals tests/data/h2-sto3g-r1.4bohr-jw.op")
 
 # --- dense matrices against the independent reference
 for name in ("h2", "h3plus", "h4chain", "lih", "hf"):

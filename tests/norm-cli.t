@@ -25,13 +25,13 @@ is "$(report_get lambda <<<"$OUT")" 1 "lambda |0.5| + |-0.5|, identity left out"
 is "$(report_get qubits <<<"$OUT")" 5 "qubits from the header"
 is "$(report_get max_weight <<<"$OUT")" 2 "max_weight 2"
 is "$(report_get groups <<<"$OUT")" "" "no groups key without labels"
-like "$OUT" $'^kind\tpauli\nterms\t3\nconstant\t-1\nlambda\t1\n' "pinned keys first, in order"
+is "$(head -5 <<<"$OUT")" "label	$TMP/p.op"$'\nkind\tpauli\nterms\t3\nconstant\t-1\nlambda\t1' "pinned keys first, in order: label (the file name) first"
 
 # --tsv: one header row, one value row
 runlam lam-norm --tsv "$TMP/p.op"
 is "$(wc -l <<<"$OUT")" 2 "--tsv gives two rows"
-is "$(head -1 <<<"$OUT" | cut -f1-4)" $'kind\tterms\tconstant\tlambda' "--tsv header row"
-is "$(tail -1 <<<"$OUT" | cut -f1-4)" $'pauli\t3\t-1\t1' "--tsv value row"
+is "$(head -1 <<<"$OUT" | cut -f1-5)" $'label\tkind\tterms\tconstant\tlambda' "--tsv header row"
+is "$(tail -1 <<<"$OUT" | cut -f1-5)" "$TMP/p.op"$'\tpauli\t3\t-1\t1' "--tsv value row"
 
 # groups: lambda_grouped = sum over groups of sqrt(sum c^2) + unlabelled |c|
 # (anticommuting groups, fact of the trade: (sum c P)^2 = sum c^2)
@@ -116,10 +116,10 @@ is "$RC" 65 "spinfree index out of range: exit 65"
 
 # A stream written by lam-map says "distinct: yes" and is summed in one pass;
 # the same terms without that line go through the hash merge: same report.
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 lam lam-ints "$SZ" | lam lam-map > "$TMP/d.op"
 like "$(cat "$TMP/d.op")" '#% distinct: yes' "lam-map states that its strings are distinct"
-is "$(lam lam-norm "$TMP/d.op")" "$(grep -v '^#% distinct' "$TMP/d.op" | lam lam-norm)" \
+is "$(lam lam-norm -l d "$TMP/d.op")" "$(grep -v '^#% distinct' "$TMP/d.op" | lam lam-norm -l d)" \
    "one-pass sum and hash merge give the same report"
 # distinct is never passed through: a tool must state it of its own output.
 lam lam-group "$TMP/d.op" 2>/dev/null > "$TMP/g.op"
@@ -136,5 +136,30 @@ is "$(printf '%s\n' "$OUT" | report_get kind)" fragments "kind fragments"
 near "$(printf '%s\n' "$OUT" | report_get lambda)" "$(report_get lambda < "$TMP/frep")" 1e-12 \
    "lambda of the fragments equals lam-factor's own report"
 like "$OUT" 'unitaries	[0-9]+' "unitary count reported"
+
+# Issue 15 item 12: --tsv has one fixed column set whatever the kind, NA
+# where a value does not apply; several streams give one row each, labelled
+# by -l (once per stream) or by the file name.
+lam lam-ints "$SZ" > "$TMP/sf.op"
+printf '%s0.3 x:0 @1\n0.4 z:0 @1\n1 y:3\n2 x:2 @7\n7\n#%% end\n' "$P" > "$TMP/g.op"
+runlam lam-norm -t -l pauli -l spinfree -l grouped "$TMP/p.op" "$TMP/sf.op" "$TMP/g.op"
+is "$RC/$(wc -l <<<"$OUT")" "0/4" "--tsv with three streams: a header and three rows"
+is "$(awk -F'\t' '{ print NF }' <<<"$OUT" | sort -u | wc -l)" 1 "--tsv: every row has as many fields as the header"
+col() { awk -F'\t' -v k="$1" 'NR == 1 { for (i = 1; i <= NF; i++) if ($i == k) c = i; next } { printf "%s ", $c }' <<<"$OUT"; }
+is "$(col label)" "pauli spinfree grouped " "--tsv: -l labels the rows in order"
+is "$(col orbitals)" "NA 2 NA " "--tsv: orbitals only for the spinfree stream, NA elsewhere"
+is "$(col lambda_grouped)" "NA NA 3.5 " "--tsv: lambda_grouped only for the labelled stream"
+for f in "$TMP/p.op" "$TMP/sf.op" "$TMP/g.op"; do lam lam-norm -t "$f" | head -1; done | sort -u > "$TMP/headers"
+is "$(wc -l <"$TMP/headers")" 1 "--tsv: the same header for pauli, spinfree and labelled pauli streams"
+runlam lam-norm -t "$TMP/p.op" "$TMP/sf.op"
+is "$(cut -f1 <<<"$OUT" | tail -2 | tr '\n' ' ')" "$TMP/p.op $TMP/sf.op " "--tsv: the label defaults to the file name"
+runlam lam-norm "$TMP/p.op" "$TMP/sf.op"
+is "$(grep -c '^label' <<<"$OUT")/$(grep -c '^$' <<<"$OUT")" "2/1" "key/value: one block per stream, a blank line between"
+runlam lam-norm -l a "$TMP/p.op" "$TMP/sf.op"
+is "$RC" 64 "one --label for two streams: exit 64"
+runlam lam-norm -o "$TMP/two.rep" "$TMP/p.op" "$TMP/none.op"
+ok "$([ "$RC" = 66 ] && [ ! -e "$TMP/two.rep" ]; echo $?)" "a missing second stream: exit 66, no partial output file"
+
+one_bad_option_message lam-norm -k
 
 done_testing

@@ -1,12 +1,15 @@
 #!/usr/bin/python3
 """lam-norm against references outside the project.
 
-- H2/STO-3G at 0.7414 A: Pauli one-norm 1.8850504923 (facts.md, from memory).
+- H2/STO-3G at 1.4 bohr, the textbook integrals of Szabo & Ostlund, Modern
+  Quantum Chemistry (Dover 1996), section 3.5.2 (from memory): Pauli one-norm
+  1.885925 and identity -0.098125 Eh, derived by hand in
+  tests/data/h2-sto3g-r1.4bohr-jw.op.
 - The one-norm of the Pauli decomposition of the dense Hamiltonian that
   tests/lib/refops.py builds independently from the FCIDUMP (all 4^n
   coefficients by trace, numpy) equals lam-norm's closed form.
 - The same closed form written again in numpy from the published formula
-  (Koridon et al. 2021, from memory) equals lam-norm's.
+  (Koridon et al., Phys. Rev. Research 3, 033127 (2021), from memory) equals lam-norm's.
 - Fact of the trade (common practice): Jordan-Wigner, Bravyi-Kitaev and
   parity map each Majorana monomial to one Pauli string, so lam-norm of
   spinfree input = lam-map | lam-norm under all three, to 1e-12 relative;
@@ -29,10 +32,12 @@ def norm_of(*stages):
     return lamtest.report(lamtest.pipe(*stages))
 
 
-fcid, _ = molecules.reference("h2")
+fcid = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data", "h2-sto3g-r1.4bohr.fcidump")
 rep = norm_of(("lam-ints", [fcid]), ("lam-norm", []))
-t.near(rep["lambda"], 1.8850504923, 1e-9, "H2 one-norm 1.8850504923 (facts.md, from memory)")
-t.near(rep["constant"], -0.0988639698, 1e-9, "H2 identity -0.0988639698 (facts.md, from memory)")
+# by hand from Szabo & Ostlund's integrals (tests/data/h2-sto3g-r1.4bohr-jw.op):
+# 2|Z0| + 2|Z2| + J11/4 + J22/4 + 2 (J12 - K12)/4 + 2 J12/4 + 4 K12/4
+t.near(rep["lambda"], 1.885925, 1e-12, "H2 one-norm 1.885925 from the textbook integrals")
+t.near(rep["constant"], -0.098125, 1e-12, "H2 identity -0.098125 from the textbook integrals")
 
 for name in ("h2", "h3plus", "h4chain", "lih", "hf", "h2o", "beh2"):
     fcid, _ = molecules.reference(name)

@@ -16,6 +16,20 @@ for src in "$ROOT"/tools/lam-*.c; do
     like "$ERR" "Try '$p --help'" "$p: usage error points to --help"
     ok "$([ -f "$ROOT/man/$p.1" ]; echo $?)" "$p has man/$p.1"
 done
+# Issue 11 item 5: the suite's short-option table, as lamina(7) writes it
+# (letter and long name), holds for every "-X, --name" line of --help, and
+# a bad option prints one message.  The programs converted so far:
+TABLE_PROGRAMS="lam-map lam-norm lam-sum lam-shift lam-group lam-factor"
+sed -n 's/^\\-\([A-Za-z]\)\t\\-\\-\([a-z-]*\).*/\1 \2/p' "$ROOT/man/lamina.7" >"$TMP/table"
+is "$(wc -l <"$TMP/table" | tr -d ' ')" 22 "lamina(7) has the table of 22 short options"
+for p in $TABLE_PROGRAMS; do
+    lam "$p" --help | sed -n 's/^ *-\([A-Za-z]\), --\([a-z-]*\).*/\1 \2/p' >"$TMP/help"
+    bad=$(grep -vxFf "$TMP/table" "$TMP/help" | tr '\n' ' ')
+    is "$bad" "" "$p: every short option of --help means what the table says"
+    runlam "$p" -V
+    like "$OUT" "^$p \\(lamina\\) [0-9]+\\.[0-9]+\\.[0-9]+$" "$p -V is --version"
+    one_bad_option_message "$p" --output
+done
 ok "$([ -f "$ROOT/man/lamina-stream.5" ]; echo $?)" "man/lamina-stream.5"
 ok "$([ -f "$ROOT/man/lamina.7" ]; echo $?)" "man/lamina.7"
 done_testing

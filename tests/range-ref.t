@@ -50,7 +50,7 @@ def ints(path, *args):
 
 
 # ---- Szabo-Ostlund H2 (textbook integrals typed in by hand) ----
-path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data", "szabo-h2.fcidump")
+path = os.path.join(os.path.dirname(os.path.abspath(__file__)), "data", "h2-sto3g-r1.4bohr.fcidump")
 rep = lam_range(ints(path))
 # Szabo and Ostlund (1989), ch. 3, from memory: full CI -1.1373 Eh (4 decimals)
 tap.near(rep.get("n_min"), -1.1373, 5e-5, "Szabo-Ostlund H2 full CI -1.1373 Eh")

@@ -9,8 +9,8 @@
   same lam-range Fock-space and N-electron extremes to 1e-7 Eh, and the
   same lam-norm lambda where no orbitals are degenerate (orbital signs
   leave lambda unchanged, a rotation among degenerate orbitals does not).
-  psi4's FCIDUMP with frozen core misses one-body lines (see
-  /work/briefs/requests.md), so these comparisons use all-electron files.
+  psi4's FCIDUMP with frozen core misses one-body lines (observed here),
+  so these comparisons use all-electron files.
 - Frozen core: lam-scf --frozen 1 gives psi4's frozen-core FCI energy as
   the lowest N-electron eigenvalue (lam-range), to 1e-8 Eh.
 - Frozen core and active space: the core folded into psi4's all-electron

@@ -3,8 +3,8 @@
 source "$(dirname "$0")/lib/tap.sh"
 
 # H2 in a minimal basis at R = 1.4 bohr: Szabo and Ostlund, Modern Quantum
-# Chemistry (1989), chapter 3 (values from memory, see facts.md).
-cp "$TESTS_DIR/data/szabo-h2.fcidump" "$TMP/h2.fcidump"
+# Chemistry (Dover 1996), section 3.5.2 (values from memory).
+cp "$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump" "$TMP/h2.fcidump"
 lam lam-ints "$TMP/h2.fcidump" >"$TMP/h2.sf"
 
 runlam lam-shift --help
@@ -17,10 +17,9 @@ is "$RC" 0 "--version exits 0"
 like "$OUT" "lam-shift \\(lamina\\)" "--version names the program"
 
 # ---- good input ----
-runlam lam-shift "$TMP/h2.sf"
+runlam lam-shift -r "$TMP/rep" "$TMP/h2.sf"
 is "$RC" 0 "shift of H2 exits 0"
 printf '%s\n' "$OUT" >"$TMP/hk.sf"
-printf '%s\n' "$ERR" >"$TMP/rep"
 like "$OUT" "^#% lamina-op 2" "stream header written"
 like "$OUT" "#% kind: spinfree" "H - K is spinfree"
 like "$OUT" "#% shift-a1: " "a1 in the metadata"
@@ -57,35 +56,54 @@ if [ -x "$LAM_BIN/lam-range" ]; then
     near "$kmax" 0 1e-12 "K: n_max is 0 on the N block"
 fi
 
-runlam lam-shift --tsv "$TMP/h2.sf"
-is "$(printf '%s\n' "$ERR" | wc -l)" 2 "--tsv: one header row and one value row"
-like "$(printf '%s\n' "$ERR" | head -1)" "lambda_before" "--tsv header names the keys"
+runlam lam-shift -t -r "$TMP/r.tsv" "$TMP/h2.sf"
+is "$(wc -l <"$TMP/r.tsv")" 2 "--tsv: one header row and one value row"
+like "$(head -1 "$TMP/r.tsv")" "lambda_before" "--tsv header names the keys"
+runlam lam-shift --spin -t -r "$TMP/rs.tsv" -l spin "$TMP/h2.sf"
+is "$(head -1 "$TMP/rs.tsv")" "$(head -1 "$TMP/r.tsv")" "--tsv: the same columns with and without --spin"
+is "$(cut -f1 "$TMP/r.tsv" | tail -1)/$(cut -f1 "$TMP/rs.tsv" | tail -1)" "$TMP/h2.sf/spin" "--tsv: label column, the input's name by default, -l sets it"
+is "$(awk -F'\t' 'NR == 1 { for (i = 1; i <= NF; i++) if ($i == "b1") c = i } NR == 2 { print $c }' "$TMP/r.tsv")" NA "--tsv: b1 is NA without --spin"
+runlam lam-shift "$TMP/h2.sf"
+is "$RC/$ERR" "0/" "no --report: no report, nothing on stderr"
+runlam lam-shift -t "$TMP/h2.sf"
+is "$RC" 64 "--tsv without --report: exit 64"
+runlam lam-shift -r - "$TMP/h2.sf"
+is "$RC" 64 "-r - without -o: exit 64"
+# Issue 15 item 4: an unwritable report path fails before the operator is written.
+runlam lam-shift -r "$TMP/no-such-dir/rep" "$TMP/h2.sf"
+is "$RC/${#OUT}" "74/0" "unwritable --report: exit 74, nothing on stdout"
+like "$ERR" "^lam-shift: cannot open .*no-such-dir/rep" "unwritable --report: message names the path"
+runlam lam-shift --dump-lp "$TMP/no-such-dir/lp" -r "$TMP/lp.rep" "$TMP/h2.sf"
+is "$RC/${#OUT}" "74/0" "unwritable --dump-lp: exit 74, nothing on stdout"
+runlam lam-shift --dump-lp "$TMP/lp" -o /dev/null "$TMP/h2.sf"
+like "$(grep "^params" "$TMP/lp")" "^params [0-9]+$" "--dump-lp writes the linear program"
+one_bad_option_message lam-shift -n
 
 runlam lam-shift -q --report "$TMP/r2" -o "$TMP/out.sf" "$TMP/h2.sf"
 is "$RC$ERR$OUT" "0" "--report and -o: nothing on stdout or stderr"
 like "$(cat "$TMP/r2")" "lambda_after" "--report FILE holds the report"
 like "$(cat "$TMP/out.sf")" "#% end" "-o FILE holds the stream"
 
-runlam lam-shift --terms a1 "$TMP/h2.sf"
-a2=$(printf '%s\n' "$ERR" | report_get a2)
+runlam lam-shift --terms a1 -r "$TMP/rep" "$TMP/h2.sf"
+a2=$(report_get a2 <"$TMP/rep")
 is "$a2" 0 "--terms a1: a2 stays 0"
 like "$(printf '%s\n' "$OUT" | grep -c 'shift-xi:')" "^0$" "--terms a1: no xi"
 
-runlam lam-shift --electrons 2 --terms a1,a2 "$TMP/h2.sf"
+runlam lam-shift -n 2 --terms a1,a2 "$TMP/h2.sf"
 is "$RC" 0 "--electrons and --terms a1,a2"
 
 # fermion input that is spin-free gives the same optimum
 lam lam-ints --fermion "$TMP/h2.fcidump" >"$TMP/h2.ferm"
-runlam lam-shift "$TMP/h2.ferm"
+runlam lam-shift -r "$TMP/rep" "$TMP/h2.ferm"
 is "$RC" 0 "fermion input accepted"
-near "$(printf '%s\n' "$ERR" | report_get lambda_after)" "$after" 1e-12 "fermion input: same optimum"
+near "$(report_get lambda_after <"$TMP/rep")" "$after" 1e-12 "fermion input: same optimum"
 
 # spin terms
-runlam lam-shift --spin "$TMP/h2.sf"
+runlam lam-shift --spin -r "$TMP/rep" "$TMP/h2.sf"
 is "$RC" 0 "--spin exits 0"
 like "$OUT" "#% kind: fermion" "--spin writes a fermion stream"
 like "$OUT" "#% shift-b1: " "--spin: b1 in the metadata"
-sa=$(printf '%s\n' "$ERR" | report_get lambda_after)
+sa=$(report_get lambda_after <"$TMP/rep")
 awk -v a="$sa" -v b="$after" 'BEGIN { exit !(a <= b * (1 + 1e-12)) }'
 ok $? "--spin never does worse ($sa <= $after)"
 if [ -x "$LAM_BIN/lam-map" ]; then
@@ -114,7 +132,7 @@ runlam lam-shift --emit-recorded "$TMP/s2.sf"
 is "$RC" 0 "--emit-recorded exits 0"
 printf '%s\n' "$OUT" >"$TMP/krec.sf"
 if [ -x "$LAM_BIN/lam-sum" ]; then
-    lam lam-sum "$TMP/h2.sf" -1:"$TMP/s2.sf" -1:"$TMP/krec.sf" >"$TMP/diff.sf"
+    lam lam-sum "$TMP/h2.sf" --scale -1 "$TMP/s2.sf" --scale -1 "$TMP/krec.sf" >"$TMP/diff.sf"
     near "$(lam lam-norm "$TMP/diff.sf" | report_get lambda)" 0 1e-13 \
         "H - (shifted twice + recorded K): lambda 0"
     near "$(lam lam-norm "$TMP/diff.sf" | report_get constant)" 0 1e-13 \

@@ -1,14 +1,14 @@
 #!/usr/bin/env bash
 # lam-sum on the command line, and the stream reader's error handling.
 source "$(dirname "$0")/lib/tap.sh"
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 lam lam-ints "$SZ" > "$TMP/h.op"
 terms() { grep -v '^#' "$1"; }
 
-runlam lam-sum "$TMP/h.op" -1:"$TMP/h.op"
+runlam lam-sum "$TMP/h.op" --scale -1 "$TMP/h.op"
 is "$RC" 0 "H - H: exit 0"
 is "$(printf '%s\n' "$OUT" | grep -v '^#')" "0" "H - H leaves only the zero constant (exact zeros dropped)"
-runlam lam-sum "$TMP/h.op" 0.5:"$TMP/h.op"
+runlam lam-sum "$TMP/h.op" --scale 0.5 "$TMP/h.op"
 is "$(printf '%s\n' "$OUT" | awk '$2 == 0 && $3 == 0 && NF == 3 { print $1 }')" "-1.8792" "1.5 x h11 = 1.5 x -1.2528"
 like "$OUT" '#% history: lam-sum ' "history appended"
 runlam lam-sum --sort "$TMP/h.op"
@@ -20,7 +20,7 @@ printf '0.5 x:0 z:1\n0.25 x:0 z:1\n-0.1 y:2\n0.1 y:2\n1.0\n' > "$TMP/p.txt"
 runlam lam-sum "$TMP/p.txt"
 is "$(printf '%s\n' "$OUT" | grep -v '^#' | tr '\n' ';')" "0.75 x:0 z:1;1;" "pauli: merged in order of first appearance, zeros dropped"
 like "$OUT" '#% kind: pauli' "kind inferred from the terms"
-runlam lam-sum "$TMP/p.txt" 2:"$TMP/p.txt"
+runlam lam-sum "$TMP/p.txt" --scale 2 "$TMP/p.txt"
 is "$(printf '%s\n' "$OUT" | grep -v '^#' | tr '\n' ';')" "2.25 x:0 z:1;3;" "pauli: factors"
 
 # Fermion: canonical order merges a+_2 a+_0 a_1 written two ways (with its sign).
@@ -74,4 +74,55 @@ runlam lam-sum "$TMP/h.op.gz"
 is "$(printf '%s\n' "$OUT" | grep -v '^#')" "$(terms "$TMP/h.op")" "gzip stream read transparently"
 runlam lam-sum "$TMP/missing"
 is "$RC" 66 "missing input: exit 66"
+
+# Issue 13 item 4: a plain getopt_long interface; options anywhere, short
+# options bundled; --scale F belongs to the one FILE after it.
+runlam lam-sum "$TMP/p.txt" --output "$TMP/o1.op"
+is "$RC/${#OUT}" "0/0" "FILE --output X: options after the file"
+is "$(terms "$TMP/o1.op" | tr '\n' ';')" "0.75 x:0 z:1;1;" "FILE --output X: the stream in X"
+runlam lam-sum -zo "$TMP/o2.op.gz" "$TMP/p.txt"
+is "$(gzip -dc "$TMP/o2.op.gz" | terms /dev/stdin | tr '\n' ';')" "0.75 x:0 z:1;1;" "-zo X: gzip and output bundled"
+runlam lam-sum --scale 2 "$TMP/p.txt" "$TMP/p.txt"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | tr '\n' ';')" "2.25 x:0 z:1;3;" "--scale applies to the next FILE only"
+runlam lam-sum --scale=-0.5 "$TMP/p.txt" -- "$TMP/p.txt"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | tr '\n' ';')" "0.375 x:0 z:1;0.5;" "--scale=F and a FILE after --"
+runlam lam-sum "$TMP/p.txt" --scale 2
+is "$RC" 64 "--scale with no FILE after it: exit 64"
+like "$ERR" "^lam-sum: --scale 2 applies to the FILE after it, and none follows" "--scale with no FILE: message"
+runlam lam-sum --scale 2 --scale 3 "$TMP/p.txt"
+is "$RC" 64 "two --scale before one FILE: exit 64"
+runlam lam-sum --scale two "$TMP/p.txt"
+is "$RC" 64 "--scale two: exit 64"
+
+# Issue 15 item 13: FACTOR:FILE is not read; the message says what to write.
+for arg in "-1:$TMP/p.txt" "0.5:$TMP/p.txt"; do
+    runlam lam-sum "$TMP/p.txt" "$arg"
+    is "$RC/${#OUT}" "64/0" "'$arg': exit 64, nothing written"
+    like "$ERR" "^lam-sum: '$arg': a factor is given as --scale F FILE \(here --scale [-0-9.]+ $TMP/p.txt\)" "'$arg': the message shows the new form"
+done
+runlam lam-sum abc:F
+is "$RC" 66 "abc:F (no such file): exit 66"
+like "$ERR" "^lam-sum: cannot open abc:F: no such file \(a factor is given as --scale F FILE" "abc:F: says there is no such file and how factors are written"
+
+# Issue 15 item 13: cancelled terms are removed, never written as zeros;
+# --drop TOL removes rounding leftovers and says what it removed.
+printf '0.1 x:0\n0.2 x:0\n-0.3 x:0\n0.5 z:1 @0\n-0.5 z:1 @0\n0.25 y:1 @0\n2\n' > "$TMP/left.txt"
+runlam lam-sum "$TMP/left.txt"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | awk '$1 == 0' | wc -l)" 0 "cancelled terms (also labelled ones) are not written"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | wc -l)" 3 "without --drop the 5.6e-17 leftover of 0.1 + 0.2 - 0.3 stays"
+runlam lam-sum -d 1e-15 "$TMP/left.txt"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | tr '\n' ';')" "0.25 y:1 @0;2;" "--drop 1e-15: the leftover goes, the constant stays"
+like "$ERR" "^lam-sum: dropped 1 terms with \|c\| <= 1e-15 Eh, one-norm removed 5.55[0-9]*e-17 Eh" "--drop: count and one-norm on stderr"
+is "$(printf '%s\n' "$OUT" | lam lam-norm | report_get terms)" 2 "--drop: lam-norm counts the identity and one string"
+runlam lam-sum --drop 0.3 "$TMP/h.op"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | awk 'NR > 1 && ($1 < 0 ? -$1 : $1) <= 0.3' | wc -l)" 0 "spinfree --drop 0.3: no term left at or below 0.3"
+near "$(printf '%s\n' "$OUT" | grep -v '^#' | head -1)" "$(terms "$TMP/h.op" | head -1)" 0 "spinfree --drop: the constant stays"
+printf '1e-16 0+ 1-\n1e-16 1+ 0-\n0.5 0+ 0-\n' > "$TMP/fl.txt"
+runlam lam-sum --drop 1e-15 "$TMP/fl.txt"
+is "$(printf '%s\n' "$OUT" | grep -v '^#' | wc -l)" 1 "fermion --drop: the two tiny hops go"
+runlam lam-sum --drop -1 "$TMP/p.txt"
+is "$RC" 64 "--drop -1: exit 64"
+runlam lam-sum -s "$TMP/p.txt"
+is "$RC" 64 "-s is not --sort (it is --sector in the suite's table)"
+one_bad_option_message lam-sum -d
 done_testing

@@ -25,7 +25,7 @@ static _Noreturn void usage(void)
            "linear combination of rotated reflections R = 1 - 2n (a fragments stream).\n\n"
            "  -m, --method M        double (double factorization, default) or full-rank\n"
            "                        (greedy fragments fitted with L-BFGS)\n"
-           "  -t, --tol X           Eh; double: drop the smallest factors while the sum of\n"
+           "      --tol X           Eh; double: drop the smallest factors while the sum of\n"
            "                        their eigenvalues stays <= X (default 1e-10); full-rank:\n"
            "                        add fragments until the two-body residual (Frobenius\n"
            "                        norm) is <= X (default 1e-6)\n"
@@ -33,15 +33,18 @@ static _Noreturn void usage(void)
            "      --max-fragments N full-rank: fail beyond N fragments (default 10 n(n+1)/2+10)\n"
            "      --max-iter N      full-rank: L-BFGS iterations per fragment (default 500)\n"
            "  -r, --report FILE     write figures (lambda in Eh, fragments, unitaries, errors)\n"
-           "                        as key<TAB>value lines to FILE ('-' is stdout with -o)\n"
-           "      --tsv             the report as one header row and one value row\n"
+           "                        as key<TAB>value lines to FILE ('-' is stdout with -o);\n"
+           "                        FILE is opened before the stream is written\n"
+           "  -t, --tsv             the report as one header row and one value row (a fixed\n"
+           "                        set of columns, NA where a figure does not apply)\n"
+           "  -l, --label TEXT      label column of the report (default: the input's name)\n"
            "  -o, --output FILE     write the stream to FILE instead of stdout\n"
            "  -z, --gzip            gzip the stream\n"
            "      --progress        show progress on stderr (default: when it is a terminal)\n"
-           "      --quiet           no progress\n"
+           "  -q, --quiet           no progress\n"
            "  -h, --help            show this help\n"
            "      --allow-empty     read an empty input as the zero operator\n"
-           "      --version         show the version\n\n"
+           "  -V, --version         show the version\n\n"
            "Example:\n"
            "  lam-ints h4.fcidump | %s --method double --tol 1e-6 | lam-norm\n",
            lam_program(), lam_program());
@@ -53,7 +56,7 @@ typedef struct {
     double tol, cutoff;
     int tol_set, cutoff_set, tsv, gzip;
     long max_fragments, max_iter;
-    const char *out, *report, *in;
+    const char *out, *report, *in, *label;
 } cli;
 
 static lam_factor_method parse_method(const char *s)
@@ -72,43 +75,53 @@ static double non_negative(const char *opt, const char *arg)
 
 static void parse_args(int argc, char **argv, cli *c)
 {
-    enum { OPT_CUTOFF = 256, OPT_MAXFRAG, OPT_MAXITER, OPT_TSV, OPT_PROGRESS, OPT_QUIET,
-           OPT_VERSION };
+    enum { OPT_TOL = 256, OPT_CUTOFF, OPT_MAXFRAG, OPT_MAXITER, OPT_PROGRESS };
     static const struct option opts[] = {
+        {"method", required_argument, 0, 'm'},
+        {"tol", required_argument, 0, OPT_TOL},
+        {"cutoff", required_argument, 0, OPT_CUTOFF},
+        {"max-fragments", required_argument, 0, OPT_MAXFRAG},
+        {"max-iter", required_argument, 0, OPT_MAXITER},
+        {"report", required_argument, 0, 'r'},
+        {"tsv", no_argument, 0, 't'},
+        {"label", required_argument, 0, 'l'},
+        {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},
+        {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"method", required_argument, 0, 'm'},      {"tol", required_argument, 0, 't'},
-        {"cutoff", required_argument, 0, OPT_CUTOFF}, {"max-fragments", required_argument, 0, OPT_MAXFRAG},
-        {"max-iter", required_argument, 0, OPT_MAXITER}, {"report", required_argument, 0, 'r'},
-        {"tsv", no_argument, 0, OPT_TSV},           {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},              {"progress", no_argument, 0, OPT_PROGRESS},
-        {"quiet", no_argument, 0, OPT_QUIET},       {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, OPT_VERSION},   {0, 0, 0, 0}};
+        {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, 'V'},
+        {0, 0, 0, 0}};
     int o;
     memset(c, 0, sizeof *c);
     c->method = LAM_FACTOR_DOUBLE;
     c->max_fragments = c->max_iter = -1;
-    while ((o = getopt_long(argc, argv, "m:t:r:o:zh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((o = getopt_long(argc, argv, ":m:r:tl:o:zqhV", opts, NULL)) != -1) {
         switch (o) {
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm': c->method = parse_method(optarg); break;
-        case 't': c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
+        case OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
         case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
         case OPT_MAXFRAG: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
         case OPT_MAXITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
         case 'r': c->report = optarg; break;
-        case OPT_TSV: c->tsv = 1; break;
+        case 't': c->tsv = 1; break;
+        case 'l': c->label = optarg; break;
         case 'o': c->out = optarg; break;
         case 'z': c->gzip = 1; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
-        case OPT_QUIET: lam_progress_set(0); break;
+        case 'q': lam_progress_set(0); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, o == ':');
         }
     }
     if (argc - optind > 1) lam_usage_error("one input stream at a time");
     c->in = optind < argc ? argv[optind] : NULL;
     if (c->tsv && !c->report) lam_usage_error("--tsv formats the --report; give --report FILE");
+    if (c->label && !c->report) lam_usage_error("--label names the --report; give --report FILE");
     if (c->report && strcmp(c->report, "-") == 0 && (!c->out || strcmp(c->out, "-") == 0))
         lam_usage_error("--report - needs -o FILE: stdout carries the stream");
     if (c->method == LAM_FACTOR_FULL_RANK && c->tol_set && c->tol == 0.0)
@@ -116,7 +129,9 @@ static void parse_args(int argc, char **argv, cli *c)
                         "residual");
 }
 
-static lam_spinfree *read_operator(lam_reader *r)
+/* *out is set as soon as the operator is read, so that it stays reachable
+ * from main's static when a check below exits. */
+static void read_operator(lam_reader *r, lam_spinfree **out)
 {
     lam_kind kind = lam_reader_kind(r);
     /* An empty input is refused too: it is most often a failed program
@@ -125,7 +140,7 @@ static lam_spinfree *read_operator(lam_reader *r)
         lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
                     "lam-factor reads a spinfree stream, not %s (make one with lam-ints)",
                     kind == LAM_KIND_UNKNOWN ? "an empty or unrecognised one" : lam_kind_name(kind));
-    lam_spinfree *sf = lam_spinfree_read(r);
+    lam_spinfree *sf = *out = lam_spinfree_read(r);
     double scale = 1.0;
     size_t n4 = (size_t)sf->n * sf->n * sf->n * sf->n;
     for (size_t k = 0; k < n4; ++k) scale = fmax(scale, fabs(sf->g[k]));
@@ -137,7 +152,6 @@ static lam_spinfree *read_operator(lam_reader *r)
                     "(qp|rs)): largest violation %.3g Eh; the fragments need real symmetric "
                     "integrals",
                     fmax(herm, real));
-    return sf;
 }
 
 static void options_from_cli(const cli *c, int n, lam_factor_options *o)
@@ -180,33 +194,45 @@ static double one_body_lambda(const lam_fragments *fr)
     return s;
 }
 
-static void write_report(const cli *c, const lam_spinfree *sf, const lam_fragments *fr,
-                         const lam_factor_options *o, const lam_factor_info *info)
+/* The --tsv columns, whichever the method (lam-factor(1) lists them):
+ * the fragments figures lam-norm also gives, then lam-factor's own, named
+ * scope first (lambda.h1: the one-body part of lambda, ...). */
+static const char *const tsv_columns[] = {
+    "label", "kind", "terms", "constant", "lambda", "unitaries", "fragments", "orbitals",
+    "qubits", "method", "tol", "fragments.h2", "factors.total", "trunc.weight",
+    "fit.iterations", "lambda.h1", "lambda.h2", "lambda.pauli", "residual.h2",
+    "error.max", "error.frobenius", "error.constant", "cutoff",
+    "dropped.unitaries", "dropped.lambda", NULL};
+
+static lam_report *make_report(const cli *c, const char *input, const lam_spinfree *sf,
+                               const lam_fragments *fr, const lam_factor_options *o,
+                               const lam_factor_info *info)
 {
     lam_report *rep = lam_report_new();
+    lam_report_columns(rep, tsv_columns);
+    lam_report_str(rep, "label", c->label ? c->label : input);
     lam_fragments_report(fr, rep);
     double lambda = lam_fragments_stats_of(fr).lambda, one = one_body_lambda(fr);
     lam_report_str(rep, "method", method_name(o->method));
     lam_report_num(rep, "tol", o->tol);
-    lam_report_int(rep, "two_body_fragments", info->factors_kept);
+    lam_report_int(rep, "fragments.h2", info->factors_kept);
     if (o->method == LAM_FACTOR_DOUBLE) {
-        lam_report_int(rep, "factors_total", info->factors_total);
-        lam_report_num(rep, "discarded_weight", info->discarded_weight);
+        lam_report_int(rep, "factors.total", info->factors_total);
+        lam_report_num(rep, "trunc.weight", info->discarded_weight);
     } else {
-        lam_report_int(rep, "iterations", info->iterations);
+        lam_report_int(rep, "fit.iterations", info->iterations);
     }
-    lam_report_num(rep, "lambda_one_body", one);
-    lam_report_num(rep, "lambda_two_body", lambda - one);
-    lam_report_num(rep, "lambda_pauli", lam_spinfree_lambda(sf));
-    lam_report_num(rep, "residual_norm", info->residual_norm);
-    lam_report_num(rep, "integral_max_error", info->integral_max_error);
-    lam_report_num(rep, "integral_norm_error", info->integral_norm_error);
-    lam_report_num(rep, "constant_error", info->constant_error);
+    lam_report_num(rep, "lambda.h1", one);
+    lam_report_num(rep, "lambda.h2", lambda - one);
+    lam_report_num(rep, "lambda.pauli", lam_spinfree_lambda(sf));
+    lam_report_num(rep, "residual.h2", info->residual_norm);
+    lam_report_num(rep, "error.max", info->integral_max_error);
+    lam_report_num(rep, "error.frobenius", info->integral_norm_error);
+    lam_report_num(rep, "error.constant", info->constant_error);
     lam_report_num(rep, "cutoff", o->cutoff);
-    lam_report_int(rep, "dropped_unitaries", (long long)info->dropped_unitaries);
-    lam_report_num(rep, "dropped_lambda", info->dropped_lambda);
-    lam_report_save(rep, c->report, c->tsv);
-    lam_report_free(rep);
+    lam_report_int(rep, "dropped.unitaries", (long long)info->dropped_unitaries);
+    lam_report_num(rep, "dropped.lambda", info->dropped_lambda);
+    return rep;
 }
 
 int main(int argc, char **argv)
@@ -214,26 +240,39 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     cli c;
     parse_args(argc, argv, &c);
-    lam_reader *r = lam_reader_open(c.in);
-    lam_spinfree *sf = read_operator(r);
+    /* static: what main holds stays reachable when an output cannot be
+     * opened below (the leak checker counts every exit path) */
+    static lam_reader *r;
+    static lam_spinfree *sf;
+    static lam_fragments *fr;
+    static lam_meta meta;
+    static char *history;
+    r = lam_reader_open(c.in);
+    read_operator(r, &sf);
     lam_factor_options o;
     lam_factor_info info;
     options_from_cli(&c, sf->n, &o);
     double t0 = lam_seconds();
-    lam_fragments *fr = lam_factor(sf, &o, &info);
+    fr = lam_factor(sf, &o, &info);
     lam_progress("%s: %d fragments in %.2f s", method_name(o.method), fr->nfrag,
                  lam_seconds() - t0);
 
-    lam_meta meta;
     lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
     describe_result(&meta, fr, &o, &info);
-    char *history = lam_history_from_argv(argc, argv);
+    history = lam_history_from_argv(argc, argv);
+    /* both outputs open before the first byte of either is written */
+    FILE *report = c.report ? lam_report_open(c.report) : NULL;
     lam_writer *w = lam_writer_open(c.out, c.gzip);
     lam_writer_header(w, LAM_KIND_FRAGMENTS, &meta, history);
     lam_fragments_write_terms(w, fr);
     lam_writer_close(w);
-    if (c.report) write_report(&c, sf, fr, &o, &info);
+    if (report) {
+        lam_report *rep = make_report(&c, lam_reader_name(r), sf, fr, &o, &info);
+        lam_report_write(rep, report, c.tsv);
+        lam_report_close(report, c.report);
+        lam_report_free(rep);
+    }
 
     free(history);
     lam_meta_free(&meta);

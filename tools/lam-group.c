@@ -18,12 +18,12 @@ static _Noreturn void usage(void)
            "mutually anticommuting strings; each set is one unitary of weight\n"
            "sqrt(sum c^2), so lambda_grouped = sum over groups of sqrt(sum c^2) (Eh) is at\n"
            "most lambda = sum |c|.  Writes the stream with '@g' group labels on stdout\n"
-           "and a key/value report (terms, groups, lambda, lambda_grouped, ...) on stderr.\n"
+           "and, with --report, a key/value report (terms, groups, lambda, lambda_grouped).\n"
            "The identity stays unlabelled; existing labels are replaced.\n\n"
            "  -m, --method M       greedy rule, terms by decreasing |c|: 'sorted' (first\n"
            "                       group that takes the term; default) or 'best' (the\n"
            "                       group whose norm grows least)\n"
-           "  -r, --refine N       passes moving terms between groups while lambda_grouped\n"
+           "      --refine N       passes moving terms between groups while lambda_grouped\n"
            "                       falls (0 turns refinement off)\n"
            "      --split          share a term between every group it anticommutes with\n"
            "                       entirely, split optimally\n"
@@ -35,15 +35,18 @@ static _Noreturn void usage(void)
            "                       planning); the report gives group_norm_sum\n"
            "      --check          verify the groups of a labelled stream: exit 65 naming\n"
            "                       the first pair in one group that fails; report on stdout\n"
-           "      --report FILE    write the report to FILE instead of stderr\n"
-           "      --tsv            report as one header row and one value row\n"
+           "  -r, --report FILE    write the report to FILE ('-': stdout, with -o); FILE is\n"
+           "                       opened before the stream is written\n"
+           "  -t, --tsv            report as one header row and one value row (a fixed\n"
+           "                       set of columns, NA where a value does not apply)\n"
+           "  -l, --label TEXT     label column of the report (default: the input's name)\n"
            "  -o, --output FILE    write the stream to FILE instead of stdout\n"
            "  -z, --gzip           gzip the output stream\n"
            "      --progress       progress on stderr even when it is not a terminal\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
            "      --allow-empty    read an empty input as the zero operator\n"
-           "      --version        show the version\n\n"
+           "  -V, --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2o.fcidump | lam-shift | lam-map | %s | lam-norm\n",
            lam_program(), LAM_GROUP_AUTO_TERMS, lam_program());
@@ -53,36 +56,45 @@ static _Noreturn void usage(void)
 typedef struct {
     lam_group_options group;
     int check, tsv, gzip;
-    const char *output, *report, *input;
+    const char *output, *report, *input, *label;
 } options;
 
-enum { OPT_SPLIT = 256, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK, OPT_REPORT, OPT_TSV,
-       OPT_PROGRESS, OPT_VERSION };
+enum { OPT_REFINE = 256, OPT_SPLIT, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK,
+       OPT_PROGRESS };
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"method", required_argument, 0, 'm'},    {"refine", required_argument, 0, 'r'},
-        {"split", no_argument, 0, OPT_SPLIT},     {"no-split", no_argument, 0, OPT_NO_SPLIT},
+        {"method", required_argument, 0, 'm'},
+        {"refine", required_argument, 0, OPT_REFINE},
+        {"split", no_argument, 0, OPT_SPLIT},
+        {"no-split", no_argument, 0, OPT_NO_SPLIT},
         {"split-iterations", required_argument, 0, OPT_SPLIT_ITER},
-        {"commuting", no_argument, 0, OPT_COMMUTING}, {"check", no_argument, 0, OPT_CHECK},
-        {"report", required_argument, 0, OPT_REPORT}, {"tsv", no_argument, 0, OPT_TSV},
-        {"output", required_argument, 0, 'o'},    {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS}, {"quiet", no_argument, 0, 'q'},
-        {"help", no_argument, 0, 'h'},            {"version", no_argument, 0, OPT_VERSION},
+        {"commuting", no_argument, 0, OPT_COMMUTING},
+        {"check", no_argument, 0, OPT_CHECK},
+        {"report", required_argument, 0, 'r'},
+        {"tsv", no_argument, 0, 't'},
+        {"label", required_argument, 0, 'l'},
+        {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},
+        {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
+        {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, 'V'},
         {0, 0, 0, 0}};
     memset(o, 0, sizeof *o);
     lam_group_options_default(&o->group);
     int c;
-    while ((c = getopt_long(argc, argv, "m:r:o:zqh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":m:r:tl:o:zqhV", opts, NULL)) != -1) {
         switch (c) {
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm':
             if (lam_group_method_parse(optarg, &o->group.method) != 0)
                 lam_usage_error("--method wants sorted or best, not '%s'", optarg);
             break;
-        case 'r': o->group.refine_passes = (int)lam_opt_long("--refine", optarg, 0, 1000); break;
+        case OPT_REFINE: o->group.refine_passes = (int)lam_opt_long("--refine", optarg, 0, 1000); break;
         case OPT_SPLIT: o->group.split = 1; break;
         case OPT_NO_SPLIT: o->group.split = 0; break;
         case OPT_SPLIT_ITER:
@@ -91,18 +103,25 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case OPT_COMMUTING: o->group.commuting = 1; break;
         case OPT_CHECK: o->check = 1; break;
-        case OPT_REPORT: o->report = optarg; break;
-        case OPT_TSV: o->tsv = 1; break;
+        case 'r': o->report = optarg; break;
+        case 't': o->tsv = 1; break;
+        case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': lam_progress_set(0); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
     if (argc - optind > 1) lam_usage_error("one input stream at a time");
+    /* --check writes no stream: its report goes to --report, else -o, else stdout */
+    if (!o->check && !o->report && (o->tsv || o->label))
+        lam_usage_error("%s formats the --report; give --report FILE", o->tsv ? "--tsv" : "--label");
+    if (!o->check && o->report && strcmp(o->report, "-") == 0 &&
+        (!o->output || strcmp(o->output, "-") == 0))
+        lam_usage_error("--report - needs -o FILE: stdout carries the stream");
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
@@ -120,6 +139,24 @@ static int stream_is_commuting(lam_reader *r, int forced)
 {
     const char *g = lam_meta_get(lam_reader_meta(r), "grouping");
     return forced || (g && strcmp(g, "commuting") == 0);
+}
+
+/* The --tsv columns of both modes (lam-group(1) lists them); the
+ * anticommuting figures are lambda_grouped*, the commuting ones
+ * group_norm_sum*. */
+static const char *const tsv_columns[] = {
+    "label", "status", "grouping", "method", "terms", "groups", "lines", "shared_terms",
+    "largest_group", "constant", "lambda", "lambda_grouped", "lambda_grouped_greedy",
+    "lambda_grouped_refined", "lambda_grouped_split_bound", "group_norm_sum",
+    "group_norm_sum_greedy", "group_norm_sum_refined", "group_norm_sum_split_bound",
+    "refine_passes", "split", "seconds", NULL};
+
+static lam_report *new_report(const options *o, lam_reader *r)
+{
+    lam_report *rep = lam_report_new();
+    lam_report_columns(rep, tsv_columns);
+    lam_report_str(rep, "label", o->label ? o->label : lam_reader_name(r));
+    return rep;
 }
 
 /* ---------------------------------------------------------------- check */
@@ -182,7 +219,7 @@ static int run_check(const options *o)
     size_t terms = 0;
     for (size_t t = 0; t < op.count; ++t)
         terms += !lam_pauli_is_identity(op.nwords, lam_pauli_x(&op, t), lam_pauli_z(&op, t));
-    lam_report *rep = lam_report_new();
+    lam_report *rep = new_report(o, r);
     lam_report_str(rep, "status", "ok");
     lam_report_str(rep, "grouping", commuting ? "commuting" : "anticommuting");
     lam_report_int(rep, "terms", (long long)terms);
@@ -241,6 +278,7 @@ static int run_group(const options *o, int argc, char **argv)
     lam_meta meta;
     lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
+    lam_report *rep = new_report(o, r);
     lam_reader_close(r);
     /* earlier labels are replaced: merge the strings themselves */
     free(in.group);
@@ -256,17 +294,18 @@ static int run_group(const options *o, int argc, char **argv)
     lam_meta_setf(&meta, "qubits", "%d", out.nqubits);
     lam_meta_set(&meta, "grouping", o->group.commuting ? "commuting" : "anticommuting");
     char *history = lam_history_from_argv(argc, argv);
+    /* both outputs open before the first byte of either is written */
+    FILE *report = o->report ? lam_report_open(o->report) : NULL;
     lam_writer *w = lam_writer_open(o->output, o->gzip);
     lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
     lam_pauli_write_terms(w, &out);
     lam_writer_close(w);
 
-    lam_report *rep = lam_report_new();
     add_report(rep, o, &st, lam_seconds() - t0);
-    if (o->report)
-        lam_report_save(rep, o->report, o->tsv);
-    else
-        lam_report_write(rep, stderr, o->tsv);
+    if (report) {
+        lam_report_write(rep, report, o->tsv);
+        lam_report_close(report, o->report);
+    }
     lam_report_free(rep);
     free(history);
     lam_meta_free(&meta);

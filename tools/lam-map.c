@@ -7,6 +7,8 @@
 #include "encoding.h"
 #include "fermion.h"
 #include "pauli.h"
+#include "report.h"
+#include "spinfree.h"
 #include "stream.h"
 #include "util.h"
 
@@ -18,7 +20,7 @@ static _Noreturn void usage(void)
            "(Eh), the identity as the bare constant.  Every Majorana monomial becomes one\n"
            "Pauli string, so the one-norm is the same under every encoding.\n\n"
            "  -e, --encoding E     jordan-wigner (default), bravyi-kitaev or parity\n"
-           "  -s, --spin-order O   interleaved (default: qubit 2p is orbital p spin up,\n"
+           "      --spin-order O   interleaved (default: qubit 2p is orbital p spin up,\n"
            "                       2p+1 spin down) or blocked (spin-up modes first); a\n"
            "                       fermion stream is relabelled from its own spin-order\n"
            "  -d, --drop TOL       remove terms with |c| <= TOL Eh (never the identity);\n"
@@ -30,7 +32,7 @@ static _Noreturn void usage(void)
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
            "      --allow-empty    read an empty input as the zero operator\n"
-           "      --version        show the version\n\n"
+           "  -V, --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2.fcidump | %s --encoding bravyi-kitaev | lam-norm\n",
            lam_program(), lam_program());
@@ -41,8 +43,7 @@ typedef struct {
     lam_encoding_kind encoding;
     int spin_given;
     lam_spin_order spin;
-    double drop;
-    const char *drop_text;
+    lam_drop drop;
     int gzip;
     lam_kind kind;
     const char *output, *input;
@@ -50,17 +51,23 @@ typedef struct {
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_PROGRESS = 256, OPT_VERSION };
+    enum { OPT_SPIN_ORDER = 256, OPT_PROGRESS };
     static const struct option opts[] = {
+        {"encoding", required_argument, 0, 'e'},
+        {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
+        {"drop", required_argument, 0, 'd'},
+        {"kind", required_argument, 0, 'k'},
+        {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},
+        {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"encoding", required_argument, 0, 'e'}, {"spin-order", required_argument, 0, 's'},
-        {"drop", required_argument, 0, 'd'},     {"kind", required_argument, 0, 'k'},
-        {"output", required_argument, 0, 'o'},   {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS}, {"quiet", no_argument, 0, 'q'},
-        {"help", no_argument, 0, 'h'},           {"version", no_argument, 0, OPT_VERSION},
+        {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, 'V'},
         {0, 0, 0, 0}};
     int c;
-    while ((c = getopt_long(argc, argv, "e:s:d:k:o:zqh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":e:d:k:o:zqhV", opts, NULL)) != -1) {
         switch (c) {
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'e':
@@ -68,15 +75,13 @@ static void parse_options(int argc, char **argv, options *o)
                 lam_usage_error("--encoding wants jordan-wigner, bravyi-kitaev or parity, not '%s'",
                                 optarg);
             break;
-        case 's':
+        case OPT_SPIN_ORDER:
             if (lam_spin_order_parse(optarg, &o->spin) != 0)
                 lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
             o->spin_given = 1;
             break;
         case 'd':
-            o->drop = lam_opt_double("--drop", optarg);
-            o->drop_text = optarg;
-            if (o->drop < 0) lam_usage_error("--drop wants a tolerance >= 0, not '%s'", optarg);
+            lam_drop_parse(&o->drop, optarg);
             break;
         case 'k':
             if (lam_kind_parse(optarg, &o->kind) != 0 ||
@@ -88,12 +93,52 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': lam_progress_set(0); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
     if (argc - optind > 1) lam_usage_error("one stream at a time");
     o->input = optind < argc ? argv[optind] : NULL;
+}
+
+/* Past this size the dense h and (pq|rs) of a spinfree stream are not
+ * built: its terms go one by one into ladder operators, so the memory
+ * follows the terms written, not n^4 (a sparse stream that declares 3000
+ * orbitals would otherwise ask for 650 TB). */
+#define DENSE_SPINFREE_BYTES (256.0 * 1024 * 1024)
+
+static int wants_term_by_term(lam_reader *r, lam_kind kind)
+{
+    if (kind != LAM_KIND_SPINFREE) return 0;
+    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    return n >= 0 && (double)lam_spinfree_bytes((int)n) > DENSE_SPINFREE_BYTES;
+}
+
+typedef struct {
+    lam_fermion_op op;
+    lam_spin_order order;
+    int n;
+} sparse_ctx;
+
+static void add_sparse_term(void *ctx, double c, int nidx, const int *idx, long line)
+{
+    sparse_ctx *s = ctx;
+    lam_fermion_add_spinfree_term(&s->op, s->order, s->n, c, nidx, idx, line);
+}
+
+/* The Majorana monomials of a large spinfree stream, term by term. */
+static lam_spin_order read_majorana_term_by_term(lam_reader *r, const options *o,
+                                                 lam_majorana_set *m)
+{
+    sparse_ctx s;
+    s.order = o->spin_given ? o->spin : lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+    s.n = (int)lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    lam_fermion_init(&s.op, 2 * s.n);
+    lam_spinfree_read_each(r, add_sparse_term, &s);
+    lam_majorana_from_fermion(&s.op, m);
+    lam_fermion_free(&s.op);
+    lam_majorana_require_hermitian(m, lam_reader_name(r));
+    return s.order;
 }
 
 /* Strings go straight to the output, so no set of them is ever held;
@@ -103,19 +148,14 @@ typedef struct {
     int nwords;
     char *buf;
     size_t size;
-    double drop;
-    size_t kept, dropped;
-    double dropped_norm;
+    lam_drop *drop;
+    size_t kept;
 } writer_ctx;
 
 static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double coef)
 {
     writer_ctx *c = ctx;
-    if (fabs(coef) <= c->drop && !lam_pauli_is_identity(c->nwords, x, z)) {
-        ++c->dropped;
-        c->dropped_norm += fabs(coef);
-        return;
-    }
+    if (lam_drop_takes(c->drop, coef, lam_pauli_is_identity(c->nwords, x, z))) return;
     if (lam_pauli_format(c->buf, c->size, c->nwords, x, z) < 0)
         lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
     lam_writer_term(c->w, coef, c->buf);
@@ -125,33 +165,40 @@ static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
-    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, -1.0, NULL, 0,
+    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, {0, 0.0, NULL, 0, 0.0}, 0,
                  LAM_KIND_UNKNOWN, NULL, NULL};
     parse_options(argc, argv, &o);
 
-    lam_reader *r = lam_reader_open(o.input);
+    /* static: what main holds stays reachable when the output cannot be
+     * opened below (the leak checker counts every exit path) */
+    static lam_reader *r;
+    static lam_majorana_set m;
+    static lam_encoding *enc;
+    static lam_meta meta;
+    static char *history;
+    r = lam_reader_open(o.input);
     if (o.kind != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, o.kind);
     lam_kind kind = lam_reader_kind(r);
     if (kind != LAM_KIND_SPINFREE && kind != LAM_KIND_FERMION)
         lam_reader_fail(r, "a %s stream: lam-map maps spinfree or fermion streams",
                         lam_kind_name(kind));
     double t0 = lam_seconds();
-    lam_majorana_set m;
-    lam_spin_order order = lam_majorana_read(r, kind, o.spin_given ? &o.spin : NULL, &m);
+    lam_spin_order order = wants_term_by_term(r, kind)
+                               ? read_majorana_term_by_term(r, &o, &m)
+                               : lam_majorana_read(r, kind, o.spin_given ? &o.spin : NULL, &m);
     lam_progress("%zu Majorana monomials in %.1f s", m.count, lam_seconds() - t0);
 
-    lam_encoding *enc = lam_encoding_new(o.encoding, m.nmodes);
+    enc = lam_encoding_new(o.encoding, m.nmodes);
 
-    lam_meta meta;
     lam_meta_copy(&meta, lam_reader_meta(r));
     lam_meta_remove(&meta, "orbitals");
     lam_meta_remove(&meta, "modes");
     lam_meta_setf(&meta, "qubits", "%d", m.nmodes);
     lam_meta_set(&meta, "encoding", lam_encoding_name(o.encoding));
     lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
-    char *history = lam_history_from_argv(argc, argv);
+    history = lam_history_from_argv(argc, argv);
     writer_ctx c = {lam_writer_open(o.output, o.gzip), enc->nwords, NULL,
-                    (size_t)m.nmodes * 10 + 32, o.drop, 0, 0, 0.0};
+                    (size_t)m.nmodes * 10 + 32, &o.drop, 0};
     c.buf = lam_malloc(c.size);
     /* merged Majorana monomials map one to one onto Pauli strings */
     lam_writer_set_distinct(c.w);
@@ -159,12 +206,7 @@ int main(int argc, char **argv)
     lam_encoding_each_pauli(enc, &m, write_string, &c);
     lam_writer_close(c.w);
     lam_progress("%zu Pauli strings written in %.1f s", c.kept, lam_seconds() - t0);
-    if (o.drop >= 0) {
-        char nb[LAM_DOUBLE_BUF];
-        lam_format_double(nb, sizeof nb, c.dropped_norm);
-        lam_warn("dropped %zu terms with |c| <= %s Eh, one-norm removed %s Eh", c.dropped,
-                 o.drop_text, nb);
-    }
+    lam_drop_say(&o.drop);
 
     free(c.buf);
     free(history);

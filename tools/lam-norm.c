@@ -15,27 +15,37 @@
 
 static _Noreturn void usage(void)
 {
-    printf("Usage: %s [OPTION]... [STREAM]\n"
-           "Report the one-norm lambda of an operator stream (file or stdin, gzip allowed)\n"
-           "as key<TAB>value lines: kind, terms, constant (Eh), lambda (Eh), and the size\n"
-           "(orbitals, modes or qubits).  lambda is the sum of |c| over the Pauli strings\n"
-           "(or Majorana monomials) of the operator, the identity left out; for spinfree and\n"
-           "fermion input it is the value any Majorana-monomial encoding (Jordan-Wigner,\n"
-           "Bravyi-Kitaev, parity) gives, computed without a Pauli expansion.  Pauli streams\n"
-           "with group labels (@N) also get groups and lambda_grouped.\n\n"
+    printf("Usage: %s [OPTION]... [STREAM]...\n"
+           "Report the one-norm lambda of each operator stream (files or stdin, gzip allowed)\n"
+           "as key<TAB>value lines: label, kind, terms, constant (Eh), lambda (Eh), and the\n"
+           "size (orbitals, modes or qubits); one block per stream, blocks separated by a\n"
+           "blank line.  lambda is the sum of |c| over the Pauli strings (or Majorana\n"
+           "monomials) of the operator, the identity left out; for spinfree and fermion input\n"
+           "it is the value any Majorana-monomial encoding (Jordan-Wigner, Bravyi-Kitaev,\n"
+           "parity) gives, computed without a Pauli expansion.  Pauli streams with group\n"
+           "labels (@N) also get groups and lambda_grouped.\n\n"
            "  -k, --kind K         kind of a stream without header\n"
-           "  -t, --tsv            one header row and one value row instead\n"
+           "  -t, --tsv            one header row, then one row per stream; the columns are\n"
+           "                       the same for every kind, NA where a value does not apply\n"
+           "  -l, --label TEXT     label of the stream (default: its file name); give it once\n"
+           "                       per stream, in order\n"
            "  -o, --output FILE    write to FILE instead of stdout\n"
            "      --progress       report progress on stderr (default: when a terminal)\n"
            "  -q, --quiet          no progress\n"
            "  -h, --help           show this help\n"
            "      --allow-empty    read an empty input as the zero operator\n"
-           "      --version        show the version\n\n"
+           "  -V, --version        show the version\n\n"
            "Example:\n"
            "  lam-ints h2.fcidump | %s\n",
            lam_program(), lam_program());
     exit(0);
 }
+
+/* The --tsv columns, whatever the kind (lam-norm(1) lists them). */
+static const char *const tsv_columns[] = {
+    "label", "kind", "terms", "constant", "lambda", "method", "groups", "lambda_grouped",
+    "grouping", "unitaries", "fragments", "orbitals", "electrons", "modes", "qubits",
+    "max_weight", NULL};
 
 /* The closed form needs the 8-fold symmetry of real integrals; rounding
  * in a file written with 17 digits stays far below this. */
@@ -132,42 +142,61 @@ static void norm_pauli(lam_report *rep, lam_reader *r)
     lam_report_int(rep, "max_weight", sum.max_weight);
 }
 
-int main(int argc, char **argv)
+typedef struct {
+    lam_kind forced;
+    int tsv;
+    const char *output;
+    const char **labels;
+    int nlabels;
+} options;
+
+static void parse_options(int argc, char **argv, options *o)
 {
-    lam_set_program(argv[0]);
-    enum { OPT_PROGRESS = 256, OPT_VERSION };
+    enum { OPT_PROGRESS = 256 };
     static const struct option opts[] = {
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"kind", required_argument, 0, 'k'},     {"tsv", no_argument, 0, 't'},
-        {"output", required_argument, 0, 'o'},   {"progress", no_argument, 0, OPT_PROGRESS},
-        {"quiet", no_argument, 0, 'q'},          {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, OPT_VERSION}, {0, 0, 0, 0}};
-    lam_kind forced = LAM_KIND_UNKNOWN;
-    int tsv = 0, c;
-    const char *output = NULL;
-    while ((c = getopt_long(argc, argv, "k:to:qh", opts, NULL)) != -1) {
+        {"label", required_argument, 0, 'l'},    {"output", required_argument, 0, 'o'},
+        {"progress", no_argument, 0, OPT_PROGRESS}, {"quiet", no_argument, 0, 'q'},
+        {"help", no_argument, 0, 'h'},           {"version", no_argument, 0, 'V'},
+        {0, 0, 0, 0}};
+    int c;
+    memset(o, 0, sizeof *o);
+    o->forced = LAM_KIND_UNKNOWN;
+    o->labels = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->labels));
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":k:tl:o:qhV", opts, NULL)) != -1) {
         switch (c) {
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'k':
-            if (lam_kind_parse(optarg, &forced) != 0)
+            if (lam_kind_parse(optarg, &o->forced) != 0)
                 lam_usage_error("--kind wants spinfree, fermion, pauli or fragments, not '%s'",
                                 optarg);
             break;
-        case 't': tsv = 1; break;
-        case 'o': output = optarg; break;
+        case 't': o->tsv = 1; break;
+        case 'l': o->labels[o->nlabels++] = optarg; break;
+        case 'o': o->output = optarg; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': lam_progress_set(0); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
-    if (argc - optind > 1) lam_usage_error("one stream at a time");
+    int streams = argc - optind > 0 ? argc - optind : 1;
+    if (o->nlabels > 0 && o->nlabels != streams)
+        lam_usage_error("%d --label for %d stream%s: give one per stream, in order", o->nlabels,
+                        streams, streams == 1 ? "" : "s");
+}
 
-    lam_reader *r = lam_reader_open(optind < argc ? argv[optind] : NULL);
+static lam_report *norm_stream(const char *path, const char *label, lam_kind forced)
+{
+    lam_reader *r = lam_reader_open(path);
     if (forced != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, forced);
     lam_kind kind = lam_reader_kind(r);
     lam_report *rep = lam_report_new();
+    lam_report_columns(rep, tsv_columns);
+    lam_report_str(rep, "label", label ? label : lam_reader_name(r));
     lam_report_str(rep, "kind", lam_kind_name(kind));
     switch (kind) {
     case LAM_KIND_SPINFREE: norm_spinfree(rep, r); break;
@@ -179,8 +208,35 @@ int main(int argc, char **argv)
     default:
         lam_reader_fail(r, "%s streams are not supported", lam_kind_name(kind));
     }
-    lam_report_save(rep, output, tsv);
-    lam_report_free(rep);
     lam_reader_close(r);
+    return rep;
+}
+
+/* Every stream is read before the output is opened, so a bad one leaves
+ * no partial table behind. */
+int main(int argc, char **argv)
+{
+    lam_set_program(argv[0]);
+    options o;
+    parse_options(argc, argv, &o);
+    int nstreams = argc - optind > 0 ? argc - optind : 1;
+    lam_report **reps = lam_malloc(lam_mul_size((size_t)nstreams, sizeof *reps));
+    for (int i = 0; i < nstreams; ++i)
+        reps[i] = norm_stream(optind < argc ? argv[optind + i] : NULL,
+                              o.nlabels ? o.labels[i] : NULL, o.forced);
+    FILE *out = lam_report_open(o.output);
+    for (int i = 0; i < nstreams; ++i) {
+        if (o.tsv) {
+            if (i == 0) lam_report_write_header(reps[i], out);
+            lam_report_write_row(reps[i], out);
+        } else {
+            if (i > 0) fputc('\n', out);
+            lam_report_write(reps[i], out, 0);
+        }
+        lam_report_free(reps[i]);
+    }
+    lam_report_close(out, o.output);
+    free(reps);
+    free(o.labels);
     return 0;
 }

@@ -1,4 +1,5 @@
 /* lam-shift - the optimal symmetry shift H - K, certified by an LP gap. */
+#include <errno.h>
 #include <getopt.h>
 #include <math.h>
 #include <stdio.h>
@@ -23,7 +24,7 @@ static _Noreturn void usage(void)
         "there.  The minimum is found as a linear program; the report gives lambda\n"
         "before and after (Eh) and the certified gap to the true minimum.\n"
         "Input: spinfree stream (fermion streams that are spin-free are folded).\n\n"
-        "  -e, --electrons N    target electron number N0 (default: electrons: of the\n"
+        "  -n, --electrons N    target electron number N0 (default: electrons: of the\n"
         "                       stream)\n"
         "      --terms LIST     parts of K: a1,a2,xi (default), xi-diag (only the\n"
         "                       diagonal of xi), and with --spin b1,b2,zeta,zeta-diag\n"
@@ -37,8 +38,11 @@ static _Noreturn void usage(void)
         "                       shift-* metadata (H = input + that K)\n"
         "      --gap G          stop at relative gap G (default 1e-10)\n"
         "      --max-iter N     interior-point iterations at most (default 200)\n"
-        "      --report FILE    write the report to FILE (default: stderr)\n"
-        "  -t, --tsv            report as one header row and one value row\n"
+        "  -r, --report FILE    write the report to FILE ('-': stdout, with -o); FILE is\n"
+        "                       opened before the operator is written\n"
+        "  -t, --tsv            report as one header row and one value row (a fixed set\n"
+        "                       of columns, NA where a value does not apply)\n"
+        "  -l, --label TEXT     label column of the report (default: the input's name)\n"
         "      --dump-lp FILE   write the linear program (for checking with other\n"
         "                       solvers)\n"
         "  -o, --output FILE    write the operator to FILE instead of stdout\n"
@@ -47,7 +51,7 @@ static _Noreturn void usage(void)
         "  -q, --quiet          no progress\n"
         "  -h, --help           show this help\n"
         "      --allow-empty    read an empty input as the zero operator\n"
-        "      --version        show the version\n\n"
+        "  -V, --version        show the version\n\n"
         "Example:\n"
         "  lam-ints h2o.fcidump | %s --report shift.txt | lam-map | lam-norm\n",
         lam_program(), lam_program());
@@ -62,37 +66,46 @@ typedef struct {
     lam_spin_order order;
     double gap;
     long max_iter;
-    const char *report, *dump, *output, *input;
+    const char *report, *dump, *output, *input, *label;
 } options;
 
 enum { OPT_TERMS = 256, OPT_SPIN, OPT_SZ, OPT_ORDER, OPT_EMIT, OPT_RECORDED, OPT_GAP, OPT_ITER,
-       OPT_REPORT, OPT_DUMP, OPT_PROGRESS, OPT_VERSION };
+       OPT_DUMP, OPT_PROGRESS };
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"electrons", required_argument, 0, 'e'}, {"terms", required_argument, 0, OPT_TERMS},
-        {"spin", no_argument, 0, OPT_SPIN},       {"sz", required_argument, 0, OPT_SZ},
+        {"electrons", required_argument, 0, 'n'},
+        {"terms", required_argument, 0, OPT_TERMS},
+        {"spin", no_argument, 0, OPT_SPIN},
+        {"sz", required_argument, 0, OPT_SZ},
         {"spin-order", required_argument, 0, OPT_ORDER},
-        {"emit-shift", no_argument, 0, OPT_EMIT}, {"gap", required_argument, 0, OPT_GAP},
+        {"emit-shift", no_argument, 0, OPT_EMIT},
         {"emit-recorded", no_argument, 0, OPT_RECORDED},
+        {"gap", required_argument, 0, OPT_GAP},
         {"max-iter", required_argument, 0, OPT_ITER},
-        {"report", required_argument, 0, OPT_REPORT}, {"tsv", no_argument, 0, 't'},
-        {"dump-lp", required_argument, 0, OPT_DUMP}, {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},            {"progress", no_argument, 0, OPT_PROGRESS},
-        {"quiet", no_argument, 0, 'q'},           {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, OPT_VERSION}, {0, 0, 0, 0}};
+        {"report", required_argument, 0, 'r'},
+        {"tsv", no_argument, 0, 't'},
+        {"label", required_argument, 0, 'l'},
+        {"dump-lp", required_argument, 0, OPT_DUMP},
+        {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},
+        {"progress", no_argument, 0, OPT_PROGRESS},
+        {"quiet", no_argument, 0, 'q'},
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
+        {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, 'V'},
+        {0, 0, 0, 0}};
     memset(o, 0, sizeof *o);
     o->electrons = -1;
     o->terms = 0;
     o->gap = 1e-10;
     o->max_iter = 200;
     int explicit_terms = 0, c;
-    while ((c = getopt_long(argc, argv, "e:to:zqh", opts, NULL)) != -1) {
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, ":n:r:tl:o:zqhV", opts, NULL)) != -1) {
         switch (c) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
-        case 'e': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
+        case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
         case OPT_TERMS:
             if (lam_shift_parse_terms(optarg, &o->terms) != 0 || o->terms == 0)
                 lam_usage_error("--terms wants a comma-separated list of a1, a2, xi, xi-diag, "
@@ -120,18 +133,24 @@ static void parse_options(int argc, char **argv, options *o)
                 lam_usage_error("--gap wants a relative gap between 0 and 1, not '%s'", optarg);
             break;
         case OPT_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case OPT_REPORT: o->report = optarg; break;
+        case 'r': o->report = optarg; break;
+        case 'l': o->label = optarg; break;
         case 't': o->tsv = 1; break;
         case OPT_DUMP: o->dump = optarg; break;
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
         case 'q': lam_progress_set(0); break;
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'h': usage();
-        case OPT_VERSION: lam_print_version();
-        default: lam_usage_error("unknown option");
+        case 'V': lam_print_version();
+        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
+    if (!o->report && (o->tsv || o->label))
+        lam_usage_error("%s formats the --report; give --report FILE", o->tsv ? "--tsv" : "--label");
+    if (o->report && strcmp(o->report, "-") == 0 && (!o->output || strcmp(o->output, "-") == 0))
+        lam_usage_error("--report - needs -o FILE: stdout carries the operator");
     if (!explicit_terms) o->terms = LAM_SHIFT_DEFAULT | (o->spin ? LAM_SHIFT_SPIN_DEFAULT : 0);
     if ((o->terms & LAM_SHIFT_SPIN_TERMS) && !o->spin)
         lam_usage_error("--terms b1, b2, zeta and zeta-diag need --spin");
@@ -263,6 +282,13 @@ static void report_matrix(lam_report *rep, const char *name, const lam_shift *k,
     lam_report_int(rep, key, nonzero);
 }
 
+/* The --tsv columns with and without --spin (lam-shift(1) lists them). */
+static const char *const tsv_columns[] = {
+    "label", "lambda_before", "lambda_after", "gap", "relative_gap", "lambda_lower_bound",
+    "converged", "electrons", "a1", "a2", "xi_trace", "xi_max_abs", "xi_nonzero", "sz", "b1",
+    "b2", "zeta_trace", "zeta_max_abs", "zeta_nonzero", "orbitals", "parameters", "rows",
+    "blocks", "largest_block", "iterations", "lp_seconds", "solve_seconds", "seconds", NULL};
+
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
@@ -295,12 +321,6 @@ int main(int argc, char **argv)
     double fixed;
     lam_shift_build_lp(h, k, &lp, &fixed);
     lam_progress("%d orbitals, %d parameters, %zu rows depend on them", h->n, k->nparams, lp.rows);
-    if (o.dump) {
-        FILE *f = fopen(o.dump, "w");
-        if (!f) lam_fail(LAM_EX_IOERR, "%s: cannot write", o.dump);
-        lam_l1_write(f, &lp, fixed);
-        if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "%s: write failed", o.dump);
-    }
     lam_l1_options lo;
     lam_l1_default_options(&lo);
     lo.rel_gap = o.gap;
@@ -322,7 +342,15 @@ int main(int argc, char **argv)
     lam_meta_copy(&meta, lam_reader_meta(r));
     char *history = lam_history_from_argv(argc, argv);
     lam_progress("optimum found in %.2f s; writing %s", t_lp, o.emit_shift ? "K" : "H - K");
+    /* both outputs open before the first byte of either is written */
+    FILE *report = o.report ? lam_report_open(o.report) : NULL;
+    FILE *dump = o.dump ? fopen(o.dump, "w") : NULL;
+    if (o.dump && !dump) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", o.dump, strerror(errno));
     lam_writer *w = lam_writer_open(o.output, o.gzip);
+    if (dump) {
+        lam_l1_write(dump, &lp, fixed);
+        if (fclose(dump) != 0) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", o.dump, strerror(errno));
+    }
     if (!lam_shift_has_spin(k)) {
         lam_spinfree *out;
         if (o.emit_shift) {
@@ -359,6 +387,8 @@ int main(int argc, char **argv)
     lam_writer_close(w);
 
     lam_report *rep = lam_report_new();
+    lam_report_columns(rep, tsv_columns);
+    lam_report_str(rep, "label", o.label ? o.label : src);
     lam_report_num(rep, "lambda_before", before);
     lam_report_num(rep, "lambda_after", after);
     lam_report_num(rep, "gap", res.primal - res.dual);
@@ -384,8 +414,10 @@ int main(int argc, char **argv)
     lam_report_num(rep, "lp_seconds", t_lp);
     lam_report_num(rep, "solve_seconds", t_solve);
     lam_report_num(rep, "seconds", lam_seconds() - t0);
-    if (o.report) lam_report_save(rep, o.report, o.tsv);
-    else lam_report_write(rep, stderr, o.tsv);
+    if (report) {
+        lam_report_write(rep, report, o.tsv);
+        lam_report_close(report, o.report);
+    }
     if (status != 0)
         lam_warn("warning: the relative gap %.3g did not reach %.3g in %d iterations; "
                  "H - K is exact, only possibly not the best",

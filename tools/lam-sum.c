@@ -4,30 +4,36 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "fermion.h"
 #include "pauli.h"
+#include "report.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
 
 static _Noreturn void usage(void)
 {
-    printf("Usage: %s [OPTION]... [FACTOR:]FILE...\n"
-           "Add operator streams of one kind (spinfree, fermion or pauli), each times an\n"
-           "optional FACTOR, merge repeated terms, drop terms that are exactly zero, and\n"
-           "write one stream.  With one input it tidies that stream.  '-' is stdin; with\n"
-           "no FILE stdin is read.  Coefficients are in hartree (Eh).\n\n"
-           "  -s, --sort          order terms by |coefficient|, largest first (the\n"
+    printf("Usage: %s [OPTION]... [[--scale F] FILE]...\n"
+           "Add operator streams of one kind (spinfree, fermion or pauli), each FILE times\n"
+           "the factor F of a --scale just before it (default 1), merge repeated terms,\n"
+           "remove terms that cancel, and write one stream.  With one input it tidies that\n"
+           "stream.  '-' is stdin; with no FILE stdin is read.  Coefficients are in\n"
+           "hartree (Eh).\n\n"
+           "      --scale F       multiply the next FILE (only that one) by F\n"
+           "  -d, --drop TOL      also remove terms with |c| <= TOL Eh after adding (never\n"
+           "                      the constant); the count and one-norm removed go to stderr\n"
+           "      --sort          order terms by |coefficient|, largest first (the\n"
            "                      constant or identity stays first)\n"
            "  -k, --kind KIND     kind of header-less input: spinfree, fermion, pauli\n"
            "  -o, --output FILE   write to FILE instead of stdout\n"
            "  -z, --gzip          gzip the output\n"
            "  -h, --help          show this help\n"
            "      --allow-empty   read an empty input as the zero operator\n"
-           "      --version       show the version\n\n"
-           "Example (H minus a shift K, both spinfree):\n"
-           "  %s H.op -1:K.op > HK.op\n",
+           "  -V, --version       show the version\n\n"
+           "Example (H minus a shift K, both spinfree, rounding leftovers removed):\n"
+           "  %s H.op --scale -1 K.op --drop 1e-15 > HK.op\n",
            lam_program(), lam_program());
     exit(0);
 }
@@ -37,27 +43,14 @@ typedef struct {
     double factor;
 } input;
 
-/* "FACTOR:FILE" when the part before the first ':' is a number, else the
- * whole argument is a file name. */
-static input parse_input(const char *arg)
-{
-    input in = {arg, 1.0};
-    const char *colon = strchr(arg, ':');
-    if (colon && colon != arg) {
-        char num[64];
-        size_t k = (size_t)(colon - arg);
-        if (k < sizeof num) {
-            memcpy(num, arg, k);
-            num[k] = '\0';
-            double f;
-            if (lam_parse_double(num, &f) == 0) {
-                in.factor = f;
-                in.path = colon + 1;
-            }
-        }
-    }
-    return in;
-}
+typedef struct {
+    int sort, gzip;
+    lam_kind forced;
+    const char *out;
+    lam_drop drop;
+    input *inputs;
+    int ninputs;
+} options;
 
 /* Metadata of the result: the first input's, with what must agree
  * across inputs checked. */
@@ -239,76 +232,169 @@ static void sort_fermion(lam_fermion_op *op)
     *op = sorted;
 }
 
-/* "-1:K.op" and "-0.5:X" are inputs, not options: take them (and every
- * other non-option) out of argv before getopt sees it, in order. */
-static int looks_like_factor(const char *a)
+/* ---- --drop: what is removed is counted, never the constant ---- */
+
+static void drop_spinfree(lam_spinfree *sf, lam_drop *d)
 {
-    return a[0] == '-' && (a[1] == '.' || (a[1] >= '0' && a[1] <= '9'));
+    int n = sf->n;
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            if (LAM_H(sf, p, q) != 0.0 && lam_drop_takes(d, LAM_H(sf, p, q), 0)) LAM_H(sf, p, q) = 0.0;
+    /* a written two-body line merges e_pqrs and e_rspq: drop both halves */
+    for (int pq = 0; pq < n * n; ++pq)
+        for (int rs = pq; rs < n * n; ++rs) {
+            int p = pq / n, q = pq % n, r = rs / n, s = rs % n;
+            double c = pq == rs ? 0.5 * LAM_G(sf, p, q, r, s)
+                                : 0.5 * (LAM_G(sf, p, q, r, s) + LAM_G(sf, r, s, p, q));
+            if (c != 0.0 && lam_drop_takes(d, c, 0)) LAM_G(sf, p, q, r, s) = LAM_G(sf, r, s, p, q) = 0.0;
+        }
 }
 
-static int takes_value(const char *a)
+static void drop_pauli(lam_pauli_set *s, lam_drop *d)
 {
-    return strcmp(a, "-k") == 0 || strcmp(a, "-o") == 0 || strcmp(a, "--kind") == 0 ||
-           strcmp(a, "--output") == 0;
+    lam_pauli_set kept;
+    lam_pauli_set_init(&kept, s->nqubits);
+    lam_pauli_set_reserve(&kept, s->count);
+    for (size_t t = 0; t < s->count; ++t)
+        if (!lam_drop_takes(d, s->coef[t],
+                   lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t))))
+            lam_pauli_set_add(&kept, lam_pauli_x(s, t), lam_pauli_z(s, t), s->coef[t],
+                              s->group ? s->group[t] : -1);
+    lam_pauli_set_free(s);
+    *s = kept;
 }
 
-static int split_inputs(int argc, char **argv, char **opts, int *nopts_out, input *inputs)
+static void drop_fermion(lam_fermion_op *op, lam_drop *d)
 {
-    int nopts = 0, ninputs = 0, only_inputs = 0;
-    opts[nopts++] = argv[0];
-    for (int i = 1; i < argc; ++i) {
-        const char *a = argv[i];
-        if (!only_inputs && strcmp(a, "--") == 0) {
-            only_inputs = 1;
-        } else if (only_inputs || a[0] != '-' || a[1] == '\0' || looks_like_factor(a)) {
-            inputs[ninputs++] = parse_input(a);
-        } else {
-            opts[nopts++] = argv[i];
-            if (takes_value(a) && i + 1 < argc) opts[nopts++] = argv[++i];
+    lam_fermion_op kept;
+    lam_fermion_init(&kept, op->nmodes);
+    for (size_t t = 0; t < op->count; ++t) {
+        int len = (int)lam_fermion_length(op, t);
+        if (!lam_drop_takes(d, op->coef[t], len == 0))
+            lam_fermion_add(&kept, op->coef[t], op->ops + op->first[t], len, op->line[t]);
+    }
+    lam_fermion_free(op);
+    *op = kept;
+}
+
+/* ---- command line ---- */
+
+/* "2:K.op" or "-1:K.op", the FACTOR:FILE form of earlier versions */
+static int looks_like_factor_prefix(const char *a)
+{
+    const char *colon = strchr(a, ':');
+    char num[64];
+    double f;
+    size_t k = colon ? (size_t)(colon - a) : 0;
+    if (!colon || k == 0 || k >= sizeof num) return 0;
+    memcpy(num, a, k);
+    num[k] = '\0';
+    return lam_parse_double(num, &f) == 0;
+}
+
+static _Noreturn void old_factor_syntax(const char *a)
+{
+    const char *colon = strchr(a, ':');
+    lam_usage_error("'%s': a factor is given as --scale F FILE (here --scale %.*s %s), "
+                    "not as FACTOR:FILE",
+                    a, (int)(colon - a), a, colon + 1);
+}
+
+static void add_input(options *o, const char *path, int *scaled, double factor)
+{
+    o->inputs[o->ninputs].path = path;
+    o->inputs[o->ninputs].factor = *scaled ? factor : 1.0;
+    o->ninputs++;
+    *scaled = 0;
+}
+
+/* Options and FILEs come back in order (the '-' of the option string), so
+ * that a --scale belongs to the FILE right after it. */
+static void parse_options(int argc, char **argv, options *o)
+{
+    enum { OPT_SCALE = 256, OPT_SORT };
+    static const struct option opts[] = {
+        {"scale", required_argument, 0, OPT_SCALE},
+        {"drop", required_argument, 0, 'd'},
+        {"sort", no_argument, 0, OPT_SORT},
+        {"kind", required_argument, 0, 'k'},
+        {"output", required_argument, 0, 'o'},
+        {"gzip", no_argument, 0, 'z'},
+        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
+        {"help", no_argument, 0, 'h'},
+        {"version", no_argument, 0, 'V'},
+        {0, 0, 0, 0}};
+    int c, scaled = 0;
+    double factor = 1.0;
+    const char *scale_text = NULL;
+    memset(o, 0, sizeof *o);
+    o->forced = LAM_KIND_UNKNOWN;
+    o->inputs = lam_malloc(lam_mul_size((size_t)argc + 1, sizeof *o->inputs));
+    opterr = 0;
+    while ((c = getopt_long(argc, argv, "-:d:k:o:zhV", opts, NULL)) != -1) {
+        switch (c) {
+        case 1: add_input(o, optarg, &scaled, factor); break;
+        case OPT_SCALE:
+            if (scaled)
+                lam_usage_error("--scale %s and --scale %s before one FILE: one factor a FILE",
+                                scale_text, optarg);
+            factor = lam_opt_double("--scale", optarg);
+            scale_text = optarg;
+            scaled = 1;
+            break;
+        case 'd': lam_drop_parse(&o->drop, optarg); break;
+        case OPT_SORT: o->sort = 1; break;
+        case 'k':
+            if (lam_kind_parse(optarg, &o->forced) != 0 || o->forced == LAM_KIND_FRAGMENTS)
+                lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
+            break;
+        case 'o': o->out = optarg; break;
+        case 'z': o->gzip = 1; break;
+        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
+        case 'h': usage();
+        case 'V': lam_print_version();
+        default:
+            /* "-1:K.op" reaches getopt as the options -1 -: -K ... */
+            for (int i = optind - 1; i <= optind && i < argc; ++i)
+                if (i > 0 && argv[i][0] == '-' && looks_like_factor_prefix(argv[i]))
+                    old_factor_syntax(argv[i]);
+            lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
-    opts[nopts] = NULL;
-    *nopts_out = nopts;
-    return ninputs;
+    for (int i = optind; i < argc; ++i) add_input(o, argv[i], &scaled, factor); /* after "--" */
+    if (scaled)
+        lam_usage_error("--scale %s applies to the FILE after it, and none follows", scale_text);
+}
+
+/* A FILE that does not exist but contains ':' gets a precise message
+ * rather than a bare "cannot open". */
+static void check_inputs(const options *o)
+{
+    int stdin_uses = 0;
+    for (int i = 0; i < o->ninputs; ++i) {
+        const char *p = o->inputs[i].path;
+        stdin_uses += strcmp(p, "-") == 0;
+        if (strchr(p, ':') && access(p, F_OK) != 0) {
+            if (looks_like_factor_prefix(p)) old_factor_syntax(p);
+            lam_fail(LAM_EX_NOINPUT,
+                     "cannot open %s: no such file (a factor is given as --scale F FILE, "
+                     "not with ':')", p);
+        }
+    }
+    if (stdin_uses > 1) lam_usage_error("stdin ('-') can be read only once");
 }
 
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
-    static const struct option opts[] = {
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"sort", no_argument, 0, 's'},     {"kind", required_argument, 0, 'k'},
-        {"output", required_argument, 0, 'o'}, {"gzip", no_argument, 0, 'z'},
-        {"help", no_argument, 0, 'h'},     {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
-    int sort = 0, gzip = 0, c;
-    lam_kind forced = LAM_KIND_UNKNOWN;
-    const char *out = NULL;
-    char **optv = lam_malloc(lam_mul_size((size_t)argc + 1, sizeof *optv));
-    input *inputs = lam_malloc(lam_mul_size((size_t)argc, sizeof *inputs));
-    int optc;
-    int ninputs = split_inputs(argc, argv, optv, &optc, inputs);
-    while ((c = getopt_long(optc, optv, "sk:o:zh", opts, NULL)) != -1) {
-        switch (c) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
-        case 's': sort = 1; break;
-        case 'k':
-            if (lam_kind_parse(optarg, &forced) != 0 || forced == LAM_KIND_FRAGMENTS)
-                lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
-            break;
-        case 'o': out = optarg; break;
-        case 'z': gzip = 1; break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_usage_error("unknown option");
-        }
-    }
-    if (optind < optc) lam_usage_error("unexpected argument '%s'", optv[optind]);
-    free(optv);
-    if (ninputs == 0) inputs[ninputs++] = (input){"-", 1.0};
-    int stdin_uses = 0;
-    for (int i = 0; i < ninputs; ++i) stdin_uses += strcmp(inputs[i].path, "-") == 0;
-    if (stdin_uses > 1) lam_usage_error("stdin ('-') can be read only once");
+    options o;
+    parse_options(argc, argv, &o);
+    if (o.ninputs == 0) o.inputs[o.ninputs++] = (input){"-", 1.0};
+    check_inputs(&o);
+    input *inputs = o.inputs;
+    int ninputs = o.ninputs, sort = o.sort, gzip = o.gzip;
+    lam_kind forced = o.forced;
+    const char *out = o.out;
 
     lam_meta meta;
     lam_kind kind = LAM_KIND_UNKNOWN;
@@ -351,6 +437,7 @@ int main(int argc, char **argv)
     char *history = lam_history_from_argv(argc, argv);
     lam_writer *w = lam_writer_open(out, gzip);
     if (kind == LAM_KIND_SPINFREE) {
+        if (o.drop.on) drop_spinfree(sf_acc, &o.drop);
         lam_spinfree_describe(sf_acc, &meta);
         lam_writer_header(w, kind, &meta, history);
         if (sort) write_spinfree_sorted(w, sf_acc);
@@ -358,6 +445,7 @@ int main(int argc, char **argv)
         lam_spinfree_free(sf_acc);
     } else if (kind == LAM_KIND_PAULI) {
         lam_pauli_set_merge(&pauli_acc, 1);
+        if (o.drop.on) drop_pauli(&pauli_acc, &o.drop);
         if (sort) sort_pauli(&pauli_acc);
         lam_meta_setf(&meta, "qubits", "%d", pauli_acc.nqubits);
         /* merged by (string, label): strings are distinct only unlabelled */
@@ -367,6 +455,7 @@ int main(int argc, char **argv)
     } else {
         lam_fermion_op ordered;
         lam_fermion_normal_order(&fermion_acc, &ordered);
+        if (o.drop.on) drop_fermion(&ordered, &o.drop);
         if (sort) sort_fermion(&ordered);
         lam_meta_setf(&meta, "modes", "%d", ordered.nmodes);
         lam_writer_header(w, kind, &meta, history);
@@ -374,6 +463,7 @@ int main(int argc, char **argv)
         lam_fermion_free(&ordered);
     }
     lam_writer_close(w);
+    lam_drop_say(&o.drop);
     lam_pauli_set_free(&pauli_acc);
     lam_fermion_free(&fermion_acc);
     lam_meta_free(&meta);

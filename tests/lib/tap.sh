@@ -51,3 +51,14 @@ done_testing() {
     [ $_tap_failed -eq 0 ]
     exit $?
 }
+# one_bad_option_message PROG VALUE-OPTION: an unknown long option, an
+# unknown short option and VALUE-OPTION without its value each exit 64
+# with one message and the --help hint (two lines), nothing on stdout.
+one_bad_option_message() {
+    local p=$1 valopt=$2 args
+    for args in --no-such-option -8 "$valopt"; do
+        OUT=$(lam "$p" $args </dev/null 2>"$TMP/err"); RC=$?; ERR=$(cat "$TMP/err")
+        is "$RC/$(wc -l <"$TMP/err" | tr -d ' ')/${#OUT}" "64/2/0" "$p $args: exit 64, one message and the hint, no output"
+        like "$(head -1 "$TMP/err")" "^$p: (unknown option '$args'|option '$args' needs a value)\$" "$p $args: the message names the option"
+    done
+}

