@@ -3,7 +3,7 @@
 # and the ones refused, version-1 files still read, coefficients too large
 # for safe arithmetic refused, empty input refused unless --allow-empty.
 source "$(dirname "$0")/lib/tap.sh"
-SZ="$TESTS_DIR/data/szabo-h2.fcidump"
+SZ="$TESTS_DIR/data/h2-sto3g-r1.4bohr.fcidump"
 lam lam-ints "$SZ" > "$TMP/h.op"
 lam lam-map "$TMP/h.op" > "$TMP/h.pauli"
 
