@@ -57,10 +57,10 @@ bad_fermion '1 2+ 0-' "a version-1 term in a version-2 stream" "a version-1 term
 # ---- version 1, read for one release of grace
 printf '#%% lamina-op 1\n#%% kind: pauli\n-0.5\n0.25 X0 Z1 Z2 X3 Y5 @1\n0.5 Z4 @1\n#%% end\n' > "$TMP/v1.op"
 printf '#%% lamina-op 2\n#%% kind: pauli\n-0.5\n0.25 x:0,3 y:5 z:1-2 @1\n0.5 z:4 @1\n#%% end\n' > "$TMP/v2.op"
-runlam lam-norm "$TMP/v1.op"
+runlam lam-norm -l same "$TMP/v1.op"
 is "$RC" 0 "a version-1 pauli stream is read"
 V1=$OUT
-runlam lam-norm "$TMP/v2.op"
+runlam lam-norm -l same "$TMP/v2.op"
 is "$V1" "$OUT" "version 1 and its version-2 spelling report the same"
 runlam lam-sum "$TMP/v1.op"
 is "$(printf '%s\n' "$OUT" | grep -v '^#' | tr '\n' ';')" "-0.5;0.25 x:0,3 y:5 z:1-2 @1;0.5 z:4 @1;" \
