@@ -515,7 +515,7 @@ static void take_step(int n, const pair_list *pl, const double *step, const doub
 }
 
 /* Minimize from u (updated in place); returns the final f. */
-static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, int mem,
+static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ftol, int mem,
                     const char *label, int *iterations)
 {
     int n = c->base->n, m = c->pairs->count;
@@ -531,6 +531,9 @@ static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, int mem,
     double *ut = lam_malloc(lam_mul_size(nn, sizeof(double)));
     int stored = 0, head = 0, stall = 0;
     double last_step = 0.05;
+    /* f ten iterations back: a stage ends when they gained less than ftol */
+    double window[10];
+    for (int i = 0; i < 10; ++i) window[i] = INFINITY;
     double f = evaluate(c, u, g);
     for (int it = 0; it < max_iter; ++it) {
         double gnorm = sqrt(dot(m, g, g));
@@ -603,6 +606,9 @@ static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, int mem,
         stall = (f - ft <= 1e-12 * fabs(f)) ? stall + 1 : 0;
         f = ft;
         if (stall >= 3) break;
+        double old = window[it % 10];
+        window[it % 10] = f;
+        if (old - f < ftol * fabs(f)) break;
     }
     lam_rotate_orthonormalize(n, u);
     free(g);
@@ -625,6 +631,7 @@ void lam_rotate_default_options(lam_rotate_options *opt)
     opt->starts = 0;
     opt->seed = 1;
     opt->gtol = 1e-7;
+    opt->ftol = 1e-6;
     opt->mu0 = 1e-3;
     opt->stages = 3;
     opt->memory = 12;
@@ -651,7 +658,7 @@ static void minimize_pauli(run_ctx *rc, const lam_spinfree *base, double *v, con
     for (int st = 0; st <= rc->opt->stages; ++st) {
         c.mu = st < rc->opt->stages ? mu : 0;
         snprintf(name, sizeof name, "%s mu %.0e", label, c.mu);
-        lbfgs(&c, v, rc->opt->max_iter, rc->opt->gtol, rc->opt->memory, name,
+        lbfgs(&c, v, rc->opt->max_iter, rc->opt->gtol, rc->opt->ftol, rc->opt->memory, name,
               &rc->res->iterations);
         mu /= 10;
     }
@@ -710,7 +717,8 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
     if (obj == LAM_ROTATE_ER) {
         eval_ctx c = {h, rc->cur, rc->work, rc->gh, rc->gfull, 0, 1, &rc->pairs, 0};
         snprintf(label, sizeof label, "start %d er", start);
-        lbfgs(&c, u, rc->opt->max_iter * (rc->opt->stages + 1), rc->opt->gtol, rc->opt->memory,
+        lbfgs(&c, u, rc->opt->max_iter * (rc->opt->stages + 1), rc->opt->gtol, rc->opt->ftol,
+              rc->opt->memory,
               label, &rc->res->iterations);
         rc->res->evaluations += c.evaluations;
         best = score_at(h, u, obj, rc->tmp, rc->work);

@@ -85,6 +85,8 @@ typedef struct {
     int starts;          /* extra random starts */
     uint64_t seed;
     double gtol;         /* stop a stage when |grad| <= gtol */
+    double ftol;         /* ... or when ten iterations gained less than ftol
+                            (relative) */
     double mu0;          /* first smoothing width (Eh); divided by 10 per stage */
     int stages;          /* smoothing stages before the non-smoothed polish */
     int memory;          /* L-BFGS pairs kept */

@@ -46,6 +46,8 @@ static _Noreturn void usage(void)
         "      --mu MU          first smoothing width in Eh (default 1e-3; /10 a stage)\n"
         "      --rounds N       shift/rotation alternations (default 6)\n"
         "      --gtol G         gradient norm that ends a stage (default 1e-7)\n"
+        "      --ftol F         a stage also ends when ten iterations gain less than\n"
+        "                       F of the objective (default 1e-6)\n"
         "  -j, --threads N      BLAS threads (default: OpenBLAS's own choice)\n"
         "  -r, --report FILE    write the report to FILE (default: stderr)\n"
         "  -t, --tsv            report as one header row and one value row\n"
@@ -70,7 +72,7 @@ typedef struct {
 } options;
 
 enum { O_OBJ = 256, O_START, O_STARTS, O_WITHIN, O_MATRIX, O_ITER, O_STAGES, O_MU, O_ROUNDS,
-       O_GTOL, O_PROGRESS };
+       O_GTOL, O_FTOL, O_PROGRESS };
 
 static void parse_options(int argc, char **argv, options *o)
 {
@@ -81,6 +83,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"matrix", required_argument, 0, O_MATRIX}, {"max-iter", required_argument, 0, O_ITER},
         {"stages", required_argument, 0, O_STAGES}, {"mu", required_argument, 0, O_MU},
         {"rounds", required_argument, 0, O_ROUNDS}, {"gtol", required_argument, 0, O_GTOL},
+        {"ftol", required_argument, 0, O_FTOL},
         {"threads", required_argument, 0, 'j'},     {"report", required_argument, 0, 'r'},
         {"tsv", no_argument, 0, 't'},               {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},      {"gzip", no_argument, 0, 'z'},
@@ -116,6 +119,10 @@ static void parse_options(int argc, char **argv, options *o)
         case O_GTOL:
             o->ro.gtol = lam_opt_double("--gtol", optarg);
             if (!(o->ro.gtol >= 0)) lam_usage_error("--gtol wants a norm >= 0, not '%s'", optarg);
+            break;
+        case O_FTOL:
+            o->ro.ftol = lam_opt_double("--ftol", optarg);
+            if (!(o->ro.ftol >= 0)) lam_usage_error("--ftol wants a fraction >= 0, not '%s'", optarg);
             break;
         case 'j': o->threads = lam_opt_long("--threads", optarg, 1, 1024); break;
         case 'r': o->report = optarg; break;
