@@ -18,6 +18,8 @@
 #include "shift.h"
 #include "util.h"
 
+#define M_PI_8 0.39269908169872414 /* pi / 8 */
+
 /* ---- the transformation ---- */
 
 /* dst[s, abc] = sum_d u[d, s] src[abc, d]: transforms the last index and
@@ -703,6 +705,55 @@ typedef struct {
     int count, cap;
 } track;
 
+/* (i'i'|i'i') + (j'j'|j'j') after rotating orbitals i, j of sf by th
+ * (new i = c i + s j, new j = -s i + c j). */
+static double er_pair_value(const lam_spinfree *sf, int i, int j, double th)
+{
+    int idx[2] = {i, j};
+    double r[2][2] = {{cos(th), -sin(th)}, {sin(th), cos(th)}};
+    double v = 0;
+    for (int k = 0; k < 2; ++k)
+        for (int a = 0; a < 2; ++a)
+            for (int b = 0; b < 2; ++b)
+                for (int c = 0; c < 2; ++c)
+                    for (int d = 0; d < 2; ++d)
+                        v += r[a][k] * r[b][k] * r[c][k] * r[d][k] *
+                             LAM_G(sf, idx[a], idx[b], idx[c], idx[d]);
+    return v;
+}
+
+/* The pair rotation that raises sum (ii|ii) most: the pair's part is
+ * a0 + a1 cos 4th + b1 sin 4th, fitted exactly from three angles.  Applies
+ * it to u and returns 1 when it gains more than rounding. */
+static int best_er_pair_rotation(const lam_spinfree *sf, const pair_list *pl, double *u)
+{
+    int n = sf->n, bi = -1, bj = -1;
+    double best_gain = 1e-11 * fmax(1, fabs(lam_rotate_er_value(sf))), best_th = 0;
+    for (int t = 0; t < pl->count; ++t) {
+        int i = pl->a[t], j = pl->b[t];
+        /* f(0) = a0 + a1, f(pi/4) = a0 - a1, f(pi/8) = a0 + b1 */
+        double f0 = er_pair_value(sf, i, j, 0), f1 = er_pair_value(sf, i, j, 2 * M_PI_8);
+        double f2 = er_pair_value(sf, i, j, M_PI_8);
+        double a0 = (f0 + f1) / 2, a1 = (f0 - f1) / 2, b1 = f2 - a0;
+        double th = atan2(b1, a1) / 4;
+        double gain = er_pair_value(sf, i, j, th) - f0;
+        if (gain > best_gain) {
+            best_gain = gain;
+            best_th = th;
+            bi = i;
+            bj = j;
+        }
+    }
+    if (bi < 0) return 0;
+    double c = cos(best_th), s = sin(best_th);
+    for (int p = 0; p < n; ++p) {
+        double x = u[(size_t)p * n + bi], y = u[(size_t)p * n + bj];
+        u[(size_t)p * n + bi] = c * x + s * y;
+        u[(size_t)p * n + bj] = -s * x + c * y;
+    }
+    return 1;
+}
+
 /* One start: u in, the best rotation of this run out; returns its score. */
 static double run_from(run_ctx *rc, double *u, int start, track *tr)
 {
@@ -716,10 +767,16 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
     double best;
     if (obj == LAM_ROTATE_ER) {
         eval_ctx c = {h, rc->cur, rc->work, rc->gh, rc->gfull, 0, 1, &rc->pairs, 0};
-        snprintf(label, sizeof label, "start %d er", start);
-        lbfgs(&c, u, rc->opt->max_iter * (rc->opt->stages + 1), rc->opt->gtol, rc->opt->ftol,
-              rc->opt->memory,
-              label, &rc->res->iterations);
+        /* L-BFGS stops where the gradient vanishes, which canonical orbitals
+         * of a symmetric molecule do by symmetry (a saddle); the best single
+         * pair rotation, exact in its angle, leaves such points */
+        for (int round = 0; round < 10 * n + 10; ++round) {
+            snprintf(label, sizeof label, "start %d er round %d", start, round);
+            lbfgs(&c, u, rc->opt->max_iter * (rc->opt->stages + 1), rc->opt->gtol, rc->opt->ftol,
+                  rc->opt->memory, label, &rc->res->iterations);
+            lam_rotate_apply(h, u, rc->cur, rc->work);
+            if (!best_er_pair_rotation(rc->cur, &rc->pairs, u)) break;
+        }
         rc->res->evaluations += c.evaluations;
         best = score_at(h, u, obj, rc->tmp, rc->work);
     } else if (obj == LAM_ROTATE_PAULI) {
