@@ -32,6 +32,27 @@ static void transform_last_to_front(int n, const double *u, const double *src, d
                 n3);
 }
 
+/* Average each element over the 8 index permutations of real integrals:
+ * the projection that keeps every contraction with symmetric g'. */
+static void symmetrize8(int n, double *f)
+{
+    size_t N = (size_t)n;
+#define AT(p, q, r, s) f[(((size_t)(p) * N + (q)) * N + (r)) * N + (s)]
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q)
+            for (int r = 0; r <= p; ++r)
+                for (int s = 0; s <= (r == p ? q : r); ++s) {
+                    /* pairwise, so that eight equal values give that value */
+                    double m = (((AT(p, q, r, s) + AT(q, p, r, s)) +
+                                 (AT(p, q, s, r) + AT(q, p, s, r))) +
+                                ((AT(r, s, p, q) + AT(s, r, p, q)) +
+                                 (AT(r, s, q, p) + AT(s, r, q, p)))) * 0.125;
+                    AT(p, q, r, s) = AT(q, p, r, s) = AT(p, q, s, r) = AT(q, p, s, r) = m;
+                    AT(r, s, p, q) = AT(s, r, p, q) = AT(r, s, q, p) = AT(s, r, q, p) = m;
+                }
+#undef AT
+}
+
 void lam_rotate_apply(const lam_spinfree *in, const double *u, lam_spinfree *out, double *work)
 {
     int n = in->n;
@@ -44,6 +65,14 @@ void lam_rotate_apply(const lam_spinfree *in, const double *u, lam_spinfree *out
                 n);
     cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, n, n, n, 1.0, u, n, t, n, 0.0, out->h, n);
     free(t);
+    /* exactly symmetric, as a stream round trip makes it: the operator
+     * evaluated is then the operator written, to the last bit */
+    symmetrize8(n, out->g);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < p; ++q) {
+            double v = 0.5 * (out->h[p * n + q] + out->h[q * n + p]);
+            out->h[p * n + q] = out->h[q * n + p] = v;
+        }
     out->e0 = in->e0;
     out->electrons = in->electrons;
     out->ms2 = in->ms2;
@@ -60,25 +89,6 @@ static inline double smooth_sign(double x, double mu)
 {
     if (mu > 0) return x / sqrt(x * x + mu * mu);
     return (x > 0) - (x < 0);
-}
-
-/* Average each element over the 8 index permutations of real integrals:
- * the projection that keeps every contraction with symmetric g'. */
-static void symmetrize8(int n, double *f)
-{
-    size_t N = (size_t)n;
-#define AT(p, q, r, s) f[(((size_t)(p) * N + (q)) * N + (r)) * N + (s)]
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q <= p; ++q)
-            for (int r = 0; r <= p; ++r)
-                for (int s = 0; s <= (r == p ? q : r); ++s) {
-                    double m = (AT(p, q, r, s) + AT(q, p, r, s) + AT(p, q, s, r) +
-                                AT(q, p, s, r) + AT(r, s, p, q) + AT(s, r, p, q) +
-                                AT(r, s, q, p) + AT(s, r, q, p)) / 8;
-                    AT(p, q, r, s) = AT(q, p, r, s) = AT(p, q, s, r) = AT(q, p, s, r) = m;
-                    AT(r, s, p, q) = AT(s, r, p, q) = AT(r, s, q, p) = AT(s, r, q, p) = m;
-                }
-#undef AT
 }
 
 double lam_rotate_smooth_lambda(const lam_spinfree *sf, double mu, double *gh, double *gg)
@@ -416,36 +426,37 @@ double lam_rotate_grouped_lambda(const lam_spinfree *sf)
     return st.lambda_grouped;
 }
 
-/* Value of the objective (lower is better: the ER sum enters negated) of
- * the operator h rotated by u. */
-static double score_at(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
-                       lam_spinfree *tmp, double *work)
+/* The objective of sf (the ER sum positive); the shifted and grouped ones
+ * subtract the shift from sf itself. */
+static double objective_in_place(lam_spinfree *sf, lam_rotate_objective obj)
 {
-    lam_rotate_apply(h, u, tmp, work);
     switch (obj) {
-    case LAM_ROTATE_ER: return -lam_rotate_er_value(tmp);
-    case LAM_ROTATE_PAULI: return lam_spinfree_lambda(tmp);
-    case LAM_ROTATE_SHIFTED: return lam_rotate_subtract_shift(tmp);
+    case LAM_ROTATE_ER: return lam_rotate_er_value(sf);
+    case LAM_ROTATE_PAULI: return lam_spinfree_lambda(sf);
+    case LAM_ROTATE_SHIFTED: return lam_rotate_subtract_shift(sf);
     case LAM_ROTATE_GROUPED:
-        lam_rotate_subtract_shift(tmp);
-        return lam_rotate_grouped_lambda(tmp);
+        lam_rotate_subtract_shift(sf);
+        return lam_rotate_grouped_lambda(sf);
     }
     return NAN;
 }
 
+/* Score (lower is better: the ER sum enters negated) of h rotated by u;
+ * tmp receives the rotated operator (shifted, for those objectives). */
+static double score_at(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
+                       lam_spinfree *tmp, double *work)
+{
+    lam_rotate_apply(h, u, tmp, work);
+    double v = objective_in_place(tmp, obj);
+    return obj == LAM_ROTATE_ER ? -v : v;
+}
+
 double lam_rotate_objective_value(const lam_spinfree *h, lam_rotate_objective obj)
 {
+    if (obj == LAM_ROTATE_ER || obj == LAM_ROTATE_PAULI)
+        return objective_in_place((lam_spinfree *)h, obj); /* does not write */
     lam_spinfree *tmp = lam_spinfree_clone(h);
-    double v = NAN;
-    switch (obj) {
-    case LAM_ROTATE_ER: v = lam_rotate_er_value(tmp); break;
-    case LAM_ROTATE_PAULI: v = lam_spinfree_lambda(tmp); break;
-    case LAM_ROTATE_SHIFTED: v = lam_rotate_subtract_shift(tmp); break;
-    case LAM_ROTATE_GROUPED:
-        lam_rotate_subtract_shift(tmp);
-        v = lam_rotate_grouped_lambda(tmp);
-        break;
-    }
+    double v = objective_in_place(tmp, obj);
     lam_spinfree_free(tmp);
     return v;
 }
@@ -820,7 +831,8 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
                 best = score;
                 memcpy(ubest, u, nn * sizeof(double));
             }
-            if (outer == rc->opt->outer || !(ls < prev_s - 1e-9 * fabs(prev_s))) break;
+            if (outer == rc->opt->outer || (outer > 0 && !(ls < prev_s - 1e-9 * fabs(prev_s))))
+                break;
             prev_s = ls;
             snprintf(label, sizeof label, "start %d round %d", start, outer);
             minimize_pauli(rc, rc->tmp, v, label);
@@ -836,8 +848,21 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
     return best;
 }
 
+/* The objective of h rotated by u, on exactly the operator written to
+ * out (lower is better: the ER sum enters negated).  The grouped lambda
+ * changes with the last bit of the coefficients (ties in the greedy order,
+ * the optimal shift parameters are not unique), so the value reported is
+ * always that of the operator that is written. */
+static double final_score(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
+                          lam_spinfree *out, double *work)
+{
+    lam_rotate_apply(h, u, out, work);
+    double v = lam_rotate_objective_value(out, obj);
+    return obj == LAM_ROTATE_ER ? -v : v;
+}
+
 void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
-                         double *u, lam_rotate_result *res)
+                         double *u, lam_spinfree *out, lam_rotate_result *res)
 {
     int n = h->n;
     size_t nn = (size_t)n * n;
@@ -856,15 +881,10 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
     double *rnd = lam_malloc(lam_mul_size(nn, sizeof(double)));
     track tr = {NULL, NULL, 0, 0};
 
-    double start_score = score_at(h, u0, opt->objective, rc.tmp, rc.work);
-    res->lambda_before = lam_spinfree_lambda(rc.tmp);
-    if (opt->objective == LAM_ROTATE_SHIFTED || opt->objective == LAM_ROTATE_GROUPED) {
-        lam_rotate_apply(h, u0, rc.tmp, rc.work);
-        res->lambda_before = lam_spinfree_lambda(rc.tmp);
-    }
+    double start_score = final_score(h, u0, opt->objective, out, rc.work);
+    res->lambda_before = lam_spinfree_lambda(out);
     memcpy(u, u0, nn * sizeof(double));
     double best = start_score;
-    res->kept_start = 1;
     uint64_t state = opt->seed;
     for (int s = 0; s <= opt->starts; ++s) {
         memcpy(trial, u0, nn * sizeof(double));
@@ -881,14 +901,21 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
             best = score;
             memcpy(u, trial, nn * sizeof(double));
             res->best_start = s;
-            res->kept_start = 0;
         }
     }
-    lam_rotate_apply(h, u, rc.tmp, rc.work);
-    res->lambda_after = lam_spinfree_lambda(rc.tmp);
+    double after = final_score(h, u, opt->objective, out, rc.work);
+    res->kept_start = 0;
+    if (!(after < start_score)) {
+        /* never worse than the start: keep it */
+        memcpy(u, u0, nn * sizeof(double));
+        after = final_score(h, u, opt->objective, out, rc.work);
+        res->kept_start = 1;
+        res->best_start = 0;
+    }
+    res->lambda_after = lam_spinfree_lambda(out);
     int sign = opt->objective == LAM_ROTATE_ER ? -1 : 1;
     res->before = sign * start_score;
-    res->after = sign * best;
+    res->after = sign * after;
     res->candidates = tr.count;
     res->surrogate_corr = rank_correlation(tr.count, tr.lam_s, tr.lam_g);
     free(tr.lam_s);

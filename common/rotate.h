@@ -24,8 +24,10 @@
 #include <stdint.h>
 #include "spinfree.h"
 
-/* out = the operator in the orbitals U (n x n, row-major).  out must have
- * the same n; work holds n^4 doubles.  e0, electrons, ms2 are copied. */
+/* out = the operator in the orbitals U (n x n, row-major), with the
+ * 8-fold symmetry of real integrals made exact (the rounding of the
+ * transformation breaks it in the last bit).  out must have the same n;
+ * work holds n^4 doubles.  e0, electrons, ms2 are copied. */
 void lam_rotate_apply(const lam_spinfree *in, const double *u, lam_spinfree *out,
                       double *work);
 
@@ -110,12 +112,13 @@ typedef struct {
 } lam_rotate_result;
 
 /* Minimize the objective over rotations u0 exp(K) (u0 is the start; on
- * return u holds the best U found, never worse than u0 for the objective).
- * h is the operator in the original orbitals. */
+ * return u holds the best U found and out (n orbitals) h in those
+ * orbitals, never worse than u0 for the objective as evaluated on out
+ * itself).  h is the operator in the original orbitals. */
 void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
-                         double *u, lam_rotate_result *res);
+                         double *u, lam_spinfree *out, lam_rotate_result *res);
 
-/* Objective value of the operator (already rotated). */
+/* Objective value of the operator (already rotated; the ER sum positive). */
 double lam_rotate_objective_value(const lam_spinfree *h, lam_rotate_objective obj);
 /* Sum_i (ii|ii). */
 double lam_rotate_er_value(const lam_spinfree *h);

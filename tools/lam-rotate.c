@@ -246,8 +246,10 @@ int main(int argc, char **argv)
         eo.objective = LAM_ROTATE_ER;
         eo.starts = 0;
         double *t = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
+        lam_spinfree *loc = lam_spinfree_new(n);
         lam_progress("Edmiston-Ruedenberg localization of %d orbitals", n);
-        lam_rotate_optimize(h, u0, &eo, t, &er_res);
+        lam_rotate_optimize(h, u0, &eo, t, loc, &er_res);
+        lam_spinfree_free(loc);
         free(u0);
         u0 = t;
     }
@@ -256,12 +258,8 @@ int main(int argc, char **argv)
     lam_rotate_result res;
     lam_progress("optimizing the %s objective over %d orbitals",
                  lam_rotate_objective_name(o.ro.objective), n);
-    lam_rotate_optimize(h, u0, &o.ro, u, &res);
-
     out = lam_spinfree_new(n);
-    double *work = lam_malloc(lam_mul_size((size_t)n * n * n, (size_t)n * sizeof(double)));
-    lam_rotate_apply(h, u, out, work);
-    free(work);
+    lam_rotate_optimize(h, u0, &o.ro, u, out, &res);
     double lambda_out = lam_spinfree_lambda(out);
 
     lam_meta meta;

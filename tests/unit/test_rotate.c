@@ -176,10 +176,10 @@ static void optimizer_never_worse(void)
     opt.max_iter = 30;
     opt.starts = 2;
     lam_rotate_result res;
-    lam_rotate_optimize(h, u0, &opt, u, &res);
+    lam_spinfree *r = lam_spinfree_new(n);
+    lam_rotate_optimize(h, u0, &opt, u, r, &res);
     tap_ok(res.after <= res.before, "pauli objective: never above the start");
     tap_near(res.before, lam_spinfree_lambda(h), 1e-12, "objective_before is lambda of the input");
-    lam_spinfree *r = lam_spinfree_new(n);
     double work[256];
     lam_rotate_apply(h, u, r, work);
     tap_near(lam_spinfree_lambda(r), res.after, 1e-12, "objective_after is lambda of the result");
@@ -189,14 +189,14 @@ static void optimizer_never_worse(void)
     char err[128];
     tap_ok(lam_rotate_blocks_parse("0-1", n, -1, &b, err, sizeof err) == 0, "0-1 parses");
     opt.blocks = &b;
-    lam_rotate_optimize(h, u0, &opt, u, &res);
+    lam_rotate_optimize(h, u0, &opt, u, r, &res);
     int fixed = fabs(u[2 * n + 2] - 1) < 1e-14 && fabs(u[3 * n + 3] - 1) < 1e-14 &&
                 fabs(u[0 * n + 2]) < 1e-14 && fabs(u[1 * n + 3]) < 1e-14;
     tap_ok(fixed, "--within 0-1: orbitals 2 and 3 do not move");
     lam_rotate_blocks_free(&b);
     opt.objective = LAM_ROTATE_ER;
     opt.blocks = NULL;
-    lam_rotate_optimize(h, u0, &opt, u, &res);
+    lam_rotate_optimize(h, u0, &opt, u, r, &res);
     tap_ok(res.after >= res.before, "er objective: sum (ii|ii) never below the start");
     lam_spinfree_free(h);
     lam_spinfree_free(r);
