@@ -32,7 +32,8 @@ static _Noreturn void usage(void)
         "      --start S        given (default): the input orbitals; er: their\n"
         "                       Edmiston-Ruedenberg localization first; or a FILE\n"
         "                       holding U0 (as --matrix writes it)\n"
-        "      --starts N       N more starts: U0 times a random rotation (default 0)\n"
+        "      --starts N       N more starts: U0 times a random rotation (default 8\n"
+        "                       up to 16 orbitals, else 0)\n"
         "  -S, --seed N         seed of the random starts (default 1)\n"
         "      --within SPACES  rotate only inside orbital blocks: 0-4,5-9 (commas\n"
         "                       separate blocks, + joins ranges: 0-2+7,3-6; orbitals\n"
@@ -94,6 +95,7 @@ static void parse_options(int argc, char **argv, options *o)
     lam_rotate_default_options(&o->ro);
     o->electrons = -1;
     o->start = "given";
+    o->ro.starts = -1;
     opterr = 0;
     int c;
     while ((c = getopt_long(argc, argv, ":S:n:j:r:tl:o:zqhV", opts, NULL)) != -1) {
@@ -233,6 +235,9 @@ int main(int argc, char **argv)
     if (lam_rotate_blocks_parse(o.within, n, h->electrons, &blocks, err, sizeof err) != 0)
         lam_usage_error("--within: %s", err);
     o.ro.blocks = &blocks;
+    /* small operators: canonical orbitals of symmetric molecules are
+     * stationary points, and random starts cost little there */
+    if (o.ro.starts < 0) o.ro.starts = n <= 16 ? 8 : 0;
 
     int start_er = strcmp(o.start, "er") == 0;
     if (strcmp(o.start, "given") == 0 || start_er) u0 = identity(n);
