@@ -442,12 +442,15 @@ static double objective_in_place(lam_spinfree *sf, lam_rotate_objective obj)
 }
 
 /* Score (lower is better: the ER sum enters negated) of h rotated by u;
- * tmp receives the rotated operator (shifted, for those objectives). */
+ * tmp receives the rotated operator, shifted for those objectives unless
+ * keep.  The value is that of exactly the operator in tmp: the grouped
+ * lambda changes with the last bit of the coefficients (ties in the greedy
+ * order; the optimal shift parameters are not unique). */
 static double score_at(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
-                       lam_spinfree *tmp, double *work)
+                       lam_spinfree *tmp, double *work, int keep)
 {
     lam_rotate_apply(h, u, tmp, work);
-    double v = objective_in_place(tmp, obj);
+    double v = keep ? lam_rotate_objective_value(tmp, obj) : objective_in_place(tmp, obj);
     return obj == LAM_ROTATE_ER ? -v : v;
 }
 
@@ -789,7 +792,7 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
             if (!best_er_pair_rotation(rc->cur, &rc->pairs, u)) break;
         }
         rc->res->evaluations += c.evaluations;
-        best = score_at(h, u, obj, rc->tmp, rc->work);
+        best = score_at(h, u, obj, rc->tmp, rc->work, 0);
     } else if (obj == LAM_ROTATE_PAULI) {
         lam_rotate_apply(h, u, rc->tmp, rc->work);
         snprintf(label, sizeof label, "start %d", start);
@@ -797,7 +800,7 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
         multiply(n, u, v, t);
         lam_rotate_orthonormalize(n, t);
         double before = lam_spinfree_lambda(rc->tmp);
-        best = score_at(h, t, obj, rc->tmp, rc->work);
+        best = score_at(h, t, obj, rc->tmp, rc->work, 0);
         if (best < before) memcpy(u, t, nn * sizeof(double));
         else best = before;
     } else {
@@ -848,19 +851,6 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
     return best;
 }
 
-/* The objective of h rotated by u, on exactly the operator written to
- * out (lower is better: the ER sum enters negated).  The grouped lambda
- * changes with the last bit of the coefficients (ties in the greedy order,
- * the optimal shift parameters are not unique), so the value reported is
- * always that of the operator that is written. */
-static double final_score(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
-                          lam_spinfree *out, double *work)
-{
-    lam_rotate_apply(h, u, out, work);
-    double v = lam_rotate_objective_value(out, obj);
-    return obj == LAM_ROTATE_ER ? -v : v;
-}
-
 void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
                          double *u, lam_spinfree *out, lam_rotate_result *res)
 {
@@ -881,7 +871,7 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
     double *rnd = lam_malloc(lam_mul_size(nn, sizeof(double)));
     track tr = {NULL, NULL, 0, 0};
 
-    double start_score = final_score(h, u0, opt->objective, out, rc.work);
+    double start_score = score_at(h, u0, opt->objective, out, rc.work, 1);
     res->lambda_before = lam_spinfree_lambda(out);
     memcpy(u, u0, nn * sizeof(double));
     double best = start_score;
@@ -903,12 +893,12 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
             res->best_start = s;
         }
     }
-    double after = final_score(h, u, opt->objective, out, rc.work);
+    double after = score_at(h, u, opt->objective, out, rc.work, 1);
     res->kept_start = 0;
     if (!(after < start_score)) {
         /* never worse than the start: keep it */
         memcpy(u, u0, nn * sizeof(double));
-        after = final_score(h, u, opt->objective, out, rc.work);
+        after = score_at(h, u, opt->objective, out, rc.work, 1);
         res->kept_start = 1;
         res->best_start = 0;
     }

@@ -85,6 +85,17 @@ lam lam-rotate -q --objective shifted -r "$TMP/rep.s" --max-iter 30 "$TMP/w.sf" 
 lam lam-shift --report "$TMP/shift.rep" "$TMP/rs.sf" >/dev/null
 near "$(report_get lambda_after <"$TMP/shift.rep")" "$(report_get objective_after <"$TMP/rep.s")" 1e-8 \
     "objective_after of --objective shifted = lam-shift's lambda_after of the output"
+# the grouped objective is what lam-shift | lam-map | lam-group then measure
+lam lam-rotate -q --objective grouped --starts 1 --rounds 2 -r "$TMP/rep.g" "$TMP/w.sf" >"$TMP/rg.sf"
+g=$(lam lam-shift --report /dev/null "$TMP/rg.sf" | lam lam-map | lam lam-group 2>/dev/null | lam lam-norm \
+    | report_get lambda_grouped)
+near "$g" "$(report_get objective_after <"$TMP/rep.g")" 1e-12 \
+    "objective_after of --objective grouped = lam-shift | lam-map | lam-group | lam-norm of the output"
+g0=$(lam lam-shift --report /dev/null "$TMP/w.sf" | lam lam-map | lam lam-group 2>/dev/null | lam lam-norm \
+    | report_get lambda_grouped)
+near "$g0" "$(report_get objective_before <"$TMP/rep.g")" 1e-12 "objective_before = the same pipeline on the input"
+awk -v a="$g" -v b="$g0" 'BEGIN { exit !(a <= b) }'
+ok $? "grouped lambda never above the input's ($g0 -> $g)"
 # a shifted input: the recorded shift follows the orbitals
 lam lam-shift --report /dev/null "$TMP/w.sf" >"$TMP/hk.sf"
 runlam lam-rotate -q -r /dev/null "$TMP/hk.sf"

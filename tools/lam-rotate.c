@@ -155,21 +155,6 @@ static lam_spinfree *read_operator(lam_reader *r)
                 "spin-free operators only)", lam_kind_name(kind));
 }
 
-/* Both the closed form and the rotation as written need real integrals
- * with their 8-fold symmetry; 17-digit files keep it far below this. */
-static void require_real_symmetry(const lam_spinfree *sf, const char *src)
-{
-    size_t nn = (size_t)sf->n * (size_t)sf->n;
-    double big = 0;
-    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
-    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
-    double err = lam_spinfree_real_symmetry_error(sf);
-    if (err > 1e-12 * big)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the integrals lack the 8-fold symmetry of real orbitals "
-                    "(largest violation %.3g Eh)", err);
-}
-
 /* A shift recorded by lam-shift names xi in the old orbitals; it is the
  * same operator K in the new ones with xi' = U^T xi U. */
 static void rotate_recorded_shift(lam_meta *meta, int n, const double *u, const char *src)
@@ -222,7 +207,7 @@ int main(int argc, char **argv)
     h = read_operator(r);
     const char *src = lam_reader_name(r);
     int n = h->n;
-    require_real_symmetry(h, src);
+    lam_spinfree_require_real_symmetry(h, src, "the closed-form one-norm the rotation lowers");
     if (o.electrons >= 0) {
         if (o.electrons > 2L * n) lam_usage_error("%ld electrons do not fit in %d orbitals",
                                                   o.electrons, n);
