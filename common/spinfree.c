@@ -240,6 +240,20 @@ double lam_spinfree_real_symmetry_error(const lam_spinfree *sf)
 
 /* ---- closed forms ---- */
 
+void lam_spinfree_require_real_symmetry(const lam_spinfree *sf, const char *src,
+                                        const char *what)
+{
+    size_t nn = (size_t)sf->n * (size_t)sf->n;
+    double big = 0;
+    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
+    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
+    double err = lam_spinfree_real_symmetry_error(sf);
+    if (err > 1e-12 * big)
+        lam_fail_at(LAM_EX_DATA, src, 0,
+                    "the integrals lack the 8-fold symmetry of real orbitals "
+                    "(largest violation %.3g Eh); %s needs it", err, what);
+}
+
 double lam_spinfree_constant(const lam_spinfree *sf)
 {
     int n = sf->n;

@@ -68,6 +68,12 @@ double lam_spinfree_hermiticity_error(const lam_spinfree *sf);
  * symmetry of real orbitals). */
 double lam_spinfree_real_symmetry_error(const lam_spinfree *sf);
 
+/* Exit 65 naming src when the 8-fold symmetry of real integrals is
+ * violated by more than 1e-12 of the largest |h|, |g| (17-digit streams
+ * keep it far below); what names what needs it, in the message. */
+void lam_spinfree_require_real_symmetry(const lam_spinfree *sf, const char *src,
+                                        const char *what);
+
 /* Identity part of the qubit/Majorana form:
  *   e0 + sum_p h_pp + 1/2 sum_pr (pp|rr) - 1/4 sum_pq (pq|qp). */
 double lam_spinfree_constant(const lam_spinfree *sf);
