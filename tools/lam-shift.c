@@ -179,22 +179,6 @@ static lam_spinfree *read_operator(lam_reader *r)
                 "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
 }
 
-/* The closed-form one-norm the LP rests on needs the 8-fold symmetry of
- * real integrals; 17-digit files keep it far below this bound. */
-static void require_real_symmetry(const lam_spinfree *sf, const char *src)
-{
-    size_t nn = (size_t)sf->n * (size_t)sf->n;
-    double big = 0;
-    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
-    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
-    double err = lam_spinfree_real_symmetry_error(sf);
-    if (err > 1e-12 * big)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the integrals lack the 8-fold symmetry of real orbitals "
-                    "(largest violation %.3g Eh); the one-norm the shift minimizes needs it",
-                    err);
-}
-
 static void resolve_target(const options *o, lam_spinfree *sf, const char *src, lam_shift **k)
 {
     long n0 = o->electrons >= 0 ? o->electrons : sf->electrons;
@@ -306,7 +290,7 @@ int main(int argc, char **argv)
     h = read_operator(r);
     lam_progress("read %d orbitals in %.2f s", h->n, lam_seconds() - t0);
     const char *src = lam_reader_name(r);
-    require_real_symmetry(h, src);
+    lam_spinfree_require_real_symmetry(h, src, "the one-norm the shift minimizes");
     resolve_target(&o, h, src, &k);
     earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
     if (earlier && (earlier->electrons != k->electrons ||
