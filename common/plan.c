@@ -162,8 +162,10 @@ void lam_plan_clock_block(lam_plan_clock *c, const lam_plan_entry *e, int ends, 
     }
     ++c->done;
     c->done_weight += lam_plan_entry_seconds(e, ends, check_steps, unit);
-    /* the model's shape, scaled by what this machine has shown so far */
-    double rest = c->done_weight > 0 ? elapsed * (c->total_weight - c->done_weight) / c->done_weight : 0;
+    /* the model's shape, scaled by what this machine has shown so far once
+     * enough of the work is done for the scale to mean something */
+    double rest = c->total_weight - c->done_weight;
+    if (c->done_weight > 0.05 * c->total_weight && elapsed > 1) rest *= elapsed / c->done_weight;
     format_seconds(rest, left, sizeof left);
     lam_progress("block %d of %d (%s) done: %s so far, about %s left", c->done, c->total, label, sofar,
                  left);
