@@ -110,6 +110,17 @@ runlam_in "$H2" lam-range --progress
 like "$ERR" "block 1 of [0-9]+ \(sector \(0,0\)" "progress names the block and how many"
 like "$ERR" "so far, about .* left" "progress gives the time so far and an estimate"
 
+# a run estimated past an hour warns before it starts (14 orbitals, all
+# sectors); stopped as soon as it has said so
+awk 'BEGIN { n = 14; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
+  for (p = 0; p < n; ++p) { printf "%.3f %d %d\n", -1 - 0.1 * p, p, p; printf "0.5 %d %d %d %d\n", p, p, p, p }
+  for (p = 0; p + 1 < n; ++p) { printf "-0.3 %d %d\n-0.3 %d %d\n", p, p + 1, p + 1, p }
+  print "#% end" }' > "$TMP/c14.op"
+"$LAM_BIN/lam-range" --quiet "$TMP/c14.op" > /dev/null 2> "$TMP/c14.err" & pid=$!
+for i in $(seq 300); do grep -q warning "$TMP/c14.err" && break; sleep 0.1; done
+kill "$pid" 2>/dev/null; wait "$pid" 2>/dev/null
+like "$(cat "$TMP/c14.err")" "warning: this run is estimated at about [0-9.]+ (h|days)" "14 orbitals: a warning with the estimate before the run, even with --quiet"
+
 # --resume: a run killed after some blocks loses nothing
 mkdir -p "$TMP/resume"
 printf '%s' "$HCHAIN" > "$TMP/chain.op"

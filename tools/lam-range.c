@@ -177,8 +177,9 @@ static void run_start(run_state *rs, const options *o, lam_plan *p, double unit,
     rs->unit = unit;
     rs->ends = o->want_low + o->want_high;
     /* what changes the values: the options, besides the operator */
-    uint64_t opt[4] = {(uint64_t)o->want_low, (uint64_t)o->want_high, (uint64_t)o->check_steps, 0};
-    memcpy(&opt[3], &o->tol, sizeof o->tol);
+    uint64_t opt[6] = {(uint64_t)o->want_low, (uint64_t)o->want_high, (uint64_t)o->check_steps,
+                       (uint64_t)o->bounds, (uint64_t)o->bound_subspace, 0};
+    memcpy(&opt[5], &o->tol, sizeof o->tol);
     rs->fingerprint = lam_plan_fingerprint(fp, opt, sizeof opt);
     if (o->resume)
         for (int i = 0; i < p->count; ++i) {
