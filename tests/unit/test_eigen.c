@@ -87,7 +87,8 @@ int main(void)
     /* N = 100: Davidson (constant diagonal, the hard case for it) */
     solve(100, NULL, 0, 0, &r);
     tap_near(r.value, 2 - 2 * cos(pi / 101), 1e-10, "Davidson: lowest of the path Laplacian, N = 100");
-    tap_ok(r.converged && r.residual <= 1e-9, "Davidson: residual certified to 1e-9");
+    /* stopped at |r| <= 1e-9 or once |r|^2/gap <= 1e-11 */
+    tap_ok(r.converged && r.residual <= 1e-5, "Davidson: converged, residual at most 1e-5");
     solve(100, NULL, 1, 0, &r);
     tap_near(r.value, 2 - 2 * cos(100 * pi / 101), 1e-10, "Davidson: highest of the path Laplacian, N = 100");
 
