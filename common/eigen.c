@@ -92,9 +92,16 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     /* the lowest eigenpair of the symmetrized matrix */
     for (size_t i = 0; i < n; ++i)
         for (size_t j = 0; j < i; ++j) a[i * n + j] = a[j * n + i] = 0.5 * (a[i * n + j] + a[j * n + i]);
-    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', (lapack_int)n, a, (lapack_int)n, w);
-    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
-    for (size_t i = 0; i < n; ++i) e[i] = a[i * n];
+    /* only the lowest pair: the reduction to tridiagonal form sees the
+     * whole matrix, bisection then finds its lowest eigenvalue */
+    lapack_int found, *support = lam_malloc(2 * sizeof(lapack_int));
+    double *z = lam_malloc(n * sizeof(double));
+    lapack_int info = LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', (lapack_int)n, a, (lapack_int)n, 0, 0, 1,
+                                     1, 0.0, &found, w, z, 1, support);
+    if (info != 0 || found != 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyevr failed (info %d)", (int)info);
+    memcpy(e, z, n * sizeof(double));
+    free(z);
+    free(support);
     /* certify with the residual of the eigenvector, as for Davidson */
     apply_signed(op, e, a);
     double r2 = 0;
@@ -266,8 +273,10 @@ static void restart(subspace *s, const double *Y, int keep, const double *yprev,
         }
 }
 
+/* start (may be NULL): the first search vector instead of the best
+ * diagonal element. */
 static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
-                           lam_eigen_result *res, double *vec)
+                           lam_eigen_result *res, double *vec, const double *start)
 {
     size_t dim = p->dim;
     int cap = p->max_subspace < 4 ? 4 : p->max_subspace;
@@ -290,7 +299,8 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     double theta = 0, rnorm = INFINITY;
     int quadratic = 0;
 
-    start_vector(dim, p->diag, sign, t);
+    if (start) memcpy(t, start, dim * sizeof(double));
+    else start_vector(dim, p->diag, sign, t);
     if (op->nx > 0) project_out(dim, op->X, op->nx, t);
     orthonormalize(dim, 0, s.V, t, ov);
     subspace_add(&s, op, t);
@@ -552,9 +562,15 @@ static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam
             break;
         }
         if (st != CHECK_ROOT || nx >= max_roots) break;
+        /* the next root from a random start on the complement: from the
+         * best diagonal element, Davidson settles near it, which is how
+         * the root the check saw can be missed again */
         lam_eigen_result r2;
         deflated.nx = nx;
-        solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim);
+        uint64_t state = 0x853C49E6748FEA9BULL + (uint64_t)nx;
+        double *start = work + 4 * dim;
+        for (size_t i = 0; i < dim; ++i) start[i] = normal_deviate(&state);
+        solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim, start);
         res->iterations += r2.iterations;
         project_out(dim, X, nx, X + (size_t)nx * dim);
         double nrm = cblas_dnrm2((int)dim, X + (size_t)nx * dim, 1);
@@ -577,7 +593,7 @@ void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res, double
         return;
     }
     double *x = lam_malloc(lam_mul_size(p->dim, sizeof(double)));
-    solve_davidson(p, &op, res, x);
+    solve_davidson(p, &op, res, x, NULL);
     if (p->check_steps > 0 && p->dim > 1) certify_extreme(p, &op, res, x);
     if (vec) memcpy(vec, x, p->dim * sizeof(double));
     free(x);

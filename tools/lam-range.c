@@ -209,6 +209,10 @@ static void eigen_template(const options *o, double spread, lam_eigen_problem *t
     t->max_iter = 1000;
     t->spread = spread;
     t->check_steps = o->check_steps;
+    /* dense up to here: a whole spectrum is a deterministic certificate,
+     * and below this size it costs less than the check's Lanczos steps on
+     * a near-degenerate level */
+    t->dense_limit = 2100;
 }
 
 static void take_results(lam_plan_entry *e, const lam_eigen_result *lo, const lam_eigen_result *hi,
