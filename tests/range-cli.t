@@ -126,7 +126,7 @@ mkdir -p "$TMP/resume"
 printf '%s' "$HCHAIN" > "$TMP/chain.op"
 lam lam-range --quiet --no-multiplets "$TMP/chain.op" > "$TMP/whole.rep"
 ( lam lam-range --quiet --no-multiplets --resume "$TMP/resume" "$TMP/chain.op" > /dev/null 2>&1 & pid=$!
-  for i in $(seq 200); do
+  for i in $(seq 600); do
       [ "$(ls "$TMP/resume" | grep -c '\.block$')" -ge 6 ] && break
       sleep 0.1
   done
