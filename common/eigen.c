@@ -76,6 +76,8 @@ static void apply_signed(const signed_op *op, const double *x, double *y)
     }
 }
 
+enum { SMALL_DENSE = 300 };
+
 static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
                         lam_eigen_result *res, double *vec)
 {
@@ -92,16 +94,23 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     /* the lowest eigenpair of the symmetrized matrix */
     for (size_t i = 0; i < n; ++i)
         for (size_t j = 0; j < i; ++j) a[i * n + j] = a[j * n + i] = 0.5 * (a[i * n + j] + a[j * n + i]);
-    /* only the lowest pair: the reduction to tridiagonal form sees the
-     * whole matrix, bisection then finds its lowest eigenvalue */
-    lapack_int found, *support = lam_malloc(2 * sizeof(lapack_int));
-    double *z = lam_malloc(n * sizeof(double));
-    lapack_int info = LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', (lapack_int)n, a, (lapack_int)n, 0, 0, 1,
-                                     1, 0.0, &found, w, z, 1, support);
-    if (info != 0 || found != 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyevr failed (info %d)", (int)info);
-    memcpy(e, z, n * sizeof(double));
-    free(z);
-    free(support);
+    if (n <= SMALL_DENSE) {
+        /* every pair (QR iteration: the most accurate, and cheap here) */
+        lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', (lapack_int)n, a, (lapack_int)n, w);
+        if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
+        for (size_t i = 0; i < n; ++i) e[i] = a[i * n];
+    } else {
+        /* only the lowest pair: the reduction to tridiagonal form sees the
+         * whole matrix, bisection then finds its lowest eigenvalue */
+        lapack_int found, *support = lam_malloc(2 * sizeof(lapack_int));
+        double *z = lam_malloc(n * sizeof(double));
+        lapack_int info = LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', (lapack_int)n, a, (lapack_int)n, 0, 0,
+                                         1, 1, 0.0, &found, w, z, 1, support);
+        if (info != 0 || found != 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyevr failed (info %d)", (int)info);
+        memcpy(e, z, n * sizeof(double));
+        free(z);
+        free(support);
+    }
     /* certify with the residual of the eigenvector, as for Davidson */
     apply_signed(op, e, a);
     double r2 = 0;

@@ -90,19 +90,19 @@ is "$(report_get fock_half_range <<<"$OUT")" 0 "zero spinfree operator: fock_hal
 
 # the certificate: with no extremality check, Davidson values are bounds,
 # each with its own status, a note on stderr and exit 0 (lam-range(1))
-HCHAIN=$(awk 'BEGIN { n = 6; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
+HCHAIN=$(awk 'BEGIN { n = 8; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
   for (p = 0; p < n; ++p) { printf "%.3f %d %d\n", -1 - 0.1 * p, p, p; printf "0.5 %d %d %d %d\n", p, p, p, p }
   for (p = 0; p + 1 < n; ++p) { printf "-0.3 %d %d\n-0.3 %d %d\n", p, p + 1, p + 1, p }
   print "#% end" }')
-runlam_in "$HCHAIN" lam-range --sector 3,3 --check-steps 0 --progress
+runlam_in "$HCHAIN" lam-range --sector 4,4 --check-steps 0 --progress
 is "$RC" 0 "--check-steps 0: exit 0"
 is "$(report_get sector_min_status <<<"$OUT")" bound "--check-steps 0: sector_min_status bound (Davidson alone)"
 is "$(report_get status <<<"$OUT")" bound "--check-steps 0: status bound"
 like "$ERR" "note: 2 values are not certified" "--check-steps 0: a note on stderr"
-runlam_in "$HCHAIN" lam-range --quiet --sector 3,3
-is "$(report_get status <<<"$OUT")" exact "default check: sector (3,3) of dimension 400 certified exact"
+runlam_in "$HCHAIN" lam-range --quiet --sector 4,4
+is "$(report_get status <<<"$OUT")" exact "default check: sector (4,4) of dimension 4900 certified exact"
 lo_checked=$(report_get sector_min <<<"$OUT")
-runlam_in "$HCHAIN" lam-range --quiet --sector 3,3 --check-steps 0
+runlam_in "$HCHAIN" lam-range --quiet --sector 4,4 --check-steps 0
 near "$(report_get sector_min <<<"$OUT")" "$lo_checked" 1e-9 "the check does not move a value that was right"
 
 # progress: block i of m, time so far, an estimate
@@ -123,7 +123,11 @@ like "$(cat "$TMP/c14.err")" "warning: this run is estimated at about [0-9.]+ (h
 
 # --resume: a run killed after some blocks loses nothing
 mkdir -p "$TMP/resume"
-printf '%s' "$HCHAIN" > "$TMP/chain.op"
+# (6 orbitals: 49 sectors, each small)
+awk 'BEGIN { n = 6; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
+  for (p = 0; p < n; ++p) { printf "%.3f %d %d\n", -1 - 0.1 * p, p, p; printf "0.5 %d %d %d %d\n", p, p, p, p }
+  for (p = 0; p + 1 < n; ++p) { printf "-0.3 %d %d\n-0.3 %d %d\n", p, p + 1, p + 1, p }
+  print "#% end" }' > "$TMP/chain.op"
 lam lam-range --quiet --no-multiplets "$TMP/chain.op" > "$TMP/whole.rep"
 ( lam lam-range --quiet --no-multiplets --resume "$TMP/resume" "$TMP/chain.op" > /dev/null 2>&1 & pid=$!
   for i in $(seq 600); do
