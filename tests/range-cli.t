@@ -90,10 +90,14 @@ is "$(report_get fock_half_range <<<"$OUT")" 0 "zero spinfree operator: fock_hal
 
 # the certificate: with no extremality check, Davidson values are bounds,
 # each with its own status, a note on stderr and exit 0 (lam-range(1))
-HCHAIN=$(awk 'BEGIN { n = 8; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
+# a hand-made spin-free chain of N orbitals (ramp, on-site repulsion, hopping)
+chain_op() {
+    awk -v n="$1" 'BEGIN { print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
   for (p = 0; p < n; ++p) { printf "%.3f %d %d\n", -1 - 0.1 * p, p, p; printf "0.5 %d %d %d %d\n", p, p, p, p }
   for (p = 0; p + 1 < n; ++p) { printf "-0.3 %d %d\n-0.3 %d %d\n", p, p + 1, p + 1, p }
-  print "#% end" }')
+  print "#% end" }'
+}
+HCHAIN=$(chain_op 8)
 runlam_in "$HCHAIN" lam-range --sector 4,4 --check-steps 0 --progress
 is "$RC" 0 "--check-steps 0: exit 0"
 is "$(report_get sector_min_status <<<"$OUT")" bound "--check-steps 0: sector_min_status bound (Davidson alone)"
@@ -112,10 +116,7 @@ like "$ERR" "so far, about .* left" "progress gives the time so far and an estim
 
 # a run estimated past an hour warns before it starts (14 orbitals, all
 # sectors); stopped as soon as it has said so
-awk 'BEGIN { n = 14; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
-  for (p = 0; p < n; ++p) { printf "%.3f %d %d\n", -1 - 0.1 * p, p, p; printf "0.5 %d %d %d %d\n", p, p, p, p }
-  for (p = 0; p + 1 < n; ++p) { printf "-0.3 %d %d\n-0.3 %d %d\n", p, p + 1, p + 1, p }
-  print "#% end" }' > "$TMP/c14.op"
+chain_op 14 > "$TMP/c14.op"
 "$LAM_BIN/lam-range" --quiet "$TMP/c14.op" > /dev/null 2> "$TMP/c14.err" & pid=$!
 for i in $(seq 300); do grep -q warning "$TMP/c14.err" && break; sleep 0.1; done
 kill "$pid" 2>/dev/null; wait "$pid" 2>/dev/null
@@ -124,10 +125,7 @@ like "$(cat "$TMP/c14.err")" "warning: this run is estimated at about [0-9.]+ (h
 # --resume: a run killed after some blocks loses nothing
 mkdir -p "$TMP/resume"
 # (6 orbitals: 49 sectors, each small)
-awk 'BEGIN { n = 6; print "#% lamina-op 1"; print "#% kind: spinfree"; print "#% orbitals: " n;
-  for (p = 0; p < n; ++p) { printf "%.3f %d %d\n", -1 - 0.1 * p, p, p; printf "0.5 %d %d %d %d\n", p, p, p, p }
-  for (p = 0; p + 1 < n; ++p) { printf "-0.3 %d %d\n-0.3 %d %d\n", p, p + 1, p + 1, p }
-  print "#% end" }' > "$TMP/chain.op"
+chain_op 6 > "$TMP/chain.op"
 lam lam-range --quiet --no-multiplets "$TMP/chain.op" > "$TMP/whole.rep"
 ( lam lam-range --quiet --no-multiplets --resume "$TMP/resume" "$TMP/chain.op" > /dev/null 2>&1 & pid=$!
   for i in $(seq 600); do
