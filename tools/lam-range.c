@@ -13,6 +13,7 @@
 #include "fockop.h"
 #include "pauli.h"
 #include "report.h"
+#include "sci.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
@@ -32,8 +33,12 @@ static _Noreturn void usage(void)
            "      --max-memory M   refuse (exit 75) work needing more than M bytes (K, M, G\n"
            "                       suffixes; default: the machine's memory)\n"
            "      --bounds         past --max-memory, report inner bounds (status bound)\n"
-           "                       from determinants and a small Rayleigh-Ritz instead\n"
-           "      --bound-subspace K  determinants in that Rayleigh-Ritz (default 200)\n"
+           "                       by selected CI instead (spinfree input; others: a small\n"
+           "                       Rayleigh-Ritz)\n"
+           "      --bound-subspace K  determinant budget of each end (default 100000; 200\n"
+           "                       for the Rayleigh-Ritz of the generic path)\n"
+           "      --bound-energy-tol E  stop selecting when a round changes the value by\n"
+           "                       less than E Eh (default 1e-6)\n"
            "      --multiplets     spinfree input: per electron number solve only the\n"
            "                       sector of smallest |Sz| (enough for every extreme)\n"
            "      --threads T      threads for the matrix products (OpenBLAS) and for the\n"
@@ -64,6 +69,7 @@ typedef struct {
     double tol;
     double max_memory;
     int bounds, bound_subspace, multiplets, threads, tsv;
+    double bound_energy_tol;
     lam_kind kind;
     const char *output, *input;
 } options;
@@ -85,13 +91,14 @@ static void parse_sector(const char *arg, options *o)
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { O_LOW = 256, O_HIGH, O_TOL, O_MEM, O_BOUNDS, O_BSUB, O_MULT, O_THREADS, O_KIND,
+    enum { O_LOW = 256, O_HIGH, O_TOL, O_MEM, O_BOUNDS, O_BSUB, O_BTOL, O_MULT, O_THREADS, O_KIND,
            O_PROGRESS, O_QUIET, O_TSV, O_VERSION };
     static const struct option opts[] = {
         {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'e'},
         {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
         {"tol", required_argument, 0, O_TOL}, {"max-memory", required_argument, 0, O_MEM},
         {"bounds", no_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
+        {"bound-energy-tol", required_argument, 0, O_BTOL},
         {"multiplets", no_argument, 0, O_MULT}, {"threads", required_argument, 0, O_THREADS},
         {"kind", required_argument, 0, O_KIND}, {"progress", no_argument, 0, O_PROGRESS},
         {"quiet", no_argument, 0, O_QUIET}, {"tsv", no_argument, 0, O_TSV},
@@ -101,7 +108,8 @@ static void parse_options(int argc, char **argv, options *o)
     o->sector_na = o->sector_nb = -1;
     o->electrons = -1;
     o->tol = 1e-9;
-    o->bound_subspace = 200;
+    o->bound_subspace = -1;
+    o->bound_energy_tol = 1e-6;
     int low = 0, high = 0, c;
     while ((c = getopt_long(argc, argv, "s:e:o:h", opts, NULL)) != -1) {
         switch (c) {
@@ -115,7 +123,11 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case O_MEM: o->max_memory = lam_opt_size("--max-memory", optarg); break;
         case O_BOUNDS: o->bounds = 1; break;
-        case O_BSUB: o->bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 5000); break;
+        case O_BSUB: o->bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
+        case O_BTOL:
+            o->bound_energy_tol = lam_opt_double("--bound-energy-tol", optarg);
+            if (!(o->bound_energy_tol >= 0)) lam_usage_error("--bound-energy-tol must not be negative");
+            break;
         case O_MULT: o->multiplets = 1; break;
         case O_THREADS: o->threads = (int)lam_opt_long("--threads", optarg, 1, 1024); break;
         case O_KIND:
@@ -149,6 +161,7 @@ typedef struct {
     size_t dim, bytes;
     double lo, hi, res_lo, res_hi;
     int exact_lo, exact_hi;
+    lam_sci_result sci_lo, sci_hi; /* --bounds on spinfree input */
 } sector_plan;
 
 typedef struct {
@@ -260,6 +273,32 @@ static void take_results(sector_plan *e, const lam_eigen_result *lo, const lam_e
     }
 }
 
+/* --bounds past exact size: each end by selected CI, whose value is the
+ * Rayleigh quotient of its vector (lowest >= E_min, highest <= E_max). */
+static void selected_ci_bounds(const lam_spinfree *sf, sector_plan *e, const options *o, const char *label)
+{
+    lam_sci_options so;
+    lam_sci_defaults(&so);
+    so.max_dets = o->bound_subspace > 0 ? (size_t)o->bound_subspace : 100000;
+    so.max_bytes = o->max_memory;
+    so.energy_tol = o->bound_energy_tol;
+    char l[96];
+    if (o->want_low) {
+        snprintf(l, sizeof l, "%s lowest", label);
+        so.label = l;
+        so.highest = 0;
+        lam_sci_solve(sf, e->na, e->nb, &so, &e->sci_lo);
+        e->lo = e->sci_lo.value;
+    }
+    if (o->want_high) {
+        snprintf(l, sizeof l, "%s highest", label);
+        so.label = l;
+        so.highest = 1;
+        lam_sci_solve(sf, e->na, e->nb, &so, &e->sci_hi);
+        e->hi = e->sci_hi.value;
+    }
+}
+
 static void solve_spinfree(plan *p, const lam_spinfree *sf, const options *o)
 {
     lam_eigen_problem t;
@@ -288,8 +327,7 @@ static void solve_spinfree(plan *p, const lam_spinfree *sf, const options *o)
         snprintf(label, sizeof label, "sector (%d,%d)", e->na, e->nb);
         lam_progress("%s: dimension %zu%s", label, e->dim, e->use_bounds ? ", bounds only" : "");
         if (e->use_bounds) {
-            lam_ci_bounds(sf, e->na, e->nb, o->bound_subspace, o->want_low ? &e->lo : NULL,
-                          o->want_high ? &e->hi : NULL);
+            selected_ci_bounds(sf, e, o, label);
             continue;
         }
         lam_eigen_result lo, hi;
@@ -372,7 +410,7 @@ static void solve_generic(plan *p, const lam_fockop *op, const lam_fock_conserva
         else snprintf(label, sizeof label, "sector (%d,%d)", e->na, e->nb);
         lam_progress("%s: dimension %zu%s", label, e->dim, e->use_bounds ? ", bounds only" : "");
         if (e->use_bounds) {
-            lam_fock_bounds(op, &s, o->bound_subspace, o->want_low ? &e->lo : NULL,
+            lam_fock_bounds(op, &s, o->bound_subspace > 0 ? o->bound_subspace : 200, o->want_low ? &e->lo : NULL,
                             o->want_high ? &e->hi : NULL);
             continue;
         }
@@ -406,7 +444,38 @@ static void resolve_mirrors(plan *p)
         e->exact_hi = m->exact_hi;
         e->use_bounds = m->use_bounds;
         e->dim = m->dim;
+        e->sci_lo = m->sci_lo;
+        e->sci_hi = m->sci_hi;
     }
+}
+
+/* Selected-CI sizes and the second-order estimates (value plus the
+ * Epstein-Nesbet energy: estimates, not bounds): keys for one sector, a
+ * `sci` line per sector otherwise. */
+static void sci_report(lam_report *rep, const sector_plan *e, const options *o, int keys)
+{
+    if (!e->sci_lo.dets && !e->sci_hi.dets) return;
+    const lam_sci_result *lo = &e->sci_lo, *hi = &e->sci_hi;
+    double elo = lo->value + lo->pt2, ehi = hi->value + hi->pt2;
+    if (!keys) {
+        char a[LAM_DOUBLE_BUF], b[LAM_DOUBLE_BUF], line[256];
+        format_value(a, sizeof a, o->want_low ? elo : NAN);
+        format_value(b, sizeof b, o->want_high ? ehi : NAN);
+        snprintf(line, sizeof line, "%d\t%d\t%zu\t%zu\t%s\t%s", e->na, e->nb, lo->dets, hi->dets, a, b);
+        lam_report_line(rep, "sci", line);
+        return;
+    }
+    if (o->want_low) {
+        lam_report_int(rep, "sci.dets_min", (long)lo->dets);
+        lam_report_str(rep, "sci.stop_min", lam_sci_stop_name(lo->stop));
+        lam_report_num(rep, "sci.estimate_min", elo);
+    }
+    if (o->want_high) {
+        lam_report_int(rep, "sci.dets_max", (long)hi->dets);
+        lam_report_str(rep, "sci.stop_max", lam_sci_stop_name(hi->stop));
+        lam_report_num(rep, "sci.estimate_max", ehi);
+    }
+    if (o->want_low && o->want_high) lam_report_num(rep, "sci.half_range_estimate", 0.5 * (ehi - elo));
 }
 
 static int entry_exact(const sector_plan *e, const options *o)
@@ -429,7 +498,8 @@ static void sector_line(lam_report *rep, const plan *p, const sector_plan *e, co
     } else if (e->mirror_of >= 0) {
         snprintf(how, sizeof how, "mirror:%d,%d", p->s[e->mirror_of].na, p->s[e->mirror_of].nb);
     } else {
-        snprintf(how, sizeof how, "%s", e->use_bounds ? "rayleigh-ritz" : "computed");
+        snprintf(how, sizeof how, "%s",
+                 !e->use_bounds ? "computed" : e->sci_lo.dets || e->sci_hi.dets ? "selected-ci" : "rayleigh-ritz");
     }
     snprintf(line, sizeof line, "%d\t%s\t%s\t%s\t%s\t%s", e->na, nb, lo, hi, status, how);
     lam_report_line(rep, "sector", line);
@@ -480,6 +550,7 @@ static void write_report(const plan *p, int electrons, const options *o)
     for (int i = 0; i < p->count; ++i) {
         const sector_plan *e = &p->s[i];
         if (e->na >= 0) sector_line(rep, p, e, o);
+        if (o->sector_na < 0 && e->mirror_of < 0) sci_report(rep, e, o, 0);
         if (e->skipped) continue;
         exact &= entry_exact(e, o);
         if (!e->use_bounds) {
@@ -493,6 +564,7 @@ static void write_report(const plan *p, int electrons, const options *o)
         lam_report_int(rep, "sector_na", e->na);
         lam_report_int(rep, "sector_nb", e->nb);
         add_extremes(rep, "sector", e->lo, e->hi, o);
+        sci_report(rep, e, o, 1);
     }
     if (o->sector_na < 0) {
         double lo, hi;
