@@ -713,7 +713,7 @@ typedef struct {
     dethash h;
     det *d;
     double *val;      /* selection: largest |H_KD c_D|; pt2: sum H_KD c_D */
-    size_t count, limit;
+    size_t count, room, limit; /* room: allocated, grows up to limit */
     const space *v;
     int sum;          /* 1: accumulate signed sums (pt2), 0: keep the largest */
     int overflow;
@@ -726,12 +726,31 @@ static double candidate_bytes(size_t limit)
     return dethash_bytes(cap) + (double)limit * (sizeof(det) + sizeof(double));
 }
 
+static void candidates_alloc(candidates *c, size_t room)
+{
+    dethash_init(&c->h, room);
+    c->d = lam_realloc(c->d, lam_mul_size(room + 1, sizeof(det)));
+    c->val = lam_realloc(c->val, lam_mul_size(room + 1, sizeof(double)));
+    c->room = room;
+}
+
+/* Twice the room, keys re-inserted (the arrays keep their order). */
+static void candidates_grow(candidates *c)
+{
+    size_t room = 2 * c->room < c->limit ? 2 * c->room : c->limit;
+    dethash_free(&c->h);
+    candidates_alloc(c, room);
+    for (size_t i = 0; i < c->count; ++i) {
+        size_t s = dethash_slot(&c->h, c->d[i]);
+        c->h.key[s] = c->d[i];
+        c->h.idx[s] = (uint32_t)i;
+    }
+}
+
 static void candidates_init(candidates *c, const space *v, size_t limit, int sum)
 {
     memset(c, 0, sizeof *c);
-    dethash_init(&c->h, limit);
-    c->d = lam_malloc(lam_mul_size(limit + 1, sizeof(det)));
-    c->val = lam_malloc(lam_mul_size(limit + 1, sizeof(double)));
+    candidates_alloc(c, limit < 4096 ? limit : 4096);
     c->limit = limit;
     c->v = v;
     c->sum = sum;
@@ -758,9 +777,13 @@ static int candidate_emit(void *ctx, det k, double hval)
     size_t s = dethash_slot(&c->h, k);
     uint32_t i = c->h.idx[s];
     if (i == UINT32_MAX) {
-        if (c->count == c->limit) {
-            c->overflow = 1;
-            return 1;
+        if (c->count == c->room) {
+            if (c->room == c->limit) {
+                c->overflow = 1;
+                return 1;
+            }
+            candidates_grow(c);
+            s = dethash_slot(&c->h, k);
         }
         i = (uint32_t)c->count++;
         c->h.key[s] = k;
@@ -1001,7 +1024,8 @@ void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options
             eps /= 4;
         }
         if (cand.count == 0) {
-            stop = LAM_SCI_SATURATED;
+            /* raised: the candidates did not fit, not that none are left */
+            stop = raised ? LAM_SCI_MEMORY : LAM_SCI_SATURATED;
             break;
         }
         rank = lam_realloc(rank, cand.count * sizeof(ranked));

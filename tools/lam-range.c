@@ -32,9 +32,9 @@ static _Noreturn void usage(void)
            "      --tol T          residual norm that certifies a value, Eh (default 1e-9)\n"
            "      --max-memory M   refuse (exit 75) work needing more than M bytes (K, M, G\n"
            "                       suffixes; default: the machine's memory)\n"
-           "      --bounds         past --max-memory, report inner bounds (status bound)\n"
-           "                       by selected CI instead (spinfree input; others: a small\n"
-           "                       Rayleigh-Ritz)\n"
+           "      --bounds[=always]  past --max-memory (always: for every sector), report\n"
+           "                       inner bounds (status bound) by selected CI instead\n"
+           "                       (spinfree input; others: a small Rayleigh-Ritz)\n"
            "      --bound-subspace K  determinant budget of each end (default 100000; 200\n"
            "                       for the Rayleigh-Ritz of the generic path)\n"
            "      --bound-energy-tol E  stop selecting when a round changes the value by\n"
@@ -97,7 +97,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'e'},
         {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
         {"tol", required_argument, 0, O_TOL}, {"max-memory", required_argument, 0, O_MEM},
-        {"bounds", no_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
+        {"bounds", optional_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
         {"bound-energy-tol", required_argument, 0, O_BTOL},
         {"multiplets", no_argument, 0, O_MULT}, {"threads", required_argument, 0, O_THREADS},
         {"kind", required_argument, 0, O_KIND}, {"progress", no_argument, 0, O_PROGRESS},
@@ -122,7 +122,13 @@ static void parse_options(int argc, char **argv, options *o)
             if (!(o->tol > 0)) lam_usage_error("--tol must be positive");
             break;
         case O_MEM: o->max_memory = lam_opt_size("--max-memory", optarg); break;
-        case O_BOUNDS: o->bounds = 1; break;
+        case O_BOUNDS:
+            /* --bounds=always: inner bounds even where an exact solve fits
+             * (to compare the two, or when the exact one would be slow) */
+            if (optarg && strcmp(optarg, "always") && strcmp(optarg, "past-memory"))
+                lam_usage_error("--bounds takes always or past-memory, not '%s'", optarg);
+            o->bounds = optarg && !strcmp(optarg, "always") ? 2 : 1;
+            break;
         case O_BSUB: o->bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
         case O_BTOL:
             o->bound_energy_tol = lam_opt_double("--bound-energy-tol", optarg);
@@ -230,7 +236,7 @@ static void check_memory(plan *p, double base, const options *o)
         sector_plan *e = &p->s[i];
         if (e->skipped || e->mirror_of >= 0) continue;
         double need = e->bytes == SIZE_MAX ? INFINITY : base + (double)e->bytes;
-        if (need <= o->max_memory) continue;
+        if (need <= o->max_memory && o->bounds != 2) continue;
         if (o->bounds) {
             e->use_bounds = 1;
             continue;
