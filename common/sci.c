@@ -228,6 +228,17 @@ static size_t dethash_slot(const dethash *h, det d)
 
 static uint32_t dethash_find(const dethash *h, det d) { return h->idx[dethash_slot(h, d)]; }
 
+/* Key d[i] at index i for i < count, into an emptied table. */
+static void dethash_fill(dethash *h, const det *d, size_t count)
+{
+    memset(h->idx, 0xff, h->cap * sizeof(uint32_t));
+    for (size_t i = 0; i < count; ++i) {
+        size_t s = dethash_slot(h, d[i]);
+        h->key[s] = d[i];
+        h->idx[s] = (uint32_t)i;
+    }
+}
+
 /* ---- the heat-bath lists ---- */
 
 typedef struct {
@@ -290,9 +301,9 @@ static void heatbath_build(heatbath *hb, const lam_spinfree *sf, budget *mem)
             hb->list_bytes = (double)(cs + co + nn) * sizeof(hb_entry) + (2.0 * nn + n + 3) * sizeof(size_t);
             if (!budget_take(mem, hb->list_bytes)) {
                 lam_fail(LAM_EX_MEMORY,
-                         "selected CI: the sorted integral lists of %d orbitals need %.0f MiB, over "
-                         "--max-memory",
-                         n, (mem->used + hb->list_bytes) / 1048576.0);
+                         "selected CI: the operator and its sorted integral lists (%d orbitals) need "
+                         "%.0f KiB, over --max-memory",
+                         n, ceil((mem->used + hb->list_bytes) / 1024.0));
             }
             hb->same_first = lam_malloc((nn + 1) * sizeof(size_t));
             hb->opp_first = lam_malloc((nn + 1) * sizeof(size_t));
@@ -441,13 +452,7 @@ static int space_add(space *v, const lam_spinfree *sf, det d)
 /* Back to the first `count` determinants (after a space did not fit). */
 static void space_truncate(space *v, size_t count)
 {
-    memset(v->h.idx, 0xff, v->h.cap * sizeof(uint32_t));
-    v->count = 0;
-    for (size_t i = 0; i < count; ++i) {
-        size_t s = dethash_slot(&v->h, v->d[i]);
-        v->h.key[s] = v->d[i];
-        v->h.idx[s] = (uint32_t)i;
-    }
+    dethash_fill(&v->h, v->d, count);
     v->count = count;
 }
 
@@ -740,11 +745,7 @@ static void candidates_grow(candidates *c)
     size_t room = 2 * c->room < c->limit ? 2 * c->room : c->limit;
     dethash_free(&c->h);
     candidates_alloc(c, room);
-    for (size_t i = 0; i < c->count; ++i) {
-        size_t s = dethash_slot(&c->h, c->d[i]);
-        c->h.key[s] = c->d[i];
-        c->h.idx[s] = (uint32_t)i;
-    }
+    dethash_fill(&c->h, c->d, c->count);
 }
 
 static void candidates_init(candidates *c, const space *v, size_t limit, int sum)

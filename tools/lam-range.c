@@ -288,20 +288,15 @@ static void selected_ci_bounds(const lam_spinfree *sf, sector_plan *e, const opt
     so.max_dets = o->bound_subspace > 0 ? (size_t)o->bound_subspace : 100000;
     so.max_bytes = o->max_memory;
     so.energy_tol = o->bound_energy_tol;
-    char l[96];
-    if (o->want_low) {
-        snprintf(l, sizeof l, "%s lowest", label);
+    for (int top = 0; top < 2; ++top) {
+        if (!(top ? o->want_high : o->want_low)) continue;
+        char l[96];
+        snprintf(l, sizeof l, "%s %s", label, top ? "highest" : "lowest");
         so.label = l;
-        so.highest = 0;
-        lam_sci_solve(sf, e->na, e->nb, &so, &e->sci_lo);
-        e->lo = e->sci_lo.value;
-    }
-    if (o->want_high) {
-        snprintf(l, sizeof l, "%s highest", label);
-        so.label = l;
-        so.highest = 1;
-        lam_sci_solve(sf, e->na, e->nb, &so, &e->sci_hi);
-        e->hi = e->sci_hi.value;
+        so.highest = top;
+        lam_sci_result *r = top ? &e->sci_hi : &e->sci_lo;
+        lam_sci_solve(sf, e->na, e->nb, &so, r);
+        *(top ? &e->hi : &e->lo) = r->value;
     }
 }
 
