@@ -919,7 +919,10 @@ static double diagonalize(const sparse *h, int highest, double *x, double *resid
 static size_t grow_target(size_t m, size_t budget_left)
 {
     size_t t = 2 * (m < 100 ? 100 : m);
-    return t < budget_left ? t : budget_left;
+    /* a last round of a few determinants would cost a whole
+     * diagonalization for little: take them now */
+    if (budget_left - (t < budget_left ? t : budget_left) < t / 2) return budget_left;
+    return t;
 }
 
 void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o, lam_sci_result *res)
