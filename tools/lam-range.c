@@ -51,9 +51,11 @@ static _Noreturn void usage(void)
            "  -h, --help           show this help\n"
            "      --version        show the version\n\n"
            "Sector lines: sector NA NB min max status how (tab separated; how: computed,\n"
-           "mirror:NB,NA, within:NA,NB or rayleigh-ritz).  Then fock_min, fock_max,\n"
-           "fock_half_range and, with an electron number, n_min, n_max, n_half_range (with\n"
-           "--sector: sector_min, sector_max, sector_half_range); status: exact or bound.\n\n"
+           "mirror:NB,NA, within:NA,NB, selected-ci or rayleigh-ritz).  Then fock_min,\n"
+           "fock_max, fock_half_range and, with an electron number, n_min, n_max,\n"
+           "n_half_range (with --sector: sector_min, sector_max, sector_half_range);\n"
+           "status: exact or bound.  Selected CI adds sci.dets_*, sci.stop_*,\n"
+           "sci.estimate_* (second order: estimates, not bounds) or sci lines.\n\n"
            "Example:\n"
            "  lam-ints h4.fcidump | %s --electrons 4\n",
            lam_program(), lam_program());
