@@ -920,8 +920,9 @@ static size_t grow_target(size_t m, size_t budget_left)
 {
     size_t t = 2 * (m < 100 ? 100 : m);
     /* a last round of a few determinants would cost a whole
-     * diagonalization for little: take them now */
-    if (budget_left - (t < budget_left ? t : budget_left) < t / 2) return budget_left;
+     * diagonalization for little: take them now (not more: selecting
+     * many at once from a small space's vector chooses worse) */
+    if (budget_left - (t < budget_left ? t : budget_left) < t / 8) return budget_left;
     return t;
 }
 
