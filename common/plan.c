@@ -82,7 +82,7 @@ void lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allo
         lam_plan_entry *e = &p->s[i];
         if (e->skipped || e->mirror_of >= 0) continue;
         double need = e->bytes == SIZE_MAX ? INFINITY : base + (double)e->bytes;
-        if (need <= max_memory) continue;
+        if (need <= max_memory && allow_bounds != 2) continue;
         if (allow_bounds) {
             e->use_bounds = 1;
             continue;

@@ -7,6 +7,7 @@
 
 #include <stddef.h>
 #include <stdint.h>
+#include "sci.h"
 
 typedef struct {
     int na, nb;        /* nb = -1: a total-number block; na = -1: the Fock space */
@@ -18,6 +19,7 @@ typedef struct {
     size_t dim, bytes;
     double lo, hi, res_lo, res_hi;
     int exact_lo, exact_hi;
+    lam_sci_result sci_lo, sci_hi; /* bounds of a spin-free block by selected CI */
 } lam_plan_entry;
 
 typedef struct {
@@ -42,7 +44,8 @@ void lam_plan_spinfree(lam_plan *p, int n, int na, int nb, int multiplets);
 /* "sector (a,b)", "the N-electron block" or "the Fock space". */
 void lam_plan_label(const lam_plan_entry *e, char *buf, size_t size);
 
-/* Marks entries past max_memory (base + bytes) for bounds when allowed,
+/* Marks entries past max_memory (base + bytes) for bounds when allowed
+ * (allow_bounds 1), every entry when allow_bounds is 2 (--bounds=always),
  * else exit 75 with what the solve would need. */
 void lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allow_bounds);
 

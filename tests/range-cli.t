@@ -194,8 +194,11 @@ like "$ERR" "do not fit" "more electrons than spin orbitals: message"
 runlam_in "$H2" lam-range --quiet --max-memory 100
 is "$RC" 75 "over --max-memory: exit 75"
 like "$ERR" "^lam-range: sector .* would need [0-9.]+ (KiB|MiB|bytes) .*over --max-memory" "over --max-memory: message with the memory needed"
+# (100 bytes stop even the selected CI, whose tables need about 1 KiB here)
 runlam_in "$H2" lam-range --quiet --max-memory 100 --bounds
-is "$RC" 0 "over --max-memory with --bounds: exit 0"
+is "$RC" 75 "far below what even the bounds need: exit 75"
+runlam_in "$H2" lam-range --quiet --bounds=always
+is "$RC" 0 "--bounds=always: exit 0"
 is "$(report_get status <<<"$OUT")" bound "--bounds: status bound"
 runlam_in "$H2" lam-range --quiet --max-memory lots
 is "$RC" 64 "--max-memory that does not parse: exit 64"

@@ -14,6 +14,7 @@
 #include "pauli.h"
 #include "plan.h"
 #include "report.h"
+#include "sci.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
@@ -35,9 +36,13 @@ static _Noreturn void usage(void)
            "                       300; 0: no check, Davidson values are bounds)\n"
            "  -M, --max-memory M   refuse (exit 75) work needing more than M bytes (K, M, G\n"
            "                       suffixes; default: the machine's memory)\n"
-           "      --bounds         past --max-memory, report inner bounds (status bound)\n"
-           "                       from determinants and a small Rayleigh-Ritz instead\n"
-           "      --bound-subspace K  determinants in that Rayleigh-Ritz (default 200)\n"
+           "      --bounds[=always]  past --max-memory (always: for every sector), report\n"
+           "                       inner bounds (status bound) by selected CI instead\n"
+           "                       (spinfree input; others: a small Rayleigh-Ritz)\n"
+           "      --bound-subspace K  determinant budget of each end (default 100000; 200\n"
+           "                       for the Rayleigh-Ritz of the generic path)\n"
+           "      --bound-energy-tol E  stop selecting when a round changes the value by\n"
+           "                       less than E Eh (default 1e-6)\n"
            "      --no-multiplets  spinfree input: solve every sector, not only the one of\n"
            "                       smallest |Sz| per electron number (the default)\n"
            "      --resume DIR     keep each finished block in DIR and read back the blocks\n"
@@ -53,10 +58,12 @@ static _Noreturn void usage(void)
            "      --allow-empty    read an empty input as the zero operator\n"
            "  -V, --version        show the version\n\n"
            "Sector lines: sector NA NB min max status how (tab separated; how: computed,\n"
-           "mirror:NB,NA, within:NA,NB or rayleigh-ritz).  Then fock_min, fock_max,\n"
+           "mirror:NB,NA, within:NA,NB, selected-ci or rayleigh-ritz).  Then fock_min, fock_max,\n"
            "fock_half_range and, with an electron number, n_min, n_max, n_half_range (with\n"
            "--sector: sector_min, sector_max, sector_half_range), each value followed by its\n"
-           "own KEY_status (exact or bound); status: exact when every value is.\n\n"
+           "own KEY_status (exact or bound); status: exact when every value is.  Selected\n"
+           "CI adds sci.dets_*, sci.stop_*, sci.estimate_* (second order: estimates, not\n"
+           "bounds) or sci lines.\n\n"
            "Example:\n"
            "  lam-ints h4.fcidump | %s --electrons 4\n",
            lam_program(), lam_program());
@@ -72,6 +79,7 @@ typedef struct {
     double tol;
     double max_memory;
     int bounds, bound_subspace, multiplets, threads, tsv, check_steps;
+    double bound_energy_tol;
     lam_kind kind;
     const char *output, *input, *resume;
 } options;
@@ -93,14 +101,15 @@ static void parse_sector(const char *arg, options *o)
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { O_LOW = 256, O_HIGH, O_TOL, O_BOUNDS, O_BSUB, O_MULT, O_NOMULT, O_PROGRESS, O_CHECK,
+    enum { O_LOW = 256, O_HIGH, O_TOL, O_BOUNDS, O_BSUB, O_BTOL, O_MULT, O_NOMULT, O_PROGRESS, O_CHECK,
            O_RESUME };
     static const struct option opts[] = {
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'n'},
         {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
         {"tol", required_argument, 0, O_TOL}, {"max-memory", required_argument, 0, 'M'},
-        {"bounds", no_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
+        {"bounds", optional_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
+        {"bound-energy-tol", required_argument, 0, O_BTOL},
         {"multiplets", no_argument, 0, O_MULT}, {"no-multiplets", no_argument, 0, O_NOMULT},
         {"threads", required_argument, 0, 'j'}, {"kind", required_argument, 0, 'k'},
         {"progress", no_argument, 0, O_PROGRESS}, {"quiet", no_argument, 0, 'q'},
@@ -111,7 +120,8 @@ static void parse_options(int argc, char **argv, options *o)
     o->sector_na = o->sector_nb = -1;
     o->electrons = -1;
     o->tol = 1e-9;
-    o->bound_subspace = 200;
+    o->bound_subspace = -1;
+    o->bound_energy_tol = 1e-6;
     o->check_steps = 300;
     o->multiplets = -1; /* default: on for spinfree input without --sector */
     int low = 0, high = 0, c;
@@ -128,8 +138,18 @@ static void parse_options(int argc, char **argv, options *o)
             if (!(o->tol > 0)) lam_usage_error("--tol must be positive");
             break;
         case 'M': o->max_memory = lam_opt_size("--max-memory", optarg); break;
-        case O_BOUNDS: o->bounds = 1; break;
-        case O_BSUB: o->bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 5000); break;
+        case O_BOUNDS:
+            /* --bounds=always: inner bounds even where an exact solve fits
+             * (to compare the two, or when the exact one would be slow) */
+            if (optarg && strcmp(optarg, "always") && strcmp(optarg, "past-memory"))
+                lam_usage_error("--bounds takes always or past-memory, not '%s'", optarg);
+            o->bounds = optarg && !strcmp(optarg, "always") ? 2 : 1;
+            break;
+        case O_BSUB: o->bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
+        case O_BTOL:
+            o->bound_energy_tol = lam_opt_double("--bound-energy-tol", optarg);
+            if (!(o->bound_energy_tol >= 0)) lam_usage_error("--bound-energy-tol must not be negative");
+            break;
         case O_MULT: o->multiplets = 1; break;
         case O_NOMULT: o->multiplets = 0; break;
         case O_CHECK: o->check_steps = (int)lam_opt_long("--check-steps", optarg, 0, 1000000); break;
@@ -180,9 +200,10 @@ static void run_start(run_state *rs, const options *o, lam_plan *p, double unit,
     rs->unit = unit;
     rs->ends = o->want_low + o->want_high;
     /* what changes the values: the options, besides the operator */
-    uint64_t opt[6] = {(uint64_t)o->want_low, (uint64_t)o->want_high, (uint64_t)o->check_steps,
-                       (uint64_t)o->bounds, (uint64_t)o->bound_subspace, 0};
+    uint64_t opt[7] = {(uint64_t)o->want_low, (uint64_t)o->want_high, (uint64_t)o->check_steps,
+                       (uint64_t)o->bounds, (uint64_t)o->bound_subspace, 0, 0};
     memcpy(&opt[5], &o->tol, sizeof o->tol);
+    memcpy(&opt[6], &o->bound_energy_tol, sizeof o->bound_energy_tol);
     rs->fingerprint = lam_plan_fingerprint(fp, opt, sizeof opt);
     if (o->resume)
         for (int i = 0; i < p->count; ++i) {
@@ -235,17 +256,33 @@ static void take_results(lam_plan_entry *e, const lam_eigen_result *lo, const la
 
 /* ---- inner bounds past --max-memory (--bounds) ---- */
 
-/* The one place where a block gets bounds instead of a solve. */
+/* The one place where a spin-free block gets bounds instead of a solve:
+ * each end by selected CI, whose value is the Rayleigh quotient of its
+ * vector (lowest >= E_min, highest <= E_max). */
 static void bound_spinfree_block(const lam_spinfree *sf, lam_plan_entry *e, const options *o)
 {
-    lam_ci_bounds(sf, e->na, e->nb, o->bound_subspace, o->want_low ? &e->lo : NULL,
-                  o->want_high ? &e->hi : NULL);
+    lam_sci_options so;
+    lam_sci_defaults(&so);
+    so.max_dets = o->bound_subspace > 0 ? (size_t)o->bound_subspace : 100000;
+    so.max_bytes = o->max_memory;
+    so.energy_tol = o->bound_energy_tol;
+    for (int top = 0; top < 2; ++top) {
+        if (!(top ? o->want_high : o->want_low)) continue;
+        char l[96];
+        snprintf(l, sizeof l, "sector (%d,%d) %s", e->na, e->nb, top ? "highest" : "lowest");
+        so.label = l;
+        so.highest = top;
+        lam_sci_result *r = top ? &e->sci_hi : &e->sci_lo;
+        lam_sci_solve(sf, e->na, e->nb, &so, r);
+        *(top ? &e->hi : &e->lo) = r->value;
+    }
 }
 
 static void bound_generic_block(const lam_fockop *op, const lam_fock_sector *s, lam_plan_entry *e,
                                 const options *o)
 {
-    lam_fock_bounds(op, s, o->bound_subspace, o->want_low ? &e->lo : NULL, o->want_high ? &e->hi : NULL);
+    lam_fock_bounds(op, s, o->bound_subspace > 0 ? o->bound_subspace : 200, o->want_low ? &e->lo : NULL,
+                    o->want_high ? &e->hi : NULL);
 }
 
 /* ---- the spin-free path ---- */
@@ -428,7 +465,38 @@ static void resolve_mirrors(lam_plan *p)
         e->exact_hi = m->exact_hi;
         e->use_bounds = m->use_bounds;
         e->dim = m->dim;
+        e->sci_lo = m->sci_lo;
+        e->sci_hi = m->sci_hi;
     }
+}
+
+/* Selected-CI sizes and the second-order estimates (value plus the
+ * Epstein-Nesbet energy: estimates, not bounds): keys for one sector, a
+ * `sci` line per sector otherwise. */
+static void sci_report(lam_report *rep, const lam_plan_entry *e, const options *o, int keys)
+{
+    if (!e->sci_lo.dets && !e->sci_hi.dets) return;
+    const lam_sci_result *lo = &e->sci_lo, *hi = &e->sci_hi;
+    double elo = lo->value + lo->pt2, ehi = hi->value + hi->pt2;
+    if (!keys) {
+        char a[LAM_DOUBLE_BUF], b[LAM_DOUBLE_BUF], line[256];
+        format_value(a, sizeof a, o->want_low ? elo : NAN);
+        format_value(b, sizeof b, o->want_high ? ehi : NAN);
+        snprintf(line, sizeof line, "%d\t%d\t%zu\t%zu\t%s\t%s", e->na, e->nb, lo->dets, hi->dets, a, b);
+        lam_report_line(rep, "sci", line);
+        return;
+    }
+    if (o->want_low) {
+        lam_report_int(rep, "sci.dets_min", (long)lo->dets);
+        lam_report_str(rep, "sci.stop_min", lam_sci_stop_name(lo->stop));
+        lam_report_num(rep, "sci.estimate_min", elo);
+    }
+    if (o->want_high) {
+        lam_report_int(rep, "sci.dets_max", (long)hi->dets);
+        lam_report_str(rep, "sci.stop_max", lam_sci_stop_name(hi->stop));
+        lam_report_num(rep, "sci.estimate_max", ehi);
+    }
+    if (o->want_low && o->want_high) lam_report_num(rep, "sci.half_range_estimate", 0.5 * (ehi - elo));
 }
 
 static int entry_exact(const lam_plan_entry *e, const options *o)
@@ -451,7 +519,8 @@ static void sector_line(lam_report *rep, const lam_plan *p, const lam_plan_entry
     } else if (e->mirror_of >= 0) {
         snprintf(how, sizeof how, "mirror:%d,%d", p->s[e->mirror_of].na, p->s[e->mirror_of].nb);
     } else {
-        snprintf(how, sizeof how, "%s", e->use_bounds ? "rayleigh-ritz" : "computed");
+        snprintf(how, sizeof how, "%s",
+                 !e->use_bounds ? "computed" : e->sci_lo.dets || e->sci_hi.dets ? "selected-ci" : "rayleigh-ritz");
     }
     snprintf(line, sizeof line, "%d\t%s\t%s\t%s\t%s\t%s", e->na, nb, lo, hi, status, how);
     lam_report_line(rep, "sector", line);
@@ -523,6 +592,7 @@ static int write_report(const lam_plan *p, int electrons, const options *o)
     for (int i = 0; i < p->count; ++i) {
         const lam_plan_entry *e = &p->s[i];
         if (e->na >= 0) sector_line(rep, p, e, o);
+        if (o->sector_na < 0 && e->mirror_of < 0) sci_report(rep, e, o, 0);
         if (e->skipped || e->mirror_of >= 0) continue;
         bounds += (o->want_low && (e->use_bounds || !e->exact_lo)) + (o->want_high && (e->use_bounds || !e->exact_hi));
         if (!e->use_bounds) {
@@ -537,6 +607,7 @@ static int write_report(const lam_plan *p, int electrons, const options *o)
         lam_report_int(rep, "sector_nb", e->nb);
         extremes_t x = extremes(p, -1, o);
         add_extremes(rep, "sector", &x, o);
+        sci_report(rep, e, o, 1);
     }
     if (o->sector_na < 0) {
         extremes_t x = extremes(p, -1, o);
