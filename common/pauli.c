@@ -885,19 +885,22 @@ static uint64_t *alloc_slots(size_t size)
     return slot;
 }
 
+/* The key table's fingerprint is the low 24 bits of the hash, apart from
+ * the top bits that choose the slot: keys that meet at one slot then
+ * still differ in their fingerprints, and a probe that misses rarely reads
+ * a key. */
+#define KEY_FP(h) ((h) & ((UINT64_C(1) << (64 - SLOT_INDEX_BITS)) - 1))
+
+/* Rehash from the keys, in the order of the entries (the arena is read
+ * from start to end). */
 static void key_table_resize(key_table *kt, size_t size)
 {
     uint64_t *slot = alloc_slots(size);
-    for (size_t i = 0; i < kt->size; ++i) {
-        uint64_t e = kt->slot[i];
-        if (!e) continue;
-        size_t k = (size_t)(e & SLOT_INDEX_MASK) - 1;
-        uint64_t hv = size <= ((size_t)1 << (64 - SLOT_INDEX_BITS))
-                          ? e & ~SLOT_INDEX_MASK
-                          : key_hash(kt->arena + kt->off[k], kt->off[k + 1] - kt->off[k]);
+    for (size_t k = 0; k < kt->count; ++k) {
+        uint64_t hv = key_hash(kt->arena + kt->off[k], kt->off[k + 1] - kt->off[k]);
         size_t j = slot_of(hv, size);
         while (slot[j]) j = (j + 1) & (size - 1);
-        slot[j] = e;
+        slot[j] = (KEY_FP(hv) << SLOT_INDEX_BITS) | (uint64_t)(k + 1);
     }
     free(kt->slot);
     kt->slot = slot;
@@ -935,7 +938,7 @@ static void key_table_room(key_table *kt, size_t at, size_t len);
 static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t hv, double c)
 {
     if (key_table_full(kt, kt->count + 1)) key_table_reserve(kt, kt->count + 1);
-    uint64_t fp = SLOT_FP(hv);
+    uint64_t fp = KEY_FP(hv);
     size_t i = slot_of(hv, kt->size), mask = kt->size - 1;
     for (;; i = (i + 1) & mask) {
         uint64_t e = kt->slot[i];
