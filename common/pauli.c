@@ -1003,7 +1003,7 @@ static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *
     char *p = text;
     while (*p == ' ' || *p == '\t') ++p;
     char *tok = p;
-    while (*p && *p != ' ' && *p != '\t') ++p;
+    p += strcspn(p, " \t"); /* glibc's vector scan: a coefficient is ~20 bytes */
     char save = *p;
     *p = '\0';
     int bad = lam_reader_coefficient(tok, coef);
