@@ -1054,14 +1054,13 @@ static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *
 
 /* Merging runs as a pipeline of two threads once the input is large: the
  * reading thread parses lines into encoded keys with their hashes, a
- * chunk at a time, and a merging thread adds whole chunks to the table
- * (its look-ups are cache misses, about as costly as the parsing).  The
+ * chunk at a time, and a merging thread hashes them and adds whole chunks
+ * to the table (its look-ups are cache misses).  The
  * chunks are added in the order of the input by the one merging thread,
  * so every sum is formed in the order of the lines, whatever the timing:
  * the result is the same as with one thread, bit for bit. */
 typedef struct {
     size_t at, len;
-    uint64_t hash;
     double coef;
 } pending_key;
 
@@ -1097,10 +1096,14 @@ static void add_chunk(key_table *kt, const key_chunk *ch)
     }
     for (size_t b = 0; b < ch->n; b += BATCH) {
         size_t e = b + BATCH < ch->n ? b + BATCH : ch->n;
-        for (size_t i = b; i < e; ++i) key_table_prefetch(kt, ch->keys[i].hash);
+        uint64_t hash[BATCH];
+        for (size_t i = b; i < e; ++i) {
+            hash[i - b] = key_hash(ch->bytes + ch->keys[i].at, ch->keys[i].len);
+            key_table_prefetch(kt, hash[i - b]);
+        }
         for (size_t i = b; i < e; ++i) {
             const pending_key *pk = &ch->keys[i];
-            key_table_add(kt, ch->bytes + pk->at, pk->len, pk->hash, pk->coef);
+            key_table_add(kt, ch->bytes + pk->at, pk->len, hash[i - b], pk->coef);
         }
     }
 }
@@ -1233,7 +1236,6 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
         pending_key *pk = &ch->keys[ch->n++];
         pk->at = ch->len;
         pk->len = encode_key(ch->bytes + ch->len, nw, xz, xz + nw, group);
-        pk->hash = key_hash(ch->bytes + ch->len, pk->len);
         pk->coef = coef;
         ch->len += pk->len;
         if (++lines == SIZE_AFTER) {
