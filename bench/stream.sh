@@ -15,9 +15,9 @@
 #    Goal: lam-norm at most half of awk in wall seconds.  lam-norm runs
 #    two threads from 16384 terms on (one reads and parses, one merges
 #    into the table), so its CPU seconds are the sum of both: on an idle
-#    machine with 2 cores its wall time is that of the busier (reading) thread,
-#    about two thirds of its CPU seconds (perf, samples per thread).  On a loaded
-#    machine the wall figures mean little.
+#    machine with 2 cores its wall time is that of the busier (reading)
+#    thread, about 60 % of its CPU seconds (perf, samples per thread).  On
+#    a loaded machine the wall figures mean little.
 #
 #   BENCH_ORBITALS  orbitals of the size test (default 40; 0 skips it)
 #   BENCH_TERMS     terms of the speed test (default 10000000; 0 skips it)
