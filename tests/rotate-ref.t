@@ -27,11 +27,12 @@ import sys
 import tempfile
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
+import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
 import numpy as np
 import scipy.linalg
 import scipy.optimize
 
-import lamtest
 import molecules
 import refops
 

@@ -18,11 +18,12 @@ import tempfile
 import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
+import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
 import numpy as np
 import scipy.sparse as sp
 from scipy.optimize import linprog
 
-import lamtest
 import molecules
 import refops
 
