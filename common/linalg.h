@@ -10,4 +10,11 @@
  * is an internal error (exit 70). */
 void lam_symmetric_eigen(int n, double *a, double *w);
 
+/* Threads of the BLAS/LAPACK calls: n from -j/--threads, 0 for the
+ * suite's default of one.  One thread is the default because OpenBLAS's
+ * own choice was measured 4x slower than one thread for lam-factor's
+ * full-rank fragments and 5-13x slower for lam-range on a shared 2-core
+ * machine; it overrides OPENBLAS_NUM_THREADS. */
+void lam_blas_threads(long n);
+
 #endif

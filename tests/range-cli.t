@@ -54,7 +54,8 @@ near "$half" "$(awk -v a="$lo" -v b="$hi" 'BEGIN { printf "%.17g", (b - a) / 2 }
 
 runlam_in "$H2" lam-range --quiet --tsv
 is "$(wc -l <<<"$OUT")" 2 "--tsv: header row and value row"
-like "$(head -1 <<<"$OUT")" $'^fock_min\tfock_min_status\tfock_max\tfock_max_status\tfock_half_range\telectrons\tn_min' "--tsv header"
+like "$(head -1 <<<"$OUT")" $'^label\tsector_na\t.*\tfock_min\tfock_min_status\tfock_max\tfock_max_status\tfock_half_range\telectrons\tn_min' "--tsv header: label first, the fixed column set"
+is "$(tail -1 <<<"$OUT" | cut -f2)" NA "--tsv without --sector: sector_na is NA"
 runlam_in "$H2" lam-range -q -t -n 2 -j 1 -M 1G -k spinfree
 is "$RC" 0 "short options -q -t -n -j -M -k: exit 0"
 is "$(wc -l <<<"$OUT")" 2 "-t: header row and value row"
@@ -70,8 +71,8 @@ is "$(grep -c $'^sector\t' "$TMP/rep")" 1 "--sector: one sector line"
 near "$(awk -F'\t' '$1 == "sector" { print $4 }' "$TMP/rep")" -1.1373 5e-5 "--sector 1,1: the full CI energy"
 
 runlam_in "$H2" lam-range --quiet --sector 1,1 --tsv
-like "$(head -1 <<<"$OUT")" $'^sector_na\tsector_nb\tsector_min\tsector_min_status\tsector_max\tsector_max_status\tsector_half_range' "--sector --tsv: the sector's keys"
-near "$(tail -1 <<<"$OUT" | cut -f3)" -1.1373 5e-5 "--sector --tsv: sector_min is the full CI energy"
+like "$(head -1 <<<"$OUT")" $'^label\tsector_na\tsector_nb\tsector_min\tsector_min_status\tsector_max\tsector_max_status\tsector_half_range' "--sector --tsv: the sector's keys, in the same column set"
+near "$(tail -1 <<<"$OUT" | cut -f4)" -1.1373 5e-5 "--sector --tsv: sector_min is the full CI energy"
 
 runlam_in "$H2" lam-range --quiet --multiplets
 like "$OUT" $'sector\t2\t0\t-\t-\t-\twithin:1,1' "--multiplets: (2,0) lies within (1,1)"

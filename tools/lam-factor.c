@@ -11,6 +11,7 @@
 #include "report.h"
 #include "spinfree.h"
 #include "stream.h"
+#include "linalg.h"
 #include "util.h"
 
 /* Integrals written with 17 digits keep their symmetry to the last bit;
@@ -41,6 +42,7 @@ static _Noreturn void usage(void)
            "  -o, --output FILE     write the stream to FILE instead of stdout\n"
            "  -z, --gzip            gzip the stream\n"
            "      --progress        show progress on stderr (default: when it is a terminal)\n"
+           "  -j, --threads N       BLAS threads (default 1; OPENBLAS_NUM_THREADS is not read)\n"
            "  -q, --quiet           no progress\n"
            "  -h, --help            show this help\n"
            "      --allow-empty     read an empty input as the zero operator\n"
@@ -88,6 +90,7 @@ static void parse_args(int argc, char **argv, cli *c)
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
         {"progress", no_argument, 0, OPT_PROGRESS},
+        {"threads", required_argument, 0, 'j'},
         {"quiet", no_argument, 0, 'q'},
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"help", no_argument, 0, 'h'},
@@ -98,7 +101,8 @@ static void parse_args(int argc, char **argv, cli *c)
     c->method = LAM_FACTOR_DOUBLE;
     c->max_fragments = c->max_iter = -1;
     opterr = 0;
-    while ((o = getopt_long(argc, argv, ":m:r:tl:o:zqhV", opts, NULL)) != -1) {
+    long threads = 0;
+    while ((o = getopt_long(argc, argv, ":m:r:tl:o:zqhVj:", opts, NULL)) != -1) {
         switch (o) {
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm': c->method = parse_method(optarg); break;
@@ -112,12 +116,14 @@ static void parse_args(int argc, char **argv, cli *c)
         case 'o': c->out = optarg; break;
         case 'z': c->gzip = 1; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
+        case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
         case 'q': lam_progress_set(0); break;
         case 'h': usage();
         case 'V': lam_print_version();
         default: lam_bad_option(argv[optind - 1], optopt, o == ':');
         }
     }
+    lam_blas_threads(threads);
     if (argc - optind > 1) lam_usage_error("one input stream at a time");
     c->in = optind < argc ? argv[optind] : NULL;
     if (c->tsv && !c->report) lam_usage_error("--tsv formats the --report; give --report FILE");

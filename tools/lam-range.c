@@ -17,6 +17,7 @@
 #include "sci.h"
 #include "spinfree.h"
 #include "stream.h"
+#include "linalg.h"
 #include "util.h"
 
 static _Noreturn void usage(void)
@@ -52,7 +53,10 @@ static _Noreturn void usage(void)
            "  -k, --kind K         kind of a stream without header (spinfree, fermion, pauli)\n"
            "      --progress       progress on stderr even when it is not a terminal\n"
            "  -q, --quiet          no progress\n"
-           "  -t, --tsv            one header row and one value row (no sector lines)\n"
+           "  -t, --tsv            one header row and one value row (no sector lines;\n"
+           "                       the same columns whatever the input, NA where a value\n"
+           "                       does not apply)\n"
+           "  -l, --label TEXT     the label column (default: the input file name)\n"
            "  -o, --output FILE    write the report to FILE instead of stdout\n"
            "  -h, --help           show this help\n"
            "      --allow-empty    read an empty input as the zero operator\n"
@@ -81,7 +85,7 @@ typedef struct {
     int bounds, bound_subspace, multiplets, threads, tsv, check_steps;
     double bound_energy_tol;
     lam_kind kind;
-    const char *output, *input, *resume;
+    const char *output, *input, *resume, *label;
 } options;
 
 static void parse_sector(const char *arg, options *o)
@@ -113,7 +117,8 @@ static void parse_options(int argc, char **argv, options *o)
         {"multiplets", no_argument, 0, O_MULT}, {"no-multiplets", no_argument, 0, O_NOMULT},
         {"threads", required_argument, 0, 'j'}, {"kind", required_argument, 0, 'k'},
         {"progress", no_argument, 0, O_PROGRESS}, {"quiet", no_argument, 0, 'q'},
-        {"tsv", no_argument, 0, 't'}, {"output", required_argument, 0, 'o'},
+        {"tsv", no_argument, 0, 't'}, {"label", required_argument, 0, 'l'},
+        {"output", required_argument, 0, 'o'},
         {"check-steps", required_argument, 0, O_CHECK}, {"resume", required_argument, 0, O_RESUME},
         {"help", no_argument, 0, 'h'}, {"version", no_argument, 0, 'V'}, {0, 0, 0, 0}};
     memset(o, 0, sizeof *o);
@@ -126,7 +131,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->multiplets = -1; /* default: on for spinfree input without --sector */
     int low = 0, high = 0, c;
     opterr = 0;
-    while ((c = getopt_long(argc, argv, ":s:n:M:j:k:qto:hV", opts, NULL)) != -1) {
+    while ((c = getopt_long(argc, argv, ":s:n:M:j:k:qtl:o:hV", opts, NULL)) != -1) {
         switch (c) {
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 's': parse_sector(optarg, o); break;
@@ -162,6 +167,7 @@ static void parse_options(int argc, char **argv, options *o)
         case O_PROGRESS: lam_progress_set(1); break;
         case 'q': lam_progress_set(0); break;
         case 't': o->tsv = 1; break;
+        case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
         case 'h': usage();
         case 'V': lam_print_version();
@@ -584,9 +590,19 @@ static void add_extremes(lam_report *rep, const char *prefix, const extremes_t *
 }
 
 /* Writes the report; returns the number of values that are bounds. */
+/* The --tsv columns, the same for every input and option. */
+static const char *const tsv_columns[] = {
+    "label", "sector_na", "sector_nb", "sector_min", "sector_min_status", "sector_max",
+    "sector_max_status", "sector_half_range", "sci.dets_min", "sci.stop_min", "sci.estimate_min",
+    "sci.dets_max", "sci.stop_max", "sci.estimate_max", "sci.half_range_estimate", "fock_min",
+    "fock_min_status", "fock_max", "fock_max_status", "fock_half_range", "electrons", "n_min",
+    "n_min_status", "n_max", "n_max_status", "n_half_range", "max_residual", "status", NULL};
+
 static int write_report(const lam_plan *p, int electrons, const options *o)
 {
     lam_report *rep = lam_report_new();
+    lam_report_columns(rep, tsv_columns);
+    lam_report_str(rep, "label", o->label ? o->label : o->input ? o->input : "<stdin>");
     int solved = 0, bounds = 0;
     double max_res = 0;
     for (int i = 0; i < p->count; ++i) {
@@ -643,7 +659,7 @@ int main(int argc, char **argv)
     /* one thread unless asked: measured, a second BLAS or loop thread
      * gains little on this work and loses much on a shared machine */
     int threads = o.threads ? o.threads : 1;
-    openblas_set_num_threads(threads);
+    lam_blas_threads(threads);
     lam_ci_set_threads(threads);
     lam_fockop_set_threads(threads);
     lam_reader *r = lam_reader_open(o.input);

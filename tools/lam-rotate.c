@@ -12,6 +12,7 @@
 #include "shift.h"
 #include "spinfree.h"
 #include "stream.h"
+#include "linalg.h"
 #include "util.h"
 
 static _Noreturn void usage(void)
@@ -49,7 +50,7 @@ static _Noreturn void usage(void)
         "      --gtol G         gradient norm that ends a stage (default 1e-7)\n"
         "      --ftol F         a stage also ends when ten iterations gain less than\n"
         "                       F of the objective (default 1e-6)\n"
-        "  -j, --threads N      BLAS threads (default: OpenBLAS's own choice)\n"
+        "  -j, --threads N      BLAS threads (default 1; OPENBLAS_NUM_THREADS is not read)\n"
         "  -r, --report FILE    write the report to FILE (default: stderr)\n"
         "  -t, --tsv            report as one header row and one value row\n"
         "  -l, --label TEXT     label column in the --tsv report\n"
@@ -193,7 +194,7 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-    if (o.threads) openblas_set_num_threads((int)o.threads);
+    lam_blas_threads(o.threads);
     double t0 = lam_seconds();
     clock_t c0 = clock();
 

@@ -12,6 +12,7 @@
 #include "molecule.h"
 #include "scf.h"
 #include "spinfree.h"
+#include "linalg.h"
 #include "util.h"
 
 static _Noreturn void usage(void)
@@ -53,6 +54,7 @@ static _Noreturn void usage(void)
            "  -t, --tsv             with --energy-only: one header row and one value row\n"
            "  -o, --output FILE     write to FILE instead of stdout\n"
            "      --progress        iteration table on stderr even when not a terminal\n"
+           "  -j, --threads N       BLAS threads (default 1; OPENBLAS_NUM_THREADS is not read)\n"
            "  -q, --quiet           no progress and no summary line on stderr\n"
            "  -h, --help            show this help\n"
            "  -V, --version         show the version\n\n"
@@ -103,6 +105,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"max-memory", required_argument, 0, 'M'},
         {"energy-only", no_argument, 0, OPT_ENERGY_ONLY}, {"tsv", no_argument, 0, 't'},
         {"output", required_argument, 0, 'o'},  {"progress", no_argument, 0, OPT_PROGRESS},
+        {"threads", required_argument, 0, 'j'},
         {"quiet", no_argument, 0, 'q'},         {"help", no_argument, 0, 'h'},
         {"version", no_argument, 0, 'V'},       {0, 0, 0, 0}};
     static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
@@ -116,7 +119,8 @@ static void parse_options(int argc, char **argv, options *o)
     lam_scf_options_default(&o->scf);
     int c;
     opterr = 0;
-    while ((c = getopt_long(argc, argv, ":b:c:f:a:M:to:qhV", opts, NULL)) != -1) {
+    long threads = 0;
+    while ((c = getopt_long(argc, argv, ":b:c:f:a:M:to:qhVj:", opts, NULL)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
@@ -147,12 +151,14 @@ static void parse_options(int argc, char **argv, options *o)
         case 't': o->tsv = 1; break;
         case 'o': o->output = optarg; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
+        case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
         case 'q': o->quiet = 1; lam_progress_set(0); break;
         case 'h': usage();
         case 'V': lam_print_version();
         default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
+    lam_blas_threads(threads);
     if (o->scf.energy_tol <= 0 || o->scf.gradient_tol <= 0)
         lam_usage_error("--energy-tol and --gradient-tol must be positive");
     if (o->scf.schwarz < 0) lam_usage_error("--schwarz must not be negative");

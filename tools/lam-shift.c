@@ -12,6 +12,7 @@
 #include "shift.h"
 #include "spinfree.h"
 #include "stream.h"
+#include "linalg.h"
 #include "util.h"
 
 static _Noreturn void usage(void)
@@ -48,6 +49,7 @@ static _Noreturn void usage(void)
         "  -o, --output FILE    write the operator to FILE instead of stdout\n"
         "  -z, --gzip           gzip the output\n"
         "      --progress       progress on stderr (default: when a terminal)\n"
+        "  -j, --threads N      BLAS threads (default 1; OPENBLAS_NUM_THREADS is not read)\n"
         "  -q, --quiet          no progress\n"
         "  -h, --help           show this help\n"
         "      --allow-empty    read an empty input as the zero operator\n"
@@ -91,6 +93,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
         {"progress", no_argument, 0, OPT_PROGRESS},
+        {"threads", required_argument, 0, 'j'},
         {"quiet", no_argument, 0, 'q'},
         {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
         {"help", no_argument, 0, 'h'},
@@ -103,7 +106,8 @@ static void parse_options(int argc, char **argv, options *o)
     o->max_iter = 200;
     int explicit_terms = 0, c;
     opterr = 0;
-    while ((c = getopt_long(argc, argv, ":n:r:tl:o:zqhV", opts, NULL)) != -1) {
+    long threads = 0;
+    while ((c = getopt_long(argc, argv, ":n:r:tl:o:zqhVj:", opts, NULL)) != -1) {
         switch (c) {
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
         case OPT_TERMS:
@@ -140,6 +144,7 @@ static void parse_options(int argc, char **argv, options *o)
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
         case OPT_PROGRESS: lam_progress_set(1); break;
+        case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
         case 'q': lam_progress_set(0); break;
         case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'h': usage();
@@ -147,6 +152,7 @@ static void parse_options(int argc, char **argv, options *o)
         default: lam_bad_option(argv[optind - 1], optopt, c == ':');
         }
     }
+    lam_blas_threads(threads);
     if (!o->report && (o->tsv || o->label))
         lam_usage_error("%s formats the --report; give --report FILE", o->tsv ? "--tsv" : "--label");
     if (o->report && strcmp(o->report, "-") == 0 && (!o->output || strcmp(o->output, "-") == 0))
