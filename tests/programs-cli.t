@@ -32,4 +32,10 @@ for p in $TABLE_PROGRAMS; do
 done
 ok "$([ -f "$ROOT/man/lamina-stream.5" ]; echo $?)" "man/lamina-stream.5"
 ok "$([ -f "$ROOT/man/lamina.7" ]; echo $?)" "man/lamina.7"
+# issue 15.10: make demo needs the build packages and, optionally, the
+# plotting program, never the test references or the fuzzing compiler
+demo_plan=$(make -n -s -C "$ROOT" deps-build deps-plot 2>/dev/null)
+is "$(grep -c -E 'psi4|python3-numpy|python3-scipy|clang|valgrind' <<<"$demo_plan")" 0 \
+    "make demo's package checks name no test reference, fuzzer or valgrind"
+like "$(sed -n '/^demo:/p' "$ROOT/Makefile")" '^demo: deps-build deps-plot$' "make demo depends on the build and plot checks only"
 done_testing

@@ -26,6 +26,13 @@ for k in objective lambda_before lambda_after objective_before objective_after i
          seconds cpu_seconds threads; do
     like "$(cut -f1 "$TMP/rep")" "^$k\$" "report has $k"
 done
+# issue 15.9: one BLAS thread unless -j says otherwise, whatever
+# OPENBLAS_NUM_THREADS says (the suite's default, lamina(7))
+is "$(report_get threads <"$TMP/rep")" 1 "one BLAS thread by default"
+OPENBLAS_NUM_THREADS=2 lam lam-rotate -q -r "$TMP/rep2" "$TMP/w.sf" >/dev/null
+is "$(report_get threads <"$TMP/rep2")" 1 "OPENBLAS_NUM_THREADS=2 alone: still one (not read)"
+OPENBLAS_NUM_THREADS=1 lam lam-rotate -q -j 2 -r "$TMP/rep2" "$TMP/w.sf" >/dev/null
+is "$(report_get threads <"$TMP/rep2")" 2 "-j 2: two BLAS threads"
 before=$(report_get lambda_before <"$TMP/rep")
 after=$(report_get lambda_after <"$TMP/rep")
 awk -v a="$after" -v b="$before" 'BEGIN { exit !(a < 0.9 * b) }'
