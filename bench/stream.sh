@@ -16,8 +16,11 @@
 #    two threads from 16384 terms on (one reads and parses, one merges
 #    into the table), so its CPU seconds are the sum of both: on an idle
 #    machine with 2 cores its wall time is that of the busier (reading)
-#    thread, about 60 % of its CPU seconds (perf, samples per thread).  On
-#    a loaded machine the wall figures mean little.
+#    thread, 55 to 65 % of its CPU seconds (perf record -e task-clock,
+#    samples per thread; the merging thread's share swings with the
+#    kernel's zeroing of the table's pages, 14 to 23 % of all samples).
+#    On a loaded machine the wall figures mean little: compare the reading
+#    thread's CPU seconds with awk's.
 #
 #   BENCH_ORBITALS  orbitals of the size test (default 40; 0 skips it)
 #   BENCH_TERMS     terms of the speed test (default 10000000; 0 skips it)

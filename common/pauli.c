@@ -806,13 +806,17 @@ static size_t encode_key(uint8_t *key, int nw, const uint64_t *x, const uint64_t
     size_t n = 0;
     uint64_t prev = 0;
     for (int w = 0; w < nw; ++w) {
-        uint64_t any = x[w] | z[w];
+        uint64_t xw = x[w], zw = z[w], any = xw | zw;
         while (any) {
-            int b = __builtin_ctzll(any);
+            unsigned b = (unsigned)__builtin_ctzll(any);
             any &= any - 1;
-            uint64_t q = (uint64_t)w * 64 + (unsigned)b, bit = (uint64_t)1 << b;
-            uint64_t letter = (x[w] & bit) ? ((z[w] & bit) ? 2 : 1) : 3;
-            n += put_varint(key + n, ((q - prev) << 2) | letter);
+            uint64_t q = (uint64_t)w * 64 + b, xb = (xw >> b) & 1, zb = (zw >> b) & 1;
+            /* x 1, y 2, z 3 without a branch: the letters are random */
+            uint64_t v = ((q - prev) << 2) | (3 - 2 * xb + (xb & zb));
+            if (v < 0x80)
+                key[n++] = (uint8_t)v; /* a gap below 32: the common case */
+            else
+                n += put_varint(key + n, v);
             prev = q;
         }
     }
@@ -962,7 +966,9 @@ static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_
 
 static void key_table_room(key_table *kt, size_t at, size_t len)
 {
-    if (at + len <= kt->arena_cap) return;
+    /* an arena even for an empty key (the identity), which memcpy's
+     * pointer must not be null for */
+    if (kt->arena && at + len <= kt->arena_cap) return;
     size_t cap = kt->arena_cap ? kt->arena_cap : 1 << 16;
     while (cap < at + len) cap = lam_mul_size(cap, 2);
     kt->arena = big_realloc(kt->arena, kt->arena_cap, cap);
@@ -1217,7 +1223,8 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
             }
             coef = ln.coef;
         }
-        for (int k = nw - 1; k >= 0; --k)
+        /* the highest qubit counts only when the stream declares none */
+        for (int k = nw - 1; declared < 0 && k >= 0; --k)
             if (xz[k] | xz[nw + k]) {
                 int top = k * 64 + 64 - __builtin_clzll(xz[k] | xz[nw + k]);
                 if (top > out->nqubits) out->nqubits = top;
