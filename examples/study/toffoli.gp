@@ -23,6 +23,7 @@ set xtics rotate by -40 left font ",10"
 set xtics (rep_title(1) 1)
 do for [i = 2:nr] { set xtics add (rep_title(i) i) }
 set bmargin 9
+set rmargin 8
 # results.tsv: 1 molecule, 3 representation, 13 run.toffoli
 pick(m, i) = (strcol(1) eq m && strcol(3) eq word(reps, i)) ? column(13) : NaN
 do for [k = 1:n] {
