@@ -10,6 +10,9 @@
 #                              two rotated shifted operators (rs, rg) (from
 #                              the lam-range reports)
 #   collect.sh table ROWS FLOORS    join them into the study table (stdout)
+#   collect.sh big ROWS BOUNDS the 30-orbital table: the rows of one
+#                              geometry with the floor interval of its
+#                              N-electron block (lam-range --sector bounds)
 #   collect.sh wide TABLE      one line per geometry, one column per
 #                              representation: lambda, the floors, then
 #                              run.toffoli (for the plots)
@@ -102,10 +105,32 @@ wide() {
                 for (i = 1; i <= nr; i++) printf "\t%s", tof[g, rep[i]]; printf "\n" } }' "$1"
 }
 
+# The floor interval of the big case.  Its lower end is half the distance
+# between lam-range's inner bounds of the lowest and highest eigenvalue of
+# the N-electron sector of smallest |Sz| (which holds a component of every
+# spin multiplet of the block, so its extremes are the block's): a
+# certified lower bound of dE/2.  Its upper end is the least lambda of an
+# exact representation of H on that block (every row but the double
+# factorizations, which drop factors below their tolerance): an LCU's
+# lambda is never below dE/2 of what it represents.
+big() {
+    local rows=$1 bounds=$2 low status
+    low=$(text_get "$bounds" sector_half_range)
+    status=$(text_get "$bounds" status)
+    printf 'molecule\tr_angstrom\trepresentation\tlambda\tunitaries\tconstruction\trun.toffoli\trun.qubits\tfloor_low\tfloor_high\tfloor_status\n'
+    awk -F'\t' -v OFS='\t' -v low="$low" -v status="$status" '
+        { split($1, k, ":"); line[NR] = k[1] OFS k[2] OFS $2 OFS $3 OFS $4 OFS $5 OFS $9 OFS $10
+          if ($5 != "df" && (high == "" || $3 + 0 < high + 0)) high = $3 }
+        END { if (high == "" || low + 0 > high + 0) {
+                  print "collect.sh: floor interval [" low ", " high "] is empty" > "/dev/stderr"; exit 65 }
+              for (i = 1; i <= NR; i++) print line[i], low, high, status }' "$rows"
+}
+
 case ${1:-} in
 row) row "$2" "$3" ;;
+big) big "$2" "$3" ;;
 floors) floors "$2" ;;
 table) table "$2" "$3" ;;
 wide) wide "$2" ;;
-*) echo "usage: collect.sh row DIR REP | floors DIR | table ROWS FLOORS | wide TABLE" >&2; exit 64 ;;
+*) echo "usage: collect.sh row DIR REP | big ROWS BOUNDS | floors DIR | table ROWS FLOORS | wide TABLE" >&2; exit 64 ;;
 esac
