@@ -82,5 +82,32 @@ for png in ("lambda-vs-pauli.png", "stretch.png", "toffoli.png"):
     ok = os.path.exists(path) and open(path, "rb").read(8) == b"\x89PNG\r\n\x1a\n"
     t.ok(ok, "plot %s is a PNG" % png)
 
+# `make big` (the 30-orbital case) on a small geometry of the same run:
+# the half range of the (2,2) sector of h4 is the N-electron floor of the
+# table (the sector of smallest |Sz| holds every multiplet of the block),
+# and every lambda lies above the interval's lower end.
+p = subprocess.run(make + ["big", "BIG_MOL=h4", "BIG_R=0.9"], env=env, capture_output=True,
+                   text=True)
+t.ok(p.returncode == 0, "make big on h4 runs", p.stderr[-3000:])
+big = []
+path = os.path.join(out, "big.tsv")
+if os.path.exists(path):
+    with open(path) as f:
+        lines = f.read().splitlines()
+    header = lines[0].split("\t")
+    big = [dict(zip(header, line.split("\t"))) for line in lines[1:]]
+t.ok(sorted(b["representation"] for b in big) == sorted({w[2] for w in want}),
+     "big.tsv: one row per representation")
+fn = {float(r["floor_n"]) for r in rows if (r["molecule"], r["r_angstrom"]) == ("h4", "0.9")}
+for b in big:
+    low, high, lam_b = float(b["floor_low"]), float(b["floor_high"]), float(b["lambda"])
+    t.ok(len(fn) == 1 and abs(low - next(iter(fn))) < 1e-8,
+         "big %s: floor_low %.10f is the N-electron floor %s" % (b["representation"], low, fn))
+    t.ok(low <= high and lam_b >= low * (1 - 1e-9),
+         "big %s: lambda %.6f >= floor_low %.6f, interval ordered" % (b["representation"], lam_b, low))
+exact = [float(b["lambda"]) for b in big if b["construction"] != "df"]
+t.ok(exact and all(float(b["floor_high"]) == min(exact) for b in big),
+     "big: floor_high is the least lambda of the exact forms")
+
 subprocess.run(["rm", "-rf", out])
 t.done()
