@@ -36,13 +36,20 @@ targets = subprocess.run(make + ["targets"], env=env, capture_output=True,
 want = sorted(tuple(line.split()) for line in targets if line.strip())
 t.ok(len(want) >= 12, "the SMALL setting has targets (%d)" % len(want))
 
-rows = []
-path = os.path.join(out, "results.tsv")
-if os.path.exists(path):
+
+
+def read_tsv(name):
+    """The rows of a study table in OUT as dicts by header (none if absent)."""
+    path = os.path.join(out, name)
+    if not os.path.exists(path):
+        return []
     with open(path) as f:
         lines = f.read().splitlines()
     header = lines[0].split("\t")
-    rows = [dict(zip(header, line.split("\t"))) for line in lines[1:]]
+    return [dict(zip(header, line.split("\t"))) for line in lines[1:]]
+
+
+rows = read_tsv("results.tsv")
 got = sorted((r["molecule"], r["r_angstrom"], r["representation"]) for r in rows)
 t.ok(got == want, "one row per target (%d rows, %d targets)" % (len(got), len(want)),
      "missing %s\nextra %s" % (sorted(set(want) - set(got)), sorted(set(got) - set(want))))
@@ -89,13 +96,7 @@ for png in ("lambda-vs-pauli.png", "stretch.png", "toffoli.png"):
 p = subprocess.run(make + ["big", "BIG_MOL=h4", "BIG_R=0.9"], env=env, capture_output=True,
                    text=True)
 t.ok(p.returncode == 0, "make big on h4 runs", p.stderr[-3000:])
-big = []
-path = os.path.join(out, "big.tsv")
-if os.path.exists(path):
-    with open(path) as f:
-        lines = f.read().splitlines()
-    header = lines[0].split("\t")
-    big = [dict(zip(header, line.split("\t"))) for line in lines[1:]]
+big = read_tsv("big.tsv")
 t.ok(sorted(b["representation"] for b in big) == sorted({w[2] for w in want}),
      "big.tsv: one row per representation")
 fn = {float(r["floor_n"]) for r in rows if (r["molecule"], r["r_angstrom"]) == ("h4", "0.9")}
