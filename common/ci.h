@@ -134,12 +134,4 @@ void lam_ci_solve(const lam_ci_ham *h, int na, int nb,
                   const lam_eigen_problem *tmpl, lam_eigen_result *lo,
                   lam_eigen_result *hi);
 
-/* Inner bounds for a sector too large to hold: the best determinant
- * found by descent from the aufbau occupation (lowest, or highest), then
- * Rayleigh-Ritz over it and the `subspace` - 1 lowest (highest) of its
- * single and double excitations.  *lo >= E_min and *hi <= E_max always
- * (Rayleigh quotients).  n <= 64. */
-void lam_ci_bounds(const lam_spinfree *sf, int na, int nb, int subspace,
-                   double *lo, double *hi);
-
 #endif

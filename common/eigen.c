@@ -16,12 +16,13 @@ void lam_eigen_defaults(lam_eigen_problem *p)
     p->max_iter = 400;
     p->max_subspace = 8;
     p->dense_limit = 300;
+    p->max_roots = 4;
 }
 
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit)
 {
     if (dim <= dense_limit) return lam_mul_size(lam_mul_size(dim, dim + 3), sizeof(double));
-    size_t vectors = 2 * (size_t)(max_subspace < 4 ? 4 : max_subspace) + 4;
+    size_t vectors = 2 * (size_t)(max_subspace < 4 ? 4 : max_subspace) + 4 + LAM_EIGEN_CHECK_VECTORS;
     return lam_mul_size(lam_mul_size(dim, vectors), sizeof(double));
 }
 
@@ -32,17 +33,50 @@ void lam_eigen_dense(int n, double *a, double *w)
     if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
 }
 
-/* Multiply by -1 when the top is wanted: the solver always minimizes. */
+/* Multiply by -1 when the top is wanted: the solver always minimizes.
+ * With nx deflation vectors X (orthonormal columns, stored one after
+ * another) the operator is P A P + xshift X X^T, P = 1 - X X^T: Davidson
+ * and the check then work on the complement of the roots found, and the
+ * roots themselves sit at xshift, a Rayleigh quotient of the complement,
+ * so that rounding which brings them back can never pose as an extreme. */
 typedef struct {
     const lam_eigen_problem *p;
     double sign;
+    const double *X;
+    int nx;
+    double *scratch; /* dim, when nx > 0 */
+    double xshift;
 } signed_op;
+
+static void project_out(size_t dim, const double *X, int nx, double *t)
+{
+    for (int pass = 0; pass < 2; ++pass)
+        for (int j = 0; j < nx; ++j) {
+            const double *xj = X + (size_t)j * dim;
+            cblas_daxpy((int)dim, -cblas_ddot((int)dim, xj, 1, t, 1), xj, 1, t, 1);
+        }
+}
 
 static void apply_signed(const signed_op *op, const double *x, double *y)
 {
+    size_t dim = op->p->dim;
+    double c[8] = {0};
+    if (op->nx > 0) {
+        for (int j = 0; j < op->nx && j < 8; ++j) c[j] = cblas_ddot((int)dim, op->X + (size_t)j * dim, 1, x, 1);
+        memcpy(op->scratch, x, dim * sizeof(double));
+        project_out(dim, op->X, op->nx, op->scratch);
+        x = op->scratch;
+    }
     op->p->apply(op->p->ctx, x, y);
-    if (op->sign < 0) cblas_dscal((int)op->p->dim, -1.0, y, 1);
+    if (op->sign < 0) cblas_dscal((int)dim, -1.0, y, 1);
+    if (op->nx > 0) {
+        project_out(dim, op->X, op->nx, y);
+        for (int j = 0; j < op->nx && j < 8; ++j)
+            cblas_daxpy((int)dim, op->xshift * c[j], op->X + (size_t)j * dim, 1, y, 1);
+    }
 }
+
+enum { SMALL_DENSE = 300 };
 
 static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
                         lam_eigen_result *res, double *vec)
@@ -60,9 +94,23 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     /* the lowest eigenpair of the symmetrized matrix */
     for (size_t i = 0; i < n; ++i)
         for (size_t j = 0; j < i; ++j) a[i * n + j] = a[j * n + i] = 0.5 * (a[i * n + j] + a[j * n + i]);
-    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', (lapack_int)n, a, (lapack_int)n, w);
-    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
-    for (size_t i = 0; i < n; ++i) e[i] = a[i * n];
+    if (n <= SMALL_DENSE) {
+        /* every pair (QR iteration: the most accurate, and cheap here) */
+        lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', (lapack_int)n, a, (lapack_int)n, w);
+        if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
+        for (size_t i = 0; i < n; ++i) e[i] = a[i * n];
+    } else {
+        /* only the lowest pair: the reduction to tridiagonal form sees the
+         * whole matrix, bisection then finds its lowest eigenvalue */
+        lapack_int found, *support = lam_malloc(2 * sizeof(lapack_int));
+        double *z = lam_malloc(n * sizeof(double));
+        lapack_int info = LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', (lapack_int)n, a, (lapack_int)n, 0, 0,
+                                         1, 1, 0.0, &found, w, z, 1, support);
+        if (info != 0 || found != 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyevr failed (info %d)", (int)info);
+        memcpy(e, z, n * sizeof(double));
+        free(z);
+        free(support);
+    }
     /* certify with the residual of the eigenvector, as for Davidson */
     apply_signed(op, e, a);
     double r2 = 0;
@@ -71,6 +119,9 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     res->residual = sqrt(r2);
     res->iterations = (int)n;
     res->converged = res->residual <= p->tol;
+    /* the whole spectrum was computed: the lowest is the lowest */
+    res->extreme = res->converged;
+    res->other = res->extreme ? op->sign * (w[0] - res->residual) : NAN;
     if (vec) memcpy(vec, e, n * sizeof(double));
     free(a);
     free(e);
@@ -231,8 +282,10 @@ static void restart(subspace *s, const double *Y, int keep, const double *yprev,
         }
 }
 
+/* start (may be NULL): the first search vector instead of the best
+ * diagonal element. */
 static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
-                           lam_eigen_result *res, double *vec)
+                           lam_eigen_result *res, double *vec, const double *start)
 {
     size_t dim = p->dim;
     int cap = p->max_subspace < 4 ? 4 : p->max_subspace;
@@ -253,8 +306,11 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     double *ov = lam_malloc((size_t)cap * sizeof(double));
     double sign = op->sign;
     double theta = 0, rnorm = INFINITY;
+    int quadratic = 0;
 
-    start_vector(dim, p->diag, sign, t);
+    if (start) memcpy(t, start, dim * sizeof(double));
+    else start_vector(dim, p->diag, sign, t);
+    if (op->nx > 0) project_out(dim, op->X, op->nx, t);
     orthonormalize(dim, 0, s.V, t, ov);
     subspace_add(&s, op, t);
     while (1) {
@@ -271,7 +327,16 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
         rnorm = cblas_dnrm2((int)dim, r, 1);
         lam_progress("%s%siteration %d: %.12f Eh, residual %.2e", p->label ? p->label : "",
                      p->label ? ": " : "", s.applied, sign * theta, rnorm);
-        if (rnorm <= p->tol || s.applied >= p->max_iter) break;
+        /* the value's error is about |r|^2 / gap (Kato-Temple): once that is
+         * a hundredth of tol, with the gap to the next Ritz value of the
+         * subspace, more iterations do not move the value (the check, not
+         * this estimate, decides what it is called) */
+        /* Only without the check: its block bound needs |R|^2 / tol below
+         * the gap it can resolve, which a loose residual would spoil on
+         * near-degenerate levels (measured on N2). */
+        double gap = s.m >= 2 ? w[1] - w[0] : 0;
+        quadratic = p->check_steps == 0 && gap > 0 && rnorm * rnorm <= 0.01 * p->tol * gap;
+        if (rnorm <= p->tol || quadratic || s.applied >= p->max_iter) break;
         if (s.m == cap) {
             restart(&s, Y, keep, yprev, mprev, work);
             mprev = 0;
@@ -280,6 +345,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
         for (int i = 0; i < s.m; ++i) yprev[i] = Y[i * s.m];
         mprev = s.m;
         olsen_correction(dim, p->diag, sign, theta, x, r, t);
+        if (op->nx > 0) project_out(dim, op->X, op->nx, t);
         double nrm = orthonormalize(dim, s.m, s.V, t, ov);
         if (!(nrm > 1e-14)) {
             /* no new direction: use the raw residual */
@@ -292,7 +358,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     res->iterations = s.applied;
     res->value = sign * theta;
     res->residual = rnorm;
-    res->converged = rnorm <= p->tol;
+    res->converged = rnorm <= p->tol || quadratic;
     if (vec) memcpy(vec, x, dim * sizeof(double));
     free(s.V);
     free(s.AV);
@@ -308,15 +374,241 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     free(ov);
 }
 
+/* ---- the extremality check ---- */
+
+enum { MAX_ROOTS = 4, CHECK_STRIDE = 5 };
+
+/* A standard normal deviate (Box-Muller on the generator above). */
+static double normal_deviate(uint64_t *state)
+{
+    double u = unit_noise(state) + 0.5, v = unit_noise(state) + 0.5;
+    if (u < 1e-300) u = 1e-300;
+    return sqrt(-2 * log(u)) * cos(6.283185307179586 * v);
+}
+
+/* Lowest eigenvalue of [[a, rho], [rho, mu]], without cancellation. */
+static double two_by_two_lowest(double a, double rho, double mu)
+{
+    double h = 0.5 * (mu - a), root = sqrt(h * h + rho * rho);
+    if (h >= 0) return root + h > 0 ? a - rho * rho / (root + h) : a;
+    return mu - rho * rho / (root - h);
+}
+
+/* The block of the roots: A = X^T H X (k x k), |R|_F with R = H X - X A,
+ * and the lowest eigenvalue of A with its vector y. */
+typedef struct {
+    double a_min, rnorm;
+    double y[MAX_ROOTS];
+} root_block;
+
+static void block_of_roots(const signed_op *op, const double *X, int nx, double *hx, root_block *b)
+{
+    size_t dim = op->p->dim;
+    signed_op plain = {op->p, op->sign, NULL, 0, NULL, 0};
+    double A[MAX_ROOTS * MAX_ROOTS], w[MAX_ROOTS], rr = 0;
+    for (int i = 0; i < nx; ++i) {
+        apply_signed(&plain, X + (size_t)i * dim, hx);
+        for (int j = 0; j < nx; ++j) A[j * nx + i] = cblas_ddot((int)dim, X + (size_t)j * dim, 1, hx, 1);
+        for (int j = 0; j < nx; ++j) cblas_daxpy((int)dim, -A[j * nx + i], X + (size_t)j * dim, 1, hx, 1);
+        rr += cblas_ddot((int)dim, hx, 1, hx, 1);
+    }
+    for (int i = 0; i < nx; ++i)
+        for (int j = 0; j < i; ++j) A[i * nx + j] = A[j * nx + i] = 0.5 * (A[i * nx + j] + A[j * nx + i]);
+    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', nx, A, nx, w);
+    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
+    b->a_min = w[0];
+    b->rnorm = sqrt(rr);
+    for (int i = 0; i < nx; ++i) b->y[i] = A[i * nx];
+}
+
+/* Extreme eigenvalues of the Lanczos tridiagonal (alpha, beta) of order k. */
+static void tridiagonal_ends(int k, const double *alpha, const double *beta, double *lo, double *hi)
+{
+    lapack_int m, nsplit;
+    size_t n = (size_t)(k > 1 ? k : 1);
+    lapack_int *iblock = lam_malloc(n * sizeof(lapack_int)), *isplit = lam_malloc(n * sizeof(lapack_int));
+    double *w = lam_malloc(n * sizeof(double)), *e = lam_malloc(n * sizeof(double));
+    for (int i = 0; i + 1 < k; ++i) e[i] = beta[i];
+    for (int end = 0; end < 2; ++end) {
+        lapack_int il = end ? k : 1;
+        lapack_int info = LAPACKE_dstebz('I', 'E', k, 0, 0, il, il, 0.0, alpha, e, &m, &nsplit, w,
+                                         iblock, isplit);
+        if (info != 0 || m < 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dstebz failed (info %d)", (int)info);
+        *(end ? hi : lo) = w[0];
+    }
+    free(iblock);
+    free(isplit);
+    free(w);
+    free(e);
+}
+
+/* log(1.648 sqrt(n) / delta) of the bound of Kuczynski and Wozniakowski. */
+static double kw_log(size_t n, double delta) { return log(1.648 * sqrt((double)n) / delta); }
+
+/* eps with P(theta_k - lambda >= eps S) <= delta after k steps. */
+static double kw_eps(int k, double logterm)
+{
+    double s = logterm / (2.0 * k - 1);
+    return s * s;
+}
+
+typedef enum { CHECK_CERTIFIED, CHECK_ROOT, CHECK_BUDGET } check_status;
+
+typedef struct {
+    double mu;      /* probabilistic lower bound on the complement */
+    double theta;   /* lowest Lanczos value on the complement */
+    int steps;
+} check_outcome;
+
+/* Lanczos on the complement of X from a random start, until mu certifies
+ * the block (lower >= value - tol), a root of the complement shows that
+ * the budget cannot certify (converged at or near the roots), or the
+ * budget ends. */
+static check_status lanczos_check(signed_op *op, const root_block *b, double value,
+                                  double delta, uint64_t seed, double *work, check_outcome *out)
+{
+    const lam_eigen_problem *p = op->p;
+    size_t dim = p->dim, n = dim - (size_t)op->nx;
+    int kmax = p->check_steps;
+    double *q0 = work, *q = work + dim, *w = work + 2 * dim;
+    double *alpha = lam_malloc((size_t)kmax * sizeof(double)), *beta = lam_malloc((size_t)kmax * sizeof(double));
+    /* mu is tested at most kmax / CHECK_STRIDE + 1 times, each time for
+     * both ends of the spectrum: the union bound shares delta out */
+    double logterm = kw_log(n, delta / (2.0 * (kmax / CHECK_STRIDE + 1)));
+    uint64_t state = seed;
+    for (size_t i = 0; i < dim; ++i) q[i] = normal_deviate(&state);
+    project_out(dim, op->X, op->nx, q);
+    cblas_dscal((int)dim, 1.0 / cblas_dnrm2((int)dim, q, 1), q, 1);
+    memset(q0, 0, dim * sizeof(double));
+    check_status status = CHECK_BUDGET;
+    double last_theta = INFINITY;
+    out->mu = -INFINITY;
+    out->theta = INFINITY;
+    int k = 0;
+    while (k < kmax && (size_t)k < n) {
+        apply_signed(op, q, w);
+        alpha[k] = cblas_ddot((int)dim, q, 1, w, 1);
+        if (k == 0) op->xshift = alpha[0]; /* q is in the complement: no effect on this step */
+        cblas_daxpy((int)dim, -alpha[k], q, 1, w, 1);
+        if (k > 0) cblas_daxpy((int)dim, -beta[k - 1], q0, 1, w, 1);
+        beta[k] = cblas_dnrm2((int)dim, w, 1);
+        ++k;
+        int last = k == kmax || (size_t)k == n || !(beta[k - 1] > 0);
+        if (k % CHECK_STRIDE == 0 || last) {
+            double lo, hi;
+            tridiagonal_ends(k, alpha, beta, &lo, &hi);
+            double eps = kw_eps(k, logterm);
+            /* the spread of the complement: the given bound, or from both
+             * ends of the same run (each end off by at most eps S) */
+            double spread = p->spread > 0 ? p->spread : INFINITY;
+            if (2 * eps < 1) spread = fmin(spread, (hi - lo) / (1 - 2 * eps));
+            out->theta = lo;
+            out->mu = lo - eps * spread;
+            out->steps = k;
+            if (two_by_two_lowest(b->a_min, b->rnorm, out->mu) >= value - p->tol) {
+                status = CHECK_CERTIFIED;
+                break;
+            }
+            /* settled below or so near the roots that the budget could
+             * not separate them: a root to add */
+            double gap = lo - b->a_min;
+            int settled = fabs(lo - last_theta) <= 1e-10 * fmax(1, fabs(lo));
+            double need = gap > 0 && isfinite(spread) ? 0.5 + logterm / (2 * sqrt(gap / spread)) : INFINITY;
+            if (settled && need > kmax) {
+                status = CHECK_ROOT;
+                break;
+            }
+            last_theta = lo;
+        }
+        if (!(beta[k - 1] > 1e-300)) break; /* invariant subspace */
+        double *t = q0;
+        q0 = q;
+        q = t;
+        memcpy(q, w, dim * sizeof(double));
+        cblas_dscal((int)dim, 1.0 / beta[k - 1], q, 1);
+    }
+    free(alpha);
+    free(beta);
+    return status;
+}
+
+/* Davidson's value, then the check: roots met are solved on the
+ * complement and added, until certified, out of roots or out of budget. */
+static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam_eigen_result *res,
+                            double *x1)
+{
+    size_t dim = p->dim;
+    int max_roots = p->max_roots < 1 ? 1 : p->max_roots > MAX_ROOTS ? MAX_ROOTS : p->max_roots;
+    double *X = lam_malloc(lam_mul_size(lam_mul_size(dim, MAX_ROOTS), sizeof(double)));
+    double *work = lam_malloc(lam_mul_size(dim, 5 * sizeof(double)));
+    memcpy(X, x1, dim * sizeof(double));
+    int nx = 1;
+    signed_op deflated = {p, op->sign, X, 0, work + 3 * dim, 0};
+    root_block b;
+    double delta = LAM_EIGEN_FAILURE / max_roots;
+    for (;;) {
+        block_of_roots(op, X, nx, work + 4 * dim, &b);
+        double value = b.a_min;
+        deflated.nx = nx;
+        check_outcome c = {0, 0, 0};
+        check_status st = lanczos_check(&deflated, &b, value, delta, 0x2545F4914F6CDD1DULL + (uint64_t)nx, work, &c);
+        res->check_iterations += c.steps;
+        res->roots = nx;
+        double lower = two_by_two_lowest(b.a_min, b.rnorm, c.mu);
+        lam_progress("%s%scheck with %d root%s, %d Lanczos steps: %s (value %.9f, next %.9f, "
+                     "rest certain beyond %.6f Eh)",
+                     p->label ? p->label : "", p->label ? ": " : "", nx, nx > 1 ? "s" : "", c.steps,
+                     st == CHECK_CERTIFIED ? "extreme" : st == CHECK_ROOT ? "another root" : "budget spent",
+                     op->sign * value, op->sign * c.theta, op->sign * c.mu);
+        if (nx > 1) {
+            /* the best vector is now a combination of the roots */
+            res->value = op->sign * value;
+            res->residual = b.rnorm;
+            res->converged = b.rnorm <= p->tol;
+            memset(x1, 0, dim * sizeof(double));
+            for (int i = 0; i < nx; ++i) cblas_daxpy((int)dim, b.y[i], X + (size_t)i * dim, 1, x1, 1);
+        }
+        if (st == CHECK_CERTIFIED) {
+            res->extreme = 1;
+            res->other = op->sign * lower;
+            break;
+        }
+        if (st != CHECK_ROOT || nx >= max_roots) break;
+        /* the next root from a random start on the complement: from the
+         * best diagonal element, Davidson settles near it, which is how
+         * the root the check saw can be missed again */
+        lam_eigen_result r2;
+        deflated.nx = nx;
+        uint64_t state = 0x853C49E6748FEA9BULL + (uint64_t)nx;
+        double *start = work + 4 * dim;
+        for (size_t i = 0; i < dim; ++i) start[i] = normal_deviate(&state);
+        solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim, start);
+        res->iterations += r2.iterations;
+        project_out(dim, X, nx, X + (size_t)nx * dim);
+        double nrm = cblas_dnrm2((int)dim, X + (size_t)nx * dim, 1);
+        if (!(nrm > 1e-8)) break;
+        cblas_dscal((int)dim, 1.0 / nrm, X + (size_t)nx * dim, 1);
+        ++nx;
+    }
+    free(X);
+    free(work);
+}
+
 void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res, double *vec)
 {
     memset(res, 0, sizeof *res);
-    signed_op op = {p, p->highest ? -1.0 : 1.0};
+    res->other = NAN;
+    signed_op op = {p, p->highest ? -1.0 : 1.0, NULL, 0, NULL, 0};
     if (p->dim == 0) lam_fail(LAM_EX_SOFTWARE, "eigenvalue problem of dimension 0");
-    if (p->dim <= p->dense_limit)
+    if (p->dim <= p->dense_limit) {
         solve_dense(p, &op, res, vec);
-    else
-        solve_davidson(p, &op, res, vec);
+        return;
+    }
+    double *x = lam_malloc(lam_mul_size(p->dim, sizeof(double)));
+    solve_davidson(p, &op, res, x, NULL);
+    if (p->check_steps > 0 && p->dim > 1) certify_extreme(p, &op, res, x);
+    if (vec) memcpy(vec, x, p->dim * sizeof(double));
+    free(x);
 }
 
 void lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo, lam_eigen_result *hi)

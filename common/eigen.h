@@ -13,6 +13,24 @@
  * The result carries a certificate: the value is a Rayleigh quotient, so
  * it is never below the lowest eigenvalue (never above the highest); the
  * residual r = A x - value x says an eigenvalue lies within |r| of it.
+ *
+ * That the value is the EXTREME eigenvalue is a separate claim
+ * (res->extreme).  Dense problems have it from the whole spectrum.  For
+ * Davidson, a check bounds the rest of the spectrum: with X the Ritz
+ * vectors found (orthonormal columns), A = X^T H X, R = H X - X A, and mu a
+ * lower bound on H restricted to the complement of X,
+ *     lambda_min >= lowest eigenvalue of [[a_min, |R|], [|R|, mu]]
+ * (H dominates that block matrix; Kato-Temple in block form).  mu comes
+ * from Lanczos on the deflated operator from a random start, lowered by
+ * the bound of Kuczynski and Wozniakowski (SIAM J. Matrix Anal. Appl. 13,
+ * 1094 (1992); from memory): after k steps from a start uniform on the
+ * sphere, P(theta_k - lambda >= eps S) <= 1.648 sqrt(n) exp(-sqrt(eps)
+ * (2k - 1)), S the spectral spread.  The value is certified extreme when
+ * value - lower <= tol, with failure probability at most
+ * LAM_EIGEN_FAILURE over the random start (a seeded generator standing in
+ * for a uniform draw independent of the operator).  Roots the check meets
+ * (degenerate or missed ones) are solved by Davidson on the complement and
+ * added to X, up to max_roots.
  */
 #ifndef LAM_EIGEN_H
 #define LAM_EIGEN_H
@@ -33,19 +51,36 @@ typedef struct {
     int highest;          /* 1: the highest eigenvalue, 0: the lowest */
     size_t dense_limit;   /* solve densely up to this dimension */
     const char *label;    /* progress label, may be NULL */
+    double spread;        /* upper bound on lambda_max - lambda_min (0: none) */
+    int check_steps;      /* Lanczos steps of the extremality check per
+                             root (0: no check, Davidson values stay bounds) */
+    int max_roots;        /* Ritz vectors the check may collect (default 4) */
 } lam_eigen_problem;
+
+/* Failure probability allowed to the randomized extremality check of one
+ * value. */
+#define LAM_EIGEN_FAILURE 1e-6
 
 typedef struct {
     double value;     /* Rayleigh quotient of the final vector */
     double residual;  /* |A x - value x| for unit x */
     int iterations;   /* operator applications */
     int converged;    /* residual <= tol */
+    int extreme;      /* certified: value - (the extreme eigenvalue) <= tol
+                         (dense: whole spectrum; else the check above) */
+    double other;     /* the certified far side: lowest >= other (highest
+                         <= other); NAN without a certificate */
+    int roots;        /* Ritz vectors used by the check */
+    int check_iterations; /* operator applications of the check */
 } lam_eigen_result;
 
-/* Fill defaults: tol 1e-9, max_iter 400, max_subspace 8, dense_limit 300. */
+/* Fill defaults: tol 1e-9, max_iter 400, max_subspace 8, dense_limit 300,
+ * check_steps 0, max_roots 4. */
 void lam_eigen_defaults(lam_eigen_problem *p);
 /* Bytes of working storage (beyond the diagonal) the solver allocates:
- * 2 max_subspace + 4 vectors, or the dense matrix. */
+ * 2 max_subspace + 4 vectors and the check's (LAM_EIGEN_CHECK_VECTORS),
+ * or the dense matrix. */
+#define LAM_EIGEN_CHECK_VECTORS 10
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit);
 /* Solve; vec (may be NULL) receives the final unit vector. */
 void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res,

@@ -5,6 +5,7 @@
 
 #include <limits.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/mman.h>
@@ -884,19 +885,22 @@ static uint64_t *alloc_slots(size_t size)
     return slot;
 }
 
+/* The key table's fingerprint is the low 24 bits of the hash, apart from
+ * the top bits that choose the slot: keys that meet at one slot then
+ * still differ in their fingerprints, and a probe that misses rarely reads
+ * a key. */
+#define KEY_FP(h) ((h) & ((UINT64_C(1) << (64 - SLOT_INDEX_BITS)) - 1))
+
+/* Rehash from the keys, in the order of the entries (the arena is read
+ * from start to end). */
 static void key_table_resize(key_table *kt, size_t size)
 {
     uint64_t *slot = alloc_slots(size);
-    for (size_t i = 0; i < kt->size; ++i) {
-        uint64_t e = kt->slot[i];
-        if (!e) continue;
-        size_t k = (size_t)(e & SLOT_INDEX_MASK) - 1;
-        uint64_t hv = size <= ((size_t)1 << (64 - SLOT_INDEX_BITS))
-                          ? e & ~SLOT_INDEX_MASK
-                          : key_hash(kt->arena + kt->off[k], kt->off[k + 1] - kt->off[k]);
+    for (size_t k = 0; k < kt->count; ++k) {
+        uint64_t hv = key_hash(kt->arena + kt->off[k], kt->off[k + 1] - kt->off[k]);
         size_t j = slot_of(hv, size);
         while (slot[j]) j = (j + 1) & (size - 1);
-        slot[j] = e;
+        slot[j] = (KEY_FP(hv) << SLOT_INDEX_BITS) | (uint64_t)(k + 1);
     }
     free(kt->slot);
     kt->slot = slot;
@@ -926,13 +930,15 @@ static inline void key_table_prefetch(const key_table *kt, uint64_t hv)
     __builtin_prefetch(&kt->slot[slot_of(hv, kt->size)]);
 }
 
-/* Add c to the key at arena + at (at >= arena_len, not yet committed): a
- * new entry, moved down to the arena's end, or the sum of an equal one. */
-static void key_table_add(key_table *kt, size_t at, size_t len, uint64_t hv, double c)
+/* Room for len more bytes from arena + at on. */
+static void key_table_room(key_table *kt, size_t at, size_t len);
+
+/* Add c to the key (len bytes at key, outside the table): a new entry,
+ * copied to the arena's end, or the sum of an equal one. */
+static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t hv, double c)
 {
     if (key_table_full(kt, kt->count + 1)) key_table_reserve(kt, kt->count + 1);
-    const uint8_t *key = kt->arena + at;
-    uint64_t fp = SLOT_FP(hv);
+    uint64_t fp = KEY_FP(hv);
     size_t i = slot_of(hv, kt->size), mask = kt->size - 1;
     for (;; i = (i + 1) & mask) {
         uint64_t e = kt->slot[i];
@@ -946,14 +952,14 @@ static void key_table_add(key_table *kt, size_t at, size_t len, uint64_t hv, dou
     }
     if (kt->count + 1 >= kt->cap) key_table_reserve_entries(kt, 2 * kt->cap);
     if (kt->count + 1 >= SLOT_INDEX_MASK) lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
+    key_table_room(kt, kt->arena_len, len);
     kt->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(kt->count + 1);
     kt->coef[kt->count] = c;
-    if (at != kt->arena_len) memmove(kt->arena + kt->arena_len, key, len);
+    memcpy(kt->arena + kt->arena_len, key, len);
     kt->arena_len += len;
     kt->off[++kt->count] = kt->arena_len;
 }
 
-/* Room for len more bytes from arena + at on. */
 static void key_table_room(key_table *kt, size_t at, size_t len)
 {
     if (at + len <= kt->arena_cap) return;
@@ -997,7 +1003,7 @@ static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *
     char *p = text;
     while (*p == ' ' || *p == '\t') ++p;
     char *tok = p;
-    while (*p && *p != ' ' && *p != '\t') ++p;
+    p += strcspn(p, " \t"); /* glibc's vector scan: a coefficient is ~20 bytes */
     char save = *p;
     *p = '\0';
     int bad = lam_reader_coefficient(tok, coef);
@@ -1046,39 +1052,138 @@ static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *
     }
 }
 
-/* Keys of a batch of lines wait in the arena past its end while their
- * slots are prefetched: the look-ups are cache misses, and overlapping
- * them is most of the speed. */
+/* Merging runs as a pipeline of two threads once the input is large: the
+ * reading thread parses lines into encoded keys with their hashes, a
+ * chunk at a time, and a merging thread hashes them and adds whole chunks
+ * to the table (its look-ups are cache misses).  The
+ * chunks are added in the order of the input by the one merging thread,
+ * so every sum is formed in the order of the lines, whatever the timing:
+ * the result is the same as with one thread, bit for bit. */
 typedef struct {
     size_t at, len;
-    uint64_t hash;
     double coef;
 } pending_key;
 
-static void add_batch(key_table *kt, pending_key *batch, size_t n)
+enum { CHUNK_KEYS = 1 << 14 };
+
+typedef struct {
+    pending_key *keys;
+    size_t n;
+    uint8_t *bytes;
+    size_t len, cap;
+    size_t expect; /* distinct keys expected in all, 0 when unknown */
+    double per_key; /* key bytes per line so far */
+} key_chunk;
+
+typedef struct {
+    pthread_mutex_t mu;
+    pthread_cond_t cv;
+    key_chunk chunk[2];
+    int full[2]; /* handed over, not yet added */
+    int done;    /* no chunk will follow */
+    key_table *kt;
+} merge_pipe;
+
+/* Size the table for the expected keys, then add the chunk's keys a batch
+ * at a time, their slots prefetched first so that the misses overlap. */
+static void add_chunk(key_table *kt, const key_chunk *ch)
 {
-    for (size_t i = 0; i < n; ++i) key_table_prefetch(kt, batch[i].hash);
-    for (size_t i = 0; i < n; ++i)
-        key_table_add(kt, batch[i].at, batch[i].len, batch[i].hash, batch[i].coef);
+    enum { BATCH = 32 };
+    if (ch->expect) {
+        key_table_reserve(kt, ch->expect);
+        key_table_reserve_entries(kt, ch->expect);
+        key_table_room(kt, kt->arena_len, (size_t)((double)ch->expect * ch->per_key) + 4096);
+    }
+    for (size_t b = 0; b < ch->n; b += BATCH) {
+        size_t e = b + BATCH < ch->n ? b + BATCH : ch->n;
+        uint64_t hash[BATCH];
+        for (size_t i = b; i < e; ++i) {
+            hash[i - b] = key_hash(ch->bytes + ch->keys[i].at, ch->keys[i].len);
+            key_table_prefetch(kt, hash[i - b]);
+        }
+        for (size_t i = b; i < e; ++i) {
+            const pending_key *pk = &ch->keys[i];
+            key_table_add(kt, ch->bytes + pk->at, pk->len, hash[i - b], pk->coef);
+        }
+    }
+}
+
+static void *merge_thread(void *arg)
+{
+    merge_pipe *mp = arg;
+    for (int k = 0;; k ^= 1) {
+        pthread_mutex_lock(&mp->mu);
+        while (!mp->full[k] && !mp->done) pthread_cond_wait(&mp->cv, &mp->mu);
+        int have = mp->full[k];
+        pthread_mutex_unlock(&mp->mu);
+        if (!have) return NULL;
+        add_chunk(mp->kt, &mp->chunk[k]);
+        pthread_mutex_lock(&mp->mu);
+        mp->full[k] = 0;
+        pthread_cond_broadcast(&mp->cv);
+        pthread_mutex_unlock(&mp->mu);
+    }
+}
+
+/* Hand chunk k to the merging thread and wait until chunk k^1 is free. */
+static void pipe_hand_over(merge_pipe *mp, int k)
+{
+    pthread_mutex_lock(&mp->mu);
+    mp->full[k] = 1;
+    pthread_cond_broadcast(&mp->cv);
+    while (mp->full[k ^ 1]) pthread_cond_wait(&mp->cv, &mp->mu);
+    pthread_mutex_unlock(&mp->mu);
+}
+
+static void pipe_finish(merge_pipe *mp, pthread_t th)
+{
+    pthread_mutex_lock(&mp->mu);
+    mp->done = 1;
+    pthread_cond_broadcast(&mp->cv);
+    pthread_mutex_unlock(&mp->mu);
+    pthread_join(th, NULL);
 }
 
 /* Expected distinct keys, from the bytes a line took so far and the bytes
- * left in the file (plain files only). */
-static void presize(lam_reader *r, key_table *kt, size_t lines)
+ * left in the file (plain files only); 0 when unknown. */
+static size_t expected_keys(lam_reader *r, size_t lines)
 {
     long long left = lam_reader_bytes_left(r), done = lam_reader_bytes_read(r);
-    if (left < 0 || done <= 0 || lines == 0) return;
+    if (left < 0 || done <= 0 || lines == 0) return 0;
     double expect = 1.05 * ((double)lines + (double)left * (double)lines / (double)done);
-    if (expect >= 1e10) return;
-    key_table_reserve(kt, (size_t)expect);
-    key_table_reserve_entries(kt, (size_t)expect);
-    double per_key = (double)kt->arena_len / (double)(kt->count ? kt->count : 1);
-    key_table_room(kt, kt->arena_len, (size_t)(expect * per_key) + 4096);
+    return expect < 1e10 ? (size_t)expect : 0;
+}
+
+/* Sum the merged table in the order of first appearance. */
+static void summarize_table(const key_table *kt, lam_pauli_summary *out)
+{
+    label_norms labels = {0};
+    for (size_t t = 0; t < kt->count; ++t) {
+        double c = kt->coef[t];
+        if (c == 0) continue;
+        ++out->terms;
+        int32_t group;
+        int weight = key_weight(kt->arena + kt->off[t], kt->off[t + 1] - kt->off[t], &group);
+        if (weight == 0) {
+            out->constant += c;
+            continue;
+        }
+        out->lambda += fabs(c);
+        if (weight > out->max_weight) out->max_weight = weight;
+        if (group < 0) {
+            out->lambda_grouped += fabs(c);
+        } else {
+            out->labelled = 1;
+            label_norms_add(&labels, group, c);
+        }
+    }
+    out->groups = labels.count;
+    out->lambda_grouped += label_norms_total(&labels);
 }
 
 void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
 {
-    enum { BATCH = 32, SIZE_AFTER = 4096 };
+    enum { SIZE_AFTER = 4096 };
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
     uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
@@ -1086,8 +1191,13 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
     key_table_reserve_entries(&kt, 1);
     kt.off[0] = 0;
     key_table_reserve(&kt, 1);
-    pending_key batch[BATCH];
-    size_t nbatch = 0, lines = 0, next_at = 0;
+    merge_pipe mp;
+    memset(&mp, 0, sizeof mp);
+    mp.kt = &kt;
+    for (int k = 0; k < 2; ++k) mp.chunk[k].keys = lam_malloc(CHUNK_KEYS * sizeof(pending_key));
+    pthread_t th;
+    int threaded = 0, cur = 0;
+    size_t lines = 0;
     memset(out, 0, sizeof *out);
     lam_line ln;
     char *text;
@@ -1113,47 +1223,45 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
                 if (top > out->nqubits) out->nqubits = top;
                 break;
             }
+        key_chunk *ch = &mp.chunk[cur];
         /* at most 4 varint bytes a qubit (indices below 2^24), the label */
-        if (nbatch == 0) next_at = kt.arena_len;
         size_t most = nw <= 4 ? 256 * (size_t)nw : (size_t)lam_pauli_weight(nw, xz, xz + nw);
-        key_table_room(&kt, next_at, 4 * most + 8);
-        pending_key *pk = &batch[nbatch++];
-        pk->at = next_at;
-        pk->len = encode_key(kt.arena + next_at, nw, xz, xz + nw, group);
-        pk->hash = key_hash(kt.arena + next_at, pk->len);
+        size_t room = 4 * most + 8;
+        if (ch->len + room > ch->cap) {
+            size_t cap = ch->cap ? ch->cap : (size_t)1 << 16;
+            while (cap < ch->len + room) cap = lam_mul_size(cap, 2);
+            ch->bytes = lam_realloc(ch->bytes, cap);
+            ch->cap = cap;
+        }
+        pending_key *pk = &ch->keys[ch->n++];
+        pk->at = ch->len;
+        pk->len = encode_key(ch->bytes + ch->len, nw, xz, xz + nw, group);
         pk->coef = coef;
-        next_at += pk->len;
-        if (nbatch == BATCH) {
-            add_batch(&kt, batch, nbatch);
-            nbatch = 0;
+        ch->len += pk->len;
+        if (++lines == SIZE_AFTER) {
+            ch->expect = expected_keys(r, lines);
+            ch->per_key = (double)ch->len / (double)ch->n;
         }
-        if (++lines == SIZE_AFTER) presize(r, &kt, lines);
-    }
-    add_batch(&kt, batch, nbatch);
-    label_norms labels = {0};
-    for (size_t t = 0; t < kt.count; ++t) {
-        double c = kt.coef[t];
-        if (c == 0) continue;
-        ++out->terms;
-        int32_t group;
-        int weight = key_weight(kt.arena + kt.off[t], kt.off[t + 1] - kt.off[t], &group);
-        if (weight == 0) {
-            out->constant += c;
-            continue;
-        }
-        out->lambda += fabs(c);
-        if (weight > out->max_weight) out->max_weight = weight;
-        if (group < 0) {
-            out->lambda_grouped += fabs(c);
+        if (ch->n < CHUNK_KEYS) continue;
+        if (!threaded) threaded = pthread_create(&th, NULL, merge_thread, &mp) == 0;
+        if (threaded) {
+            pipe_hand_over(&mp, cur);
+            cur ^= 1;
         } else {
-            out->labelled = 1;
-            label_norms_add(&labels, group, c);
+            add_chunk(&kt, ch);
         }
+        ch = &mp.chunk[cur];
+        ch->n = ch->len = ch->expect = 0;
     }
-    out->groups = labels.count;
-    out->lambda_grouped += label_norms_total(&labels);
+    if (threaded) pipe_finish(&mp, th);
+    add_chunk(&kt, &mp.chunk[cur]);
+    summarize_table(&kt, out);
     if (declared >= 0) out->nqubits = (int)declared;
     key_table_free(&kt);
+    for (int k = 0; k < 2; ++k) {
+        free(mp.chunk[k].keys);
+        free(mp.chunk[k].bytes);
+    }
     free(xz);
 }
 

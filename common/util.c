@@ -141,9 +141,9 @@ static int parse_double_strtod(const char *tok, size_t n, double *out)
 /* Fast path: with at most 19 significant digits the mantissa m is exact in
  * x87 extended precision (64-bit significand), and so is 10^k for k <= 27,
  * so m * 10^k or m / 10^k is one correctly rounded extended operation.
- * Rounding that to double is then correct unless the extended result lies
- * within one extended ulp of a midpoint between two doubles; such rare
- * cases, and everything outside the fast range, go to strtod. */
+ * Rounding that to double is then correct unless the extended result is
+ * itself a midpoint between two doubles; such rare cases, and everything
+ * outside the fast range, go to strtod. */
 static int parse_double_fast(int negative, uint64_t m, int e10, double *out)
 {
 #if defined(__LDBL_MANT_DIG__) && __LDBL_MANT_DIG__ == 64
@@ -162,15 +162,13 @@ static int parse_double_fast(int negative, uint64_t m, int e10, double *out)
     memcpy(&bits, &d, sizeof bits);
     uint64_t exponent = bits >> 52;
     if (exponent <= 53 || exponent >= 0x7ff) return -1; /* tiny, subnormal or inf */
-    /* the double spacing on v's side of d: 2^(e-52), halved below a power
-     * of two */
-    uint64_t ulp_bits = (exponent - 52) << 52;
-    if ((bits & ((UINT64_C(1) << 52) - 1)) == 0 && v < (long double)d) ulp_bits -= UINT64_C(1) << 52;
-    double ulp_d;
-    memcpy(&ulp_d, &ulp_bits, sizeof ulp_d);
-    long double ulp = ulp_d;
-    long double off = fabsl(v - (long double)d);
-    if (fabsl(off - ulp / 2) <= ulp * 0x1p-10L) return -1;
+    /* v is the exact value rounded once to 64 bits; rounding v to 53 bits
+     * rounds the exact value the same way unless v is itself a midpoint
+     * (its 11 dropped bits are 10000000000): a midpoint nearer to the
+     * exact value than v would be a 64-bit number between them */
+    uint64_t significand;
+    memcpy(&significand, &v, sizeof significand); /* x87: the low 8 bytes */
+    if ((significand & 0x7ff) == 0x400) return -1;
     *out = negative ? -d : d;
     return 0;
 #else
@@ -182,9 +180,26 @@ static int parse_double_fast(int negative, uint64_t m, int e10, double *out)
 int lam_parse_double(const char *tok, double *out)
 {
     const char *c = tok;
-    int negative = 0, digits = 0, significant = 0, e10 = 0;
-    uint64_t m = 0;
+    int negative = 0;
     if (*c == '+' || *c == '-') negative = *c++ == '-';
+    /* the common form first: at most 19 digits in all (leading zeros add
+     * nothing to m), a point, no exponent */
+    uint64_t m = 0;
+    const char *first = c;
+    for (; (unsigned)(*c - '0') < 10; ++c) m = 10 * m + (uint64_t)(*c - '0');
+    int whole = (int)(c - first), fraction = 0;
+    if (*c == '.') {
+        const char *point = ++c;
+        for (; (unsigned)(*c - '0') < 10; ++c) m = 10 * m + (uint64_t)(*c - '0');
+        fraction = (int)(c - point);
+    }
+    if (*c == '\0' && whole + fraction > 0 && whole + fraction <= 19 &&
+        parse_double_fast(negative, m, -fraction, out) == 0)
+        return 0;
+    /* any other form: significant digits counted, the exponent read */
+    int digits = 0, significant = 0, e10 = 0;
+    m = 0;
+    c = first;
     for (; *c >= '0' && *c <= '9'; ++c, ++digits) {
         if (significant || *c != '0') {
             if (significant < 19) m = 10 * m + (uint64_t)(*c - '0');

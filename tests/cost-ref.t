@@ -15,10 +15,11 @@ import math
 import os
 import sys
 
-import numpy as np
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
 import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
+import numpy as np  # noqa: E402
 import molecules  # noqa: E402
 
 t = lamtest.Tap()

@@ -20,10 +20,11 @@ import os
 import subprocess
 import sys
 
-import numpy as np
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
 import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
+import numpy as np  # noqa: E402
 import molecules  # noqa: E402
 import refops  # noqa: E402
 

@@ -26,6 +26,7 @@ import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
 import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
 import molecules  # noqa: E402
 import refops  # noqa: E402
 import numpy as np  # noqa: E402

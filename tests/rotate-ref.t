@@ -27,11 +27,12 @@ import sys
 import tempfile
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
+import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
 import numpy as np
 import scipy.linalg
 import scipy.optimize
 
-import lamtest
 import molecules
 import refops
 
@@ -40,33 +41,6 @@ MOLECULES = os.environ.get("ROTATE_REF_MOLECULES", "h2 h3plus h4chain lih hf h2o
 DENSE = {"h2", "h3plus", "h4chain", "lih", "hf"}
 SCIPY = {"h4chain", "lih", "h2o"}
 TMP = tempfile.mkdtemp()
-
-
-def read_spinfree(text):
-    """(n, e0, h, g) of a spinfree stream ('c p q r s' is c e_pqrs, spread
-    as 1/2 (g_pqrs + g_rspq))."""
-    n = None
-    h = g = None
-    e0 = 0.0
-    rows = []
-    for line in text.splitlines():
-        if line.startswith("#% orbitals:"):
-            n = int(line.split(":")[1])
-        if not line.strip() or line.startswith("#"):
-            continue
-        f = line.split()
-        rows.append((float(f[0]), [int(x) for x in f[1:]]))
-    h, g = np.zeros((n, n)), np.zeros((n,) * 4)
-    for c, idx in rows:
-        if not idx:
-            e0 += c
-        elif len(idx) == 2:
-            h[idx[0], idx[1]] += c
-        else:
-            p, q, r, s = idx
-            g[p, q, r, s] += c
-            g[r, s, p, q] += c
-    return n, e0, h, g
 
 
 def rotate(h, g, u):
@@ -176,7 +150,7 @@ for name in MOLECULES:
     tap.ok(rc == 0, "%s: lam-rotate exits 0" % name, err)
     r = lamtest.report(open(rep).read())
     u = np.loadtxt(mat, ndmin=2)
-    n2, e02, h2, g2 = read_spinfree(out)
+    n2, e02, h2, g2 = refops.read_spinfree(out)
     hr, gr = rotate(h, g, u)
     tap.near(max(np.abs(hr - h2).max(), np.abs(gr - g2).max()), 0, 1e-10,
              "%s: integrals = numpy's U^T h U and four-index einsum with --matrix" % name)
@@ -208,7 +182,7 @@ for name in MOLECULES:
     ref_val, _ = er_jacobi(g)
     tap.near(mine, ref_val, 1e-7 * max(1, abs(ref_val)),
              "%s: sum (ii|ii) at the E-R optimum = numpy Jacobi sweeps (%.9f)" % (name, ref_val))
-    _, _, _, ger = read_spinfree(er_out)
+    _, _, _, ger = refops.read_spinfree(er_out)
     tap.near(float(np.einsum("iiii->", ger)), mine, 1e-10, "%s: objective_after = sum (ii|ii) of the output" % name)
     tap.ok(best_pair_gain(ger) <= 1e-8, "%s: no pair rotation improves the E-R optimum" % name)
     if name in SCIPY:

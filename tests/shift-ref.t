@@ -18,11 +18,12 @@ import tempfile
 import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
+import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
 import numpy as np
 import scipy.sparse as sp
 from scipy.optimize import linprog
 
-import lamtest
 import molecules
 import refops
 
@@ -31,31 +32,6 @@ MOLECULES = os.environ.get("SHIFT_REF_MOLECULES", "h2 h3plus h4chain lih h2o").s
 
 
 # ---- streams -------------------------------------------------------------
-
-def read_spinfree(text):
-    """(n, e0, h, g) of a spinfree stream: 'c p q r s' is c e_pqrs, spread
-    as 1/2 (g_pqrs + g_rspq) so that H = e0 + h E + 1/2 g e."""
-    n = None
-    terms = []
-    for line in text.splitlines():
-        if line.startswith("#% orbitals:"):
-            n = int(line.split(":")[1])
-        if not line.strip() or line.startswith("#"):
-            continue
-        f = line.split()
-        terms.append((float(f[0]), [int(x) for x in f[1:]]))
-    h, g, e0 = np.zeros((n, n)), np.zeros((n,) * 4), 0.0
-    for c, idx in terms:
-        if not idx:
-            e0 += c
-        elif len(idx) == 2:
-            h[idx[0], idx[1]] += c
-        else:
-            p, q, r, s = idx
-            g[p, q, r, s] += c
-            g[r, s, p, q] += c
-    return n, e0, h, g
-
 
 def fermion_stream(nmodes, terms):
     lines = ["#% lamina-op 2", "#% kind: fermion", "#% modes: " + str(nmodes)]
@@ -222,9 +198,9 @@ for name in MOLECULES:
     # the N block, dense
     sectors = sector_index(2 * norb)
     H = spinfree_matrix(norb, e0, h, g)
-    HK = spinfree_matrix(*read_spinfree(shifted))
+    HK = spinfree_matrix(*refops.read_spinfree(shifted))
     rc, kstream, err = lamtest.run("lam-shift", ["--quiet", "--emit-shift"], stdin=hstream)
-    K = spinfree_matrix(*read_spinfree(kstream))
+    K = spinfree_matrix(*refops.read_spinfree(kstream))
     nb = sectors[nelec]
     kmax = abs(K[nb][:, nb]).max() if K[nb][:, nb].nnz else 0.0
     tap.ok(kmax <= 1e-10, "%s: K is zero on the %d-electron block (max %.2g)" % (name, nelec, kmax))

@@ -277,3 +277,28 @@ def koridon_lambda(h, g):
                 for s in range(q):
                     lam += 0.5 * abs(anti[p, q, r, s])
     return lam
+
+
+def read_spinfree(text):
+    """(n, e0, h, g) of a spinfree stream: 'c p q r s' is c e_pqrs, spread
+    as 1/2 (g_pqrs + g_rspq) so that H = e0 + h E + 1/2 g e."""
+    n = None
+    terms = []
+    for line in text.splitlines():
+        if line.startswith("#% orbitals:"):
+            n = int(line.split(":")[1])
+        if not line.strip() or line.startswith("#"):
+            continue
+        f = line.split()
+        terms.append((float(f[0]), [int(x) for x in f[1:]]))
+    h, g, e0 = np.zeros((n, n)), np.zeros((n,) * 4), 0.0
+    for c, idx in terms:
+        if not idx:
+            e0 += c
+        elif len(idx) == 2:
+            h[idx[0], idx[1]] += c
+        else:
+            p, q, r, s = idx
+            g[p, q, r, s] += c
+            g[r, s, p, q] += c
+    return n, e0, h, g

@@ -215,7 +215,8 @@ int main(void)
         lam_eigen_extreme(&p, &dense, NULL);
         p.dense_limit = 0;
         lam_eigen_extreme(&p, &dav, NULL);
-        tap_ok(dav.converged && dav.residual <= 1e-9, hi ? "Davidson top converged" : "Davidson bottom converged");
+        /* stopped at |r| <= 1e-9 or once |r|^2/gap <= 1e-11 */
+        tap_ok(dav.converged && dav.residual <= 1e-5, hi ? "Davidson top converged" : "Davidson bottom converged");
         tap_near(dav.value, dense.value, 1e-10, hi ? "Davidson top = dense top" : "Davidson bottom = dense bottom");
     }
     free(diag);

@@ -9,36 +9,15 @@
 
 #include "rotate.h"
 #include "tap.h"
+#include "testops.h"
 
 static unsigned long long rng_state = 0x243F6A8885A308D3ULL;
-static double uniform(void)
-{
-    rng_state ^= rng_state << 13;
-    rng_state ^= rng_state >> 7;
-    rng_state ^= rng_state << 17;
-    return (double)(rng_state >> 11) / 9007199254740992.0 * 2 - 1;
-}
+static double uniform(void) { return test_uniform(&rng_state); }
 
 /* Random operator with the 8-fold symmetry of real integrals. */
 static lam_spinfree *random_operator(int n)
 {
-    lam_spinfree *h = lam_spinfree_new(n);
-    h->electrons = n;
-    h->e0 = uniform();
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q <= p; ++q) LAM_H(h, p, q) = LAM_H(h, q, p) = uniform();
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q <= p; ++q)
-            for (int r = 0; r < n; ++r)
-                for (int s = 0; s <= r; ++s) {
-                    if (r * n + s > p * n + q) continue;
-                    double v = 0.3 * uniform();
-                    int idx[8][4] = {{p, q, r, s}, {q, p, r, s}, {p, q, s, r}, {q, p, s, r},
-                                     {r, s, p, q}, {s, r, p, q}, {r, s, q, p}, {s, r, q, p}};
-                    for (int i = 0; i < 8; ++i)
-                        LAM_G(h, idx[i][0], idx[i][1], idx[i][2], idx[i][3]) = v;
-                }
-    return h;
+    return test_random_real_operator(n, n, &rng_state);
 }
 
 static void random_antisymmetric(int n, double scale, double *k)

@@ -1,0 +1,108 @@
+#!/usr/bin/python3
+"""lam-range --bounds (selected CI) against references.
+
+- Variational principle (common practice): a Rayleigh quotient is never
+  below the lowest eigenvalue nor above the highest.  The exact extremes
+  of a 10-orbital hydrogen chain come from lam-range's own determinant CI
+  (full CI, certified by residuals).
+- psi4 (Debian package): the CISD energy of a 20-atom hydrogen chain in
+  STO-3G from psi4's own orbitals, with psi4's FCIDUMP of the same
+  orbitals as the input.  CISD is variational, and selected CI with enough
+  determinants goes below it (Holmes, Tubman and Umrigar, J. Chem. Theory
+  Comput. 12, 3674 (2016), from memory: heat-bath CI converges towards full
+  CI from above).
+"""
+import json
+import os
+import subprocess
+import sys
+import tempfile
+
+sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
+import lamtest  # noqa: E402
+lamtest.require_references("numpy", "scipy", "psi4")
+import molecules  # noqa: E402
+
+tap = lamtest.Tap()
+CACHE = os.path.join(lamtest.ROOT, "build", "testdata", "sci-v1")
+
+PSI4_CISD = r'''
+import json, sys
+import psi4
+n, r, fcidump_path, json_path = int(sys.argv[1]), float(sys.argv[2]), sys.argv[3], sys.argv[4]
+psi4.set_output_file(json_path + ".out", False)
+psi4.set_memory("1 GB")
+geom = "\n".join("H 0 0 %.6f" % (i * r) for i in range(n))
+psi4.geometry("0 1\n%s\nsymmetry c1\nno_reorient\nno_com\n" % geom)
+psi4.set_options({"basis": "sto-3g", "scf_type": "pk", "e_convergence": 1e-10,
+                  "d_convergence": 1e-8, "ci_maxiter": 60})
+e_scf, wfn = psi4.energy("scf", return_wfn=True)
+from psi4.driver.p4util.fcidump import fcidump
+fcidump(wfn, fcidump_path)
+e_cisd = psi4.energy("cisd")
+json.dump({"scf": e_scf, "cisd": e_cisd, "nmo": wfn.nmo()}, open(json_path, "w"))
+'''
+
+
+def psi4_chain(n, r):
+    """(fcidump path, {"scf", "cisd", "nmo"}) of an n-atom chain, cached."""
+    os.makedirs(CACHE, exist_ok=True)
+    base = os.path.join(CACHE, "h%d-%.2f" % (n, r))
+    if not (os.path.exists(base + ".fcidump") and os.path.exists(base + ".json")):
+        tmp = tempfile.mkdtemp(dir=CACHE)
+        tf, tj = os.path.join(tmp, "f"), os.path.join(tmp, "j")
+        cmd, env = molecules.psi4_python()
+        subprocess.run(cmd + ["-c", PSI4_CISD, str(n), str(r), tf, tj], check=True, env=env,
+                       cwd=tmp, stdout=subprocess.DEVNULL)
+        os.replace(tf, base + ".fcidump")
+        os.replace(tj, base + ".json")
+    with open(base + ".json") as f:
+        return base + ".fcidump", json.load(f)
+
+
+def lam_range(op, *args):
+    rc, out, err = lamtest.run("lam-range", ["--quiet"] + list(args), stdin=op)
+    if not tap.ok(rc == 0, "lam-range %s ran" % " ".join(args), err):
+        return {}
+    return lamtest.report(out)
+
+
+def num(rep, key):
+    try:
+        return float(rep[key])
+    except (KeyError, ValueError):
+        return None
+
+
+# ---- 10 orbitals: bounds on the right side of full CI, close to it ----
+xyz = "10\nH10 chain\n" + "".join("H 0 0 %.1f\n" % i for i in range(10))
+op = lamtest.pipe(("lam-scf", []), ("lam-ints", []), stdin=xyz)
+exact = lam_range(op, "--sector", "5,5")
+bound = lam_range(op, "--sector", "5,5", "--bounds=always", "--bound-subspace", "20000")
+emin, emax = num(exact, "sector_min"), num(exact, "sector_max")
+bmin, bmax = num(bound, "sector_min"), num(bound, "sector_max")
+tap.ok(exact.get("status") == "exact", "H10 (5,5): full CI certified")
+tap.ok(bound.get("status") == "bound", "H10 (5,5): --bounds says status bound")
+if None not in (emin, emax, bmin, bmax):
+    tap.ok(bmin >= emin - 1e-10, "H10 lowest bound %.8f >= full CI %.8f" % (bmin, emin))
+    tap.ok(bmax <= emax + 1e-10, "H10 highest bound %.8f <= full CI %.8f" % (bmax, emax))
+    ratio = (bmax - bmin) / (emax - emin)
+    # measured 0.9974 at 20000 of 63504 determinants
+    tap.ok(ratio >= 0.995, "H10 inner half range within 0.5%% of full CI (%.5f)" % ratio)
+    tap.near(bmin, emin, 1e-4, "H10 lowest within 0.1 mEh of full CI")
+    est = num(bound, "sci.estimate_min")
+    tap.ok(est is not None and abs(est - emin) < abs(bmin - emin) + 1e-6,
+           "H10: the second-order estimate is closer to full CI than the bound")
+else:
+    tap.ok(False, "H10: values present", repr((exact, bound)))
+
+# ---- 20 orbitals: at or below psi4's CISD of the same orbitals ----
+fcid, ref = psi4_chain(20, 1.0)
+op20 = lamtest.pipe(("lam-ints", [fcid]))
+sci = lam_range(op20, "--sector", "10,10", "--lowest", "--bounds=always", "--bound-subspace", "20000")
+low = num(sci, "sector_min")
+tap.ok(low is not None and low <= ref["cisd"],
+       "H20 STO-3G: selected CI %r at or below psi4 CISD %.8f" % (low, ref["cisd"]))
+tap.ok(low is not None and low >= ref["cisd"] - 0.1,
+       "H20: and within 0.1 Eh of it (a sanity window)")
+tap.done()

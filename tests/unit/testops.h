@@ -1,0 +1,42 @@
+/* testops.h - random test operators shared by the unit tests: a
+ * reproducible xorshift generator and spin-free operators with the 8-fold
+ * symmetry of real integrals. */
+#ifndef LAM_TESTOPS_H
+#define LAM_TESTOPS_H
+
+#include "spinfree.h"
+
+/* Uniform in [-1, 1) from an xorshift state (any nonzero seed). */
+static inline double test_uniform(unsigned long long *state)
+{
+    *state ^= *state << 13;
+    *state ^= *state >> 7;
+    *state ^= *state << 17;
+    return (double)(*state >> 11) / 9007199254740992.0 * 2 - 1;
+}
+
+/* h uniform in [-1, 1), (pq|rs) in [-0.3, 0.3), e0 uniform, with the
+ * 8-fold symmetry of real orbitals. */
+static inline lam_spinfree *test_random_real_operator(int n, int electrons,
+                                                      unsigned long long *state)
+{
+    lam_spinfree *h = lam_spinfree_new(n);
+    h->electrons = electrons;
+    h->e0 = test_uniform(state);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q) LAM_H(h, p, q) = LAM_H(h, q, p) = test_uniform(state);
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q <= p; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s <= r; ++s) {
+                    if (r * n + s > p * n + q) continue;
+                    double v = 0.3 * test_uniform(state);
+                    int idx[8][4] = {{p, q, r, s}, {q, p, r, s}, {p, q, s, r}, {q, p, s, r},
+                                     {r, s, p, q}, {s, r, p, q}, {r, s, q, p}, {s, r, q, p}};
+                    for (int i = 0; i < 8; ++i)
+                        LAM_G(h, idx[i][0], idx[i][1], idx[i][2], idx[i][3]) = v;
+                }
+    return h;
+}
+
+#endif
