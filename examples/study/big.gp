@@ -34,5 +34,5 @@ set object 1 rectangle from graph 0, first low to graph 1, first high fc rgb "#f
 set label 1 sprintf("dE/2 of the block lies in [%.2f, %.2f] Eh", low, high) at graph 0.02, first sqrt(low * high) font ",10"
 pick(i) = strcol(3) eq word(reps, i) ? column(4) : NaN
 plot for [i = 1:nr] data using (i):(pick(i)) skip 1 with points ls rep_style(i) ps 2 notitle, \
-     low with lines ls 8 title sprintf("certified lower bound of dE/2 (inner bounds): %.3f Eh", low), \
+     low with lines ls 8 title sprintf("certified lower bound of dE/2 (lam-range inner bounds): %.3f Eh", low), \
      high with lines ls 7 dt 2 title sprintf("least lambda of an exact form: %.3f Eh", high)
