@@ -16,11 +16,10 @@ set grid xtics ytics
 set xlabel "Pauli one-norm lambda (Jordan-Wigner), Eh"
 set ylabel "one-norm lambda, Eh"
 set title "lambda of each representation against the Pauli lambda of the same geometry"
+# wide.tsv: 3 pauli, 4-10 the other representations (collect.sh REPS order),
+# 11 floor_n, 12 floor_fock
 plot x with lines ls 1 dt 2 title "Pauli (y = x)", \
-     data using 3:4 skip 1 with points ls 2 title "anticommuting groups", \
-     data using 3:5 skip 1 with points ls 3 title "symmetry shift", \
-     data using 3:6 skip 1 with points ls 4 title "shift + groups", \
-     data using 3:7 skip 1 with points ls 5 title "double factorization", \
-     data using 3:8 skip 1 with points ls 6 title "shift + double fact.", \
-     data using 3:10 skip 1 with points ls 7 title "floor: Fock-space dE/2 of H", \
-     data using 3:9 skip 1 with points ls 8 title "floor: N-electron dE/2"
+     for [i = 2:words(reps)] data using 3:(column(i + 2)) skip 1 with points ls rep_style(i) \
+         title rep_title(i), \
+     data using 3:12 skip 1 with points ls 7 title "floor: Fock-space dE/2 of H", \
+     data using 3:11 skip 1 with points ls 8 title "floor: N-electron dE/2"

@@ -21,13 +21,9 @@ set yrange [0:*]
 do for [i = 1:n] {
     m = word(molecules, i)
     set title sprintf("%s: lambda along the stretch (STO-3G)", m)
-    plot data using (pick(2, m)):(pick(3, m)) skip 1 with linespoints ls 1 title "Pauli", \
-         data using (pick(2, m)):(pick(4, m)) skip 1 with linespoints ls 2 title "groups", \
-         data using (pick(2, m)):(pick(5, m)) skip 1 with linespoints ls 3 title "shift", \
-         data using (pick(2, m)):(pick(6, m)) skip 1 with linespoints ls 4 title "shift + groups", \
-         data using (pick(2, m)):(pick(7, m)) skip 1 with linespoints ls 5 title "double fact.", \
-         data using (pick(2, m)):(pick(8, m)) skip 1 with linespoints ls 6 title "shift + DF", \
-         data using (pick(2, m)):(pick(9, m)) skip 1 with linespoints ls 8 title "floor N dE/2"
+    plot for [j = 1:words(reps)] data using (pick(2, m)):(pick(j + 2, m)) skip 1 \
+             with linespoints ls rep_style(j) title rep_title(j), \
+         data using (pick(2, m)):(pick(11, m)) skip 1 with linespoints ls 8 title "floor N dE/2"
 }
 set ylabel "total Toffolis (estimate, run.toffoli)"
 set logscale y
@@ -36,11 +32,7 @@ set yrange [*:*]
 do for [i = 1:n] {
     m = word(molecules, i)
     set title sprintf("%s: total Toffolis, each form by its own construction", m)
-    plot data using (pick(2, m)):(pick(12, m)) skip 1 with linespoints ls 1 title "Pauli (sparse)", \
-         data using (pick(2, m)):(pick(13, m)) skip 1 with linespoints ls 2 title "groups", \
-         data using (pick(2, m)):(pick(14, m)) skip 1 with linespoints ls 3 title "shift (sparse)", \
-         data using (pick(2, m)):(pick(15, m)) skip 1 with linespoints ls 4 title "shift + groups", \
-         data using (pick(2, m)):(pick(16, m)) skip 1 with linespoints ls 5 title "double fact.", \
-         data using (pick(2, m)):(pick(17, m)) skip 1 with linespoints ls 6 title "shift + DF"
+    plot for [j = 1:words(reps)] data using (pick(2, m)):(pick(j + 13, m)) skip 1 \
+             with linespoints ls rep_style(j) title rep_title(j)
 }
 unset multiplot
