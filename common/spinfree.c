@@ -88,6 +88,11 @@ static void parse_term(lam_reader *r, const lam_line *ln, long limit, held_term 
         t->idx[i] = lam_reader_index(r, ln, i, limit, "orbital");
 }
 
+/* The operator being read stays reachable while the reader may leave the
+ * program on bad input (an error exits), so that leak checkers do not
+ * count it as lost (volatile: the stores must stay, nothing reads them). */
+static lam_spinfree *volatile being_read;
+
 lam_spinfree *lam_spinfree_read(lam_reader *r)
 {
     long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
@@ -97,7 +102,7 @@ lam_spinfree *lam_spinfree_read(lam_reader *r)
     int maxidx = -1;
     lam_line ln;
     held_term t;
-    if (n >= 0) sf = lam_spinfree_new((int)n);
+    if (n >= 0) sf = being_read = lam_spinfree_new((int)n);
     while (lam_reader_next(r, &ln)) {
         parse_term(r, &ln, n >= 0 ? n : 4096, &t);
         if (sf) {
@@ -115,12 +120,13 @@ lam_spinfree *lam_spinfree_read(lam_reader *r)
         held[nheld++] = t;
     }
     if (!sf) {
-        sf = lam_spinfree_new(maxidx + 1);
+        sf = being_read = lam_spinfree_new(maxidx + 1);
         for (size_t i = 0; i < nheld; ++i) apply_term(sf, &held[i]);
         free(held);
     }
     sf->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n);
     sf->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -sf->n, sf->n);
+    being_read = NULL;
     return sf;
 }
 
