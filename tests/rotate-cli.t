@@ -96,11 +96,23 @@ near "$(report_get lambda_after <"$TMP/shift.rep")" "$(report_get objective_afte
 lam lam-rotate -q --objective grouped --starts 1 --rounds 2 -r "$TMP/rep.g" "$TMP/w.sf" >"$TMP/rg.sf"
 g=$(lam lam-shift --report /dev/null "$TMP/rg.sf" | lam lam-map | lam lam-group 2>/dev/null | lam lam-norm \
     | report_get lambda_grouped)
+# Under valgrind, whose floating point has no 80-bit x87 arithmetic, the
+# decimal reader's last bits differ between the program and the pipeline,
+# and a discrete grouping may then tie-break otherwise: these two equalities
+# are checked by make check and make sanitize check, not there.
+if [ -n "${LAM_WRAP:-}" ]; then
+    ok 0 "objective_after of --objective grouped = the pipeline # SKIP under valgrind (no x87 precision)"
+else
 near "$g" "$(report_get objective_after <"$TMP/rep.g")" 1e-12 \
     "objective_after of --objective grouped = lam-shift | lam-map | lam-group | lam-norm of the output"
+fi
 g0=$(lam lam-shift --report /dev/null "$TMP/w.sf" | lam lam-map | lam lam-group 2>/dev/null | lam lam-norm \
     | report_get lambda_grouped)
+if [ -n "${LAM_WRAP:-}" ]; then
+    ok 0 "objective_before = the same pipeline on the input # SKIP under valgrind (no x87 precision)"
+else
 near "$g0" "$(report_get objective_before <"$TMP/rep.g")" 1e-12 "objective_before = the same pipeline on the input"
+fi
 awk -v a="$g" -v b="$g0" 'BEGIN { exit !(a <= b) }'
 ok $? "grouped lambda never above the input's ($g0 -> $g)"
 # a shifted input: the recorded shift follows the orbitals
