@@ -70,6 +70,61 @@ void lam_fail_at(int code, const char *file, long line, const char *fmt, ...)
     leave(code);
 }
 
+void lam_error_clear(lam_error *err)
+{
+    err->code = LAM_EX_OK;
+    err->line = 0;
+    err->file[0] = '\0';
+    err->msg[0] = '\0';
+}
+
+static int verror_at(lam_error *err, int code, const char *file, long line,
+                     const char *fmt, va_list ap)
+{
+    err->code = code;
+    err->line = file ? line : 0;
+    snprintf(err->file, sizeof err->file, "%s", file ? file : "");
+    vsnprintf(err->msg, sizeof err->msg, fmt, ap);
+    return code;
+}
+
+int lam_error_set(lam_error *err, int code, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    verror_at(err, code, NULL, 0, fmt, ap);
+    va_end(ap);
+    return code;
+}
+
+int lam_error_at(lam_error *err, int code, const char *file, long line,
+                 const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    verror_at(err, code, file, line, fmt, ap);
+    va_end(ap);
+    return code;
+}
+
+void lam_error_print(const lam_error *err)
+{
+    fprintf(stderr, "%s: ", program_name);
+    if (err->file[0]) {
+        if (err->line > 0)
+            fprintf(stderr, "%s:%ld: ", err->file, err->line);
+        else
+            fprintf(stderr, "%s: ", err->file);
+    }
+    fprintf(stderr, "%s\n", err->msg);
+}
+
+void lam_error_exit(const lam_error *err)
+{
+    lam_error_print(err);
+    leave(err->code ? err->code : LAM_EX_SOFTWARE);
+}
+
 void lam_warn(const char *fmt, ...)
 {
     va_list ap;

@@ -41,6 +41,32 @@ _Noreturn void lam_fail_at(int code, const char *file, long line,
 #include <setjmp.h>
 void lam_fail_jump(jmp_buf *where);
 
+/* An error handed back by library code.  Library functions that can fail
+ * on bad input take a lam_error *err, fill it and return its code (non-zero);
+ * only a program's main prints it and exits (lam_error_exit), after freeing
+ * what it holds.  Out of memory is the one failure that still exits inside
+ * the library (lam_malloc and friends). */
+typedef struct lam_error {
+    int code;       /* enum lam_exit; LAM_EX_OK when nothing failed */
+    long line;      /* <= 0: no line */
+    char file[512]; /* "": no file */
+    char msg[512];
+} lam_error;
+
+/* Clear *err (code LAM_EX_OK). */
+void lam_error_clear(lam_error *err);
+/* Fill *err and return code: "msg", or "file:line: msg" via lam_error_at
+ * (line <= 0 omits the line, file NULL omits both). */
+int lam_error_set(lam_error *err, int code, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+int lam_error_at(lam_error *err, int code, const char *file, long line,
+                 const char *fmt, ...) __attribute__((format(printf, 5, 6)));
+/* Print "prog: [file:line: ]msg" on stderr. */
+void lam_error_print(const lam_error *err);
+/* For main: print the error and end the program with its code, without
+ * flushing stdout (no half-written result reaches it). */
+_Noreturn void lam_error_exit(const lam_error *err);
+
 /* Print "prog: msg" as a warning; does not exit. */
 void lam_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 
