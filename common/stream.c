@@ -100,14 +100,17 @@ void lam_meta_set(lam_meta *m, const char *key, const char *value)
 
 void lam_meta_setf(lam_meta *m, const char *key, const char *fmt, ...)
 {
-    char buf[512];
     va_list ap;
     va_start(ap, fmt);
-    int n = vsnprintf(buf, sizeof buf, fmt, ap);
+    int n = vsnprintf(NULL, 0, fmt, ap);
     va_end(ap);
-    if (n < 0 || (size_t)n >= sizeof buf)
-        lam_fail(LAM_EX_SOFTWARE, "metadata value for '%s' too long", key);
+    char *buf = lam_malloc(n > 0 ? (size_t)n + 1 : 1);
+    buf[0] = '\0';
+    va_start(ap, fmt);
+    if (n > 0) vsnprintf(buf, (size_t)n + 1, fmt, ap);
+    va_end(ap);
     lam_meta_set(m, key, buf);
+    free(buf);
 }
 
 void lam_meta_add(lam_meta *m, const char *key, const char *value)
@@ -170,58 +173,50 @@ const char *lam_reader_name(const lam_reader *r) { return r->name; }
 long lam_reader_lineno(const lam_reader *r) { return r->lineno; }
 lam_meta *lam_reader_meta(lam_reader *r) { return &r->meta; }
 
-void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
+int lam_reader_error(const lam_reader *r, long line, lam_error *err, const char *fmt, ...)
 {
     char msg[1024];
     va_list ap;
     va_start(ap, fmt);
     vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
-    lam_fail_at(LAM_EX_DATA, r->name, line, "%s", msg);
-}
-
-void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
-{
-    char msg[1024];
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
-    lam_fail_at(LAM_EX_DATA, r->name, r->lineno, "%s", msg);
+    return lam_error_at(err, LAM_EX_DATA, r->name, line, "%s", msg);
 }
 
 /* Refill so that [pos, len) holds at least a whole line or everything
- * left; returns the unread byte count. */
-static size_t refill(lam_reader *r)
+ * left; 0, or the code of a read error. */
+static int refill(lam_reader *r, lam_error *err)
 {
     if (r->pos > 0) {
         memmove(r->buf, r->buf + r->pos, r->len - r->pos);
         r->len -= r->pos;
         r->pos = 0;
     }
-    if (r->eof) return r->len;
+    if (r->eof) return 0;
     if (r->cap - r->len < READ_MIN) {
         r->cap = r->cap ? 2 * r->cap : READ_START;
         r->buf = lam_realloc(r->buf, r->cap + 1);
     }
     int got = gzread(r->gz, r->buf + r->len, (unsigned)(r->cap - r->len));
     if (got < 0) {
-        int err;
-        const char *msg = gzerror(r->gz, &err);
-        lam_fail_at(err == Z_DATA_ERROR ? LAM_EX_DATA : LAM_EX_IOERR, r->name,
-                    r->lineno, "read error: %s",
-                    err == Z_ERRNO ? strerror(errno) : msg);
+        int zerr;
+        const char *msg = gzerror(r->gz, &zerr);
+        return lam_error_at(err, zerr == Z_DATA_ERROR ? LAM_EX_DATA : LAM_EX_IOERR, r->name,
+                            r->lineno, "read error: %s",
+                            zerr == Z_ERRNO ? strerror(errno) : msg);
     }
     if (got == 0) r->eof = 1;
     r->len += (size_t)got;
-    return r->len;
+    return 0;
 }
 
-/* Next raw line from the input (NUL terminated, without the newline), or
- * NULL at EOF. */
-static char *raw_line(lam_reader *r)
+/* Next raw line from the input (NUL terminated, without the newline) in
+ * *out, NULL at EOF; 0 or an error code. */
+static int raw_line(lam_reader *r, char **out, lam_error *err)
 {
-    if (!r->buf) refill(r);
+    int rc;
+    *out = NULL;
+    if (!r->buf && (rc = refill(r, err)) != 0) return rc;
     for (;;) {
         char *start = r->buf + r->pos;
         char *nl = r->len > r->pos ? memchr(start, '\n', r->len - r->pos) : NULL;
@@ -231,16 +226,17 @@ static char *raw_line(lam_reader *r)
             r->pos += n + (nl ? 1 : 0);
             r->lineno++;
             if (n > 0 && start[n - 1] == '\r') start[--n] = '\0';
-            if (strlen(start) != n) lam_reader_fail(r, "NUL byte in line");
-            return start;
+            if (strlen(start) != n) return lam_reader_error(r, r->lineno, err, "NUL byte in line");
+            *out = start;
+            return 0;
         }
-        if (r->eof) return NULL;
-        refill(r);
+        if (r->eof) return 0;
+        if ((rc = refill(r, err)) != 0) return rc;
     }
 }
 
-/* Next line, from the read-ahead queue first. */
-static char *next_line(lam_reader *r, long *line)
+/* Next line, from the read-ahead queue first (*s NULL at EOF). */
+static int next_line(lam_reader *r, char **s, long *line, lam_error *err)
 {
     if (r->pending_next < r->npending) {
         pending_line *p = &r->pending[r->pending_next++];
@@ -248,11 +244,12 @@ static char *next_line(lam_reader *r, long *line)
         r->pending_current = p->text;
         *line = p->line;
         if (r->pending_next == r->npending) r->npending = r->pending_next = 0;
-        return r->pending_current;
+        *s = r->pending_current;
+        return 0;
     }
-    char *s = raw_line(r);
+    int rc = raw_line(r, s, err);
     *line = r->lineno;
-    return s;
+    return rc;
 }
 
 static int is_blank(const char *s)
@@ -271,62 +268,69 @@ static char *trim(char *s)
 }
 
 /* "#% key: value" (s points past "#%"). */
-static void take_meta(lam_reader *r, char *s, long line)
+static int take_meta(lam_reader *r, char *s, long line, lam_error *err)
 {
     char *colon = strchr(s, ':');
-    if (!colon)
-        lam_reader_fail_line(r, line, "metadata line without 'key: value'");
+    if (!colon) return lam_reader_error(r, line, err, "metadata line without 'key: value'");
     *colon = '\0';
     char *key = trim(s), *value = trim(colon + 1);
-    if (!*key) lam_reader_fail_line(r, line, "metadata line with an empty key");
+    if (!*key) return lam_reader_error(r, line, err, "metadata line with an empty key");
     if (strcmp(key, "kind") == 0) {
         lam_kind k;
         if (lam_kind_parse(value, &k) != 0)
-            lam_reader_fail_line(r, line, "unknown stream kind '%s'", value);
+            return lam_reader_error(r, line, err, "unknown stream kind '%s'", value);
         if (r->kind != LAM_KIND_UNKNOWN && r->kind != k)
-            lam_reader_fail_line(r, line, "second kind '%s' contradicts '%s'",
-                                 value, lam_kind_name(r->kind));
+            return lam_reader_error(r, line, err, "second kind '%s' contradicts '%s'", value,
+                                    lam_kind_name(r->kind));
         r->kind = k;
     }
     meta_append(&r->meta, key, value, line);
+    return 0;
 }
 
 enum line_class { LINE_SKIP, LINE_TERM, LINE_END };
 
-/* Classify a line; metadata is taken in, "#% end" noted. */
-static enum line_class classify(lam_reader *r, char *s, long line)
+/* Classify a line into *c; metadata is taken in, "#% end" noted. */
+static int classify(lam_reader *r, char *s, long line, enum line_class *c, lam_error *err)
 {
+    *c = LINE_SKIP;
     if (s[0] == '#') {
-        if (s[1] != '%') return LINE_SKIP;
+        if (s[1] != '%') return 0;
         char *body = trim(s + 2);
-        if (strcmp(body, "end") == 0) return LINE_END;
+        if (strcmp(body, "end") == 0) {
+            *c = LINE_END;
+            return 0;
+        }
         if (strncmp(body, "lamina-op", 9) == 0 && (body[9] == ' ' || body[9] == '\t')) {
             if (line != 1)
-                lam_reader_fail_line(r, line, "'#%% lamina-op' is only allowed on the first line");
+                return lam_reader_error(r, line, err,
+                                        "'#%% lamina-op' is only allowed on the first line");
             char *ver = trim(body + 9);
             if (strcmp(ver, "1") != 0 && strcmp(ver, "2") != 0)
-                lam_reader_fail_line(r, line,
-                                     "stream version '%s' is not supported (this reader reads 2, and 1)",
-                                     ver);
+                return lam_reader_error(
+                    r, line, err, "stream version '%s' is not supported (this reader reads 2, and 1)",
+                    ver);
             r->suite_stream = 1;
             r->saw_meta = 1;
             r->syntax = ver[0] - '0';
-            return LINE_SKIP;
+            return 0;
         }
         r->saw_meta = 1;
-        take_meta(r, body, line);
-        return LINE_SKIP;
+        return take_meta(r, body, line, err);
     }
-    return is_blank(s) ? LINE_SKIP : LINE_TERM;
+    if (!is_blank(s)) *c = LINE_TERM;
+    return 0;
 }
 
-static void read_after_end(lam_reader *r)
+static int read_after_end(lam_reader *r, lam_error *err)
 {
     long line;
     char *s;
-    while ((s = next_line(r, &line)) != NULL)
+    int rc;
+    while ((rc = next_line(r, &s, &line, err)) == 0 && s != NULL)
         if (!is_blank(s) && s[0] != '#')
-            lam_reader_fail_line(r, line, "term after '#%% end'");
+            return lam_reader_error(r, line, err, "term after '#%% end'");
+    return rc;
 }
 
 static void queue_line(lam_reader *r, const char *s, long line)
@@ -337,52 +341,65 @@ static void queue_line(lam_reader *r, const char *s, long line)
     r->npending++;
 }
 
-/* Next term line, taking in metadata and skipping comments on the way;
- * NULL at "#% end" (the rest checked) or at the end of the input. */
-static char *next_term_line(lam_reader *r, long *line)
+/* Next term line in *s, taking in metadata and skipping comments on the
+ * way; NULL at "#% end" (the rest checked) or at the end of the input. */
+static int next_term_line(lam_reader *r, char **s, long *line, lam_error *err)
 {
-    char *s;
-    while ((s = next_line(r, line)) != NULL) {
-        enum line_class c = classify(r, s, *line);
-        if (c == LINE_TERM) return s;
+    int rc;
+    while ((rc = next_line(r, s, line, err)) == 0 && *s != NULL) {
+        enum line_class c;
+        if ((rc = classify(r, *s, *line, &c, err)) != 0) return rc;
+        if (c == LINE_TERM) return 0;
         if (c == LINE_END) {
             r->ended = 1;
-            read_after_end(r);
-            return NULL;
+            *s = NULL;
+            return read_after_end(r, err);
         }
     }
-    return NULL;
+    return rc;
 }
 
 /* Read the leading metadata: stop at the first term line, queued. */
-static void read_header(lam_reader *r)
+static int read_header(lam_reader *r, lam_error *err)
 {
     long line;
-    char *s = next_term_line(r, &line);
-    if (s) queue_line(r, s, line);
+    char *s;
+    int rc = next_term_line(r, &s, &line, err);
+    if (rc == 0 && s) queue_line(r, s, line);
+    return rc;
 }
 
-lam_reader *lam_reader_open(const char *path)
+int lam_reader_open(const char *path, lam_reader **out, lam_error *err)
 {
+    *out = NULL;
     lam_reader *r = lam_calloc(1, sizeof *r);
     int use_stdin = !path || strcmp(path, "-") == 0;
     r->name = lam_strdup(use_stdin ? "<stdin>" : path);
-    r->fd = use_stdin ? 0 : open(path, O_RDONLY);
-    if (r->fd < 0) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name, strerror(errno));
-    r->gz = gzdopen(r->fd, "rb");
-    if (!r->gz)
-        lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", r->name,
-                 errno ? strerror(errno) : "out of memory");
-    gzbuffer(r->gz, 1 << 17);
     lam_meta_init(&r->meta);
-    read_header(r);
-    return r;
+    r->fd = use_stdin ? 0 : open(path, O_RDONLY);
+    int rc = 0;
+    if (r->fd < 0) {
+        rc = lam_error_set(err, LAM_EX_NOINPUT, "cannot open %s: %s", r->name, strerror(errno));
+    } else if (!(r->gz = gzdopen(r->fd, "rb"))) {
+        rc = lam_error_set(err, LAM_EX_NOINPUT, "cannot open %s: %s", r->name,
+                           errno ? strerror(errno) : "out of memory");
+        if (!use_stdin) close(r->fd);
+    } else {
+        gzbuffer(r->gz, 1 << 17);
+        rc = read_header(r, err);
+    }
+    if (rc) {
+        lam_reader_close(r);
+        return rc;
+    }
+    *out = r;
+    return 0;
 }
 
 void lam_reader_close(lam_reader *r)
 {
     if (!r) return;
-    gzclose(r->gz);
+    if (r->gz) gzclose(r->gz);
     for (size_t i = r->pending_next; i < r->npending; ++i) free(r->pending[i].text);
     free(r->pending);
     free(r->pending_current);
@@ -410,23 +427,23 @@ static int split_fields(lam_reader *r, char *s)
     return n;
 }
 
-static void parse_coefficient(const lam_reader *r, const char *tok, long line,
-                              double *out)
+static int parse_coefficient(const lam_reader *r, const char *tok, long line, double *out,
+                             lam_error *err)
 {
     if (lam_parse_double(tok, out) == 0) {
         if (*out > LAM_COEF_MAX || *out < -LAM_COEF_MAX)
-            lam_reader_fail_line(r, line,
-                                 "coefficient '%s' is too large (|c| > 1e100: sums of squares "
-                                 "and products could overflow)",
-                                 tok);
-        return;
+            return lam_reader_error(r, line, err,
+                                    "coefficient '%s' is too large (|c| > 1e100: sums of squares "
+                                    "and products could overflow)",
+                                    tok);
+        return 0;
     }
     char low[8] = {0};
     for (int i = 0; i < 7 && tok[i]; ++i) low[i] = (char)tolower((unsigned char)tok[i]);
     const char *t = low[0] == '+' || low[0] == '-' ? low + 1 : low;
     if (strncmp(t, "nan", 3) == 0 || strncmp(t, "inf", 3) == 0)
-        lam_reader_fail_line(r, line, "coefficient '%s' is not finite", tok);
-    lam_reader_fail_line(r, line, "coefficient '%s' is not a number", tok);
+        return lam_reader_error(r, line, err, "coefficient '%s' is not finite", tok);
+    return lam_reader_error(r, line, err, "coefficient '%s' is not a number", tok);
 }
 
 static int allow_empty;
@@ -435,18 +452,21 @@ void lam_reader_allow_empty(int allow) { allow_empty = allow; }
 
 /* A failed step upstream in a shell pipeline leaves nothing at all: that
  * is refused rather than read as the zero operator. */
-static void check_not_empty(const lam_reader *r)
+static int check_not_empty(const lam_reader *r, lam_error *err)
 {
     if (!r->saw_meta && !r->saw_term && !allow_empty)
-        lam_fail_at(LAM_EX_DATA, r->name, 0,
-                    "empty input: no header and no terms (--allow-empty reads it as the zero "
-                    "operator)");
+        return lam_error_at(err, LAM_EX_DATA, r->name, 0,
+                            "empty input: no header and no terms (--allow-empty reads it as the "
+                            "zero operator)");
+    return 0;
 }
 
-int lam_reader_next_text(lam_reader *r, char **text, long *line)
+int lam_reader_next_text(lam_reader *r, char **text, long *line, lam_error *err)
 {
     if (r->ended) return 0;
-    char *s = next_term_line(r, line);
+    char *s;
+    int rc = next_term_line(r, &s, line, err);
+    if (rc) return rc;
     if (s) {
         r->saw_term = 1;
         r->lineno = *line;
@@ -454,19 +474,18 @@ int lam_reader_next_text(lam_reader *r, char **text, long *line)
         return 1;
     }
     if (r->suite_stream && !r->ended)
-        lam_fail_at(LAM_EX_DATA, r->name, r->lineno,
-                    "truncated stream: it ends without '#%% end'");
-    check_not_empty(r);
-    return 0;
+        return lam_error_at(err, LAM_EX_DATA, r->name, r->lineno,
+                            "truncated stream: it ends without '#%% end'");
+    return check_not_empty(r, err);
 }
 
-void lam_reader_split(lam_reader *r, char *text, long line, lam_line *out)
+int lam_reader_split(lam_reader *r, char *text, long line, lam_line *out, lam_error *err)
 {
     int n = split_fields(r, text);
-    parse_coefficient(r, r->fields[0], line, &out->coef);
     out->nfields = n - 1;
     out->fields = r->fields + 1;
     out->line = line;
+    return parse_coefficient(r, r->fields[0], line, &out->coef, err);
 }
 
 int lam_reader_coefficient(const char *tok, double *out)
@@ -476,13 +495,14 @@ int lam_reader_coefficient(const char *tok, double *out)
                : -1;
 }
 
-int lam_reader_next(lam_reader *r, lam_line *out)
+int lam_reader_next(lam_reader *r, lam_line *out, lam_error *err)
 {
     char *text;
     long line;
-    if (!lam_reader_next_text(r, &text, &line)) return 0;
-    lam_reader_split(r, text, line, out);
-    return 1;
+    int rc = lam_reader_next_text(r, &text, &line, err);
+    if (rc != 1) return rc;
+    rc = lam_reader_split(r, text, line, out, err);
+    return rc ? rc : 1;
 }
 
 int lam_reader_syntax(const lam_reader *r) { return r->syntax; }
@@ -500,17 +520,17 @@ long long lam_reader_bytes_read(const lam_reader *r)
     return (long long)gztell(r->gz) - (long long)(r->len - r->pos);
 }
 
-void lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax)
+int lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax, lam_error *err)
 {
-    if (r->syntax == syntax) return;
+    if (r->syntax == syntax) return 0;
     if (r->syntax == 0) {
         r->syntax = syntax;
-        return;
+        return 0;
     }
-    lam_reader_fail_line(r, ln->line,
-                         "a version-%d term in a version-%d stream (one spelling a stream; "
-                         "see lamina-stream(5))",
-                         syntax, r->syntax);
+    return lam_reader_error(r, ln->line, err,
+                            "a version-%d term in a version-%d stream (one spelling a stream; "
+                            "see lamina-stream(5))",
+                            syntax, r->syntax);
 }
 
 static lam_kind kind_of_field(const char *f)
@@ -555,20 +575,22 @@ static lam_kind kind_of_fields(const char *s)
 
 /* Look ahead for the first term with fields; its first field tells the
  * kind.  Lines read stay queued for lam_reader_next. */
-static lam_kind infer_kind(lam_reader *r)
+static int infer_kind(lam_reader *r, lam_kind *kind, lam_error *err)
 {
+    *kind = LAM_KIND_UNKNOWN;
     for (size_t i = r->pending_next;; ++i) {
         if (i >= r->npending) {
-            char *raw = r->ended ? NULL : raw_line(r);
-            if (!raw) return LAM_KIND_UNKNOWN;
+            char *raw = NULL;
+            int rc = r->ended ? 0 : raw_line(r, &raw, err);
+            if (rc || !raw) return rc;
             queue_line(r, raw, r->lineno);
         }
         const char *s = r->pending[i].text;
         if (s[0] == '#' || is_blank(s)) continue;
         while (*s == ' ' || *s == '\t') ++s;
         while (*s && *s != ' ' && *s != '\t') ++s; /* coefficient */
-        lam_kind kind = kind_of_fields(s);
-        if (kind != LAM_KIND_UNKNOWN || !is_blank(s)) return kind;
+        *kind = kind_of_fields(s);
+        if (*kind != LAM_KIND_UNKNOWN || !is_blank(s)) return 0;
     }
 }
 
@@ -584,45 +606,146 @@ static int pending_has_content(const lam_reader *r)
     return 0;
 }
 
-lam_kind lam_reader_kind(lam_reader *r)
+int lam_reader_kind(lam_reader *r, lam_kind *kind, lam_error *err)
 {
-    if (r->kind_resolved) return r->kind;
-    r->kind_resolved = 1;
-    if (r->kind != LAM_KIND_UNKNOWN) {
-        const lam_meta_entry *e = lam_meta_find(&r->meta, "kind");
-        if (r->forced != LAM_KIND_UNKNOWN && r->forced != r->kind)
-            lam_reader_fail_line(r, e ? e->line : 0,
-                                 "stream kind is '%s' but '%s' was asked for",
-                                 lam_kind_name(r->kind), lam_kind_name(r->forced));
-        return r->kind;
+    if (!r->kind_resolved) {
+        if (r->kind != LAM_KIND_UNKNOWN) {
+            const lam_meta_entry *e = lam_meta_find(&r->meta, "kind");
+            if (r->forced != LAM_KIND_UNKNOWN && r->forced != r->kind)
+                return lam_reader_error(r, e ? e->line : 0, err,
+                                        "stream kind is '%s' but '%s' was asked for",
+                                        lam_kind_name(r->kind), lam_kind_name(r->forced));
+        } else if (r->forced != LAM_KIND_UNKNOWN) {
+            r->kind = r->forced;
+        } else {
+            int rc = infer_kind(r, &r->kind, err);
+            if (rc) return rc;
+        }
+        if (r->kind == LAM_KIND_UNKNOWN && !pending_has_content(r)) {
+            int rc = check_not_empty(r, err);
+            if (rc) return rc;
+        }
+        r->kind_resolved = 1;
     }
-    r->kind = r->forced != LAM_KIND_UNKNOWN ? r->forced : infer_kind(r);
-    if (r->kind == LAM_KIND_UNKNOWN && !pending_has_content(r)) check_not_empty(r);
-    return r->kind;
+    *kind = r->kind;
+    return 0;
 }
 
-long lam_reader_meta_long(lam_reader *r, const char *key, long dflt, long min,
-                          long max)
+int lam_reader_meta_long(lam_reader *r, const char *key, long dflt, long min, long max,
+                         long *value, lam_error *err)
 {
     const lam_meta_entry *e = lam_meta_find(&r->meta, key);
-    if (!e) return dflt;
+    *value = dflt;
+    if (!e) return 0;
     long v;
     if (lam_parse_long(e->value, &v) != 0 || v < min || v > max)
-        lam_reader_fail_line(r, e->line, "'%s: %s' wants an integer from %ld to %ld",
-                             key, e->value, min, max);
-    return v;
+        return lam_reader_error(r, e->line, err, "'%s: %s' wants an integer from %ld to %ld", key,
+                                e->value, min, max);
+    *value = v;
+    return 0;
 }
 
-int lam_reader_index(const lam_reader *r, const lam_line *ln, int field,
-                     long limit, const char *what)
+int lam_reader_index(const lam_reader *r, const lam_line *ln, int field, long limit,
+                     const char *what, int *index, lam_error *err)
 {
     const char *tok = ln->fields[field];
     long v;
     if (lam_parse_long(tok, &v) != 0)
-        lam_reader_fail_line(r, ln->line, "%s index '%s' is not an integer", what, tok);
+        return lam_reader_error(r, ln->line, err, "%s index '%s' is not an integer", what, tok);
     if (v < 0 || v >= limit)
-        lam_reader_fail_line(r, ln->line, "%s index %ld out of range 0..%ld", what, v, limit - 1);
-    return (int)v;
+        return lam_reader_error(r, ln->line, err, "%s index %ld out of range 0..%ld", what, v,
+                                limit - 1);
+    *index = (int)v;
+    return 0;
+}
+
+/* ---- exiting forms for callers not converted yet (issue 13) ---- */
+
+static _Noreturn void exit_with(const lam_error *e) { lam_error_exit(e); }
+
+void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
+{
+    char msg[1024];
+    lam_error e;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    lam_reader_error(r, line, &e, "%s", msg);
+    exit_with(&e);
+}
+
+void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
+{
+    char msg[1024];
+    lam_error e;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    lam_reader_error(r, r->lineno, &e, "%s", msg);
+    exit_with(&e);
+}
+
+lam_reader *lam_reader_open_or_exit(const char *path)
+{
+    lam_error e;
+    lam_reader *r;
+    if (lam_reader_open(path, &r, &e)) exit_with(&e);
+    return r;
+}
+
+lam_kind lam_reader_kind_or_exit(lam_reader *r)
+{
+    lam_error e;
+    lam_kind k;
+    if (lam_reader_kind(r, &k, &e)) exit_with(&e);
+    return k;
+}
+
+int lam_reader_next_or_exit(lam_reader *r, lam_line *out)
+{
+    lam_error e;
+    int rc = lam_reader_next(r, out, &e);
+    if (rc > 1) exit_with(&e);
+    return rc;
+}
+
+int lam_reader_next_text_or_exit(lam_reader *r, char **text, long *line)
+{
+    lam_error e;
+    int rc = lam_reader_next_text(r, text, line, &e);
+    if (rc > 1) exit_with(&e);
+    return rc;
+}
+
+void lam_reader_split_or_exit(lam_reader *r, char *text, long line, lam_line *out)
+{
+    lam_error e;
+    if (lam_reader_split(r, text, line, out, &e)) exit_with(&e);
+}
+
+void lam_reader_term_syntax_or_exit(lam_reader *r, const lam_line *ln, int syntax)
+{
+    lam_error e;
+    if (lam_reader_term_syntax(r, ln, syntax, &e)) exit_with(&e);
+}
+
+long lam_reader_meta_long_or_exit(lam_reader *r, const char *key, long dflt, long min, long max)
+{
+    lam_error e;
+    long v;
+    if (lam_reader_meta_long(r, key, dflt, min, max, &v, &e)) exit_with(&e);
+    return v;
+}
+
+int lam_reader_index_or_exit(const lam_reader *r, const lam_line *ln, int field, long limit,
+                             const char *what)
+{
+    lam_error e;
+    int v = 0;
+    if (lam_reader_index(r, ln, field, limit, what, &v, &e)) exit_with(&e);
+    return v;
 }
 
 /* ------------------------------------------------------------------ */
@@ -634,37 +757,60 @@ struct lam_writer {
     char *name;
     int owns_fp;
     int distinct;
+    int failed_errno; /* the first write error, kept until close reports it */
+    int failed;
 };
 
 void lam_writer_set_distinct(lam_writer *w) { w->distinct = 1; }
 
-lam_writer *lam_writer_open(const char *path, int gzip)
+int lam_writer_open(const char *path, int gzip, lam_writer **out, lam_error *err)
 {
-    lam_writer *w = lam_calloc(1, sizeof *w);
+    *out = NULL;
     int use_stdout = !path || strcmp(path, "-") == 0;
-    w->name = lam_strdup(use_stdout ? "<stdout>" : path);
+    const char *name = use_stdout ? "<stdout>" : path;
+    FILE *fp = NULL;
+    gzFile gz = NULL;
     if (gzip) {
         fflush(stdout);
-        w->gz = use_stdout ? gzdopen(dup(1), "wb6") : gzopen(path, "wb6");
-        if (!w->gz) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", w->name, strerror(errno));
-        gzbuffer(w->gz, 1 << 17);
+        gz = use_stdout ? gzdopen(dup(1), "wb6") : gzopen(path, "wb6");
+        if (!gz)
+            return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", name,
+                                 strerror(errno));
+        gzbuffer(gz, 1 << 17);
     } else {
-        w->fp = use_stdout ? stdout : fopen(path, "w");
-        if (!w->fp) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", w->name, strerror(errno));
-        w->owns_fp = !use_stdout;
-        if (w->owns_fp) setvbuf(w->fp, NULL, _IOFBF, 1 << 17);
+        fp = use_stdout ? stdout : fopen(path, "w");
+        if (!fp)
+            return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", name,
+                                 strerror(errno));
+        if (!use_stdout) setvbuf(fp, NULL, _IOFBF, 1 << 17);
     }
-    return w;
+    lam_writer *w = lam_calloc(1, sizeof *w);
+    w->name = lam_strdup(name);
+    w->fp = fp;
+    w->gz = gz;
+    w->owns_fp = fp && !use_stdout;
+    *out = w;
+    return 0;
 }
 
-static _Noreturn void write_failed(const lam_writer *w)
+/* A write error is kept and the rest of the output dropped; close reports
+ * it, so writing code need not check every term. */
+static void write_failed(lam_writer *w)
 {
-    lam_fail(LAM_EX_IOERR, "cannot write %s: %s", w->name,
-             errno ? strerror(errno) : "write error");
+    if (!w->failed) w->failed_errno = errno;
+    w->failed = 1;
+}
+
+static int write_error(const lam_writer *w, int errnum, lam_error *err)
+{
+    return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", w->name,
+                         errnum ? strerror(errnum) : "write error");
 }
 
 void lam_writer_write(lam_writer *w, const char *buf, size_t len)
 {
+    if (w->failed) return;
+    errno = 0;
     if (w->gz) {
         if (len && gzwrite(w->gz, buf, (unsigned)len) != (int)len) write_failed(w);
     } else if (fwrite(buf, 1, len, w->fp) != len) {
@@ -679,7 +825,10 @@ void lam_writer_printf(lam_writer *w, const char *fmt, ...)
     va_start(ap, fmt);
     int n = vsnprintf(small, sizeof small, fmt, ap);
     va_end(ap);
-    if (n < 0) lam_fail(LAM_EX_SOFTWARE, "formatting failed");
+    if (n < 0) {
+        write_failed(w);
+        return;
+    }
     if ((size_t)n < sizeof small) {
         lam_writer_write(w, small, (size_t)n);
         return;
@@ -721,23 +870,57 @@ void lam_writer_term(lam_writer *w, double coef, const char *rest)
     lam_writer_write(w, "\n", 1);
 }
 
-void lam_writer_close_raw(lam_writer *w)
+int lam_writer_close_raw(lam_writer *w, lam_error *err)
+{
+    if (!w) return 0;
+    int failed = w->failed, errnum = w->failed_errno;
+    errno = 0;
+    if (w->gz) {
+        if (gzclose(w->gz) != Z_OK && !failed) failed = 1, errnum = errno;
+    } else {
+        if ((fflush(w->fp) != 0 || ferror(w->fp)) && !failed) failed = 1, errnum = errno;
+        if (w->owns_fp && fclose(w->fp) != 0 && !failed) failed = 1, errnum = errno;
+    }
+    int rc = failed ? write_error(w, errnum, err) : 0;
+    free(w->name);
+    free(w);
+    return rc;
+}
+
+int lam_writer_close(lam_writer *w, lam_error *err)
+{
+    lam_writer_write(w, "#% end\n", 7);
+    return lam_writer_close_raw(w, err);
+}
+
+void lam_writer_discard(lam_writer *w)
 {
     if (!w) return;
-    if (w->gz) {
-        if (gzclose(w->gz) != Z_OK) write_failed(w);
-    } else {
-        if (fflush(w->fp) != 0 || ferror(w->fp)) write_failed(w);
-        if (w->owns_fp && fclose(w->fp) != 0) write_failed(w);
-    }
+    /* standard output is left unflushed: no half-written result reaches it */
+    if (w->gz) gzclose(w->gz);
+    else if (w->owns_fp) fclose(w->fp);
     free(w->name);
     free(w);
 }
 
-void lam_writer_close(lam_writer *w)
+lam_writer *lam_writer_open_or_exit(const char *path, int gzip)
 {
-    lam_writer_write(w, "#% end\n", 7);
-    lam_writer_close_raw(w);
+    lam_error e;
+    lam_writer *w;
+    if (lam_writer_open(path, gzip, &w, &e)) exit_with(&e);
+    return w;
+}
+
+void lam_writer_close_or_exit(lam_writer *w)
+{
+    lam_error e;
+    if (lam_writer_close(w, &e)) exit_with(&e);
+}
+
+void lam_writer_close_raw_or_exit(lam_writer *w)
+{
+    lam_error e;
+    if (lam_writer_close_raw(w, &e)) exit_with(&e);
 }
 
 char *lam_history_from_argv(int argc, char **argv)

@@ -13,6 +13,8 @@
 
 #include <stddef.h>
 
+#include "util.h"
+
 /* The largest coefficient magnitude a reader accepts: with |c| <= 1e100
  * sums of squares and products of a few coefficients stay far from
  * overflow in every program.  Tiny values (subnormals too) are read as
@@ -72,33 +74,39 @@ typedef struct {
     long line;
 } lam_line;
 
-/* Open path (NULL or "-" for stdin); exit 66 if it cannot be opened.
- * Reads the leading metadata and comments. */
-lam_reader *lam_reader_open(const char *path);
+/* Functions that can fail on bad input take a lam_error *err last, fill
+ * it and return its code (65 bad data with "file:line", 66 cannot open,
+ * 74 read error); 0 is success.  Out of memory still exits (util.h). */
+
+/* Open path (NULL or "-" for stdin) into *out and read the leading
+ * metadata and comments; 66 if it cannot be opened. */
+int lam_reader_open(const char *path, lam_reader **out, lam_error *err);
 void lam_reader_close(lam_reader *r);
 const char *lam_reader_name(const lam_reader *r);
 long lam_reader_lineno(const lam_reader *r);
 /* Metadata read so far (header, plus any #% lines met between terms). */
 lam_meta *lam_reader_meta(lam_reader *r);
-/* The kind: from "#% kind:", else the forced kind, else inferred from the
- * first term with fields (x:/y:/z: or @g -> pauli, a "/" field -> fermion,
- * integers -> spinfree, U or R -> fragments; version-1 X0 -> pauli,
- * 3+ -> fermion).
- * A forced kind that contradicts the header is an error (exit 65). */
+/* The kind into *kind: from "#% kind:", else the forced kind, else
+ * inferred from the first term with fields (x:/y:/z: or @g -> pauli, a "/"
+ * field -> fermion, integers -> spinfree, U or R -> fragments; version-1
+ * X0 -> pauli, 3+ -> fermion).  A forced kind that contradicts the header
+ * is an error (65), and so is an empty input (see lam_reader_next). */
 void lam_reader_force_kind(lam_reader *r, lam_kind kind);
-lam_kind lam_reader_kind(lam_reader *r);
-/* Next term: 1 and *out filled, or 0 at the end of the stream (the
- * "#% end" trailer checked).  A coefficient that does not parse, NaN, Inf
- * or |c| > LAM_COEF_MAX is exit 65 with file and line.  An input with no
- * "#%" line and no term (empty, or comments only) is exit 65 "empty input"
- * unless lam_reader_allow_empty(1) was called (--allow-empty). */
-int lam_reader_next(lam_reader *r, lam_line *out);
+int lam_reader_kind(lam_reader *r, lam_kind *kind, lam_error *err);
+/* Next term: 1 and *out filled, 0 at the end of the stream (the "#% end"
+ * trailer checked), else the error code (65, 74).  A coefficient that does
+ * not parse, NaN, Inf or |c| > LAM_COEF_MAX is 65 with file and line.  An
+ * input with no "#%" line and no term (empty, or comments only) is 65
+ * "empty input" unless lam_reader_allow_empty(1) was called
+ * (--allow-empty).  Loop with `while ((rc = lam_reader_next(...)) == 1)`
+ * and check rc after the loop. */
+int lam_reader_next(lam_reader *r, lam_line *out, lam_error *err);
 /* lam_reader_next in two steps, for a reader that parses the text itself:
  * the next term line as text (NUL terminated, writable, valid until the
- * next call; 0 at the end, with the same checks), and the split into
- * fields with the coefficient checked (exit 65 as lam_reader_next). */
-int lam_reader_next_text(lam_reader *r, char **text, long *line);
-void lam_reader_split(lam_reader *r, char *text, long line, lam_line *out);
+ * next call; 1, 0 at the end, else the code, as lam_reader_next), and the
+ * split into fields with the coefficient checked (0 or 65). */
+int lam_reader_next_text(lam_reader *r, char **text, long *line, lam_error *err);
+int lam_reader_split(lam_reader *r, char *text, long line, lam_line *out, lam_error *err);
 /* 0 and *out for a coefficient the reader accepts (as lam_reader_next),
  * -1 otherwise (the caller splits the line to get the message). */
 int lam_reader_coefficient(const char *tok, double *out);
@@ -109,37 +117,36 @@ void lam_reader_allow_empty(int allow);
 int lam_reader_syntax(const lam_reader *r);
 /* Note that this term is spelled in version `syntax`; the first spelled
  * term of a headerless stream fixes it, a term of the other version is
- * exit 65 at its line. */
-void lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax);
+ * 65 at its line. */
+int lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax, lam_error *err);
 /* Bytes of a plain regular file not read yet, -1 when unknown (gzip,
  * pipes); and the bytes read so far.  For sizing tables ahead. */
 long long lam_reader_bytes_left(const lam_reader *r);
 long long lam_reader_bytes_read(const lam_reader *r);
-/* exit 65 with "file:line: message" at the current line. */
-_Noreturn void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
-    __attribute__((format(printf, 2, 3)));
-_Noreturn void lam_reader_fail_line(const lam_reader *r, long line,
-                                    const char *fmt, ...)
-    __attribute__((format(printf, 3, 4)));
-/* Integer metadata value (e.g. "orbitals"); dflt if absent, exit 65 naming
- * the line if present and not an integer in [min, max]. */
-long lam_reader_meta_long(lam_reader *r, const char *key, long dflt, long min,
-                          long max);
+/* Fill *err with "file:line: message" (bad data, 65) and return 65. */
+int lam_reader_error(const lam_reader *r, long line, lam_error *err, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
+/* Integer metadata value (e.g. "orbitals") into *value; dflt if absent,
+ * 65 naming the line if present and not an integer in [min, max]. */
+int lam_reader_meta_long(lam_reader *r, const char *key, long dflt, long min, long max,
+                         long *value, lam_error *err);
 
-/* Parse a field as an index in [0, limit); exit 65 otherwise. */
-int lam_reader_index(const lam_reader *r, const lam_line *ln, int field,
-                     long limit, const char *what);
+/* Parse a field as an index in [0, limit) into *index; 65 otherwise. */
+int lam_reader_index(const lam_reader *r, const lam_line *ln, int field, long limit,
+                     const char *what, int *index, lam_error *err);
 
 /* ---- writer ---- */
 typedef struct lam_writer lam_writer;
 
-/* Open path (NULL or "-" for stdout); gzip != 0 writes gzip.  exit 74 on
- * failure. */
-lam_writer *lam_writer_open(const char *path, int gzip);
+/* Open path (NULL or "-" for stdout) into *out; gzip != 0 writes gzip.
+ * 74 when it cannot be opened. */
+int lam_writer_open(const char *path, int gzip, lam_writer **out, lam_error *err);
 /* "#% lamina-op 2", "#% kind: K", every entry of meta except the reserved
  * keys (lamina-op, kind, end, distinct), then "#% history: <history>".
  * "distinct: yes" is written only after lam_writer_set_distinct: a program
- * states it of its own output, it never passes through. */
+ * states it of its own output, it never passes through.
+ * The writing functions return nothing: the first write error is kept and
+ * reported by lam_writer_close (74). */
 void lam_writer_set_distinct(lam_writer *w);
 void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
                        const char *history);
@@ -149,10 +156,60 @@ void lam_writer_term(lam_writer *w, double coef, const char *rest);
 void lam_writer_printf(lam_writer *w, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
 void lam_writer_write(lam_writer *w, const char *buf, size_t len);
-/* Write "#% end", flush and close; exit 74 on any write error. */
-void lam_writer_close(lam_writer *w);
+/* Write "#% end", flush and close (w is freed in any case); 74 on any
+ * write error, now or earlier. */
+int lam_writer_close(lam_writer *w, lam_error *err);
 /* Flush and close without the trailer (for reports). */
-void lam_writer_close_raw(lam_writer *w);
+int lam_writer_close_raw(lam_writer *w, lam_error *err);
+/* Free a writer on a failure path: standard output is not flushed, a file
+ * is closed as it is. */
+void lam_writer_discard(lam_writer *w);
+
+/* ---- exiting forms, for the callers not converted yet (issue 13) ----
+ * pauli.c, fockop.c, lam-sum.c and lam-cost.c still call the reader and
+ * writer the old way, without err; the macros below send such a call to
+ * an exiting form (print, exit).  They go when those files pass an err. */
+_Noreturn void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
+_Noreturn void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
+    __attribute__((format(printf, 3, 4)));
+lam_reader *lam_reader_open_or_exit(const char *path);
+lam_kind lam_reader_kind_or_exit(lam_reader *r);
+int lam_reader_next_or_exit(lam_reader *r, lam_line *out);
+int lam_reader_next_text_or_exit(lam_reader *r, char **text, long *line);
+void lam_reader_split_or_exit(lam_reader *r, char *text, long line, lam_line *out);
+void lam_reader_term_syntax_or_exit(lam_reader *r, const lam_line *ln, int syntax);
+long lam_reader_meta_long_or_exit(lam_reader *r, const char *key, long dflt, long min, long max);
+int lam_reader_index_or_exit(const lam_reader *r, const lam_line *ln, int field, long limit,
+                             const char *what);
+lam_writer *lam_writer_open_or_exit(const char *path, int gzip);
+void lam_writer_close_or_exit(lam_writer *w);
+void lam_writer_close_raw_or_exit(lam_writer *w);
+/* The name for a call with k arguments: the (8-k)th entry of the list
+ * after them (each list: 7 entries and a spare). */
+#define LAM_ARITY_PICK(_1, _2, _3, _4, _5, _6, _7, name, ...) name
+#define lam_reader_open(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_open, -, lam_reader_open_or_exit, -)(__VA_ARGS__)
+#define lam_reader_kind(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_kind, -, lam_reader_kind_or_exit, -)(__VA_ARGS__)
+#define lam_reader_next(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_next, lam_reader_next_or_exit, -, -)(__VA_ARGS__)
+#define lam_reader_next_text(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_reader_next_text, lam_reader_next_text_or_exit, -, -, -)(__VA_ARGS__)
+#define lam_reader_split(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, lam_reader_split, lam_reader_split_or_exit, -, -, -, -)(__VA_ARGS__)
+#define lam_reader_term_syntax(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_reader_term_syntax, lam_reader_term_syntax_or_exit, -, -, -)(__VA_ARGS__)
+#define lam_reader_meta_long(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, lam_reader_meta_long, -, lam_reader_meta_long_or_exit, -, -, -, -, -)(__VA_ARGS__)
+#define lam_reader_index(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, lam_reader_index, -, lam_reader_index_or_exit, -, -, -, -, -)(__VA_ARGS__)
+#define lam_writer_open(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_writer_open, -, lam_writer_open_or_exit, -, -)(__VA_ARGS__)
+#define lam_writer_close(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, -, lam_writer_close, lam_writer_close_or_exit, -)(__VA_ARGS__)
+#define lam_writer_close_raw(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, -, lam_writer_close_raw, lam_writer_close_raw_or_exit, -)(__VA_ARGS__)
 
 /* "lam-xxx arg1 arg2 ..." from argv (program basename); caller frees. */
 char *lam_history_from_argv(int argc, char **argv);
