@@ -13,6 +13,7 @@
 
 #include <stdio.h>
 #include "spinfree.h"
+#include "util.h"
 
 typedef struct {
     lam_spinfree *op;   /* e0, h, g with electrons and ms2 set */
@@ -25,17 +26,18 @@ typedef struct {
     int has_constant;   /* a "0 0 0 0" line was read */
 } lam_fcidump;
 
-/* Read path (NULL or "-" for stdin, gzip allowed).  exit 66 when it cannot
- * be opened, exit 65 with file:line for anything malformed, including
+/* Read path (NULL or "-" for stdin, gzip allowed) into *out; 0, or 66
+ * (err filled) when it cannot be opened, 65 with file:line for anything
+ * malformed, 74 on a read error, including
  * NELEC and MS2 of different parity or |MS2| above what NELEC electrons in
  * NORB orbitals allow.  Warnings on stderr (not errors: the file can be
  * right) for orbitals that no integral line names and for a missing
  * constant line (the last line of a complete file; without it a file cut
  * at a line boundary would pass for a complete one). */
-lam_fcidump *lam_fcidump_read(const char *path);
+int lam_fcidump_read(const char *path, lam_fcidump **out, lam_error *err);
 void lam_fcidump_free(lam_fcidump *fd);
 /* Write header and the unique integrals with |value| > tol (tol = 0 writes
- * every non-zero), 17 significant digits.  exit 74 on write errors. */
-void lam_fcidump_write(FILE *out, const lam_fcidump *fd, double tol);
+ * every non-zero), 17 significant digits.  0, or 74 on write errors. */
+int lam_fcidump_write(FILE *out, const lam_fcidump *fd, double tol, lam_error *err);
 
 #endif

@@ -65,15 +65,24 @@ int main(int argc, char **argv)
     if (argc - optind > 1) lam_usage_error("one FCIDUMP at a time");
     const char *path = optind < argc ? argv[optind] : NULL;
 
-    lam_fcidump *fd = lam_fcidump_read(path);
+    lam_error err;
+    lam_fcidump *fd;
+    if (lam_fcidump_read(path, &fd, &err)) lam_error_exit(&err);
     lam_spinfree *sf = fd->op;
     if (electrons >= 0) {
+        int bad = 0;
         if (electrons > 2L * sf->n)
-            lam_fail(LAM_EX_USAGE, "--electrons %ld exceeds 2 x %d orbitals", electrons, sf->n);
-        if ((electrons + fd->ms2) % 2 != 0)
-            lam_fail_at(LAM_EX_DATA, fd->source, fd->ms2_line,
-                        "--electrons %ld and MS2=%d differ in parity (an electron count and "
-                        "twice its spin projection are both even or both odd)", electrons, fd->ms2);
+            bad = lam_error_set(&err, LAM_EX_USAGE, "--electrons %ld exceeds 2 x %d orbitals",
+                                electrons, sf->n);
+        else if ((electrons + fd->ms2) % 2 != 0)
+            bad = lam_error_at(&err, LAM_EX_DATA, fd->source, fd->ms2_line,
+                               "--electrons %ld and MS2=%d differ in parity (an electron count and "
+                               "twice its spin projection are both even or both odd)",
+                               electrons, fd->ms2);
+        if (bad) {
+            lam_fcidump_free(fd);
+            lam_error_exit(&err);
+        }
         sf->electrons = (int)electrons;
     }
     if (fd->orbital_energy_lines)
@@ -88,7 +97,13 @@ int main(int argc, char **argv)
         lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
     }
     char *history = lam_history_from_argv(argc, argv);
-    lam_writer *w = lam_writer_open(out, gzip);
+    lam_writer *w;
+    if (lam_writer_open(out, gzip, &w, &err)) {
+        free(history);
+        lam_meta_free(&meta);
+        lam_fcidump_free(fd);
+        lam_error_exit(&err);
+    }
     lam_writer_header(w, fermion ? LAM_KIND_FERMION : LAM_KIND_SPINFREE, &meta, history);
     if (fermion) {
         lam_fermion_op op;
@@ -98,9 +113,10 @@ int main(int argc, char **argv)
     } else {
         lam_spinfree_write_terms(w, sf);
     }
-    lam_writer_close(w);
+    int rc = lam_writer_close(w, &err);
     free(history);
     lam_meta_free(&meta);
     lam_fcidump_free(fd);
+    if (rc) lam_error_exit(&err);
     return 0;
 }

@@ -228,7 +228,7 @@ static void clean_integrals(const options *o, lam_spinfree *sf)
                 cl.largest_dropped);
 }
 
-static void write_fcidump(FILE *out, lam_spinfree *sf)
+static int write_fcidump(FILE *out, lam_spinfree *sf, lam_error *err)
 {
     lam_fcidump fd = {0};
     fd.op = sf;
@@ -238,8 +238,9 @@ static void write_fcidump(FILE *out, lam_spinfree *sf)
     fd.isym = 1;
     fd.orbsym = lam_malloc((size_t)sf->n * sizeof *fd.orbsym);
     for (int i = 0; i < sf->n; ++i) fd.orbsym[i] = 1;
-    lam_fcidump_write(out, &fd, 0.0);
+    int rc = lam_fcidump_write(out, &fd, 0.0, err);
     free(fd.orbsym);
+    return rc;
 }
 
 static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
@@ -303,9 +304,11 @@ int main(int argc, char **argv)
         check_orbital_space(&o, s, &active);
         lam_spinfree *sf = held_op = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
         clean_integrals(&o, sf);
-        write_fcidump(out, sf);
+        lam_error err;
+        int rc = write_fcidump(out, sf, &err);
         lam_spinfree_free(sf);
         held_op = NULL;
+        if (rc) lam_error_exit(&err);
     }
     close_output(out, o.output);
     lam_scf_free(s);

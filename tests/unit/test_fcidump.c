@@ -13,7 +13,26 @@ static lam_fcidump *read_text(const char *text)
     FILE *f = fopen(path, "w");
     fputs(text, f);
     fclose(f);
-    return lam_fcidump_read(path);
+    lam_fcidump *fd = NULL;
+    lam_error err;
+    if (lam_fcidump_read(path, &fd, &err) != 0) printf("# unexpected error: %s\n", err.msg);
+    return fd;
+}
+
+/* The error a bad file returns: code, line and message; nothing is left
+ * allocated (the leak checkers see it). */
+static void check_refused(const char *text, long line, const char *msg, const char *name)
+{
+    FILE *f = fopen(path, "w");
+    fputs(text, f);
+    fclose(f);
+    lam_fcidump *fd = (lam_fcidump *)1;
+    lam_error err;
+    int rc = lam_fcidump_read(path, &fd, &err);
+    int ok = rc == LAM_EX_DATA && err.code == LAM_EX_DATA && err.line == line &&
+             strcmp(err.file, path) == 0 && strstr(err.msg, msg) != NULL && fd == NULL;
+    tap_ok(ok, name);
+    if (!ok) printf("#   got %d at line %ld: %s\n", rc, err.line, err.msg);
 }
 
 int main(void)
@@ -57,15 +76,31 @@ int main(void)
                   "0.18128880823111065 2 1 2 1\n0.66346809636271198 2 2 1 1\n"
                   "-1.2524635733533045 1 1 0 0\n0.71375399335041823 0 0 0 0\n");
     FILE *f = fopen(path, "w");
-    lam_fcidump_write(f, d, 0);
+    lam_error err;
+    tap_ok(lam_fcidump_write(f, d, 0, &err) == 0, "write returns 0");
     fclose(f);
-    lam_fcidump *e = lam_fcidump_read(path);
+    lam_fcidump *e = NULL;
+    tap_ok(lam_fcidump_read(path, &e, &err) == 0, "read back returns 0");
     int same = e->op->e0 == d->op->e0;
     for (int i = 0; i < 16; ++i) same &= e->op->g[i] == d->op->g[i];
     for (int i = 0; i < 4; ++i) same &= e->op->h[i] == d->op->h[i];
     tap_ok(same, "write then read gives the same integrals exactly");
     lam_fcidump_free(e);
     lam_fcidump_free(d);
+
+    check_refused("&FCI NORB=2,NELEC=2,MS2=0 &END\n0.5 1 1 1 1\n0.6 1 1 1 1\n0 0 0 0 0\n", 3,
+                  "contradicts 0.5 read at line 2", "a repeated integral that disagrees");
+    check_refused("&FCI NORB=2,NELEC=2,MS2=0 &END\n0.5 1 1 1\n", 2,
+                  "needs 'value i j k l', found 4 fields", "a short integral line");
+    check_refused("&FCI NORB=2,NELEC=x &END\n", 1, "header value 'X' for NELEC is not an integer",
+                  "a header value that is not an integer");
+    check_refused("&FCI NORB=2,NELEC=2\n", 1, "not closed", "an unclosed header");
+    lam_error err2;
+    lam_fcidump *none = NULL;
+    tap_ok(lam_fcidump_read("/nonexistent/lam-fcidump", &none, &err2) == LAM_EX_NOINPUT &&
+               none == NULL && err2.file[0] == '\0' &&
+               strstr(err2.msg, "cannot open /nonexistent/lam-fcidump") != NULL,
+           "a missing file: 66, cannot open");
     unlink(path);
     return tap_done();
 }
