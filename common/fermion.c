@@ -1,6 +1,7 @@
 /* fermion.c - ladder terms, normal ordering, and Majorana monomials. */
 #include "fermion.h"
 
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -30,14 +31,22 @@ int lam_spin_order_parse(const char *name, lam_spin_order *o)
     return -1;
 }
 
-lam_spin_order lam_reader_spin_order(lam_reader *r, lam_spin_order dflt)
+int lam_reader_spin_order(lam_reader *r, lam_spin_order dflt, lam_spin_order *order,
+                          lam_error *err)
 {
     const lam_meta_entry *e = lam_meta_find(lam_reader_meta(r), "spin-order");
+    *order = dflt;
+    if (e && lam_spin_order_parse(e->value, order) != 0)
+        return lam_reader_error(r, e->line, err,
+                                "'spin-order: %s' is neither interleaved nor blocked", e->value);
+    return 0;
+}
+
+lam_spin_order lam_reader_spin_order_or_exit(lam_reader *r, lam_spin_order dflt)
+{
+    lam_error e;
     lam_spin_order o;
-    if (!e) return dflt;
-    if (lam_spin_order_parse(e->value, &o) != 0)
-        lam_reader_fail_line(r, e->line, "'spin-order: %s' is neither interleaved nor blocked",
-                             e->value);
+    if (lam_reader_spin_order(r, dflt, &o, &e)) lam_error_exit(&e);
     return o;
 }
 
@@ -79,9 +88,7 @@ void lam_fermion_add(lam_fermion_op *op, double coef, const int32_t *ops, int k,
         op->opcap = cap;
     }
     for (int i = 0; i < k; ++i) {
-        if (LAM_LADDER_MODE(ops[i]) >= op->nmodes)
-            lam_fail(LAM_EX_SOFTWARE, "internal: mode %d beyond %d modes",
-                     (int)LAM_LADDER_MODE(ops[i]), op->nmodes);
+        assert(LAM_LADDER_MODE(ops[i]) < op->nmodes); /* callers check the modes */
         op->ops[op->nops + (size_t)i] = ops[i];
     }
     op->nops += (size_t)k;
@@ -123,47 +130,51 @@ static long parse_mode(const char *tok)
 
 /* Version 2: "3 1 / 0 2" is a+3 a+1 a0 a2.  A mode twice on one side
  * makes the term zero, which no writer writes: refused as a typo. */
-static void parse_term_v2(const lam_reader *r, const lam_line *ln, int32_t *buf)
+static int parse_term_v2(const lam_reader *r, const lam_line *ln, int32_t *buf, lam_error *err)
 {
     int slash = -1;
     for (int f = 0; f < ln->nfields; ++f)
         if (strcmp(ln->fields[f], "/") == 0) {
             if (slash >= 0)
-                lam_reader_fail_line(r, ln->line, "a fermion term has one '/', this one two");
+                return lam_reader_error(r, ln->line, err,
+                                        "a fermion term has one '/', this one two");
             slash = f;
         }
     if (slash < 0)
-        lam_reader_fail_line(r, ln->line,
-                             "a fermion term needs a '/' between creators and annihilators "
-                             "(such as '3 1 / 0 2')");
+        return lam_reader_error(r, ln->line, err,
+                                "a fermion term needs a '/' between creators and annihilators "
+                                "(such as '3 1 / 0 2')");
     for (int f = 0; f < ln->nfields; ++f) {
         if (f == slash) continue;
         long mode = parse_mode(ln->fields[f]);
         if (mode < 0)
-            lam_reader_fail_line(r, ln->line, "'%s' is not a mode (want an index from 0)",
-                                 ln->fields[f]);
+            return lam_reader_error(r, ln->line, err, "'%s' is not a mode (want an index from 0)",
+                                    ln->fields[f]);
         int creator = f < slash;
         int k = f < slash ? f : f - 1;
         buf[k] = (int32_t)(creator ? LAM_CREATE(mode) : LAM_ANNIHILATE(mode));
         for (int j = creator ? 0 : slash; j < k; ++j)
             if (buf[j] == buf[k])
-                lam_reader_fail_line(r, ln->line, "mode %ld is %s twice (the term would be zero)",
-                                     mode, creator ? "created" : "annihilated");
+                return lam_reader_error(r, ln->line, err,
+                                        "mode %ld is %s twice (the term would be zero)", mode,
+                                        creator ? "created" : "annihilated");
     }
+    return 0;
 }
 
 /* Version 1: "3+ 1+ 0- 2-", any order. */
-static void parse_term_v1(const lam_reader *r, const lam_line *ln, int32_t *buf)
+static int parse_term_v1(const lam_reader *r, const lam_line *ln, int32_t *buf, lam_error *err)
 {
     for (int f = 0; f < ln->nfields; ++f) {
         long o = parse_ladder(ln->fields[f]);
         if (o < 0)
-            lam_reader_fail_line(r, ln->line,
-                                 "'%s' is not a ladder operator of a version-1 term (want N+ "
-                                 "or N-)",
-                                 ln->fields[f]);
+            return lam_reader_error(r, ln->line, err,
+                                    "'%s' is not a ladder operator of a version-1 term (want N+ "
+                                    "or N-)",
+                                    ln->fields[f]);
         buf[f] = (int32_t)o;
     }
+    return 0;
 }
 
 /* The spelling of a fermion term: 1 when its first field is "N+"/"N-",
@@ -175,35 +186,56 @@ static int fermion_spelling(const lam_line *ln)
     return parse_ladder(ln->fields[0]) >= 0 ? 1 : 2;
 }
 
-void lam_fermion_read(lam_reader *r, lam_fermion_op *op)
+/* One term line into buf (its ladder operators, *nops of them). */
+static int parse_fermion_line(lam_reader *r, const lam_line *ln, long declared, int32_t *buf,
+                              int *nops, int *top, lam_error *err)
 {
-    long declared = lam_reader_meta_long(r, "modes", -1, 0, LAM_MAX_MODES);
+    int spelling = fermion_spelling(ln);
+    int rc = spelling ? lam_reader_term_syntax(r, ln, spelling, err) : 0;
+    if (rc) return rc;
+    *nops = ln->nfields - (spelling == 2);
+    if (*nops > LAM_MAX_LADDER)
+        return lam_reader_error(r, ln->line, err, "a term has %d ladder operators (at most %d)",
+                                *nops, LAM_MAX_LADDER);
+    rc = spelling == 2 ? parse_term_v2(r, ln, buf, err) : parse_term_v1(r, ln, buf, err);
+    if (rc) return rc;
+    for (int k = 0; k < *nops; ++k) {
+        long mode = LAM_LADDER_MODE(buf[k]);
+        if (declared >= 0 && mode >= declared)
+            return lam_reader_error(r, ln->line, err,
+                                    "mode %ld out of range (the stream has %ld modes)", mode,
+                                    declared);
+        if (mode + 1 > *top) *top = (int)mode + 1;
+    }
+    return 0;
+}
+
+int lam_fermion_read(lam_reader *r, lam_fermion_op *op, lam_error *err)
+{
+    long declared;
+    memset(op, 0, sizeof *op);
+    int rc = lam_reader_meta_long(r, "modes", -1, 0, LAM_MAX_MODES, &declared, err);
+    if (rc) return rc;
     lam_fermion_init(op, declared < 0 ? (int)LAM_MAX_MODES : (int)declared);
     int32_t buf[LAM_MAX_LADDER + 1];
-    int top = 0;
+    int top = 0, nops = 0;
     lam_line ln;
-    while (lam_reader_next(r, &ln)) {
-        int spelling = fermion_spelling(&ln);
-        if (spelling) lam_reader_term_syntax(r, &ln, spelling);
-        int nops = ln.nfields - (spelling == 2);
-        if (nops > LAM_MAX_LADDER)
-            lam_reader_fail_line(r, ln.line, "a term has %d ladder operators (at most %d)",
-                                 nops, LAM_MAX_LADDER);
-        if (spelling == 2)
-            parse_term_v2(r, &ln, buf);
-        else
-            parse_term_v1(r, &ln, buf);
-        for (int k = 0; k < nops; ++k) {
-            long mode = LAM_LADDER_MODE(buf[k]);
-            if (declared >= 0 && mode >= declared)
-                lam_reader_fail_line(r, ln.line,
-                                     "mode %ld out of range (the stream has %ld modes)",
-                                     mode, declared);
-            if (mode + 1 > top) top = (int)mode + 1;
-        }
+    while ((rc = lam_reader_next(r, &ln, err)) == 1) {
+        if ((rc = parse_fermion_line(r, &ln, declared, buf, &nops, &top, err)) != 0) break;
         lam_fermion_add(op, ln.coef, buf, nops, ln.line);
     }
+    if (rc) {
+        lam_fermion_free(op);
+        return rc;
+    }
     if (declared < 0) op->nmodes = top;
+    return 0;
+}
+
+void lam_fermion_read_or_exit(lam_reader *r, lam_fermion_op *op)
+{
+    lam_error e;
+    if (lam_fermion_read(r, op, &e)) lam_error_exit(&e);
 }
 
 /* 1 when every creator of the term stands before every annihilator. */
@@ -390,8 +422,7 @@ void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out)
     for (size_t t = 0; t < in->count; ++t) {
         work_term w;
         size_t k = lam_fermion_length(in, t);
-        if (k > LAM_MAX_LADDER)
-            lam_fail(LAM_EX_SOFTWARE, "internal: a term of %zu ladder operators", k);
+        assert(k <= LAM_MAX_LADDER); /* the reader and lam_fermion_add keep it */
         w.coef = in->coef[t];
         w.line = in->line[t];
         w.k = (int)k;
@@ -572,13 +603,10 @@ void lam_majorana_add(lam_majorana_set *m, const int *idx, int k, double re, dou
 {
     int local[2 * LAM_MAX_LADDER];
     uint64_t rowbuf[8];
-    if (k > 2 * LAM_MAX_LADDER)
-        lam_fail(LAM_EX_SOFTWARE, "internal: Majorana product of %d factors", k);
+    assert(k <= 2 * LAM_MAX_LADDER); /* callers build products of at most this */
     uint64_t *row = m->nwords <= 8 ? rowbuf : lam_malloc((size_t)m->nwords * sizeof(uint64_t));
     for (int i = 0; i < k; ++i) {
-        if (idx[i] < 0 || idx[i] >= 2 * m->nmodes)
-            lam_fail(LAM_EX_SOFTWARE, "internal: Majorana %d beyond %d modes", idx[i],
-                     m->nmodes);
+        assert(idx[i] >= 0 && idx[i] < 2 * m->nmodes);
         local[i] = idx[i];
     }
     int sign = reduce_monomial(local, k, row, m->nwords);
@@ -593,8 +621,7 @@ void lam_majorana_from_fermion(const lam_fermion_op *op, lam_majorana_set *m)
     for (size_t t = 0; t < op->count; ++t) {
         size_t k = lam_fermion_length(op, t);
         const int32_t *ops = op->ops + op->first[t];
-        if (k > LAM_MAX_LADDER)
-            lam_fail(LAM_EX_SOFTWARE, "internal: a term of %zu ladder operators", k);
+        assert(k <= LAM_MAX_LADDER);
         /* a_j = (g_2j + i g_2j+1)/2, a+_j = (g_2j - i g_2j+1)/2: choice bit 1
          * picks g_2j+1 with its factor +-i */
         for (unsigned long pick = 0; pick < (1UL << k); ++pick) {
@@ -719,17 +746,24 @@ int lam_majorana_degree(const lam_majorana_set *m, size_t t)
  * 2,3 mod 4, because (g_S)+ = (-1)^(k(k-1)/2) g_S. */
 static int imaginary_phase(int degree) { return (degree % 4) >= 2; }
 
-void lam_majorana_require_hermitian(lam_majorana_set *m, const char *src)
+int lam_majorana_require_hermitian(lam_majorana_set *m, const char *src, lam_error *err)
 {
     for (size_t t = 0; t < m->count; ++t) {
         double *wrong = imaginary_phase(lam_majorana_degree(m, t)) ? &m->re[t] : &m->im[t];
         if (fabs(*wrong) > 1e-12 * m->mass[t] && *wrong != 0.0)
-            lam_fail_at(LAM_EX_DATA, src, m->line[t],
-                        "the operator is not Hermitian: this term's conjugate is missing or "
-                        "has another coefficient (anti-Hermitian part %.3g)",
-                        fabs(*wrong));
+            return lam_error_at(err, LAM_EX_DATA, src, m->line[t],
+                                "the operator is not Hermitian: this term's conjugate is missing "
+                                "or has another coefficient (anti-Hermitian part %.3g)",
+                                fabs(*wrong));
         *wrong = 0.0;
     }
+    return 0;
+}
+
+void lam_majorana_require_hermitian_or_exit(lam_majorana_set *m, const char *src)
+{
+    lam_error e;
+    if (lam_majorana_require_hermitian(m, src, &e)) lam_error_exit(&e);
 }
 
 double lam_majorana_value(const lam_majorana_set *m, size_t t)
@@ -755,12 +789,13 @@ double lam_majorana_constant(const lam_majorana_set *m)
 
 /* ------------------------------------------------------------ streams */
 
-void lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_order to)
+int lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_order to,
+                             lam_error *err)
 {
-    if (from == to) return;
+    if (from == to) return 0;
     if (op->nmodes % 2)
-        lam_fail(LAM_EX_DATA, "%d modes cannot be relabelled by spin (an odd count)",
-                 op->nmodes);
+        return lam_error_set(err, LAM_EX_DATA,
+                             "%d modes cannot be relabelled by spin (an odd count)", op->nmodes);
     int n = op->nmodes / 2;
     for (size_t i = 0; i < op->nops; ++i) {
         int j = (int)LAM_LADDER_MODE(op->ops[i]);
@@ -769,6 +804,7 @@ void lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_
         int k = lam_spin_mode(to, n, p, s);
         op->ops[i] = LAM_LADDER_IS_CREATOR(op->ops[i]) ? LAM_CREATE(k) : LAM_ANNIHILATE(k);
     }
+    return 0;
 }
 
 /* The first pair of entries that breaks h_pq = h_qp or
@@ -796,27 +832,36 @@ void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src)
                                     LAM_G(sf, q, p, s, r));
 }
 
-lam_spin_order lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
-                                 lam_majorana_set *m)
+int lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
+                      lam_majorana_set *m, lam_spin_order *used, lam_error *err)
 {
     const char *src = lam_reader_name(r);
-    lam_spin_order stream_order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+    lam_spin_order stream_order;
+    memset(m, 0, sizeof *m);
+    int rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &stream_order, err);
+    if (rc) return rc;
     lam_spin_order out = order ? *order : stream_order;
     if (kind == LAM_KIND_SPINFREE) {
-        lam_spinfree *sf = lam_spinfree_read(r);
+        lam_spinfree *sf;
+        if ((rc = lam_spinfree_read(r, &sf, err)) != 0) return rc;
         lam_spinfree_require_hermitian(sf, src);
         lam_majorana_from_spinfree_any(sf, out, m);
         lam_spinfree_free(sf);
     } else if (kind == LAM_KIND_FERMION) {
         lam_fermion_op op;
-        lam_fermion_read(r, &op);
-        lam_fermion_relabel_spin(&op, stream_order, out);
-        lam_majorana_from_fermion(&op, m);
+        if ((rc = lam_fermion_read(r, &op, err)) != 0) return rc;
+        rc = lam_fermion_relabel_spin(&op, stream_order, out, err);
+        if (!rc) lam_majorana_from_fermion(&op, m);
         lam_fermion_free(&op);
+        if (rc) return rc;
     } else {
-        lam_fail_at(LAM_EX_DATA, src, 0, "a %s stream cannot be read as fermion operators",
-                    lam_kind_name(kind));
+        return lam_error_at(err, LAM_EX_DATA, src, 0,
+                            "a %s stream cannot be read as fermion operators", lam_kind_name(kind));
     }
-    lam_majorana_require_hermitian(m, src);
-    return out;
+    if ((rc = lam_majorana_require_hermitian(m, src, err)) != 0) {
+        lam_majorana_free(m);
+        return rc;
+    }
+    *used = out;
+    return 0;
 }

@@ -36,9 +36,10 @@ static inline int lam_spin_mode(lam_spin_order o, int n, int p, int spin)
 {
     return o == LAM_SPIN_INTERLEAVED ? 2 * p + spin : spin * n + p;
 }
-/* "spin-order:" of a stream's metadata; dflt when absent, exit 65 naming
- * the line when it is neither name. */
-lam_spin_order lam_reader_spin_order(lam_reader *r, lam_spin_order dflt);
+/* "spin-order:" of a stream's metadata into *order; dflt when absent, 65
+ * naming the line when it is neither name. */
+int lam_reader_spin_order(lam_reader *r, lam_spin_order dflt, lam_spin_order *order,
+                          lam_error *err);
 
 /* ---- ladder terms ---- */
 
@@ -77,9 +78,9 @@ void lam_fermion_add(lam_fermion_op *op, double coef, const int32_t *ops, int k,
  * largest mode + 1.  Version 2 "c 3 1 / 0 2" (creators, "/",
  * annihilators, each side in any order, as written; the bare "c" is the
  * constant) or version 1 "c 3+ 1+ 0- 2-".  A malformed field, a missing
- * or second "/", a mode twice on one side or out of range: exit 65 with
- * file:line. */
-void lam_fermion_read(lam_reader *r, lam_fermion_op *op);
+ * or second "/", a mode twice on one side or out of range: 65 with
+ * file:line, and *op left empty (freed). */
+int lam_fermion_read(lam_reader *r, lam_fermion_op *op, lam_error *err);
 /* Write every term in version 2, canonical: creators by descending mode,
  * "/", annihilators by ascending mode, with the sign of the reordering
  * ("c 3 1 / 0 2"; "c 2 /" and "c / 0" for one side; the constant as the
@@ -109,8 +110,9 @@ void lam_fermion_add_spinfree_term(lam_fermion_op *out, lam_spin_order order, in
                                    int nidx, const int *idx, long line);
 
 /* Rename the modes of an operator written in spin order `from` to the
- * modes of spin order `to` (nmodes must be even). */
-void lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_order to);
+ * modes of spin order `to`; 65 when nmodes is odd. */
+int lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_order to,
+                             lam_error *err);
 
 /* ---- Majorana monomials ---- */
 typedef struct {
@@ -144,10 +146,11 @@ void lam_majorana_from_spinfree_any(const lam_spinfree *sf, lam_spin_order order
                                     lam_majorana_set *m);
 /* Number of Majoranas in monomial t. */
 int lam_majorana_degree(const lam_majorana_set *m, size_t t);
-/* Fail (exit 65, "src:LINE: ...") when a monomial's coefficient is not of
- * the Hermitian phase, beyond rounding (1e-12 of the contributions); else
- * clear the rounding-level wrong-phase parts.  src names the input. */
-void lam_majorana_require_hermitian(lam_majorana_set *m, const char *src);
+/* 65 ("src:LINE: ...") when a monomial's coefficient is not of the
+ * Hermitian phase, beyond rounding (1e-12 of the contributions); else
+ * clear the rounding-level wrong-phase parts and return 0.  src names the
+ * input. */
+int lam_majorana_require_hermitian(lam_majorana_set *m, const char *src, lam_error *err);
 /* Real magnitude of the Hermitian coefficient of monomial t: re for
  * degree 0,1 mod 4, im for 2,3 mod 4 (after require_hermitian). */
 double lam_majorana_value(const lam_majorana_set *m, size_t t);
@@ -162,10 +165,22 @@ void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src);
 /* The operator of a spinfree or fermion stream as merged Majorana
  * monomials, with modes in spin order *order (NULL: the stream's own
  * "spin-order:", interleaved when absent; a fermion stream is relabelled
- * when they differ).  A non-Hermitian operator or another kind: exit 65
- * naming the stream (and the line where one is known).  Returns the spin
- * order used. */
-lam_spin_order lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
-                                 lam_majorana_set *m);
+ * when they differ).  A non-Hermitian operator or another kind: 65
+ * naming the stream (and the line where one is known), m left empty.
+ * *used gets the spin order used. */
+int lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
+                      lam_majorana_set *m, lam_spin_order *used, lam_error *err);
+
+/* Exiting forms for fockop.c, rotate.c and lam-sum.c until they pass an
+ * err (issue 13). */
+lam_spin_order lam_reader_spin_order_or_exit(lam_reader *r, lam_spin_order dflt);
+void lam_fermion_read_or_exit(lam_reader *r, lam_fermion_op *op);
+void lam_majorana_require_hermitian_or_exit(lam_majorana_set *m, const char *src);
+#define lam_reader_spin_order(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_reader_spin_order, -, lam_reader_spin_order_or_exit, -, -)(__VA_ARGS__)
+#define lam_fermion_read(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_fermion_read, lam_fermion_read_or_exit, -, -)(__VA_ARGS__)
+#define lam_majorana_require_hermitian(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_majorana_require_hermitian, lam_majorana_require_hermitian_or_exit, -, -)(__VA_ARGS__)
 
 #endif

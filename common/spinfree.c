@@ -1,6 +1,7 @@
 /* spinfree.c - dense spin-free operators: storage, stream I/O, closed forms. */
 #include "spinfree.h"
 
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -15,7 +16,8 @@ size_t lam_spinfree_bytes(int n)
 
 lam_spinfree *lam_spinfree_new(int n)
 {
-    if (n < 0 || n > 4096) lam_fail(LAM_EX_SOFTWARE, "orbital count %d out of range", n);
+    /* the readers keep n in 0..4096; anything else is a caller's bug */
+    assert(n >= 0 && n <= 4096);
     lam_spinfree *sf = lam_calloc(1, sizeof *sf);
     size_t nn = (size_t)n * (size_t)n;
     sf->n = n;
@@ -75,74 +77,93 @@ static void apply_term(lam_spinfree *sf, const held_term *t)
         lam_spinfree_add_two(sf, t->idx[0], t->idx[1], t->idx[2], t->idx[3], t->c);
 }
 
-static void parse_term(lam_reader *r, const lam_line *ln, long limit, held_term *t)
+static int parse_term(lam_reader *r, const lam_line *ln, long limit, held_term *t,
+                      lam_error *err)
 {
     if (!field_count_ok(ln->nfields))
-        lam_reader_fail_line(r, ln->line,
-                             "a spinfree term has 0, 2 or 4 orbital indices, not %d",
-                             ln->nfields);
+        return lam_reader_error(r, ln->line, err,
+                                "a spinfree term has 0, 2 or 4 orbital indices, not %d",
+                                ln->nfields);
     t->c = ln->coef;
     t->nidx = ln->nfields;
     t->line = ln->line;
-    for (int i = 0; i < ln->nfields; ++i)
-        t->idx[i] = lam_reader_index(r, ln, i, limit, "orbital");
+    int rc = 0;
+    for (int i = 0; i < ln->nfields && !rc; ++i)
+        rc = lam_reader_index(r, ln, i, limit, "orbital", &t->idx[i], err);
+    return rc;
 }
 
-/* The operator being read stays reachable while the reader may leave the
- * program on bad input (an error exits), so that leak checkers do not
- * count it as lost (volatile: the stores must stay, nothing reads them). */
-static lam_spinfree *volatile being_read;
-
-lam_spinfree *lam_spinfree_read(lam_reader *r)
+/* The terms after the header: into sf when the orbital count is known,
+ * else held in *held until the largest index is. */
+static int read_terms(lam_reader *r, long n, lam_spinfree *sf, held_term **held, size_t *nheld,
+                      int *maxidx, lam_error *err)
 {
-    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
-    lam_spinfree *sf = NULL;
-    held_term *held = NULL;
-    size_t nheld = 0, cap = 0;
-    int maxidx = -1;
+    size_t cap = 0;
     lam_line ln;
     held_term t;
-    if (n >= 0) sf = being_read = lam_spinfree_new((int)n);
-    while (lam_reader_next(r, &ln)) {
-        parse_term(r, &ln, n >= 0 ? n : 4096, &t);
+    int rc;
+    while ((rc = lam_reader_next(r, &ln, err)) == 1) {
+        if ((rc = parse_term(r, &ln, n >= 0 ? n : 4096, &t, err)) != 0) return rc;
         if (sf) {
             apply_term(sf, &t);
             continue;
         }
-        /* No "orbitals:" header: hold the terms until the largest index
-         * is known. */
         for (int i = 0; i < t.nidx; ++i)
-            if (t.idx[i] > maxidx) maxidx = t.idx[i];
-        if (nheld == cap) {
+            if (t.idx[i] > *maxidx) *maxidx = t.idx[i];
+        if (*nheld == cap) {
             cap = cap ? 2 * cap : 1024;
-            held = lam_realloc(held, lam_mul_size(cap, sizeof *held));
+            *held = lam_realloc(*held, lam_mul_size(cap, sizeof **held));
         }
-        held[nheld++] = t;
+        (*held)[(*nheld)++] = t;
     }
-    if (!sf) {
-        sf = being_read = lam_spinfree_new(maxidx + 1);
-        for (size_t i = 0; i < nheld; ++i) apply_term(sf, &held[i]);
-        free(held);
-    }
-    sf->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n);
-    sf->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -sf->n, sf->n);
-    being_read = NULL;
-    return sf;
+    return rc;
 }
 
-int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx)
+int lam_spinfree_read(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
-    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    *out = NULL;
+    long n, electrons, ms2;
+    int rc = lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, err);
+    if (rc) return rc;
+    lam_spinfree *sf = n >= 0 ? lam_spinfree_new((int)n) : NULL;
+    held_term *held = NULL;
+    size_t nheld = 0;
+    int maxidx = -1;
+    rc = read_terms(r, n, sf, &held, &nheld, &maxidx, err);
+    if (!rc && !sf) {
+        sf = lam_spinfree_new(maxidx + 1);
+        for (size_t i = 0; i < nheld; ++i) apply_term(sf, &held[i]);
+    }
+    free(held);
+    if (!rc) rc = lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n, &electrons, err);
+    if (!rc) rc = lam_reader_meta_long(r, "ms2", 0, -sf->n, sf->n, &ms2, err);
+    if (rc) {
+        lam_spinfree_free(sf);
+        return rc;
+    }
+    sf->electrons = (int)electrons;
+    sf->ms2 = (int)ms2;
+    *out = sf;
+    return 0;
+}
+
+int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx, int *norb,
+                           lam_error *err)
+{
+    long n;
+    int rc = lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, err);
+    if (rc) return rc;
     if (n < 0)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "term by term reading needs an 'orbitals:' line in the header");
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "term by term reading needs an 'orbitals:' line in the header");
+    *norb = (int)n;
     lam_line ln;
     held_term t;
-    while (lam_reader_next(r, &ln)) {
-        parse_term(r, &ln, n, &t);
+    while ((rc = lam_reader_next(r, &ln, err)) == 1) {
+        if ((rc = parse_term(r, &ln, n, &t, err)) != 0) return rc;
         fn(ctx, t.c, t.nidx, t.idx, t.line);
     }
-    return (int)n;
+    return rc;
 }
 
 /* ---- writing ---- */
@@ -296,4 +317,12 @@ double lam_spinfree_lambda(const lam_spinfree *sf)
                 for (int s = 0; s < q; ++s)
                     same_spin += fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, p, s, r, q));
     return one + 0.25 * mixed + 0.5 * same_spin;
+}
+
+lam_spinfree *lam_spinfree_read_or_exit(lam_reader *r)
+{
+    lam_error e;
+    lam_spinfree *sf;
+    if (lam_spinfree_read(r, &sf, &e)) lam_error_exit(&e);
+    return sf;
 }

@@ -40,15 +40,21 @@ void lam_spinfree_add_two(lam_spinfree *sf, int p, int q, int r, int s,
                           double c);
 
 /* Read the terms of a spinfree stream (the header already read by
- * lam_reader_open).  Orbital count from "orbitals:" or, when absent, from
- * the largest index.  "electrons:" and "ms2:" are taken when present. */
-lam_spinfree *lam_spinfree_read(lam_reader *r);
+ * lam_reader_open) into *out.  Orbital count from "orbitals:" or, when
+ * absent, from the largest index.  "electrons:" and "ms2:" are taken when
+ * present.  0, or the reader's error code (nothing left allocated). */
+int lam_spinfree_read(lam_reader *r, lam_spinfree **out, lam_error *err);
 /* Read the terms of a spinfree stream that declares "orbitals: n" one at a
  * time, without the dense n^4 arrays: fn gets each line's coefficient and
- * indices (c alone, c E_pq or c e_pqrs) and its line number.  Returns n;
- * a stream without "orbitals:" is refused (exit 65). */
+ * indices (c alone, c E_pq or c e_pqrs) and its line number; *norb gets n.
+ * A stream without "orbitals:" is refused (65). */
 typedef void (*lam_spinfree_line_visit)(void *ctx, double c, int nidx, const int *idx, long line);
-int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx);
+int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx, int *norb,
+                           lam_error *err);
+/* Exiting form for lam-sum.c until it passes an err (issue 13). */
+lam_spinfree *lam_spinfree_read_or_exit(lam_reader *r);
+#define lam_spinfree_read(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_spinfree_read, -, lam_spinfree_read_or_exit, -)(__VA_ARGS__)
 /* Visit the terms in stream order: the constant (nidx 0), every non-zero
  * h_pq (nidx 2), and e_pqrs for (pq) <= (rs) with the coefficient of the
  * merged pair (nidx 4), non-zero only. */

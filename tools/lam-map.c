@@ -1,8 +1,10 @@
 /* lam-map - spinfree or fermion operator stream to Pauli strings. */
+#include <assert.h>
 #include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "encoding.h"
 #include "fermion.h"
@@ -107,11 +109,13 @@ static void parse_options(int argc, char **argv, options *o)
  * orbitals would otherwise ask for 650 TB). */
 #define DENSE_SPINFREE_BYTES (256.0 * 1024 * 1024)
 
-static int wants_term_by_term(lam_reader *r, lam_kind kind)
+static int wants_term_by_term(lam_reader *r, lam_kind kind, int *yes, lam_error *err)
 {
-    if (kind != LAM_KIND_SPINFREE) return 0;
-    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
-    return n >= 0 && (double)lam_spinfree_bytes((int)n) > DENSE_SPINFREE_BYTES;
+    long n = -1;
+    int rc = kind == LAM_KIND_SPINFREE ? lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, err)
+                                       : 0;
+    *yes = n >= 0 && (double)lam_spinfree_bytes((int)n) > DENSE_SPINFREE_BYTES;
+    return rc;
 }
 
 typedef struct {
@@ -126,19 +130,31 @@ static void add_sparse_term(void *ctx, double c, int nidx, const int *idx, long 
     lam_fermion_add_spinfree_term(&s->op, s->order, s->n, c, nidx, idx, line);
 }
 
-/* The Majorana monomials of a large spinfree stream, term by term. */
-static lam_spin_order read_majorana_term_by_term(lam_reader *r, const options *o,
-                                                 lam_majorana_set *m)
+/* The Majorana monomials of a large spinfree stream, term by term (m is
+ * left empty on error). */
+static int read_majorana_term_by_term(lam_reader *r, const options *o, lam_majorana_set *m,
+                                      lam_spin_order *used, lam_error *err)
 {
     sparse_ctx s;
-    s.order = o->spin_given ? o->spin : lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
-    s.n = (int)lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
+    long n;
+    int norb, rc;
+    memset(m, 0, sizeof *m);
+    s.order = o->spin;
+    if (!o->spin_given && (rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &s.order, err)))
+        return rc;
+    if ((rc = lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, err))) return rc;
+    s.n = (int)n;
     lam_fermion_init(&s.op, 2 * s.n);
-    lam_spinfree_read_each(r, add_sparse_term, &s);
-    lam_majorana_from_fermion(&s.op, m);
+    rc = lam_spinfree_read_each(r, add_sparse_term, &s, &norb, err);
+    if (!rc) lam_majorana_from_fermion(&s.op, m);
     lam_fermion_free(&s.op);
-    lam_majorana_require_hermitian(m, lam_reader_name(r));
-    return s.order;
+    if (!rc) rc = lam_majorana_require_hermitian(m, lam_reader_name(r), err);
+    if (rc) {
+        lam_majorana_free(m);
+        return rc;
+    }
+    *used = s.order;
+    return 0;
 }
 
 /* Strings go straight to the output, so no set of them is ever held;
@@ -156,8 +172,9 @@ static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double
 {
     writer_ctx *c = ctx;
     if (lam_drop_takes(c->drop, coef, lam_pauli_is_identity(c->nwords, x, z))) return;
-    if (lam_pauli_format(c->buf, c->size, c->nwords, x, z) < 0)
-        lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+    int len = lam_pauli_format(c->buf, c->size, c->nwords, x, z);
+    assert(len >= 0); /* the buffer holds 10 bytes a qubit and more */
+    (void)len;
     lam_writer_term(c->w, coef, c->buf);
     ++c->kept;
 }
@@ -169,23 +186,32 @@ int main(int argc, char **argv)
                  LAM_KIND_UNKNOWN, NULL, NULL};
     parse_options(argc, argv, &o);
 
-    /* static: what main holds stays reachable when the output cannot be
-     * opened below (the leak checker counts every exit path) */
-    static lam_reader *r;
-    static lam_majorana_set m;
-    static lam_encoding *enc;
-    static lam_meta meta;
-    static char *history;
-    r = lam_reader_open(o.input);
+    lam_error err;
+    lam_reader *r = NULL;
+    lam_majorana_set m;
+    lam_encoding *enc = NULL;
+    lam_meta meta;
+    char *history = NULL;
+    writer_ctx c = {NULL, 0, NULL, 0, &o.drop, 0};
+    lam_kind kind;
+    lam_spin_order order;
+    int rc, by_term = 0;
+    memset(&m, 0, sizeof m);
+    lam_meta_init(&meta);
+    if ((rc = lam_reader_open(o.input, &r, &err))) goto done;
     if (o.kind != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, o.kind);
-    lam_kind kind = lam_reader_kind(r);
-    if (kind != LAM_KIND_SPINFREE && kind != LAM_KIND_FERMION)
-        lam_reader_fail(r, "a %s stream: lam-map maps spinfree or fermion streams",
-                        lam_kind_name(kind));
+    if ((rc = lam_reader_kind(r, &kind, &err))) goto done;
+    if (kind != LAM_KIND_SPINFREE && kind != LAM_KIND_FERMION) {
+        rc = lam_reader_error(r, lam_reader_lineno(r), &err,
+                              "a %s stream: lam-map maps spinfree or fermion streams",
+                              lam_kind_name(kind));
+        goto done;
+    }
     double t0 = lam_seconds();
-    lam_spin_order order = wants_term_by_term(r, kind)
-                               ? read_majorana_term_by_term(r, &o, &m)
-                               : lam_majorana_read(r, kind, o.spin_given ? &o.spin : NULL, &m);
+    if ((rc = wants_term_by_term(r, kind, &by_term, &err))) goto done;
+    rc = by_term ? read_majorana_term_by_term(r, &o, &m, &order, &err)
+                 : lam_majorana_read(r, kind, o.spin_given ? &o.spin : NULL, &m, &order, &err);
+    if (rc) goto done;
     lam_progress("%zu Majorana monomials in %.1f s", m.count, lam_seconds() - t0);
 
     enc = lam_encoding_new(o.encoding, m.nmodes);
@@ -197,22 +223,28 @@ int main(int argc, char **argv)
     lam_meta_set(&meta, "encoding", lam_encoding_name(o.encoding));
     lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
     history = lam_history_from_argv(argc, argv);
-    writer_ctx c = {lam_writer_open(o.output, o.gzip), enc->nwords, NULL,
-                    (size_t)m.nmodes * 10 + 32, &o.drop, 0};
+    if ((rc = lam_writer_open(o.output, o.gzip, &c.w, &err))) goto done;
+    c.nwords = enc->nwords;
+    c.size = (size_t)m.nmodes * 10 + 32;
     c.buf = lam_malloc(c.size);
     /* merged Majorana monomials map one to one onto Pauli strings */
     lam_writer_set_distinct(c.w);
     lam_writer_header(c.w, LAM_KIND_PAULI, &meta, history);
     lam_encoding_each_pauli(enc, &m, write_string, &c);
-    lam_writer_close(c.w);
+    rc = lam_writer_close(c.w, &err);
+    c.w = NULL;
+    if (rc) goto done;
     lam_progress("%zu Pauli strings written in %.1f s", c.kept, lam_seconds() - t0);
     lam_drop_say(&o.drop);
 
+done:
+    lam_writer_discard(c.w);
     free(c.buf);
     free(history);
     lam_meta_free(&meta);
     lam_encoding_free(enc);
     lam_majorana_free(&m);
     lam_reader_close(r);
+    if (rc) lam_error_exit(&err);
     return 0;
 }

@@ -13,6 +13,9 @@
 
 /* Parse "c o o o; c o o" into an operator (modes < 8); o is a+N for the
  * creator or aN for the annihilator of mode N, in any order. */
+/* The error of the calls expected to succeed (printed when one fails). */
+static lam_error test_err;
+
 static void build(lam_fermion_op *op, const char *text)
 {
     lam_fermion_init(op, 8);
@@ -132,7 +135,7 @@ static void test_majorana(void)
     int ok = t >= 0 && fabs(m.re[t]) < 1e-16 && fabs(m.im[t] - 0.5) < 1e-16 &&
              fabs(lam_majorana_constant(&m) - 0.5) < 1e-16;
     tap_ok(ok, "n_1 = 1/2 + (i/2) g_2 g_3");
-    lam_majorana_require_hermitian(&m, "test");
+    tap_ok(lam_majorana_require_hermitian(&m, "test", &test_err) == 0, "Hermitian (returns 0)");
     tap_near(lam_majorana_lambda(&m), 0.5, 1e-16, "one-norm of n_1 without the identity is 1/2");
     lam_majorana_free(&m);
     lam_fermion_free(&op);
@@ -152,7 +155,7 @@ static void test_majorana(void)
     build(&op, "1 a+0 a1; 1 a+1 a0");
     op.nmodes = 2;
     lam_majorana_from_fermion(&op, &m);
-    lam_majorana_require_hermitian(&m, "test");
+    tap_ok(lam_majorana_require_hermitian(&m, "test", &test_err) == 0, "Hermitian (returns 0)");
     tap_near(lam_majorana_lambda(&m), 1.0, 1e-15,
              "hopping a+_0 a_1 + h.c.: one-norm 1 (XX + YY over 2 under JW, common practice)");
     lam_majorana_free(&m);
@@ -191,7 +194,7 @@ static void test_spinfree_paths(void)
         lam_majorana_from_spinfree(sf, (lam_spin_order)order, &fast);
         lam_fermion_from_spinfree(sf, (lam_spin_order)order, &op);
         lam_majorana_from_fermion(&op, &slow);
-        lam_majorana_require_hermitian(&slow, "test");
+        if (lam_majorana_require_hermitian(&slow, "test", &test_err)) printf("# %s\n", test_err.msg);
         int ok = 1;
         size_t nonzero = 0;
         for (size_t t = 0; t < slow.count; ++t) {
@@ -231,24 +234,63 @@ static void test_spin_order(void)
     lam_fermion_op op;
     build(&op, "1 a+3 a2");
     op.nmodes = 4; /* 2 orbitals */
-    lam_fermion_relabel_spin(&op, LAM_SPIN_INTERLEAVED, LAM_SPIN_BLOCKED);
+    lam_error err;
+    lam_fermion_relabel_spin(&op, LAM_SPIN_INTERLEAVED, LAM_SPIN_BLOCKED, &err);
     tap_ok(op.ops[0] == LAM_CREATE(3) && op.ops[1] == LAM_ANNIHILATE(1),
            "relabel interleaved -> blocked: mode 3 (1 down) -> 3, mode 2 (1 up) -> 1");
     lam_fermion_free(&op);
 }
 
-/* Terms read from a stream text. */
-static void read_terms_of(const char *text, lam_fermion_op *op)
+/* Terms read from a stream text: 0, or the error code with err filled
+ * (and op empty). */
+static int read_terms_or_error(const char *text, lam_fermion_op *op, lam_error *err)
 {
     char path[] = "/tmp/test_fermion_XXXXXX";
     int fd = mkstemp(path);
     if (fd < 0 || write(fd, text, strlen(text)) != (ssize_t)strlen(text)) exit(70);
     close(fd);
-    lam_reader *r = lam_reader_open(path);
-    lam_reader_force_kind(r, LAM_KIND_FERMION);
-    lam_fermion_read(r, op);
-    lam_reader_close(r);
+    lam_reader *r;
+    int rc = lam_reader_open(path, &r, err);
+    if (rc == 0) {
+        lam_reader_force_kind(r, LAM_KIND_FERMION);
+        rc = lam_fermion_read(r, op, err);
+        lam_reader_close(r);
+    }
     unlink(path);
+    return rc;
+}
+
+static void read_terms_of(const char *text, lam_fermion_op *op)
+{
+    lam_error err;
+    if (read_terms_or_error(text, op, &err)) printf("# unexpected error: %s\n", err.msg);
+}
+
+/* A malformed term: 65 at its line with the reader's message, nothing
+ * left in op. */
+static void test_refused_terms(void)
+{
+    static const struct {
+        const char *text, *msg;
+        long line;
+    } bad[] = {
+        {"#% lamina-op 2\n0.5 3 1 / 0 2\n1 3 / 0 / 1\n#% end\n", "this one two", 3},
+        {"0.5 3 1 / 0 2\n1 3 3 / 0\n", "mode 3 is created twice", 2},
+        {"#% modes: 4\n0.5 3 1 / 0 5\n", "mode 5 out of range (the stream has 4 modes)", 2},
+        {"0.5 3+ 1-\n0.5 3 / 1\n", "a version-2 term in a version-1 stream", 2},
+        {"#% lamina-op 2\n0.5 3 1 / 0 2\n", "truncated stream", 2},
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof *bad; ++i) {
+        lam_fermion_op op;
+        lam_error err;
+        int rc = read_terms_or_error(bad[i].text, &op, &err);
+        int ok = rc == LAM_EX_DATA && err.line == bad[i].line &&
+                 strstr(err.msg, bad[i].msg) != NULL && op.count == 0 && op.coef == NULL;
+        char name[160];
+        snprintf(name, sizeof name, "refused with 65 at line %ld: %s", bad[i].line, bad[i].msg);
+        tap_ok(ok, name);
+        if (!ok) printf("#   got %d at line %ld: %s\n", rc, err.line, err.msg);
+    }
 }
 
 /* The terms lam_fermion_write_terms writes, without header or trailer. */
@@ -256,9 +298,11 @@ static void written_terms(const lam_fermion_op *op, char *out, size_t size)
 {
     char path[] = "/tmp/test_fermion_XXXXXX";
     close(mkstemp(path));
-    lam_writer *w = lam_writer_open(path, 0);
+    lam_writer *w;
+    lam_error err;
+    if (lam_writer_open(path, 0, &w, &err)) exit(74);
     lam_fermion_write_terms(w, op);
-    lam_writer_close_raw(w);
+    if (lam_writer_close_raw(w, &err)) exit(74);
     FILE *f = fopen(path, "r");
     size_t n = fread(out, 1, size - 1, f);
     out[n] = '\0';
@@ -308,5 +352,6 @@ int main(void)
     test_majorana();
     test_spinfree_paths();
     test_spin_order();
+    test_refused_terms();
     return tap_done();
 }
