@@ -2,6 +2,7 @@
 #include "fragments.h"
 
 #include <cblas.h>
+#include <assert.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -16,7 +17,7 @@
 
 lam_fragments *lam_fragments_new(int n, int nfrag)
 {
-    if (n < 0 || nfrag < 0) lam_fail(LAM_EX_SOFTWARE, "lam_fragments_new: bad size");
+    assert(n >= 0 && nfrag >= 0); /* the reader and factor.c give sizes it checked */
     lam_fragments *fr = lam_calloc(1, sizeof *fr);
     fr->n = n;
     fr->nfrag = nfrag;
@@ -38,9 +39,8 @@ void lam_fragments_free(lam_fragments *fr)
 
 void lam_fragments_add(lam_fragments *fr, int frag, int a, int b, double c)
 {
-    if (frag < 0 || frag >= fr->nfrag || a < 0 || a >= 2 * fr->n || b >= 2 * fr->n ||
-        a == b)
-        lam_fail(LAM_EX_SOFTWARE, "lam_fragments_add: bad term (%d, %d, %d)", frag, a, b);
+    /* callers pass what the reader or the factorization checked */
+    assert(frag >= 0 && frag < fr->nfrag && a >= 0 && a < 2 * fr->n && b < 2 * fr->n && a != b);
     if (b >= 0 && b < a) {
         int t = a;
         a = b;
@@ -118,16 +118,19 @@ typedef struct {
     long max_frag, max_orb;
 } held_body;
 
-static void hold_rotation(lam_reader *r, const lam_line *ln, held_body *b, long n,
-                          long nfrag)
+static int hold_rotation(lam_reader *r, const lam_line *ln, held_body *b, long n, long nfrag,
+                         lam_error *err)
 {
     if (ln->nfields != 4)
-        lam_reader_fail_line(r, ln->line,
-                             "a rotation line is 'x U fragment row column', not %d fields",
-                             ln->nfields);
-    held_rot h = {ln->coef, lam_reader_index(r, ln, 1, nfrag, "fragment"),
-                  lam_reader_index(r, ln, 2, n, "orbital"),
-                  lam_reader_index(r, ln, 3, n, "orbital"), ln->line};
+        return lam_reader_error(r, ln->line, err,
+                                "a rotation line is 'x U fragment row column', not %d fields",
+                                ln->nfields);
+    int frag, p, i, rc;
+    if ((rc = lam_reader_index(r, ln, 1, nfrag, "fragment", &frag, err)) ||
+        (rc = lam_reader_index(r, ln, 2, n, "orbital", &p, err)) ||
+        (rc = lam_reader_index(r, ln, 3, n, "orbital", &i, err)))
+        return rc;
+    held_rot h = {ln->coef, frag, p, i, ln->line};
     if (h.frag > b->max_frag) b->max_frag = h.frag;
     if (h.p > b->max_orb) b->max_orb = h.p;
     if (h.i > b->max_orb) b->max_orb = h.i;
@@ -136,36 +139,41 @@ static void hold_rotation(lam_reader *r, const lam_line *ln, held_body *b, long 
         b->rot = lam_realloc(b->rot, lam_mul_size(b->caprot, sizeof *b->rot));
     }
     b->rot[b->nrot++] = h;
+    return 0;
 }
 
-static int mode_field(lam_reader *r, const lam_line *ln, int field, long n)
+static int mode_field(lam_reader *r, const lam_line *ln, int field, long n, int *mode,
+                      lam_error *err)
 {
-    int m = lam_fragments_parse_mode(ln->fields[field], (int)n);
-    if (m < 0)
-        lam_reader_fail_line(r, ln->line,
-                             "'%s' is not a rotated spin orbital (like 3a or 3b, orbital "
-                             "below %ld)",
-                             ln->fields[field], n);
-    return m;
+    *mode = lam_fragments_parse_mode(ln->fields[field], (int)n);
+    if (*mode < 0)
+        return lam_reader_error(r, ln->line, err,
+                                "'%s' is not a rotated spin orbital (like 3a or 3b, orbital "
+                                "below %ld)",
+                                ln->fields[field], n);
+    return 0;
 }
 
-static void hold_reflection(lam_reader *r, const lam_line *ln, held_body *b, long n,
-                            long nfrag)
+static int hold_reflection(lam_reader *r, const lam_line *ln, held_body *b, long n, long nfrag,
+                           lam_error *err)
 {
     if (ln->nfields != 3 && ln->nfields != 4)
-        lam_reader_fail_line(r, ln->line,
-                             "a reflection line is 'c R fragment 3a [1b]', not %d fields",
-                             ln->nfields);
+        return lam_reader_error(r, ln->line, err,
+                                "a reflection line is 'c R fragment 3a [1b]', not %d fields",
+                                ln->nfields);
     held_term h;
+    int rc;
     h.t.coef = ln->coef;
-    h.t.frag = (int)lam_reader_index(r, ln, 1, nfrag, "fragment");
-    h.t.a = mode_field(r, ln, 2, n);
-    h.t.b = ln->nfields == 4 ? mode_field(r, ln, 3, n) : -1;
+    h.t.b = -1;
+    if ((rc = lam_reader_index(r, ln, 1, nfrag, "fragment", &h.t.frag, err)) ||
+        (rc = mode_field(r, ln, 2, n, &h.t.a, err)) ||
+        (ln->nfields == 4 && (rc = mode_field(r, ln, 3, n, &h.t.b, err))))
+        return rc;
     h.line = ln->line;
     if (h.t.a == h.t.b)
-        lam_reader_fail_line(r, ln->line,
-                             "R R of the same spin orbital is the identity: put it in the "
-                             "constant");
+        return lam_reader_error(r, ln->line, err,
+                                "R R of the same spin orbital is the identity: put it in the "
+                                "constant");
     if (h.t.b >= 0 && h.t.b < h.t.a) {
         int t = h.t.a;
         h.t.a = h.t.b;
@@ -179,21 +187,22 @@ static void hold_reflection(lam_reader *r, const lam_line *ln, held_body *b, lon
         b->term = lam_realloc(b->term, lam_mul_size(b->capterm, sizeof *b->term));
     }
     b->term[b->nterm++] = h;
+    return 0;
 }
 
-static void hold_line(lam_reader *r, const lam_line *ln, held_body *b, long n, long nfrag)
+static int hold_line(lam_reader *r, const lam_line *ln, held_body *b, long n, long nfrag,
+                     lam_error *err)
 {
-    if (ln->nfields == 0)
+    if (ln->nfields == 0) {
         b->constant += ln->coef;
-    else if (strcmp(ln->fields[0], "U") == 0)
-        hold_rotation(r, ln, b, n, nfrag);
-    else if (strcmp(ln->fields[0], "R") == 0)
-        hold_reflection(r, ln, b, n, nfrag);
-    else
-        lam_reader_fail_line(r, ln->line,
-                             "a fragments line is 'c', 'x U f p i' or 'c R f 3a [1b]', "
-                             "not '%s'",
-                             ln->fields[0]);
+        return 0;
+    }
+    if (strcmp(ln->fields[0], "U") == 0) return hold_rotation(r, ln, b, n, nfrag, err);
+    if (strcmp(ln->fields[0], "R") == 0) return hold_reflection(r, ln, b, n, nfrag, err);
+    return lam_reader_error(r, ln->line, err,
+                            "a fragments line is 'c', 'x U f p i' or 'c R f 3a [1b]', "
+                            "not '%s'",
+                            ln->fields[0]);
 }
 
 /* Largest |U^T U - 1| of one fragment's rotation. */
@@ -211,74 +220,108 @@ static double orthogonality_error(const lam_fragments *fr, int f)
     return err;
 }
 
-static void place_rotations(lam_reader *r, lam_fragments *fr, const held_body *b)
+static int place_rotations(lam_reader *r, lam_fragments *fr, const held_body *b, lam_error *err)
 {
     size_t nn = (size_t)fr->n * fr->n;
     unsigned char *seen = lam_calloc(lam_mul_size(nn, (size_t)fr->nfrag), 1);
     unsigned char *given = lam_calloc((size_t)fr->nfrag, 1);
+    int rc = 0;
     memset(fr->rot, 0, nn * (size_t)fr->nfrag * sizeof(double));
-    for (size_t k = 0; k < b->nrot; ++k) {
+    for (size_t k = 0; k < b->nrot && !rc; ++k) {
         const held_rot *h = &b->rot[k];
         size_t at = ((size_t)h->frag * fr->n + (size_t)h->p) * fr->n + (size_t)h->i;
         if (seen[at]) {
-            free(seen);
-            free(given);
-            lam_reader_fail_line(r, h->line, "rotation entry U %ld %ld %ld given twice",
-                                 h->frag, h->p, h->i);
+            rc = lam_reader_error(r, h->line, err, "rotation entry U %ld %ld %ld given twice",
+                                  h->frag, h->p, h->i);
+            break;
         }
         seen[at] = 1;
         given[h->frag] = 1;
         fr->rot[at] = h->x;
     }
-    for (int f = 0; f < fr->nfrag; ++f) {
+    for (int f = 0; f < fr->nfrag && !rc; ++f) {
         if (given[f]) continue;
         for (int p = 0; p < fr->n; ++p) LAM_ROT(fr, f, p, p) = 1.0;
     }
     free(seen);
     free(given);
+    return rc;
 }
 
-static void check_rotations(lam_reader *r, const lam_fragments *fr, const held_body *b)
+static int check_rotations(lam_reader *r, const lam_fragments *fr, const held_body *b,
+                           lam_error *err)
 {
     unsigned char *used = lam_calloc((size_t)fr->nfrag + 1, 1);
+    int rc = 0;
     for (size_t k = 0; k < b->nterm; ++k) used[b->term[k].t.frag] = 1;
     for (size_t k = 0; k < b->nrot; ++k) used[b->rot[k].frag] = 1;
-    for (int f = 0; f < fr->nfrag; ++f) {
+    for (int f = 0; f < fr->nfrag && !rc; ++f) {
         if (!used[f]) continue;
-        double err = orthogonality_error(fr, f);
-        if (err > ORTHO_TOL) {
-            free(used);
-            lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                        "the rotation of fragment %d is not orthogonal (largest |U^T U - 1| "
-                        "= %.3g; a missing U line?)",
-                        f, err);
-        }
+        double e = orthogonality_error(fr, f);
+        if (e > ORTHO_TOL)
+            rc = lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                              "the rotation of fragment %d is not orthogonal (largest |U^T U - 1| "
+                              "= %.3g; a missing U line?)",
+                              f, e);
     }
     free(used);
+    return rc;
 }
 
-lam_fragments *lam_fragments_read(lam_reader *r)
+/* The fragments of the held body, sized n x nfrag, checked. */
+static int build_fragments(lam_reader *r, const held_body *b, long n, long nfrag,
+                           lam_fragments **out, lam_error *err)
 {
-    long n = lam_reader_meta_long(r, "orbitals", -1, 0, MAX_ORBITALS);
-    long nfrag = lam_reader_meta_long(r, "fragments", -1, 0, MAX_FRAGMENTS);
+    long electrons, ms2;
+    int rc;
+    *out = NULL;
+    if ((rc = lam_reader_meta_long(r, "electrons", -1, 0, 2 * n, &electrons, err)) ||
+        (rc = lam_reader_meta_long(r, "ms2", 0, -n, n, &ms2, err)))
+        return rc;
+    lam_fragments *fr = lam_fragments_new((int)n, (int)nfrag);
+    fr->constant = b->constant;
+    fr->electrons = (int)electrons;
+    fr->ms2 = (int)ms2;
+    if ((rc = place_rotations(r, fr, b, err)) || (rc = check_rotations(r, fr, b, err))) {
+        lam_fragments_free(fr);
+        return rc;
+    }
+    for (size_t k = 0; k < b->nterm; ++k)
+        lam_fragments_add(fr, b->term[k].t.frag, b->term[k].t.a, b->term[k].t.b,
+                          b->term[k].t.coef);
+    lam_fragments_merge(fr);
+    *out = fr;
+    return 0;
+}
+
+int lam_fragments_read(lam_reader *r, lam_fragments **out, lam_error *err)
+{
+    long n, nfrag;
+    int rc;
+    *out = NULL;
+    if ((rc = lam_reader_meta_long(r, "orbitals", -1, 0, MAX_ORBITALS, &n, err)) ||
+        (rc = lam_reader_meta_long(r, "fragments", -1, 0, MAX_FRAGMENTS, &nfrag, err)))
+        return rc;
     held_body b = {0};
     b.max_frag = b.max_orb = -1;
     lam_line ln;
-    while (lam_reader_next(r, &ln))
-        hold_line(r, &ln, &b, n >= 0 ? n : MAX_ORBITALS, nfrag >= 0 ? nfrag : MAX_FRAGMENTS);
+    while ((rc = lam_reader_next(r, &ln, err)) == 1)
+        if ((rc = hold_line(r, &ln, &b, n >= 0 ? n : MAX_ORBITALS,
+                            nfrag >= 0 ? nfrag : MAX_FRAGMENTS, err)))
+            break;
     if (n < 0) n = b.max_orb + 1;
     if (nfrag < 0) nfrag = b.max_frag + 1;
-    lam_fragments *fr = lam_fragments_new((int)n, (int)nfrag);
-    fr->constant = b.constant;
-    fr->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2 * n);
-    fr->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -n, n);
-    place_rotations(r, fr, &b);
-    check_rotations(r, fr, &b);
-    for (size_t k = 0; k < b.nterm; ++k)
-        lam_fragments_add(fr, b.term[k].t.frag, b.term[k].t.a, b.term[k].t.b, b.term[k].t.coef);
+    if (!rc) rc = build_fragments(r, &b, n, nfrag, out, err);
     free(b.rot);
     free(b.term);
-    lam_fragments_merge(fr);
+    return rc;
+}
+
+lam_fragments *lam_fragments_read_or_exit(lam_reader *r)
+{
+    lam_error e;
+    lam_fragments *fr;
+    if (lam_fragments_read(r, &fr, &e)) lam_error_exit(&e);
     return fr;
 }
 
@@ -383,12 +426,12 @@ static int spin_differs(double x, double y)
     return fabs(x - y) > 1e-12 * (1.0 + fabs(x) + fabs(y));
 }
 
-static _Noreturn void not_spin_free(const char *name, int f)
+static int not_spin_free(const char *name, int f, lam_error *err)
 {
-    lam_fail_at(LAM_EX_DATA, name ? name : "-", 0,
-                "fragment %d is not spin-free (alpha and beta reflections carry different "
-                "coefficients)",
-                f);
+    return lam_error_at(err, LAM_EX_DATA, name ? name : "-", 0,
+                        "fragment %d is not spin-free (alpha and beta reflections carry "
+                        "different coefficients)",
+                        f);
 }
 
 /* The pair coefficient of n_(i s) n_(j t) whatever the order. */
@@ -399,12 +442,12 @@ static double pair_at(const occupation_form *o, int m2, int a, int b)
 
 /* Spin-summed diagonal tensors in the rotated basis: d[i] multiplies E_ii,
  * lam[i][j] is (ii|jj).  Fails when the spins do not agree. */
-static void spin_sum(const occupation_form *o, int n, int f, const char *name, double *d,
-                     double *lam)
+static int spin_sum(const occupation_form *o, int n, int f, const char *name, double *d,
+                    double *lam, lam_error *err)
 {
     int m2 = 2 * n;
     for (int i = 0; i < n; ++i) {
-        if (spin_differs(o->occ[2 * i], o->occ[2 * i + 1])) not_spin_free(name, f);
+        if (spin_differs(o->occ[2 * i], o->occ[2 * i + 1])) return not_spin_free(name, f, err);
         d[i] = o->occ[2 * i];
         for (int j = 0; j < n; ++j) {
             if (i == j) {
@@ -414,10 +457,11 @@ static void spin_sum(const occupation_form *o, int n, int f, const char *name, d
             double aa = pair_at(o, m2, 2 * i, 2 * j), bb = pair_at(o, m2, 2 * i + 1, 2 * j + 1);
             double ab = pair_at(o, m2, 2 * i, 2 * j + 1), ba = pair_at(o, m2, 2 * i + 1, 2 * j);
             if (spin_differs(aa, bb) || spin_differs(aa, ab) || spin_differs(aa, ba))
-                not_spin_free(name, f);
+                return not_spin_free(name, f, err);
             lam[i * n + j] = aa;
         }
     }
+    return 0;
 }
 
 /* h += U diag(d) U^T;  g += sum_ij lam_ij vec(u_i u_i^T) vec(u_j u_j^T)^T.
@@ -445,8 +489,11 @@ static void rotate_back(lam_spinfree *sf, const lam_fragments *fr, int f, const 
     free(tmp);
 }
 
-lam_spinfree *lam_fragments_to_spinfree(const lam_fragments *fr, const char *name)
+int lam_fragments_to_spinfree(const lam_fragments *fr, const char *name, lam_spinfree **out,
+                              lam_error *err)
 {
+    int rc = 0;
+    *out = NULL;
     int n = fr->n, m2 = 2 * n;
     lam_spinfree *sf = lam_spinfree_new(n);
     sf->electrons = fr->electrons;
@@ -458,7 +505,7 @@ lam_spinfree *lam_fragments_to_spinfree(const lam_fragments *fr, const char *nam
     double *d = lam_malloc(lam_mul_size((size_t)n, sizeof(double)));
     double *lam = lam_malloc(lam_mul_size(lam_mul_size((size_t)n, (size_t)n), sizeof(double)));
     size_t k = 0;
-    for (int f = 0; f < fr->nfrag; ++f) {
+    for (int f = 0; f < fr->nfrag && !rc; ++f) {
         o.constant = 0.0;
         memset(o.occ, 0, (size_t)m2 * sizeof(double));
         memset(o.pair, 0, (size_t)m2 * m2 * sizeof(double));
@@ -467,7 +514,7 @@ lam_spinfree *lam_fragments_to_spinfree(const lam_fragments *fr, const char *nam
         for (; k < fr->count && fr->terms[k].frag == f; ++k, any = 1)
             add_to_occupation_form(&o, m2, &fr->terms[k]);
         if (!any) continue;
-        spin_sum(&o, n, f, name, d, lam);
+        if ((rc = spin_sum(&o, n, f, name, d, lam, err))) break;
         sf->e0 += o.constant;
         rotate_back(sf, fr, f, d, lam);
     }
@@ -475,7 +522,19 @@ lam_spinfree *lam_fragments_to_spinfree(const lam_fragments *fr, const char *nam
     free(o.pair);
     free(d);
     free(lam);
-    if (k != fr->count)
-        lam_fail(LAM_EX_SOFTWARE, "lam_fragments_to_spinfree: terms not merged");
+    if (rc) {
+        lam_spinfree_free(sf);
+        return rc;
+    }
+    assert(k == fr->count); /* the terms were merged, hence sorted by fragment */
+    *out = sf;
+    return 0;
+}
+
+lam_spinfree *lam_fragments_to_spinfree_or_exit(const lam_fragments *fr, const char *name)
+{
+    lam_error e;
+    lam_spinfree *sf;
+    if (lam_fragments_to_spinfree(fr, name, &sf, &e)) lam_error_exit(&e);
     return sf;
 }

@@ -60,8 +60,9 @@ void lam_fragments_merge(lam_fragments *fr);
 /* Read the body of a fragments stream (header already read).  Orbitals
  * and fragments come from "orbitals:" / "fragments:" or from the largest
  * index.  Every rotation used must be orthogonal to 1e-10 (exit 65
- * naming the fragment otherwise); terms are merged. */
-lam_fragments *lam_fragments_read(lam_reader *r);
+ * naming the fragment otherwise); terms are merged.  0 and *out, or the
+ * reader's error code with nothing left allocated. */
+int lam_fragments_read(lam_reader *r, lam_fragments **out, lam_error *err);
 /* Header metadata of a fragments stream (orbitals, fragments, electrons,
  * ms2) set in meta. */
 void lam_fragments_describe(const lam_fragments *fr, lam_meta *meta);
@@ -86,10 +87,19 @@ void lam_fragments_report(const lam_fragments *fr, lam_report *rep);
 
 /* The spin-free operator the fragments stand for (exact algebra, no
  * approximation).  Needs spin-symmetric coefficients (R_{i,a} and R_{i,b}
- * alike, pairs alike under swapping both spins); exit 65 with the
- * reader's name otherwise (name may be NULL). */
-lam_spinfree *lam_fragments_to_spinfree(const lam_fragments *fr,
-                                        const char *name);
+ * alike, pairs alike under swapping both spins); 65 with the reader's
+ * name otherwise (name may be NULL). */
+int lam_fragments_to_spinfree(const lam_fragments *fr, const char *name, lam_spinfree **out,
+                              lam_error *err);
+
+/* Exiting forms for lam-cost.c and factor.c until they pass an err
+ * (issue 13). */
+lam_fragments *lam_fragments_read_or_exit(lam_reader *r);
+lam_spinfree *lam_fragments_to_spinfree_or_exit(const lam_fragments *fr, const char *name);
+#define lam_fragments_read(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_fragments_read, -, lam_fragments_read_or_exit, -)(__VA_ARGS__)
+#define lam_fragments_to_spinfree(...) \
+    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_fragments_to_spinfree, -, lam_fragments_to_spinfree_or_exit, -, -)(__VA_ARGS__)
 
 /* Parse a mode token "3a" / "3b" into 2*3+s; -1 if malformed or out of
  * [0, n). */
