@@ -1,6 +1,7 @@
 /* report.c - key/value reports in text and TSV form. */
 #include "report.h"
 
+#include <assert.h>
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
@@ -93,16 +94,16 @@ static void require_columns_cover(const lam_report *rep)
         if (!rep->items[i].tsv) continue;
         size_t c = 0;
         while (rep->columns[c] && strcmp(rep->columns[c], rep->items[i].key) != 0) ++c;
-        if (!rep->columns[c])
-            lam_fail(LAM_EX_SOFTWARE, "internal: report key '%s' is not a TSV column",
-                     rep->items[i].key);
+        /* a program's report keys and its TSV columns must not drift apart */
+        assert(rep->columns[c] != NULL);
     }
 }
 
-static void check_written(FILE *out)
+static int check_written(FILE *out, lam_error *err)
 {
     if (fflush(out) != 0 || ferror(out))
-        lam_fail(LAM_EX_IOERR, "cannot write the report: %s", strerror(errno));
+        return lam_error_set(err, LAM_EX_IOERR, "cannot write the report: %s", strerror(errno));
+    return 0;
 }
 
 /* One TSV line: the keys (header) or the values of the columns. */
@@ -126,7 +127,6 @@ static void write_tsv_line(const lam_report *rep, FILE *out, int values)
             }
     }
     fputc('\n', out);
-    check_written(out);
 }
 
 void lam_report_write_header(const lam_report *rep, FILE *out) { write_tsv_line(rep, out, 0); }
@@ -142,31 +142,47 @@ void lam_report_write(const lam_report *rep, FILE *out, int tsv)
     }
     for (size_t i = 0; i < rep->count; ++i)
         fprintf(out, "%s\t%s\n", rep->items[i].key, rep->items[i].value);
-    check_written(out);
 }
 
-FILE *lam_report_open(const char *path)
+int lam_report_open(const char *path, FILE **out, lam_error *err)
 {
-    if (!path || strcmp(path, "-") == 0) return stdout;
-    FILE *f = fopen(path, "w");
-    if (!f) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", path, strerror(errno));
-    return f;
+    *out = stdout;
+    if (!path || strcmp(path, "-") == 0) return 0;
+    *out = fopen(path, "w");
+    if (!*out)
+        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", path,
+                             strerror(errno));
+    return 0;
 }
 
-void lam_report_close(FILE *f, const char *path)
+int lam_report_close(FILE *f, const char *path, lam_error *err)
 {
-    if (f == stdout) {
-        check_written(f);
-        return;
-    }
-    if (fclose(f) != 0) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+    if (f == stdout) return check_written(f, err);
+    int bad = ferror(f);
+    if (fclose(f) != 0 || bad)
+        return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", path,
+                             errno ? strerror(errno) : "write error");
+    return 0;
 }
 
-void lam_report_save(const lam_report *rep, const char *path, int tsv)
+void lam_report_discard(FILE *f)
 {
-    FILE *f = lam_report_open(path);
+    if (f && f != stdout) fclose(f);
+}
+
+int lam_report_save(const lam_report *rep, const char *path, int tsv, lam_error *err)
+{
+    FILE *f;
+    int rc = lam_report_open(path, &f, err);
+    if (rc) return rc;
     lam_report_write(rep, f, tsv);
-    lam_report_close(f, path);
+    return lam_report_close(f, path, err);
+}
+
+void lam_report_save_or_exit(const lam_report *rep, const char *path, int tsv)
+{
+    lam_error e;
+    if (lam_report_save(rep, path, tsv, &e)) lam_error_exit(&e);
 }
 
 /* ---- --drop ---- */
@@ -204,23 +220,29 @@ struct lam_report_in {
 
 /* Lines are "key<TAB>value"; '#' lines and blank lines are skipped.
  * Keys keep their line number (in .tsv) for messages. */
-lam_report_in *lam_report_read(const char *path)
+int lam_report_read(const char *path, lam_report_in **out, lam_error *err)
 {
+    *out = NULL;
     FILE *f = (!path || strcmp(path, "-") == 0) ? stdin : fopen(path, "r");
     const char *name = f == stdin ? "<stdin>" : path;
-    if (!f) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
+    if (!f) return lam_error_set(err, LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
     lam_report_in *in = lam_calloc(1, sizeof *in);
     size_t cap = 0;
     char *line = NULL;
     size_t linecap = 0;
     long lineno = 0;
     ssize_t n;
-    while ((n = getline(&line, &linecap, f)) >= 0) {
+    int rc = 0;
+    while (!rc && (n = getline(&line, &linecap, f)) >= 0) {
         ++lineno;
         while (n > 0 && (line[n - 1] == '\n' || line[n - 1] == '\r')) line[--n] = '\0';
         if (n == 0 || line[0] == '#') continue;
         char *tab = strchr(line, '\t');
-        if (!tab) lam_fail_at(LAM_EX_DATA, name, lineno, "report line without a tab between key and value");
+        if (!tab) {
+            rc = lam_error_at(err, LAM_EX_DATA, name, lineno,
+                              "report line without a tab between key and value");
+            break;
+        }
         *tab = '\0';
         if (in->count == cap) {
             cap = cap ? 2 * cap : 16;
@@ -231,10 +253,22 @@ lam_report_in *lam_report_read(const char *path)
         in->items[in->count].tsv = (int)lineno;
         in->count++;
     }
-    int bad = ferror(f);
+    if (!rc && ferror(f)) rc = lam_error_set(err, LAM_EX_IOERR, "read error on %s", name);
     free(line);
     if (f != stdin) fclose(f);
-    if (bad) lam_fail(LAM_EX_IOERR, "read error on %s", name);
+    if (rc) {
+        lam_report_in_free(in);
+        return rc;
+    }
+    *out = in;
+    return 0;
+}
+
+lam_report_in *lam_report_read_or_exit(const char *path)
+{
+    lam_error e;
+    lam_report_in *in;
+    if (lam_report_read(path, &in, &e)) lam_error_exit(&e);
     return in;
 }
 

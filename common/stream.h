@@ -185,9 +185,6 @@ int lam_reader_index_or_exit(const lam_reader *r, const lam_line *ln, int field,
 lam_writer *lam_writer_open_or_exit(const char *path, int gzip);
 void lam_writer_close_or_exit(lam_writer *w);
 void lam_writer_close_raw_or_exit(lam_writer *w);
-/* The name for a call with k arguments: the (8-k)th entry of the list
- * after them (each list: 7 entries and a spare). */
-#define LAM_ARITY_PICK(_1, _2, _3, _4, _5, _6, _7, name, ...) name
 #define lam_reader_open(...) \
     LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_open, -, lam_reader_open_or_exit, -)(__VA_ARGS__)
 #define lam_reader_kind(...) \

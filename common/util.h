@@ -53,6 +53,14 @@ typedef struct lam_error {
     char msg[512];
 } lam_error;
 
+/* Transition (issue 13): a library function that now takes an err is
+ * called the old way, without it, from files not converted yet; a macro of
+ * the function's name picks the new function or an exiting "_or_exit" form
+ * by the number of arguments: the name for a call with k arguments is the
+ * (8-k)th entry of the list after them (7 entries and a spare).  The
+ * macros go when every caller passes an err. */
+#define LAM_ARITY_PICK(_1, _2, _3, _4, _5, _6, _7, name, ...) name
+
 /* Clear *err (code LAM_EX_OK). */
 void lam_error_clear(lam_error *err);
 /* Fill *err and return code: "msg", or "file:line: msg" via lam_error_at
