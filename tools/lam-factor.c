@@ -135,29 +135,37 @@ static void parse_args(int argc, char **argv, cli *c)
                         "residual");
 }
 
-/* *out is set as soon as the operator is read, so that it stays reachable
- * from main's static when a check below exits. */
-static void read_operator(lam_reader *r, lam_spinfree **out)
+/* The operator into *out (NULL on error). */
+static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
-    lam_kind kind = lam_reader_kind(r);
+    lam_kind kind;
+    int rc = lam_reader_kind(r, &kind, err);
+    *out = NULL;
+    if (rc) return rc;
     /* An empty input is refused too: it is most often a failed program
      * upstream in the pipeline, not the zero operator. */
     if (kind != LAM_KIND_SPINFREE)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "lam-factor reads a spinfree stream, not %s (make one with lam-ints)",
-                    kind == LAM_KIND_UNKNOWN ? "an empty or unrecognised one" : lam_kind_name(kind));
-    lam_spinfree *sf = *out = lam_spinfree_read(r);
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "lam-factor reads a spinfree stream, not %s (make one with lam-ints)",
+                            kind == LAM_KIND_UNKNOWN ? "an empty or unrecognised one"
+                                                     : lam_kind_name(kind));
+    lam_spinfree *sf;
+    if ((rc = lam_spinfree_read(r, &sf, err))) return rc;
     double scale = 1.0;
     size_t n4 = (size_t)sf->n * sf->n * sf->n * sf->n;
     for (size_t k = 0; k < n4; ++k) scale = fmax(scale, fabs(sf->g[k]));
     double herm = lam_spinfree_hermiticity_error(sf);
     double real = lam_spinfree_real_symmetry_error(sf);
-    if (herm > SYMMETRY_TOL * scale || real > SYMMETRY_TOL * scale)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "the integrals lack the symmetry of real orbitals (h_pq = h_qp, (pq|rs) = "
-                    "(qp|rs)): largest violation %.3g Eh; the fragments need real symmetric "
-                    "integrals",
-                    fmax(herm, real));
+    if (herm > SYMMETRY_TOL * scale || real > SYMMETRY_TOL * scale) {
+        lam_spinfree_free(sf);
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "the integrals lack the symmetry of real orbitals (h_pq = h_qp, "
+                            "(pq|rs) = (qp|rs)): largest violation %.3g Eh; the fragments need "
+                            "real symmetric integrals",
+                            fmax(herm, real));
+    }
+    *out = sf;
+    return 0;
 }
 
 static void options_from_cli(const cli *c, int n, lam_factor_options *o)
@@ -246,15 +254,18 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     cli c;
     parse_args(argc, argv, &c);
-    /* static: what main holds stays reachable when an output cannot be
-     * opened below (the leak checker counts every exit path) */
-    static lam_reader *r;
-    static lam_spinfree *sf;
-    static lam_fragments *fr;
-    static lam_meta meta;
-    static char *history;
-    r = lam_reader_open(c.in);
-    read_operator(r, &sf);
+    lam_error err;
+    lam_reader *r = NULL;
+    lam_spinfree *sf = NULL;
+    lam_fragments *fr = NULL;
+    lam_meta meta;
+    char *history = NULL;
+    FILE *report = NULL;
+    lam_writer *w = NULL;
+    lam_meta_init(&meta);
+    int rc = lam_reader_open(c.in, &r, &err);
+    if (!rc) rc = read_operator(r, &sf, &err);
+    if (rc) goto done;
     lam_factor_options o;
     lam_factor_info info;
     options_from_cli(&c, sf->n, &o);
@@ -263,27 +274,33 @@ int main(int argc, char **argv)
     lam_progress("%s: %d fragments in %.2f s", method_name(o.method), fr->nfrag,
                  lam_seconds() - t0);
 
-    lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
     describe_result(&meta, fr, &o, &info);
     history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
-    FILE *report = c.report ? lam_report_open(c.report) : NULL;
-    lam_writer *w = lam_writer_open(c.out, c.gzip);
+    if (c.report && (rc = lam_report_open(c.report, &report, &err))) goto done;
+    if ((rc = lam_writer_open(c.out, c.gzip, &w, &err))) goto done;
     lam_writer_header(w, LAM_KIND_FRAGMENTS, &meta, history);
     lam_fragments_write_terms(w, fr);
-    lam_writer_close(w);
+    rc = lam_writer_close(w, &err);
+    w = NULL;
+    if (rc) goto done;
     if (report) {
         lam_report *rep = make_report(&c, lam_reader_name(r), sf, fr, &o, &info);
         lam_report_write(rep, report, c.tsv);
-        lam_report_close(report, c.report);
         lam_report_free(rep);
+        rc = lam_report_close(report, c.report, &err);
+        report = NULL;
     }
 
+done:
+    lam_writer_discard(w);
+    lam_report_discard(report);
     free(history);
     lam_meta_free(&meta);
     lam_fragments_free(fr);
     lam_spinfree_free(sf);
     lam_reader_close(r);
+    if (rc) lam_error_exit(&err);
     return 0;
 }

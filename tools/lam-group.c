@@ -125,13 +125,24 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
-static void require_pauli(lam_reader *r)
+/* The input stream, refused (freed, program ended) unless it is a pauli
+ * stream. */
+static lam_reader *open_pauli(const char *path)
 {
-    lam_kind kind = lam_reader_kind(r);
-    if (kind != LAM_KIND_PAULI && kind != LAM_KIND_UNKNOWN)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "a %s stream; lam-group reads pauli streams (lam-map writes them)",
-                    lam_kind_name(kind));
+    lam_error err;
+    lam_reader *r;
+    lam_kind kind;
+    if (lam_reader_open(path, &r, &err)) lam_error_exit(&err);
+    int rc = lam_reader_kind(r, &kind, &err);
+    if (!rc && kind != LAM_KIND_PAULI && kind != LAM_KIND_UNKNOWN)
+        rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0,
+                          "a %s stream; lam-group reads pauli streams (lam-map writes them)",
+                          lam_kind_name(kind));
+    if (rc) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
+    return r;
 }
 
 /* Commuting groups when --commuting or when the header says so. */
@@ -189,20 +200,21 @@ static long describe_pair(char *msg, size_t size, const lam_pauli_set *s, const 
 
 static int run_check(const options *o)
 {
-    lam_reader *r = lam_reader_open(o->input);
-    require_pauli(r);
+    lam_reader *r = open_pauli(o->input);
     int commuting = stream_is_commuting(r, o->group.commuting);
     lam_pauli_set s;
     long *lines = NULL;
     lam_pauli_read_lines(r, &s, &lines);
     size_t a, b;
     if (lam_group_check(&s, commuting, &a, &b)) {
-        char msg[600], *name = lam_strdup(lam_reader_name(r));
+        char msg[600];
+        lam_error err;
         long line = describe_pair(msg, sizeof msg, &s, lines, a, b, commuting);
+        lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), line, "%s", msg);
         free(lines);
         lam_pauli_set_free(&s);
         lam_reader_close(r);
-        lam_fail_at(LAM_EX_DATA, name, line, "%s", msg);
+        lam_error_exit(&err);
     }
 
     lam_pauli_set_merge(&s, 0);
@@ -229,11 +241,13 @@ static int run_check(const options *o)
     lam_report_num(rep, "lambda", lam_pauli_set_lambda(&op));
     lam_report_num(rep, commuting ? "group_norm_sum" : "lambda_grouped", grouped);
     lam_pauli_set_free(&op);
-    lam_report_save(rep, o->report ? o->report : o->output, o->tsv);
+    lam_error err;
+    int rc = lam_report_save(rep, o->report ? o->report : o->output, o->tsv, &err);
     lam_report_free(rep);
     free(lines);
     lam_pauli_set_free(&s);
     lam_reader_close(r);
+    if (rc) lam_error_exit(&err);
     return 0;
 }
 
@@ -271,8 +285,7 @@ static void add_report(lam_report *rep, const options *o, const lam_group_stats 
 static int run_group(const options *o, int argc, char **argv)
 {
     double t0 = lam_seconds();
-    lam_reader *r = lam_reader_open(o->input);
-    require_pauli(r);
+    lam_reader *r = open_pauli(o->input);
     lam_pauli_set in;
     lam_pauli_read(r, &in);
     lam_meta meta;
@@ -295,21 +308,30 @@ static int run_group(const options *o, int argc, char **argv)
     lam_meta_set(&meta, "grouping", o->group.commuting ? "commuting" : "anticommuting");
     char *history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
-    FILE *report = o->report ? lam_report_open(o->report) : NULL;
-    lam_writer *w = lam_writer_open(o->output, o->gzip);
-    lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
-    lam_pauli_write_terms(w, &out);
-    lam_writer_close(w);
-
-    add_report(rep, o, &st, lam_seconds() - t0);
-    if (report) {
-        lam_report_write(rep, report, o->tsv);
-        lam_report_close(report, o->report);
+    lam_error err;
+    FILE *report = NULL;
+    lam_writer *w = NULL;
+    int rc = o->report ? lam_report_open(o->report, &report, &err) : 0;
+    if (!rc) rc = lam_writer_open(o->output, o->gzip, &w, &err);
+    if (!rc) {
+        lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
+        lam_pauli_write_terms(w, &out);
+        rc = lam_writer_close(w, &err);
+        w = NULL;
     }
+    add_report(rep, o, &st, lam_seconds() - t0);
+    if (!rc && report) {
+        lam_report_write(rep, report, o->tsv);
+        rc = lam_report_close(report, o->report, &err);
+        report = NULL;
+    }
+    lam_writer_discard(w);
+    lam_report_discard(report);
     lam_report_free(rep);
     free(history);
     lam_meta_free(&meta);
     lam_pauli_set_free(&out);
+    if (rc) lam_error_exit(&err);
     return 0;
 }
 

@@ -58,9 +58,11 @@ static int has_real_symmetry(const lam_spinfree *sf)
     return lam_spinfree_real_symmetry_error(sf) <= 1e-14 * big;
 }
 
-static void norm_spinfree(lam_report *rep, lam_reader *r)
+static int norm_spinfree(lam_report *rep, lam_reader *r, lam_error *err)
 {
-    lam_spinfree *sf = lam_spinfree_read(r);
+    lam_spinfree *sf;
+    int rc = lam_spinfree_read(r, &sf, err);
+    if (rc) return rc;
     lam_report_int(rep, "terms", (long long)lam_spinfree_term_count(sf));
     if (has_real_symmetry(sf)) {
         lam_report_num(rep, "constant", lam_spinfree_constant(sf));
@@ -71,7 +73,7 @@ static void norm_spinfree(lam_report *rep, lam_reader *r)
         lam_majorana_set m;
         lam_spinfree_require_hermitian(sf, lam_reader_name(r));
         lam_majorana_from_spinfree_any(sf, LAM_SPIN_INTERLEAVED, &m);
-        lam_majorana_require_hermitian(&m, lam_reader_name(r));
+        rc = lam_majorana_require_hermitian(&m, lam_reader_name(r), err);
         lam_report_num(rep, "constant", lam_majorana_constant(&m));
         lam_report_num(rep, "lambda", lam_majorana_lambda(&m));
         lam_report_str(rep, "method", "majorana");
@@ -80,17 +82,19 @@ static void norm_spinfree(lam_report *rep, lam_reader *r)
     lam_report_int(rep, "orbitals", sf->n);
     if (sf->electrons >= 0) lam_report_int(rep, "electrons", sf->electrons);
     lam_spinfree_free(sf);
+    return rc;
 }
 
-static void norm_fermion(lam_report *rep, lam_reader *r)
+static int norm_fermion(lam_report *rep, lam_reader *r, lam_error *err)
 {
     lam_fermion_op op, ordered;
-    lam_fermion_read(r, &op);
+    int rc = lam_fermion_read(r, &op, err);
+    if (rc) return rc;
     lam_fermion_normal_order(&op, &ordered);
     lam_report_int(rep, "terms", (long long)ordered.count);
     lam_majorana_set m;
     lam_majorana_from_fermion(&op, &m);
-    lam_majorana_require_hermitian(&m, lam_reader_name(r));
+    rc = lam_majorana_require_hermitian(&m, lam_reader_name(r), err);
     lam_report_num(rep, "constant", lam_majorana_constant(&m));
     lam_report_num(rep, "lambda", lam_majorana_lambda(&m));
     lam_report_str(rep, "method", "majorana");
@@ -98,6 +102,7 @@ static void norm_fermion(lam_report *rep, lam_reader *r)
     lam_majorana_free(&m);
     lam_fermion_free(&ordered);
     lam_fermion_free(&op);
+    return rc;
 }
 
 /* A label names an anticommuting group unless the header says the groups
@@ -115,11 +120,14 @@ static void report_groups(lam_report *rep, lam_reader *r, size_t groups, double 
 
 /* A stream whose writer stated "distinct: yes" has no string twice, so its
  * one-norm is a running sum: no terms held, no merging. */
-static void norm_fragments(lam_report *rep, lam_reader *r)
+static int norm_fragments(lam_report *rep, lam_reader *r, lam_error *err)
 {
-    lam_fragments *fr = lam_fragments_read(r);
+    lam_fragments *fr;
+    int rc = lam_fragments_read(r, &fr, err);
+    if (rc) return rc;
     lam_fragments_report(fr, rep);
     lam_fragments_free(fr);
+    return 0;
 }
 
 static void norm_pauli(lam_report *rep, lam_reader *r)
@@ -189,27 +197,44 @@ static void parse_options(int argc, char **argv, options *o)
                         streams, streams == 1 ? "" : "s");
 }
 
-static lam_report *norm_stream(const char *path, const char *label, lam_kind forced)
+/* The report of one stream into *out (NULL on error). */
+static int norm_stream(const char *path, const char *label, lam_kind forced, lam_report **out,
+                       lam_error *err)
 {
-    lam_reader *r = lam_reader_open(path);
+    lam_reader *r;
+    lam_kind kind;
+    *out = NULL;
+    int rc = lam_reader_open(path, &r, err);
+    if (rc) return rc;
     if (forced != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, forced);
-    lam_kind kind = lam_reader_kind(r);
+    if ((rc = lam_reader_kind(r, &kind, err))) {
+        lam_reader_close(r);
+        return rc;
+    }
     lam_report *rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
     lam_report_str(rep, "label", label ? label : lam_reader_name(r));
     lam_report_str(rep, "kind", lam_kind_name(kind));
     switch (kind) {
-    case LAM_KIND_SPINFREE: norm_spinfree(rep, r); break;
-    case LAM_KIND_FERMION: norm_fermion(rep, r); break;
+    case LAM_KIND_SPINFREE: rc = norm_spinfree(rep, r, err); break;
+    case LAM_KIND_FERMION: rc = norm_fermion(rep, r, err); break;
     case LAM_KIND_PAULI: norm_pauli(rep, r); break;
-    case LAM_KIND_FRAGMENTS: norm_fragments(rep, r); break;
+    case LAM_KIND_FRAGMENTS: rc = norm_fragments(rep, r, err); break;
     case LAM_KIND_UNKNOWN:
-        lam_reader_fail(r, "cannot tell the kind of the stream: give --kind");
+        rc = lam_reader_error(r, lam_reader_lineno(r), err,
+                              "cannot tell the kind of the stream: give --kind");
+        break;
     default:
-        lam_reader_fail(r, "%s streams are not supported", lam_kind_name(kind));
+        rc = lam_reader_error(r, lam_reader_lineno(r), err, "%s streams are not supported",
+                              lam_kind_name(kind));
     }
     lam_reader_close(r);
-    return rep;
+    if (rc) {
+        lam_report_free(rep);
+        return rc;
+    }
+    *out = rep;
+    return 0;
 }
 
 /* Every stream is read before the output is opened, so a bad one leaves
@@ -220,11 +245,20 @@ int main(int argc, char **argv)
     options o;
     parse_options(argc, argv, &o);
     int nstreams = argc - optind > 0 ? argc - optind : 1;
-    lam_report **reps = lam_malloc(lam_mul_size((size_t)nstreams, sizeof *reps));
-    for (int i = 0; i < nstreams; ++i)
-        reps[i] = norm_stream(optind < argc ? argv[optind + i] : NULL,
-                              o.nlabels ? o.labels[i] : NULL, o.forced);
-    FILE *out = lam_report_open(o.output);
+    lam_report **reps = lam_calloc((size_t)nstreams, sizeof *reps);
+    lam_error err;
+    FILE *out = NULL;
+    int rc = 0;
+    for (int i = 0; i < nstreams && !rc; ++i)
+        rc = norm_stream(optind < argc ? argv[optind + i] : NULL, o.nlabels ? o.labels[i] : NULL,
+                         o.forced, &reps[i], &err);
+    if (!rc) rc = lam_report_open(o.output, &out, &err);
+    if (rc) {
+        for (int i = 0; i < nstreams; ++i) lam_report_free(reps[i]);
+        free(reps);
+        free(o.labels);
+        lam_error_exit(&err);
+    }
     for (int i = 0; i < nstreams; ++i) {
         if (o.tsv) {
             if (i == 0) lam_report_write_header(reps[i], out);
@@ -235,8 +269,9 @@ int main(int argc, char **argv)
         }
         lam_report_free(reps[i]);
     }
-    lam_report_close(out, o.output);
+    rc = lam_report_close(out, o.output, &err);
     free(reps);
     free(o.labels);
+    if (rc) lam_error_exit(&err);
     return 0;
 }

@@ -164,25 +164,38 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
-static lam_spinfree *read_operator(lam_reader *r)
+/* The operator into *out (NULL on error). */
+static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
-    lam_kind kind = lam_reader_kind(r);
-    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r);
+    lam_kind kind;
+    int rc = lam_reader_kind(r, &kind, err);
+    *out = NULL;
+    if (rc) return rc;
+    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r, out, err);
     if (kind == LAM_KIND_FERMION) {
-        lam_spin_order order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+        lam_spin_order order;
         lam_fermion_op op;
-        lam_fermion_read(r, &op);
+        long electrons, ms2;
+        if ((rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &order, err)) ||
+            (rc = lam_fermion_read(r, &op, err)))
+            return rc;
         lam_spinfree *sf = lam_shift_fold_fermion(&op, order, lam_reader_name(r));
-        sf->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n);
-        sf->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -2L * sf->n, 2L * sf->n);
         lam_fermion_free(&op);
-        return sf;
+        if ((rc = lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n, &electrons, err)) ||
+            (rc = lam_reader_meta_long(r, "ms2", 0, -2L * sf->n, 2L * sf->n, &ms2, err))) {
+            lam_spinfree_free(sf);
+            return rc;
+        }
+        sf->electrons = (int)electrons;
+        sf->ms2 = (int)ms2;
+        *out = sf;
+        return 0;
     }
     if (kind == LAM_KIND_UNKNOWN)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "an empty stream without a kind: header; nothing to shift");
-    lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "an empty stream without a kind: header; nothing to shift");
+    return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                        "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
 }
 
 static void resolve_target(const options *o, lam_spinfree *sf, const char *src, lam_shift **k)
@@ -214,24 +227,36 @@ static void show_iteration(int it, double primal, double dual, void *ctx)
  * the original is rebuilt (lam-sum shifted recorded). */
 static int emit_recorded(const options *o, int argc, char **argv)
 {
-    static lam_reader *r; /* reachable when a check below exits */
-    r = lam_reader_open(o->input);
-    lam_meta *meta = lam_reader_meta(r);
-    long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
-    if (n < 0) n = lam_reader_meta_long(r, "modes", -2, 0, 8192) / 2;
-    if (n < 0)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0, "no 'orbitals:' or 'modes:' line");
-    lam_shift *k = lam_shift_recorded(meta, (int)n, lam_reader_name(r));
-    if (!k) lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
+    /* static: reachable while lam_shift_recorded may still exit (shift.c) */
+    static lam_reader *r;
+    lam_error err;
+    lam_shift *k = NULL;
     lam_meta out;
+    char *history = NULL;
+    lam_writer *w = NULL;
+    long n = -1, modes;
     lam_meta_init(&out);
+    int rc = lam_reader_open(o->input, &r, &err);
+    if (rc) lam_error_exit(&err);
+    lam_meta *meta = lam_reader_meta(r);
+    rc = lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, &err);
+    if (!rc && n < 0 && !(rc = lam_reader_meta_long(r, "modes", -2, 0, 8192, &modes, &err)))
+        n = modes / 2;
+    if (!rc && n < 0)
+        rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0,
+                          "no 'orbitals:' or 'modes:' line");
+    if (!rc && !(k = lam_shift_recorded(meta, (int)n, lam_reader_name(r))))
+        rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
+    lam_spin_order order = LAM_SPIN_INTERLEAVED;
+    if (!rc && lam_shift_has_spin(k))
+        rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &order, &err);
+    if (rc) goto done;
     lam_meta_copy(&out, meta);
     lam_shift_describe(k, &out);
-    char *history = lam_history_from_argv(argc, argv);
-    lam_writer *w = lam_writer_open(o->output, o->gzip);
+    history = lam_history_from_argv(argc, argv);
+    if ((rc = lam_writer_open(o->output, o->gzip, &w, &err))) goto done;
     if (lam_shift_has_spin(k)) {
         lam_fermion_op op;
-        lam_spin_order order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
         lam_shift_apply_fermion(NULL, k, order, &op);
         lam_writer_header(w, LAM_KIND_FERMION, &out, history);
         lam_fermion_write_terms(w, &op);
@@ -243,11 +268,16 @@ static int emit_recorded(const options *o, int argc, char **argv)
         lam_spinfree_write_terms(w, kk);
         lam_spinfree_free(kk);
     }
-    lam_writer_close(w);
+    rc = lam_writer_close(w, &err);
+    w = NULL;
+done:
+    lam_writer_discard(w);
     free(history);
     lam_meta_free(&out);
     lam_shift_free(k);
     lam_reader_close(r);
+    r = NULL;
+    if (rc) lam_error_exit(&err);
     return 0;
 }
 
@@ -287,24 +317,36 @@ int main(int argc, char **argv)
     double t0 = lam_seconds();
     if (o.emit_recorded) return emit_recorded(&o, argc, argv);
 
-    /* static: what main holds stays reachable when a check below exits */
+    /* static: what main holds stays reachable while the spin-free check and
+     * shift.c may still exit on bad input; everything that returns an
+     * error is freed below before the program ends */
     static lam_reader *r;
     static lam_spinfree *h;
     static lam_shift *k, *earlier;
-    r = lam_reader_open(o.input);
+    lam_error err;
+    if (lam_reader_open(o.input, &r, &err)) lam_error_exit(&err);
     lam_progress("reading %s", lam_reader_name(r));
-    h = read_operator(r);
+    if (read_operator(r, &h, &err)) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     lam_progress("read %d orbitals in %.2f s", h->n, lam_seconds() - t0);
     const char *src = lam_reader_name(r);
     lam_spinfree_require_real_symmetry(h, src, "the one-norm the shift minimizes");
     resolve_target(&o, h, src, &k);
     earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
     if (earlier && (earlier->electrons != k->electrons ||
-                    (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the stream was already shifted for %d electrons (2Sz %d); a second shift "
-                    "for %d (2Sz %d) would leave no block as in the original operator",
-                    earlier->electrons, earlier->ms2, k->electrons, k->ms2);
+                    (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2))) {
+        lam_error_at(&err, LAM_EX_DATA, src, 0,
+                     "the stream was already shifted for %d electrons (2Sz %d); a second shift "
+                     "for %d (2Sz %d) would leave no block as in the original operator",
+                     earlier->electrons, earlier->ms2, k->electrons, k->ms2);
+        lam_shift_free(k);
+        lam_shift_free(earlier);
+        lam_spinfree_free(h);
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
 
     double t_lp = lam_seconds();
     lam_l1_problem lp;
@@ -333,13 +375,24 @@ int main(int argc, char **argv)
     char *history = lam_history_from_argv(argc, argv);
     lam_progress("optimum found in %.2f s; writing %s", t_lp, o.emit_shift ? "K" : "H - K");
     /* both outputs open before the first byte of either is written */
-    FILE *report = o.report ? lam_report_open(o.report) : NULL;
-    FILE *dump = o.dump ? fopen(o.dump, "w") : NULL;
-    if (o.dump && !dump) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", o.dump, strerror(errno));
-    lam_writer *w = lam_writer_open(o.output, o.gzip);
-    if (dump) {
+    FILE *report = NULL, *dump = NULL;
+    lam_writer *w = NULL;
+    int rc = o.report ? lam_report_open(o.report, &report, &err) : 0;
+    if (!rc && o.dump && !(dump = fopen(o.dump, "w")))
+        rc = lam_error_set(&err, LAM_EX_IOERR, "cannot open %s for writing: %s", o.dump,
+                           strerror(errno));
+    if (!rc) rc = lam_writer_open(o.output, o.gzip, &w, &err);
+    if (!rc && dump) {
         lam_l1_write(dump, &lp, fixed);
-        if (fclose(dump) != 0) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", o.dump, strerror(errno));
+        if (fclose(dump) != 0)
+            rc = lam_error_set(&err, LAM_EX_IOERR, "cannot write %s: %s", o.dump, strerror(errno));
+        dump = NULL;
+    }
+    if (rc) {
+        if (dump) fclose(dump);
+        lam_writer_discard(w);
+        lam_report_discard(report);
+        goto fail;
     }
     if (!lam_shift_has_spin(k)) {
         lam_spinfree *out;
@@ -352,9 +405,14 @@ int main(int argc, char **argv)
             out = h;
             /* the operator written is the one whose norm is reported */
             double check = lam_spinfree_lambda(out);
-            if (fabs(check - after) > 1e-9 * fmax(1, after))
-                lam_fail(LAM_EX_SOFTWARE, "lambda of H - K is %.17g, the LP says %.17g", check,
-                         after);
+            if (fabs(check - after) > 1e-9 * fmax(1, after)) {
+                lam_error_set(&err, LAM_EX_SOFTWARE, "lambda of H - K is %.17g, the LP says %.17g",
+                              check, after);
+                lam_writer_discard(w);
+                lam_report_discard(report);
+                rc = LAM_EX_SOFTWARE;
+                goto fail;
+            }
         }
         lam_spinfree_describe(out, &meta);
         lam_shift_describe(recorded, &meta);
@@ -374,7 +432,11 @@ int main(int argc, char **argv)
         lam_fermion_write_terms(w, &out);
         lam_fermion_free(&out);
     }
-    lam_writer_close(w);
+    rc = lam_writer_close(w, &err);
+    if (rc) {
+        lam_report_discard(report);
+        goto fail;
+    }
 
     lam_report *rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
@@ -406,14 +468,15 @@ int main(int argc, char **argv)
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     if (report) {
         lam_report_write(rep, report, o.tsv);
-        lam_report_close(report, o.report);
+        rc = lam_report_close(report, o.report, &err);
     }
-    if (status != 0)
+    if (status != 0 && !rc)
         lam_warn("warning: the relative gap %.3g did not reach %.3g in %d iterations; "
                  "H - K is exact, only possibly not the best",
                  (res.primal - res.dual) / fmax(after, 1e-300), o.gap, res.iterations);
 
     lam_report_free(rep);
+fail:
     free(history);
     lam_meta_free(&meta);
     lam_l1_free(&lp);
@@ -422,5 +485,6 @@ int main(int argc, char **argv)
     lam_shift_free(total);
     lam_spinfree_free(h);
     lam_reader_close(r);
+    if (rc) lam_error_exit(&err);
     return 0;
 }
