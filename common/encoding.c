@@ -2,6 +2,7 @@
  * from their binary matrices; Majorana monomials to Pauli strings. */
 #include "encoding.h"
 
+#include <assert.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -134,8 +135,9 @@ lam_encoding *lam_encoding_new(lam_encoding_kind kind, int nmodes)
     e->images = lam_calloc(lam_mul_size(rows, 4), sizeof(uint64_t));
     e->phase = lam_calloc((size_t)(2 * nmodes > 0 ? 2 * nmodes : 1), sizeof(int));
     fill_matrix(e);
-    if (invert_gf2(e->matrix, e->inverse, nmodes, e->nwords) != 0)
-        lam_fail(LAM_EX_SOFTWARE, "internal: the %s matrix is singular", lam_encoding_name(kind));
+    int singular = invert_gf2(e->matrix, e->inverse, nmodes, e->nwords);
+    assert(!singular); /* every encoding's matrix is invertible by construction */
+    (void)singular;
     build_images(e);
     return e;
 }
@@ -154,9 +156,7 @@ void lam_encoding_each_pauli(const lam_encoding *e, const lam_majorana_set *m,
                              lam_pauli_visit visit, void *ctx)
 {
     int nw = e->nwords;
-    if (m->nmodes != e->nmodes)
-        lam_fail(LAM_EX_SOFTWARE, "internal: %d modes against an encoding of %d", m->nmodes,
-                 e->nmodes);
+    assert(m->nmodes == e->nmodes); /* the caller builds the encoding for these modes */
     uint64_t *x = lam_malloc(lam_mul_size(2 * (size_t)nw, sizeof(uint64_t))), *z = x + nw;
     for (size_t t = 0; t < m->count; ++t) {
         double v = lam_majorana_value(m, t);
@@ -173,8 +173,8 @@ void lam_encoding_each_pauli(const lam_encoding *e, const lam_majorana_set *m,
             }
         /* the coefficient is v for degree 0,1 mod 4 and i v for 2,3 */
         k += (degree % 4) >= 2;
-        if (k % 2)
-            lam_fail(LAM_EX_SOFTWARE, "internal: imaginary Pauli coefficient from a Majorana monomial");
+        /* a Hermitian monomial maps to a real multiple of a Pauli string */
+        assert(k % 2 == 0);
         visit(ctx, x, z, k % 4 == 0 ? v : -v);
     }
     free(x);
@@ -189,7 +189,7 @@ void lam_encoding_map_majorana(const lam_encoding *e, const lam_majorana_set *m,
                                lam_pauli_set *out)
 {
     lam_pauli_set_init(out, e->nmodes);
-    if (out->nwords != e->nwords) lam_fail(LAM_EX_SOFTWARE, "internal: word counts differ");
+    assert(out->nwords == e->nwords);
     lam_pauli_set_reserve(out, m->count);
     lam_encoding_each_pauli(e, m, add_to_set, out);
 }
