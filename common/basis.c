@@ -79,16 +79,17 @@ static void normalize_contraction(lam_shell *sh, const lam_shell_data *d)
     for (int i = 0; i < d->nprim; ++i) sh->coef[i] /= sqrt(norm2);
 }
 
-lam_basis *lam_basis_build(const lam_molecule *mol,
-                           const lam_basis_set_data *set, int pure)
+int lam_basis_build(const lam_molecule *mol, const lam_basis_set_data *set, int pure,
+                    lam_basis **out, lam_error *err)
 {
     int use_pure = pure < 0 ? set->spherical : pure;
+    *out = NULL;
     for (int a = 0; a < mol->natom; ++a) {
         int z = mol->z[a];
         if (z > set->maxz || !set->elements[z])
-            lam_fail_at(LAM_EX_DATA, mol->source, mol->line[a],
-                        "basis %s has no functions for %s", set->name,
-                        lam_element_symbol(z));
+            return lam_error_at(err, LAM_EX_DATA, mol->source, mol->line[a],
+                                "basis %s has no functions for %s", set->name,
+                                lam_element_symbol(z));
     }
     lam_basis *b = lam_calloc(1, sizeof *b);
     int cap = 0;
@@ -113,7 +114,8 @@ lam_basis *lam_basis_build(const lam_molecule *mol,
             normalize_contraction(sh, d);
         }
     }
-    return b;
+    *out = b;
+    return 0;
 }
 
 void lam_basis_free(lam_basis *b)

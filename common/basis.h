@@ -59,10 +59,10 @@ typedef struct {
 } lam_basis;
 
 /* Basis of the set on every atom.  pure < 0 takes the set's own choice,
- * 0 forces Cartesian, 1 spherical d shells.  exit 65 with the atom's
- * file:line when the set has no functions for an element. */
-lam_basis *lam_basis_build(const lam_molecule *mol,
-                           const lam_basis_set_data *set, int pure);
+ * 0 forces Cartesian, 1 spherical d shells.  0 and *out, or 65 with the
+ * atom's file:line when the set has no functions for an element. */
+int lam_basis_build(const lam_molecule *mol, const lam_basis_set_data *set, int pure,
+                    lam_basis **out, lam_error *err);
 void lam_basis_free(lam_basis *b);
 
 /* Factor that turns the x^l normalization of a shell into the one of the

@@ -67,47 +67,52 @@ static int parse_element(const char *tok)
     return lam_element_z(tok);
 }
 
-static void parse_atom_line(lam_molecule *mol, int *cap, char *text,
-                            long lineno, double scale)
+static int parse_atom_line(lam_molecule *mol, int *cap, char *text, long lineno, double scale,
+                           lam_error *err)
 {
     char *tok[5];
     int n = split_fields(text, tok, 4);
     if (n != 4)
-        lam_fail_at(LAM_EX_DATA, mol->source, lineno,
-                    "expected \"element x y z\", found %s fields",
-                    n > 4 ? "more than 4" : n == 3 ? "3" : n == 2 ? "2" : "1");
+        return lam_error_at(err, LAM_EX_DATA, mol->source, lineno,
+                            "expected \"element x y z\", found %s fields",
+                            n > 4 ? "more than 4" : n == 3 ? "3" : n == 2 ? "2" : "1");
     int z = parse_element(tok[0]);
     if (!z)
-        lam_fail_at(LAM_EX_DATA, mol->source, lineno,
-                    "unknown element '%s' (lam-scf knows H to Ar)", tok[0]);
+        return lam_error_at(err, LAM_EX_DATA, mol->source, lineno,
+                            "unknown element '%s' (lam-scf knows H to Ar)", tok[0]);
     double r[3];
     for (int k = 0; k < 3; ++k)
         if (lam_parse_double(tok[k + 1], &r[k]) != 0)
-            lam_fail_at(LAM_EX_DATA, mol->source, lineno,
-                        "coordinate '%s' is not a number", tok[k + 1]);
+            return lam_error_at(err, LAM_EX_DATA, mol->source, lineno,
+                                "coordinate '%s' is not a number", tok[k + 1]);
     for (int k = 0; k < 3; ++k) r[k] *= scale;
     add_atom(mol, cap, z, r, lineno);
+    return 0;
 }
 
-/* The molecule and line buffer being read stay reachable from here while
- * a parse error exits the program, so that leak checkers (ASan) do not
- * report them and change the exit code. */
-static lam_molecule *volatile molecule_being_read; /* volatile: the stores must stay */
-static char *line_being_read;
-
-lam_molecule *lam_molecule_read_xyz(const char *path, int bohr)
+/* Two atoms at one place would make the nuclear repulsion infinite. */
+static int check_distinct_atoms(const lam_molecule *mol, lam_error *err)
 {
-    int use_stdin = !path || strcmp(path, "-") == 0;
-    FILE *f = use_stdin ? stdin : fopen(path, "r");
-    if (!f) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", path, strerror(errno));
-    lam_molecule *mol = molecule_being_read = lam_calloc(1, sizeof *mol);
-    mol->source = lam_strdup(use_stdin ? "stdin" : path);
-    double scale = bohr ? 1.0 : 1.0 / LAM_BOHR_ANGSTROM;
+    for (int a = 0; a < mol->natom; ++a)
+        for (int b = 0; b < a; ++b) {
+            const double *ra = mol->xyz + 3 * a, *rb = mol->xyz + 3 * b;
+            double dx = ra[0] - rb[0], dy = ra[1] - rb[1], dz = ra[2] - rb[2];
+            if (sqrt(dx * dx + dy * dy + dz * dz) < 1e-8)
+                return lam_error_at(err, LAM_EX_DATA, mol->source, mol->line[a],
+                                    "this atom sits on the atom of line %ld", mol->line[b]);
+        }
+    return 0;
+}
+
+/* The atom lines of f into mol. */
+static int read_atoms(FILE *f, lam_molecule *mol, double scale, lam_error *err)
+{
+    char *line = NULL;
     size_t bufsize = 0;
     long lineno = 0, declared = -1, declared_line = 0;
-    int cap = 0, skip_comment = 0;
-    while (getline(&line_being_read, &bufsize, f) >= 0) {
-        char *buf = line_being_read;
+    int cap = 0, skip_comment = 0, rc = 0;
+    while (!rc && getline(&line, &bufsize, f) >= 0) {
+        char *buf = line;
         ++lineno;
         if (skip_comment) { skip_comment = 0; continue; }
         if (is_blank(buf) || buf[strspn(buf, " \t")] == '#') continue;
@@ -117,8 +122,8 @@ lam_molecule *lam_molecule_read_xyz(const char *path, int bohr)
             long count;
             if (split_fields(copy, tok, 1) == 1 && lam_parse_long(tok[0], &count) == 0) {
                 if (count < 1)
-                    lam_fail_at(LAM_EX_DATA, mol->source, lineno,
-                                "atom count %ld is not positive", count);
+                    rc = lam_error_at(err, LAM_EX_DATA, mol->source, lineno,
+                                      "atom count %ld is not positive", count);
                 declared = count;
                 declared_line = lineno;
                 skip_comment = 1; /* the xyz comment line, whatever it holds */
@@ -126,23 +131,39 @@ lam_molecule *lam_molecule_read_xyz(const char *path, int bohr)
             }
         }
         if (declared >= 0 && mol->natom == declared)
-            lam_fail_at(LAM_EX_DATA, mol->source, lineno,
-                        "more atoms than the %ld declared on line %ld", declared,
-                        declared_line);
-        parse_atom_line(mol, &cap, buf, lineno, scale);
+            rc = lam_error_at(err, LAM_EX_DATA, mol->source, lineno,
+                              "more atoms than the %ld declared on line %ld", declared,
+                              declared_line);
+        else
+            rc = parse_atom_line(mol, &cap, buf, lineno, scale, err);
     }
-    int read_error = ferror(f);
-    free(line_being_read);
-    line_being_read = NULL;
-    if (!use_stdin) fclose(f);
-    if (read_error) lam_fail(LAM_EX_IOERR, "%s: read error", mol->source);
+    free(line);
+    if (rc) return rc;
+    if (ferror(f)) return lam_error_set(err, LAM_EX_IOERR, "%s: read error", mol->source);
     if (declared >= 0 && mol->natom != declared)
-        lam_fail_at(LAM_EX_DATA, mol->source, declared_line,
-                    "%ld atoms declared, %d found", declared, mol->natom);
-    if (mol->natom == 0)
-        lam_fail_at(LAM_EX_DATA, mol->source, lineno, "no atoms");
-    molecule_being_read = NULL;
-    return mol;
+        return lam_error_at(err, LAM_EX_DATA, mol->source, declared_line,
+                            "%ld atoms declared, %d found", declared, mol->natom);
+    if (mol->natom == 0) return lam_error_at(err, LAM_EX_DATA, mol->source, lineno, "no atoms");
+    return check_distinct_atoms(mol, err);
+}
+
+int lam_molecule_read_xyz(const char *path, int bohr, lam_molecule **out, lam_error *err)
+{
+    *out = NULL;
+    int use_stdin = !path || strcmp(path, "-") == 0;
+    FILE *f = use_stdin ? stdin : fopen(path, "r");
+    if (!f)
+        return lam_error_set(err, LAM_EX_NOINPUT, "cannot open %s: %s", path, strerror(errno));
+    lam_molecule *mol = lam_calloc(1, sizeof *mol);
+    mol->source = lam_strdup(use_stdin ? "stdin" : path);
+    int rc = read_atoms(f, mol, bohr ? 1.0 : 1.0 / LAM_BOHR_ANGSTROM, err);
+    if (!use_stdin) fclose(f);
+    if (rc) {
+        lam_molecule_free(mol);
+        return rc;
+    }
+    *out = mol;
+    return 0;
 }
 
 void lam_molecule_free(lam_molecule *mol)
@@ -163,10 +184,7 @@ double lam_molecule_nuclear_repulsion(const lam_molecule *mol)
             const double *ra = mol->xyz + 3 * a, *rb = mol->xyz + 3 * b;
             double dx = ra[0] - rb[0], dy = ra[1] - rb[1], dz = ra[2] - rb[2];
             double r = sqrt(dx * dx + dy * dy + dz * dz);
-            if (r < 1e-8)
-                lam_fail_at(LAM_EX_DATA, mol->source, mol->line[a],
-                            "this atom sits on the atom of line %ld", mol->line[b]);
-            e += mol->z[a] * mol->z[b] / r;
+            e += mol->z[a] * mol->z[b] / r; /* the reader refuses atoms at one place */
         }
     return e;
 }

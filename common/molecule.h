@@ -4,6 +4,8 @@
 #ifndef LAM_MOLECULE_H
 #define LAM_MOLECULE_H
 
+#include "util.h"
+
 /* bohr in angstrom, CODATA 2014 (the value psi4 1.3 uses, so that the same
  * xyz file gives the same geometry in both programs). */
 #define LAM_BOHR_ANGSTROM 0.52917721067
@@ -20,9 +22,10 @@ typedef struct {
 /* Read an xyz file (NULL or "-" for stdin).  Either the common layout
  * (atom count, comment line, atoms) or atom lines only; an atom line is
  * "Symbol x y z" (symbol in any case, or an atomic number).  Coordinates
- * in angstrom unless bohr is non-zero.  exit 66 when the file cannot be
- * opened, exit 65 with file:line for anything malformed. */
-lam_molecule *lam_molecule_read_xyz(const char *path, int bohr);
+ * in angstrom unless bohr is non-zero.  0 and *out, or 66 when the file
+ * cannot be opened, 65 with file:line for anything malformed (two atoms at
+ * one place too), 74 on a read error; nothing is left allocated. */
+int lam_molecule_read_xyz(const char *path, int bohr, lam_molecule **out, lam_error *err);
 void lam_molecule_free(lam_molecule *mol);
 
 /* Atomic number of an element symbol (H..Ar, case-insensitive), 0 if the

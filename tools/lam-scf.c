@@ -265,7 +265,10 @@ static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
 
 /* What main holds stays reachable from here until it is freed, so that
  * an exit on bad input is not reported as a leak (valgrind, ASan), which
- * would change the exit code.  volatile: the stores must not be dropped. */
+ * would change the exit code.  volatile: the stores must not be dropped.
+ * Still needed while scf.c exits on bad input and for the usage errors
+ * found after the molecule is read (--max-memory, --frozen, --active);
+ * the readers return their errors and are freed before the exit. */
 static lam_molecule *volatile held_molecule;
 static lam_basis *volatile held_basis;
 static lam_scf *volatile held_scf;
@@ -277,10 +280,18 @@ int main(int argc, char **argv)
     options o;
     parse_options(argc, argv, &o);
 
-    lam_molecule *mol = held_molecule = lam_molecule_read_xyz(o.input, o.bohr);
+    lam_error err;
+    lam_molecule *mol;
+    lam_basis *basis;
+    if (lam_molecule_read_xyz(o.input, o.bohr, &mol, &err)) lam_error_exit(&err);
+    held_molecule = mol;
     mol->charge = (int)o.charge;
     lam_scf_closed_shell_electrons(mol);
-    lam_basis *basis = held_basis = lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure);
+    if (lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure, &basis, &err)) {
+        lam_molecule_free(mol);
+        lam_error_exit(&err);
+    }
+    held_basis = basis;
     /* the largest possible active space bounds the memory before any work */
     int most_active = o.energy_only ? 1 : (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
     check_memory(&o, basis->nbf, most_active > 0 ? most_active : 1);
@@ -304,7 +315,6 @@ int main(int argc, char **argv)
         check_orbital_space(&o, s, &active);
         lam_spinfree *sf = held_op = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
         clean_integrals(&o, sf);
-        lam_error err;
         int rc = write_fcidump(out, sf, &err);
         lam_spinfree_free(sf);
         held_op = NULL;

@@ -334,7 +334,9 @@ static void test_h2_szabo(void)
     mol.xyz = xyz;
     mol.line = line;
     mol.source = "h2";
-    lam_basis *b = lam_basis_build(&mol, lam_basis_set_find("sto-3g"), -1);
+    lam_basis *b;
+    lam_error err;
+    if (lam_basis_build(&mol, lam_basis_set_find("sto-3g"), -1, &b, &err)) exit(65);
     double s[4], t[4], v[4];
     lam_int_overlap(b, s);
     lam_int_kinetic(b, t);
@@ -371,7 +373,9 @@ static void test_water_and_normalization(void)
     tap_near(lam_molecule_nuclear_repulsion(&mol), 8.002367061810450, 1e-10,
              "water E_nuc = 8.002367061810450 (Crawford project 3)");
     for (int pure = 0; pure <= 1; ++pure) {
-        lam_basis *b = lam_basis_build(&mol, lam_basis_set_find("cc-pvdz"), pure);
+        lam_basis *b;
+        lam_error err;
+        if (lam_basis_build(&mol, lam_basis_set_find("cc-pvdz"), pure, &b, &err)) exit(65);
         int n = b->nbf;
         tap_ok(n == (pure ? 24 : 25), pure ? "water cc-pVDZ: 24 spherical functions"
                                            : "water cc-pVDZ: 25 Cartesian functions");
