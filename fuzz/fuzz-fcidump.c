@@ -11,10 +11,8 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     lam_fcidump *fd = NULL;
     lam_error err;
     int rc = lam_fcidump_read(path, &fd, &err);
-    if (rc == 0 && !fd) abort();
-    if (rc != 0 && (fd || (rc != LAM_EX_DATA && rc != LAM_EX_NOINPUT && rc != LAM_EX_IOERR) ||
-                    err.code != rc))
-        abort(); /* an error is one of the reader's codes, with nothing handed out */
+    if ((rc == 0) != (fd != NULL)) abort(); /* an error hands nothing out */
+    fuzz_check_error(rc, &err);
     lam_fcidump_free(fd);
     return 0;
 }

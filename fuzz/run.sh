@@ -2,10 +2,11 @@
 # fuzz/run.sh TARGET-BINARY CORPUS-DIR SECONDS LOG
 # Runs a libFuzzer target for SECONDS in short processes of RUNS inputs
 # each, sharing one corpus directory (so coverage guidance carries over).
-# Why: a rejected input leaves the reader by longjmp (fuzz-common.h), so
-# what it had open or allocated stays behind; short processes keep that
-# bounded instead of running out of descriptors or memory.  Exit 1 on the
-# first crash, with the tail of the log.
+# Why: the readers hand rejected input back as an error and free what they
+# read, but the Pauli reader still exits, turned into a longjmp by
+# fuzz-stream.c, which leaves its set behind; short processes keep that
+# bounded instead of running out of memory.  Exit 1 on the first crash,
+# with the tail of the log.
 set -u
 bin=$1 corpus=$2 seconds=$3 log=$4
 runs=${FUZZ_RUNS_PER_PROCESS:-400}
