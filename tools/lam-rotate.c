@@ -144,16 +144,20 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
-static lam_spinfree *read_operator(lam_reader *r)
+/* The operator into *out (NULL on error). */
+static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
-    lam_kind kind = lam_reader_kind(r);
-    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r);
+    lam_kind kind;
+    int rc = lam_reader_kind(r, &kind, err);
+    *out = NULL;
+    if (rc) return rc;
+    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r, out, err);
     if (kind == LAM_KIND_UNKNOWN)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "an empty stream without a kind: header; nothing to rotate");
-    lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                "lam-rotate reads spinfree streams, not %s (orbitals are defined for "
-                "spin-free operators only)", lam_kind_name(kind));
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "an empty stream without a kind: header; nothing to rotate");
+    return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                        "lam-rotate reads spinfree streams, not %s (orbitals are defined for "
+                        "spin-free operators only)", lam_kind_name(kind));
 }
 
 /* A shift recorded by lam-shift names xi in the old orbitals; it is the
@@ -198,14 +202,20 @@ int main(int argc, char **argv)
     double t0 = lam_seconds();
     clock_t c0 = clock();
 
-    /* static: what main holds stays reachable when a check below exits */
+    /* static: what main holds stays reachable while rotate.c, shift.c, the
+     * spin-free symmetry check and the usage errors below still exit; the
+     * stream reader and writer return their errors and are freed first */
     static lam_reader *r;
     static lam_spinfree *h, *out;
     static double *u0, *u;
     static lam_rotate_blocks blocks;
     static FILE *mf;
-    r = lam_reader_open(o.input);
-    h = read_operator(r);
+    lam_error rerr;
+    if (lam_reader_open(o.input, &r, &rerr)) lam_error_exit(&rerr);
+    if (read_operator(r, &h, &rerr)) {
+        lam_reader_close(r);
+        lam_error_exit(&rerr);
+    }
     const char *src = lam_reader_name(r);
     int n = h->n;
     lam_spinfree_require_real_symmetry(h, src, "the closed-form one-norm the rotation lowers");
@@ -268,10 +278,19 @@ int main(int argc, char **argv)
     lam_format_double(buf, sizeof buf, lambda_out);
     lam_meta_set(&meta, "rotation-lambda-after", buf);
     char *history = lam_history_from_argv(argc, argv);
-    lam_writer *w = lam_writer_open(o.output, o.gzip);
-    lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
-    lam_spinfree_write_terms(w, out);
-    lam_writer_close(w);
+    lam_writer *w;
+    int rc = lam_writer_open(o.output, o.gzip, &w, &rerr);
+    if (!rc) {
+        lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
+        lam_spinfree_write_terms(w, out);
+        rc = lam_writer_close(w, &rerr);
+    }
+    if (rc) {
+        if (mf) fclose(mf);
+        free(history);
+        lam_meta_free(&meta);
+        goto done;
+    }
     if (mf) lam_rotate_write_matrix(mf, o.matrix, n, u);
 
     lam_report *rep = lam_report_new();
@@ -296,17 +315,19 @@ int main(int argc, char **argv)
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     lam_report_num(rep, "cpu_seconds", (double)(clock() - c0) / CLOCKS_PER_SEC);
     lam_report_int(rep, "threads", openblas_get_num_threads());
-    if (o.report) lam_report_save(rep, o.report, o.tsv);
+    if (o.report) rc = lam_report_save(rep, o.report, o.tsv, &rerr);
     else lam_report_write(rep, stderr, o.tsv);
 
     lam_report_free(rep);
     free(history);
     lam_meta_free(&meta);
+done:
     lam_rotate_blocks_free(&blocks);
     free(u0);
     free(u);
     lam_spinfree_free(out);
     lam_spinfree_free(h);
     lam_reader_close(r);
+    if (rc) lam_error_exit(&rerr);
     return 0;
 }
