@@ -295,12 +295,18 @@ static void bound_generic_block(const lam_fockop *op, const lam_fock_sector *s, 
 
 static void sector_must_fit(const lam_plan_entry *e, int orbitals, const char *what)
 {
-    if (e->na > orbitals)
-        lam_fail(LAM_EX_USAGE, "sector (%d,%d) needs %d spin-up electrons but the operator has %d %s",
-                 e->na, e->nb, e->na, orbitals, what);
-    if (e->nb > orbitals)
-        lam_fail(LAM_EX_USAGE, "sector (%d,%d) needs %d spin-down electrons but the operator has %d %s",
-                 e->na, e->nb, e->nb, orbitals, what);
+    if (e->na > orbitals) {
+        lam_error fail_err;
+        lam_error_set(&fail_err, LAM_EX_USAGE, "sector (%d,%d) needs %d spin-up electrons but the operator has %d %s",
+                      e->na, e->nb, e->na, orbitals, what);
+        lam_error_exit(&fail_err);
+    }
+    if (e->nb > orbitals) {
+        lam_error fail_err;
+        lam_error_set(&fail_err, LAM_EX_USAGE, "sector (%d,%d) needs %d spin-down electrons but the operator has %d %s",
+                      e->na, e->nb, e->nb, orbitals, what);
+        lam_error_exit(&fail_err);
+    }
 }
 
 static uint64_t spinfree_fingerprint(const lam_spinfree *sf)
@@ -376,15 +382,21 @@ static lam_fock_sector fock_sector_of(const lam_plan_entry *e, const lam_fock_co
 static void plan_generic(lam_plan *p, const lam_fock_conservation *c, int nq, const options *o,
                          const char *src)
 {
-    if ((o->sector_na >= 0 || o->electrons >= 0) && !c->number_blocks)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the operator changes the particle number (or is not a Jordan-Wigner "
-                    "stream): it has no electron-number sectors");
+    if ((o->sector_na >= 0 || o->electrons >= 0) && !c->number_blocks) {
+        lam_error fail_err;
+        lam_error_at(&fail_err, LAM_EX_DATA, src, 0,
+                     "the operator changes the particle number (or is not a Jordan-Wigner "
+                     "stream): it has no electron-number sectors");
+        lam_error_exit(&fail_err);
+    }
     if (o->sector_na >= 0) {
-        if (!c->spin_sectors)
-            lam_fail_at(LAM_EX_DATA, src, 0,
-                        "the operator does not conserve the spin-up and spin-down numbers "
-                        "separately: --sector has no meaning for it");
+        if (!c->spin_sectors) {
+            lam_error fail_err;
+            lam_error_at(&fail_err, LAM_EX_DATA, src, 0,
+                         "the operator does not conserve the spin-up and spin-down numbers "
+                         "separately: --sector has no meaning for it");
+            lam_error_exit(&fail_err);
+        }
         lam_plan_add(p, o->sector_na, o->sector_nb);
         return;
     }
@@ -686,13 +698,19 @@ int main(int argc, char **argv)
             lam_error_exit(&err);
         }
         alive.sf = sf;
-        if (sf->n > 64)
-            lam_fail_at(LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
+        if (sf->n > 64) {
+            lam_error fail_err;
+            lam_error_at(&fail_err, LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
+            lam_error_exit(&fail_err);
+        }
         sf = lam_ci_hermitian(sf, src);
         alive.sf = sf;
         if (electrons < 0 && o.electrons < 0) electrons = sf->electrons;
-        if (electrons > 2 * sf->n)
-            lam_fail(LAM_EX_USAGE, "%d electrons do not fit in %d orbitals", electrons, sf->n);
+        if (electrons > 2 * sf->n) {
+            lam_error fail_err;
+            lam_error_set(&fail_err, LAM_EX_USAGE, "%d electrons do not fit in %d orbitals", electrons, sf->n);
+            lam_error_exit(&fail_err);
+        }
         if (o.multiplets < 0) o.multiplets = o.sector_na < 0;
         lam_plan_spinfree(&p, sf->n, o.sector_na, o.sector_nb, o.multiplets);
         solve_spinfree(&p, sf, &o);
@@ -712,8 +730,11 @@ int main(int argc, char **argv)
         lam_fockop *op = lam_fockop_new(&set, src);
         alive.op = op;
         lam_fock_conservation c = lam_fockop_conservation(op, order, jw);
-        if (electrons > op->nqubits)
-            lam_fail(LAM_EX_USAGE, "%d electrons do not fit in %d modes", electrons, op->nqubits);
+        if (electrons > op->nqubits) {
+            lam_error fail_err;
+            lam_error_set(&fail_err, LAM_EX_USAGE, "%d electrons do not fit in %d modes", electrons, op->nqubits);
+            lam_error_exit(&fail_err);
+        }
         /* the header's electron number is a wish, not a demand: without
          * number conservation, report the Fock space only */
         if (o.electrons < 0 && !c.number_blocks) {
@@ -729,9 +750,12 @@ int main(int argc, char **argv)
         solve_generic(&p, op, &c, &o);
         lam_fockop_free(op);
         lam_pauli_set_free(&set);
-    } else {
-        lam_fail_at(LAM_EX_DATA, src, 0, "lam-range reads spinfree, fermion or pauli streams, not %s",
-                    lam_kind_name(kind));
+    } else { {
+        lam_error fail_err;
+        lam_error_at(&fail_err, LAM_EX_DATA, src, 0, "lam-range reads spinfree, fermion or pauli streams, not %s",
+                     lam_kind_name(kind));
+        lam_error_exit(&fail_err);
+    }
     }
     lam_reader_close(r);
     resolve_mirrors(&p);

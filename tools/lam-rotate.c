@@ -166,11 +166,14 @@ static void rotate_recorded_shift(lam_meta *meta, int n, const double *u, const 
 {
     lam_shift *k = lam_shift_recorded(meta, n, src);
     if (!k) return;
-    if (lam_shift_has_spin(k) || !(k->terms & LAM_SHIFT_XI))
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the stream carries a recorded shift whose xi is not a full symmetric "
-                    "matrix (or has spin terms); it cannot be carried to rotated orbitals: "
-                    "rotate before shifting");
+    if (lam_shift_has_spin(k) || !(k->terms & LAM_SHIFT_XI)) {
+        lam_error fail_err;
+        lam_error_at(&fail_err, LAM_EX_DATA, src, 0,
+                     "the stream carries a recorded shift whose xi is not a full symmetric "
+                     "matrix (or has spin terms); it cannot be carried to rotated orbitals: "
+                     "rotate before shifting");
+        lam_error_exit(&fail_err);
+    }
     size_t nn = (size_t)n * n;
     double *xi = lam_malloc(lam_mul_size(nn, sizeof(double)));
     double *t = lam_malloc(lam_mul_size(nn, sizeof(double)));
@@ -238,8 +241,11 @@ int main(int argc, char **argv)
     int start_er = strcmp(o.start, "er") == 0;
     if (strcmp(o.start, "given") == 0 || start_er) u0 = identity(n);
     else u0 = lam_rotate_read_matrix(o.start, n);
-    if (o.matrix && !(mf = fopen(o.matrix, "w")))
-        lam_fail(LAM_EX_IOERR, "%s: cannot write", o.matrix);
+    if (o.matrix && !(mf = fopen(o.matrix, "w"))) {
+        lam_error fail_err;
+        lam_error_set(&fail_err, LAM_EX_IOERR, "%s: cannot write", o.matrix);
+        lam_error_exit(&fail_err);
+    }
 
     lam_rotate_result er_res = {0};
     if (start_er) {

@@ -193,10 +193,13 @@ static void check_memory(const options *o, int nbf, int active)
     /* SCF data, half-transformed and MO pair matrices, the dense operator */
     double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + 8.0 * m2 * m2 +
                    (double)lam_spinfree_bytes(active);
-    if (bytes > o->max_memory)
-        lam_fail(LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
-                 "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
-                 o->max_memory / 1048576.0);
+    if (bytes > o->max_memory) {
+        lam_error fail_err;
+        lam_error_set(&fail_err, LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
+                      "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
+                      o->max_memory / 1048576.0);
+        lam_error_exit(&fail_err);
+    }
 }
 
 /* Opened before any work, so that a wrong -o path fails at once. */
@@ -204,14 +207,21 @@ static FILE *open_output(const char *path)
 {
     if (!path || strcmp(path, "-") == 0) return stdout;
     FILE *out = fopen(path, "w");
-    if (!out) lam_fail(LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+    if (!out) {
+        lam_error fail_err;
+        lam_error_set(&fail_err, LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+        lam_error_exit(&fail_err);
+    }
     return out;
 }
 
 static void close_output(FILE *out, const char *path)
 {
-    if (fflush(out) != 0 || ferror(out) || (out != stdout && fclose(out) != 0))
-        lam_fail(LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
+    if (fflush(out) != 0 || ferror(out) || (out != stdout && fclose(out) != 0)) {
+        lam_error fail_err;
+        lam_error_set(&fail_err, LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
+        lam_error_exit(&fail_err);
+    }
 }
 
 /* Integrals that vanish by symmetry come out as rounding noise: below the
