@@ -115,7 +115,8 @@ static void test_number_operator(void)
     int idx[2] = {4, 5};
     lam_majorana_add(&m, NULL, 0, 0.5, 0.0, 0);
     lam_majorana_add(&m, idx, 2, 0.0, 0.5, 0);
-    lam_majorana_require_hermitian(&m, "test");
+    lam_error err;
+    tap_ok(lam_majorana_require_hermitian(&m, "test", &err) == 0, "n_2 - 1/2 is Hermitian");
     for (int k = 0; k < 3; ++k) {
         lam_encoding *e = lam_encoding_new(kinds[k], 3);
         lam_pauli_set s;

@@ -91,7 +91,8 @@ static double majorana_lambda_of(const lam_fermion_op *op)
     lam_majorana_set m;
     lam_majorana_init(&m, op->nmodes);
     lam_majorana_from_fermion(op, &m);
-    lam_majorana_require_hermitian(&m, "test");
+    lam_error err;
+    if (lam_majorana_require_hermitian(&m, "test", &err)) printf("# %s\n", err.msg);
     double l = lam_majorana_lambda(&m);
     lam_majorana_free(&m);
     return l;

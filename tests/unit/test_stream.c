@@ -18,15 +18,90 @@ static void write_file(const char *text)
     fclose(f);
 }
 
+static lam_reader *open_or_die(void)
+{
+    lam_reader *r;
+    lam_error err;
+    if (lam_reader_open(path, &r, &err)) {
+        printf("# %s\n", err.msg);
+        exit(66);
+    }
+    return r;
+}
+
 /* The kind a reader finds for text, and the spelling version it read. */
 static lam_kind kind_of(const char *text, int *syntax)
 {
     write_file(text);
-    lam_reader *r = lam_reader_open(path);
-    lam_kind kind = lam_reader_kind(r);
+    lam_reader *r = open_or_die();
+    lam_error err;
+    lam_kind kind = LAM_KIND_UNKNOWN;
+    if (lam_reader_kind(r, &kind, &err)) printf("# %s\n", err.msg);
     if (syntax) *syntax = lam_reader_syntax(r);
     lam_reader_close(r);
     return kind;
+}
+
+/* Read text to its end: 0, or the code with err filled (the reader is
+ * closed either way; the leak checkers see what it forgets). */
+static int read_all(const char *text, lam_error *err)
+{
+    write_file(text);
+    lam_reader *r;
+    lam_kind kind;
+    lam_line ln;
+    int rc = lam_reader_open(path, &r, err);
+    if (rc) return rc;
+    if ((rc = lam_reader_kind(r, &kind, err)) == 0)
+        while ((rc = lam_reader_next(r, &ln, err)) == 1) {
+        }
+    lam_reader_close(r);
+    return rc;
+}
+
+static void expect_refused(const char *text, int code, long line, const char *msg,
+                           const char *name)
+{
+    lam_error err;
+    int rc = read_all(text, &err);
+    int ok = rc == code && err.code == code && err.line == line &&
+             strcmp(err.file, path) == 0 && strstr(err.msg, msg) != NULL;
+    tap_ok(ok, name);
+    if (!ok) printf("#   got %d at %s:%ld: %s\n", rc, err.file, err.line, err.msg);
+}
+
+/* Errors come back to the caller with code, file, line and message. */
+static void test_returned_errors(void)
+{
+    lam_error err;
+    tap_ok(read_all("#% lamina-op 2\n0.5 x:0\n#% end\n", &err) == 0, "a good stream reads to 0");
+    expect_refused("#% lamina-op 2\n0.5 x:0\n", 65, 2, "truncated stream",
+                   "a stream without '#% end': 65 at its last line");
+    expect_refused("#% lamina-op 2\n0.5 x:0\nnan z:1\n#% end\n", 65, 3,
+                   "coefficient 'nan' is not finite", "a NaN coefficient: 65 at its line");
+    expect_refused("#% lamina-op 2\n#% kind: pauli\n#% kind: fermion\n#% end\n", 65, 3,
+                   "second kind 'fermion' contradicts 'pauli'", "two kinds: 65 at the second");
+    expect_refused("#% lamina-op 2\n0.5 x:0\n#% end\n1 y:1\n", 65, 4, "term after '#% end'",
+                   "a term after the trailer: 65 at its line");
+    expect_refused("# only a comment\n", 65, 0, "empty input", "an empty input: 65, no line");
+    lam_reader *r = (lam_reader *)1;
+    int rc = lam_reader_open("/nonexistent/lam-stream", &r, &err);
+    tap_ok(rc == LAM_EX_NOINPUT && r == NULL && err.file[0] == '\0' &&
+               strstr(err.msg, "cannot open /nonexistent/lam-stream") != NULL,
+           "a missing file: 66, cannot open, no reader");
+    lam_writer *w = (lam_writer *)1;
+    rc = lam_writer_open("/nonexistent/dir/out.op", 0, &w, &err);
+    tap_ok(rc == LAM_EX_IOERR && w == NULL &&
+               strstr(err.msg, "cannot open /nonexistent/dir/out.op for writing") != NULL,
+           "an unwritable output: 74, no writer");
+    if (access("/dev/full", W_OK) == 0) {
+        /* a write error is kept by the writer and reported by close */
+        rc = lam_writer_open("/dev/full", 0, &w, &err);
+        for (int i = 0; rc == 0 && i < 100000; ++i) lam_writer_term(w, 0.5, "x:0 z:1");
+        rc = rc ? rc : lam_writer_close(w, &err);
+        tap_ok(rc == LAM_EX_IOERR && strstr(err.msg, "cannot write /dev/full") != NULL,
+               "a full device: close returns 74, cannot write");
+    }
 }
 
 int main(void)
@@ -99,27 +174,31 @@ int main(void)
     /* A full suite stream: header, comment, blank line, terms, trailer. */
     write_file("#% lamina-op 2\n#% kind: pauli\n#% qubits: 4\n# a comment\n\n"
                "-0.5\n0.25 x:0 z:3\n#% late: yes\n1e-3 y:1 @2\n#% end\n");
-    lam_reader *r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_PAULI, "kind from header");
+    lam_reader *r = open_or_die();
+    lam_error err;
+    lam_kind kind;
+    tap_ok(lam_reader_kind(r, &kind, &err) == 0 && kind == LAM_KIND_PAULI, "kind from header");
     tap_ok(strcmp(lam_meta_get(lam_reader_meta(r), "qubits"), "4") == 0, "metadata read");
     lam_line ln;
     int n = 0;
     double sum = 0;
-    while (lam_reader_next(r, &ln)) {
+    int rc;
+    while ((rc = lam_reader_next(r, &ln, &err)) == 1) {
         ++n;
         sum += ln.coef;
     }
-    tap_ok(n == 3, "three terms");
+    tap_ok(n == 3 && rc == 0, "three terms, then the end (0)");
     tap_near(sum, -0.249, 1e-15, "coefficients parsed");
     tap_ok(lam_meta_get(lam_reader_meta(r), "late") != NULL, "metadata between terms kept");
     lam_reader_close(r);
 
     /* Kind inferred from the terms of a stream without header. */
     write_file("0.5\n0.25 3 1 / 0 2\n");
-    r = lam_reader_open(path);
-    tap_ok(lam_reader_kind(r) == LAM_KIND_FERMION, "fermion kind inferred past a bare constant");
+    r = open_or_die();
+    tap_ok(lam_reader_kind(r, &kind, &err) == 0 && kind == LAM_KIND_FERMION,
+           "fermion kind inferred past a bare constant");
     n = 0;
-    while (lam_reader_next(r, &ln)) ++n;
+    while (lam_reader_next(r, &ln, &err) == 1) ++n;
     tap_ok(n == 2, "inferred-kind stream still yields every term");
     tap_ok(lam_reader_syntax(r) == 0, "the generic reader leaves the spelling to the kind's parser");
     lam_reader_close(r);
@@ -153,6 +232,7 @@ int main(void)
     tap_ok(strcmp(h, "lam-map --encoding parity 'a b'") == 0, "history line from argv");
     free(h);
 
+    test_returned_errors();
     unlink(path);
     return tap_done();
 }
