@@ -663,28 +663,27 @@ int lam_reader_index(const lam_reader *r, const lam_line *ln, int field, long li
 
 static _Noreturn void exit_with(const lam_error *e) { lam_error_exit(e); }
 
-void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
+static _Noreturn void vfail_line(const lam_reader *r, long line, const char *fmt, va_list ap)
 {
     char msg[1024];
     lam_error e;
-    va_list ap;
-    va_start(ap, fmt);
     vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
     lam_reader_error(r, line, &e, "%s", msg);
     exit_with(&e);
 }
 
-void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
+void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
 {
-    char msg[1024];
-    lam_error e;
     va_list ap;
     va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
-    lam_reader_error(r, r->lineno, &e, "%s", msg);
-    exit_with(&e);
+    vfail_line(r, line, fmt, ap);
+}
+
+void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vfail_line(r, r->lineno, fmt, ap);
 }
 
 lam_reader *lam_reader_open_or_exit(const char *path)
