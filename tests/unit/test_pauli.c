@@ -6,6 +6,7 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "norm.h"
 #include "pauli.h"
 #include "stream.h"
 #include "tap.h"
