@@ -17,23 +17,12 @@
 #include "spinfree.h"
 #include "stream.h"
 #include "tap.h"
+#include "testops.h"
 #include "util.h"
-
-static char *write_temp(const char *text)
-{
-    static char path[64];
-    strcpy(path, "/tmp/test_norm_XXXXXX");
-    int fd = mkstemp(path);
-    if (fd < 0) return NULL;
-    FILE *f = fdopen(fd, "w");
-    fputs(text, f);
-    fclose(f);
-    return path;
-}
 
 static void read_set(const char *text, lam_pauli_set *s)
 {
-    char *path = write_temp(text);
+    char *path = test_write_temp(text);
     lam_reader *r = lam_reader_open(path);
     lam_pauli_read(r, s);
     lam_reader_close(r);
@@ -43,7 +32,7 @@ static void read_set(const char *text, lam_pauli_set *s)
 /* The summary of a stream, summed as read (distinct) or merged first. */
 static void summarize(const char *text, int merged, lam_pauli_summary *sum)
 {
-    char *path = write_temp(text);
+    char *path = test_write_temp(text);
     lam_reader *r = lam_reader_open(path);
     if (merged)
         lam_pauli_summarize_merged(r, sum);
