@@ -54,10 +54,10 @@ size_t lam_ci_string_rank(uint64_t mask);
 lam_ci_strings *lam_ci_strings_new(int n, int k);
 void lam_ci_strings_free(lam_ci_strings *s);
 
-/* sf itself when Hermitian; (H + H^T)/2 in place of sf (freed) when the
- * asymmetry is at rounding level (1e-10 of the largest coefficient); exit
- * 65 naming src otherwise, since the eigenvalues need not be real. */
-lam_spinfree *lam_ci_hermitian(lam_spinfree *sf, const char *src);
+/* sf itself when exactly Hermitian; else (H + H^T)/2 in place of sf
+ * (freed).  The caller has validated sf (lam_spinfree_validate), so what
+ * this removes is an asymmetry within the policy's tolerance. */
+lam_spinfree *lam_ci_hermitian(lam_spinfree *sf);
 
 /* The operator prepared for sigma: pair numbering, (pq|rs) as a pair by
  * pair matrix, k_pq. */

@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "norm.h"
 #include "util.h"
 
 /* Integers above 2^53 no longer round-trip through a double, and the
@@ -241,7 +242,6 @@ int lam_cost_flat(const lam_lcu_summary *lcu, const lam_cost_budget *bud,
 
 typedef struct {
     int32_t group;
-    double coef;
 } labelled_term;
 
 static int by_group(const void *a, const void *b)
@@ -255,19 +255,17 @@ static int is_identity(const lam_pauli_set *s, size_t t)
     return lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t));
 }
 
-/* Each group of m anticommuting strings is one unitary of norm
- * sqrt(sum c^2), applied as R P R^dagger with R a product of m - 1 Pauli
- * rotations: 2(m - 1) fixed-angle rotations. */
+/* Each group of m anticommuting strings is one unitary (of norm
+ * sqrt(sum c^2): lam_pauli_set_lambda_grouped), applied as R P R^dagger
+ * with R a product of m - 1 Pauli rotations: 2(m - 1) fixed-angle
+ * rotations. */
 static void add_groups(labelled_term *lt, size_t n, lam_lcu_summary *lcu)
 {
     qsort(lt, n, sizeof *lt, by_group);
     for (size_t i = 0; i < n;) {
         size_t j = i;
-        double sq = 0, big = 0;
-        for (; j < n && lt[j].group == lt[i].group; ++j) big = fmax(big, fabs(lt[j].coef));
-        for (size_t t = i; t < j; ++t) sq += (lt[t].coef / big) * (lt[t].coef / big);
+        while (j < n && lt[j].group == lt[i].group) ++j;
         long long m = (long long)(j - i);
-        lcu->lambda += big * sqrt(sq); /* scaled: no overflow of c^2 */
         lcu->unitaries += 1;
         lcu->groups += 1;
         lcu->flat_rotations += 2 * (m - 1);
@@ -295,20 +293,19 @@ void lam_cost_summary_from_pauli(lam_pauli_set *s, int use_groups, lam_lcu_summa
     for (size_t t = 0; t < s->count; ++t) {
         if (is_identity(s, t)) continue;
         lcu->strings += 1;
-        lcu->lambda_strings += fabs(s->coef[t]);
         if (grouped && s->group[t] >= 0) {
             lt[nl].group = s->group[t];
-            lt[nl].coef = s->coef[t];
             ++nl;
             continue;
         }
-        lcu->lambda += fabs(s->coef[t]);
         lcu->unitaries += 1;
         if (grouped) { /* an unlabelled string is a group of one */
             lcu->groups += 1;
             if (lcu->largest_group < 1) lcu->largest_group = 1;
         }
     }
+    lcu->lambda_strings = lam_pauli_set_lambda(s);
+    lcu->lambda = grouped ? lam_pauli_set_lambda_grouped(s, NULL) : lcu->lambda_strings;
     if (grouped) {
         lcu->form = "pauli_grouped";
         add_groups(lt, nl, lcu);

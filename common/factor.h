@@ -57,7 +57,7 @@ typedef struct {
     long iterations;            /* full rank: L-BFGS iterations in total */
 } lam_factor_info;
 
-/* Needs real symmetric integrals (check lam_spinfree_real_symmetry_error
+/* Needs real symmetric integrals (lam_spinfree_validate with real_for
  * first).  Returns the fragments; info filled.  Full rank exits 65 when
  * max_fragments is reached with the residual above tol. */
 lam_fragments *lam_factor(const lam_spinfree *sf, const lam_factor_options *o,

@@ -665,7 +665,7 @@ static void append_sorted(lam_majorana_set *m, int *idx, int k, double re, doubl
  *   a_pu b_qu a_rd b_sd          -1/4 (pq|rs)                  (opposite spins)
  *   a_ps b_qs a_rs b_ss, p<r, q<s  -1/4 ((pq|rs) - (ps|rq))      (same spin)
  * These are the terms whose one-norm is the closed form of
- * lam_spinfree_lambda. */
+ * lam_spinfree_lambda (norm.c). */
 void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                                 lam_majorana_set *m)
 {
@@ -675,8 +675,7 @@ void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
     append_sorted(m, none, 0, lam_spinfree_constant(sf), 0.0);
     for (int p = 0; p < n; ++p)
         for (int q = 0; q < n; ++q) {
-            double t = LAM_H(sf, p, q);
-            for (int r = 0; r < n; ++r) t += LAM_G(sf, p, q, r, r) - 0.5 * LAM_G(sf, p, r, r, q);
+            double t = lam_spinfree_effective_one_body(sf, p, q);
             if (t == 0.0) continue;
             for (int s = 0; s < 2; ++s) {
                 int idx[2] = {2 * lam_spin_mode(order, n, p, s),
@@ -712,19 +711,10 @@ void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                 }
 }
 
-static double spinfree_scale(const lam_spinfree *sf)
-{
-    size_t nn = (size_t)sf->n * (size_t)sf->n;
-    double big = 0.0;
-    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
-    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
-    return big;
-}
-
 void lam_majorana_from_spinfree_any(const lam_spinfree *sf, lam_spin_order order,
                                     lam_majorana_set *m)
 {
-    if (lam_spinfree_real_symmetry_error(sf) <= 1e-14 * spinfree_scale(sf)) {
+    if (lam_spinfree_is_real(sf)) {
         lam_majorana_from_spinfree(sf, order, m);
         return;
     }
@@ -771,14 +761,6 @@ double lam_majorana_value(const lam_majorana_set *m, size_t t)
     return imaginary_phase(lam_majorana_degree(m, t)) ? m->im[t] : m->re[t];
 }
 
-double lam_majorana_lambda(const lam_majorana_set *m)
-{
-    double sum = 0.0;
-    for (size_t t = 0; t < m->count; ++t)
-        if (lam_majorana_degree(m, t) > 0) sum += fabs(lam_majorana_value(m, t));
-    return sum;
-}
-
 double lam_majorana_constant(const lam_majorana_set *m)
 {
     double sum = 0.0;
@@ -807,31 +789,6 @@ int lam_fermion_relabel_spin(lam_fermion_op *op, lam_spin_order from, lam_spin_o
     return 0;
 }
 
-/* The first pair of entries that breaks h_pq = h_qp or
- * (pq|rs) = (qp|sr), named for the user. */
-void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src)
-{
-    int n = sf->n;
-    double tol = 1e-12 * (spinfree_scale(sf) > 1.0 ? spinfree_scale(sf) : 1.0);
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q)
-            if (fabs(LAM_H(sf, p, q) - LAM_H(sf, q, p)) > tol)
-                lam_fail_at(LAM_EX_DATA, src, 0,
-                            "the operator is not Hermitian: term '%d %d' has coefficient "
-                            "%.17g but '%d %d' has %.17g",
-                            p, q, LAM_H(sf, p, q), q, p, LAM_H(sf, q, p));
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q)
-            for (int r = 0; r < n; ++r)
-                for (int s = 0; s < n; ++s)
-                    if (fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, s, r)) > tol)
-                        lam_fail_at(LAM_EX_DATA, src, 0,
-                                    "the operator is not Hermitian: (%d %d|%d %d) = %.17g but "
-                                    "(%d %d|%d %d) = %.17g",
-                                    p, q, r, s, LAM_G(sf, p, q, r, s), q, p, s, r,
-                                    LAM_G(sf, q, p, s, r));
-}
-
 int lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
                       lam_majorana_set *m, lam_spin_order *used, lam_error *err)
 {
@@ -844,7 +801,10 @@ int lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
     if (kind == LAM_KIND_SPINFREE) {
         lam_spinfree *sf;
         if ((rc = lam_spinfree_read(r, &sf, err)) != 0) return rc;
-        lam_spinfree_require_hermitian(sf, src);
+        if ((rc = lam_spinfree_validate(sf, src, NULL, err)) != 0) {
+            lam_spinfree_free(sf);
+            return rc;
+        }
         lam_majorana_from_spinfree_any(sf, out, m);
         lam_spinfree_free(sf);
     } else if (kind == LAM_KIND_FERMION) {

@@ -136,12 +136,12 @@ void lam_majorana_add(lam_majorana_set *m, const int *idx, int k, double re,
  * a+_j = (g_2j - i g_2j+1)/2) and merge. */
 void lam_majorana_from_fermion(const lam_fermion_op *op, lam_majorana_set *m);
 /* Direct expansion of a spinfree operator with the 8-fold symmetry of real
- * integrals (the caller checks lam_spinfree_real_symmetry_error first):
+ * integrals (the caller checks lam_spinfree_is_real first):
  * the merged monomials in closed form, no hashing (see fermion.c). */
 void lam_majorana_from_spinfree(const lam_spinfree *sf, lam_spin_order order,
                                 lam_majorana_set *m);
 /* Any spinfree operator: the direct expansion when the real symmetry holds
- * to 1e-14 relative, else through ladder terms. */
+ * (lam_spinfree_is_real), else through ladder terms. */
 void lam_majorana_from_spinfree_any(const lam_spinfree *sf, lam_spin_order order,
                                     lam_majorana_set *m);
 /* Number of Majoranas in monomial t. */
@@ -154,13 +154,9 @@ int lam_majorana_require_hermitian(lam_majorana_set *m, const char *src, lam_err
 /* Real magnitude of the Hermitian coefficient of monomial t: re for
  * degree 0,1 mod 4, im for 2,3 mod 4 (after require_hermitian). */
 double lam_majorana_value(const lam_majorana_set *m, size_t t);
-/* Sum of |c_S| over non-empty S, and the coefficient of the empty one. */
-double lam_majorana_lambda(const lam_majorana_set *m);
+/* The coefficient of the empty monomial (the one-norm is in norm.h). */
 double lam_majorana_constant(const lam_majorana_set *m);
 
-/* exit 65 naming src and the first pair of entries that breaks
- * h_pq = h_qp or (pq|rs) = (qp|sr) beyond 1e-12 of the largest entry. */
-void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src);
 
 /* The operator of a spinfree or fermion stream as merged Majorana
  * monomials, with modes in spin order *order (NULL: the stream's own

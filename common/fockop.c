@@ -71,15 +71,6 @@ void lam_fockop_free(lam_fockop *op)
     free(op);
 }
 
-double lam_fockop_lambda(const lam_fockop *op)
-{
-    double s = 0;
-    for (size_t f = 0; f < op->nflip; ++f)
-        for (size_t t = op->first[f]; t < op->first[f + 1]; ++t)
-            if (op->flip[f] != 0 || op->z[t] != 0) s += hypot(op->re[t], op->im[t]);
-    return s;
-}
-
 static int parity(uint64_t v) { return __builtin_popcountll(v) & 1; }
 
 /* <b|H|b ^ flip[f]> as a complex number, from the source string src = b ^ x. */

@@ -41,9 +41,7 @@ typedef struct {
 lam_fockop *lam_fockop_new(const lam_pauli_set *s, const char *src);
 void lam_fockop_free(lam_fockop *op);
 
-/* Sum of |coefficient| over the terms other than the identity: |H - c| is
- * at most this, so twice it bounds the spread of the spectrum. */
-double lam_fockop_lambda(const lam_fockop *op);
+/* Its one-norm is lam_fockop_lambda (norm.h). */
 
 /* 1 when every element of the operator keeps the Hamming weight on mask
  * (to rounding), 0 when some element changes it, or when a flip mask spans

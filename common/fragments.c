@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "norm.h"
 #include "util.h"
 
 #define MAX_ORBITALS 4096
@@ -378,11 +379,8 @@ lam_fragments_stats lam_fragments_stats_of(const lam_fragments *fr)
     s.constant = fr->constant;
     s.fragments = fr->nfrag;
     s.orbitals = fr->n;
-    for (size_t k = 0; k < fr->count; ++k) {
-        double a = fabs(fr->terms[k].coef);
-        s.lambda += a;
-        if (a > s.max_coef) s.max_coef = a;
-    }
+    s.lambda = lam_fragments_lambda(fr, -1);
+    for (size_t k = 0; k < fr->count; ++k) s.max_coef = fmax(s.max_coef, fabs(fr->terms[k].coef));
     s.unitaries = fr->count;
     s.terms = fr->count + (fr->constant != 0.0);
     return s;

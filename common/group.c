@@ -31,6 +31,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "norm.h"
 #include "util.h"
 
 /* Anchors with more Majorana indices than this are not filed by index. */
@@ -967,8 +968,8 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
             continue;
         }
         sorted[n++] = (by_mag){fabs(in->coef[t]), t};
-        st->lambda += fabs(in->coef[t]);
     }
+    st->lambda = lam_pauli_set_lambda(in);
     if (n > (size_t)UINT32_MAX - 1)
         lam_fail(LAM_EX_SOFTWARE, "%zu terms: more than lam-group can hold", n);
     qsort(sorted, n, sizeof *sorted, by_mag_desc);
@@ -1037,7 +1038,7 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
     }
     free(core);
     emit(&e, &sh, in, rank_to_term, out, st);
-    st->lambda_grouped = lam_group_lambda(out, NULL);
+    st->lambda_grouped = lam_pauli_set_lambda_grouped(out, NULL);
 
     shares_free(&sh);
     engine_free(&e);
@@ -1071,32 +1072,6 @@ static size_t members_by_label(const lam_pauli_set *s, labelled **out)
     qsort(v, n, sizeof *v, by_label);
     *out = v;
     return n;
-}
-
-double lam_group_lambda(const lam_pauli_set *s, size_t *groups)
-{
-    double sum = 0;
-    size_t ng = 0;
-    for (size_t t = 0; t < s->count; ++t)
-        if ((!s->group || s->group[t] < 0) &&
-            !lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t)))
-            sum += fabs(s->coef[t]);
-    labelled *v;
-    size_t n = members_by_label(s, &v);
-    for (size_t a = 0; a < n;) {
-        size_t b = a;
-        double w = 0;
-        while (b < n && v[b].label == v[a].label) {
-            w += s->coef[v[b].term] * s->coef[v[b].term];
-            ++b;
-        }
-        sum += sqrt(w);
-        ++ng;
-        a = b;
-    }
-    free(v);
-    if (groups) *groups = ng;
-    return sum;
 }
 
 static int same_string(const lam_pauli_set *s, size_t a, size_t b)

@@ -77,10 +77,6 @@ typedef struct {
 void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
                      lam_pauli_set *out, lam_group_stats *st);
 
-/* sum_g sqrt(sum c^2) + sum |c| of unlabelled non-identity terms, over the
- * terms as stored (merge first). */
-double lam_group_lambda(const lam_pauli_set *s, size_t *groups);
-
 /* Verify a labelled set: within every group, every pair of distinct strings
  * anticommutes (commutes when want_commuting).  Returns 0 when it holds,
  * else 1 with *first, *second the offending pair (first < second), chosen

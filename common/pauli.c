@@ -10,6 +10,7 @@
 #include <string.h>
 #include <sys/mman.h>
 
+#include "norm.h"
 #include "util.h"
 
 /* The largest qubit index a stream may name; keeps 64-bit word counts and
@@ -659,15 +660,6 @@ void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
     free(buf);
 }
 
-double lam_pauli_set_lambda(const lam_pauli_set *s)
-{
-    double sum = 0.0;
-    for (size_t t = 0; t < s->count; ++t)
-        if (!lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t)))
-            sum += s->coef[t] < 0 ? -s->coef[t] : s->coef[t];
-    return sum;
-}
-
 double lam_pauli_set_constant(const lam_pauli_set *s)
 {
     double sum = 0.0;
@@ -687,63 +679,12 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s)
     return top;
 }
 
-/* A Euclidean norm accumulated as scale * sqrt(ssq) with scale the
- * largest |c| so far (the scaling of LAPACK's dnrm2): no square overflows
- * or underflows, so subnormal coefficients keep their grouped norm. */
-static void norm_add(double acc[2], double c)
-{
-    double a = fabs(c);
-    if (a == 0) return;
-    if (a > acc[0]) {
-        double r = acc[0] / a;
-        acc[1] = 1 + acc[1] * r * r;
-        acc[0] = a;
-    } else {
-        double r = a / acc[0];
-        acc[1] += r * r;
-    }
-}
-
-static double norm_value(const double acc[2]) { return acc[0] * sqrt(acc[1]); }
-
-/* The Euclidean norm of the coefficients of each group label. */
-typedef struct {
-    lam_rowhash index;
-    uint64_t *labels;
-    double (*norm)[2];
-    size_t count, cap;
-} label_norms;
-
-static void label_norms_add(label_norms *ln, int32_t group, double c)
-{
-    if (ln->count == ln->cap) {
-        ln->cap = ln->cap ? 2 * ln->cap : 256;
-        ln->labels = lam_realloc(ln->labels, lam_mul_size(ln->cap, sizeof *ln->labels));
-        ln->norm = lam_realloc(ln->norm, lam_mul_size(ln->cap, sizeof *ln->norm));
-    }
-    ln->labels[ln->count] = (uint64_t)group;
-    size_t k = lam_rowhash_insert(&ln->index, ln->labels, 1, NULL, ln->count);
-    if (k == ln->count) ln->norm[ln->count][0] = ln->norm[ln->count][1] = 0, ++ln->count;
-    norm_add(ln->norm[k], c);
-}
-
-/* Sum over labels of the norms; frees the table. */
-static double label_norms_total(label_norms *ln)
-{
-    double sum = 0;
-    for (size_t g = 0; g < ln->count; ++g) sum += norm_value(ln->norm[g]);
-    lam_rowhash_free(&ln->index);
-    free(ln->labels);
-    free(ln->norm);
-    return sum;
-}
-
 void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
 {
     long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
     int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
     uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
-    label_norms labels = {0};
+    lam_grouped_norm norms = {0};
     memset(out, 0, sizeof *out);
     lam_line ln;
     while (lam_reader_next(r, &ln)) {
@@ -766,18 +707,12 @@ void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
             out->constant += ln.coef;
             continue;
         }
-        double a = ln.coef < 0 ? -ln.coef : ln.coef;
-        out->lambda += a;
         if (weight > out->max_weight) out->max_weight = weight;
-        if (group < 0) {
-            out->lambda_grouped += a;
-            continue;
-        }
-        out->labelled = 1;
-        label_norms_add(&labels, group, ln.coef);
+        if (group >= 0) out->labelled = 1;
+        lam_grouped_norm_add(&norms, group, ln.coef);
     }
-    out->groups = labels.count;
-    out->lambda_grouped += label_norms_total(&labels);
+    out->lambda = norms.plain;
+    out->lambda_grouped = lam_grouped_norm_finish(&norms, &out->groups);
     if (declared >= 0) out->nqubits = (int)declared;
     free(xz);
 }
@@ -1163,7 +1098,7 @@ static size_t expected_keys(lam_reader *r, size_t lines)
 /* Sum the merged table in the order of first appearance. */
 static void summarize_table(const key_table *kt, lam_pauli_summary *out)
 {
-    label_norms labels = {0};
+    lam_grouped_norm norms = {0};
     for (size_t t = 0; t < kt->count; ++t) {
         double c = kt->coef[t];
         if (c == 0) continue;
@@ -1174,17 +1109,12 @@ static void summarize_table(const key_table *kt, lam_pauli_summary *out)
             out->constant += c;
             continue;
         }
-        out->lambda += fabs(c);
         if (weight > out->max_weight) out->max_weight = weight;
-        if (group < 0) {
-            out->lambda_grouped += fabs(c);
-        } else {
-            out->labelled = 1;
-            label_norms_add(&labels, group, c);
-        }
+        if (group >= 0) out->labelled = 1;
+        lam_grouped_norm_add(&norms, group, c);
     }
-    out->groups = labels.count;
-    out->lambda_grouped += label_norms_total(&labels);
+    out->lambda = norms.plain;
+    out->lambda_grouped = lam_grouped_norm_finish(&norms, &out->groups);
 }
 
 void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
@@ -1270,23 +1200,4 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
         free(mp.chunk[k].bytes);
     }
     free(xz);
-}
-
-/* A group of anticommuting strings is sqrt(sum c^2) times a unitary
- * (fact of the trade): each label costs the Euclidean norm of its
- * coefficients, each unlabelled string its |c|. */
-double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups)
-{
-    label_norms labels = {0};
-    double lambda = 0.0;
-    for (size_t t = 0; t < s->count; ++t) {
-        if (lam_pauli_is_identity(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t))) continue;
-        double c = s->coef[t];
-        if (!s->group || s->group[t] < 0)
-            lambda += c < 0 ? -c : c;
-        else
-            label_norms_add(&labels, s->group[t], c);
-    }
-    if (ngroups) *ngroups = labels.count;
-    return lambda + label_norms_total(&labels);
 }

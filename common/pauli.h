@@ -63,17 +63,10 @@ void lam_pauli_set_reserve(lam_pauli_set *s, size_t count);
 /* Raise the qubit count (widening every stored string when the word count
  * grows); never lowers it. */
 void lam_pauli_set_grow_qubits(lam_pauli_set *s, int nqubits);
-/* Sum of |c| over the non-identity terms, and sum of the identity terms
- * (as stored: merge first for the one-norm of the operator). */
-double lam_pauli_set_lambda(const lam_pauli_set *s);
+/* Sum of the identity terms, as stored (the one-norms are in norm.h). */
 double lam_pauli_set_constant(const lam_pauli_set *s);
 /* Largest weight of any term. */
 int lam_pauli_set_max_weight(const lam_pauli_set *s);
-/* One-norm when each group label stands for one anticommuting group:
- * sum over labels of sqrt(sum c^2), plus |c| of every unlabelled
- * non-identity term; *ngroups gets the number of labels (may be NULL).
- * The identity is never counted.  Merge first. */
-double lam_pauli_set_lambda_grouped(const lam_pauli_set *s, size_t *ngroups);
 /* Merge repeated (string, group) pairs by hashing, in order of first
  * appearance; drop exact zeros when drop_zeros. */
 void lam_pauli_set_merge(lam_pauli_set *s, int drop_zeros);

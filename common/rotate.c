@@ -14,6 +14,7 @@
 #include "group.h"
 #include "linalg.h"
 #include "lp.h"
+#include "norm.h"
 #include "pauli.h"
 #include "shift.h"
 #include "util.h"

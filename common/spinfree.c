@@ -265,21 +265,69 @@ double lam_spinfree_real_symmetry_error(const lam_spinfree *sf)
     return worst;
 }
 
-/* ---- closed forms ---- */
+/* ---- the validation policy ---- */
 
-void lam_spinfree_require_real_symmetry(const lam_spinfree *sf, const char *src,
-                                        const char *what)
+double lam_spinfree_scale(const lam_spinfree *sf)
 {
     size_t nn = (size_t)sf->n * (size_t)sf->n;
-    double big = 0;
-    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
+    double big = 0.0;
     for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
-    double err = lam_spinfree_real_symmetry_error(sf);
-    if (err > 1e-12 * big)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the integrals lack the 8-fold symmetry of real orbitals "
-                    "(largest violation %.3g Eh); %s needs it", err, what);
+    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
+    return big;
 }
+
+static double symmetry_tol(const lam_spinfree *sf)
+{
+    return LAM_SPINFREE_SYMMETRY_TOL * lam_spinfree_scale(sf);
+}
+
+int lam_spinfree_is_real(const lam_spinfree *sf)
+{
+    return lam_spinfree_real_symmetry_error(sf) <= symmetry_tol(sf);
+}
+
+/* The first pair of entries that breaks h_pq = h_qp or (pq|rs) = (qp|sr)
+ * beyond tol, named for the user. */
+static int first_hermiticity_break(const lam_spinfree *sf, double tol, const char *file,
+                                   lam_error *err)
+{
+    int n = sf->n;
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            if (fabs(LAM_H(sf, p, q) - LAM_H(sf, q, p)) > tol)
+                return lam_error_at(err, LAM_EX_DATA, file, 0,
+                                    "the operator is not Hermitian: term '%d %d' has "
+                                    "coefficient %.17g but '%d %d' has %.17g",
+                                    p, q, LAM_H(sf, p, q), q, p, LAM_H(sf, q, p));
+    for (int p = 0; p < n; ++p)
+        for (int q = 0; q < n; ++q)
+            for (int r = 0; r < n; ++r)
+                for (int s = 0; s < n; ++s)
+                    if (fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, s, r)) > tol)
+                        return lam_error_at(err, LAM_EX_DATA, file, 0,
+                                            "the operator is not Hermitian: (%d %d|%d %d) = "
+                                            "%.17g but (%d %d|%d %d) = %.17g",
+                                            p, q, r, s, LAM_G(sf, p, q, r, s), q, p, s, r,
+                                            LAM_G(sf, q, p, s, r));
+    return 0;
+}
+
+int lam_spinfree_validate(const lam_spinfree *sf, const char *file, const char *real_for,
+                          lam_error *err)
+{
+    double tol = symmetry_tol(sf);
+    if (first_hermiticity_break(sf, tol, file, err) != 0) return err->code;
+    if (!real_for) return 0;
+    double real = lam_spinfree_real_symmetry_error(sf);
+    if (real > tol)
+        return lam_error_at(err, LAM_EX_DATA, file, 0,
+                            "the integrals lack the 8-fold symmetry of real orbitals "
+                            "(largest violation %.3g Eh); %s needs it",
+                            real, real_for);
+    return 0;
+}
+
+/* ---- closed forms ---- */
 
 double lam_spinfree_constant(const lam_spinfree *sf)
 {
@@ -293,30 +341,12 @@ double lam_spinfree_constant(const lam_spinfree *sf)
     return c;
 }
 
-/* One-body coefficient once the two-body part has given up its
- * one-body pieces: h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq). */
-static double effective_one_body(const lam_spinfree *sf, int p, int q)
+double lam_spinfree_effective_one_body(const lam_spinfree *sf, int p, int q)
 {
     double t = LAM_H(sf, p, q);
     for (int r = 0; r < sf->n; ++r)
         t += LAM_G(sf, p, q, r, r) - 0.5 * LAM_G(sf, p, r, r, q);
     return t;
-}
-
-double lam_spinfree_lambda(const lam_spinfree *sf)
-{
-    int n = sf->n;
-    size_t n4 = (size_t)n * n * n * n;
-    double one = 0, same_spin = 0, mixed = 0;
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q) one += fabs(effective_one_body(sf, p, q));
-    for (size_t i = 0; i < n4; ++i) mixed += fabs(sf->g[i]);
-    for (int p = 0; p < n; ++p)
-        for (int r = 0; r < p; ++r)
-            for (int q = 0; q < n; ++q)
-                for (int s = 0; s < q; ++s)
-                    same_spin += fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, p, s, r, q));
-    return one + 0.25 * mixed + 0.5 * same_spin;
 }
 
 lam_spinfree *lam_spinfree_read_or_exit(lam_reader *r)

@@ -6,14 +6,14 @@
  * index order.  g holds (pq|rs) as a dense n^4 array; it always has the
  * symmetry (pq|rs) = (rs|pq), which is an identity of the operators
  * (e_pqrs = e_rspq).  The further symmetries of real integrals
- * ((pq|rs) = (qp|rs)) are properties that lam_spinfree_has_real_symmetry
- * tests.
+ * ((pq|rs) = (qp|rs)) are properties that lam_spinfree_validate checks.
  */
 #ifndef LAM_SPINFREE_H
 #define LAM_SPINFREE_H
 
 #include <stddef.h>
 #include "stream.h"
+#include "util.h"
 
 typedef struct {
     int n;          /* spatial orbitals */
@@ -74,20 +74,34 @@ double lam_spinfree_hermiticity_error(const lam_spinfree *sf);
  * symmetry of real orbitals). */
 double lam_spinfree_real_symmetry_error(const lam_spinfree *sf);
 
-/* Exit 65 naming src when the 8-fold symmetry of real integrals is
- * violated by more than 1e-12 of the largest |h|, |g| (17-digit streams
- * keep it far below); what names what needs it, in the message. */
-void lam_spinfree_require_real_symmetry(const lam_spinfree *sf, const char *src,
-                                        const char *what);
+/* The one validation policy of spin-free input, applied by every program
+ * that reads a spinfree stream.  The operator must be Hermitian
+ * (h_pq = h_qp and (pq|rs) = (qp|sr)) and, where real_for names something
+ * that needs it (a closed form, the fragments), have the 8-fold symmetry
+ * of real orbitals ((pq|rs) = (qp|rs)); both to LAM_SPINFREE_SYMMETRY_TOL
+ * times lam_spinfree_scale.  A stream written with 17 digits keeps every
+ * symmetry of its source to the last bit, far inside; an asymmetry above
+ * it is a property of the operator, not rounding.  Returns 0, or 65 with
+ * err naming file and the first pair of entries that differ (or the
+ * largest violation of the real symmetry). */
+#define LAM_SPINFREE_SYMMETRY_TOL 1e-12
+int lam_spinfree_validate(const lam_spinfree *sf, const char *file, const char *real_for,
+                          lam_error *err);
+/* The scale of the policy: the largest |h_pq| and |(pq|rs)| (0 for the
+ * zero operator, which passes). */
+double lam_spinfree_scale(const lam_spinfree *sf);
+/* 1 when the 8-fold real symmetry holds within the policy's tolerance (the
+ * closed forms then apply), else 0. */
+int lam_spinfree_is_real(const lam_spinfree *sf);
 
 /* Identity part of the qubit/Majorana form:
  *   e0 + sum_p h_pp + 1/2 sum_pr (pp|rr) - 1/4 sum_pq (pq|qp). */
 double lam_spinfree_constant(const lam_spinfree *sf);
-/* Closed-form Majorana one-norm (no identity), valid for operators with
- * the 8-fold real symmetry (Koridon et al., PRR 3, 033127 (2021)):
- *   sum_pq |h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq)|
- *   + 1/4 sum_pqrs |(pq|rs)| + 1/2 sum_{p>r,q>s} |(pq|rs) - (ps|rq)| */
-double lam_spinfree_lambda(const lam_spinfree *sf);
+/* One-body coefficient once the two-body part has given up its one-body
+ * pieces: h_pq + sum_r (pq|rr) - 1/2 sum_r (pr|rq) (the closed form of
+ * the one-norm, lam_spinfree_lambda in norm.h, and the direct Majorana
+ * expansion both use it). */
+double lam_spinfree_effective_one_body(const lam_spinfree *sf, int p, int q);
 
 /* Number of terms lam_spinfree_foreach_term visits. */
 size_t lam_spinfree_term_count(const lam_spinfree *sf);

@@ -8,6 +8,7 @@
 
 #include "fermion.h"
 #include "fuzz-common.h"
+#include "norm.h"
 #include "pauli.h"
 #include "spinfree.h"
 #include "stream.h"

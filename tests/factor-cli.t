@@ -92,8 +92,12 @@ is "$RC" 65 "pauli stream: exit 65"
 like "$ERR" "^lam-factor: .*spinfree" "pauli stream: message names the kind wanted"
 
 runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 1 0 0\n#% end\n' lam-factor
+is "$RC" 65 "a non-Hermitian operator: exit 65"
+like "$ERR" "^lam-factor: <stdin>: the operator is not Hermitian: \\(0 0\\|0 1\\)" "a non-Hermitian operator: the pair named"
+# Hermitian, (01|01) = (10|10), but (10|01) = 0: no real symmetry
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 1 0 1\n0.1 1 0 1 0\n#% end\n' lam-factor
 is "$RC" 65 "integrals without real symmetry: exit 65"
-like "$ERR" "^lam-factor: .*symmetry" "integrals without real symmetry: message"
+like "$ERR" "^lam-factor: <stdin>: the integrals lack the 8-fold symmetry of real orbitals .*; the factorization needs it" "integrals without real symmetry: message"
 
 runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% orbitals: 2\n0.1 0 0\n' lam-factor
 is "$RC" 65 "truncated stream: exit 65"

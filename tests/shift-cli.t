@@ -182,6 +182,9 @@ runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\nnan 0 
 is "$RC" 65 "NaN coefficient: exit 65"
 like "$ERR" "lam-shift: <stdin>:5: " "NaN coefficient: file:line"
 runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 1\n0.25 1 0\n#% end\n' lam-shift
+is "$RC" 65 "a non-Hermitian operator: exit 65"
+like "$ERR" "not Hermitian: term '0 1'" "a non-Hermitian operator: message"
+runlam_in $'#% lamina-op 2\n#% kind: spinfree\n#% electrons: 2\n-0.5 0 0\n0.1 0 1 0 1\n0.1 1 0 1 0\n#% end\n' lam-shift
 is "$RC" 65 "integrals without the real symmetry: exit 65"
 like "$ERR" "8-fold symmetry" "integrals without the real symmetry: message"
 runlam_in $'#% lamina-op 2\n#% kind: fermion\n#% modes: 4\n#% electrons: 2\n-0.5 0 / 0\n0.1 0 / 1\n#% end\n' lam-shift

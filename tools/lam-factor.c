@@ -8,15 +8,12 @@
 
 #include "factor.h"
 #include "fragments.h"
+#include "norm.h"
 #include "report.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "linalg.h"
 #include "util.h"
-
-/* Integrals written with 17 digits keep their symmetry to the last bit;
- * this leaves room for integrals that were averaged or rotated. */
-#define SYMMETRY_TOL 1e-10
 
 static _Noreturn void usage(void)
 {
@@ -151,18 +148,9 @@ static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
                                                      : lam_kind_name(kind));
     lam_spinfree *sf;
     if ((rc = lam_spinfree_read(r, &sf, err))) return rc;
-    double scale = 1.0;
-    size_t n4 = (size_t)sf->n * sf->n * sf->n * sf->n;
-    for (size_t k = 0; k < n4; ++k) scale = fmax(scale, fabs(sf->g[k]));
-    double herm = lam_spinfree_hermiticity_error(sf);
-    double real = lam_spinfree_real_symmetry_error(sf);
-    if (herm > SYMMETRY_TOL * scale || real > SYMMETRY_TOL * scale) {
+    if ((rc = lam_spinfree_validate(sf, lam_reader_name(r), "the factorization", err))) {
         lam_spinfree_free(sf);
-        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
-                            "the integrals lack the symmetry of real orbitals (h_pq = h_qp, "
-                            "(pq|rs) = (qp|rs)): largest violation %.3g Eh; the fragments need "
-                            "real symmetric integrals",
-                            fmax(herm, real));
+        return rc;
     }
     *out = sf;
     return 0;
@@ -200,14 +188,6 @@ static void describe_result(lam_meta *meta, const lam_fragments *fr, const lam_f
     lam_meta_set(meta, "integral-norm-error", buf);
 }
 
-static double one_body_lambda(const lam_fragments *fr)
-{
-    double s = 0.0;
-    for (size_t k = 0; k < fr->count; ++k)
-        if (fr->terms[k].frag == 0) s += fabs(fr->terms[k].coef);
-    return s;
-}
-
 /* The --tsv columns, whichever the method (lam-factor(1) lists them):
  * the fragments figures lam-norm also gives, then lam-factor's own, named
  * scope first (lambda.h1: the one-body part of lambda, ...). */
@@ -226,7 +206,7 @@ static lam_report *make_report(const cli *c, const char *input, const lam_spinfr
     lam_report_columns(rep, tsv_columns);
     lam_report_str(rep, "label", c->label ? c->label : input);
     lam_fragments_report(fr, rep);
-    double lambda = lam_fragments_stats_of(fr).lambda, one = one_body_lambda(fr);
+    double lambda = lam_fragments_lambda(fr, -1), one = lam_fragments_lambda(fr, 0);
     lam_report_str(rep, "method", method_name(o->method));
     lam_report_num(rep, "tol", o->tol);
     lam_report_int(rep, "fragments.h2", info->factors_kept);

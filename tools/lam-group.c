@@ -6,6 +6,7 @@
 #include <string.h>
 
 #include "group.h"
+#include "norm.h"
 #include "pauli.h"
 #include "report.h"
 #include "stream.h"
@@ -219,7 +220,7 @@ static int run_check(const options *o)
 
     lam_pauli_set_merge(&s, 0);
     size_t groups = 0, lines_out = 0;
-    double grouped = lam_group_lambda(&s, &groups);
+    double grouped = lam_pauli_set_lambda_grouped(&s, &groups);
     /* the operator itself: strings merged across groups */
     lam_pauli_set op;
     lam_pauli_set_init(&op, s.nqubits);

@@ -7,6 +7,7 @@
 
 #include "fermion.h"
 #include "fragments.h"
+#include "norm.h"
 #include "pauli.h"
 #include "report.h"
 #include "spinfree.h"
@@ -47,31 +48,24 @@ static const char *const tsv_columns[] = {
     "grouping", "unitaries", "fragments", "orbitals", "electrons", "modes", "qubits",
     "max_weight", NULL};
 
-/* The closed form needs the 8-fold symmetry of real integrals; rounding
- * in a file written with 17 digits stays far below this. */
-static int has_real_symmetry(const lam_spinfree *sf)
-{
-    size_t nn = (size_t)sf->n * (size_t)sf->n;
-    double big = 0.0;
-    for (size_t i = 0; i < nn * nn; ++i) big = fmax(big, fabs(sf->g[i]));
-    for (size_t i = 0; i < nn; ++i) big = fmax(big, fabs(sf->h[i]));
-    return lam_spinfree_real_symmetry_error(sf) <= 1e-14 * big;
-}
-
 static int norm_spinfree(lam_report *rep, lam_reader *r, lam_error *err)
 {
     lam_spinfree *sf;
     int rc = lam_spinfree_read(r, &sf, err);
     if (rc) return rc;
+    if ((rc = lam_spinfree_validate(sf, lam_reader_name(r), NULL, err)) != 0) {
+        lam_spinfree_free(sf);
+        return rc;
+    }
     lam_report_int(rep, "terms", (long long)lam_spinfree_term_count(sf));
-    if (has_real_symmetry(sf)) {
+    /* the closed form needs the 8-fold symmetry of real integrals */
+    if (lam_spinfree_is_real(sf)) {
         lam_report_num(rep, "constant", lam_spinfree_constant(sf));
         lam_report_num(rep, "lambda", lam_spinfree_lambda(sf));
         lam_report_str(rep, "method", "closed-form");
     } else {
         /* without the symmetry: the general Majorana expansion */
         lam_majorana_set m;
-        lam_spinfree_require_hermitian(sf, lam_reader_name(r));
         lam_majorana_from_spinfree_any(sf, LAM_SPIN_INTERLEAVED, &m);
         rc = lam_majorana_require_hermitian(&m, lam_reader_name(r), err);
         lam_report_num(rep, "constant", lam_majorana_constant(&m));

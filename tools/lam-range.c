@@ -11,6 +11,7 @@
 #include "eigen.h"
 #include "fermion.h"
 #include "fockop.h"
+#include "norm.h"
 #include "pauli.h"
 #include "plan.h"
 #include "report.h"
@@ -699,11 +700,11 @@ int main(int argc, char **argv)
         }
         alive.sf = sf;
         if (sf->n > 64) {
-            lam_error fail_err;
-            lam_error_at(&fail_err, LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
-            lam_error_exit(&fail_err);
+            lam_error_at(&err, LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
+            lam_error_exit(&err);
         }
-        sf = lam_ci_hermitian(sf, src);
+        if (lam_spinfree_validate(sf, src, NULL, &err) != 0) lam_error_exit(&err);
+        sf = lam_ci_hermitian(sf);
         alive.sf = sf;
         if (electrons < 0 && o.electrons < 0) electrons = sf->electrons;
         if (electrons > 2 * sf->n) {

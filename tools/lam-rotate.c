@@ -10,6 +10,7 @@
 #include "report.h"
 #include "rotate.h"
 #include "shift.h"
+#include "norm.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "linalg.h"
@@ -221,7 +222,9 @@ int main(int argc, char **argv)
     }
     const char *src = lam_reader_name(r);
     int n = h->n;
-    lam_spinfree_require_real_symmetry(h, src, "the closed-form one-norm the rotation lowers");
+    lam_error bad;
+    if (lam_spinfree_validate(h, src, "the closed-form one-norm the rotation lowers", &bad) != 0)
+        lam_error_exit(&bad);
     if (o.electrons >= 0) {
         if (o.electrons > 2L * n) lam_usage_error("%ld electrons do not fit in %d orbitals",
                                                   o.electrons, n);

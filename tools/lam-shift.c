@@ -10,6 +10,7 @@
 #include "lp.h"
 #include "report.h"
 #include "shift.h"
+#include "norm.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "linalg.h"
@@ -332,7 +333,11 @@ int main(int argc, char **argv)
     }
     lam_progress("read %d orbitals in %.2f s", h->n, lam_seconds() - t0);
     const char *src = lam_reader_name(r);
-    lam_spinfree_require_real_symmetry(h, src, "the one-norm the shift minimizes");
+    if (lam_spinfree_validate(h, src, "the one-norm the shift minimizes", &err) != 0) {
+        lam_spinfree_free(h);
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     resolve_target(&o, h, src, &k);
     earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
     if (earlier && (earlier->electrons != k->electrons ||

@@ -416,6 +416,11 @@ int main(int argc, char **argv)
         merge_meta(&meta, r, i == 0);
         if (k == LAM_KIND_SPINFREE) {
             lam_spinfree *sf = lam_spinfree_read(r);
+            lam_error err;
+            if (lam_spinfree_validate(sf, lam_reader_name(r), NULL, &err) != 0) {
+                lam_spinfree_free(sf);
+                lam_error_exit(&err);
+            }
             add_spinfree(&sf_acc, sf, inputs[i].factor);
             lam_spinfree_free(sf);
         } else if (k == LAM_KIND_PAULI) {

@@ -5,6 +5,7 @@
 
 #include "encoding.h"
 #include "tap.h"
+#include "norm.h"
 #include "util.h"
 
 static const lam_encoding_kind kinds[3] = {LAM_ENC_JORDAN_WIGNER, LAM_ENC_BRAVYI_KITAEV,

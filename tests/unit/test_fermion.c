@@ -9,6 +9,7 @@
 
 #include "fermion.h"
 #include "tap.h"
+#include "norm.h"
 #include "util.h"
 
 /* Parse "c o o o; c o o" into an operator (modes < 8); o is a+N for the

@@ -17,6 +17,7 @@
 #include <string.h>
 
 #include "group.h"
+#include "norm.h"
 #include "pauli.h"
 #include "tap.h"
 #include "util.h"
@@ -288,8 +289,8 @@ static void test_check(void)
     tap_ok(lam_group_check(&s, 1, &f, &g) == 1 && f == 0 && g == 2,
            "as commuting groups, x:0 and z:0 fail first");
     size_t ng = 0;
-    tap_near(lam_group_lambda(&s, &ng), sqrt(3.0) + sqrt(2.0) + 1.0, 1e-15,
-             "lam_group_lambda: sqrt 3 + sqrt 2 + 1");
+    tap_near(lam_pauli_set_lambda_grouped(&s, &ng), sqrt(3.0) + sqrt(2.0) + 1.0, 1e-15,
+             "lam_pauli_set_lambda_grouped: sqrt 3 + sqrt 2 + 1");
     tap_ok(ng == 3, "three groups counted");
     lam_pauli_set_free(&s);
 }

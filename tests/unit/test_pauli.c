@@ -6,9 +6,11 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "norm.h"
 #include "pauli.h"
 #include "stream.h"
 #include "tap.h"
+#include "testops.h"
 #include "util.h"
 
 typedef double complex cplx;
@@ -253,23 +255,11 @@ static void test_grow_and_norms(void)
     lam_pauli_set_free(&s);
 }
 
-static char *write_temp(const char *text)
-{
-    static char path[64];
-    strcpy(path, "/tmp/test_pauli_XXXXXX");
-    int fd = mkstemp(path);
-    if (fd < 0) return NULL;
-    FILE *f = fdopen(fd, "w");
-    fputs(text, f);
-    fclose(f);
-    return path;
-}
-
 static void test_read(void)
 {
     const char *text = "#% lamina-op 2\n#% kind: pauli\n#% qubits: 6\n"
                        "-0.5\n0.25 x:0 y:1 z:5\n1e-3 z:2 @7\n#% end\n";
-    char *path = write_temp(text);
+    char *path = test_write_temp(text);
     lam_reader *r = lam_reader_open(path);
     lam_pauli_set s;
     lam_pauli_read(r, &s);
@@ -285,7 +275,7 @@ static void test_read(void)
     unlink(path);
 
     /* without a header: the qubit count grows to the largest index */
-    path = write_temp("1 x:3\n2 z:130 x:1\n");
+    path = test_write_temp("1 x:3\n2 z:130 x:1\n");
     r = lam_reader_open(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
     lam_pauli_read(r, &s);
@@ -300,7 +290,7 @@ static void test_read(void)
 /* Bits of the terms read from text (pauli kind forced). */
 static void read_text(const char *text, lam_pauli_set *s)
 {
-    char *path = write_temp(text);
+    char *path = test_write_temp(text);
     lam_reader *r = lam_reader_open(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
     lam_pauli_read(r, s);

@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "norm.h"
 #include "rotate.h"
 #include "tap.h"
 #include "testops.h"

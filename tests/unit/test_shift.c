@@ -7,6 +7,7 @@
 
 #include "fermion.h"
 #include "lp.h"
+#include "norm.h"
 #include "shift.h"
 #include "tap.h"
 #include "testops.h"

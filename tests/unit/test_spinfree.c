@@ -2,6 +2,7 @@
 #include <stdlib.h>
 
 #include "fcidump.h"
+#include "norm.h"
 #include "spinfree.h"
 #include "tap.h"
 

@@ -1,10 +1,28 @@
 /* testops.h - random test operators shared by the unit tests: a
  * reproducible xorshift generator and spin-free operators with the 8-fold
- * symmetry of real integrals. */
+ * symmetry of real integrals; streams written to temporary files. */
 #ifndef LAM_TESTOPS_H
 #define LAM_TESTOPS_H
 
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
 #include "spinfree.h"
+
+/* text in a new temporary file; its path (static, until the next call),
+ * NULL when none can be made.  The caller unlinks it. */
+static inline char *test_write_temp(const char *text)
+{
+    static char path[64];
+    strcpy(path, "/tmp/lam_unit_XXXXXX");
+    int fd = mkstemp(path);
+    if (fd < 0) return NULL;
+    FILE *f = fdopen(fd, "w");
+    fputs(text, f);
+    fclose(f);
+    return path;
+}
 
 /* Uniform in [-1, 1) from an xorshift state (any nonzero seed). */
 static inline double test_uniform(unsigned long long *state)
