@@ -1222,14 +1222,17 @@ static void *merge_thread(void *arg)
     }
 }
 
-/* Hand chunk k to the merging thread and wait until chunk k^1 is free. */
-static void pipe_hand_over(merge_pipe *mp, int k)
+/* Hand chunk k to the merging thread and wait until chunk k^1 is free;
+ * 1 when it was not (the merging thread is the slower). */
+static int pipe_hand_over(merge_pipe *mp, int k)
 {
     pthread_mutex_lock(&mp->mu);
     mp->full[k] = 1;
     pthread_cond_broadcast(&mp->cv);
+    int behind = mp->full[k ^ 1];
     while (mp->full[k ^ 1]) pthread_cond_wait(&mp->cv, &mp->mu);
     pthread_mutex_unlock(&mp->mu);
+    return behind;
 }
 
 static void pipe_finish(merge_pipe *mp, pthread_t th)
@@ -1292,16 +1295,17 @@ static void chunk_room(key_chunk *ch, size_t room)
 }
 
 /* One term line into x, z (nw words, grown through *xz when an unbounded
- * stream needs more) and its label; the coefficient's text is copied to
- * the chunk when it is plain (*coef_len > 0), else converted into *coef.
- * A malformed term exits through the full parser with its message. */
+ * stream needs more) and its label; unless `convert`, the coefficient's
+ * text is copied to the chunk when it is plain (*coef_len > 0); else it is
+ * converted into *coef.  A malformed term exits through the full parser
+ * with its message. */
 static void read_term(lam_reader *r, char *text, long line, long declared, int *nw,
-                      uint64_t **xz, int32_t *group, key_chunk *ch, size_t *coef_len,
-                      double *coef)
+                      uint64_t **xz, int32_t *group, key_chunk *ch, int convert,
+                      size_t *coef_len, double *coef)
 {
     char *p = text;
     while (*p == ' ' || *p == '\t') ++p;
-    size_t n = plain_coefficient(p);
+    size_t n = convert ? 0 : plain_coefficient(p);
     *coef_len = n;
     int fast = n > 0;
     if (fast) {
@@ -1309,7 +1313,7 @@ static void read_term(lam_reader *r, char *text, long line, long declared, int *
         memcpy(ch->bytes + ch->len, p, n);
         ch->bytes[ch->len + n] = '\0';
         p += n;
-    } else { /* unusual: converted here, where a failure is reported in order */
+    } else { /* converted here, where a failure is reported in order */
         char *tok = p;
         p += strcspn(p, " \t");
         char save = *p;
@@ -1347,7 +1351,7 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
     mp.kt = &kt;
     for (int k = 0; k < 2; ++k) mp.chunk[k].keys = lam_malloc(CHUNK_KEYS * sizeof(pending_key));
     pthread_t th;
-    int threaded = 0, cur = 0;
+    int threaded = 0, cur = 0, convert = 0;
     size_t lines = 0;
     memset(out, 0, sizeof *out);
     char *text;
@@ -1357,7 +1361,7 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
         double coef = 0;
         size_t coef_len;
         key_chunk *ch = &mp.chunk[cur];
-        read_term(r, text, line, declared, &nw, &xz, &group, ch, &coef_len, &coef);
+        read_term(r, text, line, declared, &nw, &xz, &group, ch, convert, &coef_len, &coef);
         /* the highest qubit counts only when the stream declares none */
         for (int k = nw - 1; declared < 0 && k >= 0; --k)
             if (xz[k] | xz[nw + k]) {
@@ -1385,7 +1389,11 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
         if (ch->n < CHUNK_KEYS) continue;
         if (!threaded) threaded = pthread_create(&th, NULL, merge_thread, &mp) == 0;
         if (threaded) {
-            pipe_hand_over(&mp, cur);
+            /* the coefficients of the next chunk are converted by the
+             * thread that waited less: the balance of the two threads
+             * differs from machine to machine (the merging thread's share
+             * swings with the kernel's zeroing of the table's pages) */
+            convert = pipe_hand_over(&mp, cur);
             cur ^= 1;
         } else {
             add_chunk(&kt, ch);
