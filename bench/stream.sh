@@ -13,14 +13,20 @@
 #    `cat FILE >/dev/null` as the floor; wall and CPU seconds and peak
 #    resident memory (/usr/bin/time), BENCH_REPEAT runs each.
 #    Goal: lam-norm at most half of awk in wall seconds.  lam-norm runs
-#    two threads from 16384 terms on (one reads and parses, one merges
-#    into the table), so its CPU seconds are the sum of both: on an idle
-#    machine with 2 cores its wall time is that of the busier (reading)
-#    thread, 55 to 65 % of its CPU seconds (perf record -e task-clock,
-#    samples per thread; the merging thread's share swings with the
-#    kernel's zeroing of the table's pages, 14 to 23 % of all samples).
-#    On a loaded machine the wall figures mean little: compare the reading
-#    thread's CPU seconds with awk's.
+#    two threads from 16384 terms on (one reads lines into keys, one
+#    converts coefficients, hashes and merges into the table; the
+#    coefficients of a chunk go to whichever thread waited less), so its
+#    CPU seconds are the sum of both: on an idle machine with 2 cores its
+#    wall time is that of the busier thread plus the final summary.  On a
+#    loaded machine the wall figures mean little: the last line gives
+#    each thread's CPU seconds (perf, when installed) to hold against
+#    awk's.  Measured on the shared 2-core machine (load average 18 to
+#    19, five runs each alternating, the threads' CPU clocks): reading
+#    thread 1.46-1.84 s (1.63-1.94 before the coefficients' conversion
+#    could move to the merging thread and the key table lost its offset
+#    and coefficient arrays), merging thread 1.36-2.06 s (1.55-2.20),
+#    both 2.9-4.0 CPU s (3.3-4.3), the final summary 0.22-0.50 s wall
+#    (0.37-0.90), peak 296 MB (367); awk 3.5-4.6 CPU s.
 #
 #   BENCH_ORBITALS  orbitals of the size test (default 40; 0 skips it)
 #   BENCH_TERMS     terms of the speed test (default 10000000; 0 skips it)
@@ -108,4 +114,17 @@ printf 'lambda: awk plain sum %s (repeats not merged), lam-norm %s (%s distinct 
     "$(awk '{s += ($1 < 0 ? -$1 : $1)} END {printf "%.17g", s}' "$RAW")" \
     "$("$LAM_BIN/lam-norm" "$RAW" | awk -F'\t' '$1 == "lambda" { print $2 }')" \
     "$("$LAM_BIN/lam-norm" "$RAW" | awk -F'\t' '$1 == "terms" { print $2 }')"
+# CPU seconds of each of lam-norm's threads (perf's task-clock samples,
+# one run): on a loaded machine the figure to hold against awk's CPU
+if command -v perf > /dev/null 2>&1 &&
+    perf record -q -F 1000 -e task-clock -o "$DIR/perf.$$" "$LAM_BIN/lam-norm" "$RAW" > /dev/null 2>&1; then
+    perf report -i "$DIR/perf.$$" --stdio --sort pid -F sample,pid 2>/dev/null |
+        awk '/^#/ || NF < 2 { next } { split($2, t, ":"); n[t[1]] = $1 }
+             END { m = -1; for (k in n) if (m < 0 || k + 0 < m + 0) m = k # the first thread reads
+                   g = -1; for (k in n) if (k != m && (g < 0 || n[k] > n[g])) g = k
+                   for (k in n) if (k != m && k != g) o += n[k]
+                   printf "lam-norm CPU seconds per thread (perf, one run): reading %.2f, merging %.2f, other %.2f\n",
+                          n[m] / 1000, n[g] / 1000, o / 1000 }'
+    rm -f "$DIR/perf.$$"
+fi
 rm -f "$DIR/stdout.$$" "$SUMS"

@@ -748,10 +748,18 @@ static size_t encode_key(uint8_t *key, int nw, const uint64_t *x, const uint64_t
             uint64_t q = (uint64_t)w * 64 + b, xb = (xw >> b) & 1, zb = (zw >> b) & 1;
             /* x 1, y 2, z 3 without a branch: the letters are random */
             uint64_t v = ((q - prev) << 2) | (3 - 2 * xb + (xb & zb));
-            if (v < 0x80)
-                key[n++] = (uint8_t)v; /* a gap below 32: the common case */
-            else
+            if (v < (1u << 14)) {
+                /* one byte or two, without a branch on which: the gaps are
+                 * random, and a mispredicted branch per qubit was measured
+                 * at a fifth of the encoding (the caller leaves a spare
+                 * byte) */
+                size_t two = v >= 0x80;
+                key[n] = (uint8_t)(v | two << 7);
+                key[n + 1] = (uint8_t)(v >> 7);
+                n += 1 + two;
+            } else {
                 n += put_varint(key + n, v);
+            }
             prev = q;
         }
     }
@@ -776,15 +784,17 @@ static inline uint64_t key_hash(const uint8_t *key, size_t n)
     return mix64(h ^ tail ^ 0x5bd1e995);
 }
 
-/* Distinct keys with their summed coefficients: keys live end to end in
- * one arena (key t is [off[t], off[t+1])), the open-addressing table
- * holds 24 bits of each key's hash and its number, at most half full. */
+/* Distinct keys with their summed coefficients, end to end in one arena
+ * in the order of first appearance: an entry is the coefficient (8 bytes,
+ * unaligned), the key's length as a varint, the key.  The open-addressing
+ * table holds 24 bits of each key's hash and its entry's offset + 1.  One
+ * arena instead of separate offset and coefficient arrays: the table's
+ * memory is touched for the first time while merging, and the kernel's
+ * zeroing of those pages was measured at a quarter of all the work. */
 typedef struct {
     uint8_t *arena;
     size_t arena_len, arena_cap;
-    uint64_t *off;
-    double *coef;
-    size_t count, cap;
+    size_t count;
     uint64_t *slot;
     size_t size;
 } key_table;
@@ -830,16 +840,43 @@ static uint64_t *alloc_slots(size_t size)
  * a key. */
 #define KEY_FP(h) ((h) & ((UINT64_C(1) << (64 - SLOT_INDEX_BITS)) - 1))
 
+/* The key of the entry at e, and its length. */
+static inline const uint8_t *entry_key(const uint8_t *e, size_t *len)
+{
+    const uint8_t *p = e + sizeof(double);
+    if (*p < 0x80) { /* a key below 128 bytes: the common case */
+        *len = *p;
+        return p + 1;
+    }
+    size_t n = 0;
+    for (unsigned shift = 0;; shift += 7) {
+        n |= (size_t)(*p & 0x7f) << shift;
+        if (*p++ < 0x80) break;
+    }
+    *len = n;
+    return p;
+}
+
+static inline double entry_coef(const uint8_t *e)
+{
+    double c;
+    memcpy(&c, e, sizeof c);
+    return c;
+}
+
 /* Rehash from the keys, in the order of the entries (the arena is read
  * from start to end). */
 static void key_table_resize(key_table *kt, size_t size)
 {
     uint64_t *slot = alloc_slots(size);
-    for (size_t k = 0; k < kt->count; ++k) {
-        uint64_t hv = key_hash(kt->arena + kt->off[k], kt->off[k + 1] - kt->off[k]);
+    for (size_t at = 0; at < kt->arena_len;) {
+        size_t len;
+        const uint8_t *key = entry_key(kt->arena + at, &len);
+        uint64_t hv = key_hash(key, len);
         size_t j = slot_of(hv, size);
         while (slot[j]) j = (j + 1) & (size - 1);
-        slot[j] = (KEY_FP(hv) << SLOT_INDEX_BITS) | (uint64_t)(k + 1);
+        slot[j] = (KEY_FP(hv) << SLOT_INDEX_BITS) | (uint64_t)(at + 1);
+        at = (size_t)(key - kt->arena) + len;
     }
     free(kt->slot);
     kt->slot = slot;
@@ -853,27 +890,23 @@ static void key_table_reserve(key_table *kt, size_t count)
     if (size != kt->size) key_table_resize(kt, size);
 }
 
-static void key_table_reserve_entries(key_table *kt, size_t cap)
-{
-    if (cap <= kt->cap) return;
-    if (cap < 1 << 12) cap = 1 << 12;
-    kt->off = big_realloc(kt->off, (kt->cap + 1) * sizeof *kt->off,
-                          lam_mul_size(cap + 1, sizeof *kt->off));
-    kt->coef = big_realloc(kt->coef, kt->cap * sizeof *kt->coef,
-                           lam_mul_size(cap, sizeof *kt->coef));
-    kt->cap = cap;
-}
-
 static inline void key_table_prefetch(const key_table *kt, uint64_t hv)
 {
     __builtin_prefetch(&kt->slot[slot_of(hv, kt->size)]);
 }
 
 /* Room for len more bytes from arena + at on. */
-static void key_table_room(key_table *kt, size_t at, size_t len);
+static void key_table_room(key_table *kt, size_t at, size_t len)
+{
+    if (kt->arena && at + len <= kt->arena_cap) return;
+    size_t cap = kt->arena_cap ? kt->arena_cap : 1 << 16;
+    while (cap < at + len) cap = lam_mul_size(cap, 2);
+    kt->arena = big_realloc(kt->arena, kt->arena_len, cap);
+    kt->arena_cap = cap;
+}
 
-/* Add c to the key (len bytes at key, outside the table): a new entry,
- * copied to the arena's end, or the sum of an equal one. */
+/* Add c to the key (len bytes at key, outside the table): a new entry at
+ * the arena's end, or the sum of an equal one. */
 static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t hv, double c)
 {
     if (key_table_full(kt, kt->count + 1)) key_table_reserve(kt, kt->count + 1);
@@ -883,73 +916,114 @@ static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_
         uint64_t e = kt->slot[i];
         if (!e) break;
         if ((e >> SLOT_INDEX_BITS) != fp) continue;
-        size_t k = (size_t)(e & SLOT_INDEX_MASK) - 1;
-        if (kt->off[k + 1] - kt->off[k] == len && memcmp(kt->arena + kt->off[k], key, len) == 0) {
-            kt->coef[k] += c;
+        uint8_t *entry = kt->arena + (e & SLOT_INDEX_MASK) - 1;
+        size_t have;
+        const uint8_t *other = entry_key(entry, &have);
+        if (have == len && memcmp(other, key, len) == 0) {
+            double sum = entry_coef(entry) + c;
+            memcpy(entry, &sum, sizeof sum);
             return;
         }
     }
-    if (kt->count + 1 >= kt->cap) key_table_reserve_entries(kt, 2 * kt->cap);
-    if (kt->count + 1 >= SLOT_INDEX_MASK) lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
-    key_table_room(kt, kt->arena_len, len);
-    kt->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(kt->count + 1);
-    kt->coef[kt->count] = c;
-    memcpy(kt->arena + kt->arena_len, key, len);
-    kt->arena_len += len;
-    kt->off[++kt->count] = kt->arena_len;
-}
-
-static void key_table_room(key_table *kt, size_t at, size_t len)
-{
-    /* an arena even for an empty key (the identity), which memcpy's
-     * pointer must not be null for */
-    if (kt->arena && at + len <= kt->arena_cap) return;
-    size_t cap = kt->arena_cap ? kt->arena_cap : 1 << 16;
-    while (cap < at + len) cap = lam_mul_size(cap, 2);
-    kt->arena = big_realloc(kt->arena, kt->arena_cap, cap);
-    kt->arena_cap = cap;
+    /* coefficient, varint, key, and 8 spare bytes for key_weight */
+    size_t most = sizeof(double) + 10 + len + 8;
+    if (kt->arena_len + most >= SLOT_INDEX_MASK)
+        lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
+    key_table_room(kt, kt->arena_len, most);
+    uint8_t *entry = kt->arena + kt->arena_len;
+    memcpy(entry, &c, sizeof c);
+    size_t head = sizeof c + put_varint(entry + sizeof c, len);
+    memcpy(entry + head, key, len);
+    kt->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(kt->arena_len + 1);
+    kt->arena_len += head + len;
+    ++kt->count;
 }
 
 static void key_table_free(key_table *kt)
 {
     free(kt->arena);
-    free(kt->off);
-    free(kt->coef);
     free(kt->slot);
 }
 
-/* Weight and label of a key (label -1 when it has none). */
-static int key_weight(const uint8_t *key, size_t len, int32_t *group)
+/* Bytes of w with the top bit set, without a popcount instruction (not
+ * in the baseline instruction set). */
+static inline size_t top_bits(uint64_t w)
 {
-    int weight = 0;
-    size_t i = 0;
-    *group = -1;
-    for (; i < len && key[i] != 0; ++i) weight += key[i] < 0x80;
-    if (i < len) {
-        uint64_t g = 0;
-        for (unsigned shift = 0; ++i < len; shift += 7) g |= (uint64_t)(key[i] & 0x7f) << shift;
-        *group = (int32_t)g;
-    }
-    return weight;
+    return (size_t)((((w >> 7) & UINT64_C(0x0101010101010101)) * UINT64_C(0x0101010101010101)) >>
+                    56);
 }
 
-/* A well-formed version-2 term straight from its text into x, z (nw words,
- * all qubits below `limit`), its label and coefficient, without splitting
- * it: 0 when it parsed, -1 for anything else (another spelling, an error,
- * a qubit beyond the words), which the caller hands to the full parser
- * for its message or its growth.  The text is left as it was. */
-static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *z,
-                         int32_t *group, double *coef)
+/* Weight and label of a key in the arena (label -1 when it has none).
+ * Every byte of a qubit's varint but its last has the top bit set, and no
+ * byte before the label's 0 is 0: the weight is the bytes before the 0
+ * less the set top bits.  A key of up to 8 bytes without a label is
+ * counted as one word (the arena keeps 8 spare bytes past its end). */
+static int key_weight(const uint8_t *key, size_t len, int32_t *group)
 {
-    char *p = text;
-    while (*p == ' ' || *p == '\t') ++p;
-    char *tok = p;
-    p += strcspn(p, " \t"); /* glibc's vector scan: a coefficient is ~20 bytes */
-    char save = *p;
-    *p = '\0';
-    int bad = lam_reader_coefficient(tok, coef);
-    *p = save;
-    if (bad) return -1;
+    *group = -1;
+    if (len <= 8) {
+        uint64_t w, mask = len == 8 ? ~UINT64_C(0) : (UINT64_C(1) << (8 * len)) - 1;
+        memcpy(&w, key, 8);
+        w &= mask;
+        uint64_t zero = (w - UINT64_C(0x0101010101010101)) & ~w & UINT64_C(0x8080808080808080);
+        if (!(zero & mask)) return (int)(len - top_bits(w));
+    }
+    size_t n = 0, more = 0;
+    for (; n < len && key[n] != 0; ++n) more += key[n] >> 7;
+    if (n < len) {
+        uint64_t g = 0;
+        for (size_t i = n; ++i < len;) g |= (uint64_t)(key[i] & 0x7f) << (7 * (i - n - 1));
+        *group = (int32_t)g;
+    }
+    return (int)(n - more);
+}
+
+/* The length of the coefficient token at p when lam_reader_coefficient is
+ * certain to accept it: a sign, digits with at most one point, at least
+ * one digit, an exponent (e, E, d or D) of at most 3 digits, a magnitude
+ * below 10^100 by the digits before the point and the exponent, at most 40
+ * bytes, then a blank or the end.  0 for anything else: the caller then
+ * parses it at once, so that a bad coefficient is reported before any
+ * later line is read.  A scan of the characters only: the conversion
+ * itself is left to the merging thread. */
+static size_t plain_coefficient(const char *p)
+{
+    const char *c = p;
+    if (*c == '+' || *c == '-') ++c;
+    const char *start = c;
+    while (*c == '0') ++c;
+    const char *lead = c;
+    while ((unsigned)(*c - '0') < 10) ++c;
+    long magnitude = (long)(c - lead);
+    long digits = (long)(c - start);
+    if (*c == '.') {
+        const char *f = ++c;
+        while ((unsigned)(*c - '0') < 10) ++c;
+        digits += (long)(c - f);
+    }
+    if (digits == 0) return 0;
+    if ((*c | 0x20) == 'e' || (*c | 0x20) == 'd') {
+        ++c;
+        int negative = 0;
+        if (*c == '+' || *c == '-') negative = *c++ == '-';
+        const char *e = c;
+        long ev = 0;
+        while ((unsigned)(*c - '0') < 10 && c - e < 4) ev = 10 * ev + (*c++ - '0');
+        if (c == e || c - e > 3) return 0;
+        magnitude += negative ? -ev : ev;
+    }
+    if (*c != ' ' && *c != '\t' && *c != '\0') return 0;
+    return magnitude <= 100 && c - p <= 40 ? (size_t)(c - p) : 0;
+}
+
+/* The Pauli fields of a well-formed version-2 term, from p (past the
+ * coefficient) into x, z (nw words, all qubits below `limit`) and its
+ * label, without splitting the text: 0 when they parsed, -1 for anything
+ * else (another spelling, an error, a qubit beyond the words), which the
+ * caller hands to the full parser for its message or its growth. */
+static int parse_fields_v2(const char *p, long limit, int nw, uint64_t *x, uint64_t *z,
+                           int32_t *group)
+{
     clear_words(nw, x, z);
     *group = -1;
     unsigned seen = 0;
@@ -962,7 +1036,7 @@ static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *
             long g = scan_qubit(&c); /* digits, no leading zero */
             if (g < 0 || (*c && *c != ' ' && *c != '\t')) return -1;
             *group = (int32_t)g;
-            p = (char *)c;
+            p = c;
             continue;
         }
         char letter = *p;
@@ -989,19 +1063,22 @@ static int parse_text_v2(char *text, long limit, int nw, uint64_t *x, uint64_t *
             ++c;
         }
         if (*c && *c != ' ' && *c != '\t') return -1;
-        p = (char *)c;
+        p = c;
     }
 }
 
 /* Merging runs as a pipeline of two threads once the input is large: the
- * reading thread parses lines into encoded keys with their hashes, a
- * chunk at a time, and a merging thread hashes them and adds whole chunks
- * to the table (its look-ups are cache misses).  The
- * chunks are added in the order of the input by the one merging thread,
- * so every sum is formed in the order of the lines, whatever the timing:
- * the result is the same as with one thread, bit for bit. */
+ * reading thread splits lines into encoded keys and the text of their
+ * coefficients (checked to be certain to convert), a chunk at a time, and
+ * a merging thread converts the coefficients, hashes the keys and adds
+ * whole chunks to the table (its look-ups are cache misses).  The chunks
+ * are added in the order of the input by the one merging thread, so every
+ * sum is formed in the order of the lines, whatever the timing: the
+ * result is the same as with one thread, bit for bit. */
 typedef struct {
-    size_t at, len;
+    size_t at;          /* coefficient text (coef_len bytes and a 0), then the key */
+    uint32_t coef_len;  /* 0: the coefficient is already in coef */
+    uint32_t len;       /* key bytes */
     double coef;
 } pending_key;
 
@@ -1012,8 +1089,9 @@ typedef struct {
     size_t n;
     uint8_t *bytes;
     size_t len, cap;
+    size_t key_bytes;
     size_t expect; /* distinct keys expected in all, 0 when unknown */
-    double per_key; /* key bytes per line so far */
+    double per_entry; /* arena bytes per key so far */
 } key_chunk;
 
 typedef struct {
@@ -1025,6 +1103,16 @@ typedef struct {
     key_table *kt;
 } merge_pipe;
 
+/* The coefficient of a pending key. */
+static inline double pending_coef(const key_chunk *ch, const pending_key *pk)
+{
+    double c = pk->coef;
+    if (pk->coef_len &&
+        lam_reader_coefficient((const char *)ch->bytes + pk->at, &c) != 0)
+        lam_fail(LAM_EX_SOFTWARE, "internal: a coefficient checked as plain did not convert");
+    return c;
+}
+
 /* Size the table for the expected keys, then add the chunk's keys a batch
  * at a time, their slots prefetched first so that the misses overlap. */
 static void add_chunk(key_table *kt, const key_chunk *ch)
@@ -1032,19 +1120,22 @@ static void add_chunk(key_table *kt, const key_chunk *ch)
     enum { BATCH = 32 };
     if (ch->expect) {
         key_table_reserve(kt, ch->expect);
-        key_table_reserve_entries(kt, ch->expect);
-        key_table_room(kt, kt->arena_len, (size_t)((double)ch->expect * ch->per_key) + 4096);
+        key_table_room(kt, kt->arena_len, (size_t)((double)ch->expect * ch->per_entry) + 4096);
     }
     for (size_t b = 0; b < ch->n; b += BATCH) {
         size_t e = b + BATCH < ch->n ? b + BATCH : ch->n;
         uint64_t hash[BATCH];
-        for (size_t i = b; i < e; ++i) {
-            hash[i - b] = key_hash(ch->bytes + ch->keys[i].at, ch->keys[i].len);
-            key_table_prefetch(kt, hash[i - b]);
-        }
+        double coef[BATCH];
         for (size_t i = b; i < e; ++i) {
             const pending_key *pk = &ch->keys[i];
-            key_table_add(kt, ch->bytes + pk->at, pk->len, hash[i - b], pk->coef);
+            hash[i - b] = key_hash(ch->bytes + pk->at + pk->coef_len + 1, pk->len);
+            key_table_prefetch(kt, hash[i - b]);
+        }
+        for (size_t i = b; i < e; ++i) coef[i - b] = pending_coef(ch, &ch->keys[i]);
+        for (size_t i = b; i < e; ++i) {
+            const pending_key *pk = &ch->keys[i];
+            key_table_add(kt, ch->bytes + pk->at + pk->coef_len + 1, pk->len, hash[i - b],
+                          coef[i - b]);
         }
     }
 }
@@ -1066,14 +1157,17 @@ static void *merge_thread(void *arg)
     }
 }
 
-/* Hand chunk k to the merging thread and wait until chunk k^1 is free. */
-static void pipe_hand_over(merge_pipe *mp, int k)
+/* Hand chunk k to the merging thread and wait until chunk k^1 is free;
+ * 1 when it was not (the merging thread is the slower). */
+static int pipe_hand_over(merge_pipe *mp, int k)
 {
     pthread_mutex_lock(&mp->mu);
     mp->full[k] = 1;
     pthread_cond_broadcast(&mp->cv);
+    int behind = mp->full[k ^ 1];
     while (mp->full[k ^ 1]) pthread_cond_wait(&mp->cv, &mp->mu);
     pthread_mutex_unlock(&mp->mu);
+    return behind;
 }
 
 static void pipe_finish(merge_pipe *mp, pthread_t th)
@@ -1099,12 +1193,15 @@ static size_t expected_keys(lam_reader *r, size_t lines)
 static void summarize_table(const key_table *kt, lam_pauli_summary *out)
 {
     lam_grouped_norm norms = {0};
-    for (size_t t = 0; t < kt->count; ++t) {
-        double c = kt->coef[t];
+    for (size_t at = 0; at < kt->arena_len;) {
+        double c = entry_coef(kt->arena + at);
+        size_t len;
+        const uint8_t *key = entry_key(kt->arena + at, &len);
+        at = (size_t)(key - kt->arena) + len;
         if (c == 0) continue;
         ++out->terms;
         int32_t group;
-        int weight = key_weight(kt->arena + kt->off[t], kt->off[t + 1] - kt->off[t], &group);
+        int weight = key_weight(key, len, &group);
         if (weight == 0) {
             out->constant += c;
             continue;
@@ -1117,6 +1214,59 @@ static void summarize_table(const key_table *kt, lam_pauli_summary *out)
     out->lambda_grouped = lam_grouped_norm_finish(&norms, &out->groups);
 }
 
+/* Room for `room` more bytes in the chunk. */
+static void chunk_room(key_chunk *ch, size_t room)
+{
+    if (ch->len + room <= ch->cap) return;
+    size_t cap = ch->cap ? ch->cap : (size_t)1 << 16;
+    while (cap < ch->len + room) cap = lam_mul_size(cap, 2);
+    ch->bytes = lam_realloc(ch->bytes, cap);
+    ch->cap = cap;
+}
+
+/* One term line into x, z (nw words, grown through *xz when an unbounded
+ * stream needs more) and its label; unless `convert`, the coefficient's
+ * text is copied to the chunk when it is plain (*coef_len > 0); else it is
+ * converted into *coef.  A malformed term exits through the full parser
+ * with its message. */
+static void read_term(lam_reader *r, char *text, long line, long declared, int *nw,
+                      uint64_t **xz, int32_t *group, key_chunk *ch, int convert,
+                      size_t *coef_len, double *coef)
+{
+    char *p = text;
+    while (*p == ' ' || *p == '\t') ++p;
+    size_t n = convert ? 0 : plain_coefficient(p);
+    *coef_len = n;
+    int fast = n > 0;
+    if (fast) {
+        chunk_room(ch, n + 1);
+        memcpy(ch->bytes + ch->len, p, n);
+        ch->bytes[ch->len + n] = '\0';
+        p += n;
+    } else { /* converted here, where a failure is reported in order */
+        char *tok = p;
+        p += strcspn(p, " \t");
+        char save = *p;
+        *p = '\0';
+        fast = lam_reader_coefficient(tok, coef) == 0;
+        *p = save;
+    }
+    long limit = declared >= 0 ? declared : 64L * *nw;
+    /* the fast path once the stream is known to be version 2 */
+    if (fast && lam_reader_syntax(r) == 2 &&
+        parse_fields_v2(p, limit, *nw, *xz, *xz + *nw, group) == 0)
+        return;
+    lam_line ln;
+    lam_reader_split(r, text, line, &ln);
+    long need;
+    while ((need = parse_fields(r, &ln, (int)declared, *nw, *xz, *xz + *nw, group)) >= 0) {
+        *nw = lam_pauli_words((int)need);
+        *xz = lam_realloc(*xz, lam_mul_size(2 * (size_t)*nw, sizeof(uint64_t)));
+    }
+    *coef_len = 0;
+    *coef = ln.coef;
+}
+
 void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
 {
     enum { SIZE_AFTER = 4096 };
@@ -1124,35 +1274,24 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
     int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
     uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
     key_table kt = {0};
-    key_table_reserve_entries(&kt, 1);
-    kt.off[0] = 0;
     key_table_reserve(&kt, 1);
+    key_table_room(&kt, 0, 1);
     merge_pipe mp;
     memset(&mp, 0, sizeof mp);
     mp.kt = &kt;
     for (int k = 0; k < 2; ++k) mp.chunk[k].keys = lam_malloc(CHUNK_KEYS * sizeof(pending_key));
     pthread_t th;
-    int threaded = 0, cur = 0;
+    int threaded = 0, cur = 0, convert = 0;
     size_t lines = 0;
     memset(out, 0, sizeof *out);
-    lam_line ln;
     char *text;
     long line;
     while (lam_reader_next_text(r, &text, &line)) {
         int32_t group;
-        double coef;
-        long limit = declared >= 0 ? declared : 64L * nw;
-        /* the fast path once the stream is known to be version 2 */
-        if (lam_reader_syntax(r) != 2 ||
-            parse_text_v2(text, limit, nw, xz, xz + nw, &group, &coef) != 0) {
-            lam_reader_split(r, text, line, &ln);
-            long need;
-            while ((need = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group)) >= 0) {
-                nw = lam_pauli_words((int)need);
-                xz = lam_realloc(xz, lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
-            }
-            coef = ln.coef;
-        }
+        double coef = 0;
+        size_t coef_len;
+        key_chunk *ch = &mp.chunk[cur];
+        read_term(r, text, line, declared, &nw, &xz, &group, ch, convert, &coef_len, &coef);
         /* the highest qubit counts only when the stream declares none */
         for (int k = nw - 1; declared < 0 && k >= 0; --k)
             if (xz[k] | xz[nw + k]) {
@@ -1160,35 +1299,37 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
                 if (top > out->nqubits) out->nqubits = top;
                 break;
             }
-        key_chunk *ch = &mp.chunk[cur];
-        /* at most 4 varint bytes a qubit (indices below 2^24), the label */
+        /* at most 4 varint bytes a qubit (indices below 2^24), the label;
+         * the coefficient's text is already in place */
         size_t most = nw <= 4 ? 256 * (size_t)nw : (size_t)lam_pauli_weight(nw, xz, xz + nw);
-        size_t room = 4 * most + 8;
-        if (ch->len + room > ch->cap) {
-            size_t cap = ch->cap ? ch->cap : (size_t)1 << 16;
-            while (cap < ch->len + room) cap = lam_mul_size(cap, 2);
-            ch->bytes = lam_realloc(ch->bytes, cap);
-            ch->cap = cap;
-        }
+        chunk_room(ch, coef_len + 1 + 4 * most + 8);
         pending_key *pk = &ch->keys[ch->n++];
         pk->at = ch->len;
-        pk->len = encode_key(ch->bytes + ch->len, nw, xz, xz + nw, group);
+        pk->coef_len = (uint32_t)coef_len;
         pk->coef = coef;
+        ch->bytes[ch->len + coef_len] = '\0';
+        ch->len += coef_len + 1;
+        pk->len = (uint32_t)encode_key(ch->bytes + ch->len, nw, xz, xz + nw, group);
         ch->len += pk->len;
+        ch->key_bytes += pk->len;
         if (++lines == SIZE_AFTER) {
             ch->expect = expected_keys(r, lines);
-            ch->per_key = (double)ch->len / (double)ch->n;
+            ch->per_entry = (double)ch->key_bytes / (double)ch->n + sizeof(double) + 1;
         }
         if (ch->n < CHUNK_KEYS) continue;
         if (!threaded) threaded = pthread_create(&th, NULL, merge_thread, &mp) == 0;
         if (threaded) {
-            pipe_hand_over(&mp, cur);
+            /* the coefficients of the next chunk are converted by the
+             * thread that waited less: the balance of the two threads
+             * differs from machine to machine (the merging thread's share
+             * swings with the kernel's zeroing of the table's pages) */
+            convert = pipe_hand_over(&mp, cur);
             cur ^= 1;
         } else {
             add_chunk(&kt, ch);
         }
         ch = &mp.chunk[cur];
-        ch->n = ch->len = ch->expect = 0;
+        ch->n = ch->len = ch->key_bytes = ch->expect = 0;
     }
     if (threaded) pipe_finish(&mp, th);
     add_chunk(&kt, &mp.chunk[cur]);

@@ -160,6 +160,44 @@ is "$RC" 64 "one --label for two streams: exit 64"
 runlam lam-norm -o "$TMP/two.rep" "$TMP/p.op" "$TMP/none.op"
 ok "$([ "$RC" = 66 ] && [ ! -e "$TMP/two.rep" ]; echo $?)" "a missing second stream: exit 66, no partial output file"
 
+# ---- a long stream merged in two threads (from 16384 lines on): the
+# reading thread passes the coefficients' text on, converted later; the
+# first bad line is still the one reported, before any later error
+long_pauli() { # long_pauli FILE LINES: repeats of 1000 strings, no "distinct"
+    awk -v n="$2" 'BEGIN { print "#% lamina-op 2"; print "#% kind: pauli"
+        for (i = 0; i < n; ++i) printf "%s%d.%03d x:%d z:%d\n", (i % 3 ? "" : "-"), i % 7, i % 1000, i % 1000, 1000 + i % 7 }' > "$1"
+}
+long_pauli "$TMP/long.op" 40000
+printf '#%% end\n' >> "$TMP/long.op"
+runlam lam-norm "$TMP/long.op"
+# reference: the same sums formed by awk (merged by string, then |c|)
+REF=$(awk '/^#/ { next } { k = $2 " " $3; s[k] += $1 } END { for (k in s) t += (s[k] < 0 ? -s[k] : s[k]); printf "%.10e", t }' "$TMP/long.op")
+ok "$(awk -v a="$(report_get lambda <<<"$OUT")" -v b="$REF" 'BEGIN { d = a - b; print (d < 0 ? -d : d) <= 1e-9 * b ? 0 : 1 }')" \
+   "two threads: lambda of 40000 repeated lines = awk's merged sum within 1e-9 ($REF)"
+is "$(report_get terms <<<"$OUT")" 6999 "two threads: 7000 distinct strings, one of them (0.000 x:0 z:1000) zero"
+long_pauli "$TMP/long2.op" 40000
+sed -i '30002s/^[^ ]*/abc/; 30003s/ z:/ z:1,/; 35000s/ x:/ q:/' "$TMP/long2.op"
+runlam lam-norm "$TMP/long2.op"
+is "$RC/$ERR" "65/lam-norm: $TMP/long2.op:30002: coefficient 'abc' is not a number" \
+   "two threads: a bad coefficient is reported at its line, before a later bad field"
+long_pauli "$TMP/long3.op" 40000
+sed -i '25002s/^[^ ]*/1.5e100/' "$TMP/long3.op"
+runlam lam-norm "$TMP/long3.op"
+like "$RC/$ERR" "^65/lam-norm: $TMP/long3.op:25002: coefficient '1.5e100' is too large" \
+   "two threads: a coefficient above 1e100 at its line, before the missing '#% end'"
+long_pauli "$TMP/long4.op" 40000
+sed -i '30002s/^[^ ]*/x1/' "$TMP/long4.op"
+runlam lam-norm "$TMP/long4.op"
+is "$RC/$ERR" "65/lam-norm: $TMP/long4.op:30002: coefficient 'x1' is not a number" \
+   "two threads: a bad coefficient, then a stream without '#% end': the coefficient's line"
+long_pauli "$TMP/long5.op" 20000
+printf '0.00000000001e105 x:1\n-9.99e99 x:2\n1d-3 x:3\n+.5E+2 x:4\n5. x:5\n#%% end\n' >> "$TMP/long5.op"
+runlam lam-norm "$TMP/long5.op"
+is "$RC" 0 "two threads: coefficient spellings of every form read"
+REF5=$(awk '/^#/ { next } { k = $2 " " $3; c = $1; sub(/d/, "e", c); s[k] += c } END { for (k in s) t += (s[k] < 0 ? -s[k] : s[k]); printf "%.10e", t }' "$TMP/long5.op")
+ok "$(awk -v a="$(report_get lambda <<<"$OUT")" -v b="$REF5" 'BEGIN { d = a - b; print (d < 0 ? -d : d) <= 1e-9 * b ? 0 : 1 }')" \
+   "two threads: 1e94, -9.99e99, 1d-3, +.5E+2 and 5. summed ($REF5)"
+
 one_bad_option_message lam-norm -k
 
 done_testing
