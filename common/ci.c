@@ -120,17 +120,18 @@ void lam_ci_strings_free(lam_ci_strings *s)
 
 /* ---- the prepared operator ---- */
 
-lam_spinfree *lam_ci_hermitian(lam_spinfree *sf, const char *src)
+int lam_ci_hermitian(lam_spinfree **op, const char *src, lam_error *error)
 {
+    lam_spinfree *sf = *op;
     double err = lam_spinfree_hermiticity_error(sf), scale = 1;
     size_t nn = (size_t)sf->n * sf->n;
     for (size_t i = 0; i < nn; ++i) scale = fmax(scale, fabs(sf->h[i]));
     for (size_t i = 0; i < nn * nn; ++i) scale = fmax(scale, fabs(sf->g[i]));
     if (err > 1e-10 * scale)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the operator is not Hermitian (h_pq differs from h_qp or (pq|rs) from (qp|sr) "
-                    "by up to %.3g): its eigenvalues need not be real", err);
-    if (err == 0) return sf;
+        return lam_error_at(error, LAM_EX_DATA, src, 0,
+                            "the operator is not Hermitian (h_pq differs from h_qp or (pq|rs) from (qp|sr) "
+                            "by up to %.3g): its eigenvalues need not be real", err);
+    if (err == 0) return 0;
     int n = sf->n;
     lam_spinfree *s = lam_spinfree_clone(sf);
     for (int p = 0; p < n; ++p)
@@ -141,7 +142,8 @@ lam_spinfree *lam_ci_hermitian(lam_spinfree *sf, const char *src)
                     LAM_G(s, p, q, r, t) = 0.5 * (LAM_G(sf, p, q, r, t) + LAM_G(sf, q, p, t, r));
         }
     lam_spinfree_free(sf);
-    return s;
+    *op = s;
+    return 0;
 }
 
 static int has_exact_real_symmetry(const lam_spinfree *sf)

@@ -26,6 +26,7 @@
 
 #include "eigen.h"
 #include "spinfree.h"
+#include "util.h"
 
 /* E_ab |I> = sign |target> for one spin. */
 typedef struct {
@@ -54,10 +55,11 @@ size_t lam_ci_string_rank(uint64_t mask);
 lam_ci_strings *lam_ci_strings_new(int n, int k);
 void lam_ci_strings_free(lam_ci_strings *s);
 
-/* sf itself when Hermitian; (H + H^T)/2 in place of sf (freed) when the
- * asymmetry is at rounding level (1e-10 of the largest coefficient); exit
- * 65 naming src otherwise, since the eigenvalues need not be real. */
-lam_spinfree *lam_ci_hermitian(lam_spinfree *sf, const char *src);
+/* *sf stays when Hermitian; (H + H^T)/2 replaces it (the old one freed)
+ * when the asymmetry is at rounding level (1e-10 of the largest
+ * coefficient); otherwise err is filled (65, naming src), *sf untouched,
+ * since the eigenvalues need not be real. */
+int lam_ci_hermitian(lam_spinfree **sf, const char *src, lam_error *err);
 
 /* The operator prepared for sigma: pair numbering, (pq|rs) as a pair by
  * pair matrix, k_pq. */

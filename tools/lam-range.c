@@ -675,7 +675,8 @@ int main(int argc, char **argv)
         alive.sf = sf;
         if (sf->n > 64)
             lam_fail_at(LAM_EX_DATA, src, 0, "%d orbitals: lam-range handles at most 64", sf->n);
-        sf = lam_ci_hermitian(sf, src);
+        lam_error err;
+        if (lam_ci_hermitian(&sf, src, &err)) lam_error_exit(&err);
         alive.sf = sf;
         if (electrons < 0 && o.electrons < 0) electrons = sf->electrons;
         if (electrons > 2 * sf->n)
