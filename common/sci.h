@@ -21,8 +21,10 @@
  * memory), which maximize the sum of (ii|ii).  The highest state crowds
  * electron pairs onto compact orbitals; in localized orbitals that is a
  * few ionic determinants, in canonical ones a spread over very many (a
- * 10-atom hydrogen chain: exact within 1e-9 Eh from 603 determinants,
- * against 1 mEh short at 20000 canonical ones).
+ * 10-atom hydrogen chain at 1.2 angstrom: within 1e-9 Eh of full CI
+ * from 1809 determinants, against 47 mEh short at 20000 canonical ones).
+ * They are kept only when their start determinant is higher than the one
+ * in the given orbitals.
  */
 #ifndef LAM_SCI_H
 #define LAM_SCI_H
