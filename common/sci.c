@@ -1051,10 +1051,7 @@ static int select_run(const lam_spinfree *sf, int na, int nb, const lam_sci_opti
         res->pt2 = 0;
         res->pt2_eps = NAN;
         if (o->pt2 && stop != LAM_SCI_COMPLETE) {
-            /* not below 1e-8 Eh: a converged space lowers eps towards
-             * nothing, and the sum would then visit every single and
-             * double of it for terms of 1e-16 Eh (H60's top: 125 s) */
-            double eps2 = fmax(eps / 10, 1e-8);
+            double eps2 = eps / 10;
             res->pt2 = pt2_energy(&hb, &v, x, value, &eps2, climit); /* in the room the selection had */
             res->pt2_eps = eps2;
         }
