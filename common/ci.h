@@ -26,6 +26,7 @@
 
 #include "eigen.h"
 #include "spinfree.h"
+#include "util.h"
 
 /* E_ab |I> = sign |target> for one spin. */
 typedef struct {

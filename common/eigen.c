@@ -26,12 +26,19 @@ size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit)
     return lam_mul_size(lam_mul_size(dim, vectors), sizeof(double));
 }
 
-void lam_eigen_dense(int n, double *a, double *w)
+/* The suite's one dense symmetric eigensolver: values only (dsyev) or
+ * with vectors (divide and conquer, dsyevd). */
+static void symmetric_eigen(int n, double *a, double *w, char jobz)
 {
-    if (n == 0) return;
-    lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'N', 'U', n, a, n, w);
-    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
+    if (n <= 0) return;
+    lapack_int info = jobz == 'V' ? LAPACKE_dsyevd(LAPACK_ROW_MAJOR, 'V', 'U', n, a, n, w)
+                                  : LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'N', 'U', n, a, n, w);
+    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "symmetric eigensolver failed (info %d, n = %d)", (int)info, n);
 }
+
+void lam_eigen_dense(int n, double *a, double *w) { symmetric_eigen(n, a, w, 'N'); }
+
+void lam_symmetric_eigen(int n, double *a, double *w) { symmetric_eigen(n, a, w, 'V'); }
 
 /* Multiply by -1 when the top is wanted: the solver always minimizes.
  * With nx deflation vectors X (orthonormal columns, stored one after

@@ -95,4 +95,12 @@ void lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo,
  * ascending, into w.  exit 70 if LAPACK fails. */
 void lam_eigen_dense(int n, double *a, double *w);
 
+/* Eigenvalues of the symmetric n x n row-major matrix a (upper triangle
+ * read) ascending in w; a is overwritten by the eigenvectors as columns.
+ * Divide and conquer (dsyevd): its eigenvectors are orthogonal to machine
+ * precision also within clusters of close eigenvalues, where the MRRR
+ * solver (dsyevr) was seen to lose orthogonality at 1e-4.  LAPACK failure
+ * is an internal error (exit 70). */
+void lam_symmetric_eigen(int n, double *a, double *w);
+
 #endif

@@ -2,13 +2,8 @@
 #ifndef LAM_LINALG_H
 #define LAM_LINALG_H
 
-/* Eigenvalues of the symmetric n x n row-major matrix a (upper triangle
- * read) ascending in w; a is overwritten by the eigenvectors as columns.
- * Divide and conquer (dsyevd): its eigenvectors are orthogonal to machine
- * precision also within clusters of close eigenvalues, where the MRRR
- * solver (dsyevr) was seen to lose orthogonality at 1e-4.  LAPACK failure
- * is an internal error (exit 70). */
-void lam_symmetric_eigen(int n, double *a, double *w);
+/* lam_symmetric_eigen: in eigen.h, the one dense symmetric eigensolver. */
+#include "eigen.h"
 
 /* Threads of the BLAS/LAPACK calls: n from -j/--threads, 0 for the
  * suite's default of one.  One thread is the default because OpenBLAS's

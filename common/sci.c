@@ -7,6 +7,7 @@
 
 #include "ci.h"
 #include "eigen.h"
+#include "rotate.h"
 #include "util.h"
 
 typedef struct {
@@ -264,7 +265,7 @@ static int by_size(const void *x, const void *y)
  * the threshold: for same-spin pairs i<j the antisymmetrized (ai|bj) -
  * (aj|bi) over a<b; for alpha i, beta j the (ai|bj); for singles i->a an
  * upper bound of |<a|H|i>| over every determinant. */
-static void heatbath_build(heatbath *hb, const lam_spinfree *sf, budget *mem)
+static int heatbath_build(heatbath *hb, const lam_spinfree *sf, budget *mem, lam_error *err)
 {
     int n = sf->n;
     size_t nn = (size_t)n * n;
@@ -299,12 +300,11 @@ static void heatbath_build(heatbath *hb, const lam_spinfree *sf, budget *mem)
             }
         if (!pass) {
             hb->list_bytes = (double)(cs + co + nn) * sizeof(hb_entry) + (2.0 * nn + n + 3) * sizeof(size_t);
-            if (!budget_take(mem, hb->list_bytes)) {
-                lam_fail(LAM_EX_MEMORY,
-                         "selected CI: the operator and its sorted integral lists (%d orbitals) need "
-                         "%.0f KiB, over --max-memory",
-                         n, ceil((mem->used + hb->list_bytes) / 1024.0));
-            }
+            if (!budget_take(mem, hb->list_bytes))
+                return lam_error_set(err, LAM_EX_MEMORY,
+                                     "selected CI: the operator and its sorted integral lists (%d orbitals) need "
+                                     "%.0f KiB, over --max-memory",
+                                     n, ceil((mem->used + hb->list_bytes) / 1024.0));
             hb->same_first = lam_malloc((nn + 1) * sizeof(size_t));
             hb->opp_first = lam_malloc((nn + 1) * sizeof(size_t));
             hb->sgl_first = lam_malloc(((size_t)n + 1) * sizeof(size_t));
@@ -331,6 +331,7 @@ static void heatbath_build(heatbath *hb, const lam_spinfree *sf, budget *mem)
         qsort(hb->sgl + hb->sgl_first[i], c - hb->sgl_first[i], sizeof(hb_entry), by_size);
     }
     hb->sgl_first[n] = c;
+    return 0;
 }
 
 static void heatbath_free(heatbath *hb)
@@ -856,6 +857,7 @@ void lam_sci_defaults(lam_sci_options *o)
     o->max_bytes = lam_machine_memory();
     o->energy_tol = 1e-6;
     o->pt2 = 1;
+    o->localize = 1;
 }
 
 const char *lam_sci_stop_name(lam_sci_stop s)
@@ -926,37 +928,32 @@ static size_t grow_target(size_t m, size_t budget_left)
     return t;
 }
 
-void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o, lam_sci_result *res)
+/* One selection run of at most max_dets determinants from
+ * lam_sci_start's determinant. */
+static int select_run(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o, size_t max_dets,
+                      budget *mem, lam_sci_result *res, lam_error *err)
 {
     double t0 = lam_seconds();
-    int n = sf->n;
-    memset(res, 0, sizeof *res);
-    if (n > 64) lam_fail(LAM_EX_DATA, "selected CI handles at most 64 orbitals, not %d", n);
-    if (na < 0 || nb < 0 || na > n || nb > n)
-        lam_fail(LAM_EX_USAGE, "sector (%d,%d) does not exist: %d orbitals hold at most %d electrons of each spin",
-                 na, nb, n, n);
-    if (o->max_dets < 1) lam_fail(LAM_EX_USAGE, "selected CI: the determinant budget must be at least 1");
-    if (!(o->max_bytes > 0)) lam_fail(LAM_EX_USAGE, "selected CI: the memory budget must be positive");
-    size_t full = lam_ci_sector_dim(n, na, nb);
-    size_t max_dets = o->max_dets < full ? o->max_dets : full;
-    if (max_dets > UINT32_MAX - 1) max_dets = UINT32_MAX - 1;
-    budget mem = {o->max_bytes, (double)lam_spinfree_bytes(n), 0};
     heatbath hb;
     memset(&hb, 0, sizeof hb);
-    heatbath_build(&hb, sf, &mem);
+    if (heatbath_build(&hb, sf, mem, err)) return err->code;
     const char *label = o->label ? o->label : "selected CI";
 
     /* room for the whole budget up front: vectors and the space's arrays */
     double vec_bytes = (double)max_dets * sizeof(double) * (2 * 8 + 4 + 3);
-    if (!budget_take(&mem, space_bytes(max_dets) + vec_bytes)) {
+    double held = space_bytes(max_dets) + vec_bytes;
+    if (!budget_take(mem, held)) {
         /* a smaller budget that fits, rather than nothing */
         double per = space_bytes(1024) / 1024 + sizeof(double) * 23;
-        double room = (mem.limit - mem.used) / per / 2; /* half for the matrix */
-        if (room < 2)
-            lam_fail(LAM_EX_MEMORY, "selected CI: no room for a variational space within --max-memory");
+        double room = (mem->limit - mem->used) / per / 2; /* half for the matrix */
+        held = space_bytes((size_t)room) + (room < 2 ? 0 : (double)(size_t)room * sizeof(double) * 23);
+        if (room < 2 || !budget_take(mem, held)) {
+            heatbath_free(&hb);
+            budget_give(mem, hb.list_bytes);
+            return lam_error_set(err, LAM_EX_MEMORY,
+                                 "selected CI: no room for a variational space within --max-memory");
+        }
         max_dets = (size_t)room;
-        if (!budget_take(&mem, space_bytes(max_dets) + (double)max_dets * sizeof(double) * 23))
-            lam_fail(LAM_EX_MEMORY, "selected CI: no room for a variational space within --max-memory");
     }
     space v;
     space_init(&v, max_dets);
@@ -971,15 +968,18 @@ void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options
 
     /* candidates may take what is left after room for a matrix of ~100
      * elements a determinant */
-    double left = mem.limit - mem.used - (double)max_dets * 100 * 12;
+    double left = mem->limit - mem->used - (double)max_dets * 100 * 12;
     size_t climit = 64;
     while (climit < ((size_t)1 << 31) && candidate_bytes(2 * climit) < left / 2) climit *= 2;
     double cbytes = candidate_bytes(climit);
-    if (!budget_take(&mem, cbytes))
-        lam_fail(LAM_EX_MEMORY, "selected CI: no room for candidate determinants within --max-memory");
     candidates cand;
-    candidates_init(&cand, &v, climit, 0);
     ranked *rank = NULL;
+    int rc = 0;
+    if (!budget_take(mem, cbytes)) {
+        rc = lam_error_set(err, LAM_EX_MEMORY, "selected CI: no room for candidate determinants within --max-memory");
+        goto out;
+    }
+    candidates_init(&cand, &v, climit, 0);
 
     sparse h;
     double value = 0, resid = 0, eps = 1.0;
@@ -987,9 +987,11 @@ void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options
     lam_sci_stop stop = LAM_SCI_BUDGET;
     for (int iter = 0;; ++iter) {
         size_t before = accepted;
-        if (!sparse_build(&h, &v, sf, &mem)) {
-            if (iter == 0)
-                lam_fail(LAM_EX_MEMORY, "selected CI: the first space does not fit --max-memory");
+        if (!sparse_build(&h, &v, sf, mem)) {
+            if (iter == 0) {
+                rc = lam_error_set(err, LAM_EX_MEMORY, "selected CI: the first space does not fit --max-memory");
+                break;
+            }
             space_truncate(&v, before);
             stop = LAM_SCI_MEMORY;
             break;
@@ -997,14 +999,14 @@ void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options
         double dv;
         (void)diagonalize(&h, o->highest, x, &dv);
         double rq = rayleigh(&h, x, work);
-        budget_give(&mem, h.bytes);
+        budget_give(mem, h.bytes);
         sparse_free(&h);
         double change = iter ? rq - value : NAN;
         value = rq;
         resid = dv;
         accepted = v.count;
         memcpy(xprev, x, v.count * sizeof(double));
-        res->iterations = iter + 1;
+        res->iterations += 1;
         lam_progress("%s: %zu determinants, %.10f Eh (change %.2e), %.1f s", label, v.count, value, change,
                      lam_seconds() - t0);
         if (iter && fabs(change) < o->energy_tol) {
@@ -1012,7 +1014,7 @@ void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options
             break;
         }
         if (v.count >= max_dets) {
-            stop = v.count >= full ? LAM_SCI_COMPLETE : LAM_SCI_BUDGET;
+            stop = v.count >= lam_ci_sector_dim(sf->n, na, nb) ? LAM_SCI_COMPLETE : LAM_SCI_BUDGET;
             break;
         }
         /* heat-bath selection: the largest |H_KD x_D| first */
@@ -1039,28 +1041,113 @@ void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options
         size_t add = cand.count < target ? cand.count : target;
         for (size_t k = 0; k < add; ++k) space_add(&v, sf, cand.d[rank[k].key_index]);
     }
-    memcpy(x, xprev, accepted * sizeof(double));
-    free(rank);
     candidates_free(&cand);
-    budget_give(&mem, cbytes);
-    res->value = value;
-    res->residual = resid;
-    res->dets = accepted;
-    res->stop = stop;
-    if (o->pt2 && stop != LAM_SCI_COMPLETE) {
-        double eps2 = eps / 10;
-        budget_take(&mem, cbytes); /* the same room as the selection had */
-        res->pt2 = pt2_energy(&hb, &v, x, value, &eps2, climit);
-        res->pt2_eps = eps2;
-        budget_give(&mem, cbytes);
+    if (rc == 0) {
+        memcpy(x, xprev, accepted * sizeof(double));
+        res->value = value;
+        res->residual = resid;
+        res->dets = accepted;
+        res->stop = stop;
+        res->pt2 = 0;
+        res->pt2_eps = NAN;
+        if (o->pt2 && stop != LAM_SCI_COMPLETE) {
+            double eps2 = eps / 10;
+            res->pt2 = pt2_energy(&hb, &v, x, value, &eps2, climit); /* in the room the selection had */
+            res->pt2_eps = eps2;
+        }
     }
-    res->bytes = mem.peak;
+    budget_give(mem, cbytes);
+out:
+    free(rank);
+    budget_give(mem, held);
     free(x);
     free(xprev);
     free(work);
     space_free(&v);
     heatbath_free(&hb);
+    budget_give(mem, hb.list_bytes);
+    return rc;
+}
+
+/* sf in Edmiston-Ruedenberg orbitals (largest sum of (ii|ii)), or NULL
+ * when they do not fit the budget.  The highest state crowds electrons
+ * into pairs on compact orbitals (ionic configurations), which are few
+ * determinants in localized orbitals and very many in canonical ones. */
+static lam_spinfree *localized_orbitals(const lam_spinfree *sf, budget *mem)
+{
+    int n = sf->n;
+    double n4 = (double)n * n * n * n * sizeof(double);
+    double need = (double)lam_spinfree_bytes(n) + 4 * n4; /* the result and the optimizer's work */
+    if (!budget_take(mem, need)) return NULL;
+    double *u0 = lam_calloc((size_t)n * n, sizeof(double));
+    double *u = lam_malloc((size_t)n * n * sizeof(double));
+    for (int p = 0; p < n; ++p) u0[p * n + p] = 1;
+    lam_rotate_options ro;
+    lam_rotate_default_options(&ro);
+    ro.objective = LAM_ROTATE_ER;
+    ro.starts = 0;
+    lam_rotate_result rr;
+    lam_spinfree *out = lam_spinfree_new(n);
+    lam_rotate_optimize(sf, u0, &ro, u, out, &rr);
+    out->e0 = sf->e0;
+    out->electrons = sf->electrons;
+    out->ms2 = sf->ms2;
+    free(u0);
+    free(u);
+    budget_give(mem, 4 * n4);
+    return out;
+}
+
+int lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o, lam_sci_result *res,
+                  lam_error *err)
+{
+    double t0 = lam_seconds();
+    int n = sf->n;
+    memset(res, 0, sizeof *res);
+    if (n > 64) return lam_error_set(err, LAM_EX_DATA, "selected CI handles at most 64 orbitals, not %d", n);
+    if (na < 0 || nb < 0 || na > n || nb > n)
+        return lam_error_set(err, LAM_EX_USAGE,
+                             "sector (%d,%d) does not exist: %d orbitals hold at most %d electrons of each spin",
+                             na, nb, n, n);
+    if (o->max_dets < 1)
+        return lam_error_set(err, LAM_EX_USAGE, "selected CI: the determinant budget must be at least 1");
+    if (!(o->max_bytes > 0))
+        return lam_error_set(err, LAM_EX_USAGE, "selected CI: the memory budget must be positive");
+    size_t full = lam_ci_sector_dim(n, na, nb);
+    size_t max_dets = o->max_dets < full ? o->max_dets : full;
+    if (max_dets > UINT32_MAX - 1) max_dets = UINT32_MAX - 1;
+    budget mem = {o->max_bytes, (double)lam_spinfree_bytes(n), 0};
+
+    /* The highest end in localized orbitals.  The rotation keeps the
+     * spectrum (it is unitary within each sector), so a Rayleigh quotient
+     * in them bounds the same eigenvalue, up to the rounding of the
+     * integral transformation.  It needs the 8-fold symmetry of real
+     * integrals, which the rotation imposes. */
+    lam_spinfree *rot = NULL;
+    if (o->highest && o->localize && max_dets < full && n >= 2 &&
+        lam_spinfree_real_symmetry_error(sf) <= 1e-10) {
+        lam_progress("%s: Edmiston-Ruedenberg localization of %d orbitals", o->label ? o->label : "selected CI", n);
+        rot = localized_orbitals(sf, &mem);
+        /* kept only when its start determinant is higher: localized
+         * orbitals help where the top is ionic (molecules), not for
+         * every operator */
+        uint64_t a, b, la, lb;
+        lam_sci_start(sf, na, nb, 1, &a, &b);
+        if (rot) lam_sci_start(rot, na, nb, 1, &la, &lb);
+        if (rot && !(diag_energy(rot, la, lb) > diag_energy(sf, a, b))) {
+            lam_spinfree_free(rot);
+            budget_give(&mem, (double)lam_spinfree_bytes(n));
+            rot = NULL;
+        }
+    }
+    int rc = select_run(rot ? rot : sf, na, nb, o, max_dets, &mem, res, err);
+    res->rotated = rot != NULL;
+    lam_spinfree_free(rot);
+    if (rc) return rc;
+    res->bytes = mem.peak;
     res->seconds = lam_seconds() - t0;
-    lam_progress("%s: %zu determinants, bound %.10f Eh, with second order %.10f Eh (estimate), %.1f s", label,
-                 res->dets, res->value, res->value + res->pt2, res->seconds);
+    lam_progress("%s: %zu determinants, bound %.10f Eh, with second order %.10f Eh (estimate), %.1f s",
+                 o->label ? o->label : "selected CI", res->dets, res->value, res->value + res->pt2,
+                 res->seconds);
+    return 0;
 }

@@ -16,7 +16,15 @@
  * added beside it as an estimate, not a bound.
  *
  * The highest eigenvalue is the lowest of -H: the same selection runs with
- * a start determinant of highest diagonal energy.
+ * a start determinant of highest diagonal energy, in Edmiston-Ruedenberg
+ * orbitals (Edmiston and Ruedenberg, Rev. Mod. Phys. 35, 457 (1963); from
+ * memory), which maximize the sum of (ii|ii).  The highest state crowds
+ * electron pairs onto compact orbitals; in localized orbitals that is a
+ * few ionic determinants, in canonical ones a spread over very many (a
+ * 10-atom hydrogen chain at 1.2 angstrom: within 1e-9 Eh of full CI
+ * from 1809 determinants, against 47 mEh short at 20000 canonical ones).
+ * They are kept only when their start determinant is higher than the one
+ * in the given orbitals.
  */
 #ifndef LAM_SCI_H
 #define LAM_SCI_H
@@ -25,6 +33,7 @@
 #include <stdint.h>
 
 #include "spinfree.h"
+#include "util.h"
 
 typedef struct {
     size_t max_dets;    /* determinant budget of the variational space */
@@ -32,6 +41,8 @@ typedef struct {
     double energy_tol;  /* stop when an iteration changes the value less */
     int highest;        /* 1: the highest eigenvalue, 0: the lowest */
     int pt2;            /* 1: add the Epstein-Nesbet estimate */
+    int localize;       /* 1: the highest end in Edmiston-Ruedenberg
+                           orbitals (default) */
     const char *label;  /* progress label, may be NULL */
 } lam_sci_options;
 
@@ -51,6 +62,7 @@ typedef struct {
     size_t dets;       /* variational space size */
     size_t bytes;      /* the most memory the solve held (tracked parts) */
     int iterations;    /* selection rounds */
+    int rotated;       /* 1: solved in Edmiston-Ruedenberg orbitals */
     lam_sci_stop stop;
     double seconds;
 } lam_sci_result;
@@ -62,11 +74,12 @@ void lam_sci_defaults(lam_sci_options *o);
  * "complete"). */
 const char *lam_sci_stop_name(lam_sci_stop s);
 
-/* One end of sector (na, nb) of sf (Hermitian, n <= 64 orbitals).  Exit
- * 64 when the sector does not exist, 75 when even the first space does
- * not fit max_bytes. */
-void lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o,
-                   lam_sci_result *res);
+/* One end of sector (na, nb) of sf (Hermitian, n <= 64 orbitals).  Fills
+ * err and returns 64 when the sector does not exist or a budget is not
+ * positive, 65 past 64 orbitals, 75 when even the first space does not
+ * fit max_bytes; 0 on success. */
+int lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o,
+                  lam_sci_result *res, lam_error *err);
 
 /* The start determinant: electrons placed one at a time where they lower
  * (highest: raise) the diagonal energy most, then steepest descent over

@@ -280,7 +280,8 @@ static void bound_spinfree_block(const lam_spinfree *sf, lam_plan_entry *e, cons
         so.label = l;
         so.highest = top;
         lam_sci_result *r = top ? &e->sci_hi : &e->sci_lo;
-        lam_sci_solve(sf, e->na, e->nb, &so, r);
+        lam_error err;
+        if (lam_sci_solve(sf, e->na, e->nb, &so, r, &err)) lam_error_exit(&err);
         *(top ? &e->hi : &e->lo) = r->value;
     }
 }
