@@ -155,10 +155,6 @@ double lam_majorana_value(const lam_majorana_set *m, size_t t);
 double lam_majorana_lambda(const lam_majorana_set *m);
 double lam_majorana_constant(const lam_majorana_set *m);
 
-/* exit 65 naming src and the first pair of entries that breaks
- * h_pq = h_qp or (pq|rs) = (qp|sr) beyond 1e-12 of the largest entry. */
-void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src);
-
 /* The operator of a spinfree or fermion stream as merged Majorana
  * monomials, with modes in spin order *order (NULL: the stream's own
  * "spin-order:", interleaved when absent; a fermion stream is relabelled

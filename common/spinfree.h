@@ -68,6 +68,11 @@ double lam_spinfree_hermiticity_error(const lam_spinfree *sf);
  * symmetry of real orbitals). */
 double lam_spinfree_real_symmetry_error(const lam_spinfree *sf);
 
+/* exit 65 naming src and the first pair of entries that breaks
+ * h_pq = h_qp or (pq|rs) = (qp|sr) beyond 1e-12 of the largest entry
+ * (defined in fermion.c, beside the Majorana reader that calls it). */
+void lam_spinfree_require_hermitian(const lam_spinfree *sf, const char *src);
+
 /* Exit 65 naming src when the 8-fold symmetry of real integrals is
  * violated by more than 1e-12 of the largest |h|, |g| (17-digit streams
  * keep it far below); what names what needs it, in the message. */
