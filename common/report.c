@@ -303,3 +303,14 @@ void lam_report_in_free(lam_report_in *in)
     free(in->items);
     free(in);
 }
+
+lam_report_in *lam_report_in_new(void) { return lam_calloc(1, sizeof(lam_report_in)); }
+
+void lam_report_in_add(lam_report_in *in, const char *key, const char *value, long line)
+{
+    in->items = lam_realloc(in->items, lam_mul_size(in->count + 1, sizeof *in->items));
+    in->items[in->count].key = lam_strdup(key);
+    in->items[in->count].value = lam_strdup(value);
+    in->items[in->count].tsv = (int)line;
+    in->count++;
+}

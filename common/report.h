@@ -74,6 +74,11 @@ int lam_report_read(const char *path, lam_report_in **out, lam_error *err);
 int lam_report_get(const lam_report_in *in, const char *key, double *value);
 const char *lam_report_get_str(const lam_report_in *in, const char *key);
 void lam_report_in_free(lam_report_in *in);
+/* A report built entry by entry, for a program that reads its lines
+ * through another reader (lam-cost reads a report and a stream through the
+ * stream reader); line is kept for messages as lam_report_read keeps it. */
+lam_report_in *lam_report_in_new(void);
+void lam_report_in_add(lam_report_in *in, const char *key, const char *value, long line);
 
 /* Exiting forms for lam-cost.c until it passes an err (issue 13). */
 void lam_report_save_or_exit(const lam_report *rep, const char *path, int tsv);

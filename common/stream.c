@@ -507,6 +507,16 @@ int lam_reader_next(lam_reader *r, lam_line *out, lam_error *err)
 
 int lam_reader_syntax(const lam_reader *r) { return r->syntax; }
 
+const char *lam_reader_first_text(const lam_reader *r)
+{
+    if (r->saw_term) return NULL;
+    for (size_t i = r->pending_next; i < r->npending; ++i) {
+        const char *s = r->pending[i].text;
+        if (s[0] != '#' && !is_blank(s)) return s;
+    }
+    return NULL;
+}
+
 long long lam_reader_bytes_left(const lam_reader *r)
 {
     struct stat st;

@@ -112,6 +112,11 @@ int lam_reader_split(lam_reader *r, char *text, long line, lam_line *out, lam_er
 int lam_reader_coefficient(const char *tok, double *out);
 /* Process-wide: let an empty input read as the zero operator. */
 void lam_reader_allow_empty(int allow);
+/* The first term line as lam_reader_open read it ahead, as written (NULL
+ * when the input has none, or once a term has been read): for a program
+ * that tells a stream from another text form on the same input (lam-cost:
+ * a key<TAB>value report) before reading the terms. */
+const char *lam_reader_first_text(const lam_reader *r);
 /* Term spelling of the stream: 2, 1 (version 1), or 0 while neither the
  * header nor a term has told it. */
 int lam_reader_syntax(const lam_reader *r);

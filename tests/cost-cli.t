@@ -92,6 +92,23 @@ printf 'lambda.h1\t0.5\nkind\tpauli\nterms\t15\nconstant\t-0.0988639698\nlambda\
 runlam lam-cost -q "$TMP/dotted.norm"
 is "$(report_get walk.steps <<< "$OUT")" 2314 "report with dotted keys: same walk steps"
 
+# Issue 13 item 4: the input is read once, through the stream reader; no
+# temporary file (TMPDIR that does not exist is never asked for; called
+# without LAM_WRAP, whose valgrind would want TMPDIR itself).
+is "$(TMPDIR=$TMP/no-such-dir "$LAM_BIN/lam-cost" -q < "$TMP/h2.pauli")" "$OUT2" "stdin stream read without a temporary file"
+is "$(TMPDIR=$TMP/no-such-dir "$LAM_BIN/lam-cost" -q < "$TMP/h2.norm")" "$OUT2" "stdin report read without a temporary file"
+is "$(lam lam-cost -q <(cat "$TMP/h2.norm"))" "$OUT2" "a report through a pipe given by name"
+gzip -c "$TMP/h2.norm" > "$TMP/h2.norm.gz"
+is "$(lam lam-cost -q < "$TMP/h2.norm.gz")" "$OUT2" "a gzip report, as a gzip stream"
+printf '# lam-norm report\n\nkind\tpauli\nterms\t15\nconstant\t-0.098125\nlambda\t1.8859250000000003\nqubits\t4\n' > "$TMP/comment.norm"
+is "$(lam lam-cost -q < "$TMP/comment.norm")" "$OUT2" "a report after a comment and a blank line"
+printf 'kind\tpauli\nterms 15\n' > "$TMP/notab.norm"
+runlam lam-cost < "$TMP/notab.norm"
+is "$RC/${#OUT}" "65/0" "report line without a tab on stdin: exit 65, nothing written"
+like "$ERR" "^lam-cost: <stdin>:2: report line without a tab between key and value" "names <stdin> and the line"
+runlam lam-cost <(printf 'nan z:1\n')
+like "$ERR" "^lam-cost: /dev/fd/[0-9]+:1: coefficient 'nan' is not finite" "a pipe given by name is named by its path"
+
 # A spin-symmetric fragments stream (format of lam-factor(1)) on 2
 # orbitals: fragment 0 one-body, fragment 1 the rank-one l = eps eps^T,
 # eps = (0.6, 0.8), at l/4 on every pair.  Flat lambda 1.5 + 0.09 + 0.16 +

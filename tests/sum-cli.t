@@ -125,4 +125,48 @@ is "$RC" 64 "--drop -1: exit 64"
 runlam lam-sum -s "$TMP/p.txt"
 is "$RC" 64 "-s is not --sort (it is --sector in the suite's table)"
 one_bad_option_message lam-sum -d
+
+# Issue 13 item 4: sums checked by number.  Every expected figure is a hand
+# computation (source: hand computation, written out beside each case).
+# Pauli: A = 0.5 x0z1 - 0.25 y1 + 2, B = 0.125 x0z1 + 0.75 z2 - 1;
+# A - 2B = 0.25 x0z1 - 0.25 y1 - 1.5 z2 + 4: lambda 2 (identity left out),
+# constant 4, four terms.
+printf '0.5 x:0 z:1\n-0.25 y:1\n2\n' > "$TMP/pa.txt"
+printf '0.125 x:0 z:1\n0.75 z:2\n-1\n' > "$TMP/pb.txt"
+runlam lam-sum "$TMP/pa.txt" --scale -2 "$TMP/pb.txt" --output "$TMP/ps.op"
+is "$RC/${#OUT}" "0/0" "pauli A - 2B into --output after the files"
+near "$(lam lam-norm "$TMP/ps.op" | report_get lambda)" 2 1e-15 "pauli A - 2B: lambda 2 (hand computation)"
+near "$(lam lam-norm "$TMP/ps.op" | report_get constant)" 4 1e-15 "pauli A - 2B: constant 4 (hand computation)"
+# Spinfree, one orbital: H = e0 + h E00 + 1/2 g e0000 maps under
+# Jordan-Wigner to (e0 + h + g/4) - (h/2 + g/4)(z0 + z1) + (g/4) z0 z1, so
+# lambda = |h + g/2| + |g|/4 and constant e0 + h + g/4.  A: e0 0.5, h -1,
+# g 1 (the line "0.5 0 0 0 0" is g/2); B: h 0.25, g 2.  A + 2B: e0 0.5,
+# h -0.5, g 5: lambda |2| + 1.25 = 3.25, constant 0.5 - 0.5 + 1.25 = 1.25.
+printf '#%% lamina-op 2\n#%% kind: spinfree\n#%% orbitals: 1\n0.5\n-1 0 0\n0.5 0 0 0 0\n#%% end\n' > "$TMP/sa.op"
+printf '#%% lamina-op 2\n#%% kind: spinfree\n#%% orbitals: 1\n0.25 0 0\n1 0 0 0 0\n#%% end\n' > "$TMP/sb.op"
+runlam lam-sum -zo "$TMP/ss.op.gz" "$TMP/sa.op" --scale=2 "$TMP/sb.op"
+is "$RC/${#OUT}" "0/0" "spinfree A + 2B with -zo X"
+near "$(lam lam-norm "$TMP/ss.op.gz" | report_get lambda)" 3.25 1e-14 "spinfree A + 2B: lambda 3.25 (hand computation)"
+near "$(lam lam-norm "$TMP/ss.op.gz" | report_get constant)" 1.25 1e-14 "spinfree A + 2B: constant 1.25 (hand computation)"
+# Fermion on two modes: t (a+1 a0 + a+0 a1) is t (x0x1 + y0y1)/2 (lambda
+# |t|) and u a+0 a0 is u (1 - z0)/2.  A: t 0.5, u 0.4; B: t 0.125, u 0.3.
+# A - 2B: t 0.25, u -0.2: lambda 0.25 + 0.1 = 0.35, constant -0.1.
+printf '0.5 1 / 0\n0.5 0 / 1\n0.4 0 / 0\n' > "$TMP/fa.txt"
+printf '0.125 1 / 0\n0.125 0 / 1\n0.3 0 / 0\n' > "$TMP/fb.txt"
+runlam lam-sum "$TMP/fa.txt" --scale -2 "$TMP/fb.txt"
+near "$(printf '%s\n' "$OUT" | lam lam-norm | report_get lambda)" 0.35 1e-15 "fermion A - 2B: lambda 0.35 (hand computation)"
+near "$(printf '%s\n' "$OUT" | lam lam-norm | report_get constant)" -0.1 1e-15 "fermion A - 2B: constant -0.1 (hand computation)"
+# Bad command lines: one message each, the documented exit code.
+for args in "--scale nan" "--scale 1e999" "--scale 2x" "--scale="; do
+    runlam lam-sum $args "$TMP/pa.txt"
+    is "$RC/${#OUT}" "64/0" "bad factor '$args': exit 64, nothing written"
+    is "$(printf '%s\n' "$ERR" | grep -c '^lam-sum:')" 1 "bad factor '$args': one message"
+done
+runlam lam-sum --bogus "$TMP/pa.txt"
+is "$RC" 64 "unknown long option: exit 64"
+is "$ERR" "lam-sum: unknown option '--bogus'
+Try 'lam-sum --help'." "unknown long option: the one message"
+runlam lam-sum "$TMP/pa.txt" --scale -2 "$TMP/missing.txt"
+is "$RC/${#OUT}" "66/0" "a missing second file: exit 66, nothing written"
+like "$ERR" "^lam-sum: cannot open .*missing.txt" "names the missing file"
 done_testing

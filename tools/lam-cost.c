@@ -3,15 +3,13 @@
  * priced by the construction the literature uses for each form (and the
  * flat LCU count beside it). */
 #include <errno.h>
-#include <fcntl.h>
-#include <sys/stat.h>
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <unistd.h>
+#include <sys/stat.h>
 
+#include "cli.h"
 #include "cost.h"
 #include "fragments.h"
 #include "pauli.h"
@@ -91,10 +89,9 @@ static void parse_split(const char *arg, double split[3])
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_PROGRESS, OPT_ERROR, OPT_SPLIT, OPT_CON,
-           OPT_PREP, OPT_ROT };
+    enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_ERROR, OPT_SPLIT, OPT_CON, OPT_PREP, OPT_ROT };
     static const struct option longopts[] = {
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
+        LAM_CLI_ALLOW_EMPTY,
         {"compare", no_argument, 0, 'C'},
         {"error", required_argument, 0, OPT_ERROR},
         {"split", required_argument, 0, OPT_SPLIT},
@@ -106,22 +103,20 @@ static void parse_options(int argc, char **argv, options *o)
         {"tsv", no_argument, 0, 't'},
         {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},
-        {"quiet", no_argument, 0, 'q'},
-        {"progress", no_argument, 0, OPT_PROGRESS},
-        {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_QUIET,
+        LAM_CLI_PROGRESS,
+        LAM_CLI_HELP,
+        LAM_CLI_VERSION,
+        LAM_CLI_END};
     memset(o, 0, sizeof *o);
     o->error = LAM_COST_DEFAULT_ERROR;
     o->split[0] = LAM_COST_DEFAULT_SPLIT_PHASE;
     o->split[1] = LAM_COST_DEFAULT_SPLIT_TRUNC;
     o->split[2] = LAM_COST_DEFAULT_SPLIT_SYNTH;
-    opterr = 0;
     int c;
-    while ((c = getopt_long(argc, argv, ":Ctl:o:qhV", longopts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":Ctl:o:qhV", longopts)) != -1) {
         switch (c) {
         case 'C': o->compare = 1; break;
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case OPT_ERROR:
             o->error = lam_opt_double("--error", optarg);
             if (!(o->error > 0))
@@ -146,19 +141,10 @@ static void parse_options(int argc, char **argv, options *o)
         case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
         case 'q':
-            o->quiet = 1;
-            lam_progress_set(0);
+            o->quiet = 1; /* and no progress: */
+            lam_cli_common(c, argv, usage);
             break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        case ':':
-            if (optopt > 0 && optopt < 128)
-                lam_usage_error("option '-%c' needs a value", optopt);
-            lam_usage_error("option '%s' needs a value", argv[optind - 1]);
-        default:
-            if (optopt > 0 && optopt < 128) lam_usage_error("unknown option '-%c'", optopt);
-            lam_usage_error("unknown option '%s'", argv[optind - 1]);
+        default: lam_cli_common(c, argv, usage);
         }
     }
     o->inputs = argv + optind;
@@ -174,126 +160,142 @@ static void parse_options(int argc, char **argv, options *o)
     if (lam_cost_budget_split(o->error, o->split, &b, &why) != 0) lam_usage_error("%s", why);
 }
 
-/* ---- telling a report from a stream ----
- * A report's first meaningful line is "key<TAB>value" with a key made of
- * lower-case letters; a stream's is "#%", a comment, a coefficient or gzip
- * data.  Standard input cannot be read twice, so it is copied to an
- * unlinked temporary file that then becomes descriptor 0: the readers see
- * "<stdin>" and name it so in their messages. */
+/* ---- the library calls that can fail on bad input ---- */
 
-static void write_all(int fd, const char *buf, size_t n)
+static int input_kind(lam_reader *r, lam_kind forced, lam_kind *kind, lam_error *err)
 {
-    while (n > 0) {
-        ssize_t m = write(fd, buf, n);
-        if (m < 0 && errno == EINTR) continue;
-        if (m < 0) lam_fail(LAM_EX_IOERR, "cannot write a temporary file: %s", strerror(errno));
-        buf += m;
-        n -= (size_t)m;
-    }
+    if (forced != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, forced);
+    return lam_reader_kind(r, kind, err);
 }
 
-static void spool_stdin(void)
+static int declared_qubits(lam_reader *r, int *qubits, lam_error *err)
 {
-    const char *dir = getenv("TMPDIR");
-    char path[4096];
-    snprintf(path, sizeof path, "%s/lam-cost.XXXXXX", dir && *dir ? dir : "/tmp");
-    int fd = mkstemp(path);
-    if (fd < 0) lam_fail(LAM_EX_IOERR, "cannot create a temporary file in %s: %s",
-                         dir && *dir ? dir : "/tmp", strerror(errno));
-    unlink(path);
-    char buf[1 << 16];
-    ssize_t n;
-    while ((n = read(0, buf, sizeof buf)) != 0) {
-        if (n < 0 && errno == EINTR) continue;
-        if (n < 0) lam_fail(LAM_EX_IOERR, "read error on <stdin>: %s", strerror(errno));
-        write_all(fd, buf, (size_t)n);
-    }
-    if (lseek(fd, 0, SEEK_SET) != 0 || dup2(fd, 0) < 0)
-        lam_fail(LAM_EX_IOERR, "cannot rewind a temporary file: %s", strerror(errno));
-    close(fd);
+    long q;
+    int rc = lam_reader_meta_long(r, "qubits", -1, 0, 1 << 24, &q, err);
+    if (rc == 0) *qubits = (int)q;
+    return rc;
 }
 
-/* Inputs given by name are read twice only when they are regular files. */
-static int is_regular_file(const char *path, const char *name)
+static int read_pauli_merged(lam_reader *r, lam_pauli_set *s, lam_error *err)
 {
-    struct stat st;
-    if (stat(path, &st) != 0) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
-    if (S_ISDIR(st.st_mode)) lam_fail(LAM_EX_NOINPUT, "cannot read %s: it is a directory", name);
-    return S_ISREG(st.st_mode);
-}
-
-static int looks_like_report(const char *path, const char *name)
-{
-    int fd = path ? open(path, O_RDONLY) : 0;
-    if (fd < 0) lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
-    char buf[4096];
-    ssize_t n;
-    while ((n = pread(fd, buf, sizeof buf - 1, 0)) < 0 && errno == EINTR) {}
-    if (n < 0) lam_fail(LAM_EX_IOERR, "read error on %s: %s", name, strerror(errno));
-    if (fd != 0) close(fd);
-    buf[n] = '\0';
-    if (n > 0 && (unsigned char)buf[0] == 0x1f) return 0; /* gzip: only streams */
-    for (char *line = buf; *line;) {
-        char *next = strchr(line, '\n');
-        if (line[0] != '#' && line[strspn(line, " \t\r\n")] != '\0' && line[0] != '\n') {
-            size_t key = strspn(line, "abcdefghijklmnopqrstuvwxyz_.0123456789");
-            return key > 0 && line[key] == '\t' && line[0] >= 'a' && line[0] <= 'z';
-        }
-        if (!next) break;
-        line = next + 1;
-    }
+    (void)err; /* pauli.c still exits on bad input */
+    lam_pauli_read_merged(r, s, 1); /* repeated strings never take room */
     return 0;
+}
+
+static int next_report_line(lam_reader *r, char **text, long *line, int *more, lam_error *err)
+{
+    int rc = lam_reader_next_text(r, text, line, err);
+    if (rc == 0 || rc == 1) {
+        *more = rc;
+        return 0;
+    }
+    return rc;
+}
+
+/* ---- telling a report from a stream ----
+ * The input is read once, through the stream reader: a report has no "#%"
+ * line, and its first line is "key<TAB>value" with a key made of
+ * lower-case letters, where a stream's first term starts with a number. */
+
+static int looks_like_report(lam_reader *r)
+{
+    const char *line = lam_reader_first_text(r);
+    if (!line || lam_reader_meta(r)->count > 0 || lam_reader_syntax(r) != 0) return 0;
+    size_t key = strspn(line, "abcdefghijklmnopqrstuvwxyz_.0123456789");
+    return key > 0 && line[key] == '\t' && line[0] >= 'a' && line[0] <= 'z';
+}
+
+/* The key<TAB>value lines of a report, through the reader ('#' lines and
+ * blank lines skipped, as lam_report_read does). */
+static int read_report(lam_reader *r, lam_report_in *in, lam_error *err)
+{
+    char *text;
+    long line;
+    int more;
+    while (next_report_line(r, &text, &line, &more, err) == 0 && more) {
+        char *tab = strchr(text, '\t');
+        if (!tab)
+            return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), line,
+                                "report line without a tab between key and value");
+        *tab = '\0';
+        lam_report_in_add(in, text, tab + 1, line);
+    }
+    return err->code;
 }
 
 /* ---- the three inputs ---- */
 
-static void summary_from_pauli_stream(lam_reader *r, const options *o, lam_lcu_summary *lcu)
+static int summary_from_pauli_stream(lam_reader *r, const options *o, lam_lcu_summary *lcu,
+                                     lam_error *err)
 {
+    int qubits;
+    if (declared_qubits(r, &qubits, err) != 0) return err->code;
     lam_pauli_set s;
-    lam_pauli_set_init(&s, (int)lam_reader_meta_long(r, "qubits", -1, 0, 1 << 24));
+    lam_pauli_set_init(&s, qubits);
     double t0 = lam_seconds();
-    lam_pauli_read_merged(r, &s, 1); /* repeated strings never take room */
-    lam_progress("read %zu distinct Pauli terms in %.2f s", s.count, lam_seconds() - t0);
-    lam_cost_summary_from_pauli(&s, !o->ungrouped, lcu);
+    int rc = read_pauli_merged(r, &s, err);
+    if (rc == 0) {
+        lam_progress("read %zu distinct Pauli terms in %.2f s", s.count, lam_seconds() - t0);
+        lam_cost_summary_from_pauli(&s, !o->ungrouped, lcu);
+    }
     lam_pauli_set_free(&s);
+    return rc;
 }
 
-static void summary_from_stream(const char *path, const options *o, lam_lcu_summary *lcu)
+static int summary_from_fragments_stream(lam_reader *r, lam_lcu_summary *lcu, lam_error *err)
 {
-    lam_reader *r = lam_reader_open(path);
-    if (o->kind != LAM_KIND_UNKNOWN) lam_reader_force_kind(r, o->kind);
-    lam_kind kind = lam_reader_kind(r);
-    switch (kind) {
-    case LAM_KIND_PAULI: summary_from_pauli_stream(r, o, lcu); break;
-    case LAM_KIND_FRAGMENTS: {
-        lam_fragments *fr = lam_fragments_read(r);
-        lam_cost_summary_from_fragments(fr, lam_reader_meta(r), lcu);
-        lam_fragments_free(fr);
-        break;
-    }
-    default:
-        lam_reader_fail(r, "lam-cost reads pauli or fragments streams, not %s "
-                        "(map a spinfree stream with lam-map first)",
-                        lam_kind_name(kind));
-    }
-    lam_reader_close(r);
+    lam_fragments *fr = NULL;
+    int rc = lam_fragments_read(r, &fr, err);
+    if (rc == 0) lam_cost_summary_from_fragments(fr, lam_reader_meta(r), lcu);
+    lam_fragments_free(fr);
+    return rc;
 }
 
-static double report_number(const lam_report_in *in, const char *name, const char *key)
+static int summary_from_stream(lam_reader *r, const options *o, lam_lcu_summary *lcu,
+                               lam_error *err)
+{
+    lam_kind kind;
+    if (input_kind(r, o->kind, &kind, err) != 0) return err->code;
+    switch (kind) {
+    case LAM_KIND_PAULI: return summary_from_pauli_stream(r, o, lcu, err);
+    case LAM_KIND_FRAGMENTS: return summary_from_fragments_stream(r, lcu, err);
+    default:
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), lam_reader_lineno(r),
+                            "lam-cost reads pauli or fragments streams, not %s "
+                            "(map a spinfree stream with lam-map first)",
+                            lam_kind_name(kind));
+    }
+}
+
+/* A value of the report, or NAN (0 for a count) with *err set: the first
+ * problem met is the one told. */
+static double report_number(const lam_report_in *in, const char *name, const char *key,
+                            lam_error *err)
 {
     double v;
     const char *s = lam_report_get_str(in, key);
-    if (!s) lam_fail_at(LAM_EX_DATA, name, 0, "report has no '%s' line", key);
+    if (err->code) return NAN;
+    if (!s) {
+        lam_error_at(err, LAM_EX_DATA, name, 0, "report has no '%s' line", key);
+        return NAN;
+    }
     if (!lam_report_get(in, key, &v))
-        lam_fail_at(LAM_EX_DATA, name, 0, "report value of '%s' is not a number: '%s'", key, s);
+        lam_error_at(err, LAM_EX_DATA, name, 0, "report value of '%s' is not a number: '%s'", key,
+                     s);
     return v;
 }
 
-static long long report_count(const lam_report_in *in, const char *name, const char *key)
+static long long report_count(const lam_report_in *in, const char *name, const char *key,
+                              lam_error *err)
 {
-    double v = report_number(in, name, key);
-    if (v < 0 || v != (double)(long long)v)
-        lam_fail_at(LAM_EX_DATA, name, 0, "report value of '%s' is not a count: %.17g", key, v);
+    double v = report_number(in, name, key, err);
+    if (err->code) return 0;
+    if (v < 0 || v != (double)(long long)v) {
+        lam_error_at(err, LAM_EX_DATA, name, 0, "report value of '%s' is not a count: %.17g", key,
+                     v);
+        return 0;
+    }
     return (long long)v;
 }
 
@@ -302,119 +304,143 @@ static long long report_count(const lam_report_in *in, const char *name, const c
  * groups and lambda_grouped are present for labelled streams.  The report
  * does not give the largest group: the bound strings - groups + 1 sets
  * the rotation bits then. */
-static void summary_from_pauli_report(const lam_report_in *in, const char *name,
-                                      const options *o, lam_lcu_summary *lcu)
+static int summary_from_pauli_report(const lam_report_in *in, const char *name,
+                                     const options *o, lam_lcu_summary *lcu, lam_error *err)
 {
-    long long terms = report_count(in, name, "terms");
-    double constant = report_number(in, name, "constant");
+    long long terms = report_count(in, name, "terms", err);
+    double constant = report_number(in, name, "constant", err);
     long long strings = terms - (constant != 0 && terms > 0 ? 1 : 0);
     lcu->form = "pauli";
-    lcu->system_qubits = (int)report_count(in, name, "qubits");
-    lcu->lambda = lcu->lambda_strings = report_number(in, name, "lambda");
+    lcu->system_qubits = (int)report_count(in, name, "qubits", err);
+    lcu->lambda = lcu->lambda_strings = report_number(in, name, "lambda", err);
+    if (err->code) return err->code;
     lcu->unitaries = lcu->strings = strings;
     lcu->trunc_input = -1;
     lcu->trunc_source = "unknown (a report does not say)";
     int labelled = lam_report_get_str(in, "groups") != NULL;
     if (labelled && o->ungrouped)
-        lam_fail_at(LAM_EX_DATA, name, 0,
-                    "--ungrouped with the report of a grouped stream: the report does not say "
-                    "how many distinct strings there are; give lam-cost the stream");
-    if (labelled) {
-        long long groups = report_count(in, name, "groups");
-        if (groups > strings)
-            lam_fail_at(LAM_EX_DATA, name, 0, "report has more groups (%lld) than terms (%lld)",
-                        groups, strings);
-        lcu->form = "pauli_grouped";
-        lcu->lambda = report_number(in, name, "lambda_grouped");
-        lcu->unitaries = lcu->groups = groups;
-        lcu->flat_rotations = 2 * (strings - groups);
-        lcu->largest_group = (int)(strings - groups + 1 < 1 << 30 ? strings - groups + 1 : 1 << 30);
-    }
+        return lam_error_at(err, LAM_EX_DATA, name, 0,
+                            "--ungrouped with the report of a grouped stream: the report does "
+                            "not say how many distinct strings there are; give lam-cost the "
+                            "stream");
+    if (!labelled) return 0;
+    long long groups = report_count(in, name, "groups", err);
+    if (err->code) return err->code;
+    if (groups > strings)
+        return lam_error_at(err, LAM_EX_DATA, name, 0,
+                            "report has more groups (%lld) than terms (%lld)", groups, strings);
+    lcu->form = "pauli_grouped";
+    lcu->lambda = report_number(in, name, "lambda_grouped", err);
+    lcu->unitaries = lcu->groups = groups;
+    lcu->flat_rotations = 2 * (strings - groups);
+    lcu->largest_group = (int)(strings - groups + 1 < 1 << 30 ? strings - groups + 1 : 1 << 30);
+    return err->code;
 }
 
 /* lam-norm's report of a fragments stream carries the LCU size, not the
  * factors: only the flat count applies to it. */
-static void summary_from_fragments_report(const lam_report_in *in, const char *name,
-                                          lam_lcu_summary *lcu)
+static int summary_from_fragments_report(const lam_report_in *in, const char *name,
+                                         lam_lcu_summary *lcu, lam_error *err)
 {
-    long long orbitals = report_count(in, name, "orbitals");
-    if (orbitals > 1 << 20) lam_fail_at(LAM_EX_DATA, name, 0, "report has %lld orbitals", orbitals);
+    long long orbitals = report_count(in, name, "orbitals", err);
+    if (err->code) return err->code;
+    if (orbitals > 1 << 20)
+        return lam_error_at(err, LAM_EX_DATA, name, 0, "report has %lld orbitals", orbitals);
     lcu->form = "fragments";
-    lcu->lambda = report_number(in, name, "lambda");
-    lcu->unitaries = report_count(in, name, "unitaries");
+    lcu->lambda = report_number(in, name, "lambda", err);
+    lcu->unitaries = report_count(in, name, "unitaries", err);
     lcu->system_qubits = 2 * (int)orbitals;
     lcu->orbitals = (int)orbitals;
     lcu->trunc_input = -1;
     lcu->trunc_source = "unknown (a report does not say)";
-    lcu->flat_rotations =
-        lam_cost_fragment_rotations(report_count(in, name, "fragments"), (int)orbitals);
+    long long fragments = report_count(in, name, "fragments", err);
+    if (err->code) return err->code;
+    lcu->flat_rotations = lam_cost_fragment_rotations(fragments, (int)orbitals);
+    return 0;
 }
 
-static void summary_from_report(const char *path, const char *name, const options *o,
-                                lam_lcu_summary *lcu)
+static int summary_from_report_lines(const lam_report_in *in, const char *name,
+                                     const options *o, lam_lcu_summary *lcu, lam_error *err)
 {
-    lam_report_in *in = lam_report_read(path);
     const char *kind = lam_report_get_str(in, "kind");
-    if (!kind) lam_fail_at(LAM_EX_DATA, name, 0, "report has no 'kind' line (is it from lam-norm?)");
+    if (!kind)
+        return lam_error_at(err, LAM_EX_DATA, name, 0,
+                            "report has no 'kind' line (is it from lam-norm?)");
     if (strchr(kind, '\t'))
-        lam_fail_at(LAM_EX_DATA, name, 1, "a --tsv report: lam-cost reads the key<TAB>value form");
-    if (strcmp(kind, "pauli") == 0)
-        summary_from_pauli_report(in, name, o, lcu);
-    else if (strcmp(kind, "fragments") == 0)
-        summary_from_fragments_report(in, name, lcu);
-    else
-        lam_fail_at(LAM_EX_DATA, name, 0,
-                    "report of a %s stream: lam-cost needs the report of a pauli or fragments "
-                    "stream (map a spinfree stream with lam-map first)", kind);
-    lam_report_in_free(in);
+        return lam_error_at(err, LAM_EX_DATA, name, 1,
+                            "a --tsv report: lam-cost reads the key<TAB>value form");
+    if (strcmp(kind, "pauli") == 0) return summary_from_pauli_report(in, name, o, lcu, err);
+    if (strcmp(kind, "fragments") == 0) return summary_from_fragments_report(in, name, lcu, err);
+    return lam_error_at(err, LAM_EX_DATA, name, 0,
+                        "report of a %s stream: lam-cost needs the report of a pauli or "
+                        "fragments stream (map a spinfree stream with lam-map first)", kind);
 }
 
-/* Read one input (a file name, "-" or NULL for stdin) into lcu. */
-static void summarize(const char *input, const options *o, lam_lcu_summary *lcu)
+static int summary_from_report(lam_reader *r, const options *o, lam_lcu_summary *lcu,
+                               lam_error *err)
 {
-    const char *path = input && strcmp(input, "-") != 0 ? input : NULL;
-    const char *name = path ? path : "<stdin>";
-    if (path && !is_regular_file(path, name)) { /* a pipe such as <(...) */
-        int fd = open(path, O_RDONLY);
-        if (fd < 0 || dup2(fd, 0) < 0)
-            lam_fail(LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
-        close(fd);
-        path = NULL;
-    }
-    if (!path) spool_stdin();
+    lam_report_in *in = lam_report_in_new();
+    int rc = read_report(r, in, err);
+    if (rc == 0) rc = summary_from_report_lines(in, lam_reader_name(r), o, lcu, err);
+    lam_report_in_free(in);
+    return rc;
+}
+
+/* A directory opens and then fails to read (exit 74): say what it is. */
+static int refuse_directory(const char *path, lam_error *err)
+{
+    struct stat st;
+    if (path && strcmp(path, "-") != 0 && stat(path, &st) == 0 && S_ISDIR(st.st_mode))
+        return lam_error_set(err, LAM_EX_NOINPUT, "cannot read %s: it is a directory", path);
+    return 0;
+}
+
+/* Read one input (a file name, "-" or NULL for stdin) into lcu, once. */
+static int summarize(const char *input, const options *o, lam_lcu_summary *lcu, lam_error *err)
+{
+    lam_reader *r = NULL;
     memset(lcu, 0, sizeof *lcu);
-    if (looks_like_report(path, name))
-        summary_from_report(path, name, o, lcu);
-    else
-        summary_from_stream(path, o, lcu);
+    if (refuse_directory(input, err) != 0 || lam_reader_open(input, &r, err) != 0) return err->code;
+    int rc = looks_like_report(r) ? summary_from_report(r, o, lcu, err)
+                                  : summary_from_stream(r, o, lcu, err);
+    lam_reader_close(r);
+    return rc;
 }
 
 /* ---- one input: the key/value report ---- */
 
-static void one_input(const options *o, const lam_cost_budget *bud)
+static void warn_truncation(const options *o, const lam_cost_budget *bud, const char *name,
+                            const lam_lcu_summary *lcu)
+{
+    if (lcu->trunc_input > bud->trunc && !o->quiet)
+        lam_warn("%s: the input's truncation (%.3g Eh, from %s) exceeds its share eps.trunc "
+                 "(%.3g Eh)", name, lcu->trunc_input, lcu->trunc_source, bud->trunc);
+}
+
+static int one_input(const options *o, const lam_cost_budget *bud, lam_error *err)
 {
     const char *input = o->ninputs ? o->inputs[0] : NULL;
     const char *name = input && strcmp(input, "-") != 0 ? input : "<stdin>";
     lam_lcu_summary lcu;
-    summarize(input, o, &lcu);
+    if (summarize(input, o, &lcu, err) != 0) return err->code;
     lam_construction con = o->have_con ? o->con : lam_cost_headline(&lcu);
     if (!lam_cost_applies(&lcu, con))
-        lam_fail_at(LAM_EX_DATA, name, 0,
-                    "construction %s does not apply to this %s input (df needs a spin-symmetric "
-                    "fragments stream, not a report; grouped needs group labels; sparse needs "
-                    "Pauli strings)", lam_cost_construction_name(con), lcu.form);
+        return lam_error_at(err, LAM_EX_DATA, name, 0,
+                            "construction %s does not apply to this %s input (df needs a "
+                            "spin-symmetric fragments stream, not a report; grouped needs group "
+                            "labels; sparse needs Pauli strings)",
+                            lam_cost_construction_name(con), lcu.form);
     lam_cost_estimate est;
     const char *why = NULL;
     if (lam_cost_estimate_one(&lcu, con, bud, &o->par, &est, &why) != 0)
-        lam_fail_at(LAM_EX_DATA, name, 0, "%s", why);
-    if (lcu.trunc_input > bud->trunc && !o->quiet)
-        lam_warn("%s: the input's truncation (%.3g Eh, from %s) exceeds its share eps.trunc "
-                 "(%.3g Eh)", name, lcu.trunc_input, lcu.trunc_source, bud->trunc);
+        return lam_error_at(err, LAM_EX_DATA, name, 0, "%s", why);
+    warn_truncation(o, bud, name, &lcu);
     lam_report *rep = lam_report_new();
     if (o->label) lam_report_str(rep, "label", o->label);
     lam_cost_report(rep, &lcu, bud, &est);
-    lam_report_save(rep, o->output, o->tsv);
+    int rc = lam_report_save(rep, o->output, o->tsv, err);
     lam_report_free(rep);
+    return rc;
 }
 
 /* ---- several inputs: one row per construction that applies ---- */
@@ -457,39 +483,56 @@ static void write_table(FILE *f, const options *o, const lam_cost_budget *bud, c
           "distillation, routing, layout and error-correction overhead\n", f);
 }
 
-static void compare(const options *o, const lam_cost_budget *bud)
+/* One row per construction that applies to the input (or the one asked for). */
+static int add_rows(const options *o, const lam_cost_budget *bud, const char *input, row *rows,
+                    size_t *n, lam_error *err)
+{
+    const char *name = strcmp(input, "-") != 0 ? input : "<stdin>";
+    lam_lcu_summary lcu;
+    if (summarize(input, o, &lcu, err) != 0) return err->code;
+    for (int c = 0; c < LAM_CON_COUNT; ++c) {
+        if (!lam_cost_applies(&lcu, (lam_construction)c)) continue;
+        if (o->have_con && c != (int)o->con) continue;
+        row *r = &rows[*n];
+        const char *why = NULL;
+        if (lam_cost_estimate_one(&lcu, (lam_construction)c, bud, &o->par, &r->est, &why) != 0)
+            return lam_error_at(err, LAM_EX_DATA, name, 0, "%s", why);
+        r->input = name;
+        r->lcu = lcu;
+        ++*n;
+    }
+    warn_truncation(o, bud, name, &lcu);
+    return 0;
+}
+
+static int write_table_to(const options *o, const lam_cost_budget *bud, const row *rows,
+                          size_t n, lam_error *err)
+{
+    FILE *f = o->output && strcmp(o->output, "-") != 0 ? fopen(o->output, "w") : stdout;
+    if (!f)
+        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->output,
+                             strerror(errno));
+    write_table(f, o, bud, rows, n);
+    if ((f == stdout ? fflush(f) : fclose(f)) != 0 || (f == stdout && ferror(f)))
+        return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s",
+                             f == stdout ? "<stdout>" : o->output, strerror(errno));
+    return 0;
+}
+
+static int compare(const options *o, const lam_cost_budget *bud, lam_error *err)
 {
     int ninputs = o->ninputs ? o->ninputs : 1;
     row *rows = lam_malloc(lam_mul_size((size_t)ninputs * LAM_CON_COUNT, sizeof *rows));
     size_t n = 0;
-    for (int i = 0; i < ninputs; ++i) {
-        const char *input = o->ninputs ? o->inputs[i] : "-";
-        const char *name = strcmp(input, "-") != 0 ? input : "<stdin>";
-        lam_lcu_summary lcu;
-        summarize(input, o, &lcu);
-        for (int c = 0; c < LAM_CON_COUNT; ++c) {
-            if (!lam_cost_applies(&lcu, (lam_construction)c)) continue;
-            if (o->have_con && c != (int)o->con) continue;
-            row *r = &rows[n];
-            const char *why = NULL;
-            if (lam_cost_estimate_one(&lcu, (lam_construction)c, bud, &o->par, &r->est, &why) != 0)
-                lam_fail_at(LAM_EX_DATA, name, 0, "%s", why);
-            r->input = name;
-            r->lcu = lcu;
-            ++n;
-        }
-        if (lcu.trunc_input > bud->trunc && !o->quiet)
-            lam_warn("%s: the input's truncation (%.3g Eh, from %s) exceeds its share "
-                     "eps.trunc (%.3g Eh)", name, lcu.trunc_input, lcu.trunc_source, bud->trunc);
+    int rc = 0;
+    for (int i = 0; rc == 0 && i < ninputs; ++i)
+        rc = add_rows(o, bud, o->ninputs ? o->inputs[i] : "-", rows, &n, err);
+    if (rc == 0) {
+        qsort(rows, n, sizeof *rows, by_run_toffoli);
+        rc = write_table_to(o, bud, rows, n, err);
     }
-    qsort(rows, n, sizeof *rows, by_run_toffoli);
-    FILE *f = o->output && strcmp(o->output, "-") != 0 ? fopen(o->output, "w") : stdout;
-    if (!f) lam_fail(LAM_EX_IOERR, "cannot open %s for writing: %s", o->output, strerror(errno));
-    write_table(f, o, bud, rows, n);
-    if ((f == stdout ? fflush(f) : fclose(f)) != 0 || (f == stdout && ferror(f)))
-        lam_fail(LAM_EX_IOERR, "cannot write %s: %s", f == stdout ? "<stdout>" : o->output,
-                 strerror(errno));
     free(rows);
+    return rc;
 }
 
 int main(int argc, char **argv)
@@ -500,10 +543,10 @@ int main(int argc, char **argv)
     lam_cost_budget bud;
     const char *why = NULL;
     lam_cost_budget_split(o.error, o.split, &bud, &why); /* checked by parse_options */
-    if (o.compare)
-        compare(&o, &bud);
-    else
-        one_input(&o, &bud);
+    lam_error err;
+    lam_error_clear(&err);
+    if ((o.compare ? compare(&o, &bud, &err) : one_input(&o, &bud, &err)) != 0)
+        lam_error_exit(&err);
     if (!o.quiet)
         fprintf(stderr, "%s: note: these figures are estimates of one construction each "
                 "(see the 'assumes' line and lam-cost(1))\n", lam_program());

@@ -1,11 +1,11 @@
 /* lam-sum - add, scale, merge and tidy operator streams of one kind. */
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
 
+#include "cli.h"
 #include "fermion.h"
 #include "pauli.h"
 #include "report.h"
@@ -54,21 +54,23 @@ typedef struct {
 
 /* Metadata of the result: the first input's, with what must agree
  * across inputs checked. */
-static void merge_meta(lam_meta *into, lam_reader *r, int first)
+static int merge_meta(lam_meta *into, lam_reader *r, int first, lam_error *err)
 {
     lam_meta *m = lam_reader_meta(r);
     if (first) {
         lam_meta_copy(into, m);
-        return;
+        return 0;
     }
     static const char *const must_agree[] = {"electrons", "ms2", "encoding", "spin-order"};
     for (size_t i = 0; i < sizeof must_agree / sizeof *must_agree; ++i) {
         const char *a = lam_meta_get(into, must_agree[i]);
         const lam_meta_entry *b = lam_meta_find(m, must_agree[i]);
         if (a && b && strcmp(a, b->value) != 0)
-            lam_reader_fail_line(r, b->line, "%s: %s differs from %s in the first input", must_agree[i],
-                                 b->value, a);
+            return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), b->line,
+                                "%s: %s differs from %s in the first input", must_agree[i],
+                                b->value, a);
     }
+    return 0;
 }
 
 /* ---- spinfree ---- */
@@ -300,6 +302,15 @@ static _Noreturn void old_factor_syntax(const char *a)
                     a, (int)(colon - a), a, colon + 1);
 }
 
+/* "-1:K.op" reaches getopt as the options -1 -: -K ...: name the old form
+ * rather than an unknown option '-1'. */
+static void refuse_factor_prefix(int argc, char **argv)
+{
+    for (int i = optind - 1; i <= optind && i < argc; ++i)
+        if (i > 0 && argv[i][0] == '-' && looks_like_factor_prefix(argv[i]))
+            old_factor_syntax(argv[i]);
+}
+
 static void add_input(options *o, const char *path, int *scaled, double factor)
 {
     o->inputs[o->ninputs].path = path;
@@ -320,18 +331,17 @@ static void parse_options(int argc, char **argv, options *o)
         {"kind", required_argument, 0, 'k'},
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_ALLOW_EMPTY,
+        LAM_CLI_HELP,
+        LAM_CLI_VERSION,
+        LAM_CLI_END};
     int c, scaled = 0;
     double factor = 1.0;
     const char *scale_text = NULL;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
     o->inputs = lam_malloc(lam_mul_size((size_t)argc + 1, sizeof *o->inputs));
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, "-:d:k:o:zhV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, "-:d:k:o:zhV", opts)) != -1) {
         switch (c) {
         case 1: add_input(o, optarg, &scaled, factor); break;
         case OPT_SCALE:
@@ -350,25 +360,20 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case 'o': o->out = optarg; break;
         case 'z': o->gzip = 1; break;
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default:
-            /* "-1:K.op" reaches getopt as the options -1 -: -K ... */
-            for (int i = optind - 1; i <= optind && i < argc; ++i)
-                if (i > 0 && argv[i][0] == '-' && looks_like_factor_prefix(argv[i]))
-                    old_factor_syntax(argv[i]);
-            lam_bad_option(argv[optind - 1], optopt, c == ':');
+        case '?':
+        case ':': refuse_factor_prefix(argc, argv); /* fall through */
+        default: lam_cli_common(c, argv, usage);
         }
     }
     for (int i = optind; i < argc; ++i) add_input(o, argv[i], &scaled, factor); /* after "--" */
     if (scaled)
         lam_usage_error("--scale %s applies to the FILE after it, and none follows", scale_text);
+    if (o->ninputs == 0) o->inputs[o->ninputs++] = (input){"-", 1.0};
 }
 
 /* A FILE that does not exist but contains ':' gets a precise message
  * rather than a bare "cannot open". */
-static void check_inputs(const options *o)
+static int check_inputs(const options *o, lam_error *err)
 {
     int stdin_uses = 0;
     for (int i = 0; i < o->ninputs; ++i) {
@@ -376,103 +381,178 @@ static void check_inputs(const options *o)
         stdin_uses += strcmp(p, "-") == 0;
         if (strchr(p, ':') && access(p, F_OK) != 0) {
             if (looks_like_factor_prefix(p)) old_factor_syntax(p);
-            lam_fail(LAM_EX_NOINPUT,
-                     "cannot open %s: no such file (a factor is given as --scale F FILE, "
-                     "not with ':')", p);
+            return lam_error_set(err, LAM_EX_NOINPUT,
+                                 "cannot open %s: no such file (a factor is given as --scale F "
+                                 "FILE, not with ':')", p);
         }
     }
     if (stdin_uses > 1) lam_usage_error("stdin ('-') can be read only once");
+    return 0;
+}
+
+/* ---- the library calls that can fail on bad input ---- */
+
+static int open_input(const char *path, lam_kind forced, lam_reader **r, lam_error *err)
+{
+    int rc = lam_reader_open(path, r, err);
+    if (rc == 0) lam_reader_force_kind(*r, forced);
+    return rc;
+}
+
+static int read_spinfree(lam_reader *r, lam_spinfree **sf, lam_error *err)
+{
+    int rc = lam_spinfree_read(r, sf, err);
+    if (rc) return rc;
+    if ((rc = lam_spinfree_validate(*sf, lam_reader_name(r), NULL, err)) != 0) {
+        lam_spinfree_free(*sf);
+        *sf = NULL;
+    }
+    return rc;
+}
+
+static int read_pauli(lam_reader *r, lam_pauli_set *s, lam_error *err)
+{
+    (void)err;
+    lam_pauli_read(r, s);
+    return 0;
+}
+
+/* ---- the sum ---- */
+
+typedef struct {
+    lam_kind kind;
+    lam_meta meta;
+    lam_spinfree *sf;
+    lam_pauli_set pauli;
+    lam_fermion_op fermion;
+} sum;
+
+static void sum_init(sum *s)
+{
+    memset(s, 0, sizeof *s);
+    s->kind = LAM_KIND_UNKNOWN;
+    lam_meta_init(&s->meta);
+    lam_pauli_set_init(&s->pauli, 0);
+    lam_fermion_init(&s->fermion, 0);
+}
+
+static void sum_free(sum *s)
+{
+    lam_spinfree_free(s->sf);
+    lam_pauli_set_free(&s->pauli);
+    lam_fermion_free(&s->fermion);
+    lam_meta_free(&s->meta);
+}
+
+/* The terms of one open input, times factor, into the sum. */
+static int add_terms(sum *s, lam_reader *r, lam_kind k, double factor, lam_error *err)
+{
+    if (k == LAM_KIND_SPINFREE) {
+        lam_spinfree *sf = NULL;
+        if (read_spinfree(r, &sf, err) != 0) return err->code;
+        add_spinfree(&s->sf, sf, factor);
+        lam_spinfree_free(sf);
+    } else if (k == LAM_KIND_PAULI) {
+        lam_pauli_set p;
+        lam_pauli_set_init(&p, 0);
+        int rc = read_pauli(r, &p, err);
+        if (rc == 0) add_pauli(&s->pauli, &p, factor);
+        lam_pauli_set_free(&p);
+        return rc;
+    } else {
+        lam_fermion_op f;
+        lam_fermion_init(&f, 0);
+        int rc = lam_fermion_read(r, &f, err);
+        if (rc == 0) add_fermion(&s->fermion, &f, factor);
+        lam_fermion_free(&f);
+        return rc;
+    }
+    return 0;
+}
+
+/* Input number i (its kind checked against the first's) into the sum. */
+static int add_input_file(sum *s, const input *in, int i, lam_kind forced, lam_error *err)
+{
+    lam_reader *r = NULL;
+    lam_kind k;
+    int rc = open_input(in->path, forced, &r, err);
+    if (rc == 0) rc = lam_reader_kind(r, &k, err);
+    if (rc == 0) {
+        if (k == LAM_KIND_UNKNOWN) k = s->kind != LAM_KIND_UNKNOWN ? s->kind : LAM_KIND_PAULI;
+        if (k == LAM_KIND_FRAGMENTS)
+            rc = lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), lam_reader_lineno(r),
+                              "fragments streams cannot be added term by term (their "
+                              "unitaries differ)");
+        else if (i > 0 && k != s->kind)
+            rc = lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), lam_reader_lineno(r),
+                              "kind %s differs from %s in the first input", lam_kind_name(k),
+                              lam_kind_name(s->kind));
+    }
+    if (rc == 0) {
+        s->kind = k;
+        rc = merge_meta(&s->meta, r, i == 0, err);
+    }
+    if (rc == 0) rc = add_terms(s, r, k, in->factor, err);
+    lam_reader_close(r);
+    return rc;
+}
+
+/* Tidy the sum (merge, --drop, --sort) and write it to w. */
+static void write_sum(sum *s, options *o, lam_writer *w, const char *history)
+{
+    if (s->kind == LAM_KIND_SPINFREE) {
+        if (o->drop.on) drop_spinfree(s->sf, &o->drop);
+        lam_spinfree_describe(s->sf, &s->meta);
+        lam_writer_header(w, s->kind, &s->meta, history);
+        if (o->sort) write_spinfree_sorted(w, s->sf);
+        else lam_spinfree_write_terms(w, s->sf);
+    } else if (s->kind == LAM_KIND_PAULI) {
+        lam_pauli_set_merge(&s->pauli, 1);
+        if (o->drop.on) drop_pauli(&s->pauli, &o->drop);
+        if (o->sort) sort_pauli(&s->pauli);
+        lam_meta_setf(&s->meta, "qubits", "%d", s->pauli.nqubits);
+        /* merged by (string, label): strings are distinct only unlabelled */
+        if (!s->pauli.group) lam_writer_set_distinct(w);
+        lam_writer_header(w, s->kind, &s->meta, history);
+        lam_pauli_write_terms(w, &s->pauli);
+    } else {
+        lam_fermion_op ordered;
+        lam_fermion_normal_order(&s->fermion, &ordered);
+        if (o->drop.on) drop_fermion(&ordered, &o->drop);
+        if (o->sort) sort_fermion(&ordered);
+        lam_meta_setf(&s->meta, "modes", "%d", ordered.nmodes);
+        lam_writer_header(w, s->kind, &s->meta, history);
+        lam_fermion_write_terms(w, &ordered);
+        lam_fermion_free(&ordered);
+    }
 }
 
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     options o;
+    lam_error err;
+    lam_error_clear(&err);
     parse_options(argc, argv, &o);
-    if (o.ninputs == 0) o.inputs[o.ninputs++] = (input){"-", 1.0};
-    check_inputs(&o);
-    input *inputs = o.inputs;
-    int ninputs = o.ninputs, sort = o.sort, gzip = o.gzip;
-    lam_kind forced = o.forced;
-    const char *out = o.out;
-
-    lam_meta meta;
-    lam_kind kind = LAM_KIND_UNKNOWN;
-    lam_spinfree *sf_acc = NULL;
-    lam_pauli_set pauli_acc;
-    lam_fermion_op fermion_acc;
-    lam_pauli_set_init(&pauli_acc, 0);
-    lam_fermion_init(&fermion_acc, 0);
-    for (int i = 0; i < ninputs; ++i) {
-        lam_reader *r = lam_reader_open(inputs[i].path);
-        lam_reader_force_kind(r, forced);
-        lam_kind k = lam_reader_kind(r);
-        if (k == LAM_KIND_UNKNOWN) k = kind != LAM_KIND_UNKNOWN ? kind : LAM_KIND_PAULI;
-        if (k == LAM_KIND_FRAGMENTS)
-            lam_reader_fail(r, "fragments streams cannot be added term by term (their unitaries differ)");
-        if (i > 0 && k != kind)
-            lam_reader_fail(r, "kind %s differs from %s in the first input", lam_kind_name(k), lam_kind_name(kind));
-        kind = k;
-        merge_meta(&meta, r, i == 0);
-        if (k == LAM_KIND_SPINFREE) {
-            lam_spinfree *sf = lam_spinfree_read(r);
-            lam_error err;
-            if (lam_spinfree_validate(sf, lam_reader_name(r), NULL, &err) != 0) {
-                lam_spinfree_free(sf);
-                lam_error_exit(&err);
-            }
-            add_spinfree(&sf_acc, sf, inputs[i].factor);
-            lam_spinfree_free(sf);
-        } else if (k == LAM_KIND_PAULI) {
-            lam_pauli_set s;
-            lam_pauli_set_init(&s, 0);
-            lam_pauli_read(r, &s);
-            add_pauli(&pauli_acc, &s, inputs[i].factor);
-            lam_pauli_set_free(&s);
-        } else {
-            lam_fermion_op s;
-            lam_fermion_init(&s, 0);
-            lam_fermion_read(r, &s);
-            add_fermion(&fermion_acc, &s, inputs[i].factor);
-            lam_fermion_free(&s);
-        }
-        lam_reader_close(r);
+    sum s;
+    sum_init(&s);
+    int rc = check_inputs(&o, &err);
+    for (int i = 0; rc == 0 && i < o.ninputs; ++i)
+        rc = add_input_file(&s, &o.inputs[i], i, o.forced, &err);
+    char *history = NULL;
+    lam_writer *w = NULL;
+    if (rc == 0) {
+        history = lam_history_from_argv(argc, argv);
+        rc = lam_writer_open(o.out, o.gzip, &w, &err);
     }
-
-    char *history = lam_history_from_argv(argc, argv);
-    lam_writer *w = lam_writer_open(out, gzip);
-    if (kind == LAM_KIND_SPINFREE) {
-        if (o.drop.on) drop_spinfree(sf_acc, &o.drop);
-        lam_spinfree_describe(sf_acc, &meta);
-        lam_writer_header(w, kind, &meta, history);
-        if (sort) write_spinfree_sorted(w, sf_acc);
-        else lam_spinfree_write_terms(w, sf_acc);
-        lam_spinfree_free(sf_acc);
-    } else if (kind == LAM_KIND_PAULI) {
-        lam_pauli_set_merge(&pauli_acc, 1);
-        if (o.drop.on) drop_pauli(&pauli_acc, &o.drop);
-        if (sort) sort_pauli(&pauli_acc);
-        lam_meta_setf(&meta, "qubits", "%d", pauli_acc.nqubits);
-        /* merged by (string, label): strings are distinct only unlabelled */
-        if (!pauli_acc.group) lam_writer_set_distinct(w);
-        lam_writer_header(w, kind, &meta, history);
-        lam_pauli_write_terms(w, &pauli_acc);
-    } else {
-        lam_fermion_op ordered;
-        lam_fermion_normal_order(&fermion_acc, &ordered);
-        if (o.drop.on) drop_fermion(&ordered, &o.drop);
-        if (sort) sort_fermion(&ordered);
-        lam_meta_setf(&meta, "modes", "%d", ordered.nmodes);
-        lam_writer_header(w, kind, &meta, history);
-        lam_fermion_write_terms(w, &ordered);
-        lam_fermion_free(&ordered);
+    if (rc == 0) {
+        write_sum(&s, &o, w, history);
+        rc = lam_writer_close(w, &err);
     }
-    lam_writer_close(w);
-    lam_drop_say(&o.drop);
-    lam_pauli_set_free(&pauli_acc);
-    lam_fermion_free(&fermion_acc);
-    lam_meta_free(&meta);
+    if (rc == 0) lam_drop_say(&o.drop);
+    sum_free(&s);
     free(history);
-    free(inputs);
+    free(o.inputs);
+    if (rc != 0) lam_error_exit(&err);
     return 0;
 }
