@@ -164,25 +164,32 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
-static lam_spinfree *read_operator(lam_reader *r)
+static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
     lam_kind kind = lam_reader_kind(r);
-    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r);
+    *out = NULL;
+    if (kind == LAM_KIND_SPINFREE) {
+        *out = lam_spinfree_read(r);
+        return 0;
+    }
     if (kind == LAM_KIND_FERMION) {
         lam_spin_order order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
         lam_fermion_op op;
+        lam_spinfree *sf;
         lam_fermion_read(r, &op);
-        lam_spinfree *sf = lam_shift_fold_fermion(&op, order, lam_reader_name(r));
+        int rc = lam_shift_fold_fermion(&op, order, lam_reader_name(r), &sf, err);
+        lam_fermion_free(&op);
+        if (rc) return rc;
         sf->electrons = (int)lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n);
         sf->ms2 = (int)lam_reader_meta_long(r, "ms2", 0, -2L * sf->n, 2L * sf->n);
-        lam_fermion_free(&op);
-        return sf;
+        *out = sf;
+        return 0;
     }
     if (kind == LAM_KIND_UNKNOWN)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "an empty stream without a kind: header; nothing to shift");
-    lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "an empty stream without a kind: header; nothing to shift");
+    return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                        "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
 }
 
 static void resolve_target(const options *o, lam_spinfree *sf, const char *src, lam_shift **k)
@@ -219,10 +226,16 @@ static int emit_recorded(const options *o, int argc, char **argv)
     lam_meta *meta = lam_reader_meta(r);
     long n = lam_reader_meta_long(r, "orbitals", -1, 0, 4096);
     if (n < 0) n = lam_reader_meta_long(r, "modes", -2, 0, 8192) / 2;
+    lam_error err;
+    lam_shift *k = NULL;
     if (n < 0)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0, "no 'orbitals:' or 'modes:' line");
-    lam_shift *k = lam_shift_recorded(meta, (int)n, lam_reader_name(r));
-    if (!k) lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
+        lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0, "no 'orbitals:' or 'modes:' line");
+    else if (!lam_shift_recorded(meta, (int)n, lam_reader_name(r), &k, &err) && !k)
+        lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
+    if (!k) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     lam_meta out;
     lam_meta_init(&out);
     lam_meta_copy(&out, meta);
@@ -293,18 +306,30 @@ int main(int argc, char **argv)
     static lam_shift *k, *earlier;
     r = lam_reader_open(o.input);
     lam_progress("reading %s", lam_reader_name(r));
-    h = read_operator(r);
+    lam_error err;
+    lam_error_clear(&err);
+    if (read_operator(r, &h, &err)) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     lam_progress("read %d orbitals in %.2f s", h->n, lam_seconds() - t0);
     const char *src = lam_reader_name(r);
     lam_spinfree_require_real_symmetry(h, src, "the one-norm the shift minimizes");
     resolve_target(&o, h, src, &k);
-    earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
-    if (earlier && (earlier->electrons != k->electrons ||
-                    (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the stream was already shifted for %d electrons (2Sz %d); a second shift "
-                    "for %d (2Sz %d) would leave no block as in the original operator",
-                    earlier->electrons, earlier->ms2, k->electrons, k->ms2);
+    if (!lam_shift_recorded(lam_reader_meta(r), h->n, src, &earlier, &err) && earlier &&
+        (earlier->electrons != k->electrons ||
+         (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
+        lam_error_at(&err, LAM_EX_DATA, src, 0,
+                     "the stream was already shifted for %d electrons (2Sz %d); a second shift "
+                     "for %d (2Sz %d) would leave no block as in the original operator",
+                     earlier->electrons, earlier->ms2, k->electrons, k->ms2);
+    if (err.code) {
+        lam_shift_free(earlier);
+        lam_shift_free(k);
+        lam_spinfree_free(h);
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
 
     double t_lp = lam_seconds();
     lam_l1_problem lp;
