@@ -259,7 +259,12 @@ int main(int argc, char **argv)
     lam_factor_info info;
     options_from_cli(&c, sf->n, &o);
     double t0 = lam_seconds();
-    fr = lam_factor(sf, &o, &info);
+    lam_error err;
+    if (lam_factor(sf, &o, &info, &fr, &err)) {
+        lam_spinfree_free(sf);
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     lam_progress("%s: %d fragments in %.2f s", method_name(o.method), fr->nfrag,
                  lam_seconds() - t0);
 

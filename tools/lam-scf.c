@@ -278,14 +278,26 @@ int main(int argc, char **argv)
 
     lam_molecule *mol = held_molecule = lam_molecule_read_xyz(o.input, o.bohr);
     mol->charge = (int)o.charge;
-    lam_scf_closed_shell_electrons(mol);
+    lam_error err;
+    int electrons;
+    if (lam_scf_closed_shell_electrons(mol, &electrons, &err)) {
+        lam_molecule_free(mol);
+        lam_error_exit(&err);
+    }
     lam_basis *basis = held_basis = lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure);
     /* the largest possible active space bounds the memory before any work */
     int most_active = o.energy_only ? 1 : (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
     check_memory(&o, basis->nbf, most_active > 0 ? most_active : 1);
     FILE *out = open_output(o.output);
 
-    lam_scf *s = held_scf = lam_scf_run(mol, basis, &o.scf);
+    lam_scf *s;
+    if (lam_scf_run(mol, basis, &o.scf, &s, &err)) {
+        if (out != stdout) fclose(out);
+        lam_basis_free(basis);
+        lam_molecule_free(mol);
+        lam_error_exit(&err);
+    }
+    held_scf = s;
     if (!o.quiet)
         fprintf(stderr, "%s: RHF energy %.12f Eh after %d iterations (%d basis functions, "
                 "%d orbitals, E_nuc %.12f Eh; integrals %.2f s, iterations %.2f s)\n",
