@@ -144,16 +144,21 @@ static void parse_options(int argc, char **argv, options *o)
     o->input = optind < argc ? argv[optind] : NULL;
 }
 
-static lam_spinfree *read_operator(lam_reader *r)
+static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
     lam_kind kind = lam_reader_kind(r);
-    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r);
+    *out = NULL;
+    if (kind == LAM_KIND_SPINFREE) {
+        *out = lam_spinfree_read(r);
+        return 0;
+    }
     if (kind == LAM_KIND_UNKNOWN)
-        lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                    "an empty stream without a kind: header; nothing to rotate");
-    lam_fail_at(LAM_EX_DATA, lam_reader_name(r), 0,
-                "lam-rotate reads spinfree streams, not %s (orbitals are defined for "
-                "spin-free operators only)", lam_kind_name(kind));
+        return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                            "an empty stream without a kind: header; nothing to rotate");
+    return lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
+                        "lam-rotate reads spinfree streams, not %s (orbitals are defined for "
+                        "spin-free operators only)",
+                        lam_kind_name(kind));
 }
 
 /* A shift recorded by lam-shift names xi in the old orbitals; it is the
@@ -232,7 +237,11 @@ int main(int argc, char **argv)
     static lam_rotate_blocks blocks;
     static FILE *mf;
     r = lam_reader_open(o.input);
-    h = read_operator(r);
+    lam_error err;
+    if (read_operator(r, &h, &err)) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     const char *src = lam_reader_name(r);
     int n = h->n;
     lam_spinfree_require_real_symmetry(h, src, "the closed-form one-norm the rotation lowers");
@@ -254,7 +263,6 @@ int main(int argc, char **argv)
 
     int start_er = strcmp(o.start, "er") == 0;
     if (strcmp(o.start, "given") == 0 || start_er) u0 = identity(n);
-    lam_error err;
     held hd = {r, h, NULL, NULL, NULL, &blocks, NULL, NULL};
     if (!u0 && lam_rotate_read_matrix(o.start, n, &u0, &err)) give_up(&hd, &err);
     hd.u0 = u0;
