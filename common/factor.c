@@ -68,8 +68,9 @@ static void make_proper_rotation(int n, double *v)
     double *lu = new_matrix((size_t)n, (size_t)n);
     lapack_int *piv = lam_malloc(lam_mul_size((size_t)n, sizeof(lapack_int)));
     memcpy(lu, v, (size_t)n * n * sizeof(double));
-    lapack_int info = LAPACKE_dgetrf(LAPACK_ROW_MAJOR, n, n, lu, n, piv);
-    if (info < 0) lam_fail(LAM_EX_SOFTWARE, "dgetrf failed (info %d)", (int)info);
+    /* info < 0 flags an illegal argument, impossible with n > 0 and lda = n;
+     * info > 0 (singular) still leaves the factors whose signs count */
+    LAPACKE_dgetrf(LAPACK_ROW_MAJOR, n, n, lu, n, piv);
     int negative = 0;
     for (int i = 0; i < n; ++i) {
         if (lu[(size_t)i * n + i] < 0) negative ^= 1;
@@ -601,8 +602,8 @@ static long fit_one_fragment(int n, double *resid, const lam_factor_options *o, 
     return iters;
 }
 
-static void full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragment_list *fl,
-                      lam_factor_info *info)
+static int full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragment_list *fl,
+                     lam_factor_info *info, lam_error *err)
 {
     int n = sf->n;
     size_t n4 = (size_t)n * n * n * n;
@@ -615,10 +616,10 @@ static void full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragm
             free(resid);
             free(u);
             free(lam);
-            lam_fail(LAM_EX_DATA,
-                     "full-rank fragments: residual %.3g Eh above --tol %.3g after %d "
-                     "fragments (raise --max-fragments or --tol)",
-                     norm, o->tol, fl->count);
+            return lam_error_set(err, LAM_EX_DATA,
+                                 "full-rank fragments: residual %.3g Eh above --tol %.3g after %d "
+                                 "fragments (raise --max-fragments or --tol)",
+                                 norm, o->tol, fl->count);
         }
         info->iterations += fit_one_fragment(n, resid, o, u, lam);
         list_push(fl, u, lam);
@@ -629,16 +630,17 @@ static void full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragm
             free(resid);
             free(u);
             free(lam);
-            lam_fail(LAM_EX_DATA,
-                     "full-rank fragments: fragment %d does not lower the residual "
-                     "(%.3g Eh, --tol %.3g is below what the fit can reach)",
-                     fl->count, norm, o->tol);
+            return lam_error_set(err, LAM_EX_DATA,
+                                 "full-rank fragments: fragment %d does not lower the residual "
+                                 "(%.3g Eh, --tol %.3g is below what the fit can reach)",
+                                 fl->count, norm, o->tol);
         }
     }
     info->residual_norm = norm;
     free(resid);
     free(u);
     free(lam);
+    return 0;
 }
 
 /* ------------------------------------------------------------------ */
@@ -729,15 +731,18 @@ void lam_factor_defaults(lam_factor_options *o, lam_factor_method method, int n)
     o->max_iter = 500;
 }
 
-lam_fragments *lam_factor(const lam_spinfree *sf, const lam_factor_options *o,
-                          lam_factor_info *info)
+int lam_factor(const lam_spinfree *sf, const lam_factor_options *o, lam_factor_info *info, lam_fragments **out,
+               lam_error *err)
 {
     fragment_list fl = {sf->n, 0, 0, NULL, NULL};
     memset(info, 0, sizeof *info);
-    if (o->method == LAM_FACTOR_DOUBLE)
+    *out = NULL;
+    if (o->method == LAM_FACTOR_DOUBLE) {
         double_factorization(sf, o, &fl, info);
-    else
-        full_rank(sf, o, &fl, info);
+    } else if (full_rank(sf, o, &fl, info, err)) {
+        list_free(&fl);
+        return err->code;
+    }
     info->factors_kept = fl.count;
     lam_fragments *fr = lam_fragments_new(sf->n, fl.count + 1);
     fr->electrons = sf->electrons;
@@ -752,5 +757,6 @@ lam_fragments *lam_factor(const lam_spinfree *sf, const lam_factor_options *o,
     add_one_body_fragment(fr, sf, o, info);
     lam_fragments_merge(fr);
     measure_reconstruction(fr, sf, info);
-    return fr;
+    *out = fr;
+    return 0;
 }

@@ -26,6 +26,7 @@
 #include <stddef.h>
 #include "fragments.h"
 #include "spinfree.h"
+#include "util.h"
 
 typedef enum { LAM_FACTOR_DOUBLE, LAM_FACTOR_FULL_RANK } lam_factor_method;
 
@@ -58,10 +59,11 @@ typedef struct {
 } lam_factor_info;
 
 /* Needs real symmetric integrals (lam_spinfree_validate with real_for
- * first).  Returns the fragments; info filled.  Full rank exits 65 when
- * max_fragments is reached with the residual above tol. */
-lam_fragments *lam_factor(const lam_spinfree *sf, const lam_factor_options *o,
-                          lam_factor_info *info);
+ * first).  The fragments into *out; info filled.  Full rank fails with
+ * exit 65 when max_fragments is reached with the residual above tol, or
+ * when a fragment does not lower the residual. */
+int lam_factor(const lam_spinfree *sf, const lam_factor_options *o, lam_factor_info *info, lam_fragments **out,
+               lam_error *err);
 
 /* ---- building blocks, exposed for the unit tests ---- */
 

@@ -22,11 +22,12 @@ static int by_flip(const void *a, const void *b)
     return (s->z > t->z) - (s->z < t->z);
 }
 
-lam_fockop *lam_fockop_new(const lam_pauli_set *s, const char *src)
+int lam_fockop_new(const lam_pauli_set *s, const char *src, lam_fockop **out, lam_error *err)
 {
+    *out = NULL;
     if (s->nqubits > 64)
-        lam_fail_at(LAM_EX_DATA, src, 0, "%d qubits: the Fock-space path handles at most 64",
-                    s->nqubits);
+        return lam_error_at(err, LAM_EX_DATA, src, 0, "%d qubits: the Fock-space path handles at most 64",
+                            s->nqubits);
     lam_fockop *op = lam_calloc(1, sizeof *op);
     op->nqubits = s->nqubits;
     size_t nt = s->count;
@@ -57,7 +58,8 @@ lam_fockop *lam_fockop_new(const lam_pauli_set *s, const char *src)
     }
     op->first[op->nflip] = nt;
     free(t);
-    return op;
+    *out = op;
+    return 0;
 }
 
 void lam_fockop_free(lam_fockop *op)
@@ -229,13 +231,19 @@ static uint64_t next_string(uint64_t v)
     return (((r ^ v) >> 2) / c) | r;
 }
 
-static sector_index *sector_index_new(const lam_fockop *op, const lam_fock_sector *sec, int list)
+/* NULL (err filled) when the sector is too large to index. */
+static sector_index *sector_index_new(const lam_fockop *op, const lam_fock_sector *sec, int list,
+                                      lam_error *err)
 {
+    size_t dim = lam_fock_sector_dim(op, sec);
+    if (dim == SIZE_MAX) {
+        lam_error_set(err, LAM_EX_SOFTWARE, "sector too large to index");
+        return NULL;
+    }
     sector_index *ix = lam_calloc(1, sizeof *ix);
     ix->op = op;
     ix->sec = *sec;
-    ix->dim = lam_fock_sector_dim(op, sec);
-    if (ix->dim == SIZE_MAX) lam_fail(LAM_EX_SOFTWARE, "sector too large to index");
+    ix->dim = dim;
     if (sec->full) return ix;
     compress_tables(sec->mask_a, ix->ctab_a);
     compress_tables(sec->mask_b, ix->ctab_b);
@@ -373,10 +381,11 @@ size_t lam_fock_solve_bytes(const lam_fockop *op, const lam_fock_sector *sec,
     return bytes + lam_eigen_bytes(n, tmpl->max_subspace, tmpl->dense_limit);
 }
 
-void lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec,
-                    const lam_eigen_problem *tmpl, lam_eigen_result *lo, lam_eigen_result *hi)
+int lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec, const lam_eigen_problem *tmpl,
+                   lam_eigen_result *lo, lam_eigen_result *hi, lam_error *err)
 {
-    sector_index *ix = sector_index_new(op, sec, 1);
+    sector_index *ix = sector_index_new(op, sec, 1, err);
+    if (!ix) return err->code;
     size_t n = op->is_complex ? 2 * ix->dim : ix->dim;
     double *diag = lam_malloc(lam_mul_size(n, sizeof(double)));
     for (size_t i = 0; i < ix->dim; ++i) {
@@ -391,6 +400,7 @@ void lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec,
     lam_eigen_ends(&p, lo, hi);
     free(diag);
     sector_index_free(ix);
+    return 0;
 }
 
 /* ---- inner bounds ---- */
@@ -464,10 +474,11 @@ static int by_weight(const void *a, const void *b)
     return (x < y) - (x > y);
 }
 
-static double ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subspace,
-                         double sign)
+static int ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double sign,
+                      double *value, lam_error *err)
 {
-    sector_index *ix = sector_index_new(op, sec, 0);
+    sector_index *ix = sector_index_new(op, sec, 0, err);
+    if (!ix) return err->code;
     uint64_t b0 = descend(op, sec, sign);
     neighbour *nb = lam_malloc(lam_mul_size(op->nflip + 1, sizeof *nb));
     size_t k = 0;
@@ -503,15 +514,17 @@ static double ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int s
     free(a);
     free(w);
     sector_index_free(ix);
-    return v;
+    *value = v;
+    return 0;
 }
 
-void lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double *lo,
-                     double *hi)
+int lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double *lo, double *hi,
+                    lam_error *err)
 {
     if (subspace < 1) subspace = 1;
-    if (lo) *lo = ritz_bound(op, sec, subspace, 1.0);
-    if (hi) *hi = ritz_bound(op, sec, subspace, -1.0);
+    if (lo && ritz_bound(op, sec, subspace, 1.0, lo, err)) return err->code;
+    if (hi && ritz_bound(op, sec, subspace, -1.0, hi, err)) return err->code;
+    return 0;
 }
 
 /* ---- reading and what is conserved ---- */

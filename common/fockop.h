@@ -25,6 +25,7 @@
 #include "fermion.h"
 #include "pauli.h"
 #include "stream.h"
+#include "util.h"
 
 typedef struct {
     int nqubits;
@@ -36,9 +37,9 @@ typedef struct {
     int is_complex;    /* some element is imaginary */
 } lam_fockop;
 
-/* From a Pauli set (merged or not) of at most 64 qubits; exit 65 naming src
- * when there are more qubits. */
-lam_fockop *lam_fockop_new(const lam_pauli_set *s, const char *src);
+/* *out from a Pauli set (merged or not) of at most 64 qubits; fails with
+ * exit 65 naming src when there are more qubits. */
+int lam_fockop_new(const lam_pauli_set *s, const char *src, lam_fockop **out, lam_error *err);
 void lam_fockop_free(lam_fockop *op);
 
 /* Its one-norm is lam_fockop_lambda (norm.h). */
@@ -85,17 +86,18 @@ void lam_fockop_set_threads(int threads);
 size_t lam_fock_solve_bytes(const lam_fockop *op, const lam_fock_sector *sec,
                             const lam_eigen_problem *tmpl);
 /* Lowest (lo) and highest (hi) eigenvalue of H on the sector (either may
- * be NULL).  The caller has checked that the sector is invariant. */
-void lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec,
-                    const lam_eigen_problem *tmpl, lam_eigen_result *lo,
-                    lam_eigen_result *hi);
+ * be NULL).  The caller has checked that the sector is invariant; fails
+ * with exit 70 when the sector is too large to index. */
+int lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec, const lam_eigen_problem *tmpl,
+                   lam_eigen_result *lo, lam_eigen_result *hi, lam_error *err);
 
 /* Inner bounds without holding the sector: the lowest and highest
  * diagonal elements found by descent over single bit swaps within each
  * mask, then Rayleigh-Ritz over the best string and up to subspace - 1 of
  * its strongest neighbours (strings the operator reaches from it).  The
- * results are Rayleigh quotients: *lo >= E_min, *hi <= E_max. */
-void lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec,
-                     int subspace, double *lo, double *hi);
+ * results are Rayleigh quotients: *lo >= E_min, *hi <= E_max.  Fails
+ * with exit 70 when the sector is too large to index. */
+int lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double *lo, double *hi,
+                    lam_error *err);
 
 #endif

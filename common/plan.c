@@ -76,7 +76,7 @@ static char *format_bytes(double b, char *buf, size_t size)
     return buf;
 }
 
-void lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allow_bounds)
+int lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allow_bounds, lam_error *err)
 {
     for (int i = 0; i < p->count; ++i) {
         lam_plan_entry *e = &p->s[i];
@@ -90,13 +90,15 @@ void lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allo
         char b1[32], b2[32], what[48];
         lam_plan_label(e, what, sizeof what);
         if (isinf(need))
-            lam_fail(LAM_EX_MEMORY, "%s cannot be held (dimension beyond reach); --bounds gives inner bounds",
-                     what);
-        lam_fail(LAM_EX_MEMORY,
-                 "%s would need %s for an exact solve (dimension %zu), over --max-memory %s; "
-                 "--bounds gives inner bounds instead",
-                 what, format_bytes(need, b1, sizeof b1), e->dim, format_bytes(max_memory, b2, sizeof b2));
+            return lam_error_set(err, LAM_EX_MEMORY,
+                                 "%s cannot be held (dimension beyond reach); --bounds gives inner bounds", what);
+        return lam_error_set(err, LAM_EX_MEMORY,
+                             "%s would need %s for an exact solve (dimension %zu), over --max-memory %s; "
+                             "--bounds gives inner bounds instead",
+                             what, format_bytes(need, b1, sizeof b1), e->dim,
+                             format_bytes(max_memory, b2, sizeof b2));
     }
+    return 0;
 }
 
 /* ---- time ---- */
@@ -242,15 +244,16 @@ static void write_value(FILE *f, double x)
     }
 }
 
-void lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e)
+int lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e, lam_error *err)
 {
     char path[4096], tmp[4200];
     if (mkdir(dir, 0777) != 0 && errno != EEXIST)
-        lam_fail(LAM_EX_IOERR, "%s: cannot create the resume directory: %s", dir, strerror(errno));
+        return lam_error_set(err, LAM_EX_IOERR, "%s: cannot create the resume directory: %s", dir,
+                             strerror(errno));
     block_path(dir, e, path, sizeof path);
     snprintf(tmp, sizeof tmp, "%s.tmp", path);
     FILE *f = fopen(tmp, "w");
-    if (!f) lam_fail(LAM_EX_IOERR, "%s: cannot write: %s", tmp, strerror(errno));
+    if (!f) return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write: %s", tmp, strerror(errno));
     fprintf(f, "lamina-range-block 1\n%016llx %d %d %zu", (unsigned long long)fp, e->na, e->nb, e->dim);
     write_value(f, e->lo);
     write_value(f, e->hi);
@@ -258,5 +261,6 @@ void lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e
     write_value(f, e->res_hi);
     fprintf(f, " %d %d %d\n", e->exact_lo, e->exact_hi, e->use_bounds);
     if (fclose(f) != 0 || rename(tmp, path) != 0)
-        lam_fail(LAM_EX_IOERR, "%s: cannot write: %s", path, strerror(errno));
+        return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write: %s", path, strerror(errno));
+    return 0;
 }

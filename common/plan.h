@@ -8,6 +8,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "sci.h"
+#include "util.h"
 
 typedef struct {
     int na, nb;        /* nb = -1: a total-number block; na = -1: the Fock space */
@@ -46,8 +47,8 @@ void lam_plan_label(const lam_plan_entry *e, char *buf, size_t size);
 
 /* Marks entries past max_memory (base + bytes) for bounds when allowed
  * (allow_bounds 1), every entry when allow_bounds is 2 (--bounds=always),
- * else exit 75 with what the solve would need. */
-void lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allow_bounds);
+ * else fails with exit 75 and what the solve would need. */
+int lam_plan_check_memory(lam_plan *p, double base, double max_memory, int allow_bounds, lam_error *err);
 
 /* ---- time ---- */
 
@@ -78,7 +79,7 @@ uint64_t lam_plan_fingerprint(uint64_t h, const void *data, size_t bytes);
  * kept; 1 when it was. */
 int lam_plan_resume_read(const char *dir, uint64_t fp, lam_plan_entry *e);
 /* Keep entry e in dir (written to a temporary file and renamed, so that a
- * kill never leaves half a block); exit 74 when it cannot. */
-void lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e);
+ * kill never leaves half a block); fails with exit 74 when it cannot. */
+int lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e, lam_error *err);
 
 #endif

@@ -923,51 +923,69 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
 
 /* ---- the matrix file ---- */
 
-double *lam_rotate_read_matrix(const char *path, int n)
+/* The rows of the matrix file into u; the line number reached in *lineno. */
+static int read_matrix_rows(FILE *f, const char *path, int n, double *u, long *lineno, lam_error *err)
 {
-    FILE *f = fopen(path, "r");
-    if (!f) lam_fail(LAM_EX_NOINPUT, "%s: cannot open: %s", path, strerror(errno));
-    double *u = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
     char *line = NULL;
     size_t cap = 0;
-    long lineno = 0;
-    int rows = 0;
-    while (getline(&line, &cap, f) != -1) {
-        ++lineno;
+    int rows = 0, rc = 0;
+    while (!rc && getline(&line, &cap, f) != -1) {
+        ++*lineno;
         char *save = NULL, *tok = strtok_r(line, " \t\r\n", &save);
         if (!tok || tok[0] == '#') continue;
-        if (rows == n)
-            lam_fail_at(LAM_EX_DATA, path, lineno, "more than %d rows (the operator has %d orbitals)",
-                        n, n);
+        if (rows == n) {
+            rc = lam_error_at(err, LAM_EX_DATA, path, *lineno, "more than %d rows (the operator has %d orbitals)",
+                              n, n);
+            break;
+        }
         int cols = 0;
-        for (; tok; tok = strtok_r(NULL, " \t\r\n", &save)) {
+        for (; tok && !rc; tok = strtok_r(NULL, " \t\r\n", &save)) {
             double v;
             if (lam_parse_double(tok, &v) != 0)
-                lam_fail_at(LAM_EX_DATA, path, lineno, "'%s' is not a finite number", tok);
-            if (cols == n)
-                lam_fail_at(LAM_EX_DATA, path, lineno, "more than %d numbers in a row", n);
-            u[(size_t)rows * n + cols++] = v;
+                rc = lam_error_at(err, LAM_EX_DATA, path, *lineno, "'%s' is not a finite number", tok);
+            else if (cols == n)
+                rc = lam_error_at(err, LAM_EX_DATA, path, *lineno, "more than %d numbers in a row", n);
+            else
+                u[(size_t)rows * n + cols++] = v;
         }
-        if (cols != n)
-            lam_fail_at(LAM_EX_DATA, path, lineno, "%d numbers in a row, want %d", cols, n);
+        if (!rc && cols != n)
+            rc = lam_error_at(err, LAM_EX_DATA, path, *lineno, "%d numbers in a row, want %d", cols, n);
         ++rows;
     }
-    if (ferror(f)) lam_fail(LAM_EX_IOERR, "%s: read failed", path);
-    fclose(f);
     free(line);
+    if (rc) return rc;
+    if (ferror(f)) return lam_error_set(err, LAM_EX_IOERR, "%s: read failed", path);
     if (rows != n)
-        lam_fail_at(LAM_EX_DATA, path, lineno, "%d rows, want %d (the operator's orbitals)", rows,
-                    n);
-    double err = lam_rotate_orthogonality_error(n, u);
-    if (!(err <= LAM_ROTATE_ORTHO_TOL))
-        lam_fail_at(LAM_EX_DATA, path, lineno,
-                    "not orthogonal: max |U^T U - I| = %.3g, above %.0e", err,
-                    LAM_ROTATE_ORTHO_TOL);
-    lam_rotate_orthonormalize(n, u);
-    return u;
+        return lam_error_at(err, LAM_EX_DATA, path, *lineno, "%d rows, want %d (the operator's orbitals)", rows,
+                            n);
+    return 0;
 }
 
-void lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u)
+int lam_rotate_read_matrix(const char *path, int n, double **out, lam_error *err)
+{
+    *out = NULL;
+    FILE *f = fopen(path, "r");
+    if (!f) return lam_error_set(err, LAM_EX_NOINPUT, "%s: cannot open: %s", path, strerror(errno));
+    double *u = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
+    long lineno = 0;
+    int rc = read_matrix_rows(f, path, n, u, &lineno, err);
+    fclose(f);
+    if (!rc) {
+        double ortho = lam_rotate_orthogonality_error(n, u);
+        if (!(ortho <= LAM_ROTATE_ORTHO_TOL))
+            rc = lam_error_at(err, LAM_EX_DATA, path, lineno, "not orthogonal: max |U^T U - I| = %.3g, above %.0e",
+                              ortho, LAM_ROTATE_ORTHO_TOL);
+    }
+    if (rc) {
+        free(u);
+        return rc;
+    }
+    lam_rotate_orthonormalize(n, u);
+    *out = u;
+    return 0;
+}
+
+int lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u, lam_error *err)
 {
     char buf[LAM_DOUBLE_BUF];
     for (int i = 0; i < n; ++i) {
@@ -977,6 +995,7 @@ void lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u)
         }
         fputc('\n', f);
     }
-    if (fflush(f) != 0 || ferror(f) || fclose(f) != 0)
-        lam_fail(LAM_EX_IOERR, "%s: write failed", path);
+    int bad = fflush(f) != 0 || ferror(f);
+    if (fclose(f) != 0 || bad) return lam_error_set(err, LAM_EX_IOERR, "%s: write failed", path);
+    return 0;
 }

@@ -23,6 +23,7 @@
 
 #include <stdint.h>
 #include "spinfree.h"
+#include "util.h"
 
 /* out = the operator in the orbitals U (n x n, row-major), with the
  * 8-fold symmetry of real integrals made exact (the rounding of the
@@ -130,18 +131,18 @@ double lam_rotate_subtract_shift(lam_spinfree *sf);
  * default options). */
 double lam_rotate_grouped_lambda(const lam_spinfree *sf);
 
-/* Read an n x n rotation (one row a line, blank lines and '#' comments
- * skipped); exit 65 with path:line on a bad number, a wrong row length or
- * row count, or when max |U^T U - I| > LAM_ROTATE_ORTHO_TOL; exit 66 when
- * it cannot be opened.  A matrix within the tolerance is orthonormalized
+/* Read an n x n rotation into *out (one row a line, blank lines and '#'
+ * comments skipped); fails with exit 65 and path:line on a bad number, a wrong row length or
+ * row count, or when max |U^T U - I| > LAM_ROTATE_ORTHO_TOL; 66 when it
+ * cannot be opened, 74 when reading fails.  A matrix within the tolerance is orthonormalized
  * (Lowdin) so that the spectrum is kept to rounding. */
 #define LAM_ROTATE_ORTHO_TOL 1e-8
-double *lam_rotate_read_matrix(const char *path, int n);
+int lam_rotate_read_matrix(const char *path, int n, double **out, lam_error *err);
 /* Write U to f (opened by the caller before the work, named path in
- * messages), one row a line, 17 significant digits, and close it; exit 74
- * on a write error. */
+ * messages), one row a line, 17 significant digits, and close it; fails
+ * with exit 74 on a write error. */
 #include <stdio.h>
-void lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u);
+int lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u, lam_error *err);
 
 /* Random orthogonal exp(K), K antisymmetric within the blocks with normal
  * entries of standard deviation sigma (radians), from a seed. */

@@ -26,17 +26,18 @@ void lam_scf_options_default(lam_scf_options *o)
     o->report = 0;
 }
 
-int lam_scf_closed_shell_electrons(const lam_molecule *mol)
+int lam_scf_closed_shell_electrons(const lam_molecule *mol, int *electrons, lam_error *err)
 {
     int n = lam_molecule_electrons(mol);
     if (n <= 0)
-        lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                    "no electrons left with charge %+d", mol->charge);
+        return lam_error_at(err, LAM_EX_DATA, mol->source, 0, "no electrons left with charge %+d", mol->charge);
     if (n % 2)
-        lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                    "%d electrons with charge %+d: an open shell; lam-scf does "
-                    "closed-shell RHF only (change --charge)", n, mol->charge);
-    return n;
+        return lam_error_at(err, LAM_EX_DATA, mol->source, 0,
+                            "%d electrons with charge %+d: an open shell; lam-scf does "
+                            "closed-shell RHF only (change --charge)",
+                            n, mol->charge);
+    *electrons = n;
+    return 0;
 }
 
 double lam_scf_bytes(int nbf)
@@ -828,10 +829,12 @@ static double *atomic_densities(const lam_basis *b, const lam_molecule *mol,
     return d;
 }
 
-lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
-                     const lam_scf_options *o)
+int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_options *o, lam_scf **out,
+                lam_error *err)
 {
-    int nelec = lam_scf_closed_shell_electrons(mol);
+    int nelec;
+    *out = NULL;
+    if (lam_scf_closed_shell_electrons(mol, &nelec, err)) return err->code;
     int n = b->nbf;
     size_t nn = lam_mul_size((size_t)n, (size_t)n);
     lam_scf *s = lam_calloc(1, sizeof *s);
@@ -858,8 +861,7 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
         free(ovl);
         free(x);
         lam_scf_free(s);
-        lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                    "%d electrons do not fit in %d orbitals", nelec, m);
+        return lam_error_at(err, LAM_EX_DATA, mol->source, 0, "%d electrons do not fit in %d orbitals", nelec, m);
     }
     t0 = lam_seconds();
     double *guess = o->start == LAM_START_ATOMS ? atomic_densities(b, mol, o) : NULL;
@@ -889,16 +891,17 @@ lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
     free(x);
     if (!r.converged) {
         lam_scf_free(s);
-        lam_fail_at(LAM_EX_DATA, mol->source, 0,
-                    "RHF did not converge in %d iterations (last energy change "
-                    "%.2e Eh, gradient %.2e); try --max-iter or looser --energy-tol/--gradient-tol",
-                    o->max_iter, fabs(r.change), r.gradient);
+        return lam_error_at(err, LAM_EX_DATA, mol->source, 0,
+                            "RHF did not converge in %d iterations (last energy change "
+                            "%.2e Eh, gradient %.2e); try --max-iter or looser --energy-tol/--gradient-tol",
+                            o->max_iter, fabs(r.change), r.gradient);
     }
     if (stable != 0) {
         lam_scf_free(s);
-        lam_fail_at(LAM_EX_DATA, mol->source, 0, "%s", unstable);
+        return lam_error_at(err, LAM_EX_DATA, mol->source, 0, "%s", unstable);
     }
-    return s;
+    *out = s;
+    return 0;
 }
 
 void lam_scf_free(lam_scf *s)

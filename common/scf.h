@@ -17,6 +17,7 @@
 #include "basis.h"
 #include "molecule.h"
 #include "spinfree.h"
+#include "util.h"
 
 /* Where the iterations start: atomic densities or the core Hamiltonian. */
 enum { LAM_START_CORE, LAM_START_ATOMS };
@@ -60,15 +61,17 @@ typedef struct {
     double unstable_energy, unstable_eigenvalue;
 } lam_scf;
 
-/* Number of electrons of a closed shell: exit 65 with the reason when
- * mol with its charge is an open shell or has no electrons. */
-int lam_scf_closed_shell_electrons(const lam_molecule *mol);
+/* Number of electrons of a closed shell into *electrons; fails with exit
+ * 65 and the reason when mol with its charge is an open shell or has no
+ * electrons. */
+int lam_scf_closed_shell_electrons(const lam_molecule *mol, int *electrons, lam_error *err);
 
-/* RHF ground state.  exit 65 when the iterations do not converge, or
- * when the solution is unstable and o->stability is CHECK, or an
- * instability could not be followed to a stable solution. */
-lam_scf *lam_scf_run(const lam_molecule *mol, const lam_basis *b,
-                     const lam_scf_options *o);
+/* RHF ground state into *out.  Fails with exit 65 when the molecule is
+ * not a closed shell, when the iterations do not converge, or when the
+ * solution is unstable and o->stability is CHECK, or an instability could
+ * not be followed to a stable solution. */
+int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_options *o, lam_scf **out,
+                lam_error *err);
 void lam_scf_free(lam_scf *s);
 
 /* Bytes lam_scf_run keeps (integrals, supermatrix, matrices) for nbf

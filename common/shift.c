@@ -156,7 +156,11 @@ static void affine_add(affine *a, int idx, double v)
             a->val[i] += v;
             return;
         }
-    if (a->n == a->cap) lam_fail(LAM_EX_SOFTWARE, "shift: affine form overflow");
+    if (a->n == a->cap) {
+        a->cap *= 2;
+        a->idx = lam_realloc(a->idx, lam_mul_size((size_t)a->cap, sizeof *a->idx));
+        a->val = lam_realloc(a->val, lam_mul_size((size_t)a->cap, sizeof *a->val));
+    }
     a->idx[a->n] = idx;
     a->val[a->n++] = v;
 }
@@ -500,11 +504,11 @@ static void fold_free(fold_work *fw)
     lam_fermion_free(&fw->op);
 }
 
-static _Noreturn void not_spin_free(fold_work *fw, long line, const char *why)
+static int not_spin_free(fold_work *fw, long line, const char *why, lam_error *err)
 {
     fold_free(fw);
     lam_spinfree_free(fw->sf);
-    lam_fail_at(LAM_EX_DATA, fw->src, line, "the operator is not spin-free: %s", why);
+    return lam_error_at(err, LAM_EX_DATA, fw->src, line, "the operator is not spin-free: %s", why);
 }
 
 static size_t idx4(int n, int p, int q, int r, int s)
@@ -516,12 +520,13 @@ static size_t idx4(int n, int p, int q, int r, int s)
  * the order a+_(p up) a+_(r down) a_(s down) a_(q up), is (pq|rs) of
  * 1/2 sum (pq|rs) e_pqrs.  Equal-spin pairs are then checked against
  * (pw|yz) - (pz|yw), which is what a spin-free operator gives them. */
-lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order order,
-                                     const char *src)
+int lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order order, const char *src,
+                           lam_spinfree **out, lam_error *err)
 {
+    *out = NULL;
     if (in->nmodes % 2 != 0)
-        lam_fail_at(LAM_EX_DATA, src, 0,
-                    "the operator is not spin-free: an odd number of modes (%d)", in->nmodes);
+        return lam_error_at(err, LAM_EX_DATA, src, 0,
+                            "the operator is not spin-free: an odd number of modes (%d)", in->nmodes);
     fold_work fw;
     memset(&fw, 0, sizeof fw);
     lam_fermion_normal_order(in, &fw.op);
@@ -551,19 +556,19 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
         int cre = 0;
         for (size_t i = 0; i < len; ++i) cre += LAM_LADDER_IS_CREATOR(o[i]) ? 1 : 0;
         if ((len != 2 && len != 4) || 2 * (size_t)cre != len)
-            not_spin_free(&fw, op->line[k], "a term that is not a+ a or a+ a+ a a");
+            return not_spin_free(&fw, op->line[k], "a term that is not a+ a or a+ a+ a a", err);
         int p[4], s[4];
         for (size_t i = 0; i < len; ++i) orbital_of(&fw, LAM_LADDER_MODE(o[i]), &p[i], &s[i]);
         if (len == 2) {
-            if (s[0] != s[1]) not_spin_free(&fw, op->line[k], "a term that flips a spin");
+            if (s[0] != s[1]) return not_spin_free(&fw, op->line[k], "a term that flips a spin", err);
             fw.t[s[0]][p[0] * n + p[1]] += c;
             continue;
         }
         /* a+_0 a+_1 a_2 a_3 */
         if (s[0] + s[1] != s[2] + s[3])
-            not_spin_free(&fw, op->line[k], "a term that changes Sz");
+            return not_spin_free(&fw, op->line[k], "a term that changes Sz", err);
         if (s[0] == s[1]) {
-            if (s[2] != s[0]) not_spin_free(&fw, op->line[k], "a term that flips spins");
+            if (s[2] != s[0]) return not_spin_free(&fw, op->line[k], "a term that flips spins", err);
             /* creators descend and annihilators ascend in mode, hence in
              * orbital within one spin */
             size_t i = idx4(n, p[0], p[1], p[2], p[3]);
@@ -579,7 +584,7 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
     double tol = 1e-12 * fmax(big, 1e-300);
     for (int i = 0; i < n * n; ++i) {
         if (fabs(fw.t[0][i] - fw.t[1][i]) > tol)
-            not_spin_free(&fw, 0, "the one-body terms of the two spins differ");
+            return not_spin_free(&fw, 0, "the one-body terms of the two spins differ", err);
         sf->h[i] = 0.5 * (fw.t[0][i] + fw.t[1][i]);
     }
     for (int a = 0; a < n; ++a)
@@ -587,7 +592,7 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
             for (int c = 0; c < n; ++c)
                 for (int d = 0; d < n; ++d)
                     if (fabs(LAM_G(sf, a, b, c, d) - LAM_G(sf, c, d, a, b)) > tol)
-                        not_spin_free(&fw, 0, "up-down and down-up pair terms differ");
+                        return not_spin_free(&fw, 0, "up-down and down-up pair terms differ", err);
     for (int sp = 0; sp < 2; ++sp)
         for (int x = 0; x < n; ++x)
             for (int y = 0; y < x; ++y)
@@ -601,31 +606,22 @@ lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *in, lam_spin_order or
                                      "equal-spin pair term (orbitals %d %d %d %d, spin %s) is "
                                      "%.6g, its opposite-spin terms imply %.6g",
                                      x, y, z, w, sp ? "down" : "up", fw.same[sp][i], want);
-                            not_spin_free(&fw, fw.same_line[sp][i], why);
+                            return not_spin_free(&fw, fw.same_line[sp][i], why, err);
                         }
                     }
     fold_free(&fw);
-    return sf;
+    *out = sf;
+    return 0;
 }
 
 /* ---- an earlier shift recorded in the metadata ---- */
 
-/* k (may be NULL) is freed first so that a failure leaks nothing */
-static _Noreturn void bad_record(const char *src, const lam_meta_entry *e, const char *why,
-                                 lam_shift *k)
+static int bad_record(const char *src, const lam_meta_entry *e, const char *why, lam_error *err)
 {
-    lam_shift_free(k);
-    lam_fail_at(LAM_EX_DATA, src, e->line, "%s: %s '%s'", why, e->key, e->value);
+    return lam_error_at(err, LAM_EX_DATA, src, e->line, "%s: %s '%s'", why, e->key, e->value);
 }
 
-static double record_number(const char *src, const lam_meta_entry *e, lam_shift *k)
-{
-    double v;
-    if (lam_parse_double(e->value, &v) != 0) bad_record(src, e, "not a number", k);
-    return v;
-}
-
-static void record_matrix(const char *src, const lam_meta_entry *e, lam_shift *k, int *idx)
+static int record_matrix(const char *src, const lam_meta_entry *e, lam_shift *k, int *idx, lam_error *err)
 {
     char buf[256];
     snprintf(buf, sizeof buf, "%s", e->value);
@@ -635,45 +631,56 @@ static void record_matrix(const char *src, const lam_meta_entry *e, lam_shift *k
     double v;
     if (!tp || !tq || !tv || strtok_r(NULL, " \t", &save) || lam_parse_long(tp, &p) != 0 ||
         lam_parse_long(tq, &q) != 0 || lam_parse_double(tv, &v) != 0)
-        bad_record(src, e, "want 'p q value'", k);
-    if (p < 0 || q < 0 || p >= k->n || q >= k->n) bad_record(src, e, "orbital out of range", k);
-    if (idx[p * k->n + q] < 0) bad_record(src, e, "not among shift-terms", k);
+        return bad_record(src, e, "want 'p q value'", err);
+    if (p < 0 || q < 0 || p >= k->n || q >= k->n) return bad_record(src, e, "orbital out of range", err);
+    if (idx[p * k->n + q] < 0) return bad_record(src, e, "not among shift-terms", err);
     k->x[idx[p * k->n + q]] += v;
+    return 0;
 }
 
-lam_shift *lam_shift_recorded(const lam_meta *meta, int n, const char *src)
+/* One shift-* entry into k. */
+static int record_entry(const char *src, const lam_meta_entry *e, lam_shift *k, lam_error *err)
 {
+    int *slot = NULL;
+    if (strcmp(e->key, "shift-a1") == 0) slot = &k->ia1;
+    else if (strcmp(e->key, "shift-a2") == 0) slot = &k->ia2;
+    else if (strcmp(e->key, "shift-b1") == 0) slot = &k->ib1;
+    else if (strcmp(e->key, "shift-b2") == 0) slot = &k->ib2;
+    if (slot) {
+        double v;
+        if (lam_parse_double(e->value, &v) != 0) return bad_record(src, e, "not a number", err);
+        if (*slot < 0 && v != 0) return bad_record(src, e, "not among shift-terms", err);
+        if (*slot >= 0) k->x[*slot] += v;
+    } else if (strcmp(e->key, "shift-xi") == 0) {
+        return record_matrix(src, e, k, k->ixi, err);
+    } else if (strcmp(e->key, "shift-zeta") == 0) {
+        return record_matrix(src, e, k, k->izeta, err);
+    }
+    return 0;
+}
+
+int lam_shift_recorded(const lam_meta *meta, int n, const char *src, lam_shift **out, lam_error *err)
+{
+    *out = NULL;
     const lam_meta_entry *terms = lam_meta_find(meta, "shift-terms");
-    if (!terms) return NULL;
+    if (!terms) return 0;
     unsigned mask;
-    if (lam_shift_parse_terms(terms->value, &mask) != 0)
-        bad_record(src, terms, "unknown terms", NULL);
+    if (lam_shift_parse_terms(terms->value, &mask) != 0) return bad_record(src, terms, "unknown terms", err);
     const lam_meta_entry *ne = lam_meta_find(meta, "shift-electrons");
     const lam_meta_entry *se = lam_meta_find(meta, "shift-ms2");
     long n0 = -1, ms2 = 0;
     if (!ne || lam_parse_long(ne->value, &n0) != 0 || n0 < 0 || n0 > 2L * n)
-        lam_fail_at(LAM_EX_DATA, src, terms->line, "shift-terms without a valid shift-electrons");
+        return lam_error_at(err, LAM_EX_DATA, src, terms->line, "shift-terms without a valid shift-electrons");
     if (se && (lam_parse_long(se->value, &ms2) != 0 || labs(ms2) > 2L * n))
-        bad_record(src, se, "not a spin projection", NULL);
+        return bad_record(src, se, "not a spin projection", err);
     lam_shift *k = lam_shift_new(n, (int)n0, (int)ms2, mask);
-    for (size_t i = 0; i < meta->count; ++i) {
-        const lam_meta_entry *e = &meta->items[i];
-        int *slot = NULL;
-        if (strcmp(e->key, "shift-a1") == 0) slot = &k->ia1;
-        else if (strcmp(e->key, "shift-a2") == 0) slot = &k->ia2;
-        else if (strcmp(e->key, "shift-b1") == 0) slot = &k->ib1;
-        else if (strcmp(e->key, "shift-b2") == 0) slot = &k->ib2;
-        if (slot) {
-            double v = record_number(src, e, k);
-            if (*slot < 0 && v != 0) bad_record(src, e, "not among shift-terms", k);
-            if (*slot >= 0) k->x[*slot] += v;
-        } else if (strcmp(e->key, "shift-xi") == 0) {
-            record_matrix(src, e, k, k->ixi);
-        } else if (strcmp(e->key, "shift-zeta") == 0) {
-            record_matrix(src, e, k, k->izeta);
+    for (size_t i = 0; i < meta->count; ++i)
+        if (record_entry(src, &meta->items[i], k, err)) {
+            lam_shift_free(k);
+            return err->code;
         }
-    }
-    return k;
+    *out = k;
+    return 0;
 }
 
 lam_shift *lam_shift_sum(const lam_shift *a, const lam_shift *b)

@@ -24,6 +24,7 @@
 #include "fermion.h"
 #include "lp.h"
 #include "spinfree.h"
+#include "util.h"
 
 /* Parts of K (--terms). */
 enum {
@@ -87,20 +88,21 @@ void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,
 /* A fermion operator (any order of ladder terms) as a spin-free one:
  * normal-ordered, it must consist of a constant, a+ a and a+ a+ a a terms
  * that conserve every spin and have the pattern of E_pq and e_pqrs
- * (to 1e-12 of its largest coefficient); else exit 65 naming src and the
- * line of the first offending term.  electrons and ms2 are left unset. */
-lam_spinfree *lam_shift_fold_fermion(const lam_fermion_op *op, lam_spin_order order,
-                                     const char *src);
+ * (to 1e-12 of its largest coefficient), folded into *out; else fails
+ * with exit 65 naming src and the line of the first offending term.
+ * electrons and ms2 are left unset. */
+int lam_shift_fold_fermion(const lam_fermion_op *op, lam_spin_order order, const char *src,
+                           lam_spinfree **out, lam_error *err);
 
 /* Put the parameters in metadata ("shift-a1: ...", one "shift-xi: p q v"
  * per non-zero element with p <= q, ...), replacing earlier shift-*
  * entries. */
 void lam_shift_describe(const lam_shift *k, lam_meta *meta);
 
-/* The shift an earlier run recorded in meta (shift-terms, shift-a1, ...),
- * or NULL when there is none; exit 65 naming src and the line of a
- * malformed entry. */
-lam_shift *lam_shift_recorded(const lam_meta *meta, int n, const char *src);
+/* *out: the shift an earlier run recorded in meta (shift-terms, shift-a1,
+ * ...), or NULL when there is none; fails with exit 65 naming src and the
+ * line of a malformed entry. */
+int lam_shift_recorded(const lam_meta *meta, int n, const char *src, lam_shift **out, lam_error *err);
 /* a + b, parameter by parameter, with the terms of both; the target (N0,
  * S0) is a's (the caller checks that b has the same). */
 lam_shift *lam_shift_sum(const lam_shift *a, const lam_shift *b);

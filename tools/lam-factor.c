@@ -250,7 +250,7 @@ int main(int argc, char **argv)
     lam_factor_info info;
     options_from_cli(&c, sf->n, &o);
     double t0 = lam_seconds();
-    fr = lam_factor(sf, &o, &info);
+    if ((rc = lam_factor(sf, &o, &info, &fr, &err))) goto done;
     lam_progress("%s: %d fragments in %.2f s", method_name(o.method), fr->nfrag,
                  lam_seconds() - t0);
 

@@ -163,17 +163,17 @@ static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 
 /* A shift recorded by lam-shift names xi in the old orbitals; it is the
  * same operator K in the new ones with xi' = U^T xi U. */
-static void rotate_recorded_shift(lam_meta *meta, int n, const double *u, const char *src)
+static int rotate_recorded_shift(lam_meta *meta, int n, const double *u, const char *src, lam_error *err)
 {
-    lam_shift *k = lam_shift_recorded(meta, n, src);
-    if (!k) return;
+    lam_shift *k;
+    if (lam_shift_recorded(meta, n, src, &k, err)) return err->code;
+    if (!k) return 0;
     if (lam_shift_has_spin(k) || !(k->terms & LAM_SHIFT_XI)) {
-        lam_error fail_err;
-        lam_error_at(&fail_err, LAM_EX_DATA, src, 0,
-                     "the stream carries a recorded shift whose xi is not a full symmetric "
-                     "matrix (or has spin terms); it cannot be carried to rotated orbitals: "
-                     "rotate before shifting");
-        lam_error_exit(&fail_err);
+        lam_shift_free(k);
+        return lam_error_at(err, LAM_EX_DATA, src, 0,
+                            "the stream carries a recorded shift whose xi is not a full symmetric "
+                            "matrix (or has spin terms); it cannot be carried to rotated orbitals: "
+                            "rotate before shifting");
     }
     size_t nn = (size_t)n * n;
     double *xi = lam_malloc(lam_mul_size(nn, sizeof(double)));
@@ -188,6 +188,7 @@ static void rotate_recorded_shift(lam_meta *meta, int n, const double *u, const 
     free(xi);
     free(t);
     lam_shift_free(k);
+    return 0;
 }
 
 static double *identity(int n)
@@ -195,6 +196,29 @@ static double *identity(int n)
     double *u = lam_calloc(lam_mul_size((size_t)n * n, 1), sizeof(double));
     for (int i = 0; i < n; ++i) u[(size_t)i * n + i] = 1;
     return u;
+}
+
+/* What main holds, freed before an error ends the program. */
+typedef struct {
+    lam_reader *r;
+    lam_spinfree *h, *out;
+    double *u0, *u;
+    lam_rotate_blocks *blocks;
+    FILE *mf;
+    lam_meta *meta;
+} held;
+
+static _Noreturn void give_up(const held *hd, const lam_error *err)
+{
+    if (hd->meta) lam_meta_free(hd->meta);
+    if (hd->mf) fclose(hd->mf);
+    lam_rotate_blocks_free(hd->blocks);
+    free(hd->u0);
+    free(hd->u);
+    lam_spinfree_free(hd->out);
+    lam_spinfree_free(hd->h);
+    lam_reader_close(hd->r);
+    lam_error_exit(err);
 }
 
 int main(int argc, char **argv)
@@ -214,11 +238,11 @@ int main(int argc, char **argv)
     static double *u0, *u;
     static lam_rotate_blocks blocks;
     static FILE *mf;
-    lam_error rerr;
-    if (lam_reader_open(o.input, &r, &rerr)) lam_error_exit(&rerr);
-    if (read_operator(r, &h, &rerr)) {
+    lam_error err;
+    if (lam_reader_open(o.input, &r, &err)) lam_error_exit(&err);
+    if (read_operator(r, &h, &err)) {
         lam_reader_close(r);
-        lam_error_exit(&rerr);
+        lam_error_exit(&err);
     }
     const char *src = lam_reader_name(r);
     int n = h->n;
@@ -233,9 +257,9 @@ int main(int argc, char **argv)
     int needs_n = o.ro.objective == LAM_ROTATE_SHIFTED || o.ro.objective == LAM_ROTATE_GROUPED;
     if (needs_n && h->electrons < 0)
         lam_usage_error("%s has no 'electrons:' line: give --electrons N for the shift", src);
-    char err[256];
-    if (lam_rotate_blocks_parse(o.within, n, h->electrons, &blocks, err, sizeof err) != 0)
-        lam_usage_error("--within: %s", err);
+    char why[256];
+    if (lam_rotate_blocks_parse(o.within, n, h->electrons, &blocks, why, sizeof why) != 0)
+        lam_usage_error("--within: %s", why);
     o.ro.blocks = &blocks;
     /* small operators: canonical orbitals of symmetric molecules are
      * stationary points, and random starts cost little there */
@@ -243,11 +267,12 @@ int main(int argc, char **argv)
 
     int start_er = strcmp(o.start, "er") == 0;
     if (strcmp(o.start, "given") == 0 || start_er) u0 = identity(n);
-    else u0 = lam_rotate_read_matrix(o.start, n);
+    held hd = {r, h, NULL, NULL, NULL, &blocks, NULL, NULL};
+    if (!u0 && lam_rotate_read_matrix(o.start, n, &u0, &err)) give_up(&hd, &err);
+    hd.u0 = u0;
     if (o.matrix && !(mf = fopen(o.matrix, "w"))) {
-        lam_error fail_err;
-        lam_error_set(&fail_err, LAM_EX_IOERR, "%s: cannot write", o.matrix);
-        lam_error_exit(&fail_err);
+        lam_error_set(&err, LAM_EX_IOERR, "%s: cannot write", o.matrix);
+        give_up(&hd, &err);
     }
 
     lam_rotate_result er_res = {0};
@@ -275,7 +300,10 @@ int main(int argc, char **argv)
     lam_meta meta;
     lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
-    rotate_recorded_shift(&meta, n, u, src);
+    if (rotate_recorded_shift(&meta, n, u, src, &err)) {
+        hd = (held){r, h, out, u0, u, &blocks, mf, &meta};
+        give_up(&hd, &err);
+    }
     lam_spinfree_describe(out, &meta);
     lam_meta_setf(&meta, "rotation", "objective %s start %s within %s",
                   lam_rotate_objective_name(o.ro.objective),
@@ -288,11 +316,11 @@ int main(int argc, char **argv)
     lam_meta_set(&meta, "rotation-lambda-after", buf);
     char *history = lam_history_from_argv(argc, argv);
     lam_writer *w;
-    int rc = lam_writer_open(o.output, o.gzip, &w, &rerr);
+    int rc = lam_writer_open(o.output, o.gzip, &w, &err);
     if (!rc) {
         lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
         lam_spinfree_write_terms(w, out);
-        rc = lam_writer_close(w, &rerr);
+        rc = lam_writer_close(w, &err);
     }
     if (rc) {
         if (mf) fclose(mf);
@@ -300,7 +328,11 @@ int main(int argc, char **argv)
         lam_meta_free(&meta);
         goto done;
     }
-    if (mf) lam_rotate_write_matrix(mf, o.matrix, n, u);
+    if (mf && lam_rotate_write_matrix(mf, o.matrix, n, u, &err)) {
+        free(history);
+        hd = (held){r, h, out, u0, u, &blocks, NULL, &meta};
+        give_up(&hd, &err);
+    }
 
     lam_report *rep = lam_report_new();
     if (o.label) lam_report_str(rep, "label", o.label);
@@ -324,7 +356,7 @@ int main(int argc, char **argv)
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     lam_report_num(rep, "cpu_seconds", (double)(clock() - c0) / CLOCKS_PER_SEC);
     lam_report_int(rep, "threads", openblas_get_num_threads());
-    if (o.report) rc = lam_report_save(rep, o.report, o.tsv, &rerr);
+    if (o.report) rc = lam_report_save(rep, o.report, o.tsv, &err);
     else lam_report_write(rep, stderr, o.tsv);
 
     lam_report_free(rep);
@@ -337,6 +369,6 @@ done:
     lam_spinfree_free(out);
     lam_spinfree_free(h);
     lam_reader_close(r);
-    if (rc) lam_error_exit(&rerr);
+    if (rc) lam_error_exit(&err);
     return 0;
 }

@@ -296,7 +296,11 @@ int main(int argc, char **argv)
     if (lam_molecule_read_xyz(o.input, o.bohr, &mol, &err)) lam_error_exit(&err);
     held_molecule = mol;
     mol->charge = (int)o.charge;
-    lam_scf_closed_shell_electrons(mol);
+    int electrons;
+    if (lam_scf_closed_shell_electrons(mol, &electrons, &err)) {
+        lam_molecule_free(mol);
+        lam_error_exit(&err);
+    }
     if (lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure, &basis, &err)) {
         lam_molecule_free(mol);
         lam_error_exit(&err);
@@ -307,7 +311,14 @@ int main(int argc, char **argv)
     check_memory(&o, basis->nbf, most_active > 0 ? most_active : 1);
     FILE *out = open_output(o.output);
 
-    lam_scf *s = held_scf = lam_scf_run(mol, basis, &o.scf);
+    lam_scf *s;
+    if (lam_scf_run(mol, basis, &o.scf, &s, &err)) {
+        if (out != stdout) fclose(out);
+        lam_basis_free(basis);
+        lam_molecule_free(mol);
+        lam_error_exit(&err);
+    }
+    held_scf = s;
     if (!o.quiet)
         fprintf(stderr, "%s: RHF energy %.12f Eh after %d iterations (%d basis functions, "
                 "%d orbitals, E_nuc %.12f Eh; integrals %.2f s, iterations %.2f s)\n",

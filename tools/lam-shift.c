@@ -180,8 +180,10 @@ static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
         if ((rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &order, err)) ||
             (rc = lam_fermion_read(r, &op, err)))
             return rc;
-        lam_spinfree *sf = lam_shift_fold_fermion(&op, order, lam_reader_name(r));
+        lam_spinfree *sf;
+        rc = lam_shift_fold_fermion(&op, order, lam_reader_name(r), &sf, err);
         lam_fermion_free(&op);
+        if (rc) return rc;
         if ((rc = lam_reader_meta_long(r, "electrons", -1, 0, 2L * sf->n, &electrons, err)) ||
             (rc = lam_reader_meta_long(r, "ms2", 0, -2L * sf->n, 2L * sf->n, &ms2, err))) {
             lam_spinfree_free(sf);
@@ -228,8 +230,7 @@ static void show_iteration(int it, double primal, double dual, void *ctx)
  * the original is rebuilt (lam-sum shifted recorded). */
 static int emit_recorded(const options *o, int argc, char **argv)
 {
-    /* static: reachable while lam_shift_recorded may still exit (shift.c) */
-    static lam_reader *r;
+    lam_reader *r = NULL;
     lam_error err;
     lam_shift *k = NULL;
     lam_meta out;
@@ -246,7 +247,7 @@ static int emit_recorded(const options *o, int argc, char **argv)
     if (!rc && n < 0)
         rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0,
                           "no 'orbitals:' or 'modes:' line");
-    if (!rc && !(k = lam_shift_recorded(meta, (int)n, lam_reader_name(r))))
+    if (!rc && !(rc = lam_shift_recorded(meta, (int)n, lam_reader_name(r), &k, &err)) && !k)
         rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
     if (!rc && lam_shift_has_spin(k))
@@ -277,7 +278,6 @@ done:
     lam_meta_free(&out);
     lam_shift_free(k);
     lam_reader_close(r);
-    r = NULL;
     if (rc) lam_error_exit(&err);
     return 0;
 }
@@ -339,15 +339,17 @@ int main(int argc, char **argv)
         lam_error_exit(&err);
     }
     resolve_target(&o, h, src, &k);
-    earlier = lam_shift_recorded(lam_reader_meta(r), h->n, src);
-    if (earlier && (earlier->electrons != k->electrons ||
-                    (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2))) {
-        lam_error_at(&err, LAM_EX_DATA, src, 0,
+    int bad = lam_shift_recorded(lam_reader_meta(r), h->n, src, &earlier, &err);
+    if (!bad && earlier &&
+        (earlier->electrons != k->electrons ||
+         (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
+        bad = lam_error_at(&err, LAM_EX_DATA, src, 0,
                      "the stream was already shifted for %d electrons (2Sz %d); a second shift "
                      "for %d (2Sz %d) would leave no block as in the original operator",
                      earlier->electrons, earlier->ms2, k->electrons, k->ms2);
-        lam_shift_free(k);
+    if (bad) {
         lam_shift_free(earlier);
+        lam_shift_free(k);
         lam_spinfree_free(h);
         lam_reader_close(r);
         lam_error_exit(&err);

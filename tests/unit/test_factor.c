@@ -161,6 +161,15 @@ static void test_fit_gradient(void)
     tap_ok(f0 <= lam_fragment_fit(N, g, u0, x, NULL), "reduced fit is the minimum over l");
 }
 
+/* A factorization that must succeed: a failure ends the test with its message. */
+static lam_fragments *factor_or_die(const lam_spinfree *sf, const lam_factor_options *o, lam_factor_info *info)
+{
+    lam_fragments *fr;
+    lam_error err;
+    if (lam_factor(sf, o, info, &fr, &err)) lam_error_exit(&err);
+    return fr;
+}
+
 static lam_spinfree *random_operator(int n, int positive)
 {
     lam_spinfree *sf = lam_spinfree_new(n);
@@ -180,7 +189,7 @@ static void test_double_factorization(void)
     lam_factor_options o;
     lam_factor_info info;
     lam_factor_defaults(&o, LAM_FACTOR_DOUBLE, n);
-    lam_fragments *fr = lam_factor(sf, &o, &info);
+    lam_fragments *fr = factor_or_die(sf, &o, &info);
     tap_ok(info.integral_max_error < 1e-12, "double factorization rebuilds the integrals");
     tap_near(info.constant_error, 0.0, 1e-12, "double factorization keeps the constant");
     tap_ok(info.factors_kept <= n * (n + 1) / 2, "at most n(n+1)/2 factors");
@@ -196,7 +205,7 @@ static void test_double_factorization(void)
     lam_fragments_free(fr);
 
     o.tol = 0.5;
-    fr = lam_factor(sf, &o, &info);
+    fr = factor_or_die(sf, &o, &info);
     tap_ok(info.discarded_weight > 0 && info.discarded_weight <= 0.5, "truncation drops weight <= tol");
     tap_ok(info.integral_max_error <= info.discarded_weight + 1e-12,
            "largest integral error within the discarded weight");
@@ -212,7 +221,7 @@ static void test_full_rank(void)
     lam_factor_info info;
     lam_factor_defaults(&o, LAM_FACTOR_FULL_RANK, n);
     o.tol = 1e-8;
-    lam_fragments *fr = lam_factor(sf, &o, &info);
+    lam_fragments *fr = factor_or_die(sf, &o, &info);
     tap_ok(info.residual_norm <= 1e-8, "full rank reaches the residual tolerance");
     tap_ok(info.integral_max_error <= 1e-8, "full rank: integrals rebuilt to the tolerance");
     tap_near(fr->constant, lam_spinfree_constant(sf), 1e-7, "full rank: Majorana constant");
@@ -244,7 +253,7 @@ static void test_stream_round_trip(void)
     lam_factor_options o;
     lam_factor_info info;
     lam_factor_defaults(&o, LAM_FACTOR_DOUBLE, n);
-    lam_fragments *fr = lam_factor(sf, &o, &info);
+    lam_fragments *fr = factor_or_die(sf, &o, &info);
     char path[] = "/tmp/test_factor_XXXXXX";
     int fd = mkstemp(path);
     tap_ok(fd >= 0, "temporary file");
@@ -316,6 +325,23 @@ static int read_text(const char *text, char *err, size_t errsize)
     return rc;
 }
 
+/* Full rank out of fragments is a returned data error, nothing kept. */
+static void test_full_rank_error_returns(void)
+{
+    lam_spinfree *sf = random_operator(3, 0);
+    lam_factor_options o;
+    lam_factor_info info;
+    lam_factor_defaults(&o, LAM_FACTOR_FULL_RANK, 3);
+    o.max_fragments = 0;
+    lam_fragments *fr = NULL;
+    lam_error err;
+    int rc = lam_factor(sf, &o, &info, &fr, &err);
+    tap_ok(rc == LAM_EX_DATA && !fr && strstr(err.msg, "full-rank fragments: residual") &&
+               strstr(err.msg, "after 0 fragments"),
+           "full rank past max_fragments returns exit 65 with its message");
+    lam_spinfree_free(sf);
+}
+
 static void expect_rejected(const char *body, const char *needle, const char *name)
 {
     char text[1024], err[1024];
@@ -363,6 +389,7 @@ int main(void)
     test_fit_gradient();
     test_double_factorization();
     test_full_rank();
+    test_full_rank_error_returns();
     test_to_spinfree_algebra();
     test_stream_round_trip();
     test_reader_rejects();

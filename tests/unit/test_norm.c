@@ -159,7 +159,9 @@ static void test_fockop(void)
     lam_pauli_set s;
     read_set("#% lamina-op 2\n#% kind: pauli\n#% qubits: 3\n2.0\n0.25 x:0\n-0.5 y:1 z:2\n0.125 z:0\n#% end\n",
              &s);
-    lam_fockop *op = lam_fockop_new(&s, "test");
+    lam_fockop *op;
+    lam_error err;
+    tap_ok(lam_fockop_new(&s, "test", &op, &err) == 0, "fockop: built");
     /* 0.25 + 0.5 + 0.125 = 0.875; the identity 2 not counted */
     tap_near(lam_fockop_lambda(op), 0.875, 1e-15, "fockop: lambda 0.875 without the identity");
     lam_fockop_free(op);

@@ -164,7 +164,9 @@ static void fold_round_trip(lam_spin_order order, const char *what)
     lam_spinfree *h = random_operator(3, 2);
     lam_fermion_op op;
     lam_fermion_from_spinfree(h, order, &op);
-    lam_spinfree *back = lam_shift_fold_fermion(&op, order, "test");
+    lam_spinfree *back = NULL;
+    lam_error err;
+    tap_ok(lam_shift_fold_fermion(&op, order, "test", &back, &err) == 0 && back, "fold succeeds");
     double worst = fabs(back->e0 - h->e0);
     for (int i = 0; i < 9; ++i) worst = fmax(worst, fabs(back->h[i] - h->h[i]));
     for (int i = 0; i < 81; ++i) worst = fmax(worst, fabs(back->g[i] - h->g[i]));
@@ -184,7 +186,9 @@ static void metadata_round_trip(void)
     lam_meta meta;
     lam_meta_init(&meta);
     lam_shift_describe(k, &meta);
-    lam_shift *back = lam_shift_recorded(&meta, 4, "test");
+    lam_shift *back = NULL;
+    lam_error err;
+    tap_ok(lam_shift_recorded(&meta, 4, "test", &back, &err) == 0 && back, "recorded shift read back");
     double worst = 0;
     for (int j = 0; j < k->nparams; ++j) worst = fmax(worst, fabs(back->x[j] - k->x[j]));
     tap_ok(back->nparams == k->nparams && back->electrons == 3 && back->ms2 == 1 && worst == 0,
@@ -196,6 +200,31 @@ static void metadata_round_trip(void)
     lam_shift_free(back);
     lam_meta_free(&meta);
     lam_shift_free(k);
+}
+
+/* Bad input comes back as an error (code, file, message), nothing held. */
+static void errors_return(void)
+{
+    lam_meta meta;
+    lam_meta_init(&meta);
+    lam_shift *k = NULL;
+    lam_error err;
+    tap_ok(lam_shift_recorded(&meta, 4, "m", &k, &err) == 0 && !k, "no shift-* metadata: no shift");
+    lam_meta_set(&meta, "shift-terms", "a1,a2,xi");
+    lam_meta_set(&meta, "shift-electrons", "2");
+    lam_meta_set(&meta, "shift-xi", "0 9 1.5");
+    int rc = lam_shift_recorded(&meta, 4, "m", &k, &err);
+    tap_ok(rc == LAM_EX_DATA && !k && !strcmp(err.file, "m") &&
+               !strcmp(err.msg, "orbital out of range: shift-xi '0 9 1.5'"),
+           "an orbital out of range is a returned data error");
+    lam_meta_free(&meta);
+    lam_fermion_op op;
+    memset(&op, 0, sizeof op);
+    op.nmodes = 3;
+    lam_spinfree *sf = NULL;
+    rc = lam_shift_fold_fermion(&op, LAM_SPIN_INTERLEAVED, "f", &sf, &err);
+    tap_ok(rc == LAM_EX_DATA && !sf && !strcmp(err.msg, "the operator is not spin-free: an odd number of modes (3)"),
+           "an odd number of modes is a returned data error");
 }
 
 static void parse_terms(void)
@@ -220,5 +249,6 @@ int main(void)
     fold_round_trip(LAM_SPIN_INTERLEAVED, "interleaved");
     fold_round_trip(LAM_SPIN_BLOCKED, "blocked");
     metadata_round_trip();
+    errors_return();
     return tap_done();
 }
