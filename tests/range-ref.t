@@ -19,6 +19,7 @@
   converged to an interior eigenvalue 0.46 mEh below the top).
 """
 import os
+import tempfile
 import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
@@ -208,8 +209,9 @@ def sector_matrix(fcid, na, nb):
     return H.toarray()
 
 
-n2 = os.path.join(TMP, "lam-range-ref-n2.fcidump")
-with open(n2, "w") as f:
+# a private file: two runs of this test at once must not share it
+fd, n2 = tempfile.mkstemp(prefix="lam-range-ref-n2.", suffix=".fcidump", dir=TMP)
+with os.fdopen(fd, "w") as f:
     f.write(lamtest.run("lam-scf", [], stdin="2\nN2, our geometry\nN 0 0 0\nN 0 0 1.098\n", check=True)[1])
 w = np.linalg.eigvalsh(sector_matrix(n2, 3, 2))
 sf = ints(n2)
