@@ -410,13 +410,6 @@ static int read_spinfree(lam_reader *r, lam_spinfree **sf, lam_error *err)
     return rc;
 }
 
-static int read_pauli(lam_reader *r, lam_pauli_set *s, lam_error *err)
-{
-    (void)err;
-    lam_pauli_read(r, s);
-    return 0;
-}
-
 /* ---- the sum ---- */
 
 typedef struct {
@@ -455,7 +448,7 @@ static int add_terms(sum *s, lam_reader *r, lam_kind k, double factor, lam_error
     } else if (k == LAM_KIND_PAULI) {
         lam_pauli_set p;
         lam_pauli_set_init(&p, 0);
-        int rc = read_pauli(r, &p, err);
+        int rc = lam_pauli_read(r, &p, err);
         if (rc == 0) add_pauli(&s->pauli, &p, factor);
         lam_pauli_set_free(&p);
         return rc;
