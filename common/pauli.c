@@ -862,7 +862,7 @@ static void *big_realloc(void *old, size_t old_bytes, size_t bytes)
     if (bytes < 2 * huge) return lam_realloc(old, bytes);
     size_t rounded = (bytes + huge - 1) / huge * huge;
     void *p = aligned_alloc(huge, rounded);
-    if (!p) lam_fail(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", rounded);
+    if (!p) lam_out_of_memory(rounded);
 #ifdef MADV_HUGEPAGE
     madvise(p, rounded, MADV_HUGEPAGE); /* a hint: without it, 4 KB pages */
 #endif
