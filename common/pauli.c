@@ -599,10 +599,10 @@ static int read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge,
                       lam_error *err)
 {
     enum { BATCH = 4096 };
-    long declared;
+    long declared = -1;
     if (lines) *lines = NULL;
     int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
-    lam_pauli_set_init(s, declared < 0 || rc ? 0 : (int)declared);
+    lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
     if (rc) return rc;
     int bounded = declared >= 0;
     size_t lines_cap = 0, merged = 0;
@@ -720,7 +720,7 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s)
 
 int lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out, lam_error *err)
 {
-    long declared;
+    long declared = -1;
     memset(out, 0, sizeof *out);
     int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
     if (rc) return rc;
@@ -1345,7 +1345,7 @@ static int read_term(lam_reader *r, char *text, long line, long declared, int *n
 int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error *err)
 {
     enum { SIZE_AFTER = 4096 };
-    long declared;
+    long declared = -1;
     memset(out, 0, sizeof *out);
     int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
     if (rc) return rc;
