@@ -21,32 +21,12 @@
 #include "util.h"
 
 
-/* A reader on path; a test that cannot open its own file stops (66). */
-static lam_reader *open_reader(const char *path)
-{
-    lam_error e;
-    lam_reader *r;
-    if (lam_reader_open(path, &r, &e)) {
-        lam_error_print(&e);
-        exit(66);
-    }
-    return r;
-}
-
-/* 0 from a reader, or its message on stderr: a test that expects good
- * input fails on it. */
-static int read_ok(int rc, const lam_error *e)
-{
-    if (rc) lam_error_print(e);
-    return rc == 0;
-}
-
 static void read_set(const char *text, lam_pauli_set *s)
 {
     char *path = test_write_temp(text);
-    lam_reader *r = open_reader(path);
+    lam_reader *r = test_open_reader(path);
     lam_error e;
-    tap_ok(read_ok(lam_pauli_read(r, s, &e), &e), "the test's stream reads");
+    tap_ok(test_read_ok(lam_pauli_read(r, s, &e), &e), "the test's stream reads");
     lam_reader_close(r);
     unlink(path);
 }
@@ -55,10 +35,10 @@ static void read_set(const char *text, lam_pauli_set *s)
 static void summarize(const char *text, int merged, lam_pauli_summary *sum)
 {
     char *path = test_write_temp(text);
-    lam_reader *r = open_reader(path);
+    lam_reader *r = test_open_reader(path);
     lam_error e;
     int rc = merged ? lam_pauli_summarize_merged(r, sum, &e) : lam_pauli_summarize(r, sum, &e);
-    tap_ok(read_ok(rc, &e), "the test's stream is summed");
+    tap_ok(test_read_ok(rc, &e), "the test's stream is summed");
     lam_reader_close(r);
     unlink(path);
 }
