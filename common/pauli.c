@@ -678,7 +678,7 @@ int lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop, lam_error *
     return 0;
 }
 
-void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
+int lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s, lam_error *err)
 {
     /* a factor takes a space, a letter and at most 8 digits; room for the
      * group label on top */
@@ -687,7 +687,10 @@ void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
     for (size_t t = 0; t < s->count; ++t) {
         int len = lam_pauli_format(buf, size - 16, s->nwords, lam_pauli_x(s, t),
                                    lam_pauli_z(s, t));
-        if (len < 0) lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+        if (len < 0) {
+            free(buf);
+            return lam_error_set(err, LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+        }
         if (s->group && s->group[t] >= 0) {
             if (len) buf[len++] = ' ';
             buf[len++] = '@';
@@ -697,6 +700,7 @@ void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
         lam_writer_term(w, s->coef[t], buf);
     }
     free(buf);
+    return 0;
 }
 
 double lam_pauli_set_constant(const lam_pauli_set *s)

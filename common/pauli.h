@@ -132,7 +132,8 @@ int lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out, lam_error *err);
  * strings' bits; terms counts the merged ones that are not zero. */
 int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error *err);
 
-/* Write every term (with "@g" when labelled); not the header. */
-void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s);
+/* Write every term (with "@g" when labelled); not the header.  0, or 70
+ * should a string outgrow the buffer sized for it (a bug). */
+int lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s, lam_error *err);
 
 #endif

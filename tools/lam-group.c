@@ -321,9 +321,11 @@ static int run_group(const options *o, int argc, char **argv)
     if (!rc) rc = lam_writer_open(o->output, o->gzip, &w, &err);
     if (!rc) {
         lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
-        lam_pauli_write_terms(w, &out);
-        rc = lam_writer_close(w, &err);
-        w = NULL;
+        rc = lam_pauli_write_terms(w, &out, &err);
+        if (!rc) {
+            rc = lam_writer_close(w, &err);
+            w = NULL;
+        }
     }
     add_report(rep, o, &st, lam_seconds() - t0);
     if (!rc && report) {
