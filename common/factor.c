@@ -671,11 +671,14 @@ static void add_two_body_fragment(lam_fragments *fr, int f, const double *lam,
 
 /* Fragment 0: whatever one-body operator and constant the two-body
  * fragments' reflections leave, made up to e0 + h.E with sum_i t_i N_i. */
-static void add_one_body_fragment(lam_fragments *fr, const lam_spinfree *sf,
-                                  const lam_factor_options *o, lam_factor_info *info)
+static int add_one_body_fragment(lam_fragments *fr, const lam_spinfree *sf,
+                                 const lam_factor_options *o, lam_factor_info *info,
+                                 lam_error *err)
 {
     int n = sf->n;
-    lam_spinfree *two = lam_fragments_to_spinfree(fr, NULL);
+    lam_spinfree *two;
+    int rc = lam_fragments_to_spinfree(fr, NULL, &two, err);
+    if (rc) return rc;
     double *t = new_matrix((size_t)n, (size_t)n), *ev = new_matrix((size_t)n, 1);
     double *w = new_matrix((size_t)n, (size_t)n);
     for (int p = 0; p < n; ++p)
@@ -696,13 +699,16 @@ static void add_one_body_fragment(lam_fragments *fr, const lam_spinfree *sf,
     free(t);
     free(ev);
     free(w);
+    return 0;
 }
 
 /* Errors of the whole LCU against the input, by exact algebra. */
-static void measure_reconstruction(const lam_fragments *fr, const lam_spinfree *sf,
-                                   lam_factor_info *info)
+static int measure_reconstruction(const lam_fragments *fr, const lam_spinfree *sf,
+                                  lam_factor_info *info, lam_error *err)
 {
-    lam_spinfree *back = lam_fragments_to_spinfree(fr, NULL);
+    lam_spinfree *back;
+    int rc = lam_fragments_to_spinfree(fr, NULL, &back, err);
+    if (rc) return rc;
     size_t nn = (size_t)sf->n * sf->n, n4 = nn * nn;
     double maxerr = 0.0, sum2 = 0.0, gsum2 = 0.0;
     for (size_t k = 0; k < nn; ++k) {
@@ -720,6 +726,7 @@ static void measure_reconstruction(const lam_fragments *fr, const lam_spinfree *
     info->residual_norm = sqrt(gsum2);
     info->constant_error = fabs(back->e0 - sf->e0);
     lam_spinfree_free(back);
+    return 0;
 }
 
 void lam_factor_defaults(lam_factor_options *o, lam_factor_method method, int n)
@@ -754,9 +761,15 @@ int lam_factor(const lam_spinfree *sf, const lam_factor_options *o, lam_factor_i
     }
     list_free(&fl);
     lam_fragments_merge(fr);
-    add_one_body_fragment(fr, sf, o, info);
+    if (add_one_body_fragment(fr, sf, o, info, err)) {
+        lam_fragments_free(fr);
+        return err->code;
+    }
     lam_fragments_merge(fr);
-    measure_reconstruction(fr, sf, info);
+    if (measure_reconstruction(fr, sf, info, err)) {
+        lam_fragments_free(fr);
+        return err->code;
+    }
     *out = fr;
     return 0;
 }

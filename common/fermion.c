@@ -42,14 +42,6 @@ int lam_reader_spin_order(lam_reader *r, lam_spin_order dflt, lam_spin_order *or
     return 0;
 }
 
-lam_spin_order lam_reader_spin_order_or_exit(lam_reader *r, lam_spin_order dflt)
-{
-    lam_error e;
-    lam_spin_order o;
-    if (lam_reader_spin_order(r, dflt, &o, &e)) lam_error_exit(&e);
-    return o;
-}
-
 /* ------------------------------------------------------------ ladder terms */
 
 void lam_fermion_init(lam_fermion_op *op, int nmodes)
@@ -230,12 +222,6 @@ int lam_fermion_read(lam_reader *r, lam_fermion_op *op, lam_error *err)
     }
     if (declared < 0) op->nmodes = top;
     return 0;
-}
-
-void lam_fermion_read_or_exit(lam_reader *r, lam_fermion_op *op)
-{
-    lam_error e;
-    if (lam_fermion_read(r, op, &e)) lam_error_exit(&e);
 }
 
 /* 1 when every creator of the term stands before every annihilator. */
@@ -748,12 +734,6 @@ int lam_majorana_require_hermitian(lam_majorana_set *m, const char *src, lam_err
         *wrong = 0.0;
     }
     return 0;
-}
-
-void lam_majorana_require_hermitian_or_exit(lam_majorana_set *m, const char *src)
-{
-    lam_error e;
-    if (lam_majorana_require_hermitian(m, src, &e)) lam_error_exit(&e);
 }
 
 double lam_majorana_value(const lam_majorana_set *m, size_t t)

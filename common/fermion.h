@@ -167,16 +167,4 @@ double lam_majorana_constant(const lam_majorana_set *m);
 int lam_majorana_read(lam_reader *r, lam_kind kind, const lam_spin_order *order,
                       lam_majorana_set *m, lam_spin_order *used, lam_error *err);
 
-/* Exiting forms for fockop.c, rotate.c and lam-sum.c until they pass an
- * err (issue 13). */
-lam_spin_order lam_reader_spin_order_or_exit(lam_reader *r, lam_spin_order dflt);
-void lam_fermion_read_or_exit(lam_reader *r, lam_fermion_op *op);
-void lam_majorana_require_hermitian_or_exit(lam_majorana_set *m, const char *src);
-#define lam_reader_spin_order(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_reader_spin_order, -, lam_reader_spin_order_or_exit, -, -)(__VA_ARGS__)
-#define lam_fermion_read(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_fermion_read, lam_fermion_read_or_exit, -, -)(__VA_ARGS__)
-#define lam_majorana_require_hermitian(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_majorana_require_hermitian, lam_majorana_require_hermitian_or_exit, -, -)(__VA_ARGS__)
-
 #endif

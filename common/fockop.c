@@ -529,32 +529,37 @@ int lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subspa
 
 /* ---- reading and what is conserved ---- */
 
-void lam_fockop_read_stream(lam_reader *r, lam_kind kind, lam_pauli_set *set,
-                            lam_spin_order *order, int *jw)
+int lam_fockop_read_stream(lam_reader *r, lam_kind kind, lam_pauli_set *set,
+                           lam_spin_order *order, int *jw, lam_error *err)
 {
-    *order = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED);
+    int rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, order, err);
+    if (rc) return rc;
     *jw = 1;
     if (kind == LAM_KIND_PAULI) {
         const lam_meta_entry *enc = lam_meta_find(lam_reader_meta(r), "encoding");
         lam_encoding_kind ek;
         if (enc) *jw = lam_encoding_parse(enc->value, &ek) == 0 && ek == LAM_ENC_JORDAN_WIGNER;
-        lam_pauli_set_init(set, 0);
-        lam_pauli_read(r, set);
+        if ((rc = lam_pauli_read(r, set, err)) != 0) return rc;
         lam_pauli_set_merge(set, 1);
-        return;
+        return 0;
     }
     lam_fermion_op f;
     lam_majorana_set m;
-    lam_fermion_read(r, &f);
+    if ((rc = lam_fermion_read(r, &f, err)) != 0) return rc;
     lam_majorana_init(&m, f.nmodes);
     lam_majorana_from_fermion(&f, &m);
-    lam_majorana_require_hermitian(&m, lam_reader_name(r));
+    if ((rc = lam_majorana_require_hermitian(&m, lam_reader_name(r), err)) != 0) {
+        lam_majorana_free(&m);
+        lam_fermion_free(&f);
+        return rc;
+    }
     lam_encoding *e = lam_encoding_new(LAM_ENC_JORDAN_WIGNER, f.nmodes);
     lam_pauli_set_init(set, f.nmodes);
     lam_encoding_map_majorana(e, &m, set);
     lam_encoding_free(e);
     lam_majorana_free(&m);
     lam_fermion_free(&f);
+    return 0;
 }
 
 lam_fock_conservation lam_fockop_conservation(const lam_fockop *op, lam_spin_order order, int jw)

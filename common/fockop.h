@@ -50,12 +50,13 @@ void lam_fockop_free(lam_fockop *op);
  * operator is then treated as not conserving). */
 int lam_fockop_conserves(const lam_fockop *op, uint64_t mask);
 
-/* Read a pauli stream, or a fermion stream mapped by Jordan-Wigner (exit
- * 65 when it is not Hermitian), into set; the spin order from the header
+/* Read a pauli stream, or a fermion stream mapped by Jordan-Wigner (65
+ * when it is not Hermitian), into set; the spin order from the header
  * (interleaved by default); *jw = 0 when a pauli stream names another
- * encoding (its strings then carry no Hamming-weight sectors). */
-void lam_fockop_read_stream(lam_reader *r, lam_kind kind, lam_pauli_set *set,
-                            lam_spin_order *order, int *jw);
+ * encoding (its strings then carry no Hamming-weight sectors).  0, or the
+ * code in err with nothing left to free in set. */
+int lam_fockop_read_stream(lam_reader *r, lam_kind kind, lam_pauli_set *set,
+                           lam_spin_order *order, int *jw, lam_error *err);
 
 /* What a Jordan-Wigner operator conserves: the spin-up and spin-down
  * numbers on their masks (spin_sectors), or at least the total number on

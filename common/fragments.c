@@ -318,14 +318,6 @@ int lam_fragments_read(lam_reader *r, lam_fragments **out, lam_error *err)
     return rc;
 }
 
-lam_fragments *lam_fragments_read_or_exit(lam_reader *r)
-{
-    lam_error e;
-    lam_fragments *fr;
-    if (lam_fragments_read(r, &fr, &e)) lam_error_exit(&e);
-    return fr;
-}
-
 /* ---- writing ---- */
 
 void lam_fragments_describe(const lam_fragments *fr, lam_meta *meta)
@@ -527,12 +519,4 @@ int lam_fragments_to_spinfree(const lam_fragments *fr, const char *name, lam_spi
     assert(k == fr->count); /* the terms were merged, hence sorted by fragment */
     *out = sf;
     return 0;
-}
-
-lam_spinfree *lam_fragments_to_spinfree_or_exit(const lam_fragments *fr, const char *name)
-{
-    lam_error e;
-    lam_spinfree *sf;
-    if (lam_fragments_to_spinfree(fr, name, &sf, &e)) lam_error_exit(&e);
-    return sf;
 }

@@ -92,15 +92,6 @@ void lam_fragments_report(const lam_fragments *fr, lam_report *rep);
 int lam_fragments_to_spinfree(const lam_fragments *fr, const char *name, lam_spinfree **out,
                               lam_error *err);
 
-/* Exiting forms for lam-cost.c and factor.c until they pass an err
- * (issue 13). */
-lam_fragments *lam_fragments_read_or_exit(lam_reader *r);
-lam_spinfree *lam_fragments_to_spinfree_or_exit(const lam_fragments *fr, const char *name);
-#define lam_fragments_read(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_fragments_read, -, lam_fragments_read_or_exit, -)(__VA_ARGS__)
-#define lam_fragments_to_spinfree(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_fragments_to_spinfree, -, lam_fragments_to_spinfree_or_exit, -, -)(__VA_ARGS__)
-
 /* Parse a mode token "3a" / "3b" into 2*3+s; -1 if malformed or out of
  * [0, n). */
 int lam_fragments_parse_mode(const char *tok, int n);

@@ -390,13 +390,16 @@ static long parse_qubit(const char *p)
     return v;
 }
 
-static int32_t parse_group(const lam_reader *r, const lam_line *ln, const char *tok)
+static int parse_group(const lam_reader *r, const lam_line *ln, const char *tok,
+                       int32_t *group, lam_error *err)
 {
     long g;
     if (lam_parse_long(tok + 1, &g) != 0 || g < 0 || g > INT32_MAX || tok[1] == '+' ||
         tok[1] == ' ')
-        lam_reader_fail_line(r, ln->line, "bad group label '%s' (want @N, N >= 0)", tok);
-    return (int32_t)g;
+        return lam_reader_error(r, ln->line, err, "bad group label '%s' (want @N, N >= 0)",
+                                tok);
+    *group = (int32_t)g;
+    return 0;
 }
 
 static inline void clear_words(int nw, uint64_t *x, uint64_t *z)
@@ -414,29 +417,33 @@ typedef struct {
     int nqubits, nw;
     uint64_t *x, *z;
     long need;
+    lam_error *err;
 } term_target;
 
 /* Put qubit q under a letter ('X','Y','Z' of either case). */
-static inline void set_qubit(term_target *t, long q, char letter)
+static inline int set_qubit(term_target *t, long q, char letter)
 {
     if (t->nqubits >= 0 && q >= t->nqubits)
-        lam_reader_fail_line(t->r, t->ln->line,
-                             "qubit index %ld out of range (the stream has %d qubits)", q,
-                             t->nqubits);
+        return lam_reader_error(t->r, t->ln->line, t->err,
+                                "qubit index %ld out of range (the stream has %d qubits)", q,
+                                t->nqubits);
     if (q >= 64L * t->nw) {
         if (t->nqubits >= 0)
-            lam_fail(LAM_EX_SOFTWARE, "internal: %d words too few for %d qubits", t->nw,
-                     t->nqubits);
+            return lam_error_set(t->err, LAM_EX_SOFTWARE,
+                                 "internal: %d words too few for %d qubits", t->nw,
+                                 t->nqubits);
         if (q + 1 > t->need) t->need = q + 1;
-        return;
+        return 0;
     }
     uint64_t bit = (uint64_t)1 << (q & 63);
     size_t w = (size_t)(q >> 6);
     if ((t->x[w] | t->z[w]) & bit)
-        lam_reader_fail_line(t->r, t->ln->line, "qubit %ld appears twice in one term", q);
+        return lam_reader_error(t->r, t->ln->line, t->err,
+                                "qubit %ld appears twice in one term", q);
     letter |= 0x20; /* lower case */
     if (letter != 'z') t->x[w] |= bit;
     if (letter != 'x') t->z[w] |= bit;
+    return 0;
 }
 
 /* Decimal digits at *p (no sign, no leading zero); advances *p; -1 when
@@ -457,11 +464,10 @@ static inline long scan_qubit(const char **p)
 
 /* "x:0,3-5": the qubit list of one letter field, items a or a-b (a <= b),
  * in any order. */
-static void parse_letter_field(term_target *t, const char *tok)
+static int parse_letter_field(term_target *t, const char *tok)
 {
     const char *p = tok + 2;
-    if (!*p)
-        lam_reader_fail_line(t->r, t->ln->line, "empty qubit list in '%s'", tok);
+    if (!*p) return lam_reader_error(t->r, t->ln->line, t->err, "empty qubit list in '%s'", tok);
     for (;;) {
         long a = scan_qubit(&p), b = a;
         if (a >= 0 && *p == '-') {
@@ -469,17 +475,21 @@ static void parse_letter_field(term_target *t, const char *tok)
             b = scan_qubit(&p);
         }
         if (a < 0 || b < 0 || (*p != ',' && *p != '\0'))
-            lam_reader_fail_line(t->r, t->ln->line,
-                                 "bad qubit list in '%s' (want indices and ranges such as "
-                                 "%c:0,3-5)",
-                                 tok, tok[0]);
+            return lam_reader_error(t->r, t->ln->line, t->err,
+                                    "bad qubit list in '%s' (want indices and ranges such as "
+                                    "%c:0,3-5)",
+                                    tok, tok[0]);
         if (b < a)
-            lam_reader_fail_line(t->r, t->ln->line, "backward range %ld-%ld in '%s'", a, b, tok);
-        for (long q = a; q <= b; ++q) set_qubit(t, q, tok[0]);
-        if (*p == '\0') return;
+            return lam_reader_error(t->r, t->ln->line, t->err,
+                                    "backward range %ld-%ld in '%s'", a, b, tok);
+        for (long q = a; q <= b; ++q) {
+            int rc = set_qubit(t, q, tok[0]);
+            if (rc) return rc;
+        }
+        if (*p == '\0') return 0;
         if (*++p == '\0')
-            lam_reader_fail_line(t->r, t->ln->line, "bad qubit list in '%s' (a trailing comma)",
-                                 tok);
+            return lam_reader_error(t->r, t->ln->line, t->err,
+                                    "bad qubit list in '%s' (a trailing comma)", tok);
     }
 }
 
@@ -498,25 +508,29 @@ static int term_spelling(const lam_line *ln)
     return 0;
 }
 
-/* Parse the fields of one term into x, z (nw words).  Returns -1 when the
- * term fits, else the qubit count it needs (only when nqubits < 0, i.e.
- * unbounded, and an index lies beyond the nw words given). */
-static long parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
-                         uint64_t *x, uint64_t *z, int32_t *group)
+/* Parse the fields of one term into x, z (nw words).  *need is -1 when
+ * the term fits, else the qubit count it needs (only when nqubits < 0,
+ * i.e. unbounded, and an index lies beyond the nw words given).  Returns
+ * 0, or the code of a malformed term. */
+static int parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
+                        uint64_t *x, uint64_t *z, int32_t *group, long *need,
+                        lam_error *err)
 {
-    term_target t = {r, ln, nqubits, nw, x, z, -1};
+    term_target t = {r, ln, nqubits, nw, x, z, -1, err};
+    int rc = 0;
     clear_words(nw, x, z);
     *group = -1;
+    *need = -1;
     int spelling = term_spelling(ln);
-    if (spelling) lam_reader_term_syntax(r, ln, spelling);
+    if (spelling && (rc = lam_reader_term_syntax(r, ln, spelling, err)) != 0) return rc;
     unsigned letters_seen = 0;
     for (int f = 0; f < ln->nfields; ++f) {
         const char *tok = ln->fields[f];
         if (tok[0] == '@') {
             if (f != ln->nfields - 1)
-                lam_reader_fail_line(r, ln->line,
-                                     "group label '%s' must be the last field", tok);
-            *group = parse_group(r, ln, tok);
+                return lam_reader_error(r, ln->line, err,
+                                        "group label '%s' must be the last field", tok);
+            if ((rc = parse_group(r, ln, tok, group, err)) != 0) return rc;
             continue;
         }
         char letter = tok[0];
@@ -524,35 +538,40 @@ static long parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
             long q = -1;
             if (letter == 'X' || letter == 'Y' || letter == 'Z') q = parse_qubit(tok + 1);
             if (q < 0)
-                lam_reader_fail_line(r, ln->line,
-                                     "unknown Pauli factor '%s' in a version-1 term "
-                                     "(want X, Y or Z and a qubit index)",
-                                     tok);
-            set_qubit(&t, q, letter);
+                return lam_reader_error(r, ln->line, err,
+                                        "unknown Pauli factor '%s' in a version-1 term "
+                                        "(want X, Y or Z and a qubit index)",
+                                        tok);
+            if ((rc = set_qubit(&t, q, letter)) != 0) return rc;
             continue;
         }
         if ((letter != 'x' && letter != 'y' && letter != 'z') || tok[1] != ':')
-            lam_reader_fail_line(r, ln->line,
-                                 "unknown Pauli field '%s' (want x:, y: or z: and a qubit "
-                                 "list, such as z:1-3,7)",
-                                 tok);
+            return lam_reader_error(r, ln->line, err,
+                                    "unknown Pauli field '%s' (want x:, y: or z: and a qubit "
+                                    "list, such as z:1-3,7)",
+                                    tok);
         unsigned bit = 1u << (letter - 'x');
         if (letters_seen & bit)
-            lam_reader_fail_line(r, ln->line, "letter '%c' has two fields in one term", letter);
+            return lam_reader_error(r, ln->line, err, "letter '%c' has two fields in one term",
+                                    letter);
         letters_seen |= bit;
-        parse_letter_field(&t, tok);
+        if ((rc = parse_letter_field(&t, tok)) != 0) return rc;
     }
-    return t.need;
+    *need = t.need;
+    return 0;
 }
 
-void lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits,
-                            int nw, uint64_t *x, uint64_t *z, int32_t *group)
+int lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
+                           uint64_t *x, uint64_t *z, int32_t *group, lam_error *err)
 {
-    long need = parse_fields(r, ln, nqubits, nw, x, z, group);
+    long need;
+    int rc = parse_fields(r, ln, nqubits, nw, x, z, group, &need, err);
+    if (rc) return rc;
     if (need >= 0)
-        lam_reader_fail_line(r, ln->line,
-                             "qubit index %ld beyond the %d qubits this reader holds",
-                             need - 1, 64 * nw);
+        return lam_reader_error(r, ln->line, err,
+                                "qubit index %ld beyond the %d qubits this reader holds",
+                                need - 1, 64 * nw);
+    return 0;
 }
 
 /* Highest qubit index named in the set + 1. */
@@ -576,26 +595,30 @@ static int highest_qubit(const lam_pauli_set *s)
 /* The reader behind lam_pauli_read*: lines optional.  With merge, the
  * terms read so far are merged every few thousand lines, so repeated
  * strings never pile up and the fresh rows are still in cache. */
-static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge)
+static int read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge,
+                      lam_error *err)
 {
     enum { BATCH = 4096 };
-    long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
+    long declared = -1;
+    if (lines) *lines = NULL;
+    int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
     lam_pauli_set_init(s, declared < 0 ? 0 : (int)declared);
+    if (rc) return rc;
     int bounded = declared >= 0;
     size_t lines_cap = 0, merged = 0;
     lam_rowhash h;
     lam_rowhash_init(&h);
-    if (lines) *lines = NULL;
     lam_line ln;
-    while (lam_reader_next(r, &ln)) {
+    while ((rc = lam_reader_next(r, &ln, err)) == 1) {
         int32_t group;
         long need;
-        /* parse straight into the next row (no scratch buffer that an
-         * error exit would leave unreachable) */
+        /* parse straight into the next row */
         reserve(s, s->count + 1);
-        while ((need = parse_fields(r, &ln, bounded ? s->nqubits : -1, s->nwords,
-                                    lam_pauli_x(s, s->count), lam_pauli_z(s, s->count),
-                                    &group)) >= 0) {
+        for (;;) {
+            rc = parse_fields(r, &ln, bounded ? s->nqubits : -1, s->nwords,
+                              lam_pauli_x(s, s->count), lam_pauli_z(s, s->count), &group,
+                              &need, err);
+            if (rc || need < 0) break;
             int nw = s->nwords;
             lam_pauli_set_grow_qubits(s, (int)need);
             if (s->nwords != nw) { /* the rows changed width: index them again */
@@ -604,6 +627,7 @@ static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge)
                 merged = 0;
             }
         }
+        if (rc) break;
         if (lines && s->count == lines_cap) {
             lines_cap = lines_cap ? lam_mul_size(lines_cap, 2) : 1024;
             *lines = lam_realloc(*lines, lam_mul_size(lines_cap, sizeof(long)));
@@ -621,25 +645,40 @@ static void read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge)
             merged = s->count;
         }
     }
+    if (rc) {
+        lam_rowhash_free(&h);
+        lam_pauli_set_free(s);
+        if (lines) {
+            free(*lines);
+            *lines = NULL;
+        }
+        return rc;
+    }
     if (merge) merge_tail(s, &h, merged);
     lam_rowhash_free(&h);
     if (!bounded) s->nqubits = highest_qubit(s);
+    return 0;
 }
 
-void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines)
+int lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines, lam_error *err)
 {
-    read_terms(r, s, lines, 0);
+    return read_terms(r, s, lines, 0, err);
 }
 
-void lam_pauli_read(lam_reader *r, lam_pauli_set *s) { read_terms(r, s, NULL, 0); }
-
-void lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop)
+int lam_pauli_read(lam_reader *r, lam_pauli_set *s, lam_error *err)
 {
-    read_terms(r, s, NULL, 1);
+    return read_terms(r, s, NULL, 0, err);
+}
+
+int lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop, lam_error *err)
+{
+    int rc = read_terms(r, s, NULL, 1, err);
+    if (rc) return rc;
     if (drop) drop_zeros(s);
+    return 0;
 }
 
-void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
+int lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s, lam_error *err)
 {
     /* a factor takes a space, a letter and at most 8 digits; room for the
      * group label on top */
@@ -648,7 +687,10 @@ void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
     for (size_t t = 0; t < s->count; ++t) {
         int len = lam_pauli_format(buf, size - 16, s->nwords, lam_pauli_x(s, t),
                                    lam_pauli_z(s, t));
-        if (len < 0) lam_fail(LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+        if (len < 0) {
+            free(buf);
+            return lam_error_set(err, LAM_EX_SOFTWARE, "internal: Pauli string buffer too small");
+        }
         if (s->group && s->group[t] >= 0) {
             if (len) buf[len++] = ' ';
             buf[len++] = '@';
@@ -658,6 +700,7 @@ void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s)
         lam_writer_term(w, s->coef[t], buf);
     }
     free(buf);
+    return 0;
 }
 
 double lam_pauli_set_constant(const lam_pauli_set *s)
@@ -679,21 +722,26 @@ int lam_pauli_set_max_weight(const lam_pauli_set *s)
     return top;
 }
 
-void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
+int lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out, lam_error *err)
 {
-    long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
+    long declared = -1;
+    memset(out, 0, sizeof *out);
+    int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
+    if (rc) return rc;
     int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
     uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
     lam_grouped_norm norms = {0};
-    memset(out, 0, sizeof *out);
     lam_line ln;
-    while (lam_reader_next(r, &ln)) {
+    while ((rc = lam_reader_next(r, &ln, err)) == 1) {
         int32_t group;
         long need;
-        while ((need = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group)) >= 0) {
+        while ((rc = parse_fields(r, &ln, (int)declared, nw, xz, xz + nw, &group, &need,
+                                  err)) == 0 &&
+               need >= 0) {
             nw = lam_pauli_words((int)need);
             xz = lam_realloc(xz, lam_mul_size(2 * (size_t)nw, sizeof(uint64_t)));
         }
+        if (rc) break;
         int weight = lam_pauli_weight(nw, xz, xz + nw);
         for (int k = nw - 1; k >= 0; --k)
             if (xz[k] | xz[nw + k]) {
@@ -715,6 +763,7 @@ void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out)
     out->lambda_grouped = lam_grouped_norm_finish(&norms, &out->groups);
     if (declared >= 0) out->nqubits = (int)declared;
     free(xz);
+    return rc;
 }
 
 /* ------------------------------------------------- merging while summing */
@@ -817,7 +866,7 @@ static void *big_realloc(void *old, size_t old_bytes, size_t bytes)
     if (bytes < 2 * huge) return lam_realloc(old, bytes);
     size_t rounded = (bytes + huge - 1) / huge * huge;
     void *p = aligned_alloc(huge, rounded);
-    if (!p) lam_fail(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", rounded);
+    if (!p) lam_out_of_memory(rounded);
 #ifdef MADV_HUGEPAGE
     madvise(p, rounded, MADV_HUGEPAGE); /* a hint: without it, 4 KB pages */
 #endif
@@ -907,7 +956,8 @@ static void key_table_room(key_table *kt, size_t at, size_t len)
 
 /* Add c to the key (len bytes at key, outside the table): a new entry at
  * the arena's end, or the sum of an equal one. */
-static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t hv, double c)
+static int key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t hv, double c,
+                         lam_error *err)
 {
     if (key_table_full(kt, kt->count + 1)) key_table_reserve(kt, kt->count + 1);
     uint64_t fp = KEY_FP(hv);
@@ -922,13 +972,13 @@ static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_
         if (have == len && memcmp(other, key, len) == 0) {
             double sum = entry_coef(entry) + c;
             memcpy(entry, &sum, sizeof sum);
-            return;
+            return 0;
         }
     }
     /* coefficient, varint, key, and 8 spare bytes for key_weight */
     size_t most = sizeof(double) + 10 + len + 8;
     if (kt->arena_len + most >= SLOT_INDEX_MASK)
-        lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
+        return lam_error_set(err, LAM_EX_SOFTWARE, "hash index: too many rows");
     key_table_room(kt, kt->arena_len, most);
     uint8_t *entry = kt->arena + kt->arena_len;
     memcpy(entry, &c, sizeof c);
@@ -937,6 +987,7 @@ static void key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_
     kt->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(kt->arena_len + 1);
     kt->arena_len += head + len;
     ++kt->count;
+    return 0;
 }
 
 static void key_table_free(key_table *kt)
@@ -1094,28 +1145,37 @@ typedef struct {
     double per_entry; /* arena bytes per key so far */
 } key_chunk;
 
+/* The merging thread never ends the process: a failure stops it, is kept
+ * in err (failed set) and handed to the reading thread at its next hand
+ * over or at the end.  Every bad line is found by the reading thread, in
+ * the order of the input, so the first one is the one reported. */
 typedef struct {
     pthread_mutex_t mu;
     pthread_cond_t cv;
     key_chunk chunk[2];
     int full[2]; /* handed over, not yet added */
     int done;    /* no chunk will follow */
+    int stop;    /* the reading thread gave up: add nothing more */
+    int failed;  /* the merging thread stopped on err */
+    lam_error err;
     key_table *kt;
 } merge_pipe;
 
-/* The coefficient of a pending key. */
-static inline double pending_coef(const key_chunk *ch, const pending_key *pk)
+/* The coefficient of a pending key into *c. */
+static inline int pending_coef(const key_chunk *ch, const pending_key *pk, double *c,
+                               lam_error *err)
 {
-    double c = pk->coef;
+    *c = pk->coef;
     if (pk->coef_len &&
-        lam_reader_coefficient((const char *)ch->bytes + pk->at, &c) != 0)
-        lam_fail(LAM_EX_SOFTWARE, "internal: a coefficient checked as plain did not convert");
-    return c;
+        lam_reader_coefficient((const char *)ch->bytes + pk->at, c) != 0)
+        return lam_error_set(err, LAM_EX_SOFTWARE,
+                             "internal: a coefficient checked as plain did not convert");
+    return 0;
 }
 
 /* Size the table for the expected keys, then add the chunk's keys a batch
  * at a time, their slots prefetched first so that the misses overlap. */
-static void add_chunk(key_table *kt, const key_chunk *ch)
+static int add_chunk(key_table *kt, const key_chunk *ch, lam_error *err)
 {
     enum { BATCH = 32 };
     if (ch->expect) {
@@ -1131,13 +1191,18 @@ static void add_chunk(key_table *kt, const key_chunk *ch)
             hash[i - b] = key_hash(ch->bytes + pk->at + pk->coef_len + 1, pk->len);
             key_table_prefetch(kt, hash[i - b]);
         }
-        for (size_t i = b; i < e; ++i) coef[i - b] = pending_coef(ch, &ch->keys[i]);
+        for (size_t i = b; i < e; ++i) {
+            int rc = pending_coef(ch, &ch->keys[i], &coef[i - b], err);
+            if (rc) return rc;
+        }
         for (size_t i = b; i < e; ++i) {
             const pending_key *pk = &ch->keys[i];
-            key_table_add(kt, ch->bytes + pk->at + pk->coef_len + 1, pk->len, hash[i - b],
-                          coef[i - b]);
+            int rc = key_table_add(kt, ch->bytes + pk->at + pk->coef_len + 1, pk->len,
+                                   hash[i - b], coef[i - b], err);
+            if (rc) return rc;
         }
     }
+    return 0;
 }
 
 static void *merge_thread(void *arg)
@@ -1146,37 +1211,46 @@ static void *merge_thread(void *arg)
     for (int k = 0;; k ^= 1) {
         pthread_mutex_lock(&mp->mu);
         while (!mp->full[k] && !mp->done) pthread_cond_wait(&mp->cv, &mp->mu);
-        int have = mp->full[k];
+        int have = mp->full[k] && !mp->stop;
         pthread_mutex_unlock(&mp->mu);
         if (!have) return NULL;
-        add_chunk(mp->kt, &mp->chunk[k]);
+        int failed = add_chunk(mp->kt, &mp->chunk[k], &mp->err) != 0;
         pthread_mutex_lock(&mp->mu);
         mp->full[k] = 0;
+        mp->failed = failed;
         pthread_cond_broadcast(&mp->cv);
         pthread_mutex_unlock(&mp->mu);
+        if (failed) return NULL;
     }
 }
 
 /* Hand chunk k to the merging thread and wait until chunk k^1 is free;
- * 1 when it was not (the merging thread is the slower). */
-static int pipe_hand_over(merge_pipe *mp, int k)
+ * *behind is 1 when it was not (the merging thread is the slower).
+ * Returns the merging thread's code once it has failed, else 0. */
+static int pipe_hand_over(merge_pipe *mp, int k, int *behind)
 {
     pthread_mutex_lock(&mp->mu);
     mp->full[k] = 1;
     pthread_cond_broadcast(&mp->cv);
-    int behind = mp->full[k ^ 1];
-    while (mp->full[k ^ 1]) pthread_cond_wait(&mp->cv, &mp->mu);
+    *behind = mp->full[k ^ 1];
+    while (mp->full[k ^ 1] && !mp->failed) pthread_cond_wait(&mp->cv, &mp->mu);
+    int rc = mp->failed ? mp->err.code : 0;
     pthread_mutex_unlock(&mp->mu);
-    return behind;
+    return rc;
 }
 
-static void pipe_finish(merge_pipe *mp, pthread_t th)
+/* Let the merging thread finish (or, with stop, drop what it has not
+ * started) and join it; the merging thread's code, 0 when it did not
+ * fail. */
+static int pipe_finish(merge_pipe *mp, pthread_t th, int stop)
 {
     pthread_mutex_lock(&mp->mu);
     mp->done = 1;
+    mp->stop = stop;
     pthread_cond_broadcast(&mp->cv);
     pthread_mutex_unlock(&mp->mu);
     pthread_join(th, NULL);
+    return mp->failed ? mp->err.code : 0;
 }
 
 /* Expected distinct keys, from the bytes a line took so far and the bytes
@@ -1227,11 +1301,11 @@ static void chunk_room(key_chunk *ch, size_t room)
 /* One term line into x, z (nw words, grown through *xz when an unbounded
  * stream needs more) and its label; unless `convert`, the coefficient's
  * text is copied to the chunk when it is plain (*coef_len > 0); else it is
- * converted into *coef.  A malformed term exits through the full parser
- * with its message. */
-static void read_term(lam_reader *r, char *text, long line, long declared, int *nw,
-                      uint64_t **xz, int32_t *group, key_chunk *ch, int convert,
-                      size_t *coef_len, double *coef)
+ * converted into *coef.  A malformed term gets its message from the full
+ * parser, and its code is returned. */
+static int read_term(lam_reader *r, char *text, long line, long declared, int *nw,
+                     uint64_t **xz, int32_t *group, key_chunk *ch, int convert,
+                     size_t *coef_len, double *coef, lam_error *err)
 {
     char *p = text;
     while (*p == ' ' || *p == '\t') ++p;
@@ -1255,22 +1329,30 @@ static void read_term(lam_reader *r, char *text, long line, long declared, int *
     /* the fast path once the stream is known to be version 2 */
     if (fast && lam_reader_syntax(r) == 2 &&
         parse_fields_v2(p, limit, *nw, *xz, *xz + *nw, group) == 0)
-        return;
+        return 0;
     lam_line ln;
-    lam_reader_split(r, text, line, &ln);
+    int rc = lam_reader_split(r, text, line, &ln, err);
+    if (rc) return rc;
     long need;
-    while ((need = parse_fields(r, &ln, (int)declared, *nw, *xz, *xz + *nw, group)) >= 0) {
+    while ((rc = parse_fields(r, &ln, (int)declared, *nw, *xz, *xz + *nw, group, &need,
+                              err)) == 0 &&
+           need >= 0) {
         *nw = lam_pauli_words((int)need);
         *xz = lam_realloc(*xz, lam_mul_size(2 * (size_t)*nw, sizeof(uint64_t)));
     }
+    if (rc) return rc;
     *coef_len = 0;
     *coef = ln.coef;
+    return 0;
 }
 
-void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
+int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error *err)
 {
     enum { SIZE_AFTER = 4096 };
-    long declared = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS);
+    long declared = -1;
+    memset(out, 0, sizeof *out);
+    int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
+    if (rc) return rc;
     int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
     uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
     key_table kt = {0};
@@ -1283,15 +1365,16 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
     pthread_t th;
     int threaded = 0, cur = 0, convert = 0;
     size_t lines = 0;
-    memset(out, 0, sizeof *out);
     char *text;
     long line;
-    while (lam_reader_next_text(r, &text, &line)) {
+    while ((rc = lam_reader_next_text(r, &text, &line, err)) == 1) {
         int32_t group;
         double coef = 0;
         size_t coef_len;
         key_chunk *ch = &mp.chunk[cur];
-        read_term(r, text, line, declared, &nw, &xz, &group, ch, convert, &coef_len, &coef);
+        rc = read_term(r, text, line, declared, &nw, &xz, &group, ch, convert, &coef_len, &coef,
+                       err);
+        if (rc) break;
         /* the highest qubit counts only when the stream declares none */
         for (int k = nw - 1; declared < 0 && k >= 0; --k)
             if (xz[k] | xz[nw + k]) {
@@ -1323,22 +1406,35 @@ void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out)
              * thread that waited less: the balance of the two threads
              * differs from machine to machine (the merging thread's share
              * swings with the kernel's zeroing of the table's pages) */
-            convert = pipe_hand_over(&mp, cur);
+            rc = pipe_hand_over(&mp, cur, &convert);
+            if (rc) *err = mp.err; /* the merging thread stopped: it writes no more */
             cur ^= 1;
         } else {
-            add_chunk(&kt, ch);
+            rc = add_chunk(&kt, ch, err);
         }
+        if (rc) break;
         ch = &mp.chunk[cur];
         ch->n = ch->len = ch->key_bytes = ch->expect = 0;
     }
-    if (threaded) pipe_finish(&mp, th);
-    add_chunk(&kt, &mp.chunk[cur]);
-    summarize_table(&kt, out);
-    if (declared >= 0) out->nqubits = (int)declared;
+    /* a line's error (rc, in err) stops the merging thread; else its own
+     * failure, if any, is the one reported */
+    if (threaded) {
+        int merged = pipe_finish(&mp, th, rc != 0);
+        if (!rc && merged) {
+            *err = mp.err;
+            rc = merged;
+        }
+    }
+    if (!rc) rc = add_chunk(&kt, &mp.chunk[cur], err);
+    if (!rc) {
+        summarize_table(&kt, out);
+        if (declared >= 0) out->nqubits = (int)declared;
+    }
     key_table_free(&kt);
     for (int k = 0; k < 2; ++k) {
         free(mp.chunk[k].keys);
         free(mp.chunk[k].bytes);
     }
     free(xz);
+    return rc;
 }

@@ -94,24 +94,24 @@ size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
                           const int32_t *tags, size_t cand);
 
 /* Read the terms of a pauli stream ("qubits:" from the header, else the
- * largest index + 1); exit 65 with file:line on a malformed term. */
-void lam_pauli_read(lam_reader *r, lam_pauli_set *s);
+ * largest index + 1) into s (initialized here); 0, or the code (65 with
+ * file:line on a malformed term, ...) in err with s freed. */
+int lam_pauli_read(lam_reader *r, lam_pauli_set *s, lam_error *err);
 /* The same, and *lines (malloc'd, s->count entries; NULL when the stream
  * has no terms) gets the input line of each term, in order.  lines may be
  * NULL. */
-void lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines);
+int lam_pauli_read_lines(lam_reader *r, lam_pauli_set *s, long **lines, lam_error *err);
 /* lam_pauli_read then lam_pauli_set_merge(s, drop), the same result, but
  * merging as it reads: repeated strings never take room. */
-void lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop);
+int lam_pauli_read_merged(lam_reader *r, lam_pauli_set *s, int drop, lam_error *err);
 /* Parse one term's fields into x,z (zeroed first) and the optional
  * trailing "@g" label (-1 when absent): version 2 ("x:0,3 z:1-2", letters
  * in any order, each at most once, indices and ranges a-b with a <= b in
  * any order) or, by the first field, version 1 ("X0 Z1").  nqubits >= 0: an index from
  * nqubits on is "out of range"; nqubits < 0: any index that fits the nw
- * words.  A repeated qubit, an unknown letter or a bad label: exit 65. */
-void lam_pauli_parse_fields(lam_reader *r, const lam_line *ln,
-                            int nqubits, int nw, uint64_t *x, uint64_t *z,
-                            int32_t *group);
+ * words.  A repeated qubit, an unknown letter or a bad label: 65 in err. */
+int lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int nw,
+                           uint64_t *x, uint64_t *z, int32_t *group, lam_error *err);
 /* What lam-norm reports of a pauli stream, gathered in one pass without
  * storing the terms: valid as the operator's one-norm only when no string
  * appears twice (the writer's "distinct: yes").  Exact zeros are not
@@ -126,13 +126,14 @@ typedef struct {
     int nqubits;        /* "qubits:" or the highest index + 1 */
     int max_weight;
 } lam_pauli_summary;
-void lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out);
+int lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out, lam_error *err);
 /* The same for any pauli stream: repeated (string, label) pairs are merged
  * (summed) first, as compact keys in one hash table, without storing the
  * strings' bits; terms counts the merged ones that are not zero. */
-void lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out);
+int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error *err);
 
-/* Write every term (with "@g" when labelled); not the header. */
-void lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s);
+/* Write every term (with "@g" when labelled); not the header.  0, or 70
+ * should a string outgrow the buffer sized for it (a bug). */
+int lam_pauli_write_terms(lam_writer *w, const lam_pauli_set *s, lam_error *err);
 
 #endif

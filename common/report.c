@@ -179,12 +179,6 @@ int lam_report_save(const lam_report *rep, const char *path, int tsv, lam_error 
     return lam_report_close(f, path, err);
 }
 
-void lam_report_save_or_exit(const lam_report *rep, const char *path, int tsv)
-{
-    lam_error e;
-    if (lam_report_save(rep, path, tsv, &e)) lam_error_exit(&e);
-}
-
 /* ---- --drop ---- */
 
 void lam_drop_parse(lam_drop *d, const char *arg)
@@ -262,14 +256,6 @@ int lam_report_read(const char *path, lam_report_in **out, lam_error *err)
     }
     *out = in;
     return 0;
-}
-
-lam_report_in *lam_report_read_or_exit(const char *path)
-{
-    lam_error e;
-    lam_report_in *in;
-    if (lam_report_read(path, &in, &e)) lam_error_exit(&e);
-    return in;
 }
 
 const char *lam_report_get_str(const lam_report_in *in, const char *key)

@@ -80,12 +80,4 @@ void lam_report_in_free(lam_report_in *in);
 lam_report_in *lam_report_in_new(void);
 void lam_report_in_add(lam_report_in *in, const char *key, const char *value, long line);
 
-/* Exiting forms for lam-cost.c until it passes an err (issue 13). */
-void lam_report_save_or_exit(const lam_report *rep, const char *path, int tsv);
-lam_report_in *lam_report_read_or_exit(const char *path);
-#define lam_report_save(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_report_save, lam_report_save_or_exit, -, -, -)(__VA_ARGS__)
-#define lam_report_read(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_report_read, -, lam_report_read_or_exit, -)(__VA_ARGS__)
-
 #endif

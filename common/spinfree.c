@@ -348,11 +348,3 @@ double lam_spinfree_effective_one_body(const lam_spinfree *sf, int p, int q)
         t += LAM_G(sf, p, q, r, r) - 0.5 * LAM_G(sf, p, r, r, q);
     return t;
 }
-
-lam_spinfree *lam_spinfree_read_or_exit(lam_reader *r)
-{
-    lam_error e;
-    lam_spinfree *sf;
-    if (lam_spinfree_read(r, &sf, &e)) lam_error_exit(&e);
-    return sf;
-}

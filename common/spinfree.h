@@ -51,10 +51,6 @@ int lam_spinfree_read(lam_reader *r, lam_spinfree **out, lam_error *err);
 typedef void (*lam_spinfree_line_visit)(void *ctx, double c, int nidx, const int *idx, long line);
 int lam_spinfree_read_each(lam_reader *r, lam_spinfree_line_visit fn, void *ctx, int *norb,
                            lam_error *err);
-/* Exiting form for lam-sum.c until it passes an err (issue 13). */
-lam_spinfree *lam_spinfree_read_or_exit(lam_reader *r);
-#define lam_spinfree_read(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_spinfree_read, -, lam_spinfree_read_or_exit, -)(__VA_ARGS__)
 /* Visit the terms in stream order: the constant (nidx 0), every non-zero
  * h_pq (nidx 2), and e_pqrs for (pq) <= (rs) with the coefficient of the
  * merged pair (nidx 4), non-zero only. */

@@ -669,94 +669,6 @@ int lam_reader_index(const lam_reader *r, const lam_line *ln, int field, long li
     return 0;
 }
 
-/* ---- exiting forms for callers not converted yet (issue 13) ---- */
-
-static _Noreturn void exit_with(const lam_error *e) { lam_error_exit(e); }
-
-static _Noreturn void vfail_line(const lam_reader *r, long line, const char *fmt, va_list ap)
-{
-    char msg[1024];
-    lam_error e;
-    vsnprintf(msg, sizeof msg, fmt, ap);
-    lam_reader_error(r, line, &e, "%s", msg);
-    exit_with(&e);
-}
-
-void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
-{
-    va_list ap;
-    va_start(ap, fmt);
-    vfail_line(r, line, fmt, ap);
-}
-
-void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
-{
-    va_list ap;
-    va_start(ap, fmt);
-    vfail_line(r, r->lineno, fmt, ap);
-}
-
-lam_reader *lam_reader_open_or_exit(const char *path)
-{
-    lam_error e;
-    lam_reader *r;
-    if (lam_reader_open(path, &r, &e)) exit_with(&e);
-    return r;
-}
-
-lam_kind lam_reader_kind_or_exit(lam_reader *r)
-{
-    lam_error e;
-    lam_kind k;
-    if (lam_reader_kind(r, &k, &e)) exit_with(&e);
-    return k;
-}
-
-int lam_reader_next_or_exit(lam_reader *r, lam_line *out)
-{
-    lam_error e;
-    int rc = lam_reader_next(r, out, &e);
-    if (rc > 1) exit_with(&e);
-    return rc;
-}
-
-int lam_reader_next_text_or_exit(lam_reader *r, char **text, long *line)
-{
-    lam_error e;
-    int rc = lam_reader_next_text(r, text, line, &e);
-    if (rc > 1) exit_with(&e);
-    return rc;
-}
-
-void lam_reader_split_or_exit(lam_reader *r, char *text, long line, lam_line *out)
-{
-    lam_error e;
-    if (lam_reader_split(r, text, line, out, &e)) exit_with(&e);
-}
-
-void lam_reader_term_syntax_or_exit(lam_reader *r, const lam_line *ln, int syntax)
-{
-    lam_error e;
-    if (lam_reader_term_syntax(r, ln, syntax, &e)) exit_with(&e);
-}
-
-long lam_reader_meta_long_or_exit(lam_reader *r, const char *key, long dflt, long min, long max)
-{
-    lam_error e;
-    long v;
-    if (lam_reader_meta_long(r, key, dflt, min, max, &v, &e)) exit_with(&e);
-    return v;
-}
-
-int lam_reader_index_or_exit(const lam_reader *r, const lam_line *ln, int field, long limit,
-                             const char *what)
-{
-    lam_error e;
-    int v = 0;
-    if (lam_reader_index(r, ln, field, limit, what, &v, &e)) exit_with(&e);
-    return v;
-}
-
 /* ------------------------------------------------------------------ */
 /* writer */
 
@@ -910,26 +822,6 @@ void lam_writer_discard(lam_writer *w)
     else if (w->owns_fp) fclose(w->fp);
     free(w->name);
     free(w);
-}
-
-lam_writer *lam_writer_open_or_exit(const char *path, int gzip)
-{
-    lam_error e;
-    lam_writer *w;
-    if (lam_writer_open(path, gzip, &w, &e)) exit_with(&e);
-    return w;
-}
-
-void lam_writer_close_or_exit(lam_writer *w)
-{
-    lam_error e;
-    if (lam_writer_close(w, &e)) exit_with(&e);
-}
-
-void lam_writer_close_raw_or_exit(lam_writer *w)
-{
-    lam_error e;
-    if (lam_writer_close_raw(w, &e)) exit_with(&e);
 }
 
 char *lam_history_from_argv(int argc, char **argv)

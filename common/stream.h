@@ -170,49 +170,6 @@ int lam_writer_close_raw(lam_writer *w, lam_error *err);
  * is closed as it is. */
 void lam_writer_discard(lam_writer *w);
 
-/* ---- exiting forms, for the callers not converted yet (issue 13) ----
- * pauli.c, fockop.c, lam-sum.c and lam-cost.c still call the reader and
- * writer the old way, without err; the macros below send such a call to
- * an exiting form (print, exit).  They go when those files pass an err. */
-_Noreturn void lam_reader_fail(const lam_reader *r, const char *fmt, ...)
-    __attribute__((format(printf, 2, 3)));
-_Noreturn void lam_reader_fail_line(const lam_reader *r, long line, const char *fmt, ...)
-    __attribute__((format(printf, 3, 4)));
-lam_reader *lam_reader_open_or_exit(const char *path);
-lam_kind lam_reader_kind_or_exit(lam_reader *r);
-int lam_reader_next_or_exit(lam_reader *r, lam_line *out);
-int lam_reader_next_text_or_exit(lam_reader *r, char **text, long *line);
-void lam_reader_split_or_exit(lam_reader *r, char *text, long line, lam_line *out);
-void lam_reader_term_syntax_or_exit(lam_reader *r, const lam_line *ln, int syntax);
-long lam_reader_meta_long_or_exit(lam_reader *r, const char *key, long dflt, long min, long max);
-int lam_reader_index_or_exit(const lam_reader *r, const lam_line *ln, int field, long limit,
-                             const char *what);
-lam_writer *lam_writer_open_or_exit(const char *path, int gzip);
-void lam_writer_close_or_exit(lam_writer *w);
-void lam_writer_close_raw_or_exit(lam_writer *w);
-#define lam_reader_open(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_open, -, lam_reader_open_or_exit, -)(__VA_ARGS__)
-#define lam_reader_kind(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_kind, -, lam_reader_kind_or_exit, -)(__VA_ARGS__)
-#define lam_reader_next(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, lam_reader_next, lam_reader_next_or_exit, -, -)(__VA_ARGS__)
-#define lam_reader_next_text(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_reader_next_text, lam_reader_next_text_or_exit, -, -, -)(__VA_ARGS__)
-#define lam_reader_split(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, lam_reader_split, lam_reader_split_or_exit, -, -, -, -)(__VA_ARGS__)
-#define lam_reader_term_syntax(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_reader_term_syntax, lam_reader_term_syntax_or_exit, -, -, -)(__VA_ARGS__)
-#define lam_reader_meta_long(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, lam_reader_meta_long, -, lam_reader_meta_long_or_exit, -, -, -, -, -)(__VA_ARGS__)
-#define lam_reader_index(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, lam_reader_index, -, lam_reader_index_or_exit, -, -, -, -, -)(__VA_ARGS__)
-#define lam_writer_open(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, lam_writer_open, -, lam_writer_open_or_exit, -, -)(__VA_ARGS__)
-#define lam_writer_close(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, -, lam_writer_close, lam_writer_close_or_exit, -)(__VA_ARGS__)
-#define lam_writer_close_raw(...) \
-    LAM_ARITY_PICK(__VA_ARGS__, -, -, -, -, -, lam_writer_close_raw, lam_writer_close_raw_or_exit, -)(__VA_ARGS__)
-
 /* "lam-xxx arg1 arg2 ..." from argv (program basename); caller frees. */
 char *lam_history_from_argv(int argc, char **argv);
 

@@ -12,9 +12,6 @@
 
 static const char *program_name = "lamina";
 static int progress_mode = -1; /* -1: decide from isatty(2) */
-static jmp_buf *fail_target;
-
-void lam_fail_jump(jmp_buf *where) { fail_target = where; }
 
 /* A failing program ends at once: _exit skips stdio flushing, so no
  * half-written result reaches stdout, and skips the leak check of the
@@ -22,7 +19,6 @@ void lam_fail_jump(jmp_buf *where) { fail_target = where; }
  * gives up (leaks are checked on the paths that succeed). */
 static _Noreturn void leave(int code)
 {
-    if (fail_target) longjmp(*fail_target, code);
     fflush(stderr);
     _exit(code);
 }
@@ -50,23 +46,19 @@ static void vreport(const char *file, long line, const char *fmt, va_list ap)
 
 void lam_fail(int code, const char *fmt, ...)
 {
-    if (!fail_target) {
-        va_list ap;
-        va_start(ap, fmt);
-        vreport(NULL, 0, fmt, ap);
-        va_end(ap);
-    }
+    va_list ap;
+    va_start(ap, fmt);
+    vreport(NULL, 0, fmt, ap);
+    va_end(ap);
     leave(code);
 }
 
 void lam_fail_at(int code, const char *file, long line, const char *fmt, ...)
 {
-    if (!fail_target) {
-        va_list ap;
-        va_start(ap, fmt);
-        vreport(file, line, fmt, ap);
-        va_end(ap);
-    }
+    va_list ap;
+    va_start(ap, fmt);
+    vreport(file, line, fmt, ap);
+    va_end(ap);
     leave(code);
 }
 
@@ -133,7 +125,7 @@ void lam_warn(const char *fmt, ...)
     va_end(ap);
 }
 
-static _Noreturn void out_of_memory(size_t n)
+void lam_out_of_memory(size_t n)
 {
     lam_fail(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", n);
 }
@@ -141,21 +133,21 @@ static _Noreturn void out_of_memory(size_t n)
 void *lam_malloc(size_t n)
 {
     void *p = malloc(n ? n : 1);
-    if (!p) out_of_memory(n);
+    if (!p) lam_out_of_memory(n);
     return p;
 }
 
 void *lam_calloc(size_t count, size_t size)
 {
     void *p = calloc(count ? count : 1, size ? size : 1);
-    if (!p) out_of_memory(lam_mul_size(count, size));
+    if (!p) lam_out_of_memory(lam_mul_size(count, size));
     return p;
 }
 
 void *lam_realloc(void *p, size_t n)
 {
     void *q = realloc(p, n ? n : 1);
-    if (!q) out_of_memory(n);
+    if (!q) lam_out_of_memory(n);
     return q;
 }
 

@@ -35,12 +35,6 @@ _Noreturn void lam_fail(int code, const char *fmt, ...)
 _Noreturn void lam_fail_at(int code, const char *file, long line,
                            const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
-/* For the fuzz targets: while set, lam_fail and lam_fail_at print nothing
- * and longjmp to *where with the exit code instead of exiting (what was
- * allocated before the jump is not freed).  NULL restores exiting. */
-#include <setjmp.h>
-void lam_fail_jump(jmp_buf *where);
-
 /* An error handed back by library code.  Library functions that can fail
  * on bad input take a lam_error *err, fill it and return its code (non-zero);
  * only a program's main prints it and exits (lam_error_exit), after freeing
@@ -52,14 +46,6 @@ typedef struct lam_error {
     char file[512]; /* "": no file */
     char msg[512];
 } lam_error;
-
-/* Transition (issue 13): a library function that now takes an err is
- * called the old way, without it, from files not converted yet; a macro of
- * the function's name picks the new function or an exiting "_or_exit" form
- * by the number of arguments: the name for a call with k arguments is the
- * (8-k)th entry of the list after them (7 entries and a spare).  The
- * macros go when every caller passes an err. */
-#define LAM_ARITY_PICK(_1, _2, _3, _4, _5, _6, _7, name, ...) name
 
 /* Clear *err (code LAM_EX_OK). */
 void lam_error_clear(lam_error *err);
@@ -78,6 +64,9 @@ _Noreturn void lam_error_exit(const lam_error *err);
 /* Print "prog: msg" as a warning; does not exit. */
 void lam_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 
+/* The one fatal path the library keeps: "out of memory (asked for n
+ * bytes)", exit 70; also for allocators of their own (huge pages). */
+_Noreturn void lam_out_of_memory(size_t n);
 /* Checked allocation: on failure print "out of memory" and exit 70. */
 void *lam_malloc(size_t n);
 void *lam_calloc(size_t count, size_t size);

@@ -2,11 +2,9 @@
 # fuzz/run.sh TARGET-BINARY CORPUS-DIR SECONDS LOG
 # Runs a libFuzzer target for SECONDS in short processes of RUNS inputs
 # each, sharing one corpus directory (so coverage guidance carries over).
-# Why: the readers hand rejected input back as an error and free what they
-# read, but the Pauli reader still exits, turned into a longjmp by
-# fuzz-stream.c, which leaves its set behind; short processes keep that
-# bounded instead of running out of memory.  Exit 1 on the first crash,
-# with the tail of the log.
+# The readers hand rejected input back as an error and free what they
+# read on every path, so LeakSanitizer is on: a leak is a crash.  Exit 1
+# on the first crash, with the tail of the log.
 set -u
 bin=$1 corpus=$2 seconds=$3 log=$4
 runs=${FUZZ_RUNS_PER_PROCESS:-400}
@@ -16,8 +14,8 @@ total=0
 while :; do
     left=$((seconds - ($(date +%s) - start)))
     [ "$left" -le 0 ] && break
-    ASAN_OPTIONS=detect_leaks=0 "$bin" -runs="$runs" -max_total_time="$left" -rss_limit_mb=2048 \
-        -detect_leaks=0 -print_final_stats=1 -artifact_prefix="$(dirname "$log")/" "$corpus" >> "$log" 2>&1
+    ASAN_OPTIONS=detect_leaks=1 "$bin" -runs="$runs" -max_total_time="$left" -rss_limit_mb=2048 \
+        -detect_leaks=1 -print_final_stats=1 -artifact_prefix="$(dirname "$log")/" "$corpus" >> "$log" 2>&1
     rc=$?
     if [ $rc -ne 0 ]; then
         tail -40 "$log"

@@ -176,13 +176,6 @@ static int declared_qubits(lam_reader *r, int *qubits, lam_error *err)
     return rc;
 }
 
-static int read_pauli_merged(lam_reader *r, lam_pauli_set *s, lam_error *err)
-{
-    (void)err; /* pauli.c still exits on bad input */
-    lam_pauli_read_merged(r, s, 1); /* repeated strings never take room */
-    return 0;
-}
-
 static int next_report_line(lam_reader *r, char **text, long *line, int *more, lam_error *err)
 {
     int rc = lam_reader_next_text(r, text, line, err);
@@ -234,7 +227,7 @@ static int summary_from_pauli_stream(lam_reader *r, const options *o, lam_lcu_su
     lam_pauli_set s;
     lam_pauli_set_init(&s, qubits);
     double t0 = lam_seconds();
-    int rc = read_pauli_merged(r, &s, err);
+    int rc = lam_pauli_read_merged(r, &s, 1, err); /* repeated strings never take room */
     if (rc == 0) {
         lam_progress("read %zu distinct Pauli terms in %.2f s", s.count, lam_seconds() - t0);
         lam_cost_summary_from_pauli(&s, !o->ungrouped, lcu);

@@ -205,11 +205,14 @@ static int run_check(const options *o)
     int commuting = stream_is_commuting(r, o->group.commuting);
     lam_pauli_set s;
     long *lines = NULL;
-    lam_pauli_read_lines(r, &s, &lines);
+    lam_error err;
+    if (lam_pauli_read_lines(r, &s, &lines, &err)) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     size_t a, b;
     if (lam_group_check(&s, commuting, &a, &b)) {
         char msg[600];
-        lam_error err;
         long line = describe_pair(msg, sizeof msg, &s, lines, a, b, commuting);
         lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), line, "%s", msg);
         free(lines);
@@ -242,7 +245,6 @@ static int run_check(const options *o)
     lam_report_num(rep, "lambda", lam_pauli_set_lambda(&op));
     lam_report_num(rep, commuting ? "group_norm_sum" : "lambda_grouped", grouped);
     lam_pauli_set_free(&op);
-    lam_error err;
     int rc = lam_report_save(rep, o->report ? o->report : o->output, o->tsv, &err);
     lam_report_free(rep);
     free(lines);
@@ -288,7 +290,11 @@ static int run_group(const options *o, int argc, char **argv)
     double t0 = lam_seconds();
     lam_reader *r = open_pauli(o->input);
     lam_pauli_set in;
-    lam_pauli_read(r, &in);
+    lam_error err;
+    if (lam_pauli_read(r, &in, &err)) {
+        lam_reader_close(r);
+        lam_error_exit(&err);
+    }
     lam_meta meta;
     lam_meta_init(&meta);
     lam_meta_copy(&meta, lam_reader_meta(r));
@@ -309,16 +315,17 @@ static int run_group(const options *o, int argc, char **argv)
     lam_meta_set(&meta, "grouping", o->group.commuting ? "commuting" : "anticommuting");
     char *history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
-    lam_error err;
     FILE *report = NULL;
     lam_writer *w = NULL;
     int rc = o->report ? lam_report_open(o->report, &report, &err) : 0;
     if (!rc) rc = lam_writer_open(o->output, o->gzip, &w, &err);
     if (!rc) {
         lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
-        lam_pauli_write_terms(w, &out);
-        rc = lam_writer_close(w, &err);
-        w = NULL;
+        rc = lam_pauli_write_terms(w, &out, &err);
+        if (!rc) {
+            rc = lam_writer_close(w, &err);
+            w = NULL;
+        }
     }
     add_report(rep, o, &st, lam_seconds() - t0);
     if (!rc && report) {

@@ -124,17 +124,16 @@ static int norm_fragments(lam_report *rep, lam_reader *r, lam_error *err)
     return 0;
 }
 
-static void norm_pauli(lam_report *rep, lam_reader *r)
+static int norm_pauli(lam_report *rep, lam_reader *r, lam_error *err)
 {
     /* a stream whose writer stated "distinct: yes" is summed as it is read;
      * any other merges repeated strings first */
     const char *distinct = lam_meta_get(lam_reader_meta(r), "distinct");
     lam_pauli_summary sum;
     double t0 = lam_seconds();
-    if (distinct && strcmp(distinct, "yes") == 0)
-        lam_pauli_summarize(r, &sum);
-    else
-        lam_pauli_summarize_merged(r, &sum);
+    int rc = distinct && strcmp(distinct, "yes") == 0 ? lam_pauli_summarize(r, &sum, err)
+                                                      : lam_pauli_summarize_merged(r, &sum, err);
+    if (rc) return rc;
     lam_progress("%zu terms read in %.1f s", sum.terms, lam_seconds() - t0);
     lam_report_int(rep, "terms", (long long)sum.terms);
     lam_report_num(rep, "constant", sum.constant);
@@ -142,6 +141,7 @@ static void norm_pauli(lam_report *rep, lam_reader *r)
     if (sum.labelled) report_groups(rep, r, sum.groups, sum.lambda_grouped);
     lam_report_int(rep, "qubits", sum.nqubits);
     lam_report_int(rep, "max_weight", sum.max_weight);
+    return 0;
 }
 
 typedef struct {
@@ -212,7 +212,7 @@ static int norm_stream(const char *path, const char *label, lam_kind forced, lam
     switch (kind) {
     case LAM_KIND_SPINFREE: rc = norm_spinfree(rep, r, err); break;
     case LAM_KIND_FERMION: rc = norm_fermion(rep, r, err); break;
-    case LAM_KIND_PAULI: norm_pauli(rep, r); break;
+    case LAM_KIND_PAULI: rc = norm_pauli(rep, r, err); break;
     case LAM_KIND_FRAGMENTS: rc = norm_fragments(rep, r, err); break;
     case LAM_KIND_UNKNOWN:
         rc = lam_reader_error(r, lam_reader_lineno(r), err,

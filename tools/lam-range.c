@@ -361,7 +361,7 @@ static int range_of_pauli(held *h, lam_kind kind, const char *src, const options
     int jw;
     long header_electrons;
     if (lam_reader_meta_long(h->r, "electrons", -1, 0, 128, &header_electrons, err)) return err->code;
-    lam_fockop_read_stream(h->r, kind, &h->set, &order, &jw);
+    if (lam_fockop_read_stream(h->r, kind, &h->set, &order, &jw, err)) return err->code;
     h->have_set = 1;
     if (*electrons < 0) *electrons = (int)header_electrons;
     if (lam_fockop_new(&h->set, src, &h->op, err)) return err->code;

@@ -410,13 +410,6 @@ static int read_spinfree(lam_reader *r, lam_spinfree **sf, lam_error *err)
     return rc;
 }
 
-static int read_pauli(lam_reader *r, lam_pauli_set *s, lam_error *err)
-{
-    (void)err;
-    lam_pauli_read(r, s);
-    return 0;
-}
-
 /* ---- the sum ---- */
 
 typedef struct {
@@ -455,7 +448,7 @@ static int add_terms(sum *s, lam_reader *r, lam_kind k, double factor, lam_error
     } else if (k == LAM_KIND_PAULI) {
         lam_pauli_set p;
         lam_pauli_set_init(&p, 0);
-        int rc = read_pauli(r, &p, err);
+        int rc = lam_pauli_read(r, &p, err);
         if (rc == 0) add_pauli(&s->pauli, &p, factor);
         lam_pauli_set_free(&p);
         return rc;
@@ -497,9 +490,10 @@ static int add_input_file(sum *s, const input *in, int i, lam_kind forced, lam_e
     return rc;
 }
 
-/* Tidy the sum (merge, --drop, --sort) and write it to w. */
-static void write_sum(sum *s, options *o, lam_writer *w, const char *history)
+/* Tidy the sum (merge, --drop, --sort) and write it to w; 0 or the code. */
+static int write_sum(sum *s, options *o, lam_writer *w, const char *history, lam_error *err)
 {
+    int rc = 0;
     if (s->kind == LAM_KIND_SPINFREE) {
         if (o->drop.on) drop_spinfree(s->sf, &o->drop);
         lam_spinfree_describe(s->sf, &s->meta);
@@ -514,7 +508,7 @@ static void write_sum(sum *s, options *o, lam_writer *w, const char *history)
         /* merged by (string, label): strings are distinct only unlabelled */
         if (!s->pauli.group) lam_writer_set_distinct(w);
         lam_writer_header(w, s->kind, &s->meta, history);
-        lam_pauli_write_terms(w, &s->pauli);
+        rc = lam_pauli_write_terms(w, &s->pauli, err);
     } else {
         lam_fermion_op ordered;
         lam_fermion_normal_order(&s->fermion, &ordered);
@@ -525,6 +519,7 @@ static void write_sum(sum *s, options *o, lam_writer *w, const char *history)
         lam_fermion_write_terms(w, &ordered);
         lam_fermion_free(&ordered);
     }
+    return rc;
 }
 
 int main(int argc, char **argv)
@@ -546,8 +541,9 @@ int main(int argc, char **argv)
         rc = lam_writer_open(o.out, o.gzip, &w, &err);
     }
     if (rc == 0) {
-        write_sum(&s, &o, w, history);
-        rc = lam_writer_close(w, &err);
+        rc = write_sum(&s, &o, w, history, &err);
+        if (rc == 0) rc = lam_writer_close(w, &err);
+        else lam_writer_discard(w);
     }
     if (rc == 0) lam_drop_say(&o.drop);
     sum_free(&s);

@@ -20,11 +20,13 @@
 #include "testops.h"
 #include "util.h"
 
+
 static void read_set(const char *text, lam_pauli_set *s)
 {
     char *path = test_write_temp(text);
-    lam_reader *r = lam_reader_open(path);
-    lam_pauli_read(r, s);
+    lam_reader *r = test_open_reader(path);
+    lam_error e;
+    tap_ok(test_read_ok(lam_pauli_read(r, s, &e), &e), "the test's stream reads");
     lam_reader_close(r);
     unlink(path);
 }
@@ -33,11 +35,10 @@ static void read_set(const char *text, lam_pauli_set *s)
 static void summarize(const char *text, int merged, lam_pauli_summary *sum)
 {
     char *path = test_write_temp(text);
-    lam_reader *r = lam_reader_open(path);
-    if (merged)
-        lam_pauli_summarize_merged(r, sum);
-    else
-        lam_pauli_summarize(r, sum);
+    lam_reader *r = test_open_reader(path);
+    lam_error e;
+    int rc = merged ? lam_pauli_summarize_merged(r, sum, &e) : lam_pauli_summarize(r, sum, &e);
+    tap_ok(test_read_ok(rc, &e), "the test's stream is summed");
     lam_reader_close(r);
     unlink(path);
 }
@@ -179,9 +180,10 @@ static void test_spinfree_and_majorana(void)
     /* the same through ladder terms and their Majorana monomials */
     lam_fermion_op op;
     lam_majorana_set m;
+    lam_error e;
     lam_fermion_from_spinfree(sf, LAM_SPIN_INTERLEAVED, &op);
     lam_majorana_from_fermion(&op, &m);
-    lam_majorana_require_hermitian(&m, "test");
+    tap_ok(lam_majorana_require_hermitian(&m, "test", &e) == 0, "majorana: Hermitian");
     tap_near(lam_majorana_lambda(&m), 1.1, 1e-14, "majorana: ladder expansion of it gives 1.1 too");
     lam_majorana_free(&m);
     lam_fermion_free(&op);
@@ -192,7 +194,7 @@ static void test_spinfree_and_majorana(void)
     int32_t ops[2] = {LAM_CREATE(0), LAM_ANNIHILATE(0)};
     lam_fermion_add(&op, 0.5, ops, 2, 0);
     lam_majorana_from_fermion(&op, &m);
-    lam_majorana_require_hermitian(&m, "test");
+    tap_ok(lam_majorana_require_hermitian(&m, "test", &e) == 0, "majorana: Hermitian");
     tap_near(lam_majorana_lambda(&m), 0.25, 1e-16, "majorana: 0.5 n_0 has lambda 0.25");
     lam_majorana_free(&m);
     lam_fermion_free(&op);

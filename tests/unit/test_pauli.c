@@ -18,6 +18,7 @@ typedef double complex cplx;
 /* The Pauli matrices (fact of the trade, common practice):
  * I, X = [[0,1],[1,0]], Y = [[0,-i],[i,0]], Z = [[1,0],[0,-1]];
  * index 0..3 in the order I X Y Z. */
+
 static void pauli_matrix(int which, cplx m[4])
 {
     static const cplx mats[4][4] = {
@@ -260,9 +261,10 @@ static void test_read(void)
     const char *text = "#% lamina-op 2\n#% kind: pauli\n#% qubits: 6\n"
                        "-0.5\n0.25 x:0 y:1 z:5\n1e-3 z:2 @7\n#% end\n";
     char *path = test_write_temp(text);
-    lam_reader *r = lam_reader_open(path);
+    lam_reader *r = test_open_reader(path);
     lam_pauli_set s;
-    lam_pauli_read(r, &s);
+    lam_error e;
+    tap_ok(test_read_ok(lam_pauli_read(r, &s, &e), &e), "reader: a good stream reads");
     lam_reader_close(r);
     char buf[64];
     int ok = s.count == 3 && s.nqubits == 6 && s.coef[0] == -0.5 &&
@@ -276,9 +278,9 @@ static void test_read(void)
 
     /* without a header: the qubit count grows to the largest index */
     path = test_write_temp("1 x:3\n2 z:130 x:1\n");
-    r = lam_reader_open(path);
+    r = test_open_reader(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
-    lam_pauli_read(r, &s);
+    tap_ok(test_read_ok(lam_pauli_read(r, &s, &e), &e), "reader: a headerless stream reads");
     lam_reader_close(r);
     ok = s.count == 2 && s.nqubits == 131 && s.nwords == 3 && lam_pauli_x(&s, 0)[0] == 8 &&
          lam_pauli_z(&s, 1)[2] == 4 && lam_pauli_x(&s, 1)[0] == 2;
@@ -291,9 +293,10 @@ static void test_read(void)
 static void read_text(const char *text, lam_pauli_set *s)
 {
     char *path = test_write_temp(text);
-    lam_reader *r = lam_reader_open(path);
+    lam_reader *r = test_open_reader(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
-    lam_pauli_read(r, s);
+    lam_error e;
+    tap_ok(test_read_ok(lam_pauli_read(r, s, &e), &e), "reader: the text reads");
     lam_reader_close(r);
     unlink(path);
 }
@@ -393,16 +396,17 @@ static void test_read_merged(void)
     }
     fclose(f);
     lam_pauli_set a, b;
-    lam_reader *r = lam_reader_open(path);
+    lam_reader *r = test_open_reader(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
-    lam_pauli_read(r, &a);
+    lam_error e;
+    int read = test_read_ok(lam_pauli_read(r, &a, &e), &e);
     lam_reader_close(r);
     lam_pauli_set_merge(&a, 1);
-    r = lam_reader_open(path);
+    r = test_open_reader(path);
     lam_reader_force_kind(r, LAM_KIND_PAULI);
-    lam_pauli_read_merged(r, &b, 1);
+    read = test_read_ok(lam_pauli_read_merged(r, &b, 1, &e), &e) && read;
     lam_reader_close(r);
-    int ok = a.count == b.count && a.nqubits == b.nqubits && a.nwords == b.nwords &&
+    int ok = read && a.count == b.count && a.nqubits == b.nqubits && a.nwords == b.nwords &&
              memcmp(a.bits, b.bits, a.count * 2 * (size_t)a.nwords * sizeof(uint64_t)) == 0 &&
              memcmp(a.coef, b.coef, a.count * sizeof(double)) == 0 &&
              memcmp(a.group, b.group, a.count * sizeof(int32_t)) == 0;

@@ -9,6 +9,8 @@
 #include <string.h>
 
 #include "spinfree.h"
+#include "stream.h"
+#include "util.h"
 
 /* text in a new temporary file; its path (static, until the next call),
  * NULL when none can be made.  The caller unlinks it. */
@@ -22,6 +24,26 @@ static inline char *test_write_temp(const char *text)
     fputs(text, f);
     fclose(f);
     return path;
+}
+
+/* A reader on path; a test that cannot open its own file stops (66). */
+static inline lam_reader *test_open_reader(const char *path)
+{
+    lam_error e;
+    lam_reader *r;
+    if (lam_reader_open(path, &r, &e)) {
+        lam_error_print(&e);
+        exit(66);
+    }
+    return r;
+}
+
+/* 1 when a reader returned 0; else 0, its message on stderr (a test that
+ * expects good input fails on it). */
+static inline int test_read_ok(int rc, const lam_error *e)
+{
+    if (rc) lam_error_print(e);
+    return rc == 0;
 }
 
 /* Uniform in [-1, 1) from an xorshift state (any nonzero seed). */
