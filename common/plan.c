@@ -8,6 +8,7 @@
 #include <string.h>
 #include <sys/stat.h>
 #include <time.h>
+#include <unistd.h>
 
 #include "util.h"
 
@@ -251,7 +252,9 @@ int lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e,
         return lam_error_set(err, LAM_EX_IOERR, "%s: cannot create the resume directory: %s", dir,
                              strerror(errno));
     block_path(dir, e, path, sizeof path);
-    snprintf(tmp, sizeof tmp, "%s.tmp", path);
+    /* a name of this process's own: two runs on one directory (a job
+     * started twice) must not write into each other's half-written file */
+    snprintf(tmp, sizeof tmp, "%s.%ld.tmp", path, (long)getpid());
     FILE *f = fopen(tmp, "w");
     if (!f) return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write: %s", tmp, strerror(errno));
     fprintf(f, "lamina-range-block 1\n%016llx %d %d %zu", (unsigned long long)fp, e->na, e->nb, e->dim);

@@ -128,7 +128,9 @@ mkdir -p "$TMP/resume"
 # (6 orbitals: 49 sectors, each small)
 chain_op 6 > "$TMP/chain.op"
 lam lam-range --quiet --no-multiplets "$TMP/chain.op" > "$TMP/whole.rep"
-( lam lam-range --quiet --no-multiplets --resume "$TMP/resume" "$TMP/chain.op" > /dev/null 2>&1 & pid=$!
+# the program itself in the background (not the lam function, whose
+# subshell would be killed while the program ran on beside the second run)
+( ${LAM_WRAP:-} "$LAM_BIN/lam-range" --quiet --no-multiplets --resume "$TMP/resume" "$TMP/chain.op" > /dev/null 2>&1 & pid=$!
   for i in $(seq 600); do
       [ "$(ls "$TMP/resume" | grep -c '\.block$')" -ge 6 ] && break
       sleep 0.1
