@@ -16,7 +16,7 @@ CC      := gcc
 endif
 SHELL   := /bin/bash
 
-WARN    := -std=c11 -Wall -Wextra -Werror
+WARN    := -std=c11 -Wall -Wextra -Wshadow -Wpedantic -Werror
 # cblas.h lives in Debian's multiarch include directory.
 MULTIARCH := $(shell $(CC) -print-multiarch 2>/dev/null)
 CPPFLAGS += -D_POSIX_C_SOURCE=200809L -Icommon $(if $(MULTIARCH),-I/usr/include/$(MULTIARCH))
@@ -144,7 +144,7 @@ fuzz: deps-build deps-fuzz
 	@mkdir -p $(FUZZ_BIN)
 	@for f in $(FUZZ_SRC); do \
 	  n=$$(basename $$f .c); \
-	  clang -std=c11 -g -O1 -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined $(CPPFLAGS) -Ifuzz $$f $(LIB_SRC) \
+	  clang $(WARN) -g -O1 -fsanitize=fuzzer,address,undefined -fno-sanitize-recover=undefined $(CPPFLAGS) -Ifuzz $$f $(LIB_SRC) \
 	    $(LDLIBS) -o $(FUZZ_BIN)/$$n || exit 1; \
 	  mkdir -p $(FUZZ_BIN)/corpus-$$n; cp fuzz/corpus/$$n/* $(FUZZ_BIN)/corpus-$$n/ 2>/dev/null; \
 	  echo "== $$n for $(FUZZ_SECONDS) s"; \

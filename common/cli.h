@@ -25,10 +25,10 @@
 
 #include <getopt.h>
 
-#include "stream.h" /* LAM_OPT_ALLOW_EMPTY */
-
-/* getopt_long value of the long-only --progress (outside the characters). */
+/* getopt_long values of the long-only --progress and --allow-empty (outside
+ * the characters). */
 #define LAM_OPT_PROGRESS 0x4c50
+#define LAM_OPT_ALLOW_EMPTY 0x4c45
 
 #define LAM_CLI_HELP {"help", no_argument, 0, 'h'}
 #define LAM_CLI_VERSION {"version", no_argument, 0, 'V'}

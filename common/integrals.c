@@ -231,10 +231,10 @@ static void shell_pair_build(shell_pair *sp, const lam_basis *b, int ia, int ib)
     sp->centre = lam_malloc(lam_mul_size(maxprim, 3 * sizeof *sp->centre));
     sp->e = lam_malloc(lam_mul_size(maxprim, (size_t)sp->nab * sp->nherm * sizeof *sp->e));
     sp->ket_e = lam_malloc(lam_mul_size(maxprim, (size_t)sp->nab * sp->nherm * sizeof *sp->ket_e));
-    double ab[3], r2 = 0.0;
+    double rab[3], r2 = 0.0;
     for (int k = 0; k < 3; ++k) {
-        ab[k] = A->center[k] - B->center[k];
-        r2 += ab[k] * ab[k];
+        rab[k] = A->center[k] - B->center[k];
+        r2 += rab[k] * rab[k];
     }
     double norm_a[6], norm_b[6];
     int pa[6][3], pb[6][3];
@@ -397,8 +397,10 @@ void lam_int_overlap(const lam_basis *b, double *s)
 }
 
 /* Kinetic energy of one primitive pair in one direction from 1-D
- * overlaps: d2/dx2 x^j e^{-b x^2} = j(j-1) x^{j-2} - 2b(2j+1) x^j + 4b^2 x^{j+2}. */
-static double kinetic_1d(const hermite_1d e, double bexp, int i, int j, double s0)
+ * overlaps: d2/dx2 x^j e^{-b x^2} = j(j-1) x^{j-2} - 2b(2j+1) x^j + 4b^2 x^{j+2}.
+ * e is read only; it is not declared const because C11 does not convert a
+ * pointer to arrays into a pointer to const arrays (-Wpedantic). */
+static double kinetic_1d(hermite_1d e, double bexp, int i, int j, double s0)
 {
     double t = -2.0 * bexp * (2 * j + 1) * e[i][j][0] + 4.0 * bexp * bexp * e[i][j + 2][0];
     if (j >= 2) t += j * (j - 1) * e[i][j - 2][0];

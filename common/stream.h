@@ -21,10 +21,6 @@
  * they are. */
 #define LAM_COEF_MAX 1e100
 
-/* getopt_long value of the long-only option --allow-empty, the same in
- * every program that reads a stream. */
-#define LAM_OPT_ALLOW_EMPTY 0x4c45
-
 typedef enum {
     LAM_KIND_UNKNOWN = 0,
     LAM_KIND_SPINFREE,

@@ -1,11 +1,11 @@
 /* lam-factor - fermionic fragments (double factorization, greedy full-rank
  * fragments) of a spin-free Hamiltonian, written as a fragments stream. */
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "factor.h"
 #include "fragments.h"
 #include "norm.h"
@@ -74,7 +74,7 @@ static double non_negative(const char *opt, const char *arg)
 
 static void parse_args(int argc, char **argv, cli *c)
 {
-    enum { OPT_TOL = 256, OPT_CUTOFF, OPT_MAXFRAG, OPT_MAXITER, OPT_PROGRESS };
+    enum { OPT_TOL = 256, OPT_CUTOFF, OPT_MAXFRAG, OPT_MAXITER };
     static const struct option opts[] = {
         {"method", required_argument, 0, 'm'},
         {"tol", required_argument, 0, OPT_TOL},
@@ -86,22 +86,16 @@ static void parse_args(int argc, char **argv, cli *c)
         {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS},
+        LAM_CLI_PROGRESS,
         {"threads", required_argument, 0, 'j'},
-        {"quiet", no_argument, 0, 'q'},
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     int o;
     memset(c, 0, sizeof *c);
     c->method = LAM_FACTOR_DOUBLE;
     c->max_fragments = c->max_iter = -1;
-    opterr = 0;
     long threads = 0;
-    while ((o = getopt_long(argc, argv, ":m:r:tl:o:zqhVj:", opts, NULL)) != -1) {
+    while ((o = lam_cli_next(argc, argv, ":m:r:tl:o:zqhVj:", opts)) != -1) {
         switch (o) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm': c->method = parse_method(optarg); break;
         case OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
         case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
@@ -112,12 +106,8 @@ static void parse_args(int argc, char **argv, cli *c)
         case 'l': c->label = optarg; break;
         case 'o': c->out = optarg; break;
         case 'z': c->gzip = 1; break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
         case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        case 'q': lam_progress_set(0); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, o == ':');
+        default: lam_cli_common(o, argv, usage);
         }
     }
     lam_blas_threads(threads);

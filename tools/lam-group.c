@@ -1,10 +1,10 @@
 /* lam-group - Pauli terms into mutually anticommuting groups (each group is
  * a unitary up to scale), or check the groups of a labelled stream. */
-#include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "group.h"
 #include "norm.h"
 #include "pauli.h"
@@ -60,8 +60,7 @@ typedef struct {
     const char *output, *report, *input, *label;
 } options;
 
-enum { OPT_REFINE = 256, OPT_SPLIT, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK,
-       OPT_PROGRESS };
+enum { OPT_REFINE = 256, OPT_SPLIT, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK };
 
 static void parse_options(int argc, char **argv, options *o)
 {
@@ -78,19 +77,12 @@ static void parse_options(int argc, char **argv, options *o)
         {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS},
-        {"quiet", no_argument, 0, 'q'},
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     lam_group_options_default(&o->group);
     int c;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":m:r:tl:o:zqhV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":m:r:tl:o:zqhV", opts)) != -1) {
         switch (c) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'm':
             if (lam_group_method_parse(optarg, &o->group.method) != 0)
                 lam_usage_error("--method wants sorted or best, not '%s'", optarg);
@@ -109,11 +101,7 @@ static void parse_options(int argc, char **argv, options *o)
         case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
-        case 'q': lam_progress_set(0); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     if (argc - optind > 1) lam_usage_error("one input stream at a time");

@@ -1,9 +1,9 @@
 /* lam-ints - FCIDUMP integrals to a spinfree (or fermion) operator stream. */
-#include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "fcidump.h"
 #include "fermion.h"
 #include "spinfree.h"
@@ -40,14 +40,13 @@ int main(int argc, char **argv)
     static const struct option opts[] = {
         {"electrons", required_argument, 0, 'n'}, {"fermion", no_argument, 0, OPT_FERMION},
         {"spin-order", required_argument, 0, OPT_SPIN_ORDER}, {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'}, {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'}, {0, 0, 0, 0}};
+        {"gzip", no_argument, 0, 'z'}, LAM_CLI_HELP,
+        LAM_CLI_VERSION, LAM_CLI_END};
     long electrons = -1;
     int fermion = 0, gzip = 0, c;
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
     const char *out = NULL;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":n:o:zhV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":n:o:zhV", opts)) != -1) {
         switch (c) {
         case 'n': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
         case OPT_FERMION: fermion = 1; break;
@@ -57,9 +56,7 @@ int main(int argc, char **argv)
             break;
         case 'o': out = optarg; break;
         case 'z': gzip = 1; break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     if (argc - optind > 1) lam_usage_error("one FCIDUMP at a time");

@@ -1,11 +1,11 @@
 /* lam-map - spinfree or fermion operator stream to Pauli strings. */
 #include <assert.h>
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "encoding.h"
 #include "fermion.h"
 #include "pauli.h"
@@ -53,7 +53,7 @@ typedef struct {
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_SPIN_ORDER = 256, OPT_PROGRESS };
+    enum { OPT_SPIN_ORDER = 256 };
     static const struct option opts[] = {
         {"encoding", required_argument, 0, 'e'},
         {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
@@ -61,17 +61,10 @@ static void parse_options(int argc, char **argv, options *o)
         {"kind", required_argument, 0, 'k'},
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS},
-        {"quiet", no_argument, 0, 'q'},
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     int c;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":e:d:k:o:zqhV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":e:d:k:o:zqhV", opts)) != -1) {
         switch (c) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'e':
             if (lam_encoding_parse(optarg, &o->encoding) != 0)
                 lam_usage_error("--encoding wants jordan-wigner, bravyi-kitaev or parity, not '%s'",
@@ -92,11 +85,7 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
-        case 'q': lam_progress_set(0); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     if (argc - optind > 1) lam_usage_error("one stream at a time");

@@ -1,10 +1,10 @@
 /* lam-norm - one-norm, constant and term count of an operator stream. */
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "fermion.h"
 #include "fragments.h"
 #include "norm.h"
@@ -154,22 +154,17 @@ typedef struct {
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_PROGRESS = 256 };
     static const struct option opts[] = {
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
+        LAM_CLI_ALLOW_EMPTY,
         {"kind", required_argument, 0, 'k'},     {"tsv", no_argument, 0, 't'},
         {"label", required_argument, 0, 'l'},    {"output", required_argument, 0, 'o'},
-        {"progress", no_argument, 0, OPT_PROGRESS}, {"quiet", no_argument, 0, 'q'},
-        {"help", no_argument, 0, 'h'},           {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     int c;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
     o->labels = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->labels));
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":k:tl:o:qhV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":k:tl:o:qhV", opts)) != -1) {
         switch (c) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 'k':
             if (lam_kind_parse(optarg, &o->forced) != 0)
                 lam_usage_error("--kind wants spinfree, fermion, pauli or fragments, not '%s'",
@@ -178,11 +173,7 @@ static void parse_options(int argc, char **argv, options *o)
         case 't': o->tsv = 1; break;
         case 'l': o->labels[o->nlabels++] = optarg; break;
         case 'o': o->output = optarg; break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
-        case 'q': lam_progress_set(0); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     int streams = argc - optind > 0 ? argc - optind : 1;

@@ -1,12 +1,12 @@
 /* lam-range - extreme eigenvalues by (Na, Nb) sector, the Fock space and an
  * electron-number block, certified by residuals. */
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "ci.h"
+#include "cli.h"
 #include "fockop.h"
 #include "norm.h"
 #include "pauli.h"
@@ -100,10 +100,10 @@ static void parse_sector(const char *arg, options *o)
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { O_LOW = 256, O_HIGH, O_TOL, O_BOUNDS, O_BSUB, O_BTOL, O_MULT, O_NOMULT, O_PROGRESS, O_CHECK,
+    enum { O_LOW = 256, O_HIGH, O_TOL, O_BOUNDS, O_BSUB, O_BTOL, O_MULT, O_NOMULT, O_CHECK,
            O_RESUME };
     static const struct option opts[] = {
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
+        LAM_CLI_ALLOW_EMPTY,
         {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'n'},
         {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
         {"tol", required_argument, 0, O_TOL}, {"max-memory", required_argument, 0, 'M'},
@@ -111,11 +111,11 @@ static void parse_options(int argc, char **argv, options *o)
         {"bound-energy-tol", required_argument, 0, O_BTOL},
         {"multiplets", no_argument, 0, O_MULT}, {"no-multiplets", no_argument, 0, O_NOMULT},
         {"threads", required_argument, 0, 'j'}, {"kind", required_argument, 0, 'k'},
-        {"progress", no_argument, 0, O_PROGRESS}, {"quiet", no_argument, 0, 'q'},
+        LAM_CLI_PROGRESS, LAM_CLI_QUIET,
         {"tsv", no_argument, 0, 't'}, {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},
         {"check-steps", required_argument, 0, O_CHECK}, {"resume", required_argument, 0, O_RESUME},
-        {"help", no_argument, 0, 'h'}, {"version", no_argument, 0, 'V'}, {0, 0, 0, 0}};
+        LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     o->run.sector_na = o->run.sector_nb = -1;
     o->electrons = -1;
@@ -125,10 +125,8 @@ static void parse_options(int argc, char **argv, options *o)
     o->run.check_steps = 300;
     o->multiplets = -1; /* default: on for spinfree input without --sector */
     int low = 0, high = 0, c;
-    opterr = 0;
-    while ((c = getopt_long(argc, argv, ":s:n:M:j:k:qtl:o:hV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":s:n:M:j:k:qtl:o:hV", opts)) != -1) {
         switch (c) {
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
         case 's': parse_sector(optarg, o); break;
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 128); break;
         case O_LOW: low = 1; break;
@@ -159,14 +157,10 @@ static void parse_options(int argc, char **argv, options *o)
             if (lam_kind_parse(optarg, &o->kind) || o->kind == LAM_KIND_FRAGMENTS)
                 lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
             break;
-        case O_PROGRESS: lam_progress_set(1); break;
-        case 'q': lam_progress_set(0); break;
         case 't': o->tsv = 1; break;
         case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     if (argc - optind > 1) lam_usage_error("one stream at a time");

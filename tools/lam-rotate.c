@@ -1,12 +1,12 @@
 /* lam-rotate - the same operator in real orbitals chosen to lower lambda. */
 #include <cblas.h>
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
 
+#include "cli.h"
 #include "report.h"
 #include "rotate.h"
 #include "shift.h"
@@ -75,7 +75,7 @@ typedef struct {
 } options;
 
 enum { O_OBJ = 256, O_START, O_STARTS, O_WITHIN, O_MATRIX, O_ITER, O_STAGES, O_MU, O_ROUNDS,
-       O_GTOL, O_FTOL, O_PROGRESS };
+       O_GTOL, O_FTOL };
 
 static void parse_options(int argc, char **argv, options *o)
 {
@@ -90,17 +90,14 @@ static void parse_options(int argc, char **argv, options *o)
         {"threads", required_argument, 0, 'j'},     {"report", required_argument, 0, 'r'},
         {"tsv", no_argument, 0, 't'},               {"label", required_argument, 0, 'l'},
         {"output", required_argument, 0, 'o'},      {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, O_PROGRESS},   {"quiet", no_argument, 0, 'q'},
-        {"help", no_argument, 0, 'h'},              {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     lam_rotate_default_options(&o->ro);
     o->electrons = -1;
     o->start = "given";
     o->ro.starts = -1;
-    opterr = 0;
     int c;
-    while ((c = getopt_long(argc, argv, ":S:n:j:r:tl:o:zqhV", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":S:n:j:r:tl:o:zqhV", opts)) != -1) {
         switch (c) {
         case O_OBJ:
             if (lam_rotate_objective_parse(optarg, &o->ro.objective) != 0)
@@ -134,11 +131,7 @@ static void parse_options(int argc, char **argv, options *o)
         case 'l': o->label = optarg; break;
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
-        case O_PROGRESS: lam_progress_set(1); break;
-        case 'q': lam_progress_set(0); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     if (argc - optind > 1) lam_usage_error("one input stream at a time");

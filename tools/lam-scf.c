@@ -1,12 +1,12 @@
 /* lam-scf - geometry to restricted Hartree-Fock to FCIDUMP. */
 #include <errno.h>
 #include <math.h>
-#include <getopt.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "basis.h"
+#include "cli.h"
 #include "fcidump.h"
 #include "report.h"
 #include "molecule.h"
@@ -66,7 +66,7 @@ static _Noreturn void usage(void)
 
 enum {
     OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ENERGY_TOL, OPT_GRADIENT_TOL, OPT_MAXIT,
-    OPT_DIIS_DEPTH, OPT_SCHWARZ, OPT_CUTOFF, OPT_PROGRESS, OPT_START, OPT_STABILITY,
+    OPT_DIIS_DEPTH, OPT_SCHWARZ, OPT_CUTOFF, OPT_START, OPT_STABILITY,
     OPT_ENERGY_ONLY
 };
 
@@ -104,10 +104,9 @@ static void parse_options(int argc, char **argv, options *o)
         {"cutoff", required_argument, 0, OPT_CUTOFF},
         {"max-memory", required_argument, 0, 'M'},
         {"energy-only", no_argument, 0, OPT_ENERGY_ONLY}, {"tsv", no_argument, 0, 't'},
-        {"output", required_argument, 0, 'o'},  {"progress", no_argument, 0, OPT_PROGRESS},
+        {"output", required_argument, 0, 'o'},  LAM_CLI_PROGRESS,
         {"threads", required_argument, 0, 'j'},
-        {"quiet", no_argument, 0, 'q'},         {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},       {0, 0, 0, 0}};
+        LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
     static const char *const stabilities[] = {"follow", "check", "off"};
     memset(o, 0, sizeof *o);
@@ -118,9 +117,8 @@ static void parse_options(int argc, char **argv, options *o)
     o->max_memory = lam_machine_memory();
     lam_scf_options_default(&o->scf);
     int c;
-    opterr = 0;
     long threads = 0;
-    while ((c = getopt_long(argc, argv, ":b:c:f:a:M:to:qhVj:", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":b:c:f:a:M:to:qhVj:", opts)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
@@ -150,12 +148,9 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_ENERGY_ONLY: o->energy_only = 1; break;
         case 't': o->tsv = 1; break;
         case 'o': o->output = optarg; break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
         case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        case 'q': o->quiet = 1; lam_progress_set(0); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        case 'q': o->quiet = 1; lam_cli_common(c, argv, usage); break;
+        default: lam_cli_common(c, argv, usage);
         }
     }
     lam_blas_threads(threads);

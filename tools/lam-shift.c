@@ -1,11 +1,11 @@
 /* lam-shift - the optimal symmetry shift H - K, certified by an LP gap. */
 #include <errno.h>
-#include <getopt.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "fermion.h"
 #include "lp.h"
 #include "report.h"
@@ -73,7 +73,7 @@ typedef struct {
 } options;
 
 enum { OPT_TERMS = 256, OPT_SPIN, OPT_SZ, OPT_ORDER, OPT_EMIT, OPT_RECORDED, OPT_GAP, OPT_ITER,
-       OPT_DUMP, OPT_PROGRESS };
+       OPT_DUMP };
 
 static void parse_options(int argc, char **argv, options *o)
 {
@@ -93,22 +93,17 @@ static void parse_options(int argc, char **argv, options *o)
         {"dump-lp", required_argument, 0, OPT_DUMP},
         {"output", required_argument, 0, 'o'},
         {"gzip", no_argument, 0, 'z'},
-        {"progress", no_argument, 0, OPT_PROGRESS},
+        LAM_CLI_PROGRESS,
         {"threads", required_argument, 0, 'j'},
-        {"quiet", no_argument, 0, 'q'},
-        {"allow-empty", no_argument, 0, LAM_OPT_ALLOW_EMPTY},
-        {"help", no_argument, 0, 'h'},
-        {"version", no_argument, 0, 'V'},
-        {0, 0, 0, 0}};
+        LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     o->electrons = -1;
     o->terms = 0;
     o->gap = 1e-10;
     o->max_iter = 200;
     int explicit_terms = 0, c;
-    opterr = 0;
     long threads = 0;
-    while ((c = getopt_long(argc, argv, ":n:r:tl:o:zqhVj:", opts, NULL)) != -1) {
+    while ((c = lam_cli_next(argc, argv, ":n:r:tl:o:zqhVj:", opts)) != -1) {
         switch (c) {
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
         case OPT_TERMS:
@@ -144,13 +139,8 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_DUMP: o->dump = optarg; break;
         case 'o': o->output = optarg; break;
         case 'z': o->gzip = 1; break;
-        case OPT_PROGRESS: lam_progress_set(1); break;
         case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        case 'q': lam_progress_set(0); break;
-        case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
-        case 'h': usage();
-        case 'V': lam_print_version();
-        default: lam_bad_option(argv[optind - 1], optopt, c == ':');
+        default: lam_cli_common(c, argv, usage);
         }
     }
     lam_blas_threads(threads);
