@@ -1,6 +1,8 @@
 /* cli.c - the command-line options every program shares (see cli.h). */
 #include "cli.h"
 
+#include <string.h>
+
 #include "stream.h"
 #include "util.h"
 
@@ -20,4 +22,47 @@ void lam_cli_common(int c, char **argv, void (*usage)(void))
     case LAM_OPT_ALLOW_EMPTY: lam_reader_allow_empty(1); break;
     default: lam_bad_option(argv[optind - 1], optopt, c == ':');
     }
+}
+
+/* The value of a shared option into its place: 1, or 0 when c is none of
+ * them or f has no place for it. */
+static int store_option(int c, const lam_cli_fields *f)
+{
+    if (c == 'o' && f->output) *f->output = optarg;
+    else if (c == 'z' && f->gzip) *f->gzip = 1;
+    else if (c == 'r' && f->report) *f->report = optarg;
+    else if (c == 't' && f->tsv) *f->tsv = 1;
+    else if (c == 'l' && f->label) *f->label = optarg;
+    else if (c == 'j' && f->threads) *f->threads = lam_opt_long("--threads", optarg, 1, 1024);
+    else if (c == 'M' && f->max_memory) *f->max_memory = lam_opt_size("--max-memory", optarg);
+    else return 0;
+    return 1;
+}
+
+void lam_cli_option(int c, char **argv, void (*usage)(void), const lam_cli_fields *f)
+{
+    if (f && store_option(c, f)) return;
+    if (c == 'q' && f && f->quiet) *f->quiet = 1; /* and progress off: */
+    lam_cli_common(c, argv, usage);
+}
+
+static int is_stdout(const char *path)
+{
+    return !path || strcmp(path, "-") == 0;
+}
+
+void lam_cli_report_needs(const lam_cli_fields *f, const char *what)
+{
+    const char *report = *f->report;
+    if (!report && (*f->tsv || *f->label))
+        lam_usage_error("%s formats the --report; give --report FILE",
+                        *f->tsv ? "--tsv" : "--label");
+    if (report && strcmp(report, "-") == 0 && is_stdout(*f->output))
+        lam_usage_error("--report - needs -o FILE: stdout carries the %s", what);
+}
+
+const char *lam_cli_operand(int argc, char **argv, const char *too_many)
+{
+    if (argc - optind > 1) lam_usage_error("%s", too_many);
+    return optind < argc ? argv[optind] : NULL;
 }

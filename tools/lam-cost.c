@@ -100,14 +100,9 @@ static void parse_options(int argc, char **argv, options *o)
         {"rot-bits", required_argument, 0, OPT_ROT},
         {"ungrouped", no_argument, 0, OPT_UNGROUPED},
         {"kind", required_argument, 0, OPT_KIND},
-        {"tsv", no_argument, 0, 't'},
-        {"label", required_argument, 0, 'l'},
-        {"output", required_argument, 0, 'o'},
-        LAM_CLI_QUIET,
-        LAM_CLI_PROGRESS,
-        LAM_CLI_HELP,
-        LAM_CLI_VERSION,
-        LAM_CLI_END};
+        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+    const lam_cli_fields f = {.tsv = &o->tsv, .label = &o->label, .output = &o->output,
+                              .quiet = &o->quiet};
     memset(o, 0, sizeof *o);
     o->error = LAM_COST_DEFAULT_ERROR;
     o->split[0] = LAM_COST_DEFAULT_SPLIT_PHASE;
@@ -137,14 +132,7 @@ static void parse_options(int argc, char **argv, options *o)
                 (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS))
                 lam_usage_error("option --kind wants pauli or fragments, not '%s'", optarg);
             break;
-        case 't': o->tsv = 1; break;
-        case 'l': o->label = optarg; break;
-        case 'o': o->output = optarg; break;
-        case 'q':
-            o->quiet = 1; /* and no progress: */
-            lam_cli_common(c, argv, usage);
-            break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
     o->inputs = argv + optind;

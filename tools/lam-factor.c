@@ -81,19 +81,15 @@ static void parse_args(int argc, char **argv, cli *c)
         {"cutoff", required_argument, 0, OPT_CUTOFF},
         {"max-fragments", required_argument, 0, OPT_MAXFRAG},
         {"max-iter", required_argument, 0, OPT_MAXITER},
-        {"report", required_argument, 0, 'r'},
-        {"tsv", no_argument, 0, 't'},
-        {"label", required_argument, 0, 'l'},
-        {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},
-        LAM_CLI_PROGRESS,
-        {"threads", required_argument, 0, 'j'},
-        LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_THREADS, LAM_CLI_ALLOW_EMPTY,
+        LAM_CLI_STANDARD, LAM_CLI_END};
+    long threads = 0;
+    const lam_cli_fields f = {.report = &c->report, .tsv = &c->tsv, .label = &c->label,
+                              .output = &c->out, .gzip = &c->gzip, .threads = &threads};
     int o;
     memset(c, 0, sizeof *c);
     c->method = LAM_FACTOR_DOUBLE;
     c->max_fragments = c->max_iter = -1;
-    long threads = 0;
     while ((o = lam_cli_next(argc, argv, ":m:r:tl:o:zqhVj:", opts)) != -1) {
         switch (o) {
         case 'm': c->method = parse_method(optarg); break;
@@ -101,22 +97,14 @@ static void parse_args(int argc, char **argv, cli *c)
         case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
         case OPT_MAXFRAG: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
         case OPT_MAXITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
-        case 'r': c->report = optarg; break;
-        case 't': c->tsv = 1; break;
-        case 'l': c->label = optarg; break;
-        case 'o': c->out = optarg; break;
-        case 'z': c->gzip = 1; break;
-        case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        default: lam_cli_common(o, argv, usage);
+        default: lam_cli_option(o, argv, usage, &f);
         }
     }
     lam_blas_threads(threads);
-    if (argc - optind > 1) lam_usage_error("one input stream at a time");
-    c->in = optind < argc ? argv[optind] : NULL;
-    if (c->tsv && !c->report) lam_usage_error("--tsv formats the --report; give --report FILE");
-    if (c->label && !c->report) lam_usage_error("--label names the --report; give --report FILE");
-    if (c->report && strcmp(c->report, "-") == 0 && (!c->out || strcmp(c->out, "-") == 0))
-        lam_usage_error("--report - needs -o FILE: stdout carries the stream");
+    c->in = lam_cli_operand(argc, argv, "one input stream at a time");
+    if (c->label && !c->tsv && !c->report)
+        lam_usage_error("--label names the --report; give --report FILE");
+    lam_cli_report_needs(&f, "stream");
     if (c->method == LAM_FACTOR_FULL_RANK && c->tol_set && c->tol == 0.0)
         lam_usage_error("--tol 0 cannot be reached by full-rank fragments: give a positive "
                         "residual");

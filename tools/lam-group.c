@@ -72,12 +72,9 @@ static void parse_options(int argc, char **argv, options *o)
         {"split-iterations", required_argument, 0, OPT_SPLIT_ITER},
         {"commuting", no_argument, 0, OPT_COMMUTING},
         {"check", no_argument, 0, OPT_CHECK},
-        {"report", required_argument, 0, 'r'},
-        {"tsv", no_argument, 0, 't'},
-        {"label", required_argument, 0, 'l'},
-        {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},
-        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
+    const lam_cli_fields f = {.report = &o->report, .tsv = &o->tsv, .label = &o->label,
+                              .output = &o->output, .gzip = &o->gzip};
     memset(o, 0, sizeof *o);
     lam_group_options_default(&o->group);
     int c;
@@ -96,22 +93,12 @@ static void parse_options(int argc, char **argv, options *o)
             break;
         case OPT_COMMUTING: o->group.commuting = 1; break;
         case OPT_CHECK: o->check = 1; break;
-        case 'r': o->report = optarg; break;
-        case 't': o->tsv = 1; break;
-        case 'l': o->label = optarg; break;
-        case 'o': o->output = optarg; break;
-        case 'z': o->gzip = 1; break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
-    if (argc - optind > 1) lam_usage_error("one input stream at a time");
+    o->input = lam_cli_operand(argc, argv, "one input stream at a time");
     /* --check writes no stream: its report goes to --report, else -o, else stdout */
-    if (!o->check && !o->report && (o->tsv || o->label))
-        lam_usage_error("%s formats the --report; give --report FILE", o->tsv ? "--tsv" : "--label");
-    if (!o->check && o->report && strcmp(o->report, "-") == 0 &&
-        (!o->output || strcmp(o->output, "-") == 0))
-        lam_usage_error("--report - needs -o FILE: stdout carries the stream");
-    o->input = optind < argc ? argv[optind] : NULL;
+    if (!o->check) lam_cli_report_needs(&f, "stream");
 }
 
 /* The input stream, refused (freed, program ended) unless it is a pauli

@@ -39,13 +39,13 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     static const struct option opts[] = {
         {"electrons", required_argument, 0, 'n'}, {"fermion", no_argument, 0, OPT_FERMION},
-        {"spin-order", required_argument, 0, OPT_SPIN_ORDER}, {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'}, LAM_CLI_HELP,
-        LAM_CLI_VERSION, LAM_CLI_END};
+        {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
+        LAM_CLI_STREAM_OUT, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     long electrons = -1;
     int fermion = 0, gzip = 0, c;
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
     const char *out = NULL;
+    const lam_cli_fields f = {.output = &out, .gzip = &gzip};
     while ((c = lam_cli_next(argc, argv, ":n:o:zhV", opts)) != -1) {
         switch (c) {
         case 'n': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
@@ -54,13 +54,10 @@ int main(int argc, char **argv)
             if (lam_spin_order_parse(optarg, &order) != 0)
                 lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
             break;
-        case 'o': out = optarg; break;
-        case 'z': gzip = 1; break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
-    if (argc - optind > 1) lam_usage_error("one FCIDUMP at a time");
-    const char *path = optind < argc ? argv[optind] : NULL;
+    const char *path = lam_cli_operand(argc, argv, "one FCIDUMP at a time");
 
     lam_error err;
     lam_fcidump *fd;

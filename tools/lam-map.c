@@ -59,9 +59,8 @@ static void parse_options(int argc, char **argv, options *o)
         {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
         {"drop", required_argument, 0, 'd'},
         {"kind", required_argument, 0, 'k'},
-        {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},
-        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
+    const lam_cli_fields f = {.output = &o->output, .gzip = &o->gzip};
     int c;
     while ((c = lam_cli_next(argc, argv, ":e:d:k:o:zqhV", opts)) != -1) {
         switch (c) {
@@ -83,13 +82,10 @@ static void parse_options(int argc, char **argv, options *o)
                 (o->kind != LAM_KIND_SPINFREE && o->kind != LAM_KIND_FERMION))
                 lam_usage_error("--kind wants spinfree or fermion, not '%s'", optarg);
             break;
-        case 'o': o->output = optarg; break;
-        case 'z': o->gzip = 1; break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
-    if (argc - optind > 1) lam_usage_error("one stream at a time");
-    o->input = optind < argc ? argv[optind] : NULL;
+    o->input = lam_cli_operand(argc, argv, "one stream at a time");
 }
 
 /* Past this size the dense h and (pq|rs) of a spinfree stream are not

@@ -155,10 +155,9 @@ typedef struct {
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        LAM_CLI_ALLOW_EMPTY,
-        {"kind", required_argument, 0, 'k'},     {"tsv", no_argument, 0, 't'},
-        {"label", required_argument, 0, 'l'},    {"output", required_argument, 0, 'o'},
-        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_ALLOW_EMPTY,      {"kind", required_argument, 0, 'k'},
+        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+    const lam_cli_fields f = {.tsv = &o->tsv, .output = &o->output};
     int c;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
@@ -170,10 +169,8 @@ static void parse_options(int argc, char **argv, options *o)
                 lam_usage_error("--kind wants spinfree, fermion, pauli or fragments, not '%s'",
                                 optarg);
             break;
-        case 't': o->tsv = 1; break;
-        case 'l': o->labels[o->nlabels++] = optarg; break;
-        case 'o': o->output = optarg; break;
-        default: lam_cli_common(c, argv, usage);
+        case 'l': o->labels[o->nlabels++] = optarg; break; /* one per stream */
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
     int streams = argc - optind > 0 ? argc - optind : 1;

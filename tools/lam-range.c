@@ -106,16 +106,15 @@ static void parse_options(int argc, char **argv, options *o)
         LAM_CLI_ALLOW_EMPTY,
         {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'n'},
         {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
-        {"tol", required_argument, 0, O_TOL}, {"max-memory", required_argument, 0, 'M'},
+        {"tol", required_argument, 0, O_TOL}, LAM_CLI_MAX_MEMORY,
         {"bounds", optional_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
         {"bound-energy-tol", required_argument, 0, O_BTOL},
         {"multiplets", no_argument, 0, O_MULT}, {"no-multiplets", no_argument, 0, O_NOMULT},
         {"threads", required_argument, 0, 'j'}, {"kind", required_argument, 0, 'k'},
-        LAM_CLI_PROGRESS, LAM_CLI_QUIET,
-        {"tsv", no_argument, 0, 't'}, {"label", required_argument, 0, 'l'},
-        {"output", required_argument, 0, 'o'},
         {"check-steps", required_argument, 0, O_CHECK}, {"resume", required_argument, 0, O_RESUME},
-        LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+    const lam_cli_fields f = {.max_memory = &o->run.max_memory, .tsv = &o->tsv,
+                              .label = &o->label, .output = &o->output};
     memset(o, 0, sizeof *o);
     o->run.sector_na = o->run.sector_nb = -1;
     o->electrons = -1;
@@ -135,7 +134,6 @@ static void parse_options(int argc, char **argv, options *o)
             o->run.tol = lam_opt_double("--tol", optarg);
             if (!(o->run.tol > 0)) lam_usage_error("--tol must be positive");
             break;
-        case 'M': o->run.max_memory = lam_opt_size("--max-memory", optarg); break;
         case O_BOUNDS:
             /* --bounds=always: inner bounds even where an exact solve fits
              * (to compare the two, or when the exact one would be slow) */
@@ -157,14 +155,10 @@ static void parse_options(int argc, char **argv, options *o)
             if (lam_kind_parse(optarg, &o->kind) || o->kind == LAM_KIND_FRAGMENTS)
                 lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
             break;
-        case 't': o->tsv = 1; break;
-        case 'l': o->label = optarg; break;
-        case 'o': o->output = optarg; break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
-    if (argc - optind > 1) lam_usage_error("one stream at a time");
-    o->input = optind < argc ? argv[optind] : NULL;
+    o->input = lam_cli_operand(argc, argv, "one stream at a time");
     o->run.want_low = low || !high;
     o->run.want_high = high || !low;
     if (!o->run.max_memory) o->run.max_memory = lam_machine_memory();

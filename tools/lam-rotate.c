@@ -87,10 +87,9 @@ static void parse_options(int argc, char **argv, options *o)
         {"stages", required_argument, 0, O_STAGES}, {"mu", required_argument, 0, O_MU},
         {"rounds", required_argument, 0, O_ROUNDS}, {"gtol", required_argument, 0, O_GTOL},
         {"ftol", required_argument, 0, O_FTOL},
-        {"threads", required_argument, 0, 'j'},     {"report", required_argument, 0, 'r'},
-        {"tsv", no_argument, 0, 't'},               {"label", required_argument, 0, 'l'},
-        {"output", required_argument, 0, 'o'},      {"gzip", no_argument, 0, 'z'},
-        LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_THREADS, LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_STANDARD, LAM_CLI_END};
+    const lam_cli_fields f = {.threads = &o->threads, .report = &o->report, .tsv = &o->tsv,
+                              .label = &o->label, .output = &o->output, .gzip = &o->gzip};
     memset(o, 0, sizeof *o);
     lam_rotate_default_options(&o->ro);
     o->electrons = -1;
@@ -125,17 +124,10 @@ static void parse_options(int argc, char **argv, options *o)
             o->ro.ftol = lam_opt_double("--ftol", optarg);
             if (!(o->ro.ftol >= 0)) lam_usage_error("--ftol wants a fraction >= 0, not '%s'", optarg);
             break;
-        case 'j': o->threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        case 'r': o->report = optarg; break;
-        case 't': o->tsv = 1; break;
-        case 'l': o->label = optarg; break;
-        case 'o': o->output = optarg; break;
-        case 'z': o->gzip = 1; break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
-    if (argc - optind > 1) lam_usage_error("one input stream at a time");
-    o->input = optind < argc ? argv[optind] : NULL;
+    o->input = lam_cli_operand(argc, argv, "one input stream at a time");
 }
 
 /* The operator into *out (NULL on error). */

@@ -102,11 +102,12 @@ static void parse_options(int argc, char **argv, options *o)
         {"stability", required_argument, 0, OPT_STABILITY},
         {"schwarz", required_argument, 0, OPT_SCHWARZ},
         {"cutoff", required_argument, 0, OPT_CUTOFF},
-        {"max-memory", required_argument, 0, 'M'},
-        {"energy-only", no_argument, 0, OPT_ENERGY_ONLY}, {"tsv", no_argument, 0, 't'},
-        {"output", required_argument, 0, 'o'},  LAM_CLI_PROGRESS,
-        {"threads", required_argument, 0, 'j'},
-        LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        {"energy-only", no_argument, 0, OPT_ENERGY_ONLY},
+        LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT, LAM_CLI_THREADS, LAM_CLI_STANDARD,
+        LAM_CLI_END};
+    long threads = 0;
+    const lam_cli_fields f = {.max_memory = &o->max_memory, .tsv = &o->tsv, .output = &o->output,
+                              .threads = &threads, .quiet = &o->quiet};
     static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
     static const char *const stabilities[] = {"follow", "check", "off"};
     memset(o, 0, sizeof *o);
@@ -117,7 +118,6 @@ static void parse_options(int argc, char **argv, options *o)
     o->max_memory = lam_machine_memory();
     lam_scf_options_default(&o->scf);
     int c;
-    long threads = 0;
     while ((c = lam_cli_next(argc, argv, ":b:c:f:a:M:to:qhVj:", opts)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
@@ -144,13 +144,8 @@ static void parse_options(int argc, char **argv, options *o)
             o->cutoff = lam_opt_double("--cutoff", optarg);
             if (o->cutoff < 0) lam_usage_error("--cutoff must not be negative");
             break;
-        case 'M': o->max_memory = lam_opt_size("--max-memory", optarg); break;
         case OPT_ENERGY_ONLY: o->energy_only = 1; break;
-        case 't': o->tsv = 1; break;
-        case 'o': o->output = optarg; break;
-        case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        case 'q': o->quiet = 1; lam_cli_common(c, argv, usage); break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
     lam_blas_threads(threads);
@@ -158,8 +153,7 @@ static void parse_options(int argc, char **argv, options *o)
         lam_usage_error("--energy-tol and --gradient-tol must be positive");
     if (o->scf.schwarz < 0) lam_usage_error("--schwarz must not be negative");
     if (o->tsv && !o->energy_only) lam_usage_error("--tsv goes with --energy-only");
-    if (argc - optind > 1) lam_usage_error("one molecule at a time");
-    o->input = optind < argc ? argv[optind] : NULL;
+    o->input = lam_cli_operand(argc, argv, "one molecule at a time");
     if (!lam_basis_set_find(o->basis))
         lam_usage_error("unknown basis '%s' (known: %s)", o->basis, lam_basis_set_names());
     o->scf.report = !o->quiet && lam_progress_enabled();

@@ -87,22 +87,18 @@ static void parse_options(int argc, char **argv, options *o)
         {"emit-recorded", no_argument, 0, OPT_RECORDED},
         {"gap", required_argument, 0, OPT_GAP},
         {"max-iter", required_argument, 0, OPT_ITER},
-        {"report", required_argument, 0, 'r'},
-        {"tsv", no_argument, 0, 't'},
-        {"label", required_argument, 0, 'l'},
         {"dump-lp", required_argument, 0, OPT_DUMP},
-        {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},
-        LAM_CLI_PROGRESS,
-        {"threads", required_argument, 0, 'j'},
-        LAM_CLI_QUIET, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_THREADS, LAM_CLI_ALLOW_EMPTY,
+        LAM_CLI_STANDARD, LAM_CLI_END};
+    long threads = 0;
+    const lam_cli_fields f = {.report = &o->report, .tsv = &o->tsv, .label = &o->label,
+                              .output = &o->output, .gzip = &o->gzip, .threads = &threads};
     memset(o, 0, sizeof *o);
     o->electrons = -1;
     o->terms = 0;
     o->gap = 1e-10;
     o->max_iter = 200;
     int explicit_terms = 0, c;
-    long threads = 0;
     while ((c = lam_cli_next(argc, argv, ":n:r:tl:o:zqhVj:", opts)) != -1) {
         switch (c) {
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
@@ -133,26 +129,16 @@ static void parse_options(int argc, char **argv, options *o)
                 lam_usage_error("--gap wants a relative gap between 0 and 1, not '%s'", optarg);
             break;
         case OPT_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case 'r': o->report = optarg; break;
-        case 'l': o->label = optarg; break;
-        case 't': o->tsv = 1; break;
         case OPT_DUMP: o->dump = optarg; break;
-        case 'o': o->output = optarg; break;
-        case 'z': o->gzip = 1; break;
-        case 'j': threads = lam_opt_long("--threads", optarg, 1, 1024); break;
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
     lam_blas_threads(threads);
-    if (!o->report && (o->tsv || o->label))
-        lam_usage_error("%s formats the --report; give --report FILE", o->tsv ? "--tsv" : "--label");
-    if (o->report && strcmp(o->report, "-") == 0 && (!o->output || strcmp(o->output, "-") == 0))
-        lam_usage_error("--report - needs -o FILE: stdout carries the operator");
+    lam_cli_report_needs(&f, "operator");
     if (!explicit_terms) o->terms = LAM_SHIFT_DEFAULT | (o->spin ? LAM_SHIFT_SPIN_DEFAULT : 0);
     if ((o->terms & LAM_SHIFT_SPIN_TERMS) && !o->spin)
         lam_usage_error("--terms b1, b2, zeta and zeta-diag need --spin");
-    if (argc - optind > 1) lam_usage_error("one input stream at a time");
-    o->input = optind < argc ? argv[optind] : NULL;
+    o->input = lam_cli_operand(argc, argv, "one input stream at a time");
 }
 
 /* The operator into *out (NULL on error). */

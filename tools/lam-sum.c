@@ -329,12 +329,8 @@ static void parse_options(int argc, char **argv, options *o)
         {"drop", required_argument, 0, 'd'},
         {"sort", no_argument, 0, OPT_SORT},
         {"kind", required_argument, 0, 'k'},
-        {"output", required_argument, 0, 'o'},
-        {"gzip", no_argument, 0, 'z'},
-        LAM_CLI_ALLOW_EMPTY,
-        LAM_CLI_HELP,
-        LAM_CLI_VERSION,
-        LAM_CLI_END};
+        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+    const lam_cli_fields f = {.output = &o->out, .gzip = &o->gzip};
     int c, scaled = 0;
     double factor = 1.0;
     const char *scale_text = NULL;
@@ -358,11 +354,9 @@ static void parse_options(int argc, char **argv, options *o)
             if (lam_kind_parse(optarg, &o->forced) != 0 || o->forced == LAM_KIND_FRAGMENTS)
                 lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
             break;
-        case 'o': o->out = optarg; break;
-        case 'z': o->gzip = 1; break;
         case '?':
         case ':': refuse_factor_prefix(argc, argv); /* fall through */
-        default: lam_cli_common(c, argv, usage);
+        default: lam_cli_option(c, argv, usage, &f);
         }
     }
     for (int i = optind; i < argc; ++i) add_input(o, argv[i], &scaled, factor); /* after "--" */
