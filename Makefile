@@ -76,7 +76,7 @@ $(BINDIR)/lam-%: tools/lam-%.c $(LIB)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(CFLAGS) $< $(LIB) $(LDFLAGS) $(LDLIBS) -o $@
 
-$(OBJDIR)/unit/%: tests/unit/%.c tests/unit/tap.h tests/unit/testops.h $(LIB)
+$(OBJDIR)/unit/%: tests/unit/%.c tests/unit/tap.h tests/unit/testops.h tests/unit/rng.h $(LIB)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) -Itests/unit $(CFLAGS) $< $(LIB) $(LDFLAGS) $(LDLIBS) -o $@
 

@@ -14,18 +14,12 @@
 #include <stdlib.h>
 #include <string.h>
 
-static uint64_t state = 88172645463325252ULL;
+#include "../tests/unit/rng.h"
 
-static uint64_t next(void)
-{
-    state ^= state << 13;
-    state ^= state >> 7;
-    state ^= state << 17;
-    return state;
-}
+static unsigned long long state = 88172645463325252ULL;
 
-/* Uniform in (-1, 1). */
-static double uniform(void) { return ((double)(next() >> 11) / 9007199254740992.0) * 2.0 - 1.0; }
+static uint64_t next(void) { return test_xorshift(&state); }
+static double uniform(void) { return test_uniform(&state); }
 
 /* One letter's qubits (sorted) as "l:a,b-c" into out; returns the length. */
 static int letter_field(char *out, char letter, const int *qs, int n)

@@ -21,6 +21,7 @@ import lamtest  # noqa: E402
 lamtest.require_references("numpy", "scipy", "psi4")
 import numpy as np  # noqa: E402
 import molecules  # noqa: E402
+import refops  # noqa: E402
 
 t = lamtest.Tap()
 PHASE = 0.8
@@ -67,14 +68,11 @@ def df_parameters(text):
     """(flat lambda, DF lambda, factors, eigenvectors) of a fragments
     stream: each fragment's pair terms give l (l_ij / 4 on every spin pair
     of i != j, l_ii / 4 on (ia, ib)); its eigenpairs are the factors."""
-    n = 0
+    n, rows = refops.stream_rows(text, "orbitals")
     frags = {}
     flat = 0.0
-    for line in text.splitlines():
-        if line.startswith("#% orbitals:"):
-            n = int(line.split(":")[1])
-        f = line.split()
-        if line.startswith("#") or len(f) < 4 or f[1] != "R":
+    for f in rows:
+        if len(f) < 4 or f[1] != "R":
             continue
         c, frag = float(f[0]), int(f[2])
         flat += abs(c)

@@ -38,19 +38,15 @@ t = lamtest.Tap()
 
 def parse(text):
     """(qubits, [(coef, {qubit: letter}, group or None)]) from a stream."""
-    nq, terms = 0, []
-    for line in text.splitlines():
-        if line.startswith("#% qubits:"):
-            nq = int(line.split(":")[1])
-        if not line.strip() or line.startswith("#"):
-            continue
-        fields = line.split()
+    nq, rows = refops.stream_rows(text, "qubits")
+    terms = []
+    for fields in rows:
         group = None
         if fields[-1].startswith("@"):
             group = int(fields.pop()[1:])
         ops = {q: letter for letter, q in refops.parse_pauli_fields(fields[1:])}
         terms.append((float(fields[0]), ops, group))
-    return nq, terms
+    return nq or 0, terms
 
 
 def anticommute(a, b):

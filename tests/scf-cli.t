@@ -133,29 +133,20 @@ is "$(awk 'NF == 5 && $2 ~ /^[0-9]+$/ { k = $2 " " $3 " " $4 " " $5; v = $1 + 0
     "examples/data/water.fcidump = lam-scf --frozen 1 examples/data/water.xyz"
 
 # ---- bad input: message with file:line and the documented exit code
-printf 'H 0 0 0\nXx 0 0 1\n' >"$TMP/bad-element.xyz"
-runlam lam-scf --quiet "$TMP/bad-element.xyz"
-is "$RC" 65 "unknown element: exit 65"
-like "$ERR" "bad-element.xyz:2: unknown element 'Xx'" "unknown element: file:line and reason"
-
-printf 'H 0 0 0\nH 0 0\n' >"$TMP/short.xyz"
-runlam lam-scf --quiet "$TMP/short.xyz"
-is "$RC" 65 "atom line with 3 fields: exit 65"
-like "$ERR" "short.xyz:2: expected \"element x y z\"" "short atom line: file:line and reason"
-
-printf 'H 0 0 0\nH 0 0 0.7x\n' >"$TMP/nan.xyz"
-runlam lam-scf --quiet "$TMP/nan.xyz"
-is "$RC" 65 "coordinate that is not a number: exit 65"
-like "$ERR" "nan.xyz:2: coordinate '0.7x'" "bad coordinate: file:line"
-
-printf '3\ncomment\nH 0 0 0\nH 0 0 0.74\n' >"$TMP/count.xyz"
-runlam lam-scf --quiet "$TMP/count.xyz"
-is "$RC" 65 "atom count does not match: exit 65"
-like "$ERR" "count.xyz:1: 3 atoms declared, 2 found" "atom count: file:line"
-
-printf 'H 0 0 0\nH 0 0 0\n' >"$TMP/same.xyz"
-runlam lam-scf --quiet "$TMP/same.xyz"
-is "$RC" 65 "two nuclei on one point: exit 65"
+# refuses NAME XYZ-TEXT WHAT [REGEX]: lam-scf exits 65 on NAME.xyz, with a
+# message that matches REGEX
+refuses() {
+    printf '%b' "$2" >"$TMP/$1.xyz"
+    runlam lam-scf --quiet "$TMP/$1.xyz"
+    is "$RC" 65 "$3: exit 65"
+    [ -z "$4" ] || like "$ERR" "$4" "$3: file:line and reason"
+}
+refuses bad-element 'H 0 0 0\nXx 0 0 1\n' "unknown element" "bad-element.xyz:2: unknown element 'Xx'"
+refuses short 'H 0 0 0\nH 0 0\n' "atom line with 3 fields" 'short.xyz:2: expected "element x y z"'
+refuses nan 'H 0 0 0\nH 0 0 0.7x\n' "coordinate that is not a number" "nan.xyz:2: coordinate '0.7x'"
+refuses count '3\ncomment\nH 0 0 0\nH 0 0 0.74\n' "atom count does not match" \
+    "count.xyz:1: 3 atoms declared, 2 found"
+refuses same 'H 0 0 0\nH 0 0 0\n' "two nuclei on one point"
 
 runlam lam-scf --quiet --bohr --charge 1 "$TMP/water.xyz"
 is "$RC" 65 "open shell (water cation): exit 65"

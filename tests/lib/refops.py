@@ -159,17 +159,22 @@ def fermion_line(coef, cre, ann):
     return " ".join(["%.17g" % coef] + [str(m) for m in cre] + ["/"] + [str(m) for m in ann])
 
 
+def stream_rows(text, size_key):
+    """(the whole number in header line '#% size_key:' or None, the fields
+    of every term line of a stream)."""
+    size, rows = None, []
+    for line in text.splitlines():
+        if line.startswith("#% " + size_key + ":"):
+            size = int(line.split(":")[1])
+        if line.strip() and not line.startswith("#"):
+            rows.append(line.split())
+    return size, rows
+
+
 def parse_pauli_stream(text):
     """[(coef, [(letter, qubit), ...])], and the 'qubits' header value."""
-    terms, nq = [], None
-    for line in text.splitlines():
-        if line.startswith("#% qubits:"):
-            nq = int(line.split(":")[1])
-        if not line.strip() or line.startswith("#"):
-            continue
-        f = line.split()
-        terms.append((float(f[0]), parse_pauli_fields(f[1:])))
-    return terms, nq
+    nq, rows = stream_rows(text, "qubits")
+    return [(float(f[0]), parse_pauli_fields(f[1:])) for f in rows], nq
 
 
 def pauli_matrix(terms, nqubits):
@@ -282,15 +287,8 @@ def koridon_lambda(h, g):
 def read_spinfree(text):
     """(n, e0, h, g) of a spinfree stream: 'c p q r s' is c e_pqrs, spread
     as 1/2 (g_pqrs + g_rspq) so that H = e0 + h E + 1/2 g e."""
-    n = None
-    terms = []
-    for line in text.splitlines():
-        if line.startswith("#% orbitals:"):
-            n = int(line.split(":")[1])
-        if not line.strip() or line.startswith("#"):
-            continue
-        f = line.split()
-        terms.append((float(f[0]), [int(x) for x in f[1:]]))
+    n, rows = stream_rows(text, "orbitals")
+    terms = [(float(f[0]), [int(x) for x in f[1:]]) for f in rows]
     h, g, e0 = np.zeros((n, n)), np.zeros((n,) * 4), 0.0
     for c, idx in terms:
         if not idx:

@@ -8,6 +8,7 @@
 
 #include "factor.h"
 #include "fragments.h"
+#include "rng.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "tap.h"
@@ -15,13 +16,7 @@
 
 /* A fixed pseudo-random sequence (xorshift), so runs repeat. */
 static unsigned long long rng_state = 88172645463325252ULL;
-static double uniform(void)
-{
-    rng_state ^= rng_state << 13;
-    rng_state ^= rng_state >> 7;
-    rng_state ^= rng_state << 17;
-    return (double)(rng_state >> 11) / 9007199254740992.0 * 2.0 - 1.0;
-}
+static double uniform(void) { return test_uniform(&rng_state); }
 
 static double max_abs_diff(size_t len, const double *a, const double *b)
 {
@@ -180,16 +175,26 @@ static lam_spinfree *random_operator(int n, int positive)
     return sf;
 }
 
+/* A random operator on n orbitals into *sf and its factorization by
+ * method with residual tolerance tol (< 0: the method's default). */
+static lam_fragments *factor_random(int n, int positive, lam_factor_method method, double tol,
+                                    lam_spinfree **sf, lam_factor_info *info)
+{
+    lam_factor_options o;
+    *sf = random_operator(n, positive);
+    lam_factor_defaults(&o, method, n);
+    if (tol >= 0) o.tol = tol;
+    return factor_or_die(*sf, &o, info);
+}
+
 /* Exact factorization rebuilds the integrals; truncation stays within the
  * bound |L_pq| <= 1 gives (largest integral error <= discarded weight). */
 static void test_double_factorization(void)
 {
     int n = 4;
-    lam_spinfree *sf = random_operator(n, 1);
-    lam_factor_options o;
+    lam_spinfree *sf;
     lam_factor_info info;
-    lam_factor_defaults(&o, LAM_FACTOR_DOUBLE, n);
-    lam_fragments *fr = factor_or_die(sf, &o, &info);
+    lam_fragments *fr = factor_random(n, 1, LAM_FACTOR_DOUBLE, -1, &sf, &info);
     tap_ok(info.integral_max_error < 1e-12, "double factorization rebuilds the integrals");
     tap_near(info.constant_error, 0.0, 1e-12, "double factorization keeps the constant");
     tap_ok(info.factors_kept <= n * (n + 1) / 2, "at most n(n+1)/2 factors");
@@ -204,6 +209,8 @@ static void test_double_factorization(void)
            "unitary count: 2n reflections + (2n choose 2) products per fragment at most");
     lam_fragments_free(fr);
 
+    lam_factor_options o;
+    lam_factor_defaults(&o, LAM_FACTOR_DOUBLE, n);
     o.tol = 0.5;
     fr = factor_or_die(sf, &o, &info);
     tap_ok(info.discarded_weight > 0 && info.discarded_weight <= 0.5, "truncation drops weight <= tol");
@@ -215,13 +222,9 @@ static void test_double_factorization(void)
 
 static void test_full_rank(void)
 {
-    int n = 3;
-    lam_spinfree *sf = random_operator(n, 0);
-    lam_factor_options o;
+    lam_spinfree *sf;
     lam_factor_info info;
-    lam_factor_defaults(&o, LAM_FACTOR_FULL_RANK, n);
-    o.tol = 1e-8;
-    lam_fragments *fr = factor_or_die(sf, &o, &info);
+    lam_fragments *fr = factor_random(3, 0, LAM_FACTOR_FULL_RANK, 1e-8, &sf, &info);
     tap_ok(info.residual_norm <= 1e-8, "full rank reaches the residual tolerance");
     tap_ok(info.integral_max_error <= 1e-8, "full rank: integrals rebuilt to the tolerance");
     tap_near(fr->constant, lam_spinfree_constant(sf), 1e-7, "full rank: Majorana constant");
@@ -249,11 +252,9 @@ static void test_to_spinfree_algebra(void)
 static void test_stream_round_trip(void)
 {
     int n = 3;
-    lam_spinfree *sf = random_operator(n, 1);
-    lam_factor_options o;
+    lam_spinfree *sf;
     lam_factor_info info;
-    lam_factor_defaults(&o, LAM_FACTOR_DOUBLE, n);
-    lam_fragments *fr = factor_or_die(sf, &o, &info);
+    lam_fragments *fr = factor_random(n, 1, LAM_FACTOR_DOUBLE, -1, &sf, &info);
     char path[] = "/tmp/test_factor_XXXXXX";
     int fd = mkstemp(path);
     tap_ok(fd >= 0, "temporary file");
@@ -363,21 +364,28 @@ static void test_reader_rejects(void)
                            "0.1 R 0 1a\n0.1 R 0 1b\n#% end\n",
                            err, sizeof err);
     tap_ok(rc == 0, "a well-formed hand-made stream is accepted");
-    expect_rejected("0.6 U 1 0 0\n0.6 U 1 1 0\n-0.8 U 1 0 1\n0.6 U 1 1 1\n0.1 R 1 0a\n",
-                    "not orthogonal", "a rotation that is not orthogonal is rejected");
-    expect_rejected("1 U 1 0 0\n0.1 R 1 0a\n0.1 R 1 0b\n", "not orthogonal",
-                    "a rotation with a missing entry is rejected");
-    expect_rejected("1 U 1 0 0\n1 U 1 0 0\n", "given twice", "a repeated rotation entry is rejected");
-    expect_rejected("0.1 R 0 2a\n", "rotated spin orbital", "an orbital out of range is rejected");
-    expect_rejected("0.1 R 0 1c\n", "rotated spin orbital", "a spin other than a/b is rejected");
-    expect_rejected("0.1 R 0 1a 1a\n", "identity", "R R of one spin orbital is rejected");
-    expect_rejected("0.1 R 2 1a\n", "out of range", "a fragment beyond 'fragments:' is rejected");
-    expect_rejected("0.1 Q 0 1a\n", "fragments line", "an unknown line type is rejected");
-    expect_rejected("0.1 R 0\n", "reflection line", "a reflection without a mode is rejected");
-    expect_rejected("0.1 R 0 0a\n0.2 R 0 0b\n", "not spin-free",
-                    "different alpha and beta coefficients are not spin-free");
-    expect_rejected("0.1 R 0 0a 1a\n0.1 R 0 0b 1b\n0.2 R 0 0a 1b\n0.2 R 0 0b 1a\n", "not spin-free",
-                    "same-spin and opposite-spin pairs that differ are not spin-free");
+    /* each body, the words its message must hold, and what it tests */
+    static const struct {
+        const char *body, *needle, *name;
+    } bad[] = {
+        {"0.6 U 1 0 0\n0.6 U 1 1 0\n-0.8 U 1 0 1\n0.6 U 1 1 1\n0.1 R 1 0a\n", "not orthogonal",
+          "a rotation that is not orthogonal is rejected"},
+        {"1 U 1 0 0\n0.1 R 1 0a\n0.1 R 1 0b\n", "not orthogonal",
+          "a rotation with a missing entry is rejected"},
+        {"1 U 1 0 0\n1 U 1 0 0\n", "given twice", "a repeated rotation entry is rejected"},
+        {"0.1 R 0 2a\n", "rotated spin orbital", "an orbital out of range is rejected"},
+        {"0.1 R 0 1c\n", "rotated spin orbital", "a spin other than a/b is rejected"},
+        {"0.1 R 0 1a 1a\n", "identity", "R R of one spin orbital is rejected"},
+        {"0.1 R 2 1a\n", "out of range", "a fragment beyond 'fragments:' is rejected"},
+        {"0.1 Q 0 1a\n", "fragments line", "an unknown line type is rejected"},
+        {"0.1 R 0\n", "reflection line", "a reflection without a mode is rejected"},
+        {"0.1 R 0 0a\n0.2 R 0 0b\n", "not spin-free",
+          "different alpha and beta coefficients are not spin-free"},
+        {"0.1 R 0 0a 1a\n0.1 R 0 0b 1b\n0.2 R 0 0a 1b\n0.2 R 0 0b 1a\n", "not spin-free",
+          "same-spin and opposite-spin pairs that differ are not spin-free"},
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; ++i)
+        expect_rejected(bad[i].body, bad[i].needle, bad[i].name);
 }
 
 int main(void)

@@ -61,6 +61,29 @@ static void add_string(lam_pauli_set *s, const char *text, double c)
     lam_pauli_set_add(s, x, z, c, -1);
 }
 
+typedef struct {
+    const char *string;
+    double coef;
+} term;
+
+/* A new set on nq qubits holding the count terms. */
+static void set_of(lam_pauli_set *s, int nq, const term *t, size_t count)
+{
+    lam_pauli_set_init(s, nq);
+    for (size_t k = 0; k < count; ++k) add_string(s, t[k].string, t[k].coef);
+}
+
+/* in grouped with opt (NULL: the default options) into out; its statistics. */
+static lam_group_stats group_with(const lam_pauli_set *in, const lam_group_options *opt,
+                                  lam_pauli_set *out)
+{
+    lam_group_options def;
+    lam_group_options_default(&def);
+    lam_group_stats st;
+    lam_group_build(in, opt ? opt : &def, out, &st);
+    return st;
+}
+
 /* Deterministic pseudo-random numbers (splitmix64). */
 static uint64_t rng_state = 42;
 static uint64_t rng(void)
@@ -139,18 +162,11 @@ static void test_clique(void)
 {
     /* Jordan-Wigner Majoranas on 2 qubits and their product: 5 = 2n+1
      * mutually anticommuting strings, the largest such set. */
+    static const term t[] = {{"x:0", 0.3},     {"y:0", -0.4},  {"x:1 z:0", 0.5},
+                             {"y:1 z:0", 0.1}, {"z:0,1", -0.2}, {"", 1.5}};
     lam_pauli_set in, out;
-    lam_pauli_set_init(&in, 2);
-    add_string(&in, "x:0", 0.3);
-    add_string(&in, "y:0", -0.4);
-    add_string(&in, "x:1 z:0", 0.5);
-    add_string(&in, "y:1 z:0", 0.1);
-    add_string(&in, "z:0,1", -0.2);
-    add_string(&in, "", 1.5);
-    lam_group_options opt;
-    lam_group_options_default(&opt);
-    lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    set_of(&in, 2, t, 6);
+    lam_group_stats st = group_with(&in, NULL, &out);
     tap_ok(st.groups == 1 && st.largest_group == 5, "2n+1 Majoranas form one group of five");
     tap_near(st.lambda_grouped, sqrt(0.09 + 0.16 + 0.25 + 0.01 + 0.04), 1e-15,
              "lambda_grouped = sqrt(sum c^2) for one group");
@@ -163,25 +179,20 @@ static void test_clique(void)
 
 static void test_commuting_apart(void)
 {
+    static const term t[] = {{"z:0", 0.7}, {"z:1", -0.2}, {"x:0", 0.1}};
     lam_pauli_set in, out;
-    lam_pauli_set_init(&in, 2);
-    add_string(&in, "z:0", 0.7);
-    add_string(&in, "z:1", -0.2);
-    lam_group_options opt;
-    lam_group_options_default(&opt);
-    lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    set_of(&in, 2, t, 2);
+    lam_group_stats st = group_with(&in, NULL, &out);
     tap_ok(st.groups == 2, "commuting strings stay apart");
     tap_near(st.lambda_grouped, 0.9, 1e-15, "so lambda_grouped = lambda");
     lam_pauli_set_free(&in);
     lam_pauli_set_free(&out);
 
+    lam_group_options opt;
+    lam_group_options_default(&opt);
     opt.commuting = 1;
-    lam_pauli_set_init(&in, 2);
-    add_string(&in, "z:0", 0.7);
-    add_string(&in, "z:1", -0.2);
-    add_string(&in, "x:0", 0.1);
-    lam_group_build(&in, &opt, &out, &st);
+    set_of(&in, 2, t, 3);
+    st = group_with(&in, &opt, &out);
     tap_ok(st.groups == 2 && groups_valid(&out, 0), "--commuting: z:0,1 together, x:0 apart");
     lam_pauli_set_free(&in);
     lam_pauli_set_free(&out);
@@ -192,21 +203,18 @@ static void test_split_optimum(void)
     /* x:0 anticommutes with z:0 and with z:0,1, which commute with each
      * other: with unit coefficients the best split of x:0 is 1/2 + 1/2 and
      * lambda = 2 sqrt(1 + 1/4) (calculus), against 1 + sqrt 2 unsplit. */
+    static const term t[] = {{"z:0", 1.0}, {"z:0,1", 1.0}, {"x:0", 1.0}};
     lam_pauli_set in, out;
-    lam_pauli_set_init(&in, 2);
-    add_string(&in, "z:0", 1.0);
-    add_string(&in, "z:0,1", 1.0);
-    add_string(&in, "x:0", 1.0);
+    set_of(&in, 2, t, 3);
     lam_group_options opt;
     lam_group_options_default(&opt);
     opt.split = 0;
-    lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    lam_group_stats st = group_with(&in, &opt, &out);
     tap_near(st.lambda_grouped, 1 + sqrt(2.0), 1e-14, "unsplit: 1 + sqrt 2");
     lam_pauli_set_free(&out);
     opt.split = 1;
     opt.split_iterations = 2000;
-    lam_group_build(&in, &opt, &out, &st);
+    st = group_with(&in, &opt, &out);
     tap_near(st.lambda_grouped, 2 * sqrt(1.25), 1e-9, "split: 2 sqrt(5/4)");
     tap_ok(st.split_bound <= st.lambda_grouped + 1e-12 && st.split_bound > 2 * sqrt(1.25) - 1e-6,
            "dual bound below and close to the split optimum");

@@ -2,16 +2,11 @@
 #include <stdlib.h>
 
 #include "lp.h"
+#include "rng.h"
 #include "tap.h"
 
 static unsigned long long rng_state = 88172645463325252ULL;
-static double uniform(void)
-{
-    rng_state ^= rng_state << 13;
-    rng_state ^= rng_state >> 7;
-    rng_state ^= rng_state << 17;
-    return (double)(rng_state >> 11) / 9007199254740992.0;
-}
+static double uniform(void) { return test_unit(&rng_state); }
 
 /* Elementary fact (common practice): sum_t w_t |c_t - x| is minimized by a
  * weighted median of the c_t. */

@@ -79,14 +79,8 @@ static void test_single_qubit_table(void)
     tap_ok(good_anti, "single-qubit anticommutation matches AB = -BA of the matrices");
 }
 
-static uint64_t rng_state = 0x1234567887654321ULL;
-static uint64_t rnd(void)
-{
-    rng_state ^= rng_state << 13;
-    rng_state ^= rng_state >> 7;
-    rng_state ^= rng_state << 17;
-    return rng_state;
-}
+static unsigned long long rng_state = 0x1234567887654321ULL;
+static uint64_t rnd(void) { return test_xorshift(&rng_state); }
 
 /* Many-qubit strings across word boundaries: the phase of the product is
  * the product of the single-qubit matrix phases; anticommutation is the

@@ -5,6 +5,7 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "rng.h"
 #include "stream.h"
 #include "tap.h"
 #include "util.h"
@@ -124,11 +125,11 @@ int main(void)
     /* The parser's fast path must agree bit for bit with the C library's
      * strtod (correct rounding, IEEE 754) on every kind of decimal. */
     {
-        uint64_t st = 88172645463325252ULL;
+        unsigned long long st = 88172645463325252ULL;
         long checked = 0, wrong = 0;
         char num[64];
         for (int i = 0; i < 400000; ++i) {
-            st ^= st << 13, st ^= st >> 7, st ^= st << 17;
+            test_xorshift(&st);
             double x;
             memcpy(&x, &st, sizeof x);
             if (isnan(x) || isinf(x)) continue;

@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "rng.h"
 #include "spinfree.h"
 #include "stream.h"
 #include "util.h"
@@ -44,15 +45,6 @@ static inline int test_read_ok(int rc, const lam_error *e)
 {
     if (rc) lam_error_print(e);
     return rc == 0;
-}
-
-/* Uniform in [-1, 1) from an xorshift state (any nonzero seed). */
-static inline double test_uniform(unsigned long long *state)
-{
-    *state ^= *state << 13;
-    *state ^= *state >> 7;
-    *state ^= *state << 17;
-    return (double)(*state >> 11) / 9007199254740992.0 * 2 - 1;
 }
 
 /* h uniform in [-1, 1), (pq|rs) in [-0.3, 0.3), e0 uniform, with the
