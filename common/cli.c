@@ -3,7 +3,6 @@
 
 #include <string.h>
 
-#include "stream.h"
 #include "util.h"
 
 int lam_cli_next(int argc, char **argv, const char *shortopts, const struct option *longopts)
@@ -59,6 +58,22 @@ void lam_cli_report_needs(const lam_cli_fields *f, const char *what)
                         *f->tsv ? "--tsv" : "--label");
     if (report && strcmp(report, "-") == 0 && is_stdout(*f->output))
         lam_usage_error("--report - needs -o FILE: stdout carries the %s", what);
+}
+
+lam_kind lam_cli_kind(const char *arg, unsigned allowed)
+{
+    lam_kind k;
+    if (lam_kind_parse(arg, &k) == 0 && (allowed & LAM_CLI_KIND(k))) return k;
+    const char *name[LAM_KIND_FRAGMENTS + 1];
+    int n = 0;
+    for (int i = LAM_KIND_SPINFREE; i <= LAM_KIND_FRAGMENTS; ++i)
+        if (allowed & LAM_CLI_KIND(i)) name[n++] = lam_kind_name((lam_kind)i);
+    char names[128] = ""; /* "a, b or c" */
+    for (int i = 0; i < n; ++i) {
+        strcat(names, name[i]);
+        strcat(names, i + 2 < n ? ", " : i + 2 == n ? " or " : "");
+    }
+    lam_usage_error("--kind wants %s, not '%s'", names, arg);
 }
 
 const char *lam_cli_operand(int argc, char **argv, const char *too_many)

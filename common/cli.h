@@ -29,6 +29,8 @@
 
 #include <getopt.h>
 
+#include "stream.h"
+
 /* getopt_long values of the long-only --progress and --allow-empty (outside
  * the characters). */
 #define LAM_OPT_PROGRESS 0x4c50
@@ -88,6 +90,11 @@ void lam_cli_option(int c, char **argv, void (*usage)(void), const lam_cli_field
  * stdout carries the program's main output (what names it).  Exit 64 when
  * they do not get it. */
 void lam_cli_report_needs(const lam_cli_fields *f, const char *what);
+
+/* The stream kind arg names, one of those in allowed (a LAM_CLI_KIND bit
+ * each); any other is a usage error that lists them (exit 64). */
+#define LAM_CLI_KIND(k) (1u << (k))
+lam_kind lam_cli_kind(const char *arg, unsigned allowed);
 
 /* The one operand after the options (NULL: none, read stdin); more than
  * one is a usage error that says too_many (exit 64). */

@@ -78,9 +78,8 @@ static void parse_options(int argc, char **argv, options *o)
             lam_drop_parse(&o->drop, optarg);
             break;
         case 'k':
-            if (lam_kind_parse(optarg, &o->kind) != 0 ||
-                (o->kind != LAM_KIND_SPINFREE && o->kind != LAM_KIND_FERMION))
-                lam_usage_error("--kind wants spinfree or fermion, not '%s'", optarg);
+            o->kind = lam_cli_kind(optarg, LAM_CLI_KIND(LAM_KIND_SPINFREE) |
+                                               LAM_CLI_KIND(LAM_KIND_FERMION));
             break;
         default: lam_cli_option(c, argv, usage, &f);
         }

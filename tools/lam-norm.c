@@ -164,11 +164,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->labels = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->labels));
     while ((c = lam_cli_next(argc, argv, ":k:tl:o:qhV", opts)) != -1) {
         switch (c) {
-        case 'k':
-            if (lam_kind_parse(optarg, &o->forced) != 0)
-                lam_usage_error("--kind wants spinfree, fermion, pauli or fragments, not '%s'",
-                                optarg);
-            break;
+        case 'k': o->forced = lam_cli_kind(optarg, ~0u); break;
         case 'l': o->labels[o->nlabels++] = optarg; break; /* one per stream */
         default: lam_cli_option(c, argv, usage, &f);
         }

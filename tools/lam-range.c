@@ -152,8 +152,7 @@ static void parse_options(int argc, char **argv, options *o)
         case O_RESUME: o->run.resume = optarg; break;
         case 'j': o->threads = (int)lam_opt_long("--threads", optarg, 1, 64); break;
         case 'k':
-            if (lam_kind_parse(optarg, &o->kind) || o->kind == LAM_KIND_FRAGMENTS)
-                lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
+            o->kind = lam_cli_kind(optarg, ~LAM_CLI_KIND(LAM_KIND_FRAGMENTS));
             break;
         default: lam_cli_option(c, argv, usage, &f);
         }

@@ -351,8 +351,7 @@ static void parse_options(int argc, char **argv, options *o)
         case 'd': lam_drop_parse(&o->drop, optarg); break;
         case OPT_SORT: o->sort = 1; break;
         case 'k':
-            if (lam_kind_parse(optarg, &o->forced) != 0 || o->forced == LAM_KIND_FRAGMENTS)
-                lam_usage_error("--kind wants spinfree, fermion or pauli, not '%s'", optarg);
+            o->forced = lam_cli_kind(optarg, ~LAM_CLI_KIND(LAM_KIND_FRAGMENTS));
             break;
         case '?':
         case ':': refuse_factor_prefix(argc, argv); /* fall through */
