@@ -8,6 +8,14 @@
 static unsigned long long rng_state = 88172645463325252ULL;
 static double uniform(void) { return test_unit(&rng_state); }
 
+/* p solved with the default options: x, its result and status. */
+static int solve(const lam_l1_problem *p, double *x, lam_l1_result *res)
+{
+    lam_l1_options opt;
+    lam_l1_default_options(&opt);
+    return lam_l1_solve(p, &opt, NULL, NULL, x, res);
+}
+
 /* Elementary fact (common practice): sum_t w_t |c_t - x| is minimized by a
  * weighted median of the c_t. */
 static void weighted_median(void)
@@ -19,11 +27,9 @@ static void weighted_median(void)
     int col = 0;
     double one = 1;
     for (int t = 0; t < 5; ++t) lam_l1_add_row(&p, w[t], c[t], 1, &col, &one);
-    lam_l1_options opt;
-    lam_l1_default_options(&opt);
     double x;
     lam_l1_result res;
-    int st = lam_l1_solve(&p, &opt, NULL, NULL, &x, &res);
+    int st = solve(&p, &x, &res);
     tap_ok(st == 0 && res.converged, "median: converged");
     tap_near(x, 3, 1e-8, "median of {3,-1,7,2,10} is 3");
     tap_near(res.primal, 4 + 4 + 1 + 7, 1e-9, "median: objective 16");
@@ -35,7 +41,7 @@ static void weighted_median(void)
     lam_l1_init(&p, 1);
     const double c2[] = {0, 1, 2}, w2[] = {1, 1, 5};
     for (int t = 0; t < 3; ++t) lam_l1_add_row(&p, w2[t], c2[t], 1, &col, &one);
-    lam_l1_solve(&p, &opt, NULL, NULL, &x, &res);
+    solve(&p, &x, &res);
     tap_near(x, 2, 1e-8, "weighted median follows the heavy weight");
     tap_near(res.primal, 3, 1e-9, "weighted median objective 3");
     lam_l1_free(&p);
@@ -70,11 +76,9 @@ static void random_two_parameter(void)
             double a[2] = {uniform() * 2 - 1, uniform() * 2 - 1};
             lam_l1_add_row(&p, 0.1 + uniform(), 3 * uniform() - 1, 2, cols, a);
         }
-        lam_l1_options opt;
-        lam_l1_default_options(&opt);
         double x[2];
         lam_l1_result res;
-        lam_l1_solve(&p, &opt, NULL, NULL, x, &res);
+        solve(&p, x, &res);
         double want = brute_force_two(&p);
         tap_near(res.primal, want, 1e-9 * want, "random 2-parameter L1 fit = best vertex");
         tap_ok(res.dual <= res.primal + 1e-15 && res.primal - res.dual <= 1e-10 * res.primal,
@@ -95,11 +99,9 @@ static void decoupled_blocks(void)
         for (int t = 0; t < 7; ++t)
             lam_l1_add_row(&p, 1, (double)(t * (j + 1)), 1, &j, &one);
     /* parameter 3 appears in no row */
-    lam_l1_options opt;
-    lam_l1_default_options(&opt);
     double x[4];
     lam_l1_result res;
-    lam_l1_solve(&p, &opt, NULL, NULL, x, &res);
+    solve(&p, x, &res);
     tap_ok(res.blocks == 3 && res.largest_block == 1, "three singleton blocks");
     tap_near(x[0], 3, 1e-8, "block 0 median");
     tap_near(x[1], 6, 1e-8, "block 1 median");
@@ -119,11 +121,9 @@ static void rank_deficient(void)
     double a[2] = {1, 1};
     const double c[] = {1, 2, 4, 8, 16};
     for (int t = 0; t < 5; ++t) lam_l1_add_row(&p, 1, c[t], 2, cols, a);
-    lam_l1_options opt;
-    lam_l1_default_options(&opt);
     double x[2];
     lam_l1_result res;
-    lam_l1_solve(&p, &opt, NULL, NULL, x, &res);
+    solve(&p, x, &res);
     tap_near(x[0] + x[1], 4, 1e-7, "singular normal matrix: x0 + x1 at the median");
     tap_near(res.primal, 3 + 2 + 0 + 4 + 12, 1e-8, "singular normal matrix: objective");
     lam_l1_free(&p);
@@ -140,11 +140,9 @@ static void exact_fit(void)
         double a = t;
         lam_l1_add_row(&p, 1, 2.5 * t, 1, &col, &a);
     }
-    lam_l1_options opt;
-    lam_l1_default_options(&opt);
     double x;
     lam_l1_result res;
-    int st = lam_l1_solve(&p, &opt, NULL, NULL, &x, &res);
+    int st = solve(&p, &x, &res);
     tap_ok(st == 0 && res.converged, "exact fit: converged");
     tap_near(x, 2.5, 1e-12, "exact fit: x = 2.5");
     tap_near(res.primal, 0, 1e-12, "exact fit: objective 0");
