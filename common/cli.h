@@ -57,6 +57,14 @@
 #define LAM_CLI_REPORT_OUT LAM_CLI_REPORT, LAM_CLI_TSV, LAM_CLI_LABEL
 #define LAM_CLI_STANDARD LAM_CLI_PROGRESS, LAM_CLI_QUIET, LAM_CLI_HELP, LAM_CLI_VERSION
 
+/* The --help lines of -q, -h, --allow-empty and -V, last in the help of a
+ * program whose descriptions start in column 24. */
+#define LAM_CLI_HELP_TAIL                                                      \
+    "  -q, --quiet          no progress\n"                                     \
+    "  -h, --help           show this help\n"                                  \
+    "      --allow-empty    read an empty input as the zero operator\n"        \
+    "  -V, --version        show the version\n\n"
+
 /* Where a program keeps the values of the shared options it offers; a NULL
  * member is an option it does not take. */
 typedef struct {

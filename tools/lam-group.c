@@ -44,10 +44,7 @@ static _Noreturn void usage(void)
            "  -o, --output FILE    write the stream to FILE instead of stdout\n"
            "  -z, --gzip           gzip the output stream\n"
            "      --progress       progress on stderr even when it is not a terminal\n"
-           "  -q, --quiet          no progress\n"
-           "  -h, --help           show this help\n"
-           "      --allow-empty    read an empty input as the zero operator\n"
-           "  -V, --version        show the version\n\n"
+           LAM_CLI_HELP_TAIL
            "Example:\n"
            "  lam-ints h2o.fcidump | lam-shift | lam-map | %s | lam-norm\n",
            lam_program(), LAM_GROUP_AUTO_TERMS, lam_program());

@@ -31,10 +31,7 @@ static _Noreturn void usage(void)
            "  -o, --output FILE    write to FILE instead of stdout\n"
            "  -z, --gzip           gzip the output\n"
            "      --progress       report progress on stderr (default: when a terminal)\n"
-           "  -q, --quiet          no progress\n"
-           "  -h, --help           show this help\n"
-           "      --allow-empty    read an empty input as the zero operator\n"
-           "  -V, --version        show the version\n\n"
+           LAM_CLI_HELP_TAIL
            "Example:\n"
            "  lam-ints h2.fcidump | %s --encoding bravyi-kitaev | lam-norm\n",
            lam_program(), lam_program());

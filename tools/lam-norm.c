@@ -32,10 +32,7 @@ static _Noreturn void usage(void)
            "                       per stream, in order\n"
            "  -o, --output FILE    write to FILE instead of stdout\n"
            "      --progress       report progress on stderr (default: when a terminal)\n"
-           "  -q, --quiet          no progress\n"
-           "  -h, --help           show this help\n"
-           "      --allow-empty    read an empty input as the zero operator\n"
-           "  -V, --version        show the version\n\n"
+           LAM_CLI_HELP_TAIL
            "Example:\n"
            "  lam-ints h2.fcidump | %s\n",
            lam_program(), lam_program());

@@ -51,10 +51,7 @@ static _Noreturn void usage(void)
         "  -z, --gzip           gzip the output\n"
         "      --progress       progress on stderr (default: when a terminal)\n"
         "  -j, --threads N      BLAS threads (default 1; OPENBLAS_NUM_THREADS is not read)\n"
-        "  -q, --quiet          no progress\n"
-        "  -h, --help           show this help\n"
-        "      --allow-empty    read an empty input as the zero operator\n"
-        "  -V, --version        show the version\n\n"
+        LAM_CLI_HELP_TAIL
         "Example:\n"
         "  lam-ints h2o.fcidump | %s --report shift.txt | lam-map | lam-norm\n",
         lam_program(), lam_program());
