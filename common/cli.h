@@ -87,7 +87,7 @@ int lam_cli_next(int argc, char **argv, const char *shortopts, const struct opti
  * --progress on, --allow-empty lets an empty input read as the zero
  * operator.  Anything else (getopt's ':' and '?') prints the one
  * bad-option message and exits 64.  A program with its own meaning for -q
- * as well (e.g. no note on stderr) sets its flag and then calls this. */
+ * as well (e.g. no note on stderr) names it in lam_cli_fields.quiet. */
 void lam_cli_common(int c, char **argv, void (*usage)(void));
 
 /* Handle a shared option c, the output options included: store the value
@@ -96,7 +96,7 @@ void lam_cli_option(int c, char **argv, void (*usage)(void), const lam_cli_field
 
 /* -t and -l format the report, so they want -r; "-r -" wants -o FILE when
  * stdout carries the program's main output (what names it).  Exit 64 when
- * they do not get it. */
+ * they do not get it.  f names report, tsv, label and output. */
 void lam_cli_report_needs(const lam_cli_fields *f, const char *what);
 
 /* The stream kind arg names, one of those in allowed (a LAM_CLI_KIND bit
