@@ -637,12 +637,11 @@ static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op
                  p->label ? p->label : "", p->label ? ": " : "", c.steps,
                  st == CHECK_CERTIFIED ? "one eigenvalue below sigma" : "not certified", c.mu, c.theta);
     if (st != CHECK_CERTIFIED) goto done;
+    /* the reported value stays Davidson's (as in the block check with one
+     * root); it is called extreme when it, too, is within tol of the bound */
     double lower = theta - r * r / (sigma - theta);
-    res->value = op->sign * theta;
-    res->residual = r;
-    res->converged = r <= p->tol;
     res->roots = 1;
-    if (theta - lower <= p->tol) {
+    if (fmax(theta, op->sign * res->value) - lower <= p->tol) {
         res->extreme = 1;
         res->certificate = LAM_EIGEN_BY_CONGRUENCE;
         res->other = op->sign * lower;
