@@ -128,6 +128,7 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     res->converged = res->residual <= p->tol;
     /* the whole spectrum was computed: the lowest is the lowest */
     res->extreme = res->converged;
+    res->certificate = res->extreme ? LAM_EIGEN_BY_SPECTRUM : LAM_EIGEN_UNCERTIFIED;
     res->other = res->extreme ? op->sign * (w[0] - res->residual) : NAN;
     if (vec) memcpy(vec, e, n * sizeof(double));
     free(a);
@@ -292,7 +293,7 @@ static void restart(subspace *s, const double *Y, int keep, const double *yprev,
 /* start (may be NULL): the first search vector instead of the best
  * diagonal element. */
 static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
-                           lam_eigen_result *res, double *vec, const double *start)
+                           lam_eigen_result *res, double *vec, const double *start, double *next)
 {
     size_t dim = p->dim;
     int cap = p->max_subspace < 4 ? 4 : p->max_subspace;
@@ -366,6 +367,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     res->value = sign * theta;
     res->residual = rnorm;
     res->converged = rnorm <= p->tol || quadratic;
+    if (next) *next = s.m >= 2 ? w[1] : INFINITY;
     if (vec) memcpy(vec, x, dim * sizeof(double));
     free(s.V);
     free(s.AV);
@@ -467,16 +469,16 @@ typedef struct {
     int steps;
 } check_outcome;
 
-/* Lanczos on the complement of X from a random start, until mu certifies
- * the block (lower >= value - tol), a root of the complement shows that
- * the budget cannot certify (converged at or near the roots), or the
- * budget ends. */
-static check_status lanczos_check(signed_op *op, const root_block *b, double value,
-                                  double delta, uint64_t seed, double *work, check_outcome *out)
+/* Lanczos on the complement of X from a random start, until mu, a lower
+ * bound on the complement that fails with probability at most delta,
+ * reaches `target`; or until a root of the complement shows that the budget
+ * cannot get there (converged at or near the target); or the budget
+ * (kmax steps) ends. */
+static check_status lanczos_check(signed_op *op, double target, int kmax, double delta,
+                                  uint64_t seed, double *work, check_outcome *out)
 {
     const lam_eigen_problem *p = op->p;
     size_t dim = p->dim, n = dim - (size_t)op->nx;
-    int kmax = p->check_steps;
     double *q0 = work, *q = work + dim, *w = work + 2 * dim;
     double *alpha = lam_malloc((size_t)kmax * sizeof(double)), *beta = lam_malloc((size_t)kmax * sizeof(double));
     /* mu is tested at most kmax / CHECK_STRIDE + 1 times, each time for
@@ -512,13 +514,13 @@ static check_status lanczos_check(signed_op *op, const root_block *b, double val
             out->theta = lo;
             out->mu = lo - eps * spread;
             out->steps = k;
-            if (two_by_two_lowest(b->a_min, b->rnorm, out->mu) >= value - p->tol) {
+            if (out->mu >= target) {
                 status = CHECK_CERTIFIED;
                 break;
             }
-            /* settled below or so near the roots that the budget could
+            /* settled below or so near the target that the budget could
              * not separate them: a root to add */
-            double gap = lo - b->a_min;
+            double gap = lo - target;
             int settled = fabs(lo - last_theta) <= 1e-10 * fmax(1, fabs(lo));
             double need = gap > 0 && isfinite(spread) ? 0.5 + logterm / (2 * sqrt(gap / spread)) : INFINITY;
             if (settled && need > kmax) {
@@ -539,26 +541,144 @@ static check_status lanczos_check(signed_op *op, const root_block *b, double val
     return status;
 }
 
+/* ---- the congruence check ----
+ * Sylvester's law of inertia: for any nonsingular diagonal W, H - sigma and
+ * B = W (H - sigma) W have as many negative eigenvalues.  With W = |D -
+ * sigma|^(-1/2) (D the diagonal, floored), B is the operator Davidson's
+ * preconditioner works with: its far end is pressed together, so the
+ * Lanczos bound reaches a given level in far fewer steps than on H.  If B
+ * restricted to the complement of one vector z is positive semidefinite
+ * (certified by lanczos_check, failure probability delta), B and so H -
+ * sigma have at most one negative eigenvalue: the second eigenvalue of H is
+ * at least sigma.  With the Rayleigh quotient theta < sigma of x and its
+ * residual r, the lowest eigenvalue is then at least theta - |r|^2 / (sigma
+ * - theta) (Kato-Temple). */
+/* sigma - theta as a share of the gap to the next Ritz value; z's residual
+ * and step budget (z only has to hold most of B's negative direction) */
+#define CONGRUENCE_STEP 0.01
+#define CONGRUENCE_Z_TOL 1e-4
+#define CONGRUENCE_Z_STEPS 40
+
+typedef struct {
+    signed_op op; /* H, signed, without deflation */
+    const double *w;
+    double sigma;
+    double *tmp;
+} congruent_op;
+
+static void congruent_apply(void *ctx, const double *x, double *y)
+{
+    congruent_op *c = ctx;
+    size_t dim = c->op.p->dim;
+    for (size_t i = 0; i < dim; ++i) c->tmp[i] = c->w[i] * x[i];
+    apply_signed(&c->op, c->tmp, y);
+    for (size_t i = 0; i < dim; ++i) y[i] = c->w[i] * (y[i] - c->sigma * c->tmp[i]);
+}
+
+/* sigma halfway between the value of x and the next Ritz value of
+ * Davidson's subspace (an upper bound on the second eigenvalue); returns 1
+ * and fills res when x is certified extreme to tol. */
+static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op, const double *x,
+                                 double next, double delta, lam_eigen_result *res)
+{
+    size_t dim = p->dim;
+    signed_op plain = {p, op->sign, NULL, 0, NULL, 0};
+    double *vecs = lam_malloc(lam_mul_size(dim, 8 * sizeof(double)));
+    double *hx = vecs, *w = vecs + dim, *bdiag = vecs + 2 * dim, *z = vecs + 3 * dim;
+    double *tmp = vecs + 4 * dim, *lanczos = vecs + 5 * dim;
+    apply_signed(&plain, x, hx);
+    res->check_iterations += 1;
+    double theta = cblas_ddot((int)dim, x, 1, hx, 1);
+    cblas_daxpy((int)dim, -theta, x, 1, hx, 1);
+    double r = cblas_dnrm2((int)dim, hx, 1);
+    /* sigma just above theta: Kato-Temple then loses r^2 / (sigma - theta),
+     * at most tol / 2, and B's one negative eigenvalue is so small that a
+     * rough z deflates it; the second eigenvalue of B keeps nearly all of
+     * the gap */
+    double gap = next - theta;
+    double step = fmax(CONGRUENCE_STEP * gap, 2 * r * r / p->tol);
+    double sigma = theta + step;
+    int ok = 0;
+    if (!(isfinite(gap) && gap > 0 && step <= 0.5 * gap)) goto done;
+    /* W's floor: a determinant whose diagonal lies within the gap of sigma
+     * is scaled as if it lay a gap away, keeping W bounded */
+    for (size_t i = 0; i < dim; ++i) {
+        double d = op->sign * p->diag[i] - sigma;
+        w[i] = 1.0 / sqrt(fmax(d, gap));
+        bdiag[i] = w[i] * w[i] * d;
+    }
+    congruent_op cop = {plain, w, sigma, tmp};
+    lam_eigen_problem pb = *p;
+    pb.apply = congruent_apply;
+    pb.ctx = &cop;
+    pb.diag = bdiag;
+    pb.highest = 0;
+    pb.tol = CONGRUENCE_Z_TOL;
+    pb.max_iter = CONGRUENCE_Z_STEPS;
+    pb.check_steps = 0;
+    pb.spread = 0;
+    signed_op bop = {&pb, 1.0, NULL, 0, NULL, 0};
+    for (size_t i = 0; i < dim; ++i) tmp[i] = x[i] / w[i];
+    lam_eigen_result rb;
+    memset(&rb, 0, sizeof rb);
+    double *start = hx; /* hx is no longer needed */
+    memcpy(start, tmp, dim * sizeof(double));
+    solve_davidson(&pb, &bop, &rb, z, start, NULL);
+    res->check_iterations += rb.iterations;
+    lam_progress("%s%scongruence check: sigma %.9f, B's lowest %.3e (residual %.1e, %d steps)",
+                 p->label ? p->label : "", p->label ? ": " : "", op->sign * sigma, rb.value,
+                 rb.residual, rb.iterations);
+    if (!(rb.value < 0)) goto done;
+    signed_op deflated = {&pb, 1.0, z, 1, hx, 0}; /* hx: free again */
+    check_outcome c = {0, 0, 0};
+    check_status st = lanczos_check(&deflated, 0.0, p->check_steps, delta, 0x4F1BBCDCBFA53E0BULL, lanczos, &c);
+    res->check_iterations += c.steps;
+    lam_progress("%s%scongruence check: %d Lanczos steps: %s (B beyond %.3e, theta %.3e)",
+                 p->label ? p->label : "", p->label ? ": " : "", c.steps,
+                 st == CHECK_CERTIFIED ? "one eigenvalue below sigma" : "not certified", c.mu, c.theta);
+    if (st != CHECK_CERTIFIED) goto done;
+    /* the reported value stays Davidson's (as in the block check with one
+     * root); it is called extreme when it, too, is within tol of the bound */
+    double lower = theta - r * r / (sigma - theta);
+    res->roots = 1;
+    if (fmax(theta, op->sign * res->value) - lower <= p->tol) {
+        res->extreme = 1;
+        res->certificate = LAM_EIGEN_BY_CONGRUENCE;
+        res->other = op->sign * lower;
+        ok = 1;
+    }
+done:
+    free(vecs);
+    return ok;
+}
+
 /* Davidson's value, then the check: roots met are solved on the
  * complement and added, until certified, out of roots or out of budget. */
 static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam_eigen_result *res,
-                            double *x1)
+                            double *x1, double next)
 {
     size_t dim = p->dim;
     int max_roots = p->max_roots < 1 ? 1 : p->max_roots > MAX_ROOTS ? MAX_ROOTS : p->max_roots;
+    /* one check by congruence, then up to max_roots block checks: the
+     * union bound shares the failure probability out */
+    double delta = LAM_EIGEN_FAILURE / (max_roots + 1);
+    if (certify_by_congruence(p, op, x1, next, delta, res)) return;
     double *X = lam_malloc(lam_mul_size(lam_mul_size(dim, MAX_ROOTS), sizeof(double)));
     double *work = lam_malloc(lam_mul_size(dim, 5 * sizeof(double)));
     memcpy(X, x1, dim * sizeof(double));
     int nx = 1;
     signed_op deflated = {p, op->sign, X, 0, work + 3 * dim, 0};
     root_block b;
-    double delta = LAM_EIGEN_FAILURE / max_roots;
     for (;;) {
         block_of_roots(op, X, nx, work + 4 * dim, &b);
         double value = b.a_min;
         deflated.nx = nx;
         check_outcome c = {0, 0, 0};
-        check_status st = lanczos_check(&deflated, &b, value, delta, 0x2545F4914F6CDD1DULL + (uint64_t)nx, work, &c);
+        /* two_by_two_lowest(a_min, |R|, mu) >= value - tol exactly when mu
+         * reaches this level */
+        double target = p->tol > 0 ? value - p->tol + b.rnorm * b.rnorm / p->tol : INFINITY;
+        check_status st = lanczos_check(&deflated, target, p->check_steps, delta,
+                                        0x2545F4914F6CDD1DULL + (uint64_t)nx, work, &c);
         res->check_iterations += c.steps;
         res->roots = nx;
         double lower = two_by_two_lowest(b.a_min, b.rnorm, c.mu);
@@ -577,6 +697,7 @@ static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam
         }
         if (st == CHECK_CERTIFIED) {
             res->extreme = 1;
+            res->certificate = LAM_EIGEN_BY_BLOCK;
             res->other = op->sign * lower;
             break;
         }
@@ -589,7 +710,7 @@ static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam
         uint64_t state = 0x853C49E6748FEA9BULL + (uint64_t)nx;
         double *start = work + 4 * dim;
         for (size_t i = 0; i < dim; ++i) start[i] = normal_deviate(&state);
-        solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim, start);
+        solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim, start, NULL);
         res->iterations += r2.iterations;
         project_out(dim, X, nx, X + (size_t)nx * dim);
         double nrm = cblas_dnrm2((int)dim, X + (size_t)nx * dim, 1);
@@ -612,8 +733,9 @@ void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res, double
         return;
     }
     double *x = lam_malloc(lam_mul_size(p->dim, sizeof(double)));
-    solve_davidson(p, &op, res, x, NULL);
-    if (p->check_steps > 0 && p->dim > 1) certify_extreme(p, &op, res, x);
+    double next;
+    solve_davidson(p, &op, res, x, NULL, &next);
+    if (p->check_steps > 0 && p->dim > 1) certify_extreme(p, &op, res, x, next);
     if (vec) memcpy(vec, x, p->dim * sizeof(double));
     free(x);
 }

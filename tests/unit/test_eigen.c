@@ -8,7 +8,10 @@
  * The extremality certificate: a value is marked extreme only when it is
  * the extreme eigenvalue to tol, also when the lowest level is degenerate
  * (two copies of one matrix) and when Davidson's start points at an
- * interior eigenvalue (a decoupled block whose diagonal is lowest).
+ * interior eigenvalue (a decoupled block whose diagonal is lowest).  The
+ * congruence check (Sylvester's law of inertia, common practice, textbook
+ * linear algebra) must refuse the last two: there H - sigma has two or more
+ * negative eigenvalues.
  */
 #include <math.h>
 #include <stdlib.h>
@@ -128,6 +131,8 @@ int main(void)
     p.check_steps = 400;
     lam_eigen_extreme(&p, &r, NULL);
     tap_ok(r.extreme, "ramp: the lowest is certified extreme");
+    tap_ok(r.certificate == LAM_EIGEN_BY_CONGRUENCE && r.roots == 1,
+           "ramp: a gap to the next level: the congruence check certifies the lowest");
     tap_near(r.value, w[0], 1e-9, "ramp: the certified lowest is LAPACK's");
     tap_ok(r.other <= w[0] + 1e-12 && r.value - r.other <= 1e-9, "ramp: the certified lower end is below E_min, within tol");
     p.highest = 1;
@@ -141,6 +146,8 @@ int main(void)
     p.highest = 0;
     lam_eigen_extreme(&p, &r, NULL);
     tap_ok(r.extreme && r.roots >= 2, "degenerate lowest: certified (with two roots or more)");
+    tap_ok(r.certificate == LAM_EIGEN_BY_BLOCK,
+           "degenerate lowest: the congruence check refuses (two eigenvalues below sigma), the block check certifies");
     tap_near(r.value, w[0], 1e-9, "degenerate lowest: the value is LAPACK's");
 
     /* Davidson's start points at an interior eigenvalue: block one is a
@@ -160,6 +167,8 @@ int main(void)
     lam_eigen_extreme(&p, &r, NULL);
     double want = 1 - 3.2 * cos(pi / (double)(half + 1));
     tap_ok(r.extreme, "start at an interior eigenvalue: the value is certified extreme");
+    tap_ok(r.certificate == LAM_EIGEN_BY_BLOCK,
+           "start at an interior eigenvalue: the congruence check refuses (many eigenvalues below sigma)");
     tap_near(r.value, want, 1e-6, "start at an interior eigenvalue: the extreme 1 - 3.2 cos(pi/201) is found");
     free(d2);
     free(diag);
