@@ -1290,19 +1290,17 @@ static void parse_block(text_block *b, int nw, long limit, int find_top, uint64_
         for (; waiting < b->nev; ++waiting) b->ev[waiting].next_term = idx;
         if (b->first_term < 0) b->first_term = idx;
         uint64_t seq = b->number << 32 | terms++;
-        size_t cn = plain_coefficient(s);
+        char *ce = s;
+        while ((unsigned char)*ce > ' ') ++ce; /* the coefficient's end */
         double coef = 0;
         int32_t group = -1;
         const char *stop = NULL;
-        int fast = 0;
-        if (cn) {
-            char save = s[cn];
-            s[cn] = '\0';
-            fast = lam_reader_coefficient(s, &coef) == 0;
-            s[cn] = save;
-            fast = fast && parse_fields_v2(s + cn, limit, nw, xz, xz + nw, &group, &stop) == 0 &&
-                   stop == e;
-        }
+        char save = *ce;
+        *ce = '\0';
+        int fast = lam_reader_coefficient(s, &coef) == 0;
+        *ce = save;
+        fast = fast && (save == ' ' || save == '\t' || save == '\0') &&
+               parse_fields_v2(ce, limit, nw, xz, xz + nw, &group, &stop) == 0 && stop == e;
         if (fast) {
             key_rec rec;
             int half = encode_rec(b, nw, xz, group, coef, seq, &rec);
@@ -1470,10 +1468,41 @@ static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t 
     }
 }
 
+/* The size of each half for the keys expected, from the bytes a line
+ * took so far and the bytes left in the file (plain files only); 0 when
+ * unknown. */
+typedef struct {
+    size_t keys, bytes;
+} table_plan;
+
+static table_plan plan_tables(lam_reader *r, const key_table kt[2], size_t lines)
+{
+    table_plan plan = {0, 0};
+    long long left = lam_reader_bytes_left(r), done = lam_reader_bytes_read(r);
+    if (left < 0 || done <= 0 || lines == 0) return plan;
+    double expect = 1.05 * ((double)lines + (double)left * (double)lines / (double)done);
+    if (expect >= 1e10) return plan;
+    size_t count = kt[0].count + kt[1].count;
+    double per_entry = (double)(kt[0].arena_len + kt[1].arena_len) / (double)(count ? count : 1);
+    plan.keys = (size_t)(expect / 2 * 1.01);
+    plan.bytes = (size_t)((double)plan.keys * per_entry) + 4096;
+    return plan;
+}
+
+/* Size a half as planned: done by the thread that owns it, so that the
+ * kernel's zeroing of the new pages (a fifth of all the work) is shared. */
+static void size_table(key_table *kt, table_plan plan)
+{
+    if (!plan.keys) return;
+    key_table_reserve(kt, plan.keys);
+    key_table_room(kt, kt->arena_len, plan.bytes);
+}
+
 /* What both threads share. */
 typedef struct {
     text_block blk[2][2]; /* [round & 1][thread] */
     key_table *kt;        /* [2]: one half each */
+    table_plan plan;
     pthread_barrier_t bar;
     int nw;
     long declared;
@@ -1535,6 +1564,7 @@ static void *second_core(void *arg)
     for (unsigned k = 0;; ++k) {
         pthread_barrier_wait(&bc->bar); /* the round's text is read */
         if (bc->stop) return NULL;
+        if (k == 0) size_table(&bc->kt[1], bc->plan);
         parse_turn(bc, &bc->blk[k & 1][1], cw);
         pthread_barrier_wait(&bc->bar); /* both blocks are parsed */
         pthread_barrier_wait(&bc->bar); /* the ordered pass is done */
@@ -1556,11 +1586,13 @@ static int read_round(lam_reader *r, text_block round[2], carry_text *carry, uin
 /* The rest of the stream on both cores, from line op->lineno + 1 on;
  * 0 or the code of the first failure, -1 when the second thread could
  * not start (nothing read: the caller goes on alone). */
-static int run_both_cores(lam_reader *r, key_table kt[2], ordered_pass *op, lam_error *err)
+static int run_both_cores(lam_reader *r, key_table kt[2], table_plan plan, ordered_pass *op,
+                          lam_error *err)
 {
     both_cores bc;
     memset(&bc, 0, sizeof bc);
     bc.kt = kt;
+    bc.plan = plan;
     bc.nw = op->nw;
     bc.declared = op->declared;
     if (pthread_barrier_init(&bc.bar, NULL, 2) != 0) return -1;
@@ -1583,6 +1615,7 @@ static int run_both_cores(lam_reader *r, key_table kt[2], ordered_pass *op, lam_
         bc.stop = rc || bc.failed[0] || bc.failed[1] || !round[0].len;
         pthread_barrier_wait(&bc.bar);
         if (bc.stop) break;
+        if (k == 0) size_table(&kt[0], plan);
         parse_turn(&bc, &round[0], &first);
         pthread_barrier_wait(&bc.bar);
         rc = settle_block(op, &round[0], err);
@@ -1614,22 +1647,6 @@ static int run_both_cores(lam_reader *r, key_table kt[2], ordered_pass *op, lam_
     return rc;
 }
 
-/* Size both halves for the keys expected, from the bytes a line took so
- * far and the bytes left in the file (plain files only). */
-static void size_tables(lam_reader *r, key_table kt[2], size_t lines)
-{
-    long long left = lam_reader_bytes_left(r), done = lam_reader_bytes_read(r);
-    if (left < 0 || done <= 0 || lines == 0) return;
-    double expect = 1.05 * ((double)lines + (double)left * (double)lines / (double)done);
-    if (expect >= 1e10) return;
-    size_t count = kt[0].count + kt[1].count;
-    double per_entry = (double)(kt[0].arena_len + kt[1].arena_len) / (double)(count ? count : 1);
-    for (int h = 0; h < 2; ++h) {
-        size_t half = (size_t)(expect / 2 * 1.01);
-        key_table_reserve(&kt[h], half);
-        key_table_room(&kt[h], kt[h].arena_len, (size_t)((double)half * per_entry) + 4096);
-    }
-}
 
 /* The step of an entry's term number from the entry before. */
 static inline uint64_t entry_step(const uint8_t *e)
@@ -1693,6 +1710,7 @@ int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error 
     }
     uint8_t *key = NULL;
     size_t key_cap = 0, lines = 0;
+    table_plan plan = {0, 0};
     char *text;
     long line;
     while ((rc = lam_reader_next_text(r, &text, &line, err)) == 1) {
@@ -1711,13 +1729,15 @@ int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error 
         uint64_t hv = key_hash(key, len);
         rc = key_table_add(&kt[key_half(hv)], key, len, hv, coef, lines, err);
         if (rc) break;
-        if (++lines == SIZE_AFTER) size_tables(r, kt, lines);
-        if (lines == SEQUENTIAL_LINES && lam_reader_syntax(r) == 2 && lam_reader_raw_ready(r)) {
+        if (++lines == SIZE_AFTER) plan = plan_tables(r, kt, lines);
+        if (lines != SEQUENTIAL_LINES) continue;
+        if (lam_reader_syntax(r) == 2 && lam_reader_raw_ready(r)) {
             op.lineno = lam_reader_lineno(r);
-            rc = run_both_cores(r, kt, &op, err);
+            rc = run_both_cores(r, kt, plan, &op, err);
             if (rc >= 0) break;
             rc = 0; /* no second thread: go on alone */
         }
+        for (int h = 0; h < 2; ++h) size_table(&kt[h], plan);
     }
     if (!rc) {
         summarize_tables(kt, out);
