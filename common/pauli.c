@@ -574,20 +574,21 @@ int lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int n
     return 0;
 }
 
+/* Highest qubit + 1 of a string, 0 for the identity. */
+static int top_qubit(int nw, const uint64_t *x, const uint64_t *z)
+{
+    for (int k = nw - 1; k >= 0; --k)
+        if (x[k] | z[k]) return k * 64 + 64 - __builtin_clzll(x[k] | z[k]);
+    return 0;
+}
+
 /* Highest qubit index named in the set + 1. */
 static int highest_qubit(const lam_pauli_set *s)
 {
     int top = 0;
     for (size_t t = 0; t < s->count; ++t) {
-        const uint64_t *x = lam_pauli_x(s, t), *z = lam_pauli_z(s, t);
-        for (int w = s->nwords - 1; w >= 0; --w) {
-            uint64_t any = x[w] | z[w];
-            if (any) {
-                int q = w * 64 + 63 - __builtin_clzll(any) + 1;
-                if (q > top) top = q;
-                break;
-            }
-        }
+        int q = top_qubit(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t));
+        if (q > top) top = q;
     }
     return top;
 }
@@ -743,12 +744,8 @@ int lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out, lam_error *err)
         }
         if (rc) break;
         int weight = lam_pauli_weight(nw, xz, xz + nw);
-        for (int k = nw - 1; k >= 0; --k)
-            if (xz[k] | xz[nw + k]) {
-                int top = k * 64 + 64 - __builtin_clzll(xz[k] | xz[nw + k]);
-                if (top > out->nqubits) out->nqubits = top;
-                break;
-            }
+        int top = top_qubit(nw, xz, xz + nw);
+        if (top > out->nqubits) out->nqubits = top;
         if (ln.coef == 0) continue;
         ++out->terms;
         if (weight == 0) {
@@ -1151,14 +1148,6 @@ enum { SEQUENTIAL_LINES = 1 << 14, SIZE_AFTER = 4096, BLOCK_BYTES = 1 << 20 };
 /* The half of the table a key goes to: a hash bit that neither the slot
  * (top bits) nor the fingerprint (low 24 bits) uses. */
 static inline int key_half(uint64_t hv) { return (int)(hv >> 24) & 1; }
-
-/* Highest qubit + 1 of a string, 0 for the identity. */
-static int top_qubit(int nw, const uint64_t *x, const uint64_t *z)
-{
-    for (int k = nw - 1; k >= 0; --k)
-        if (x[k] | z[k]) return k * 64 + 64 - __builtin_clzll(x[k] | z[k]);
-    return 0;
-}
 
 /* A parsed term on its way to the table. */
 typedef struct {
