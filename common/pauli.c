@@ -1143,7 +1143,8 @@ static int parse_fields_v2(const char *p, long limit, int nw, uint64_t *x, uint6
  * adding, which meets such lines in the order of the file: the first bad
  * line is the one reported, at its line. */
 
-enum { SEQUENTIAL_LINES = 1 << 14, SIZE_AFTER = 4096, BLOCK_BYTES = 1 << 20 };
+/* BLOCK_BYTES: the text of a round, both blocks */
+enum { SEQUENTIAL_LINES = 1 << 14, SIZE_AFTER = 4096, BLOCK_BYTES = 1 << 21 };
 
 /* The half of the table a key goes to: a hash bit that neither the slot
  * (top bits) nor the fingerprint (low 24 bits) uses. */
@@ -1414,23 +1415,23 @@ typedef struct {
 } carry_text;
 
 /* The next block: the carried part of a line, then whole lines up to
- * about BLOCK_BYTES (more for a longer line); at the end of the input the
+ * about `bytes` (more for a longer line); at the end of the input the
  * last line may lack its newline.  A read error is returned with the
  * whole lines before it in the block. */
 static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t number,
-                      lam_error *err)
+                      size_t bytes, lam_error *err)
 {
     b->number = number;
     b->len = 0;
-    if (b->cap < BLOCK_BYTES + carry->len + 1) {
-        b->cap = BLOCK_BYTES + carry->len + 1;
+    if (b->cap < bytes + carry->len + 1) {
+        b->cap = bytes + carry->len + 1;
         b->text = lam_realloc(b->text, b->cap);
     }
     memcpy(b->text, carry->bytes, carry->len);
     b->len = carry->len;
     carry->len = 0;
     for (;;) {
-        size_t want = b->len < BLOCK_BYTES ? BLOCK_BYTES - b->len : b->len;
+        size_t want = b->len < bytes ? bytes - b->len : b->len;
         if (b->cap < b->len + want + 1) {
             b->cap = lam_mul_size(b->len + want, 1) + 1;
             b->text = lam_realloc(b->text, b->cap);
@@ -1438,7 +1439,6 @@ static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t 
         size_t got;
         int rc = lam_reader_raw_read(r, b->text + b->len, want, &got, err);
         if (!rc && got == 0) return 0; /* the end of the input */
-        size_t from = b->len;
         b->len += got;
         size_t last = b->len;
         while (last > 0 && b->text[last - 1] != '\n') --last;
@@ -1453,7 +1453,6 @@ static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t 
             b->len = last;
             return rc;
         }
-        (void)from;
     }
 }
 
@@ -1564,10 +1563,11 @@ static void *second_core(void *arg)
 static int read_round(lam_reader *r, text_block round[2], carry_text *carry, uint64_t *number,
                       lam_error *err)
 {
+    /* the first thread also reads, settles and sums up: a smaller block */
     round[1].len = 0;
     round[1].number = *number + 1;
-    int rc = fill_block(r, &round[0], carry, (*number)++, err);
-    if (!rc && round[0].len) rc = fill_block(r, &round[1], carry, *number, err);
+    int rc = fill_block(r, &round[0], carry, (*number)++, BLOCK_BYTES / 16 * 7, err);
+    if (!rc && round[0].len) rc = fill_block(r, &round[1], carry, *number, BLOCK_BYTES / 16 * 9, err);
     ++*number;
     return rc;
 }
@@ -1614,9 +1614,10 @@ static int run_both_cores(lam_reader *r, key_table kt[2], table_plan plan, order
             rc = read_rc;
             *err = read_err;
         }
-        if (!rc) read_rc = read_round(r, bc.blk[(k + 1) & 1], &carry, &number, &read_err);
         bc.skip = rc != 0;
         pthread_barrier_wait(&bc.bar);
+        /* the next round is read while the second thread adds its half */
+        if (!rc) read_rc = read_round(r, bc.blk[(k + 1) & 1], &carry, &number, &read_err);
         if (!rc) add_round(&bc, (int)k, 0);
     }
     pthread_join(th, NULL);
@@ -1656,16 +1657,19 @@ static void summarize_tables(const key_table kt[2], lam_pauli_summary *out)
     uint64_t seq[2] = {0, 0};
     for (int h = 0; h < 2; ++h)
         if (kt[h].arena_len) seq[h] = entry_step(kt[h].arena);
+    /* a half that is done waits behind every term number */
+    for (int h = 0; h < 2; ++h)
+        if (!kt[h].arena_len) seq[h] = UINT64_MAX;
     for (;;) {
-        int live0 = at[0] < kt[0].arena_len, live1 = at[1] < kt[1].arena_len;
-        if (!live0 && !live1) break;
-        int h = !live0 ? 1 : !live1 ? 0 : seq[1] < seq[0];
+        /* which half comes next is a coin toss: chosen without a branch */
+        int h = seq[1] < seq[0];
+        if (seq[h] == UINT64_MAX) break;
         const uint8_t *e = kt[h].arena + at[h];
         double c = entry_coef(e);
         size_t len;
         const uint8_t *key = entry_key(e, &len);
         at[h] = (size_t)(key - kt[h].arena) + len;
-        if (at[h] < kt[h].arena_len) seq[h] += entry_step(kt[h].arena + at[h]);
+        seq[h] = at[h] < kt[h].arena_len ? seq[h] + entry_step(kt[h].arena + at[h]) : UINT64_MAX;
         if (c == 0) continue;
         ++out->terms;
         int32_t group;
