@@ -1427,7 +1427,7 @@ static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t 
         b->cap = bytes + carry->len + 1;
         b->text = lam_realloc(b->text, b->cap);
     }
-    memcpy(b->text, carry->bytes, carry->len);
+    if (carry->len) memcpy(b->text, carry->bytes, carry->len);
     b->len = carry->len;
     carry->len = 0;
     for (;;) {
@@ -1448,7 +1448,7 @@ static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t 
                 carry->cap = rest;
                 carry->bytes = lam_realloc(carry->bytes, carry->cap);
             }
-            memcpy(carry->bytes, b->text + last, rest);
+            if (rest) memcpy(carry->bytes, b->text + last, rest);
             carry->len = rc ? 0 : rest;
             b->len = last;
             return rc;
