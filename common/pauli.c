@@ -1551,7 +1551,7 @@ static void *second_core(void *arg)
     both_cores *bc = cw->bc;
     for (unsigned k = 0;; ++k) {
         pthread_barrier_wait(&bc->bar); /* the round's text is read */
-        if (bc->stop) return NULL;
+        if (bc->stop || bc->failed[0] || bc->failed[1]) return NULL;
         if (k == 0) size_table(&bc->kt[1], bc->plan);
         parse_turn(bc, &bc->blk[k & 1][1], cw);
         pthread_barrier_wait(&bc->bar); /* both blocks are parsed */
@@ -1601,9 +1601,10 @@ static int run_both_cores(lam_reader *r, key_table kt[2], table_plan plan, order
             rc = read_rc;
             *err = read_err;
         }
-        bc.stop = rc || bc.failed[0] || bc.failed[1] || !round[0].len;
+        bc.stop = rc || !round[0].len;
         pthread_barrier_wait(&bc.bar);
-        if (bc.stop) break;
+        /* a failure to add is read here, where neither thread writes */
+        if (bc.stop || bc.failed[0] || bc.failed[1]) break;
         if (k == 0) size_table(&kt[0], plan);
         parse_turn(&bc, &round[0], &first);
         pthread_barrier_wait(&bc.bar);

@@ -219,6 +219,8 @@ is "$(report_get lambda <<<"$OUT")" "$ONEPASS" "both threads: lambda digit for d
 gzip -c "$TMP/big.op" > "$TMP/big.op.gz"
 runlam lam-norm "$TMP/big.op.gz"
 is "$RC/$(report_get lambda <<<"$OUT")" "0/$ONEPASS" "both threads: the same stream gzipped, the same lambda"
+OUT=$(lam lam-norm - < "$TMP/big.op" 2>"$TMP/err"); RC=$?
+is "$RC/$(report_get lambda <<<"$OUT")" "0/$ONEPASS" "both threads: the same stream on standard input, the same lambda"
 # CRLF line ends, comments, blank lines, metadata between terms, labels,
 # repeats and an undeclared qubit count, spread over the blocks
 awk 'NR == 3 { next } /^#% end/ { print; next } /^#/ { print; next }
