@@ -23,11 +23,11 @@
 #    its wall time is about half of that.  On a loaded machine the wall
 #    figures mean little: the last line gives each thread's CPU seconds
 #    (perf, when installed) to hold against awk's.
-#    Measured on the shared 2-core machine (load average 8 to 10, the
-#    threads' CPU clocks): first thread 1.7-2.0 s, second 1.6-1.8 s, both
-#    3.3-4.2 CPU s, peak 314 MB (the reading thread 2.4 s and the merging
-#    thread 1.6 s, 296 MB, when one thread read and the other merged);
-#    awk 5.1-5.8 CPU s at that load.
+#    Measured on the shared 2-core machine (load average 7 to 12, six
+#    runs, the threads' CPU clocks from two): first thread 1.4-1.8 s,
+#    second 1.3-1.6 s, both 2.7-3.4 CPU s, peak 314 MB (the reading thread
+#    2.4 s and the merging thread 1.6 s, 296 MB, when one thread read and
+#    the other merged); awk 3.8-5.5 CPU s at that load.
 #
 #   BENCH_ORBITALS  orbitals of the size test (default 40; 0 skips it)
 #   BENCH_TERMS     terms of the speed test (default 10000000; 0 skips it)
