@@ -13,20 +13,21 @@
 #    `cat FILE >/dev/null` as the floor; wall and CPU seconds and peak
 #    resident memory (/usr/bin/time), BENCH_REPEAT runs each.
 #    Goal: lam-norm at most half of awk in wall seconds.  lam-norm runs
-#    two threads from 16384 terms on (one reads lines into keys, one
-#    converts coefficients, hashes and merges into the table; the
-#    coefficients of a chunk go to whichever thread waited less), so its
-#    CPU seconds are the sum of both: on an idle machine with 2 cores its
-#    wall time is that of the busier thread plus the final summary.  On a
-#    loaded machine the wall figures mean little: the last line gives
-#    each thread's CPU seconds (perf, when installed) to hold against
-#    awk's.  Measured on the shared 2-core machine (load average 18 to
-#    19, five runs each alternating, the threads' CPU clocks): reading
-#    thread 1.46-1.84 s (1.63-1.94 before the coefficients' conversion
-#    could move to the merging thread and the key table lost its offset
-#    and coefficient arrays), merging thread 1.36-2.06 s (1.55-2.20),
-#    both 2.9-4.0 CPU s (3.3-4.3), the final summary 0.22-0.50 s wall
-#    (0.37-0.90), peak 296 MB (367); awk 3.5-4.6 CPU s.
+#    two threads from 16384 terms on: both parse blocks of whole lines
+#    (about 1 MB each, a round of two at a time) into short keys, and the
+#    table is two halves by a hash bit, each filled by one thread in the
+#    order of the input; the first thread also reads the file, settles
+#    any line the quick parser left (errors, metadata) in order, and sums
+#    the halves up in the order of first appearance at the end.  Its CPU
+#    seconds are the sum of both threads: on an idle machine with 2 cores
+#    its wall time is about half of that.  On a loaded machine the wall
+#    figures mean little: the last line gives each thread's CPU seconds
+#    (perf, when installed) to hold against awk's.
+#    Measured on the shared 2-core machine (load average 7 to 12, six
+#    runs, the threads' CPU clocks from two): first thread 1.4-1.8 s,
+#    second 1.3-1.6 s, both 2.7-3.4 CPU s, peak 314 MB (the reading thread
+#    2.4 s and the merging thread 1.6 s, 296 MB, when one thread read and
+#    the other merged); awk 3.8-5.5 CPU s at that load.
 #
 #   BENCH_ORBITALS  orbitals of the size test (default 40; 0 skips it)
 #   BENCH_TERMS     terms of the speed test (default 10000000; 0 skips it)
@@ -94,7 +95,7 @@ measure() {
 }
 
 printf '\nfile: %s (%d terms, %d qubits, %d factors, %s bytes, no "distinct" line)\n' \
-    "$RAW" "$TERMS" "$QUBITS" "$WEIGHT" "$(stat -c %s "$RAW")"
+    "$RAW" "$TERMS" "$QUBITS" "$WEIGHT" "$(stat -L -c %s "$RAW")"
 printf '%-36s %3s %8s %8s %9s\n' "command" run wall_s cpu_s peak_kb
 cat "$RAW" > /dev/null # warm the page cache once
 SUMS=$DIR/sums.$$
@@ -120,10 +121,10 @@ if command -v perf > /dev/null 2>&1 &&
     perf record -q -F 1000 -e task-clock -o "$DIR/perf.$$" "$LAM_BIN/lam-norm" "$RAW" > /dev/null 2>&1; then
     perf report -i "$DIR/perf.$$" --stdio --sort pid -F sample,pid 2>/dev/null |
         awk '/^#/ || NF < 2 { next } { split($2, t, ":"); n[t[1]] = $1 }
-             END { m = -1; for (k in n) if (m < 0 || k + 0 < m + 0) m = k # the first thread reads
+             END { m = -1; for (k in n) if (m < 0 || k + 0 < m + 0) m = k # the first thread
                    g = -1; for (k in n) if (k != m && (g < 0 || n[k] > n[g])) g = k
                    for (k in n) if (k != m && k != g) o += n[k]
-                   printf "lam-norm CPU seconds per thread (perf, one run): reading %.2f, merging %.2f, other %.2f\n",
+                   printf "lam-norm CPU seconds per thread (perf, one run): first %.2f, second %.2f, other %.2f\n",
                           n[m] / 1000, n[g] / 1000, o / 1000 }'
     rm -f "$DIR/perf.$$"
 fi

@@ -574,20 +574,21 @@ int lam_pauli_parse_fields(lam_reader *r, const lam_line *ln, int nqubits, int n
     return 0;
 }
 
+/* Highest qubit + 1 of a string, 0 for the identity. */
+static int top_qubit(int nw, const uint64_t *x, const uint64_t *z)
+{
+    for (int k = nw - 1; k >= 0; --k)
+        if (x[k] | z[k]) return k * 64 + 64 - __builtin_clzll(x[k] | z[k]);
+    return 0;
+}
+
 /* Highest qubit index named in the set + 1. */
 static int highest_qubit(const lam_pauli_set *s)
 {
     int top = 0;
     for (size_t t = 0; t < s->count; ++t) {
-        const uint64_t *x = lam_pauli_x(s, t), *z = lam_pauli_z(s, t);
-        for (int w = s->nwords - 1; w >= 0; --w) {
-            uint64_t any = x[w] | z[w];
-            if (any) {
-                int q = w * 64 + 63 - __builtin_clzll(any) + 1;
-                if (q > top) top = q;
-                break;
-            }
-        }
+        int q = top_qubit(s->nwords, lam_pauli_x(s, t), lam_pauli_z(s, t));
+        if (q > top) top = q;
     }
     return top;
 }
@@ -743,12 +744,8 @@ int lam_pauli_summarize(lam_reader *r, lam_pauli_summary *out, lam_error *err)
         }
         if (rc) break;
         int weight = lam_pauli_weight(nw, xz, xz + nw);
-        for (int k = nw - 1; k >= 0; --k)
-            if (xz[k] | xz[nw + k]) {
-                int top = k * 64 + 64 - __builtin_clzll(xz[k] | xz[nw + k]);
-                if (top > out->nqubits) out->nqubits = top;
-                break;
-            }
+        int top = top_qubit(nw, xz, xz + nw);
+        if (top > out->nqubits) out->nqubits = top;
         if (ln.coef == 0) continue;
         ++out->terms;
         if (weight == 0) {
@@ -835,7 +832,9 @@ static inline uint64_t key_hash(const uint8_t *key, size_t n)
 
 /* Distinct keys with their summed coefficients, end to end in one arena
  * in the order of first appearance: an entry is the coefficient (8 bytes,
- * unaligned), the key's length as a varint, the key.  The open-addressing
+ * unaligned), the varint of its term's number less that of the entry
+ * before (so that the entries of several tables can be put back in the
+ * order of the input), the key's length as a varint, the key.  The open-addressing
  * table holds 24 bits of each key's hash and its entry's offset + 1.  One
  * arena instead of separate offset and coefficient arrays: the table's
  * memory is touched for the first time while merging, and the kernel's
@@ -846,6 +845,7 @@ typedef struct {
     size_t count;
     uint64_t *slot;
     size_t size;
+    uint64_t last_seq; /* term number of the last entry */
 } key_table;
 
 /* The table is kept at most 70 % full: with the fingerprints a probe
@@ -893,6 +893,7 @@ static uint64_t *alloc_slots(size_t size)
 static inline const uint8_t *entry_key(const uint8_t *e, size_t *len)
 {
     const uint8_t *p = e + sizeof(double);
+    while (*p++ >= 0x80) {} /* the term number's step */
     if (*p < 0x80) { /* a key below 128 bytes: the common case */
         *len = *p;
         return p + 1;
@@ -957,7 +958,7 @@ static void key_table_room(key_table *kt, size_t at, size_t len)
 /* Add c to the key (len bytes at key, outside the table): a new entry at
  * the arena's end, or the sum of an equal one. */
 static int key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t hv, double c,
-                         lam_error *err)
+                         uint64_t seq, lam_error *err)
 {
     if (key_table_full(kt, kt->count + 1)) key_table_reserve(kt, kt->count + 1);
     uint64_t fp = KEY_FP(hv);
@@ -975,14 +976,16 @@ static int key_table_add(key_table *kt, const uint8_t *key, size_t len, uint64_t
             return 0;
         }
     }
-    /* coefficient, varint, key, and 8 spare bytes for key_weight */
-    size_t most = sizeof(double) + 10 + len + 8;
+    /* coefficient, two varints, key, and 8 spare bytes for key_weight */
+    size_t most = sizeof(double) + 20 + len + 8;
     if (kt->arena_len + most >= SLOT_INDEX_MASK)
         return lam_error_set(err, LAM_EX_SOFTWARE, "hash index: too many rows");
     key_table_room(kt, kt->arena_len, most);
     uint8_t *entry = kt->arena + kt->arena_len;
     memcpy(entry, &c, sizeof c);
-    size_t head = sizeof c + put_varint(entry + sizeof c, len);
+    size_t head = sizeof c + put_varint(entry + sizeof c, seq - kt->last_seq);
+    head += put_varint(entry + head, len);
+    kt->last_seq = seq;
     memcpy(entry + head, key, len);
     kt->slot[i] = (fp << SLOT_INDEX_BITS) | (uint64_t)(kt->arena_len + 1);
     kt->arena_len += head + len;
@@ -1069,18 +1072,22 @@ static size_t plain_coefficient(const char *p)
 
 /* The Pauli fields of a well-formed version-2 term, from p (past the
  * coefficient) into x, z (nw words, all qubits below `limit`) and its
- * label, without splitting the text: 0 when they parsed, -1 for anything
+ * label, without splitting the text: 0 when they parsed (*stop at the
+ * terminating NUL, which tells a NUL inside a line), -1 for anything
  * else (another spelling, an error, a qubit beyond the words), which the
  * caller hands to the full parser for its message or its growth. */
 static int parse_fields_v2(const char *p, long limit, int nw, uint64_t *x, uint64_t *z,
-                           int32_t *group)
+                           int32_t *group, const char **stop)
 {
     clear_words(nw, x, z);
     *group = -1;
     unsigned seen = 0;
     for (;;) {
         while (*p == ' ' || *p == '\t') ++p;
-        if (!*p) return 0;
+        if (!*p) {
+            *stop = p;
+            return 0;
+        }
         if (*group >= 0) return -1; /* the label must come last */
         if (*p == '@') {
             const char *c = p + 1;
@@ -1118,160 +1125,552 @@ static int parse_fields_v2(const char *p, long limit, int nw, uint64_t *x, uint6
     }
 }
 
-/* Merging runs as a pipeline of two threads once the input is large: the
- * reading thread splits lines into encoded keys and the text of their
- * coefficients (checked to be certain to convert), a chunk at a time, and
- * a merging thread converts the coefficients, hashes the keys and adds
- * whole chunks to the table (its look-ups are cache misses).  The chunks
- * are added in the order of the input by the one merging thread, so every
- * sum is formed in the order of the lines, whatever the timing: the
- * result is the same as with one thread, bit for bit. */
+/* ------------------------------------------------ merging on both cores */
+
+/* lam_pauli_summarize_merged reads the first lines in one thread (the
+ * spelling and the size of the tables are known after them) and then,
+ * on a version-2 stream, uses two.  The text comes in blocks of whole
+ * lines, two a round, one for each thread to parse into encoded keys;
+ * the table is two tables, one for each value of a bit of the keys' hash,
+ * and each thread adds the keys of its half, from both blocks, in the
+ * order of the input: no locks, every key in one table, every sum formed
+ * in the order of the lines.  The entries keep their term's number, so
+ * the final sums walk both tables in the order of first appearance: the
+ * result is that of one thread, bit for bit.  A line the quick parser
+ * does not take (another spelling, a coefficient written otherwise, an
+ * error, "#%" metadata, a NUL byte) keeps a place among the keys and is
+ * left to the ordered pass of the first thread, between parsing and
+ * adding, which meets such lines in the order of the file: the first bad
+ * line is the one reported, at its line. */
+
+/* BLOCK_BYTES: the text of a round, both blocks */
+enum { SEQUENTIAL_LINES = 1 << 14, SIZE_AFTER = 4096, BLOCK_BYTES = 1 << 21 };
+
+/* The half of the table a key goes to: a hash bit that neither the slot
+ * (top bits) nor the fingerprint (low 24 bits) uses. */
+static inline int key_half(uint64_t hv) { return (int)(hv >> 24) & 1; }
+
+/* A parsed term on its way to the table. */
 typedef struct {
-    size_t at;          /* coefficient text (coef_len bytes and a 0), then the key */
-    uint32_t coef_len;  /* 0: the coefficient is already in coef */
-    uint32_t len;       /* key bytes */
+    uint64_t hash;
     double coef;
-} pending_key;
+    uint64_t seq; /* term number: block << 32 | term within the block */
+    size_t at;    /* the key in the block's key bytes */
+    uint32_t len; /* key bytes, or REC_LATER / REC_NONE */
+} key_rec;
 
-enum { CHUNK_KEYS = 1 << 14 };
+#define REC_LATER UINT32_MAX      /* left to the ordered pass */
+#define REC_NONE (UINT32_MAX - 1) /* the place kept in the other half */
+
+/* A line the quick parser left to the ordered pass. */
+enum { EV_CONTROL, EV_TERM, EV_NUL };
+typedef struct {
+    size_t off, len; /* its text in the block, NUL terminated */
+    long idx;        /* its line within the block, from 0 */
+    long next_term;  /* the first term line after it in the block, -1 */
+    uint64_t seq;    /* EV_TERM: the term number */
+    size_t rec[2];   /* EV_TERM: its places in both halves */
+    int kind;
+} line_event;
 
 typedef struct {
-    pending_key *keys;
-    size_t n;
-    uint8_t *bytes;
+    char *text; /* whole lines; room for a NUL past len */
     size_t len, cap;
-    size_t key_bytes;
-    size_t expect; /* distinct keys expected in all, 0 when unknown */
-    double per_entry; /* arena bytes per key so far */
-} key_chunk;
+    uint64_t number;
+    key_rec *rec[2];
+    size_t nrec[2], caprec[2];
+    uint8_t *keys;
+    size_t keys_len, keys_cap;
+    line_event *ev;
+    size_t nev, capev;
+    long lines, first_term;
+    int top;
+} text_block;
 
-/* The merging thread never ends the process: a failure stops it, is kept
- * in err (failed set) and handed to the reading thread at its next hand
- * over or at the end.  Every bad line is found by the reading thread, in
- * the order of the input, so the first one is the one reported. */
+static void text_block_free(text_block *b)
+{
+    free(b->text);
+    free(b->rec[0]);
+    free(b->rec[1]);
+    free(b->keys);
+    free(b->ev);
+}
+
+static key_rec *block_rec(text_block *b, int half)
+{
+    if (b->nrec[half] == b->caprec[half]) {
+        b->caprec[half] = b->caprec[half] ? lam_mul_size(b->caprec[half], 2) : 4096;
+        b->rec[half] = lam_realloc(b->rec[half], lam_mul_size(b->caprec[half], sizeof(key_rec)));
+    }
+    return &b->rec[half][b->nrec[half]++];
+}
+
+static line_event *block_event(text_block *b, int kind, const char *line, size_t len, long idx)
+{
+    if (b->nev == b->capev) {
+        b->capev = b->capev ? lam_mul_size(b->capev, 2) : 64;
+        b->ev = lam_realloc(b->ev, lam_mul_size(b->capev, sizeof(line_event)));
+    }
+    line_event *ev = &b->ev[b->nev++];
+    memset(ev, 0, sizeof *ev);
+    ev->off = (size_t)(line - b->text);
+    ev->len = len;
+    ev->idx = idx;
+    ev->next_term = -1;
+    ev->kind = kind;
+    return ev;
+}
+
+/* Encode a term into the block's key bytes and describe it in *rec;
+ * returns its half. */
+static int encode_rec(text_block *b, int nw, const uint64_t *xz, int32_t group, double coef,
+                      uint64_t seq, key_rec *rec)
+{
+    /* at most 4 varint bytes a qubit (indices below 2^24), the label */
+    size_t most = nw <= 4 ? 256 * (size_t)nw : (size_t)lam_pauli_weight(nw, xz, xz + nw);
+    size_t room = 4 * most + 16;
+    if (b->keys_len + room > b->keys_cap) {
+        size_t cap = b->keys_cap ? b->keys_cap : (size_t)1 << 16;
+        while (cap < b->keys_len + room) cap = lam_mul_size(cap, 2);
+        b->keys = lam_realloc(b->keys, cap);
+        b->keys_cap = cap;
+    }
+    rec->at = b->keys_len;
+    rec->len = (uint32_t)encode_key(b->keys + b->keys_len, nw, xz, xz + nw, group);
+    b->keys_len += rec->len;
+    rec->hash = key_hash(b->keys + rec->at, rec->len);
+    rec->coef = coef;
+    rec->seq = seq;
+    return key_half(rec->hash);
+}
+
+/* The quick parse of a block (either thread): every plain version-2 term
+ * with a plain coefficient into a key of its half; every other line that
+ * is not blank or a comment into an event for the ordered pass.  limit:
+ * qubits from it on are left to the ordered pass; xz: 2 nw words. */
+static void parse_block(text_block *b, int nw, long limit, int find_top, uint64_t *xz)
+{
+    b->nrec[0] = b->nrec[1] = b->keys_len = b->nev = 0;
+    b->first_term = -1;
+    b->top = 0;
+    char *p = b->text, *end = b->text + b->len;
+    long idx = 0;
+    uint32_t terms = 0;
+    size_t waiting = 0; /* events before it that wait for the next term line */
+    for (; p < end; ++idx) {
+        char *nl = memchr(p, '\n', (size_t)(end - p));
+        char *e = nl ? nl : end, *line = p;
+        p = e + 1;
+        *e = '\0';
+        if (e > line && e[-1] == '\r') *--e = '\0';
+        size_t n = (size_t)(e - line);
+        char *s = line;
+        if (*s == '#') {
+            if (s[1] == '%')
+                block_event(b, EV_CONTROL, line, n, idx);
+            else if (strlen(line) != n)
+                block_event(b, EV_NUL, line, n, idx);
+            continue;
+        }
+        while (*s == ' ' || *s == '\t') ++s;
+        if (!*s) {
+            if (s != e) block_event(b, EV_NUL, line, n, idx);
+            continue;
+        }
+        for (; waiting < b->nev; ++waiting) b->ev[waiting].next_term = idx;
+        if (b->first_term < 0) b->first_term = idx;
+        uint64_t seq = b->number << 32 | terms++;
+        char *ce = s;
+        while ((unsigned char)*ce > ' ') ++ce; /* the coefficient's end */
+        double coef = 0;
+        int32_t group = -1;
+        const char *stop = NULL;
+        char save = *ce;
+        *ce = '\0';
+        int fast = lam_reader_coefficient(s, &coef) == 0;
+        *ce = save;
+        fast = fast && (save == ' ' || save == '\t' || save == '\0') &&
+               parse_fields_v2(ce, limit, nw, xz, xz + nw, &group, &stop) == 0 && stop == e;
+        if (fast) {
+            key_rec rec;
+            int half = encode_rec(b, nw, xz, group, coef, seq, &rec);
+            *block_rec(b, half) = rec;
+            if (find_top) {
+                int top = top_qubit(nw, xz, xz + nw);
+                if (top > b->top) b->top = top;
+            }
+            continue;
+        }
+        line_event *ev = block_event(b, EV_TERM, line, n, idx);
+        ev->seq = seq;
+        for (int h = 0; h < 2; ++h) {
+            block_rec(b, h)->len = REC_LATER;
+            ev->rec[h] = b->nrec[h] - 1;
+        }
+    }
+    b->lines = idx;
+}
+
+/* One term line by the full parser (the quick one first) into xz (grown
+ * through *xz, *nw when an unbounded stream needs more), its label and
+ * coefficient; the code of a malformed term. */
+static int read_term(lam_reader *r, char *text, long line, long declared, int *nw,
+                     uint64_t **xz, int32_t *group, double *coef, lam_error *err)
+{
+    char *p = text;
+    while (*p == ' ' || *p == '\t') ++p;
+    size_t n = plain_coefficient(p);
+    long limit = declared >= 0 ? declared : 64L * *nw;
+    if (n && lam_reader_syntax(r) == 2) {
+        char save = p[n];
+        p[n] = '\0';
+        int fast = lam_reader_coefficient(p, coef) == 0;
+        p[n] = save;
+        const char *stop;
+        if (fast && parse_fields_v2(p + n, limit, *nw, *xz, *xz + *nw, group, &stop) == 0)
+            return 0;
+    }
+    lam_line ln;
+    int rc = lam_reader_split(r, text, line, &ln, err);
+    if (rc) return rc;
+    long need;
+    while ((rc = parse_fields(r, &ln, (int)declared, *nw, *xz, *xz + *nw, group, &need,
+                              err)) == 0 &&
+           need >= 0) {
+        *nw = lam_pauli_words((int)need);
+        *xz = lam_realloc(*xz, lam_mul_size(2 * (size_t)*nw, sizeof(uint64_t)));
+    }
+    if (rc) return rc;
+    *coef = ln.coef;
+    return 0;
+}
+
+/* What the first thread keeps while it meets the lines in order. */
 typedef struct {
-    pthread_mutex_t mu;
-    pthread_cond_t cv;
-    key_chunk chunk[2];
-    int full[2]; /* handed over, not yet added */
-    int done;    /* no chunk will follow */
-    int stop;    /* the reading thread gave up: add nothing more */
-    int failed;  /* the merging thread stopped on err */
-    lam_error err;
-    key_table *kt;
-} merge_pipe;
+    lam_reader *r;
+    long declared;
+    int nw;       /* words of every parser (grows for an unbounded stream) */
+    uint64_t *xz; /* the ordered pass's words */
+    long lineno;  /* lines before the next block */
+    int ended;    /* met "#% end" */
+    int top;      /* highest qubit + 1 so far */
+} ordered_pass;
 
-/* The coefficient of a pending key into *c. */
-static inline int pending_coef(const key_chunk *ch, const pending_key *pk, double *c,
-                               lam_error *err)
+/* A term line the quick parser left: parsed in full into its place. */
+static int settle_term(ordered_pass *op, text_block *b, const line_event *ev, long line,
+                       lam_error *err)
 {
-    *c = pk->coef;
-    if (pk->coef_len &&
-        lam_reader_coefficient((const char *)ch->bytes + pk->at, c) != 0)
-        return lam_error_set(err, LAM_EX_SOFTWARE,
-                             "internal: a coefficient checked as plain did not convert");
+    int32_t group;
+    double coef;
+    int rc = read_term(op->r, b->text + ev->off, line, op->declared, &op->nw, &op->xz, &group,
+                       &coef, err);
+    if (rc) return rc;
+    key_rec rec;
+    int half = encode_rec(b, op->nw, op->xz, group, coef, ev->seq, &rec);
+    b->rec[half][ev->rec[half]] = rec;
+    b->rec[!half][ev->rec[!half]].len = REC_NONE;
+    int top = top_qubit(op->nw, op->xz, op->xz + op->nw);
+    if (top > op->top) op->top = top;
     return 0;
 }
 
-/* Size the table for the expected keys, then add the chunk's keys a batch
- * at a time, their slots prefetched first so that the misses overlap. */
-static int add_chunk(key_table *kt, const key_chunk *ch, lam_error *err)
+/* The ordered pass over a parsed block: its events in the order of the
+ * lines, the first failure returned; a term line after "#% end" fails. */
+static int settle_block(ordered_pass *op, text_block *b, lam_error *err)
 {
-    enum { BATCH = 32 };
-    if (ch->expect) {
-        key_table_reserve(kt, ch->expect);
-        key_table_room(kt, kt->arena_len, (size_t)((double)ch->expect * ch->per_entry) + 4096);
-    }
-    for (size_t b = 0; b < ch->n; b += BATCH) {
-        size_t e = b + BATCH < ch->n ? b + BATCH : ch->n;
-        uint64_t hash[BATCH];
-        double coef[BATCH];
-        for (size_t i = b; i < e; ++i) {
-            const pending_key *pk = &ch->keys[i];
-            hash[i - b] = key_hash(ch->bytes + pk->at + pk->coef_len + 1, pk->len);
-            key_table_prefetch(kt, hash[i - b]);
-        }
-        for (size_t i = b; i < e; ++i) {
-            int rc = pending_coef(ch, &ch->keys[i], &coef[i - b], err);
-            if (rc) return rc;
-        }
-        for (size_t i = b; i < e; ++i) {
-            const pending_key *pk = &ch->keys[i];
-            int rc = key_table_add(kt, ch->bytes + pk->at + pk->coef_len + 1, pk->len,
-                                   hash[i - b], coef[i - b], err);
-            if (rc) return rc;
+    long base = op->lineno;
+    long bad = op->ended ? b->first_term : -1; /* a term line after the end */
+    int rc = 0;
+    for (size_t i = 0; i < b->nev && !rc; ++i) {
+        const line_event *ev = &b->ev[i];
+        if (bad >= 0 && ev->idx > bad) break;
+        char *text = b->text + ev->off;
+        long line = base + ev->idx + 1;
+        if (strlen(text) != ev->len) {
+            rc = lam_reader_error(op->r, line, err, "NUL byte in line");
+        } else if (op->ended) {
+            continue; /* comments and metadata after the end are not read */
+        } else if (ev->kind == EV_CONTROL) {
+            int end;
+            rc = lam_reader_raw_control(op->r, text, line, &end, err);
+            if (!rc && end) {
+                op->ended = 1;
+                bad = ev->next_term;
+            }
+        } else if (ev->kind == EV_TERM) {
+            rc = settle_term(op, b, ev, line, err);
         }
     }
-    return 0;
-}
-
-static void *merge_thread(void *arg)
-{
-    merge_pipe *mp = arg;
-    for (int k = 0;; k ^= 1) {
-        pthread_mutex_lock(&mp->mu);
-        while (!mp->full[k] && !mp->done) pthread_cond_wait(&mp->cv, &mp->mu);
-        int have = mp->full[k] && !mp->stop;
-        pthread_mutex_unlock(&mp->mu);
-        if (!have) return NULL;
-        int failed = add_chunk(mp->kt, &mp->chunk[k], &mp->err) != 0;
-        pthread_mutex_lock(&mp->mu);
-        mp->full[k] = 0;
-        mp->failed = failed;
-        pthread_cond_broadcast(&mp->cv);
-        pthread_mutex_unlock(&mp->mu);
-        if (failed) return NULL;
-    }
-}
-
-/* Hand chunk k to the merging thread and wait until chunk k^1 is free;
- * *behind is 1 when it was not (the merging thread is the slower).
- * Returns the merging thread's code once it has failed, else 0. */
-static int pipe_hand_over(merge_pipe *mp, int k, int *behind)
-{
-    pthread_mutex_lock(&mp->mu);
-    mp->full[k] = 1;
-    pthread_cond_broadcast(&mp->cv);
-    *behind = mp->full[k ^ 1];
-    while (mp->full[k ^ 1] && !mp->failed) pthread_cond_wait(&mp->cv, &mp->mu);
-    int rc = mp->failed ? mp->err.code : 0;
-    pthread_mutex_unlock(&mp->mu);
+    if (!rc && bad >= 0)
+        rc = lam_reader_error(op->r, base + bad + 1, err, "term after '#%% end'");
+    op->lineno += b->lines;
+    if (b->top > op->top) op->top = b->top;
     return rc;
 }
 
-/* Let the merging thread finish (or, with stop, drop what it has not
- * started) and join it; the merging thread's code, 0 when it did not
- * fail. */
-static int pipe_finish(merge_pipe *mp, pthread_t th, int stop)
+/* The bytes after the last whole line handed out. */
+typedef struct {
+    char *bytes;
+    size_t len, cap;
+} carry_text;
+
+/* The next block: the carried part of a line, then whole lines up to
+ * about `bytes` (more for a longer line); at the end of the input the
+ * last line may lack its newline.  A read error is returned with the
+ * whole lines before it in the block. */
+static int fill_block(lam_reader *r, text_block *b, carry_text *carry, uint64_t number,
+                      size_t bytes, lam_error *err)
 {
-    pthread_mutex_lock(&mp->mu);
-    mp->done = 1;
-    mp->stop = stop;
-    pthread_cond_broadcast(&mp->cv);
-    pthread_mutex_unlock(&mp->mu);
-    pthread_join(th, NULL);
-    return mp->failed ? mp->err.code : 0;
+    b->number = number;
+    b->len = 0;
+    if (b->cap < bytes + carry->len + 1) {
+        b->cap = bytes + carry->len + 1;
+        b->text = lam_realloc(b->text, b->cap);
+    }
+    if (carry->len) memcpy(b->text, carry->bytes, carry->len);
+    b->len = carry->len;
+    carry->len = 0;
+    for (;;) {
+        size_t want = b->len < bytes ? bytes - b->len : b->len;
+        if (b->cap < b->len + want + 1) {
+            b->cap = lam_mul_size(b->len + want, 1) + 1;
+            b->text = lam_realloc(b->text, b->cap);
+        }
+        size_t got;
+        int rc = lam_reader_raw_read(r, b->text + b->len, want, &got, err);
+        if (!rc && got == 0) return 0; /* the end of the input */
+        b->len += got;
+        size_t last = b->len;
+        while (last > 0 && b->text[last - 1] != '\n') --last;
+        if (last > 0 || rc) {
+            size_t rest = b->len - last;
+            if (carry->cap < rest) {
+                carry->cap = rest;
+                carry->bytes = lam_realloc(carry->bytes, carry->cap);
+            }
+            if (rest) memcpy(carry->bytes, b->text + last, rest);
+            carry->len = rc ? 0 : rest;
+            b->len = last;
+            return rc;
+        }
+    }
 }
 
-/* Expected distinct keys, from the bytes a line took so far and the bytes
- * left in the file (plain files only); 0 when unknown. */
-static size_t expected_keys(lam_reader *r, size_t lines)
+/* The size of each half for the keys expected, from the bytes a line
+ * took so far and the bytes left in the file (plain files only); 0 when
+ * unknown. */
+typedef struct {
+    size_t keys, bytes;
+} table_plan;
+
+static table_plan plan_tables(lam_reader *r, const key_table kt[2], size_t lines)
 {
+    table_plan plan = {0, 0};
     long long left = lam_reader_bytes_left(r), done = lam_reader_bytes_read(r);
-    if (left < 0 || done <= 0 || lines == 0) return 0;
+    if (left < 0 || done <= 0 || lines == 0) return plan;
     double expect = 1.05 * ((double)lines + (double)left * (double)lines / (double)done);
-    return expect < 1e10 ? (size_t)expect : 0;
+    if (expect >= 1e10) return plan;
+    size_t count = kt[0].count + kt[1].count;
+    double per_entry = (double)(kt[0].arena_len + kt[1].arena_len) / (double)(count ? count : 1);
+    plan.keys = (size_t)(expect / 2 * 1.01);
+    plan.bytes = (size_t)((double)plan.keys * per_entry) + 4096;
+    return plan;
 }
 
-/* Sum the merged table in the order of first appearance. */
-static void summarize_table(const key_table *kt, lam_pauli_summary *out)
+/* Size a half as planned: done by the thread that owns it, so that the
+ * kernel's zeroing of the new pages (a fifth of all the work) is shared. */
+static void size_table(key_table *kt, table_plan plan)
+{
+    if (!plan.keys) return;
+    key_table_reserve(kt, plan.keys);
+    key_table_room(kt, kt->arena_len, plan.bytes);
+}
+
+/* What both threads share. */
+typedef struct {
+    text_block blk[2][2]; /* [round & 1][thread] */
+    key_table *kt;        /* [2]: one half each */
+    table_plan plan;
+    pthread_barrier_t bar;
+    int nw;
+    long declared;
+    int stop;          /* no more rounds */
+    int skip;          /* the round failed: add nothing */
+    int failed[2];     /* a thread's failure adding its half (70) */
+    lam_error err[2];
+} both_cores;
+
+typedef struct {
+    both_cores *bc;
+    uint64_t *xz;
+    int nw;
+} core_words;
+
+static void parse_turn(both_cores *bc, text_block *b, core_words *cw)
+{
+    if (cw->nw != bc->nw) {
+        cw->nw = bc->nw;
+        cw->xz = lam_realloc(cw->xz, lam_mul_size(2 * (size_t)cw->nw, sizeof(uint64_t)));
+    }
+    parse_block(b, cw->nw, bc->declared >= 0 ? bc->declared : 64L * cw->nw, bc->declared < 0,
+                cw->xz);
+}
+
+/* Add one half of a block's keys, a batch at a time, their slots
+ * prefetched first so that the cache misses overlap. */
+static int add_half(key_table *kt, const text_block *b, int half, lam_error *err)
+{
+    enum { BATCH = 32 };
+    const key_rec *rec = b->rec[half];
+    size_t n = b->nrec[half];
+    for (size_t s = 0; s < n; s += BATCH) {
+        size_t e = s + BATCH < n ? s + BATCH : n;
+        for (size_t i = s; i < e; ++i)
+            if (rec[i].len < REC_NONE) key_table_prefetch(kt, rec[i].hash);
+        for (size_t i = s; i < e; ++i) {
+            if (rec[i].len >= REC_NONE) continue;
+            int rc = key_table_add(kt, b->keys + rec[i].at, rec[i].len, rec[i].hash,
+                                   rec[i].coef, rec[i].seq, err);
+            if (rc) return rc;
+        }
+    }
+    return 0;
+}
+
+static void add_round(both_cores *bc, int k, int half)
+{
+    for (int t = 0; t < 2 && !bc->failed[half]; ++t)
+        bc->failed[half] = add_half(&bc->kt[half], &bc->blk[k & 1][t], half, &bc->err[half]) != 0;
+}
+
+/* The second thread: parse its block of each round, wait for the ordered
+ * pass, add its half of the round's keys. */
+static void *second_core(void *arg)
+{
+    core_words *cw = arg;
+    both_cores *bc = cw->bc;
+    for (unsigned k = 0;; ++k) {
+        pthread_barrier_wait(&bc->bar); /* the round's text is read */
+        if (bc->stop || bc->failed[0] || bc->failed[1]) return NULL;
+        if (k == 0) size_table(&bc->kt[1], bc->plan);
+        parse_turn(bc, &bc->blk[k & 1][1], cw);
+        pthread_barrier_wait(&bc->bar); /* both blocks are parsed */
+        pthread_barrier_wait(&bc->bar); /* the ordered pass is done */
+        if (!bc->skip) add_round(bc, (int)k, 1);
+    }
+}
+
+static int read_round(lam_reader *r, text_block round[2], carry_text *carry, uint64_t *number,
+                      lam_error *err)
+{
+    /* the first thread also reads, settles and sums up: a smaller block */
+    round[1].len = 0;
+    round[1].number = *number + 1;
+    int rc = fill_block(r, &round[0], carry, (*number)++, BLOCK_BYTES / 16 * 7, err);
+    if (!rc && round[0].len) rc = fill_block(r, &round[1], carry, *number, BLOCK_BYTES / 16 * 9, err);
+    ++*number;
+    return rc;
+}
+
+/* The rest of the stream on both cores, from line op->lineno + 1 on;
+ * 0 or the code of the first failure, -1 when the second thread could
+ * not start (nothing read: the caller goes on alone). */
+static int run_both_cores(lam_reader *r, key_table kt[2], table_plan plan, ordered_pass *op,
+                          lam_error *err)
+{
+    both_cores bc;
+    memset(&bc, 0, sizeof bc);
+    bc.kt = kt;
+    bc.plan = plan;
+    bc.nw = op->nw;
+    bc.declared = op->declared;
+    if (pthread_barrier_init(&bc.bar, NULL, 2) != 0) return -1;
+    core_words second = {&bc, NULL, 0}, first = {&bc, NULL, 0};
+    pthread_t th;
+    if (pthread_create(&th, NULL, second_core, &second) != 0) {
+        pthread_barrier_destroy(&bc.bar);
+        return -1;
+    }
+    carry_text carry = {0};
+    uint64_t number = 1; /* block 0: the lines read alone */
+    lam_error read_err;
+    int rc = 0, read_rc = read_round(r, bc.blk[0], &carry, &number, &read_err);
+    for (unsigned k = 0;; ++k) {
+        text_block *round = bc.blk[k & 1];
+        if (!rc && read_rc && !round[0].len) { /* the read error, after every line before it */
+            rc = read_rc;
+            *err = read_err;
+        }
+        bc.stop = rc || !round[0].len;
+        pthread_barrier_wait(&bc.bar);
+        /* a failure to add is read here, where neither thread writes */
+        if (bc.stop || bc.failed[0] || bc.failed[1]) break;
+        if (k == 0) size_table(&kt[0], plan);
+        parse_turn(&bc, &round[0], &first);
+        pthread_barrier_wait(&bc.bar);
+        rc = settle_block(op, &round[0], err);
+        if (!rc) rc = settle_block(op, &round[1], err);
+        bc.nw = op->nw;
+        if (!rc && read_rc) {
+            rc = read_rc;
+            *err = read_err;
+        }
+        bc.skip = rc != 0;
+        pthread_barrier_wait(&bc.bar);
+        /* the next round is read while the second thread adds its half */
+        if (!rc) read_rc = read_round(r, bc.blk[(k + 1) & 1], &carry, &number, &read_err);
+        if (!rc) add_round(&bc, (int)k, 0);
+    }
+    pthread_join(th, NULL);
+    pthread_barrier_destroy(&bc.bar);
+    for (int h = 0; !rc && h < 2; ++h)
+        if (bc.failed[h]) {
+            *err = bc.err[h];
+            rc = err->code;
+        }
+    lam_reader_raw_seen(r, op->lineno);
+    if (!rc) rc = lam_reader_raw_finish(r, err);
+    for (int k = 0; k < 2; ++k)
+        for (int t = 0; t < 2; ++t) text_block_free(&bc.blk[k][t]);
+    free(carry.bytes);
+    free(first.xz);
+    free(second.xz);
+    return rc;
+}
+
+
+/* The step of an entry's term number from the entry before. */
+static inline uint64_t entry_step(const uint8_t *e)
+{
+    const uint8_t *p = e + sizeof(double);
+    uint64_t v = 0;
+    for (unsigned shift = 0;; shift += 7) {
+        v |= (uint64_t)(*p & 0x7f) << shift;
+        if (*p++ < 0x80) return v;
+    }
+}
+
+/* Sum the merged tables in the order of first appearance. */
+static void summarize_tables(const key_table kt[2], lam_pauli_summary *out)
 {
     lam_grouped_norm norms = {0};
-    for (size_t at = 0; at < kt->arena_len;) {
-        double c = entry_coef(kt->arena + at);
+    size_t at[2] = {0, 0};
+    uint64_t seq[2] = {0, 0};
+    for (int h = 0; h < 2; ++h)
+        if (kt[h].arena_len) seq[h] = entry_step(kt[h].arena);
+    /* a half that is done waits behind every term number */
+    for (int h = 0; h < 2; ++h)
+        if (!kt[h].arena_len) seq[h] = UINT64_MAX;
+    for (;;) {
+        /* which half comes next is a coin toss: chosen without a branch */
+        int h = seq[1] < seq[0];
+        if (seq[h] == UINT64_MAX) break;
+        const uint8_t *e = kt[h].arena + at[h];
+        double c = entry_coef(e);
         size_t len;
-        const uint8_t *key = entry_key(kt->arena + at, &len);
-        at = (size_t)(key - kt->arena) + len;
+        const uint8_t *key = entry_key(e, &len);
+        at[h] = (size_t)(key - kt[h].arena) + len;
+        seq[h] = at[h] < kt[h].arena_len ? seq[h] + entry_step(kt[h].arena + at[h]) : UINT64_MAX;
         if (c == 0) continue;
         ++out->terms;
         int32_t group;
@@ -1288,153 +1687,58 @@ static void summarize_table(const key_table *kt, lam_pauli_summary *out)
     out->lambda_grouped = lam_grouped_norm_finish(&norms, &out->groups);
 }
 
-/* Room for `room` more bytes in the chunk. */
-static void chunk_room(key_chunk *ch, size_t room)
-{
-    if (ch->len + room <= ch->cap) return;
-    size_t cap = ch->cap ? ch->cap : (size_t)1 << 16;
-    while (cap < ch->len + room) cap = lam_mul_size(cap, 2);
-    ch->bytes = lam_realloc(ch->bytes, cap);
-    ch->cap = cap;
-}
-
-/* One term line into x, z (nw words, grown through *xz when an unbounded
- * stream needs more) and its label; unless `convert`, the coefficient's
- * text is copied to the chunk when it is plain (*coef_len > 0); else it is
- * converted into *coef.  A malformed term gets its message from the full
- * parser, and its code is returned. */
-static int read_term(lam_reader *r, char *text, long line, long declared, int *nw,
-                     uint64_t **xz, int32_t *group, key_chunk *ch, int convert,
-                     size_t *coef_len, double *coef, lam_error *err)
-{
-    char *p = text;
-    while (*p == ' ' || *p == '\t') ++p;
-    size_t n = convert ? 0 : plain_coefficient(p);
-    *coef_len = n;
-    int fast = n > 0;
-    if (fast) {
-        chunk_room(ch, n + 1);
-        memcpy(ch->bytes + ch->len, p, n);
-        ch->bytes[ch->len + n] = '\0';
-        p += n;
-    } else { /* converted here, where a failure is reported in order */
-        char *tok = p;
-        p += strcspn(p, " \t");
-        char save = *p;
-        *p = '\0';
-        fast = lam_reader_coefficient(tok, coef) == 0;
-        *p = save;
-    }
-    long limit = declared >= 0 ? declared : 64L * *nw;
-    /* the fast path once the stream is known to be version 2 */
-    if (fast && lam_reader_syntax(r) == 2 &&
-        parse_fields_v2(p, limit, *nw, *xz, *xz + *nw, group) == 0)
-        return 0;
-    lam_line ln;
-    int rc = lam_reader_split(r, text, line, &ln, err);
-    if (rc) return rc;
-    long need;
-    while ((rc = parse_fields(r, &ln, (int)declared, *nw, *xz, *xz + *nw, group, &need,
-                              err)) == 0 &&
-           need >= 0) {
-        *nw = lam_pauli_words((int)need);
-        *xz = lam_realloc(*xz, lam_mul_size(2 * (size_t)*nw, sizeof(uint64_t)));
-    }
-    if (rc) return rc;
-    *coef_len = 0;
-    *coef = ln.coef;
-    return 0;
-}
-
 int lam_pauli_summarize_merged(lam_reader *r, lam_pauli_summary *out, lam_error *err)
 {
-    enum { SIZE_AFTER = 4096 };
     long declared = -1;
     memset(out, 0, sizeof *out);
     int rc = lam_reader_meta_long(r, "qubits", -1, 0, LAM_PAULI_MAX_QUBITS, &declared, err);
     if (rc) return rc;
-    int nw = declared > 0 ? lam_pauli_words((int)declared) : 1;
-    uint64_t *xz = lam_calloc(2 * (size_t)nw, sizeof(uint64_t));
-    key_table kt = {0};
-    key_table_reserve(&kt, 1);
-    key_table_room(&kt, 0, 1);
-    merge_pipe mp;
-    memset(&mp, 0, sizeof mp);
-    mp.kt = &kt;
-    for (int k = 0; k < 2; ++k) mp.chunk[k].keys = lam_malloc(CHUNK_KEYS * sizeof(pending_key));
-    pthread_t th;
-    int threaded = 0, cur = 0, convert = 0;
-    size_t lines = 0;
+    ordered_pass op = {r, declared, declared > 0 ? lam_pauli_words((int)declared) : 1, NULL,
+                       0, 0, 0};
+    op.xz = lam_calloc(2 * (size_t)op.nw, sizeof(uint64_t));
+    key_table kt[2];
+    memset(kt, 0, sizeof kt);
+    for (int h = 0; h < 2; ++h) {
+        key_table_reserve(&kt[h], 1);
+        key_table_room(&kt[h], 0, 1);
+    }
+    uint8_t *key = NULL;
+    size_t key_cap = 0, lines = 0;
+    table_plan plan = {0, 0};
     char *text;
     long line;
     while ((rc = lam_reader_next_text(r, &text, &line, err)) == 1) {
         int32_t group;
-        double coef = 0;
-        size_t coef_len;
-        key_chunk *ch = &mp.chunk[cur];
-        rc = read_term(r, text, line, declared, &nw, &xz, &group, ch, convert, &coef_len, &coef,
-                       err);
+        double coef;
+        rc = read_term(r, text, line, declared, &op.nw, &op.xz, &group, &coef, err);
         if (rc) break;
-        /* the highest qubit counts only when the stream declares none */
-        for (int k = nw - 1; declared < 0 && k >= 0; --k)
-            if (xz[k] | xz[nw + k]) {
-                int top = k * 64 + 64 - __builtin_clzll(xz[k] | xz[nw + k]);
-                if (top > out->nqubits) out->nqubits = top;
-                break;
-            }
-        /* at most 4 varint bytes a qubit (indices below 2^24), the label;
-         * the coefficient's text is already in place */
-        size_t most = nw <= 4 ? 256 * (size_t)nw : (size_t)lam_pauli_weight(nw, xz, xz + nw);
-        chunk_room(ch, coef_len + 1 + 4 * most + 8);
-        pending_key *pk = &ch->keys[ch->n++];
-        pk->at = ch->len;
-        pk->coef_len = (uint32_t)coef_len;
-        pk->coef = coef;
-        ch->bytes[ch->len + coef_len] = '\0';
-        ch->len += coef_len + 1;
-        pk->len = (uint32_t)encode_key(ch->bytes + ch->len, nw, xz, xz + nw, group);
-        ch->len += pk->len;
-        ch->key_bytes += pk->len;
-        if (++lines == SIZE_AFTER) {
-            ch->expect = expected_keys(r, lines);
-            ch->per_entry = (double)ch->key_bytes / (double)ch->n + sizeof(double) + 1;
+        int top = top_qubit(op.nw, op.xz, op.xz + op.nw);
+        if (top > op.top) op.top = top;
+        size_t most = 4 * (size_t)lam_pauli_weight(op.nw, op.xz, op.xz + op.nw) + 16;
+        if (most > key_cap) {
+            key_cap = most;
+            key = lam_realloc(key, key_cap);
         }
-        if (ch->n < CHUNK_KEYS) continue;
-        if (!threaded) threaded = pthread_create(&th, NULL, merge_thread, &mp) == 0;
-        if (threaded) {
-            /* the coefficients of the next chunk are converted by the
-             * thread that waited less: the balance of the two threads
-             * differs from machine to machine (the merging thread's share
-             * swings with the kernel's zeroing of the table's pages) */
-            rc = pipe_hand_over(&mp, cur, &convert);
-            if (rc) *err = mp.err; /* the merging thread stopped: it writes no more */
-            cur ^= 1;
-        } else {
-            rc = add_chunk(&kt, ch, err);
-        }
+        size_t len = encode_key(key, op.nw, op.xz, op.xz + op.nw, group);
+        uint64_t hv = key_hash(key, len);
+        rc = key_table_add(&kt[key_half(hv)], key, len, hv, coef, lines, err);
         if (rc) break;
-        ch = &mp.chunk[cur];
-        ch->n = ch->len = ch->key_bytes = ch->expect = 0;
-    }
-    /* a line's error (rc, in err) stops the merging thread; else its own
-     * failure, if any, is the one reported */
-    if (threaded) {
-        int merged = pipe_finish(&mp, th, rc != 0);
-        if (!rc && merged) {
-            *err = mp.err;
-            rc = merged;
+        if (++lines == SIZE_AFTER) plan = plan_tables(r, kt, lines);
+        if (lines != SEQUENTIAL_LINES) continue;
+        if (lam_reader_syntax(r) == 2 && lam_reader_raw_ready(r)) {
+            op.lineno = lam_reader_lineno(r);
+            rc = run_both_cores(r, kt, plan, &op, err);
+            if (rc >= 0) break;
+            rc = 0; /* no second thread: go on alone */
         }
+        for (int h = 0; h < 2; ++h) size_table(&kt[h], plan);
     }
-    if (!rc) rc = add_chunk(&kt, &mp.chunk[cur], err);
     if (!rc) {
-        summarize_table(&kt, out);
-        if (declared >= 0) out->nqubits = (int)declared;
+        summarize_tables(kt, out);
+        out->nqubits = declared >= 0 ? (int)declared : op.top;
     }
-    key_table_free(&kt);
-    for (int k = 0; k < 2; ++k) {
-        free(mp.chunk[k].keys);
-        free(mp.chunk[k].bytes);
-    }
-    free(xz);
+    for (int h = 0; h < 2; ++h) key_table_free(&kt[h]);
+    free(key);
+    free(op.xz);
     return rc;
 }

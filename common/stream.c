@@ -183,6 +183,15 @@ int lam_reader_error(const lam_reader *r, long line, lam_error *err, const char 
     return lam_error_at(err, LAM_EX_DATA, r->name, line, "%s", msg);
 }
 
+/* The code and message of a failed gzread. */
+static int read_error(lam_reader *r, lam_error *err)
+{
+    int zerr;
+    const char *msg = gzerror(r->gz, &zerr);
+    return lam_error_at(err, zerr == Z_DATA_ERROR ? LAM_EX_DATA : LAM_EX_IOERR, r->name,
+                        r->lineno, "read error: %s", zerr == Z_ERRNO ? strerror(errno) : msg);
+}
+
 /* Refill so that [pos, len) holds at least a whole line or everything
  * left; 0, or the code of a read error. */
 static int refill(lam_reader *r, lam_error *err)
@@ -198,13 +207,7 @@ static int refill(lam_reader *r, lam_error *err)
         r->buf = lam_realloc(r->buf, r->cap + 1);
     }
     int got = gzread(r->gz, r->buf + r->len, (unsigned)(r->cap - r->len));
-    if (got < 0) {
-        int zerr;
-        const char *msg = gzerror(r->gz, &zerr);
-        return lam_error_at(err, zerr == Z_DATA_ERROR ? LAM_EX_DATA : LAM_EX_IOERR, r->name,
-                            r->lineno, "read error: %s",
-                            zerr == Z_ERRNO ? strerror(errno) : msg);
-    }
+    if (got < 0) return read_error(r, err);
     if (got == 0) r->eof = 1;
     r->len += (size_t)got;
     return 0;
@@ -497,7 +500,7 @@ int lam_reader_coefficient(const char *tok, double *out)
 
 int lam_reader_next(lam_reader *r, lam_line *out, lam_error *err)
 {
-    char *text;
+    char *text = NULL;
     long line;
     int rc = lam_reader_next_text(r, &text, &line, err);
     if (rc != 1) return rc;
@@ -506,6 +509,57 @@ int lam_reader_next(lam_reader *r, lam_line *out, lam_error *err)
 }
 
 int lam_reader_syntax(const lam_reader *r) { return r->syntax; }
+
+/* ---- raw text, for a reader that finds the lines itself */
+
+int lam_reader_raw_ready(const lam_reader *r)
+{
+    return !r->ended && r->pending_next >= r->npending;
+}
+
+int lam_reader_raw_read(lam_reader *r, char *dst, size_t size, size_t *got, lam_error *err)
+{
+    size_t n = 0;
+    *got = 0;
+    if (r->len > r->pos) { /* what the line reader holds comes first */
+        n = r->len - r->pos < size ? r->len - r->pos : size;
+        memcpy(dst, r->buf + r->pos, n);
+        r->pos += n;
+    }
+    while (n < size && !r->eof) {
+        size_t want = size - n < ((size_t)1 << 30) ? size - n : (size_t)1 << 30;
+        int g = gzread(r->gz, dst + n, (unsigned)want);
+        if (g < 0) return read_error(r, err);
+        if (g == 0) r->eof = 1;
+        n += (size_t)g;
+    }
+    *got = n;
+    return 0;
+}
+
+void lam_reader_raw_seen(lam_reader *r, long lineno)
+{
+    r->lineno = lineno;
+    r->saw_term = 1;
+}
+
+int lam_reader_raw_control(lam_reader *r, char *text, long line, int *end, lam_error *err)
+{
+    enum line_class c;
+    int rc = classify(r, text, line, &c, err);
+    *end = !rc && c == LINE_END;
+    if (*end) r->ended = 1;
+    return rc;
+}
+
+int lam_reader_raw_finish(lam_reader *r, lam_error *err)
+{
+    if (r->ended) return 0;
+    if (r->suite_stream)
+        return lam_error_at(err, LAM_EX_DATA, r->name, r->lineno,
+                            "truncated stream: it ends without '#%% end'");
+    return check_not_empty(r, err);
+}
 
 const char *lam_reader_first_text(const lam_reader *r)
 {

@@ -120,6 +120,21 @@ int lam_reader_syntax(const lam_reader *r);
  * term of a headerless stream fixes it, a term of the other version is
  * 65 at its line. */
 int lam_reader_term_syntax(lam_reader *r, const lam_line *ln, int syntax, lam_error *err);
+/* Raw text, for a reader that finds lines itself (several threads at a
+ * time): once lam_reader_raw_ready (no line read ahead is waiting, no
+ * "#% end" met), lam_reader_raw_read hands out the bytes after the last
+ * line read, up to size into dst (*got 0 at the end; 0 or the code of a
+ * read error).  The caller counts the lines, tells the reader the last
+ * line's number (lam_reader_raw_seen, after at least one term), gives it
+ * every "#%" line (lam_reader_raw_control: metadata taken in, *end set
+ * for "#% end"; 0 or 65), checks what follows the end itself ("term after
+ * '#% end'"), and calls lam_reader_raw_finish at the end of the input
+ * (the "truncated stream" check; 0 or 65). */
+int lam_reader_raw_ready(const lam_reader *r);
+int lam_reader_raw_read(lam_reader *r, char *dst, size_t size, size_t *got, lam_error *err);
+void lam_reader_raw_seen(lam_reader *r, long lineno);
+int lam_reader_raw_control(lam_reader *r, char *text, long line, int *end, lam_error *err);
+int lam_reader_raw_finish(lam_reader *r, lam_error *err);
 /* Bytes of a plain regular file not read yet, -1 when unknown (gzip,
  * pipes); and the bytes read so far.  For sizing tables ahead. */
 long long lam_reader_bytes_left(const lam_reader *r);

@@ -200,4 +200,73 @@ ok "$(awk -v a="$(report_get lambda <<<"$OUT")" -v b="$REF5" 'BEGIN { d = a - b;
 
 one_bad_option_message lam-norm -k
 
+# ---- a stream of several megabytes, parsed by both threads a block of
+# about 1 MB each at a time: the halves of the table are summed back in
+# the order of the lines, so a stream of distinct strings gives the very
+# sum of the one-pass reader ("distinct: yes"), digit for digit
+big_pauli() { # big_pauli FILE LINES: distinct strings, 17-digit coefficients
+    awk -v n="$2" 'BEGIN { print "#% lamina-op 2"; print "#% kind: pauli"; print "#% qubits: 1300"
+        for (i = 0; i < n; ++i) printf "%.17g x:%d z:%d\n", sin(i) * 0.37, i % 997, 1000 + int(i / 997) }' > "$1"
+}
+big_pauli "$TMP/big.op" 200000
+printf '#%% end\n' >> "$TMP/big.op"
+sed '1a #% distinct: yes' "$TMP/big.op" > "$TMP/big-distinct.op"
+runlam lam-norm "$TMP/big-distinct.op"
+ONEPASS=$(report_get lambda <<<"$OUT")
+runlam lam-norm "$TMP/big.op"
+is "$RC/$(report_get terms <<<"$OUT")" 0/199999 "both threads: 200000 distinct strings of a 4.5 MB stream, the first (sin 0) zero"
+is "$(report_get lambda <<<"$OUT")" "$ONEPASS" "both threads: lambda digit for digit that of the one-pass sum in line order"
+gzip -c "$TMP/big.op" > "$TMP/big.op.gz"
+runlam lam-norm "$TMP/big.op.gz"
+is "$RC/$(report_get lambda <<<"$OUT")" "0/$ONEPASS" "both threads: the same stream gzipped, the same lambda"
+OUT=$(lam lam-norm - < "$TMP/big.op" 2>"$TMP/err"); RC=$?
+is "$RC/$(report_get lambda <<<"$OUT")" "0/$ONEPASS" "both threads: the same stream on standard input, the same lambda"
+# CRLF line ends, comments, blank lines, metadata between terms, labels,
+# repeats and an undeclared qubit count, spread over the blocks
+awk 'NR == 3 { next } /^#% end/ { print; next } /^#/ { print; next }
+     { line = $0; if (NR % 50000 == 7) print "#% note: block " NR
+       if (NR % 3 == 0) line = line " @" (NR % 5)
+       if (NR % 7 == 0) line = line "\r"
+       if (NR % 11 == 0) print ""
+       if (NR % 13 == 0) print "# comment"
+       print line; if (NR % 17 == 0) print line }' "$TMP/big.op" > "$TMP/big-mixed.op"
+runlam lam-norm "$TMP/big-mixed.op"
+REFM=$(awk '/^#/ || NF == 0 { next } { sub(/\r$/, ""); k = $2 " " $3 " " $4; s[k] += $1; g = $4 }
+    END { for (k in s) if (s[k] != 0) { n++; t += (s[k] < 0 ? -s[k] : s[k]) }; printf "%d %.10e", n, t }' "$TMP/big-mixed.op")
+ok "$(awk -v a="$(report_get terms <<<"$OUT") $(report_get lambda <<<"$OUT")" -v b="$REFM" 'BEGIN {
+    split(a, x, " "); split(b, y, " "); d = x[2] - y[2]; print x[1] == y[1] && (d < 0 ? -d : d) <= 1e-9 * y[2] ? 0 : 1 }')" \
+   "both threads: CRLF, comments, blank lines, metadata, labels and repeats: terms and lambda as awk's merge ($REFM)"
+is "$(report_get qubits <<<"$OUT")" 1201 "both threads: no 'qubits:' line: the highest index + 1"
+# the first bad line of the file is the one reported, wherever the
+# blocks and threads fall
+cp "$TMP/big.op" "$TMP/bad.op"
+sed -i '150000s/ z:/ q:/; 180000s/^[^ ]*/abc/' "$TMP/bad.op"
+runlam lam-norm "$TMP/bad.op"
+like "$RC/$ERR" "^65/lam-norm: $TMP/bad.op:150000: unknown Pauli field 'q:" "both threads: a bad field in a later block, before a bad coefficient after it"
+cp "$TMP/big.op" "$TMP/bad2.op"
+sed -i '120000s/^[^ ]*/1e101/; 120001s/ z:/ z:1,/; 190000s/ x:/ X:/' "$TMP/bad2.op"
+runlam lam-norm "$TMP/bad2.op"
+like "$RC/$ERR" "^65/lam-norm: $TMP/bad2.op:120000: coefficient '1e101' is too large" "both threads: a coefficient above 1e100 deep in the stream"
+cp "$TMP/big.op" "$TMP/bad3.op"
+sed -i '100000s/$/ x:5/; 100001s/^/#% end\n/' "$TMP/bad3.op"
+runlam lam-norm "$TMP/bad3.op"
+is "$RC/$ERR" "65/lam-norm: $TMP/bad3.op:100000: letter 'x' has two fields in one term" "both threads: a letter twice, reported before a later '#% end'"
+cp "$TMP/big.op" "$TMP/bad4.op"
+sed -i '170000s/^/#% end\n/' "$TMP/bad4.op"
+runlam lam-norm "$TMP/bad4.op"
+is "$RC/$ERR" "65/lam-norm: $TMP/bad4.op:170001: term after '#% end'" "both threads: a term after a '#% end' in the middle"
+head -n 160000 "$TMP/big.op" > "$TMP/bad5.op"
+runlam lam-norm "$TMP/bad5.op"
+is "$RC/$ERR" "65/lam-norm: $TMP/bad5.op:160000: truncated stream: it ends without '#% end'" "both threads: a stream cut short"
+cp "$TMP/big.op" "$TMP/bad6.op"
+printf '%s' "$(sed -n 130000p "$TMP/big.op")" | tr ' ' '\000' > "$TMP/nul"
+awk -v f="$TMP/nul" 'NR == 130000 { getline l < f; printf "%s\n", l; next } { print }' "$TMP/big.op" > "$TMP/bad6.op"
+runlam lam-norm "$TMP/bad6.op"
+is "$RC/$ERR" "65/lam-norm: $TMP/bad6.op:130000: NUL byte in line" "both threads: a NUL byte in a line deep in the stream"
+# a version-1 stream of the same size is read by one thread
+awk '/^#% lamina-op/ { print "#% lamina-op 1"; next } /^#/ { print; next }
+     { split($2, a, ":"); split($3, b, ":"); print $1, "X" a[2], "Z" b[2] }' "$TMP/big.op" > "$TMP/big-v1.op"
+runlam lam-norm "$TMP/big-v1.op"
+is "$RC/$(report_get lambda <<<"$OUT")" "0/$ONEPASS" "one thread (a version-1 stream): the same lambda, digit for digit"
+
 done_testing
