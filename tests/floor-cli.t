@@ -153,4 +153,13 @@ is "$RC/$(awk -F'\t' '$1 == "floor_from" { printf "%s,", $2 }' <<<"$OUT")" "0/n_
 runlam lam-cost --floor "$TMP/h4.range" --floor "$TMP/h4.range" "$TMP/h4.grouped"
 is "$RC" 64 "lam-cost: two --floor is a usage error"
 like "$ERR" "^lam-cost: --floor given twice" "lam-cost: and says so"
+runlam_in "$(cat "$TMP/h4.range")" lam-norm --floor - "$TMP/h4.op"
+is "$RC/$(report_get ratio_status <<<"$OUT")" 0/exact "lam-norm: the floor from standard input"
+runlam_in "$(cat "$TMP/h4.range")" lam-norm --floor -
+is "$RC" 64 "lam-norm: floor and stream both from standard input is a usage error"
+runlam_in "$(cat "$TMP/h4.range")" lam-cost --floor - "$TMP/h4.grouped"
+is "$RC/$(report_get ratio.status <<<"$OUT")" 0/exact "lam-cost: the floor from standard input"
+runlam_in "$(cat "$TMP/h4.range")" lam-cost --floor -
+is "$RC" 64 "lam-cost: floor and input both from standard input is a usage error"
+like "$ERR" "standard input can be read once only" "lam-cost: and says so"
 done_testing

@@ -567,6 +567,10 @@ int main(int argc, char **argv)
     lam_error err;
     lam_error_clear(&err);
     lam_floor floor_in, *fl = o.floor ? &floor_in : NULL;
+    int stdin_uses = o.ninputs == 0;
+    for (int i = 0; i < o.ninputs; ++i) stdin_uses += strcmp(o.inputs[i], "-") == 0;
+    if (fl && strcmp(o.floor, "-") == 0 && stdin_uses)
+        lam_usage_error("standard input can be read once only");
     if (fl && lam_floor_read(o.floor, fl, &err) != 0) lam_error_exit(&err);
     if ((o.compare ? compare(&o, &bud, fl, &err) : one_input(&o, &bud, fl, &err)) != 0)
         lam_error_exit(&err);

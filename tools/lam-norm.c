@@ -231,12 +231,17 @@ static int norm_stream(const char *path, const char *label, lam_kind forced, lam
 }
 
 /* The floors given: one for every stream, or one per stream (64
- * otherwise); each read once. */
-static int read_floors(const options *o, int nstreams, lam_floor *floors, lam_error *err)
+ * otherwise); each read once.  Standard input serves one reader only. */
+static int read_floors(const options *o, char **streams, int nstreams, lam_floor *floors,
+                       lam_error *err)
 {
     if (o->nfloors > 1 && o->nfloors != nstreams)
         lam_usage_error("%d --floor for %d stream%s: give one for all or one per stream, in order",
                         o->nfloors, nstreams, nstreams == 1 ? "" : "s");
+    int stdin_uses = !streams;
+    for (int i = 0; streams && i < nstreams; ++i) stdin_uses += strcmp(streams[i], "-") == 0;
+    for (int i = 0; i < o->nfloors; ++i) stdin_uses += strcmp(o->floors[i], "-") == 0;
+    if (o->nfloors && stdin_uses > 1) lam_usage_error("standard input can be read once only");
     for (int i = 0; i < o->nfloors; ++i) {
         int rc = lam_floor_read(o->floors[i], &floors[i], err);
         if (rc) return rc;
@@ -267,7 +272,7 @@ int main(int argc, char **argv)
     lam_error err;
     FILE *out = NULL;
     lam_floor *floors = lam_calloc((size_t)nstreams, sizeof *floors);
-    int rc = read_floors(&o, nstreams, floors, &err);
+    int rc = read_floors(&o, optind < argc ? argv + optind : NULL, nstreams, floors, &err);
     for (int i = 0; i < nstreams && !rc; ++i) {
         rc = norm_stream(optind < argc ? argv[optind + i] : NULL, o.nlabels ? o.labels[i] : NULL,
                          o.forced, &reps[i], &err);
