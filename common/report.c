@@ -333,14 +333,24 @@ static size_t count_fields(const char *s)
     return n;
 }
 
-/* --tsv form: the two lines read as "key<TAB>rest" are a header row and a
- * value row of the same width; turn them into one entry a column, each
- * with the value row's line number. */
-static void unfold_tsv(lam_report_in *in)
+/* A --tsv form: a header row and value rows of the same width (read as
+ * "key<TAB>rest" lines, so more than two fields each). */
+static int looks_tsv(const lam_report_in *in)
 {
-    if (in->count != 2 || !strchr(in->items[0].value, '\t') ||
-        count_fields(in->items[0].value) != count_fields(in->items[1].value))
-        return;
+    return in->count >= 2 && count_fields(in->items[0].value) > 1 &&
+           count_fields(in->items[0].value) == count_fields(in->items[1].value);
+}
+
+/* --tsv form: turn the header row and the value row into one entry a
+ * column, each with the value row's line number; a second value row (two
+ * floors) is an error. */
+static int unfold_tsv(lam_report_in *in, const char *path, lam_error *err)
+{
+    if (!looks_tsv(in)) return 0;
+    if (in->count > 2)
+        return lam_error_at(err, LAM_EX_DATA, path, in->items[2].tsv,
+                            "two floors in one report: a --tsv report has one value row (the "
+                            "first at line %d)", in->items[1].tsv);
     size_t n = count_fields(in->items[0].value) + 1;
     entry *cols = lam_calloc(n, sizeof *cols);
     char *kp = in->items[0].value, *vp = in->items[1].value;
@@ -363,9 +373,11 @@ static void unfold_tsv(lam_report_in *in)
     free(in->items);
     in->items = cols;
     in->count = n;
+    return 0;
 }
 
-/* The status of one end: 1 exact, 0 bound, or an error. */
+/* The status of one end into *exact (1 exact, 0 bound); 0, or 65 when it
+ * is missing, repeated or unknown. */
 static int end_status(const lam_report_in *in, const char *path, const entry *half,
                       const char *key, int *exact, lam_error *err)
 {
@@ -429,8 +441,9 @@ int lam_floor_read(const char *path, lam_floor *fl, lam_error *err)
     fl->path = path;
     int rc = lam_report_read(path, &in, err);
     if (rc) return rc;
-    unfold_tsv(in);
-    rc = floor_from(in, path && strcmp(path, "-") != 0 ? path : "<stdin>", fl, err);
+    const char *name = path && strcmp(path, "-") != 0 ? path : "<stdin>";
+    rc = unfold_tsv(in, name, err);
+    if (!rc) rc = floor_from(in, name, fl, err);
     lam_report_in_free(in);
     return rc;
 }

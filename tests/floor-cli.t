@@ -142,6 +142,8 @@ done
 cat "$TMP/h4.range" "$TMP/h4.range" > "$TMP/two.range"
 line=$(grep -n '^n_half_range' "$TMP/two.range" | tail -1 | cut -d: -f1)
 bad_floor "$TMP/two.range" 65 "$TMP/two.range:$line: two floors in one report" "two reports run together (two floors)"
+cat "$TMP/h4.sector.tsv" "$TMP/h4.sector.tsv" > "$TMP/two.tsv"
+bad_floor "$TMP/two.tsv" 65 "$TMP/two.tsv:3: two floors in one report" "two --tsv reports run together"
 printf 'n_half_range 1.5\n' > "$TMP/notab.range"
 bad_floor "$TMP/notab.range" 65 "$TMP/notab.range:1: report line without a tab" "a line without a tab"
 bad_floor "$TMP/none.range" 66 "cannot open $TMP/none.range" "an unreadable report"
