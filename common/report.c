@@ -88,6 +88,13 @@ static const entry *find_tsv(const lam_report *rep, const char *key)
     return NULL;
 }
 
+int lam_report_value(const lam_report *rep, const char *key, double *value)
+{
+    const entry *e = find_tsv(rep, key);
+    *value = NAN;
+    return e && lam_parse_double(e->value, value) == 0;
+}
+
 static void require_columns_cover(const lam_report *rep)
 {
     for (size_t i = 0; i < rep->count; ++i) {
@@ -299,4 +306,176 @@ void lam_report_in_add(lam_report_in *in, const char *key, const char *value, lo
     in->items[in->count].value = lam_strdup(value);
     in->items[in->count].tsv = (int)line;
     in->count++;
+}
+
+/* ---- the floor from a lam-range report ---- */
+
+/* The entry of key, or NULL; *dup the second one when the key is there
+ * twice (two reports run together). */
+static const entry *find_in(const lam_report_in *in, const char *key, const entry **dup)
+{
+    const entry *first = NULL;
+    *dup = NULL;
+    for (size_t i = 0; i < in->count; ++i)
+        if (strcmp(in->items[i].key, key) == 0 && strcmp(in->items[i].value, LAM_REPORT_ABSENT) != 0) {
+            if (!first)
+                first = &in->items[i];
+            else if (!*dup)
+                *dup = &in->items[i];
+        }
+    return first;
+}
+
+static size_t count_fields(const char *s)
+{
+    size_t n = 1;
+    for (; *s; ++s) n += *s == '\t';
+    return n;
+}
+
+/* A --tsv form: a header row and value rows of the same width (read as
+ * "key<TAB>rest" lines, so more than two fields each). */
+static int looks_tsv(const lam_report_in *in)
+{
+    return in->count >= 2 && count_fields(in->items[0].value) > 1 &&
+           count_fields(in->items[0].value) == count_fields(in->items[1].value);
+}
+
+/* --tsv form: turn the header row and the value row into one entry a
+ * column, each with the value row's line number; a second value row (two
+ * floors) is an error. */
+static int unfold_tsv(lam_report_in *in, const char *path, lam_error *err)
+{
+    if (!looks_tsv(in)) return 0;
+    if (in->count > 2)
+        return lam_error_at(err, LAM_EX_DATA, path, in->items[2].tsv,
+                            "two floors in one report: a --tsv report has one value row (the "
+                            "first at line %d)", in->items[1].tsv);
+    size_t n = count_fields(in->items[0].value) + 1;
+    entry *cols = lam_calloc(n, sizeof *cols);
+    char *kp = in->items[0].value, *vp = in->items[1].value;
+    cols[0].key = lam_strdup(in->items[0].key);
+    cols[0].value = lam_strdup(in->items[1].key);
+    for (size_t c = 1; c < n; ++c) {
+        size_t kl = strcspn(kp, "\t"), vl = strcspn(vp, "\t");
+        cols[c].key = lam_strdup(kp);
+        cols[c].key[kl] = '\0';
+        cols[c].value = lam_strdup(vp);
+        cols[c].value[vl] = '\0';
+        kp += kl + (kp[kl] != '\0');
+        vp += vl + (vp[vl] != '\0');
+    }
+    for (size_t c = 0; c < n; ++c) cols[c].tsv = in->items[1].tsv;
+    for (size_t i = 0; i < in->count; ++i) {
+        free(in->items[i].key);
+        free(in->items[i].value);
+    }
+    free(in->items);
+    in->items = cols;
+    in->count = n;
+    return 0;
+}
+
+/* The status of one end into *exact (1 exact, 0 bound); 0, or 65 when it
+ * is missing, repeated or unknown. */
+static int end_status(const lam_report_in *in, const char *path, const entry *half,
+                      const char *key, int *exact, lam_error *err)
+{
+    const entry *dup, *e = find_in(in, key, &dup);
+    if (!e)
+        return lam_error_at(err, LAM_EX_DATA, path, half->tsv,
+                            "report has %s but no %s line: the status of the floor is unknown",
+                            half->key, key);
+    if (dup)
+        return lam_error_at(err, LAM_EX_DATA, path, dup->tsv,
+                            "two floors in one report: %s again (first at line %d)", key, e->tsv);
+    if (strcmp(e->value, "exact") != 0 && strcmp(e->value, "bound") != 0)
+        return lam_error_at(err, LAM_EX_DATA, path, e->tsv,
+                            "unknown status '%s' of %s (lam-range writes exact or bound)",
+                            e->value, key);
+    *exact = strcmp(e->value, "exact") == 0;
+    return 0;
+}
+
+static int floor_from(const lam_report_in *in, const char *path, lam_floor *fl, lam_error *err)
+{
+    static const char *const scopes[] = {"n", "sector", "fock"};
+    char key[32], lo[32], hi[32];
+    const entry *half = NULL, *dup = NULL;
+    size_t s = 0;
+    for (; s < 3 && !half; ++s) {
+        snprintf(key, sizeof key, "%s_half_range", scopes[s]);
+        half = find_in(in, key, &dup);
+    }
+    if (!half)
+        return lam_error_at(err, LAM_EX_DATA, path, 0,
+                            "no half range in the report (n_half_range, sector_half_range or "
+                            "fock_half_range): is it lam-range's, run without --lowest or "
+                            "--highest?");
+    if (dup)
+        return lam_error_at(err, LAM_EX_DATA, path, dup->tsv,
+                            "two floors in one report: %s again (first at line %d)", half->key,
+                            half->tsv);
+    if (lam_parse_double(half->value, &fl->value) != 0 || !isfinite(fl->value))
+        return lam_error_at(err, LAM_EX_DATA, path, half->tsv, "%s is not a number: '%s'",
+                            half->key, half->value);
+    if (!(fl->value > 0))
+        return lam_error_at(err, LAM_EX_DATA, path, half->tsv,
+                            "%s is %s: a floor must be > 0 to divide by", half->key, half->value);
+    snprintf(lo, sizeof lo, "%s_min_status", scopes[s - 1]);
+    snprintf(hi, sizeof hi, "%s_max_status", scopes[s - 1]);
+    int lo_exact, hi_exact, rc = end_status(in, path, half, lo, &lo_exact, err);
+    if (!rc) rc = end_status(in, path, half, hi, &hi_exact, err);
+    if (rc) return rc;
+    fl->exact = lo_exact && hi_exact;
+    fl->from = scopes[s - 1][0] == 'n' ? "n_half_range"
+               : scopes[s - 1][0] == 's' ? "sector_half_range"
+                                         : "fock_half_range";
+    return 0;
+}
+
+int lam_floor_read(const char *path, lam_floor *fl, lam_error *err)
+{
+    lam_report_in *in;
+    memset(fl, 0, sizeof *fl);
+    fl->path = path;
+    int rc = lam_report_read(path, &in, err);
+    if (rc) return rc;
+    const char *name = path && strcmp(path, "-") != 0 ? path : "<stdin>";
+    rc = unfold_tsv(in, name, err);
+    if (!rc) rc = floor_from(in, name, fl, err);
+    lam_report_in_free(in);
+    return rc;
+}
+
+static void floor_key(char *buf, size_t size, const char *name, char sep, const char *what)
+{
+    snprintf(buf, size, "%s%c%s", name, sep, what);
+}
+
+void lam_floor_report(lam_report *rep, const lam_floor *fl, char sep)
+{
+    char k[64];
+    if (fl)
+        lam_report_num(rep, "floor", fl->value);
+    else
+        lam_report_str(rep, "floor", LAM_REPORT_ABSENT);
+    floor_key(k, sizeof k, "floor", sep, "status");
+    lam_report_str(rep, k, !fl ? LAM_REPORT_ABSENT : fl->exact ? "exact" : "bound");
+    floor_key(k, sizeof k, "floor", sep, "from");
+    lam_report_str(rep, k, fl ? fl->from : LAM_REPORT_ABSENT);
+}
+
+void lam_floor_ratio(lam_report *rep, const lam_floor *fl, char sep, const char *name,
+                     double lambda)
+{
+    char k[64];
+    if (fl)
+        lam_report_num(rep, name, lambda / fl->value);
+    else
+        lam_report_str(rep, name, LAM_REPORT_ABSENT);
+    /* only a certified floor makes the ratio exact; an inner bound on the
+     * floor makes it an upper bound */
+    floor_key(k, sizeof k, name, sep, "status");
+    lam_report_str(rep, k, !fl ? LAM_REPORT_ABSENT : fl->exact ? "exact" : "at-most");
 }

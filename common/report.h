@@ -30,6 +30,9 @@ void lam_report_line(lam_report *rep, const char *key, const char *value);
  * cannot drift from what the program reports. */
 #define LAM_REPORT_ABSENT "NA"
 void lam_report_columns(lam_report *rep, const char *const *columns);
+/* 1 and the number of key (a TSV entry) when present and numeric, else 0
+ * and NAN: for a program that adds figures derived from its own report. */
+int lam_report_value(const lam_report *rep, const char *key, double *value);
 /* Write to out in text or TSV form; a write error is seen by
  * lam_report_close (ferror). */
 void lam_report_write(const lam_report *rep, FILE *out, int tsv);
@@ -79,5 +82,31 @@ void lam_report_in_free(lam_report_in *in);
  * stream reader); line is kept for messages as lam_report_read keeps it. */
 lam_report_in *lam_report_in_new(void);
 void lam_report_in_add(lam_report_in *in, const char *key, const char *value, long line);
+
+/* ---- the floor: half the spectral range, from a lam-range report ----
+ * lam-norm and lam-cost --floor REPORT.  The report is lam-range's text
+ * form or its --tsv form (one header row, one value row; NA is absent).
+ * The half range used is the N-electron one (n_half_range) when the
+ * report has it, else the one sector's (sector_half_range), else the
+ * Fock space's (fock_half_range).  It is exact when both ends' status
+ * keys say exact, and otherwise a certified lower bound on the floor
+ * (lam-range's values are Rayleigh quotients), so that lambda/floor is
+ * then an upper bound on the true ratio ("at-most"). */
+#define LAM_OPT_FLOOR 0x4c46 /* getopt_long value of the long-only --floor */
+typedef struct {
+    const char *path;  /* as given */
+    const char *from;  /* the report key used, e.g. "n_half_range" */
+    double value;      /* Eh, > 0 */
+    int exact;         /* both ends certified by lam-range */
+} lam_floor;
+/* 0, 65 (bad or missing values, with file:line) or 66 (cannot open). */
+int lam_floor_read(const char *path, lam_floor *fl, lam_error *err);
+/* The floor's keys: floor, floor<sep>status, floor<sep>from, and for each
+ * named one-norm the ratio and its status (exact or at-most), e.g. with
+ * sep '_' and name "ratio": ratio, ratio_status.  fl NULL: every key with
+ * LAM_REPORT_ABSENT, so that --tsv keeps its columns. */
+void lam_floor_report(lam_report *rep, const lam_floor *fl, char sep);
+void lam_floor_ratio(lam_report *rep, const lam_floor *fl, char sep, const char *name,
+                     double lambda);
 
 #endif

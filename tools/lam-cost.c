@@ -44,6 +44,9 @@ static _Noreturn void usage(void)
         "      --rot-bits N      bits of every rotation angle (default from the budget)\n"
         "      --ungrouped       ignore group labels: one unitary per Pauli string\n"
         "      --kind KIND       kind of a stream without header (pauli, fragments)\n"
+        "      --floor REPORT    a lam-range report (text or --tsv) of the same operator:\n"
+        "                        report its half range (the floor) and lambda/floor,\n"
+        "                        exact when the floor is, else at-most\n"
         "  -t, --tsv             one header row and one value row\n"
         "  -l, --label TEXT      a label column (first) in --tsv and --compare\n"
         "  -o, --output FILE     write the report to FILE (default stdout)\n"
@@ -69,7 +72,7 @@ typedef struct {
     int ungrouped, tsv, quiet, compare, have_con;
     lam_construction con;
     lam_kind kind;
-    const char *output, *label;
+    const char *output, *label, *floor;
     char **inputs;
     int ninputs;
 } options;
@@ -100,6 +103,7 @@ static void parse_options(int argc, char **argv, options *o)
         {"rot-bits", required_argument, 0, OPT_ROT},
         {"ungrouped", no_argument, 0, OPT_UNGROUPED},
         {"kind", required_argument, 0, OPT_KIND},
+        {"floor", required_argument, 0, LAM_OPT_FLOOR},
         LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.tsv = &o->tsv, .label = &o->label, .output = &o->output,
                               .quiet = &o->quiet};
@@ -131,6 +135,10 @@ static void parse_options(int argc, char **argv, options *o)
             if (lam_kind_parse(optarg, &o->kind) != 0 ||
                 (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS))
                 lam_usage_error("option --kind wants pauli or fragments, not '%s'", optarg);
+            break;
+        case LAM_OPT_FLOOR:
+            if (o->floor) lam_usage_error("--floor given twice: one lam-range report at most");
+            o->floor = optarg;
             break;
         default: lam_cli_option(c, argv, usage, &f);
         }
@@ -398,7 +406,9 @@ static void warn_truncation(const options *o, const lam_cost_budget *bud, const 
                  "(%.3g Eh)", name, lcu->trunc_input, lcu->trunc_source, bud->trunc);
 }
 
-static int one_input(const options *o, const lam_cost_budget *bud, lam_error *err)
+/* fl NULL (no --floor): the keys with NA, so that --tsv keeps its columns. */
+static int one_input(const options *o, const lam_cost_budget *bud, const lam_floor *fl,
+                     lam_error *err)
 {
     const char *input = o->ninputs ? o->inputs[0] : NULL;
     const char *name = input && strcmp(input, "-") != 0 ? input : "<stdin>";
@@ -419,6 +429,8 @@ static int one_input(const options *o, const lam_cost_budget *bud, lam_error *er
     lam_report *rep = lam_report_new();
     if (o->label) lam_report_str(rep, "label", o->label);
     lam_cost_report(rep, &lcu, bud, &est);
+    lam_floor_report(rep, fl, '.');
+    lam_floor_ratio(rep, fl, '.', "ratio", est.lambda);
     int rc = lam_report_save(rep, o->output, o->tsv, err);
     lam_report_free(rep);
     return rc;
@@ -438,14 +450,27 @@ static int by_run_toffoli(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+/* With --floor: the floor's columns of one row, lambda/floor with its
+ * status (exact only over a certified floor). */
+static void write_floor_columns(FILE *f, const lam_floor *fl, double lambda)
+{
+    char v[40], ratio[40];
+    if (!fl) return;
+    lam_format_double(v, sizeof v, fl->value);
+    lam_format_double(ratio, sizeof ratio, lambda / fl->value);
+    fprintf(f, "\t%s\t%s\t%s\t%s\t%s", v, fl->exact ? "exact" : "bound", fl->from, ratio,
+            fl->exact ? "exact" : "at-most");
+}
+
 static void write_table(FILE *f, const options *o, const lam_cost_budget *bud, const row *rows,
-                        size_t n)
+                        size_t n, const lam_floor *fl)
 {
     char lam[40], trunc[40];
     if (o->label) fputs("label\t", f);
     fputs("input\tform\tconstruction\tlambda\twalk.steps\tstep.toffoli\tstep.rotations\t"
           "rot.bits\trun.toffoli\trun.qubits\teps.total\teps.phase\teps.trunc\teps.synth\t"
-          "trunc.input\n", f);
+          "trunc.input", f);
+    fputs(fl ? "\tfloor\tfloor.status\tfloor.from\tratio\tratio.status\n" : "\n", f);
     for (size_t i = 0; i < n; ++i) {
         const row *r = &rows[i];
         lam_format_double(lam, sizeof lam, r->est.lambda);
@@ -454,11 +479,13 @@ static void write_table(FILE *f, const options *o, const lam_cost_budget *bud, c
         else
             snprintf(trunc, sizeof trunc, "unknown");
         if (o->label) fprintf(f, "%s\t", o->label);
-        fprintf(f, "%s\t%s\t%s\t%s\t%lld\t%lld\t%lld\t%d\t%lld\t%d\t%g\t%g\t%g\t%g\t%s\n",
+        fprintf(f, "%s\t%s\t%s\t%s\t%lld\t%lld\t%lld\t%d\t%lld\t%d\t%g\t%g\t%g\t%g\t%s",
                 r->input, r->lcu.form, lam_cost_construction_name(r->est.con), lam,
                 r->est.walk_steps, r->est.step_toffoli, r->est.step_rotations, r->est.rot_bits,
                 r->est.run_toffoli, r->est.run_qubits, bud->total, bud->phase, bud->trunc,
                 bud->synth, trunc);
+        write_floor_columns(f, fl, r->est.lambda);
+        fputc('\n', f);
     }
     fputs("# estimates of one construction each (lam-cost(1)); they leave out magic-state "
           "distillation, routing, layout and error-correction overhead\n", f);
@@ -487,20 +514,21 @@ static int add_rows(const options *o, const lam_cost_budget *bud, const char *in
 }
 
 static int write_table_to(const options *o, const lam_cost_budget *bud, const row *rows,
-                          size_t n, lam_error *err)
+                          size_t n, const lam_floor *fl, lam_error *err)
 {
     FILE *f = o->output && strcmp(o->output, "-") != 0 ? fopen(o->output, "w") : stdout;
     if (!f)
         return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->output,
                              strerror(errno));
-    write_table(f, o, bud, rows, n);
+    write_table(f, o, bud, rows, n, fl);
     if ((f == stdout ? fflush(f) : fclose(f)) != 0 || (f == stdout && ferror(f)))
         return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s",
                              f == stdout ? "<stdout>" : o->output, strerror(errno));
     return 0;
 }
 
-static int compare(const options *o, const lam_cost_budget *bud, lam_error *err)
+static int compare(const options *o, const lam_cost_budget *bud, const lam_floor *fl,
+                   lam_error *err)
 {
     int ninputs = o->ninputs ? o->ninputs : 1;
     row *rows = lam_malloc(lam_mul_size((size_t)ninputs * LAM_CON_COUNT, sizeof *rows));
@@ -510,7 +538,7 @@ static int compare(const options *o, const lam_cost_budget *bud, lam_error *err)
         rc = add_rows(o, bud, o->ninputs ? o->inputs[i] : "-", rows, &n, err);
     if (rc == 0) {
         qsort(rows, n, sizeof *rows, by_run_toffoli);
-        rc = write_table_to(o, bud, rows, n, err);
+        rc = write_table_to(o, bud, rows, n, fl, err);
     }
     free(rows);
     return rc;
@@ -526,7 +554,13 @@ int main(int argc, char **argv)
     lam_cost_budget_split(o.error, o.split, &bud, &why); /* checked by parse_options */
     lam_error err;
     lam_error_clear(&err);
-    if ((o.compare ? compare(&o, &bud, &err) : one_input(&o, &bud, &err)) != 0)
+    lam_floor floor_in, *fl = o.floor ? &floor_in : NULL;
+    int stdin_uses = o.ninputs == 0;
+    for (int i = 0; i < o.ninputs; ++i) stdin_uses += strcmp(o.inputs[i], "-") == 0;
+    if (fl && strcmp(o.floor, "-") == 0 && stdin_uses)
+        lam_usage_error("standard input can be read once only");
+    if (fl && lam_floor_read(o.floor, fl, &err) != 0) lam_error_exit(&err);
+    if ((o.compare ? compare(&o, &bud, fl, &err) : one_input(&o, &bud, fl, &err)) != 0)
         lam_error_exit(&err);
     if (!o.quiet)
         fprintf(stderr, "%s: note: these figures are estimates of one construction each "

@@ -30,6 +30,10 @@ static _Noreturn void usage(void)
            "                       the same for every kind, NA where a value does not apply\n"
            "  -l, --label TEXT     label of the stream (default: its file name); give it once\n"
            "                       per stream, in order\n"
+           "      --floor REPORT   a lam-range report (text or --tsv) of the same operator:\n"
+           "                       print its half range (the floor) and lambda/floor, exact\n"
+           "                       when the floor is, else at-most; once for every stream\n"
+           "                       or once per stream, in order\n"
            "  -o, --output FILE    write to FILE instead of stdout\n"
            "      --progress       report progress on stderr (default: when a terminal)\n"
            LAM_CLI_HELP_TAIL
@@ -43,7 +47,8 @@ static _Noreturn void usage(void)
 static const char *const tsv_columns[] = {
     "label", "kind", "terms", "constant", "lambda", "method", "groups", "lambda_grouped",
     "grouping", "unitaries", "fragments", "orbitals", "electrons", "modes", "qubits",
-    "max_weight", NULL};
+    "max_weight", "floor", "floor_status", "floor_from", "ratio", "ratio_status",
+    "ratio_grouped", "ratio_grouped_status", NULL};
 
 static int norm_spinfree(lam_report *rep, lam_reader *r, lam_error *err)
 {
@@ -145,24 +150,27 @@ typedef struct {
     lam_kind forced;
     int tsv;
     const char *output;
-    const char **labels;
-    int nlabels;
+    const char **labels, **floors;
+    int nlabels, nfloors;
 } options;
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
         LAM_CLI_ALLOW_EMPTY,      {"kind", required_argument, 0, 'k'},
+        {"floor", required_argument, 0, LAM_OPT_FLOOR},
         LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.tsv = &o->tsv, .output = &o->output};
     int c;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
     o->labels = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->labels));
+    o->floors = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->floors));
     while ((c = lam_cli_next(argc, argv, ":k:tl:o:qhV", opts)) != -1) {
         switch (c) {
         case 'k': o->forced = lam_cli_kind(optarg, ~0u); break;
         case 'l': o->labels[o->nlabels++] = optarg; break; /* one per stream */
+        case LAM_OPT_FLOOR: o->floors[o->nfloors++] = optarg; break;
         default: lam_cli_option(c, argv, usage, &f);
         }
     }
@@ -212,6 +220,36 @@ static int norm_stream(const char *path, const char *label, lam_kind forced, lam
     return 0;
 }
 
+/* The floors given: one for every stream, or one per stream (64
+ * otherwise); each read once.  Standard input serves one reader only. */
+static int read_floors(const options *o, char **streams, int nstreams, lam_floor *floors,
+                       lam_error *err)
+{
+    if (o->nfloors > 1 && o->nfloors != nstreams)
+        lam_usage_error("%d --floor for %d stream%s: give one for all or one per stream, in order",
+                        o->nfloors, nstreams, nstreams == 1 ? "" : "s");
+    int stdin_uses = !streams;
+    for (int i = 0; streams && i < nstreams; ++i) stdin_uses += strcmp(streams[i], "-") == 0;
+    for (int i = 0; i < o->nfloors; ++i) stdin_uses += strcmp(o->floors[i], "-") == 0;
+    if (o->nfloors && stdin_uses > 1) lam_usage_error("standard input can be read once only");
+    for (int i = 0; i < o->nfloors; ++i) {
+        int rc = lam_floor_read(o->floors[i], &floors[i], err);
+        if (rc) return rc;
+    }
+    return 0;
+}
+
+/* The floor's lines and lambda/floor (and the grouped lambda's) of one
+ * stream. */
+static void report_floor(lam_report *rep, const lam_floor *fl)
+{
+    double lambda;
+    lam_floor_report(rep, fl, '_');
+    if (lam_report_value(rep, "lambda", &lambda)) lam_floor_ratio(rep, fl, '_', "ratio", lambda);
+    if (lam_report_value(rep, "lambda_grouped", &lambda))
+        lam_floor_ratio(rep, fl, '_', "ratio_grouped", lambda);
+}
+
 /* Every stream is read before the output is opened, so a bad one leaves
  * no partial table behind. */
 int main(int argc, char **argv)
@@ -223,15 +261,20 @@ int main(int argc, char **argv)
     lam_report **reps = lam_calloc((size_t)nstreams, sizeof *reps);
     lam_error err;
     FILE *out = NULL;
-    int rc = 0;
-    for (int i = 0; i < nstreams && !rc; ++i)
+    lam_floor *floors = lam_calloc((size_t)nstreams, sizeof *floors);
+    int rc = read_floors(&o, optind < argc ? argv + optind : NULL, nstreams, floors, &err);
+    for (int i = 0; i < nstreams && !rc; ++i) {
         rc = norm_stream(optind < argc ? argv[optind + i] : NULL, o.nlabels ? o.labels[i] : NULL,
                          o.forced, &reps[i], &err);
+        if (!rc && o.nfloors) report_floor(reps[i], &floors[o.nfloors > 1 ? i : 0]);
+    }
+    free(floors);
     if (!rc) rc = lam_report_open(o.output, &out, &err);
     if (rc) {
         for (int i = 0; i < nstreams; ++i) lam_report_free(reps[i]);
         free(reps);
         free(o.labels);
+        free(o.floors);
         lam_error_exit(&err);
     }
     for (int i = 0; i < nstreams; ++i) {
@@ -247,6 +290,7 @@ int main(int argc, char **argv)
     rc = lam_report_close(out, o.output, &err);
     free(reps);
     free(o.labels);
+    free(o.floors);
     if (rc) lam_error_exit(&err);
     return 0;
 }
