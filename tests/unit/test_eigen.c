@@ -17,6 +17,13 @@
 #include "eigen.h"
 #include "tap.h"
 
+/* A library failure here is a failed test, with its message. */
+static lam_error lib_err;
+static void must(int rc)
+{
+    if (rc) tap_ok(0, lib_err.msg);
+}
+
 typedef struct {
     size_t n;
     const double *ramp; /* may be NULL */
@@ -68,7 +75,7 @@ static void solve(size_t n, const double *ramp, int highest, size_t dense_limit,
     p.dense_limit = dense_limit;
     p.max_iter = 3000;
     p.tol = 1e-9;
-    lam_eigen_extreme(&p, res, NULL);
+    must(lam_eigen_extreme(&p, res, NULL, &lib_err));
     free(diag);
 }
 
@@ -100,7 +107,7 @@ int main(void)
         a[i * n + i] = 2 + ramp[i];
         if (i + 1 < n) a[i * n + i + 1] = a[(i + 1) * n + i] = -1;
     }
-    lam_eigen_dense((int)n, a, w);
+    must(lam_eigen_dense((int)n, a, w, &lib_err));
     solve(n, ramp, 0, 0, &r);
     tap_near(r.value, w[0], 1e-10, "Davidson with a ramp: lowest = LAPACK");
     tap_ok(r.value >= w[0] - 1e-12, "the value is a Rayleigh quotient: not below the lowest eigenvalue");
@@ -123,15 +130,15 @@ int main(void)
     p.spread = 40; /* |A| <= 4 + 30 */
     lam_eigen_result r0;
     p.check_steps = 0;
-    lam_eigen_extreme(&p, &r0, NULL);
+    must(lam_eigen_extreme(&p, &r0, NULL, &lib_err));
     tap_ok(!r0.extreme, "without the check a Davidson value is not called extreme");
     p.check_steps = 400;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     tap_ok(r.extreme, "ramp: the lowest is certified extreme");
     tap_near(r.value, w[0], 1e-9, "ramp: the certified lowest is LAPACK's");
     tap_ok(r.other <= w[0] + 1e-12 && r.value - r.other <= 1e-9, "ramp: the certified lower end is below E_min, within tol");
     p.highest = 1;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     tap_ok(r.extreme && fabs(r.value - w[n - 1]) <= 1e-9, "ramp: the highest is certified extreme");
 
     /* a degenerate lowest level: two equal blocks */
@@ -139,7 +146,7 @@ int main(void)
     p.dim = 2 * n;
     p.ctx = &two;
     p.highest = 0;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     tap_ok(r.extreme && r.roots >= 2, "degenerate lowest: certified (with two roots or more)");
     tap_near(r.value, w[0], 1e-9, "degenerate lowest: the value is LAPACK's");
 
@@ -157,7 +164,7 @@ int main(void)
     p.diag = d2;
     p.spread = 20;
     p.tol = 1e-6;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     double want = 1 - 3.2 * cos(pi / (double)(half + 1));
     tap_ok(r.extreme, "start at an interior eigenvalue: the value is certified extreme");
     tap_near(r.value, want, 1e-6, "start at an interior eigenvalue: the extreme 1 - 3.2 cos(pi/201) is found");

@@ -20,6 +20,13 @@
 #include "norm.h"
 #include "pauli.h"
 #include "tap.h"
+
+/* A library failure here is a failed test, with its message. */
+static lam_error lib_err;
+static void must(int rc)
+{
+    if (rc) tap_ok(0, lib_err.msg);
+}
 #include "util.h"
 
 /* Letter of qubit q: 0 identity, 1 X, 2 Y, 3 Z. */
@@ -150,7 +157,7 @@ static void test_clique(void)
     lam_group_options opt;
     lam_group_options_default(&opt);
     lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    must(lam_group_build(&in, &opt, &out, &st, &lib_err));
     tap_ok(st.groups == 1 && st.largest_group == 5, "2n+1 Majoranas form one group of five");
     tap_near(st.lambda_grouped, sqrt(0.09 + 0.16 + 0.25 + 0.01 + 0.04), 1e-15,
              "lambda_grouped = sqrt(sum c^2) for one group");
@@ -170,7 +177,7 @@ static void test_commuting_apart(void)
     lam_group_options opt;
     lam_group_options_default(&opt);
     lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    must(lam_group_build(&in, &opt, &out, &st, &lib_err));
     tap_ok(st.groups == 2, "commuting strings stay apart");
     tap_near(st.lambda_grouped, 0.9, 1e-15, "so lambda_grouped = lambda");
     lam_pauli_set_free(&in);
@@ -181,7 +188,7 @@ static void test_commuting_apart(void)
     add_string(&in, "z:0", 0.7);
     add_string(&in, "z:1", -0.2);
     add_string(&in, "x:0", 0.1);
-    lam_group_build(&in, &opt, &out, &st);
+    must(lam_group_build(&in, &opt, &out, &st, &lib_err));
     tap_ok(st.groups == 2 && groups_valid(&out, 0), "--commuting: z:0,1 together, x:0 apart");
     lam_pauli_set_free(&in);
     lam_pauli_set_free(&out);
@@ -201,12 +208,12 @@ static void test_split_optimum(void)
     lam_group_options_default(&opt);
     opt.split = 0;
     lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    must(lam_group_build(&in, &opt, &out, &st, &lib_err));
     tap_near(st.lambda_grouped, 1 + sqrt(2.0), 1e-14, "unsplit: 1 + sqrt 2");
     lam_pauli_set_free(&out);
     opt.split = 1;
     opt.split_iterations = 2000;
-    lam_group_build(&in, &opt, &out, &st);
+    must(lam_group_build(&in, &opt, &out, &st, &lib_err));
     tap_near(st.lambda_grouped, 2 * sqrt(1.25), 1e-9, "split: 2 sqrt(5/4)");
     tap_ok(st.split_bound <= st.lambda_grouped + 1e-12 && st.split_bound > 2 * sqrt(1.25) - 1e-6,
            "dual bound below and close to the split optimum");
@@ -228,7 +235,7 @@ static void test_random(int nq, size_t count, int maxweight, lam_group_method me
     opt.split = split;
     opt.commuting = commuting;
     lam_group_stats st;
-    lam_group_build(&in, &opt, &out, &st);
+    must(lam_group_build(&in, &opt, &out, &st, &lib_err));
     char name[160];
     snprintf(name, sizeof name, "%d qubits, %zu terms, %s%s%s: ", nq, in.count,
              lam_group_method_name(method), split ? ", split" : "",
@@ -253,7 +260,7 @@ static void test_random(int nq, size_t count, int maxweight, lam_group_method me
     snprintf(name + len, sizeof name - len, "lam_group_check agrees");
     size_t f, g;
     tap_ok(lam_group_check(&out, commuting, &f, &g) == 0, name);
-    lam_group_build(&in, &opt, &again, &st);
+    must(lam_group_build(&in, &opt, &again, &st, &lib_err));
     int same = again.count == out.count &&
                memcmp(again.coef, out.coef, out.count * sizeof *out.coef) == 0 &&
                memcmp(again.group, out.group, out.count * sizeof *out.group) == 0;
