@@ -19,6 +19,16 @@ void lam_eigen_defaults(lam_eigen_problem *p)
     p->max_roots = 4;
 }
 
+void lam_eigen_problem_init(lam_eigen_problem *p, size_t dim, lam_eigen_apply apply, void *ctx,
+                            const double *diag)
+{
+    lam_eigen_defaults(p);
+    p->dim = dim;
+    p->apply = apply;
+    p->ctx = ctx;
+    p->diag = diag;
+}
+
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit)
 {
     if (dim <= dense_limit) return lam_mul_size(lam_mul_size(dim, dim + 3), sizeof(double));

@@ -79,6 +79,10 @@ typedef struct {
 /* Fill defaults: tol 1e-9, max_iter 400, max_subspace 8, dense_limit 300,
  * check_steps 0, max_roots 4. */
 void lam_eigen_defaults(lam_eigen_problem *p);
+/* The defaults for the operator apply(ctx) of dimension dim with its
+ * diagonal. */
+void lam_eigen_problem_init(lam_eigen_problem *p, size_t dim, lam_eigen_apply apply, void *ctx,
+                            const double *diag);
 /* Bytes of working storage (beyond the diagonal) the solver allocates:
  * 2 max_subspace + 4 vectors and the check's (LAM_EIGEN_CHECK_VECTORS),
  * or the dense matrix. */

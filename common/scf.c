@@ -574,11 +574,7 @@ static int hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_r
     for (int a = 0; a < nv; ++a)
         for (int i = 0; i < nocc; ++i) diag[(size_t)a * nocc + i] = w->eps[nocc + a] - w->eps[i];
     lam_eigen_problem p;
-    lam_eigen_defaults(&p);
-    p.dim = dim;
-    p.apply = hessian_apply;
-    p.ctx = &h;
-    p.diag = diag;
+    lam_eigen_problem_init(&p, dim, hessian_apply, &h, diag);
     p.tol = 1e-7;
     p.max_iter = 300;
     p.max_subspace = 16;

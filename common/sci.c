@@ -899,11 +899,7 @@ static double rayleigh(const sparse *h, const double *x, double *work)
 static int diagonalize(const sparse *h, int highest, double *x, double *resid, lam_error *err)
 {
     lam_eigen_problem p;
-    lam_eigen_defaults(&p);
-    p.dim = h->dim;
-    p.apply = sparse_apply;
-    p.ctx = (void *)h;
-    p.diag = h->diag;
+    lam_eigen_problem_init(&p, h->dim, sparse_apply, (void *)h, h->diag);
     p.tol = 1e-7;
     p.max_iter = 300;
     p.highest = highest;

@@ -58,6 +58,17 @@ def number_terms(n):
     return [["%d+" % m, "%d-" % m] for m in range(2 * n)]
 
 
+def symmetric_excitation(p, q):
+    """E_pq + E_qp (E_pp once) as ladder pairs over interleaved spin
+    modes."""
+    e = []
+    for s in range(2):
+        e.append(["%d+" % (2 * p + s), "%d-" % (2 * q + s)])
+        if q != p:
+            e.append(["%d+" % (2 * q + s), "%d-" % (2 * p + s)])
+    return e
+
+
 def unit_shifts(n, n0):
     """[(name, ladder terms)] for a1, a2 and xi_pq (p <= q), each K with
     one parameter 1 (xi symmetric: xi_pq = xi_qp = 1)."""
@@ -66,11 +77,7 @@ def unit_shifts(n, n0):
            ("a2", [(1.0, a + b) for a in num for b in num] + [(-float(n0 * n0), [])])]
     for p in range(n):
         for q in range(p, n):
-            e = []
-            for s in range(2):
-                e.append(["%d+" % (2 * p + s), "%d-" % (2 * q + s)])
-                if q != p:
-                    e.append(["%d+" % (2 * q + s), "%d-" % (2 * p + s)])
+            e = symmetric_excitation(p, q)
             terms = [(1.0, a + b) for a in e for b in num] + [(-float(n0), a) for a in e]
             out.append(("xi_%d_%d" % (p, q), terms))
     return out
@@ -85,11 +92,7 @@ def spin_unit_shifts(n, ms2):
            ("b2", [(c * d, a + b) for c, a in sz for d, b in sz] + [(-s0 * s0, [])])]
     for p in range(n):
         for q in range(p, n):
-            e = []
-            for s in range(2):
-                e.append(["%d+" % (2 * p + s), "%d-" % (2 * q + s)])
-                if q != p:
-                    e.append(["%d+" % (2 * q + s), "%d-" % (2 * p + s)])
+            e = symmetric_excitation(p, q)
             terms = [(c, a + b) for a in e for c, b in sz] + [(-s0, a) for a in e]
             out.append(("zeta_%d_%d" % (p, q), terms))
     return out

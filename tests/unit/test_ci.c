@@ -214,11 +214,7 @@ int main(void)
     sigma_ctx ctx = {h, s};
     for (int hi = 0; hi < 2; ++hi) {
         lam_eigen_problem p;
-        lam_eigen_defaults(&p);
-        p.dim = s->dim;
-        p.apply = sigma_apply;
-        p.ctx = &ctx;
-        p.diag = diag;
+        lam_eigen_problem_init(&p, s->dim, sigma_apply, &ctx, diag);
         p.highest = hi;
         p.dense_limit = 1000;
         lam_eigen_result dense, dav;

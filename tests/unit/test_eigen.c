@@ -66,11 +66,7 @@ static void solve(size_t n, const double *ramp, int highest, size_t dense_limit,
     double *diag = malloc(n * sizeof(double));
     for (size_t i = 0; i < n; ++i) diag[i] = 2 + (ramp ? ramp[i] : 0);
     lam_eigen_problem p;
-    lam_eigen_defaults(&p);
-    p.dim = n;
-    p.apply = path_apply;
-    p.ctx = &op;
-    p.diag = diag;
+    lam_eigen_problem_init(&p, n, path_apply, &op, diag);
     p.highest = highest;
     p.dense_limit = dense_limit;
     p.max_iter = 3000;
@@ -120,11 +116,7 @@ int main(void)
     path_op op = {n, ramp, 1};
     double *diag = malloc(2 * n * sizeof(double));
     for (size_t i = 0; i < 2 * n; ++i) diag[i] = 2 + ramp[i % n];
-    lam_eigen_defaults(&p);
-    p.dim = n;
-    p.apply = path_apply;
-    p.ctx = &op;
-    p.diag = diag;
+    lam_eigen_problem_init(&p, n, path_apply, &op, diag);
     p.dense_limit = 0;
     p.max_iter = 3000;
     p.spread = 40; /* |A| <= 4 + 30 */
