@@ -75,8 +75,51 @@ static void solve(size_t n, const double *ramp, int highest, size_t dense_limit,
     free(diag);
 }
 
+/* y = NaN: what a non-finite operator gives (the stream readers refuse
+ * coefficients beyond 1e100, so no input file gets here). */
+static void nan_apply(void *ctx, const double *x, double *y)
+{
+    size_t n = *(const size_t *)ctx;
+    for (size_t i = 0; i < n; ++i) y[i] = x[i] * NAN;
+}
+
+/* LAPACK's failures and an empty problem come back as code 70 with the
+ * routine named, on the dense and the Davidson path alike. */
+static void failures_return(void)
+{
+    lam_error err;
+    double a[4] = {1, NAN, NAN, 2}, w[2];
+    tap_ok(lam_eigen_dense(2, a, w, &err) == 70 && strstr(err.msg, "symmetric eigensolver failed"),
+           "NaN matrix: lam_eigen_dense fails with code 70");
+    double b[4] = {1, NAN, NAN, 2};
+    tap_ok(lam_symmetric_eigen(2, b, w, &err) == 70 && strstr(err.msg, "n = 2"),
+           "NaN matrix: lam_symmetric_eigen fails with code 70, the order named");
+    size_t n = 400;
+    double *diag = calloc(n, sizeof(double));
+    lam_eigen_problem p;
+    lam_eigen_problem_init(&p, n, nan_apply, NULL, diag);
+    p.ctx = &p.dim;
+    lam_eigen_result r;
+    p.dense_limit = 500;
+    tap_ok(lam_eigen_extreme(&p, &r, NULL, &err) == 70 && strstr(err.msg, "LAPACK dsyevr failed"),
+           "NaN operator, dense beyond 300: code 70, dsyevr named");
+    p.dim = 20;
+    tap_ok(lam_eigen_extreme(&p, &r, NULL, &err) == 70 && strstr(err.msg, "LAPACK dsyev failed"),
+           "NaN operator, small dense: code 70, dsyev named");
+    p.dim = n;
+    p.dense_limit = 0;
+    tap_ok(lam_eigen_ends(&p, &r, NULL, &err) == 70 && strstr(err.msg, "LAPACK dsyev failed"),
+           "NaN operator, Davidson: code 70 from the Ritz step");
+    p.dim = 0;
+    tap_ok(lam_eigen_extreme(&p, &r, NULL, &err) == 70 &&
+               strcmp(err.msg, "eigenvalue problem of dimension 0") == 0,
+           "dimension 0: code 70");
+    free(diag);
+}
+
 int main(void)
 {
+    failures_return();
     const double pi = 3.14159265358979323846;
     lam_eigen_result r;
 
