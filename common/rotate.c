@@ -797,7 +797,7 @@ static int run_from(run_ctx *rc, double *u, int start, track *tr, double *score_
     double *v = lam_malloc(lam_mul_size(nn, sizeof(double)));
     double *t = lam_malloc(lam_mul_size(nn, sizeof(double)));
     char label[64];
-    double best;
+    double best = INFINITY;
     if (obj == LAM_ROTATE_ER) {
         eval_ctx c = {h, rc->cur, rc->work, rc->gh, rc->gfull, 0, 1, &rc->pairs, 0};
         /* L-BFGS stops where the gradient vanishes, which canonical orbitals
