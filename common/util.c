@@ -119,6 +119,12 @@ void lam_error_exit(const lam_error *err)
     leave(err->code ? err->code : LAM_EX_SOFTWARE);
 }
 
+void lam_exit_on_error(int rc, const lam_error *err)
+{
+    if (rc == LAM_EX_USAGE) lam_usage_error("%s", err->msg);
+    if (rc) lam_error_exit(err);
+}
+
 void lam_warn(const char *fmt, ...)
 {
     va_list ap;

@@ -58,6 +58,10 @@ void lam_error_print(const lam_error *err);
 /* For main: print the error and end the program with its code, without
  * flushing stdout (no half-written result reaches it). */
 _Noreturn void lam_error_exit(const lam_error *err);
+/* For main, after it freed what it holds: nothing when rc is 0; else the
+ * end of the program with err, a usage error (code 64) with the --help hint
+ * of lam_usage_error. */
+void lam_exit_on_error(int rc, const lam_error *err);
 
 /* Print "prog: msg" as a warning; does not exit. */
 void lam_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));

@@ -349,7 +349,6 @@ int main(int argc, char **argv)
     lam_error err;
     int rc = rotate(&o, argc, argv, &rr, &err);
     rotate_run_free(&rr);
-    if (rc == LAM_EX_USAGE) lam_usage_error("%s", err.msg);
-    if (rc) lam_error_exit(&err);
+    lam_exit_on_error(rc, &err);
     return 0;
 }

@@ -336,7 +336,6 @@ int main(int argc, char **argv)
     lam_error err;
     int rc = scf(&o, &run, &err);
     scf_run_free(&run);
-    if (rc == LAM_EX_USAGE) lam_usage_error("%s", err.msg);
-    if (rc) lam_error_exit(&err);
+    lam_exit_on_error(rc, &err);
     return 0;
 }

@@ -504,7 +504,6 @@ int main(int argc, char **argv)
     lam_error err;
     int rc = shift(&o, argc, argv, &sr, &err);
     shift_run_free(&sr);
-    if (rc == LAM_EX_USAGE) lam_usage_error("%s", err.msg);
-    if (rc) lam_error_exit(&err);
+    lam_exit_on_error(rc, &err);
     return 0;
 }
