@@ -70,13 +70,15 @@ static int excite(uint64_t mask, int a, int b, uint64_t *out)
     return parity & 1 ? -1 : 1;
 }
 
-lam_ci_strings *lam_ci_strings_new(int n, int k)
+int lam_ci_strings_new(int n, int k, lam_ci_strings **result, lam_error *err)
 {
+    *result = NULL;
+    /* the callers plan sectors within these limits: internal errors */
     if (n < 0 || n > 64 || k < 0 || k > n)
-        lam_fail(LAM_EX_SOFTWARE, "strings of %d electrons in %d orbitals", k, n);
+        return lam_error_set(err, LAM_EX_SOFTWARE, "strings of %d electrons in %d orbitals", k, n);
     size_t count = lam_ci_binomial(n, k);
     if (count == SIZE_MAX || count > UINT32_MAX)
-        lam_fail(LAM_EX_SOFTWARE, "%d electrons in %d orbitals: too many strings", k, n);
+        return lam_error_set(err, LAM_EX_SOFTWARE, "%d electrons in %d orbitals: too many strings", k, n);
     lam_ci_strings *s = lam_calloc(1, sizeof *s);
     s->n = n;
     s->k = k;
@@ -105,9 +107,15 @@ lam_ci_strings *lam_ci_strings_new(int n, int k)
                 ++t;
             }
         }
-        if (t != s->nexc) lam_fail(LAM_EX_SOFTWARE, "string excitation count %d, expected %d", t, s->nexc);
+        /* k + k (n - k) by counting: an internal invariant */
+        if (t != s->nexc) {
+            int expected = s->nexc;
+            lam_ci_strings_free(s);
+            return lam_error_set(err, LAM_EX_SOFTWARE, "string excitation count %d, expected %d", t, expected);
+        }
     }
-    return s;
+    *result = s;
+    return 0;
 }
 
 void lam_ci_strings_free(lam_ci_strings *s)
@@ -233,21 +241,32 @@ static void build_moves(lam_ci_sector *s)
     free(fill);
 }
 
-lam_ci_sector *lam_ci_sector_new(const lam_ci_ham *h, int na, int nb, size_t scratch_bytes)
+int lam_ci_sector_new(const lam_ci_ham *h, int na, int nb, size_t scratch_bytes, lam_ci_sector **out,
+                      lam_error *err)
 {
+    *out = NULL;
+    lam_ci_strings *alpha, *beta;
+    if (lam_ci_strings_new(h->n, na, &alpha, err)) return err->code;
+    if (na == nb) {
+        beta = alpha;
+    } else if (lam_ci_strings_new(h->n, nb, &beta, err)) {
+        lam_ci_strings_free(alpha);
+        return err->code;
+    }
     lam_ci_sector *s = lam_calloc(1, sizeof *s);
     s->n = h->n;
     s->na = na;
     s->nb = nb;
-    s->alpha = lam_ci_strings_new(h->n, na);
-    s->beta = na == nb ? s->alpha : lam_ci_strings_new(h->n, nb);
+    s->alpha = alpha;
+    s->beta = beta;
     s->dim = lam_ci_sector_dim(h->n, na, nb);
     s->batch = batch_for(s->beta->count, h->npair, s->alpha->count, scratch_bytes);
     build_moves(s);
     size_t block = lam_mul_size(lam_mul_size(s->batch, s->beta->count), (size_t)h->npair);
     s->d = lam_malloc(lam_mul_size(block, sizeof(double)));
     s->gbuf = lam_malloc(lam_mul_size(block, sizeof(double)));
-    return s;
+    *out = s;
+    return 0;
 }
 
 void lam_ci_sector_free(lam_ci_sector *s)
@@ -597,11 +616,12 @@ static void sigma_apply(void *ctx, const double *x, double *y)
     lam_ci_sigma(c->h, c->s, x, y);
 }
 
-void lam_ci_solve(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *tmpl,
-                  lam_eigen_result *lo, lam_eigen_result *hi)
+int lam_ci_solve(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *tmpl,
+                 lam_eigen_result *lo, lam_eigen_result *hi, lam_error *err)
 {
     size_t dim = lam_ci_sector_dim(h->n, na, nb);
-    lam_ci_sector *s = lam_ci_sector_new(h, na, nb, lam_ci_scratch_bytes(dim));
+    lam_ci_sector *s;
+    if (lam_ci_sector_new(h, na, nb, lam_ci_scratch_bytes(dim), &s, err)) return err->code;
     double *diag = lam_malloc(lam_mul_size(s->dim, sizeof(double)));
     lam_ci_diagonal(h, s, diag);
     sigma_ctx ctx = {h, s};
@@ -610,7 +630,8 @@ void lam_ci_solve(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *
     p.apply = sigma_apply;
     p.ctx = &ctx;
     p.diag = diag;
-    lam_eigen_ends(&p, lo, hi);
+    int rc = lam_eigen_ends(&p, lo, hi, err);
     free(diag);
     lam_ci_sector_free(s);
+    return rc;
 }

@@ -50,9 +50,9 @@ size_t lam_ci_sector_dim(int n, int na, int nb);
 /* Index of a string among all strings with the same n and popcount. */
 size_t lam_ci_string_rank(uint64_t mask);
 
-/* Strings of k electrons in n <= 64 orbitals, with their excitation lists
- * (exit 70 when the count exceeds 2^32 - 1). */
-lam_ci_strings *lam_ci_strings_new(int n, int k);
+/* Strings of k electrons in n <= 64 orbitals, with their excitation lists,
+ * into *out (fails with code 70 when the count exceeds 2^32 - 1). */
+int lam_ci_strings_new(int n, int k, lam_ci_strings **out, lam_error *err);
 void lam_ci_strings_free(lam_ci_strings *s);
 
 /* sf itself when exactly Hermitian; else (H + H^T)/2 in place of sf
@@ -97,8 +97,8 @@ typedef struct {
  * scratch limit of scratch_bytes). */
 size_t lam_ci_sector_bytes(int n, int na, int nb, int npair,
                            size_t scratch_bytes);
-lam_ci_sector *lam_ci_sector_new(const lam_ci_ham *h, int na, int nb,
-                                 size_t scratch_bytes);
+int lam_ci_sector_new(const lam_ci_ham *h, int na, int nb,
+                      size_t scratch_bytes, lam_ci_sector **out, lam_error *err);
 void lam_ci_sector_free(lam_ci_sector *s);
 
 /* Threads for the gather and scatter loops of sigma (default 1; the
@@ -131,8 +131,8 @@ size_t lam_ci_solve_bytes(const lam_ci_ham *h, int na, int nb,
 /* Lowest (lo, when non-NULL) and highest (hi) eigenvalue of the sector;
  * tmpl gives tol, subspace and limits (dim, apply, diag, highest are set
  * here). */
-void lam_ci_solve(const lam_ci_ham *h, int na, int nb,
-                  const lam_eigen_problem *tmpl, lam_eigen_result *lo,
-                  lam_eigen_result *hi);
+int lam_ci_solve(const lam_ci_ham *h, int na, int nb,
+                 const lam_eigen_problem *tmpl, lam_eigen_result *lo,
+                 lam_eigen_result *hi, lam_error *err);
 
 #endif

@@ -199,9 +199,10 @@ void lam_cost_df_step_of(const lam_cost_df_in *in, lam_cost_df_step *out);
  * and use_groups is set; the identity is never a unitary. */
 void lam_cost_summary_from_pauli(lam_pauli_set *s, int use_groups, lam_lcu_summary *lcu);
 /* From a fragments stream; meta may be NULL (trunc_input from its tol,
- * discarded-weight or integral-max-error). */
-void lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *meta,
-                                     lam_lcu_summary *lcu);
+ * discarded-weight or integral-max-error).  Fails (code 70) only when
+ * LAPACK fails on a fragment's matrix (non-finite coefficients). */
+int lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *meta,
+                                    lam_lcu_summary *lcu, lam_error *err);
 /* Rotations of the flat count: n(n-1)/2 Givens rotations per spin, two
  * rotations each, before and after: 4 n (n - 1) per fragment. */
 long long lam_cost_fragment_rotations(long long fragments, int orbitals);

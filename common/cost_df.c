@@ -176,8 +176,8 @@ static int spin_symmetric(const lam_fragments *fr, size_t lo, size_t hi, const d
 }
 
 /* Add fragment [lo, hi)'s factors to lcu. */
-static void add_fragment_factors(const lam_fragments *fr, size_t lo, size_t hi, double *l,
-                                 double *w, lam_lcu_summary *lcu)
+static int add_fragment_factors(const lam_fragments *fr, size_t lo, size_t hi, double *l,
+                                double *w, lam_lcu_summary *lcu, lam_error *err)
 {
     int n = fr->n, singles = 0;
     char *used = lam_calloc((size_t)n, 1);
@@ -193,8 +193,9 @@ static void add_fragment_factors(const lam_fragments *fr, size_t lo, size_t hi, 
     if (!spin_symmetric(fr, lo, hi, l)) lcu->df_complete = -1;
     double big = 0;
     for (size_t i = 0; i < (size_t)n * n; ++i) big = fmax(big, fabs(l[i]));
-    if (big == 0) return;
-    lam_symmetric_eigen(n, l, w); /* l now holds the eigenvectors as columns */
+    if (big == 0) return 0;
+    /* l now holds the eigenvectors as columns */
+    if (lam_symmetric_eigen(n, l, w, err)) return err->code;
     const double *v = l;
     double wmax = 0;
     for (int k = 0; k < n; ++k) wmax = fmax(wmax, fabs(w[k]));
@@ -215,10 +216,11 @@ static void add_fragment_factors(const lam_fragments *fr, size_t lo, size_t hi, 
         lcu->df_factors += 1;
         lcu->df_eigvecs += support;
     }
+    return 0;
 }
 
-void lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *meta,
-                                     lam_lcu_summary *lcu)
+int lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *meta,
+                                    lam_lcu_summary *lcu, lam_error *err)
 {
     lam_fragments_stats st = lam_fragments_stats_of(fr);
     memset(lcu, 0, sizeof *lcu);
@@ -238,7 +240,11 @@ void lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *me
     for (size_t t = 0; t < fr->count;) {
         size_t u = t;
         while (u < fr->count && fr->terms[u].frag == fr->terms[t].frag) ++u;
-        add_fragment_factors(fr, t, u, l, w, lcu);
+        if (add_fragment_factors(fr, t, u, l, w, lcu, err)) {
+            free(l);
+            free(w);
+            return err->code;
+        }
         t = u;
     }
     free(l);
@@ -255,6 +261,7 @@ void lam_cost_summary_from_fragments(const lam_fragments *fr, const lam_meta *me
                 }
         if (!identity) lcu->flat_rotations += lam_cost_fragment_rotations(1, fr->n);
     }
+    return 0;
 }
 
 long long lam_cost_fragment_rotations(long long fragments, int orbitals)

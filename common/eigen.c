@@ -19,6 +19,16 @@ void lam_eigen_defaults(lam_eigen_problem *p)
     p->max_roots = 4;
 }
 
+void lam_eigen_problem_init(lam_eigen_problem *p, size_t dim, lam_eigen_apply apply, void *ctx,
+                            const double *diag)
+{
+    lam_eigen_defaults(p);
+    p->dim = dim;
+    p->apply = apply;
+    p->ctx = ctx;
+    p->diag = diag;
+}
+
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit)
 {
     if (dim <= dense_limit) return lam_mul_size(lam_mul_size(dim, dim + 3), sizeof(double));
@@ -28,17 +38,30 @@ size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit)
 
 /* The suite's one dense symmetric eigensolver: values only (dsyev) or
  * with vectors (divide and conquer, dsyevd). */
-static void symmetric_eigen(int n, double *a, double *w, char jobz)
+static int symmetric_eigen(int n, double *a, double *w, char jobz, lam_error *err)
 {
-    if (n <= 0) return;
+    if (n <= 0) return 0;
     lapack_int info = jobz == 'V' ? LAPACKE_dsyevd(LAPACK_ROW_MAJOR, 'V', 'U', n, a, n, w)
                                   : LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'N', 'U', n, a, n, w);
-    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "symmetric eigensolver failed (info %d, n = %d)", (int)info, n);
+    if (info != 0)
+        return lam_error_set(err, LAM_EX_SOFTWARE, "symmetric eigensolver failed (info %d, n = %d)", (int)info, n);
+    return 0;
 }
 
-void lam_eigen_dense(int n, double *a, double *w) { symmetric_eigen(n, a, w, 'N'); }
+int lam_eigen_dense(int n, double *a, double *w, lam_error *err) { return symmetric_eigen(n, a, w, 'N', err); }
 
-void lam_symmetric_eigen(int n, double *a, double *w) { symmetric_eigen(n, a, w, 'V'); }
+int lam_symmetric_eigen(int n, double *a, double *w, lam_error *err)
+{
+    return symmetric_eigen(n, a, w, 'V', err);
+}
+
+/* LAPACK's failure to converge on a finite symmetric matrix: the callers
+ * below only hand it matrices built from the operator, so this is reached
+ * by a non-finite operator (NaN or overflow), never by valid input. */
+static int lapack_failed(lam_error *err, const char *routine, lapack_int info)
+{
+    return lam_error_set(err, LAM_EX_SOFTWARE, "LAPACK %s failed (info %d)", routine, (int)info);
+}
 
 /* Multiply by -1 when the top is wanted: the solver always minimizes.
  * With nx deflation vectors X (orthonormal columns, stored one after
@@ -85,9 +108,10 @@ static void apply_signed(const signed_op *op, const double *x, double *y)
 
 enum { SMALL_DENSE = 300 };
 
-static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
-                        lam_eigen_result *res, double *vec)
+static int solve_dense(const lam_eigen_problem *p, const signed_op *op,
+                       lam_eigen_result *res, double *vec, lam_error *err)
 {
+    int rc = 0;
     size_t n = p->dim;
     double *a = lam_malloc(lam_mul_size(n * n, sizeof(double)));
     double *e = lam_calloc(n, sizeof(double));
@@ -104,7 +128,7 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     if (n <= SMALL_DENSE) {
         /* every pair (QR iteration: the most accurate, and cheap here) */
         lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', (lapack_int)n, a, (lapack_int)n, w);
-        if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
+        if (info != 0) rc = lapack_failed(err, "dsyev", info);
         for (size_t i = 0; i < n; ++i) e[i] = a[i * n];
     } else {
         /* only the lowest pair: the reduction to tridiagonal form sees the
@@ -113,11 +137,12 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
         double *z = lam_malloc(n * sizeof(double));
         lapack_int info = LAPACKE_dsyevr(LAPACK_ROW_MAJOR, 'V', 'I', 'U', (lapack_int)n, a, (lapack_int)n, 0, 0,
                                          1, 1, 0.0, &found, w, z, 1, support);
-        if (info != 0 || found != 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyevr failed (info %d)", (int)info);
+        if (info != 0 || found != 1) rc = lapack_failed(err, "dsyevr", info);
         memcpy(e, z, n * sizeof(double));
         free(z);
         free(support);
     }
+    if (rc) goto done;
     /* certify with the residual of the eigenvector, as for Davidson */
     apply_signed(op, e, a);
     double r2 = 0;
@@ -131,9 +156,11 @@ static void solve_dense(const lam_eigen_problem *p, const signed_op *op,
     res->certificate = res->extreme ? LAM_EIGEN_BY_SPECTRUM : LAM_EIGEN_UNCERTIFIED;
     res->other = res->extreme ? op->sign * (w[0] - res->residual) : NAN;
     if (vec) memcpy(vec, e, n * sizeof(double));
+done:
     free(a);
     free(e);
     free(w);
+    return rc;
 }
 
 /* Orthonormalize t against the m columns of V (twice, classical
@@ -218,14 +245,13 @@ static void subspace_add(subspace *s, const signed_op *op, const double *t)
 
 /* Ritz pairs of the subspace: the m eigenvectors as columns of Y (row i,
  * column j at Y[i*m + j]), ascending; returns the lowest value. */
-static double ritz(const subspace *s, double *Y, double *w)
+static int ritz(const subspace *s, double *Y, double *w, lam_error *err)
 {
     int m = s->m;
     for (int i = 0; i < m; ++i)
         for (int j = 0; j < m; ++j) Y[i * m + j] = s->T[i * s->cap + j];
     lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', m, Y, m, w);
-    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
-    return w[0];
+    return info != 0 ? lapack_failed(err, "dsyev", info) : 0;
 }
 
 static void combine(size_t dim, int m, const double *V, const double *y, int stride, double *out)
@@ -292,9 +318,11 @@ static void restart(subspace *s, const double *Y, int keep, const double *yprev,
 
 /* start (may be NULL): the first search vector instead of the best
  * diagonal element. */
-static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
-                           lam_eigen_result *res, double *vec, const double *start, double *next)
+static int solve_davidson(const lam_eigen_problem *p, const signed_op *op,
+                          lam_eigen_result *res, double *vec, const double *start, double *next,
+                          lam_error *err)
 {
+    int rc = 0;
     size_t dim = p->dim;
     int cap = p->max_subspace < 4 ? 4 : p->max_subspace;
     int keep = cap / 3 < 1 ? 1 : cap / 3;
@@ -322,7 +350,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     orthonormalize(dim, 0, s.V, t, ov);
     subspace_add(&s, op, t);
     while (1) {
-        ritz(&s, Y, w);
+        if ((rc = ritz(&s, Y, w, err))) break;
         combine(dim, s.m, s.V, Y, s.m, x);
         combine(dim, s.m, s.AV, Y, s.m, ax);
         /* the Rayleigh quotient of x itself, the value that is certified */
@@ -368,7 +396,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     res->residual = rnorm;
     res->converged = rnorm <= p->tol || quadratic;
     if (next) *next = s.m >= 2 ? w[1] : INFINITY;
-    if (vec) memcpy(vec, x, dim * sizeof(double));
+    if (vec && !rc) memcpy(vec, x, dim * sizeof(double));
     free(s.V);
     free(s.AV);
     free(s.T);
@@ -381,6 +409,7 @@ static void solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     free(yprev);
     free(work);
     free(ov);
+    return rc;
 }
 
 /* ---- the extremality check ---- */
@@ -410,7 +439,8 @@ typedef struct {
     double y[MAX_ROOTS];
 } root_block;
 
-static void block_of_roots(const signed_op *op, const double *X, int nx, double *hx, root_block *b)
+static int block_of_roots(const signed_op *op, const double *X, int nx, double *hx, root_block *b,
+                          lam_error *err)
 {
     size_t dim = op->p->dim;
     signed_op plain = {op->p, op->sign, NULL, 0, NULL, 0};
@@ -424,15 +454,18 @@ static void block_of_roots(const signed_op *op, const double *X, int nx, double 
     for (int i = 0; i < nx; ++i)
         for (int j = 0; j < i; ++j) A[i * nx + j] = A[j * nx + i] = 0.5 * (A[i * nx + j] + A[j * nx + i]);
     lapack_int info = LAPACKE_dsyev(LAPACK_ROW_MAJOR, 'V', 'U', nx, A, nx, w);
-    if (info != 0) lam_fail(LAM_EX_SOFTWARE, "LAPACK dsyev failed (info %d)", (int)info);
+    if (info != 0) return lapack_failed(err, "dsyev", info);
     b->a_min = w[0];
     b->rnorm = sqrt(rr);
     for (int i = 0; i < nx; ++i) b->y[i] = A[i * nx];
+    return 0;
 }
 
 /* Extreme eigenvalues of the Lanczos tridiagonal (alpha, beta) of order k. */
-static void tridiagonal_ends(int k, const double *alpha, const double *beta, double *lo, double *hi)
+static int tridiagonal_ends(int k, const double *alpha, const double *beta, double *lo, double *hi,
+                            lam_error *err)
 {
+    int rc = 0;
     lapack_int m, nsplit;
     size_t n = (size_t)(k > 1 ? k : 1);
     lapack_int *iblock = lam_malloc(n * sizeof(lapack_int)), *isplit = lam_malloc(n * sizeof(lapack_int));
@@ -442,13 +475,17 @@ static void tridiagonal_ends(int k, const double *alpha, const double *beta, dou
         lapack_int il = end ? k : 1;
         lapack_int info = LAPACKE_dstebz('I', 'E', k, 0, 0, il, il, 0.0, alpha, e, &m, &nsplit, w,
                                          iblock, isplit);
-        if (info != 0 || m < 1) lam_fail(LAM_EX_SOFTWARE, "LAPACK dstebz failed (info %d)", (int)info);
+        if (info != 0 || m < 1) {
+            rc = lapack_failed(err, "dstebz", info);
+            break;
+        }
         *(end ? hi : lo) = w[0];
     }
     free(iblock);
     free(isplit);
     free(w);
     free(e);
+    return rc;
 }
 
 /* log(1.648 sqrt(n) / delta) of the bound of Kuczynski and Wozniakowski. */
@@ -461,7 +498,7 @@ static double kw_eps(int k, double logterm)
     return s * s;
 }
 
-typedef enum { CHECK_CERTIFIED, CHECK_ROOT, CHECK_BUDGET } check_status;
+typedef enum { CHECK_CERTIFIED, CHECK_ROOT, CHECK_BUDGET, CHECK_FAILED } check_status;
 
 typedef struct {
     double mu;      /* probabilistic lower bound on the complement */
@@ -473,9 +510,9 @@ typedef struct {
  * bound on the complement that fails with probability at most delta,
  * reaches `target`; or until a root of the complement shows that the budget
  * cannot get there (converged at or near the target); or the budget
- * (kmax steps) ends. */
+ * (kmax steps) ends.  CHECK_FAILED: LAPACK failed, the reason in *err. */
 static check_status lanczos_check(signed_op *op, double target, int kmax, double delta,
-                                  uint64_t seed, double *work, check_outcome *out)
+                                  uint64_t seed, double *work, check_outcome *out, lam_error *err)
 {
     const lam_eigen_problem *p = op->p;
     size_t dim = p->dim, n = dim - (size_t)op->nx;
@@ -504,8 +541,11 @@ static check_status lanczos_check(signed_op *op, double target, int kmax, double
         ++k;
         int last = k == kmax || (size_t)k == n || !(beta[k - 1] > 0);
         if (k % CHECK_STRIDE == 0 || last) {
-            double lo, hi;
-            tridiagonal_ends(k, alpha, beta, &lo, &hi);
+            double lo = 0, hi = 0;
+            if (tridiagonal_ends(k, alpha, beta, &lo, &hi, err)) {
+                status = CHECK_FAILED;
+                break;
+            }
             double eps = kw_eps(k, logterm);
             /* the spread of the complement: the given bound, or from both
              * ends of the same run (each end off by at most eps S) */
@@ -576,11 +616,14 @@ static void congruent_apply(void *ctx, const double *x, double *y)
 }
 
 /* sigma halfway between the value of x and the next Ritz value of
- * Davidson's subspace (an upper bound on the second eigenvalue); returns 1
- * and fills res when x is certified extreme to tol. */
+ * Davidson's subspace (an upper bound on the second eigenvalue); *ok is 1
+ * and res filled when x is certified extreme to tol.  Fails only when
+ * LAPACK does (a non-finite operator). */
 static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op, const double *x,
-                                 double next, double delta, lam_eigen_result *res)
+                                 double next, double delta, lam_eigen_result *res, int *ok,
+                                 lam_error *err)
 {
+    int rc = 0;
     size_t dim = p->dim;
     signed_op plain = {p, op->sign, NULL, 0, NULL, 0};
     double *vecs = lam_malloc(lam_mul_size(dim, 8 * sizeof(double)));
@@ -598,7 +641,7 @@ static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op
     double gap = next - theta;
     double step = fmax(CONGRUENCE_STEP * gap, 2 * r * r / p->tol);
     double sigma = theta + step;
-    int ok = 0;
+    *ok = 0;
     if (!(isfinite(gap) && gap > 0 && step <= 0.5 * gap)) goto done;
     /* W's floor: a determinant whose diagonal lies within the gap of sigma
      * is scaled as if it lay a gap away, keeping W bounded */
@@ -623,7 +666,7 @@ static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op
     memset(&rb, 0, sizeof rb);
     double *start = hx; /* hx is no longer needed */
     memcpy(start, tmp, dim * sizeof(double));
-    solve_davidson(&pb, &bop, &rb, z, start, NULL);
+    if ((rc = solve_davidson(&pb, &bop, &rb, z, start, NULL, err))) goto done;
     res->check_iterations += rb.iterations;
     lam_progress("%s%scongruence check: sigma %.9f, B's lowest %.3e (residual %.1e, %d steps)",
                  p->label ? p->label : "", p->label ? ": " : "", op->sign * sigma, rb.value,
@@ -631,7 +674,12 @@ static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op
     if (!(rb.value < 0)) goto done;
     signed_op deflated = {&pb, 1.0, z, 1, hx, 0}; /* hx: free again */
     check_outcome c = {0, 0, 0};
-    check_status st = lanczos_check(&deflated, 0.0, p->check_steps, delta, 0x4F1BBCDCBFA53E0BULL, lanczos, &c);
+    check_status st = lanczos_check(&deflated, 0.0, p->check_steps, delta, 0x4F1BBCDCBFA53E0BULL, lanczos, &c,
+                                    err);
+    if (st == CHECK_FAILED) {
+        rc = err->code;
+        goto done;
+    }
     res->check_iterations += c.steps;
     lam_progress("%s%scongruence check: %d Lanczos steps: %s (B beyond %.3e, theta %.3e)",
                  p->label ? p->label : "", p->label ? ": " : "", c.steps,
@@ -645,32 +693,34 @@ static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op
         res->extreme = 1;
         res->certificate = LAM_EIGEN_BY_CONGRUENCE;
         res->other = op->sign * lower;
-        ok = 1;
+        *ok = 1;
     }
 done:
     free(vecs);
-    return ok;
+    return rc;
 }
 
 /* Davidson's value, then the check: roots met are solved on the
  * complement and added, until certified, out of roots or out of budget. */
-static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam_eigen_result *res,
-                            double *x1, double next)
+static int certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam_eigen_result *res,
+                           double *x1, double next, lam_error *err)
 {
+    int rc = 0;
     size_t dim = p->dim;
     int max_roots = p->max_roots < 1 ? 1 : p->max_roots > MAX_ROOTS ? MAX_ROOTS : p->max_roots;
     /* one check by congruence, then up to max_roots block checks: the
      * union bound shares the failure probability out */
     double delta = LAM_EIGEN_FAILURE / (max_roots + 1);
-    if (certify_by_congruence(p, op, x1, next, delta, res)) return;
+    int certified = 0;
+    if ((rc = certify_by_congruence(p, op, x1, next, delta, res, &certified, err)) || certified) return rc;
     double *X = lam_malloc(lam_mul_size(lam_mul_size(dim, MAX_ROOTS), sizeof(double)));
     double *work = lam_malloc(lam_mul_size(dim, 5 * sizeof(double)));
     memcpy(X, x1, dim * sizeof(double));
     int nx = 1;
     signed_op deflated = {p, op->sign, X, 0, work + 3 * dim, 0};
-    root_block b;
+    root_block b = {0, 0, {0}};
     for (;;) {
-        block_of_roots(op, X, nx, work + 4 * dim, &b);
+        if ((rc = block_of_roots(op, X, nx, work + 4 * dim, &b, err))) break;
         double value = b.a_min;
         deflated.nx = nx;
         check_outcome c = {0, 0, 0};
@@ -678,7 +728,11 @@ static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam
          * reaches this level */
         double target = p->tol > 0 ? value - p->tol + b.rnorm * b.rnorm / p->tol : INFINITY;
         check_status st = lanczos_check(&deflated, target, p->check_steps, delta,
-                                        0x2545F4914F6CDD1DULL + (uint64_t)nx, work, &c);
+                                        0x2545F4914F6CDD1DULL + (uint64_t)nx, work, &c, err);
+        if (st == CHECK_FAILED) {
+            rc = err->code;
+            break;
+        }
         res->check_iterations += c.steps;
         res->roots = nx;
         double lower = two_by_two_lowest(b.a_min, b.rnorm, c.mu);
@@ -710,7 +764,7 @@ static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam
         uint64_t state = 0x853C49E6748FEA9BULL + (uint64_t)nx;
         double *start = work + 4 * dim;
         for (size_t i = 0; i < dim; ++i) start[i] = normal_deviate(&state);
-        solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim, start, NULL);
+        if ((rc = solve_davidson(p, &deflated, &r2, X + (size_t)nx * dim, start, NULL, err))) break;
         res->iterations += r2.iterations;
         project_out(dim, X, nx, X + (size_t)nx * dim);
         double nrm = cblas_dnrm2((int)dim, X + (size_t)nx * dim, 1);
@@ -720,35 +774,37 @@ static void certify_extreme(const lam_eigen_problem *p, const signed_op *op, lam
     }
     free(X);
     free(work);
+    return rc;
 }
 
-void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res, double *vec)
+int lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res, double *vec, lam_error *err)
 {
     memset(res, 0, sizeof *res);
     res->other = NAN;
     signed_op op = {p, p->highest ? -1.0 : 1.0, NULL, 0, NULL, 0};
-    if (p->dim == 0) lam_fail(LAM_EX_SOFTWARE, "eigenvalue problem of dimension 0");
-    if (p->dim <= p->dense_limit) {
-        solve_dense(p, &op, res, vec);
-        return;
-    }
+    /* the callers skip empty sectors before they get here: an internal
+     * error, not reachable from input */
+    if (p->dim == 0) return lam_error_set(err, LAM_EX_SOFTWARE, "eigenvalue problem of dimension 0");
+    if (p->dim <= p->dense_limit) return solve_dense(p, &op, res, vec, err);
     double *x = lam_malloc(lam_mul_size(p->dim, sizeof(double)));
     double next;
-    solve_davidson(p, &op, res, x, NULL, &next);
-    if (p->check_steps > 0 && p->dim > 1) certify_extreme(p, &op, res, x, next);
-    if (vec) memcpy(vec, x, p->dim * sizeof(double));
+    int rc = solve_davidson(p, &op, res, x, NULL, &next, err);
+    if (!rc && p->check_steps > 0 && p->dim > 1) rc = certify_extreme(p, &op, res, x, next, err);
+    if (!rc && vec) memcpy(vec, x, p->dim * sizeof(double));
     free(x);
+    return rc;
 }
 
-void lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo, lam_eigen_result *hi)
+int lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo, lam_eigen_result *hi, lam_error *err)
 {
     lam_eigen_problem q = *p;
     if (lo) {
         q.highest = 0;
-        lam_eigen_extreme(&q, lo, NULL);
+        if (lam_eigen_extreme(&q, lo, NULL, err)) return err->code;
     }
     if (hi) {
         q.highest = 1;
-        lam_eigen_extreme(&q, hi, NULL);
+        if (lam_eigen_extreme(&q, hi, NULL, err)) return err->code;
     }
+    return 0;
 }

@@ -51,6 +51,8 @@
 #include <stddef.h>
 #include <stdint.h>
 
+#include "util.h"
+
 typedef void (*lam_eigen_apply)(void *ctx, const double *x, double *y);
 
 typedef struct {
@@ -99,30 +101,37 @@ typedef struct {
 /* Fill defaults: tol 1e-9, max_iter 400, max_subspace 8, dense_limit 300,
  * check_steps 0, max_roots 4. */
 void lam_eigen_defaults(lam_eigen_problem *p);
+/* The defaults for the operator apply(ctx) of dimension dim with its
+ * diagonal. */
+void lam_eigen_problem_init(lam_eigen_problem *p, size_t dim, lam_eigen_apply apply, void *ctx,
+                            const double *diag);
 /* Bytes of working storage (beyond the diagonal) the solver allocates:
  * 2 max_subspace + 4 vectors and the check's (LAM_EIGEN_CHECK_VECTORS),
  * or the dense matrix. */
 #define LAM_EIGEN_CHECK_VECTORS 10
 size_t lam_eigen_bytes(size_t dim, int max_subspace, size_t dense_limit);
-/* Solve; vec (may be NULL) receives the final unit vector. */
-void lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res,
-                       double *vec);
+/* Solve; vec (may be NULL) receives the final unit vector.  Fails (exit
+ * code 70 in *err) on a problem of dimension 0 or when LAPACK fails on the
+ * projected matrices, which only a non-finite operator makes happen. */
+int lam_eigen_extreme(const lam_eigen_problem *p, lam_eigen_result *res,
+                      double *vec, lam_error *err);
 
 /* The lowest into *lo and the highest into *hi (either may be NULL): the
  * problem's own `highest` is ignored. */
-void lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo,
-                    lam_eigen_result *hi);
+int lam_eigen_ends(const lam_eigen_problem *p, lam_eigen_result *lo,
+                   lam_eigen_result *hi, lam_error *err);
 
 /* All eigenvalues of a dense symmetric n x n matrix (row-major, destroyed),
- * ascending, into w.  exit 70 if LAPACK fails. */
-void lam_eigen_dense(int n, double *a, double *w);
+ * ascending, into w.  Fails with code 70 if LAPACK fails (a non-finite
+ * matrix). */
+int lam_eigen_dense(int n, double *a, double *w, lam_error *err);
 
 /* Eigenvalues of the symmetric n x n row-major matrix a (upper triangle
  * read) ascending in w; a is overwritten by the eigenvectors as columns.
  * Divide and conquer (dsyevd): its eigenvectors are orthogonal to machine
  * precision also within clusters of close eigenvalues, where the MRRR
  * solver (dsyevr) was seen to lose orthogonality at 1e-4.  LAPACK failure
- * is an internal error (exit 70). */
-void lam_symmetric_eigen(int n, double *a, double *w);
+ * (a non-finite matrix) is returned as an internal error (code 70). */
+int lam_symmetric_eigen(int n, double *a, double *w, lam_error *err);
 
 #endif

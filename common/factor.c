@@ -52,11 +52,11 @@ static double frobenius(size_t len, const double *a)
 
 /* Eigenvalues ascending in w, eigenvectors as the columns of z; a is
  * left as it was given. */
-static void symmetric_eigen(int n, double *a, double *w, double *z)
+static int symmetric_eigen(int n, double *a, double *w, double *z, lam_error *err)
 {
-    if (n == 0) return;
+    if (n == 0) return 0;
     memcpy(z, a, (size_t)n * (size_t)n * sizeof(double));
-    lam_symmetric_eigen(n, z, w);
+    return lam_symmetric_eigen(n, z, w, err);
 }
 
 /* Make det(v) = +1 by flipping the sign of column 0 when needed: the sign
@@ -446,8 +446,8 @@ static void build_supermatrix(int n, const double *g, double *m)
 
 /* Factor l of the supermatrix as a fragment: L = V diag(e) V^T, U = V,
  * lam_ij = w e_i e_j. */
-static void factor_to_fragment(int n, const double *z, int np, int l, double w, double *u,
-                               double *lam)
+static int factor_to_fragment(int n, const double *z, int np, int l, double w, double *u,
+                              double *lam, lam_error *err)
 {
     double *mat = new_matrix((size_t)n, (size_t)n), *e = new_matrix((size_t)n, 1);
     for (int a = 0; a < np; ++a) {
@@ -456,12 +456,15 @@ static void factor_to_fragment(int n, const double *z, int np, int l, double w, 
         double x = z[(size_t)a * np + l] / (p == q ? 1.0 : SQRT2);
         mat[(size_t)p * n + q] = mat[(size_t)q * n + p] = x;
     }
-    symmetric_eigen(n, mat, e, u);
-    make_proper_rotation(n, u);
-    for (int i = 0; i < n; ++i)
-        for (int j = 0; j < n; ++j) lam[(size_t)i * n + j] = w * e[i] * e[j];
+    int rc = symmetric_eigen(n, mat, e, u, err);
+    if (!rc) {
+        make_proper_rotation(n, u);
+        for (int i = 0; i < n; ++i)
+            for (int j = 0; j < n; ++j) lam[(size_t)i * n + j] = w * e[i] * e[j];
+    }
     free(mat);
     free(e);
+    return rc;
 }
 
 /* Indices of the supermatrix eigenvalues by |w| ascending (insertion
@@ -479,8 +482,8 @@ static void order_by_magnitude(int np, const double *w, int *order)
     }
 }
 
-static void double_factorization(const lam_spinfree *sf, const lam_factor_options *o,
-                                 fragment_list *fl, lam_factor_info *info)
+static int double_factorization(const lam_spinfree *sf, const lam_factor_options *o,
+                                fragment_list *fl, lam_factor_info *info, lam_error *err)
 {
     int n = sf->n, np = pair_count(n);
     double *m = new_matrix((size_t)np, (size_t)np), *w = new_matrix((size_t)np, 1);
@@ -489,18 +492,18 @@ static void double_factorization(const lam_spinfree *sf, const lam_factor_option
     int *order = lam_malloc(lam_mul_size((size_t)np + 1, sizeof(int)));
     build_supermatrix(n, sf->g, m);
     lam_progress("double factorization: %d x %d supermatrix", np, np);
-    symmetric_eigen(np, m, w, z);
-    order_by_magnitude(np, w, order);
+    int rc = symmetric_eigen(np, m, w, z, err);
+    if (!rc) order_by_magnitude(np, w, order);
     /* Drop the smallest factors while their |w| sum stays within tol:
      * |L_pq| <= 1, so the sum bounds the largest integral error. */
     int first_kept = 0;
     double dropped = 0.0;
-    while (first_kept < np && dropped + fabs(w[order[first_kept]]) <= o->tol)
+    while (!rc && first_kept < np && dropped + fabs(w[order[first_kept]]) <= o->tol)
         dropped += fabs(w[order[first_kept++]]);
     info->factors_total = np;
     info->discarded_weight = dropped;
-    for (int k = np - 1; k >= first_kept; --k) {
-        factor_to_fragment(n, z, np, order[k], w[order[k]], u, lam);
+    for (int k = np - 1; !rc && k >= first_kept; --k) {
+        if ((rc = factor_to_fragment(n, z, np, order[k], w[order[k]], u, lam, err))) break;
         list_push(fl, u, lam);
     }
     free(m);
@@ -509,6 +512,7 @@ static void double_factorization(const lam_spinfree *sf, const lam_factor_option
     free(u);
     free(lam);
     free(order);
+    return rc;
 }
 
 /* ---- full rank ---- */
@@ -559,35 +563,46 @@ static double projected_objective(const double *kappa, double *grad, void *ctx)
 
 /* Starting rotation: the leading double-factorization factor of the
  * residual, so the first guess is at least as good as that factor. */
-static void leading_factor_rotation(int n, const double *resid, double *u)
+static int leading_factor_rotation(int n, const double *resid, double *u, lam_error *err)
 {
     int np = pair_count(n);
     double *m = new_matrix((size_t)np, (size_t)np), *w = new_matrix((size_t)np, 1);
     double *z = new_matrix((size_t)np, (size_t)np), *lam = new_matrix((size_t)n, (size_t)n);
     build_supermatrix(n, resid, m);
-    symmetric_eigen(np, m, w, z);
-    int best = 0;
-    for (int a = 1; a < np; ++a)
-        if (fabs(w[a]) > fabs(w[best])) best = a;
-    factor_to_fragment(n, z, np, best, w[best], u, lam);
+    int rc = symmetric_eigen(np, m, w, z, err);
+    if (!rc) {
+        int best = 0;
+        for (int a = 1; a < np; ++a)
+            if (fabs(w[a]) > fabs(w[best])) best = a;
+        rc = factor_to_fragment(n, z, np, best, w[best], u, lam, err);
+    }
     free(m);
     free(w);
     free(z);
     free(lam);
+    return rc;
 }
 
-static long fit_one_fragment(int n, double *resid, const lam_factor_options *o, double *u,
-                             double *lam)
+/* L-BFGS iterations are added to *iters. */
+static int fit_one_fragment(int n, double *resid, const lam_factor_options *o, double *u,
+                            double *lam, long *iters, lam_error *err)
 {
     int nk = kappa_count(n);
     size_t nn = (size_t)n * n;
     double *u0 = new_matrix((size_t)n, (size_t)n), *v = new_matrix(nn, (size_t)n);
     double *kappa = new_matrix((size_t)nk, 1), *k = new_matrix((size_t)n, (size_t)n);
     double *e = new_matrix((size_t)n, (size_t)n);
-    leading_factor_rotation(n, resid, u0);
+    if (leading_factor_rotation(n, resid, u0, err)) {
+        free(u0);
+        free(v);
+        free(kappa);
+        free(k);
+        free(e);
+        return err->code;
+    }
     double norm2 = cblas_ddot((int)(nn * nn), resid, 1, resid, 1), fx;
     fit_problem fp = {n, resid, u0, 1.0 / norm2};
-    long iters = lam_lbfgs(nk, kappa, projected_objective, &fp, o->max_iter, 1e-12, &fx);
+    *iters += lam_lbfgs(nk, kappa, projected_objective, &fp, o->max_iter, 1e-12, &fx);
     generator_matrix(n, kappa, k);
     lam_expm(n, k, e);
     matmul(n, u0, e, u);
@@ -599,7 +614,7 @@ static long fit_one_fragment(int n, double *resid, const lam_factor_options *o, 
     free(kappa);
     free(k);
     free(e);
-    return iters;
+    return 0;
 }
 
 static int full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragment_list *fl,
@@ -621,7 +636,12 @@ static int full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragme
                                  "fragments (raise --max-fragments or --tol)",
                                  norm, o->tol, fl->count);
         }
-        info->iterations += fit_one_fragment(n, resid, o, u, lam);
+        if (fit_one_fragment(n, resid, o, u, lam, &info->iterations, err)) {
+            free(resid);
+            free(u);
+            free(lam);
+            return err->code;
+        }
         list_push(fl, u, lam);
         double before = norm;
         norm = frobenius(n4, resid);
@@ -685,7 +705,13 @@ static int add_one_body_fragment(lam_fragments *fr, const lam_spinfree *sf,
         for (int q = 0; q < n; ++q)
             t[(size_t)p * n + q] = 0.5 * (LAM_H(sf, p, q) - LAM_H(two, p, q) + LAM_H(sf, q, p) -
                                           LAM_H(two, q, p));
-    symmetric_eigen(n, t, ev, w);
+    if ((rc = symmetric_eigen(n, t, ev, w, err))) {
+        lam_spinfree_free(two);
+        free(t);
+        free(ev);
+        free(w);
+        return rc;
+    }
     make_proper_rotation(n, w);
     memcpy(fr->rot, w, (size_t)n * n * sizeof(double));
     fr->constant = sf->e0 - two->e0;
@@ -744,9 +770,8 @@ int lam_factor(const lam_spinfree *sf, const lam_factor_options *o, lam_factor_i
     fragment_list fl = {sf->n, 0, 0, NULL, NULL};
     memset(info, 0, sizeof *info);
     *out = NULL;
-    if (o->method == LAM_FACTOR_DOUBLE) {
-        double_factorization(sf, o, &fl, info);
-    } else if (full_rank(sf, o, &fl, info, err)) {
+    if (o->method == LAM_FACTOR_DOUBLE ? double_factorization(sf, o, &fl, info, err)
+                                       : full_rank(sf, o, &fl, info, err)) {
         list_free(&fl);
         return err->code;
     }

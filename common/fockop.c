@@ -397,10 +397,10 @@ int lam_fock_solve(const lam_fockop *op, const lam_fock_sector *sec, const lam_e
     p.apply = fock_apply;
     p.ctx = ix;
     p.diag = diag;
-    lam_eigen_ends(&p, lo, hi);
+    int rc = lam_eigen_ends(&p, lo, hi, err);
     free(diag);
     sector_index_free(ix);
-    return 0;
+    return rc;
 }
 
 /* ---- inner bounds ---- */
@@ -507,15 +507,15 @@ static int ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subs
             a[i * r + m + j] = -ei;
             a[(m + i) * r + j] = ei;
         }
-    lam_eigen_dense((int)r, a, w);
+    int rc = lam_eigen_dense((int)r, a, w, err);
     double v = sign > 0 ? w[0] : w[r - 1];
     free(nb);
     free(basis);
     free(a);
     free(w);
     sector_index_free(ix);
-    *value = v;
-    return 0;
+    if (!rc) *value = v;
+    return rc;
 }
 
 int lam_fock_bounds(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double *lo, double *hi,

@@ -949,8 +949,8 @@ static void engine_free(engine *e)
     free(e->pidx_member);
 }
 
-void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
-                     lam_pauli_set *out, lam_group_stats *st)
+int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
+                    lam_pauli_set *out, lam_group_stats *st, lam_error *err)
 {
     memset(st, 0, sizeof *st);
     int nw = in->nwords;
@@ -970,8 +970,12 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
         sorted[n++] = (by_mag){fabs(in->coef[t]), t};
     }
     st->lambda = lam_pauli_set_lambda(in);
-    if (n > (size_t)UINT32_MAX - 1)
-        lam_fail(LAM_EX_SOFTWARE, "%zu terms: more than lam-group can hold", n);
+    /* ranks are 32-bit: memory runs out long before this in practice */
+    if (n > (size_t)UINT32_MAX - 1) {
+        free(sorted);
+        lam_pauli_set_free(out);
+        return lam_error_set(err, LAM_EX_SOFTWARE, "%zu terms: more than lam-group can hold", n);
+    }
     qsort(sorted, n, sizeof *sorted, by_mag_desc);
     st->terms = n;
 
@@ -1045,6 +1049,7 @@ void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
     free(tbits);
     free(tc);
     free(rank_to_term);
+    return 0;
 }
 
 /* ---------------------------------------------------------------- labels */

@@ -74,8 +74,8 @@ typedef struct {
  * split a string may appear in several groups with coefficients that add
  * up to its input coefficient.  Exact zeros are kept, each grouped like
  * any term. */
-void lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
-                     lam_pauli_set *out, lam_group_stats *st);
+int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
+                    lam_pauli_set *out, lam_group_stats *st, lam_error *err);
 
 /* Verify a labelled set: within every group, every pair of distinct strings
  * anticommutes (commutes when want_commuting).  Returns 0 when it holds,

@@ -40,9 +40,13 @@ void lam_l1_free(lam_l1_problem *p)
     memset(p, 0, sizeof *p);
 }
 
-void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
-                    const int *col, const double *val)
+int lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
+                   const int *col, const double *val, lam_error *err)
 {
+    /* the callers number their own parameters: an internal error */
+    for (int i = 0; i < nnz; ++i)
+        if (col[i] < 0 || col[i] >= p->params)
+            return lam_error_set(err, LAM_EX_SOFTWARE, "L1 row refers to parameter %d of %d", col[i], p->params);
     if (p->rows == p->row_cap) {
         p->row_cap *= 2;
         p->weight = lam_realloc(p->weight, lam_mul_size(p->row_cap, sizeof *p->weight));
@@ -55,9 +59,6 @@ void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
         p->val = lam_realloc(p->val, lam_mul_size(p->nnz_cap, sizeof *p->val));
     }
     for (int i = 0; i < nnz; ++i) {
-        if (col[i] < 0 || col[i] >= p->params)
-            lam_fail(LAM_EX_SOFTWARE, "L1 row refers to parameter %d of %d",
-                     col[i], p->params);
         p->col[p->nnz + (size_t)i] = col[i];
         p->val[p->nnz + (size_t)i] = val[i];
     }
@@ -66,6 +67,7 @@ void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
     p->target[p->rows] = target;
     p->rows++;
     p->start[p->rows] = p->nnz;
+    return 0;
 }
 
 static uint64_t mix(uint64_t h, uint64_t v)
@@ -257,10 +259,12 @@ static size_t normal_total(const normal_matrix *nm)
 /* Cholesky of each block of A^T diag(d) A (lower triangle).  A block that
  * is singular (parameters not determined by the rows, or weights that
  * have grown apart by many orders near the optimum) gets a small ridge,
- * raised until the factorization succeeds. */
-static void normal_factor(normal_matrix *nm, const lam_l1_problem *p,
-                          const double *d)
+ * raised until the factorization succeeds; it fails only on non-finite
+ * weights (which lam_l1_solve refuses) or a bad argument (internal). */
+static int normal_factor(normal_matrix *nm, const lam_l1_problem *p,
+                         const double *d, lam_error *err)
 {
+    int rc = 0;
     memset(nm->mat, 0, normal_total(nm) * sizeof *nm->mat);
     for (size_t t = 0; t < p->rows; ++t) {
         size_t e0 = p->start[t], e1 = p->start[t + 1];
@@ -304,20 +308,24 @@ static void normal_factor(normal_matrix *nm, const lam_l1_problem *p,
             for (int i = 0; i < n; ++i) m[(size_t)i * n + i] += ridge;
             lapack_int info = LAPACKE_dpotrf(LAPACK_ROW_MAJOR, 'L', n, m, n);
             if (info == 0) break;
-            if (info < 0 || attempt > 12)
-                lam_fail(LAM_EX_SOFTWARE,
-                         "normal equations could not be factored (block of %d, info %d)",
-                         n, (int)info);
+            if (info < 0 || attempt > 12) {
+                rc = lam_error_set(err, LAM_EX_SOFTWARE,
+                                   "normal equations could not be factored (block of %d, info %d)", n,
+                                   (int)info);
+                break;
+            }
             memcpy(m, backup, bytes);
             ridge *= 100;
         }
+        if (rc) break;
     }
     free(backup);
+    return rc;
 }
 
 /* Solve (A^T D A) dx = r in place (r has k entries; unused parameters
  * get 0). */
-static void normal_solve(normal_matrix *nm, double *r)
+static int normal_solve(normal_matrix *nm, double *r, lam_error *err)
 {
     for (int i = 0; i < nm->k; ++i) {
         int b = nm->block[i];
@@ -331,14 +339,15 @@ static void normal_solve(normal_matrix *nm, double *r)
             z[0] /= m[0];
             continue;
         }
+        /* dpotrs fails only on a bad argument: an internal error */
         lapack_int info = LAPACKE_dpotrs(LAPACK_ROW_MAJOR, 'L', n, 1, m, n, z, 1);
-        if (info != 0)
-            lam_fail(LAM_EX_SOFTWARE, "normal equations: dpotrs failed (%d)", (int)info);
+        if (info != 0) return lam_error_set(err, LAM_EX_SOFTWARE, "normal equations: dpotrs failed (%d)", (int)info);
     }
     for (int i = 0; i < nm->k; ++i) {
         int b = nm->block[i];
         r[i] = b >= 0 ? nm->rhs[nm->first[b] + nm->local[i]] : 0;
     }
+    return 0;
 }
 
 /* ---- the interior-point iteration ---- */
@@ -367,9 +376,9 @@ typedef struct {
 
 /* Newton direction for complementarity targets rcu (u-rows) and rcv
  * (v-rows); the normal matrix is already factored for the current D. */
-static void newton_direction(ipm_state *s, const lam_l1_problem *p,
-                             normal_matrix *nm, const double *rcu,
-                             const double *rcv)
+static int newton_direction(ipm_state *s, const lam_l1_problem *p,
+                            normal_matrix *nm, const double *rcu,
+                            const double *rcv, lam_error *err)
 {
     for (size_t t = 0; t < s->m; ++t) {
         double su = p->weight[t] - s->y[t], sv = p->weight[t] + s->y[t];
@@ -378,7 +387,7 @@ static void newton_direction(ipm_state *s, const lam_l1_problem *p,
     }
     mul_At(p, s->tmp, s->rk);
     for (int j = 0; j < s->k; ++j) s->rk[j] -= s->rd[j];
-    normal_solve(nm, s->rk);
+    if (normal_solve(nm, s->rk, err)) return err->code;
     memcpy(s->dx, s->rk, (size_t)s->k * sizeof *s->dx);
     mul_A(p, s->dx, s->tmp);
     for (size_t t = 0; t < s->m; ++t) {
@@ -388,6 +397,7 @@ static void newton_direction(ipm_state *s, const lam_l1_problem *p,
         s->du[t] = (rcu[t] + s->u[t] * s->dy[t]) / su;
         s->dv[t] = (rcv[t] - s->v[t] * s->dy[t]) / sv;
     }
+    return 0;
 }
 
 /* Largest steps in [0, 1] keeping u, v >= 0 and -w <= y <= w. */
@@ -416,16 +426,18 @@ static double dual_value(const lam_l1_problem *p, const double *y)
 /* A dual point that satisfies A^T y = 0 to rounding and the box exactly:
  * y minus its projection on range(A) (least squares through the same
  * block Cholesky with D = 1), then scaled into the box.  Its value c.y is
- * a lower bound of the optimum. */
-static double certified_dual(const lam_l1_problem *p, normal_matrix *nm,
-                             const double *y, double *work_m, double *work_k)
+ * a lower bound of the optimum, into *bound. */
+static int certified_dual(const lam_l1_problem *p, normal_matrix *nm,
+                          const double *y, double *work_m, double *work_k, double *bound,
+                          lam_error *err)
 {
     double *ones = lam_malloc(lam_mul_size(p->rows + 1, sizeof *ones));
     for (size_t t = 0; t < p->rows; ++t) ones[t] = 1;
-    normal_factor(nm, p, ones);
+    int rc = normal_factor(nm, p, ones, err);
     free(ones);
+    if (rc) return rc;
     mul_At(p, y, work_k);
-    normal_solve(nm, work_k);
+    if (normal_solve(nm, work_k, err)) return err->code;
     mul_A(p, work_k, work_m);
     double scale = 1;
     for (size_t t = 0; t < p->rows; ++t) {
@@ -435,7 +447,8 @@ static double certified_dual(const lam_l1_problem *p, normal_matrix *nm,
     }
     double s = 0;
     for (size_t t = 0; t < p->rows; ++t) s += p->target[t] * work_m[t] / scale;
-    return s;
+    *bound = s;
+    return 0;
 }
 
 static double *vec(size_t n)
@@ -445,7 +458,7 @@ static double *vec(size_t n)
 
 int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
                  lam_l1_monitor monitor, void *ctx, double *x,
-                 lam_l1_result *res)
+                 lam_l1_result *res, lam_error *err)
 {
     memset(res, 0, sizeof *res);
     size_t m = p->rows;
@@ -453,8 +466,8 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
     for (int j = 0; j < k; ++j) x[j] = 0;
     for (size_t t = 0; t < m; ++t)
         if (!(p->weight[t] > 0) || !isfinite(p->target[t]))
-            lam_fail(LAM_EX_SOFTWARE, "L1 row %zu: weight %g, target %g", t,
-                     p->weight[t], p->target[t]);
+            return lam_error_set(err, LAM_EX_SOFTWARE, "L1 row %zu: weight %g, target %g", t,
+                                 p->weight[t], p->target[t]);
     if (m == 0 || k == 0) {
         res->primal = res->dual = lam_l1_objective(p, x);
         res->converged = 1;
@@ -478,10 +491,10 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
     /* Start from the weighted least-squares fit: its residuals are a fair
      * guess of which rows stay non-zero at the optimum. */
     for (size_t t = 0; t < m; ++t) s.D[t] = 1 / p->weight[t];
-    normal_factor(&nm, p, p->weight);
+    int rc = normal_factor(&nm, p, p->weight, err);
     for (size_t t = 0; t < m; ++t) s.tmp[t] = p->weight[t] * p->target[t];
     mul_At(p, s.tmp, s.rk);
-    normal_solve(&nm, s.rk);
+    if (!rc) rc = normal_solve(&nm, s.rk, err);
     memcpy(x, s.rk, (size_t)k * sizeof *x);
     mul_A(p, x, s.tmp);
     double mean_abs = 0;
@@ -502,7 +515,7 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
     floor_gap *= 1e-14;
     int status = 1;
     double primal = 0, dual = 0;
-    for (int it = 0; it < opt->max_iter; ++it) {
+    for (int it = 0; !rc && it < opt->max_iter; ++it) {
         mul_A(p, x, s.tmp);
         primal = 0;
         for (size_t t = 0; t < m; ++t) {
@@ -518,10 +531,13 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
         double tol = fmax(opt->rel_gap * fabs(opt->offset + primal), floor_gap);
         /* c.y of the iterate is a bound only up to its dual residual; stop
          * when the certified bound (y made exactly feasible) is close enough */
-        if (primal - dual <= tol &&
-            primal - certified_dual(p, &nm, s.y, s.tmp, s.rk) <= tol) {
-            status = 0;
-            break;
+        if (primal - dual <= tol) {
+            double bound = 0;
+            if ((rc = certified_dual(p, &nm, s.y, s.tmp, s.rk, &bound, err))) break;
+            if (primal - bound <= tol) {
+                status = 0;
+                break;
+            }
         }
         double mu = 0;
         for (size_t t = 0; t < m; ++t) {
@@ -531,7 +547,7 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
             s.tmp[t] = 1 / s.D[t];
         }
         mu /= 2.0 * (double)m;
-        normal_factor(&nm, p, s.tmp);
+        if ((rc = normal_factor(&nm, p, s.tmp, err))) break;
 
         /* predictor */
         for (size_t t = 0; t < m; ++t) {
@@ -539,7 +555,7 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
             rcu[t] = -s.u[t] * su;
             rcv[t] = -s.v[t] * sv;
         }
-        newton_direction(&s, p, &nm, rcu, rcv);
+        if ((rc = newton_direction(&s, p, &nm, rcu, rcv, err))) break;
         double ap, ad;
         max_steps(&s, p, &ap, &ad);
         double mu_aff = 0;
@@ -561,7 +577,7 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
             rcu[t] = sigma * mu - s.u[t] * su + s.dua[t] * s.dya[t];
             rcv[t] = sigma * mu - s.v[t] * sv - s.dva[t] * s.dya[t];
         }
-        newton_direction(&s, p, &nm, rcu, rcv);
+        if ((rc = newton_direction(&s, p, &nm, rcu, rcv, err))) break;
         max_steps(&s, p, &ap, &ad);
         const double eta = 0.9995;
         ap = fmin(1, eta * ap);
@@ -581,15 +597,15 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
         res->iterations = it + 1;
     }
     res->primal = lam_l1_objective(p, x);
-    res->dual = certified_dual(p, &nm, s.y, s.tmp, s.rk);
+    if (!rc) rc = certified_dual(p, &nm, s.y, s.tmp, s.rk, &res->dual, err);
     if (res->dual > res->primal) res->dual = res->primal;
-    res->converged = res->primal - res->dual <=
+    /* converged: certified within the gap in the iteration and again here */
+    res->converged = status == 0 && res->primal - res->dual <=
                      fmax(opt->rel_gap * fabs(opt->offset + res->primal), floor_gap);
-    if (status == 0 && !res->converged) status = 1;
 
     free(s.u), free(s.v), free(s.y), free(s.dx), free(s.du), free(s.dv);
     free(s.dy), free(s.dua), free(s.dva), free(s.dya), free(s.rp), free(s.rd);
     free(s.D), free(s.tmp), free(s.rk), free(rcu), free(rcv);
     normal_free(&nm);
-    return status;
+    return rc;
 }

@@ -21,6 +21,8 @@
 #include <stddef.h>
 #include <stdio.h>
 
+#include "util.h"
+
 typedef struct {
     int params;        /* k */
     size_t rows;       /* m */
@@ -35,9 +37,10 @@ typedef struct {
 
 void lam_l1_init(lam_l1_problem *p, int params);
 void lam_l1_free(lam_l1_problem *p);
-/* Append the row weight * |target - sum_i val[i] x[col[i]]|. */
-void lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
-                    const int *col, const double *val);
+/* Append the row weight * |target - sum_i val[i] x[col[i]]|.  A column
+ * outside the parameters fails (code 70: the caller numbers them). */
+int lam_l1_add_row(lam_l1_problem *p, double weight, double target, int nnz,
+                   const int *col, const double *val, lam_error *err);
 /* Merge rows that are equal bit for bit (target, parameters, coefficients
  * in the same order) by adding their weights; returns the rows left.
  * The objective is unchanged. */
@@ -75,10 +78,12 @@ typedef void (*lam_l1_monitor)(int iteration, double primal, double dual,
                                void *ctx);
 
 /* Solve; x (k entries) receives the parameters.  Parameters that appear in
- * no row are set to 0.  Returns 0 when converged, 1 when max_iter ran out
- * (x and the bounds are still valid, only less tight). */
+ * no row are set to 0.  res->converged is 0 when max_iter ran out (x and
+ * the bounds are still valid, only less tight).  Fails (code 70) on a row
+ * whose weight is not positive or whose target is not finite, or when the
+ * normal equations cannot be factored (non-finite data). */
 int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
                  lam_l1_monitor monitor, void *ctx, double *x,
-                 lam_l1_result *res);
+                 lam_l1_result *res, lam_error *err);
 
 #endif

@@ -182,7 +182,8 @@ static int run_spinfree(lam_plan *p, const lam_spinfree *sf, const lam_ci_ham *h
             lam_eigen_result lo, hi;
             t->label = label;
             t->max_subspace = e->subspace;
-            lam_ci_solve(h, e->na, e->nb, t, o->want_low ? &lo : NULL, o->want_high ? &hi : NULL);
+            if (lam_ci_solve(h, e->na, e->nb, t, o->want_low ? &lo : NULL, o->want_high ? &hi : NULL, err))
+                return err->code;
             take_results(e, &lo, &hi, o);
         }
         if (run_block_done(&rs, e, err)) return err->code;

@@ -166,14 +166,18 @@ double lam_rotate_orthogonality_error(int n, const double *u)
     return err;
 }
 
-void lam_rotate_orthonormalize(int n, double *u)
+int lam_rotate_orthonormalize(int n, double *u, lam_error *err)
 {
     size_t nn = (size_t)n * n;
     double *s = lam_malloc(lam_mul_size(nn, sizeof(double)));
     double *w = lam_malloc(lam_mul_size((size_t)n, sizeof(double)));
-    double *t = lam_malloc(lam_mul_size(nn, sizeof(double)));
     cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, n, n, n, 1.0, u, n, u, n, 0.0, s, n);
-    lam_symmetric_eigen(n, s, w);
+    if (lam_symmetric_eigen(n, s, w, err)) {
+        free(w);
+        free(s);
+        return err->code;
+    }
+    double *t = lam_malloc(lam_mul_size(nn, sizeof(double)));
     /* t = V diag(w^-1/2), then (U^T U)^-1/2 = t V^T */
     for (int i = 0; i < n; ++i)
         for (int j = 0; j < n; ++j) t[i * n + j] = s[i * n + j] / sqrt(w[j]);
@@ -185,9 +189,10 @@ void lam_rotate_orthonormalize(int n, double *u)
     free(t);
     free(w);
     free(s);
+    return 0;
 }
 
-void lam_rotate_expm(int n, const double *k, double *e)
+int lam_rotate_expm(int n, const double *k, double *e, lam_error *err)
 {
     size_t nn = (size_t)n * n;
     double norm = 0;
@@ -223,7 +228,7 @@ void lam_rotate_expm(int n, const double *k, double *e)
     free(a);
     free(term);
     free(next);
-    lam_rotate_orthonormalize(n, e);
+    return lam_rotate_orthonormalize(n, e, err);
 }
 
 /* ---- orbital blocks ---- */
@@ -347,8 +352,8 @@ static double normal_deviate(uint64_t *state)
     return sqrt(-2 * log(u1)) * cos(6.283185307179586 * u2);
 }
 
-void lam_rotate_random(int n, const lam_rotate_blocks *b, double sigma, uint64_t *state,
-                       double *u)
+int lam_rotate_random(int n, const lam_rotate_blocks *b, double sigma, uint64_t *state,
+                      double *u, lam_error *err)
 {
     pair_list pl;
     pairs_from_blocks(n, b, &pl);
@@ -358,9 +363,10 @@ void lam_rotate_random(int n, const lam_rotate_blocks *b, double sigma, uint64_t
         k[(size_t)pl.a[i] * n + pl.b[i]] = v;
         k[(size_t)pl.b[i] * n + pl.a[i]] = -v;
     }
-    lam_rotate_expm(n, k, u);
+    int rc = lam_rotate_expm(n, k, u, err);
     free(k);
     pairs_free(&pl);
+    return rc;
 }
 
 /* ---- objectives ---- */
@@ -389,24 +395,19 @@ double lam_rotate_er_value(const lam_spinfree *h)
     return s;
 }
 
-double lam_rotate_subtract_shift(lam_spinfree *sf)
+int lam_rotate_subtract_shift(lam_spinfree *sf, double *lambda, lam_error *err)
 {
     lam_shift *k = lam_shift_new(sf->n, sf->electrons, sf->ms2, LAM_SHIFT_DEFAULT);
-    lam_l1_problem lp;
     double fixed;
-    lam_shift_build_lp(sf, k, &lp, &fixed);
-    lam_l1_options lo;
-    lam_l1_default_options(&lo);
-    lo.offset = fixed;
     lam_l1_result res;
-    lam_l1_solve(&lp, &lo, NULL, NULL, k->x, &res);
-    lam_shift_subtract(sf, k);
-    lam_l1_free(&lp);
+    int rc = lam_shift_optimize(sf, k, &fixed, &res, err);
+    if (!rc) rc = lam_shift_subtract(sf, k, err);
     lam_shift_free(k);
-    return lam_spinfree_lambda(sf);
+    if (!rc) *lambda = lam_spinfree_lambda(sf);
+    return rc;
 }
 
-double lam_rotate_grouped_lambda(const lam_spinfree *sf)
+int lam_rotate_grouped_lambda(const lam_spinfree *sf, double *lambda, lam_error *err)
 {
     lam_majorana_set m;
     /* Hermitian by construction: the closed form writes every monomial
@@ -421,27 +422,30 @@ double lam_rotate_grouped_lambda(const lam_spinfree *sf)
     lam_group_options_default(&go);
     lam_group_stats st;
     lam_pauli_set_init(&out, m.nmodes);
-    lam_group_build(&in, &go, &out, &st);
+    int rc = lam_group_build(&in, &go, &out, &st, err);
     lam_pauli_set_free(&in);
     lam_pauli_set_free(&out);
     lam_encoding_free(enc);
     lam_majorana_free(&m);
-    return st.lambda_grouped;
+    if (!rc) *lambda = st.lambda_grouped;
+    return rc;
 }
 
 /* The objective of sf (the ER sum positive); the shifted and grouped ones
  * subtract the shift from sf itself. */
-static double objective_in_place(lam_spinfree *sf, lam_rotate_objective obj)
+static int objective_in_place(lam_spinfree *sf, lam_rotate_objective obj, double *v, lam_error *err)
 {
+    double shifted;
+    *v = NAN;
     switch (obj) {
-    case LAM_ROTATE_ER: return lam_rotate_er_value(sf);
-    case LAM_ROTATE_PAULI: return lam_spinfree_lambda(sf);
-    case LAM_ROTATE_SHIFTED: return lam_rotate_subtract_shift(sf);
+    case LAM_ROTATE_ER: *v = lam_rotate_er_value(sf); break;
+    case LAM_ROTATE_PAULI: *v = lam_spinfree_lambda(sf); break;
+    case LAM_ROTATE_SHIFTED: return lam_rotate_subtract_shift(sf, v, err);
     case LAM_ROTATE_GROUPED:
-        lam_rotate_subtract_shift(sf);
-        return lam_rotate_grouped_lambda(sf);
+        if (lam_rotate_subtract_shift(sf, &shifted, err)) return err->code;
+        return lam_rotate_grouped_lambda(sf, v, err);
     }
-    return NAN;
+    return 0;
 }
 
 /* Score (lower is better: the ER sum enters negated) of h rotated by u;
@@ -449,22 +453,24 @@ static double objective_in_place(lam_spinfree *sf, lam_rotate_objective obj)
  * keep.  The value is that of exactly the operator in tmp: the grouped
  * lambda changes with the last bit of the coefficients (ties in the greedy
  * order; the optimal shift parameters are not unique). */
-static double score_at(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
-                       lam_spinfree *tmp, double *work, int keep)
+static int score_at(const lam_spinfree *h, const double *u, lam_rotate_objective obj,
+                    lam_spinfree *tmp, double *work, int keep, double *score, lam_error *err)
 {
     lam_rotate_apply(h, u, tmp, work);
-    double v = keep ? lam_rotate_objective_value(tmp, obj) : objective_in_place(tmp, obj);
-    return obj == LAM_ROTATE_ER ? -v : v;
+    double v;
+    int rc = keep ? lam_rotate_objective_value(tmp, obj, &v, err) : objective_in_place(tmp, obj, &v, err);
+    if (!rc) *score = obj == LAM_ROTATE_ER ? -v : v;
+    return rc;
 }
 
-double lam_rotate_objective_value(const lam_spinfree *h, lam_rotate_objective obj)
+int lam_rotate_objective_value(const lam_spinfree *h, lam_rotate_objective obj, double *v, lam_error *err)
 {
     if (obj == LAM_ROTATE_ER || obj == LAM_ROTATE_PAULI)
-        return objective_in_place((lam_spinfree *)h, obj); /* does not write */
+        return objective_in_place((lam_spinfree *)h, obj, v, err); /* does not write */
     lam_spinfree *tmp = lam_spinfree_clone(h);
-    double v = objective_in_place(tmp, obj);
+    int rc = objective_in_place(tmp, obj, v, err);
     lam_spinfree_free(tmp);
-    return v;
+    return rc;
 }
 
 /* ---- L-BFGS over rotations ---- */
@@ -516,8 +522,8 @@ static double dot(int m, const double *x, const double *y)
 }
 
 /* u <- u exp(K(step)) */
-static void take_step(int n, const pair_list *pl, const double *step, const double *u,
-                      double *out)
+static int take_step(int n, const pair_list *pl, const double *step, const double *u,
+                     double *out, lam_error *err)
 {
     size_t nn = (size_t)n * n;
     double *k = lam_calloc(nn, sizeof(double));
@@ -526,19 +532,24 @@ static void take_step(int n, const pair_list *pl, const double *step, const doub
         k[(size_t)pl->a[i] * n + pl->b[i]] = step[i];
         k[(size_t)pl->b[i] * n + pl->a[i]] = -step[i];
     }
-    lam_rotate_expm(n, k, e);
-    cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, n, n, 1.0, u, n, e, n, 0.0, out,
-                n);
+    int rc = lam_rotate_expm(n, k, e, err);
+    if (!rc)
+        cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, n, n, 1.0, u, n, e, n, 0.0, out,
+                    n);
     free(k);
     free(e);
+    return rc;
 }
 
-/* Minimize from u (updated in place); returns the final f. */
-static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ftol, int mem,
-                    const char *label, int *iterations)
+/* Minimize from u (updated in place). */
+static int lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ftol, int mem,
+                 const char *label, int *iterations, lam_error *err)
 {
-    int n = c->base->n, m = c->pairs->count;
-    if (m == 0) return evaluate(c, u, NULL);
+    int n = c->base->n, m = c->pairs->count, rc = 0;
+    if (m == 0) {
+        (void)evaluate(c, u, NULL); /* counted like every evaluation */
+        return 0;
+    }
     size_t nn = (size_t)n * n;
     double *g = lam_malloc(lam_mul_size((size_t)m, sizeof(double)));
     double *gt = lam_malloc(lam_mul_size((size_t)m, sizeof(double)));
@@ -598,7 +609,7 @@ static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ft
         int accepted = 0;
         for (int ls = 0; ls < 30; ++ls) {
             for (int i = 0; i < m; ++i) gt[i] = step * d[i];
-            take_step(n, c->pairs, gt, u, ut);
+            if ((rc = take_step(n, c->pairs, gt, u, ut, err))) break;
             ft = evaluate(c, ut, gt);
             if (ft <= f + 1e-4 * step * slope) {
                 accepted = 1;
@@ -607,7 +618,7 @@ static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ft
             step *= 0.5;
         }
         if (iterations) ++*iterations;
-        if (!accepted) break;
+        if (rc || !accepted) break;
         double *s = S + (size_t)head * m, *y = Y + (size_t)head * m;
         for (int i = 0; i < m; ++i) {
             s[i] = step * d[i];
@@ -629,7 +640,7 @@ static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ft
         window[it % 10] = f;
         if (old - f < ftol * fabs(f)) break;
     }
-    lam_rotate_orthonormalize(n, u);
+    if (!rc) rc = lam_rotate_orthonormalize(n, u, err);
     free(g);
     free(gt);
     free(d);
@@ -638,7 +649,7 @@ static double lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ft
     free(rho);
     free(alpha);
     free(ut);
-    return f;
+    return rc;
 }
 
 void lam_rotate_default_options(lam_rotate_options *opt)
@@ -667,8 +678,10 @@ typedef struct {
 
 /* The smoothed stages and the polish of the plain one-norm of base, from
  * the identity; v receives the rotation (in base's frame). */
-static void minimize_pauli(run_ctx *rc, const lam_spinfree *base, double *v, const char *label)
+static int minimize_pauli(run_ctx *rc, const lam_spinfree *base, double *v, const char *label,
+                          lam_error *err)
 {
+    int status = 0;
     int n = base->n;
     eval_ctx c = {base, rc->cur, rc->work, rc->gh, rc->gfull, 0, 0, &rc->pairs, 0};
     for (int i = 0; i < n * n; ++i) v[i] = (i % (n + 1)) == 0;
@@ -677,11 +690,13 @@ static void minimize_pauli(run_ctx *rc, const lam_spinfree *base, double *v, con
     for (int st = 0; st <= rc->opt->stages; ++st) {
         c.mu = st < rc->opt->stages ? mu : 0;
         snprintf(name, sizeof name, "%s mu %.0e", label, c.mu);
-        lbfgs(&c, v, rc->opt->max_iter, rc->opt->gtol, rc->opt->ftol, rc->opt->memory, name,
-              &rc->res->iterations);
+        if ((status = lbfgs(&c, v, rc->opt->max_iter, rc->opt->gtol, rc->opt->ftol, rc->opt->memory, name,
+                            &rc->res->iterations, err)))
+            break;
         mu /= 10;
     }
     rc->res->evaluations += c.evaluations;
+    return status;
 }
 
 static void multiply(int n, const double *a, const double *b, double *out)
@@ -771,9 +786,10 @@ static int best_er_pair_rotation(const lam_spinfree *sf, const pair_list *pl, do
     return 1;
 }
 
-/* One start: u in, the best rotation of this run out; returns its score. */
-static double run_from(run_ctx *rc, double *u, int start, track *tr)
+/* One start: u in, the best rotation of this run out, its score in *score. */
+static int run_from(run_ctx *rc, double *u, int start, track *tr, double *score_out, lam_error *err)
 {
+    int status = 0;
     const lam_spinfree *h = rc->h;
     int n = h->n;
     size_t nn = (size_t)n * n;
@@ -781,7 +797,7 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
     double *v = lam_malloc(lam_mul_size(nn, sizeof(double)));
     double *t = lam_malloc(lam_mul_size(nn, sizeof(double)));
     char label[64];
-    double best;
+    double best = INFINITY;
     if (obj == LAM_ROTATE_ER) {
         eval_ctx c = {h, rc->cur, rc->work, rc->gh, rc->gfull, 0, 1, &rc->pairs, 0};
         /* L-BFGS stops where the gradient vanishes, which canonical orbitals
@@ -789,22 +805,25 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
          * pair rotation, exact in its angle, leaves such points */
         for (int round = 0; round < 10 * n + 10; ++round) {
             snprintf(label, sizeof label, "start %d er round %d", start, round);
-            lbfgs(&c, u, rc->opt->max_iter * (rc->opt->stages + 1), rc->opt->gtol, rc->opt->ftol,
-                  rc->opt->memory, label, &rc->res->iterations);
+            if ((status = lbfgs(&c, u, rc->opt->max_iter * (rc->opt->stages + 1), rc->opt->gtol,
+                                rc->opt->ftol, rc->opt->memory, label, &rc->res->iterations, err)))
+                break;
             lam_rotate_apply(h, u, rc->cur, rc->work);
             if (!best_er_pair_rotation(rc->cur, &rc->pairs, u)) break;
         }
         rc->res->evaluations += c.evaluations;
-        best = score_at(h, u, obj, rc->tmp, rc->work, 0);
+        if (!status) status = score_at(h, u, obj, rc->tmp, rc->work, 0, &best, err);
     } else if (obj == LAM_ROTATE_PAULI) {
         lam_rotate_apply(h, u, rc->tmp, rc->work);
         snprintf(label, sizeof label, "start %d", start);
-        minimize_pauli(rc, rc->tmp, v, label);
-        multiply(n, u, v, t);
-        lam_rotate_orthonormalize(n, t);
+        if ((status = minimize_pauli(rc, rc->tmp, v, label, err)) == 0) {
+            multiply(n, u, v, t);
+            status = lam_rotate_orthonormalize(n, t, err);
+        }
         double before = lam_spinfree_lambda(rc->tmp);
-        best = score_at(h, t, obj, rc->tmp, rc->work, 0);
-        if (best < before) memcpy(u, t, nn * sizeof(double));
+        if (!status) status = score_at(h, t, obj, rc->tmp, rc->work, 0, &best, err);
+        if (status) best = before;
+        else if (best < before) memcpy(u, t, nn * sizeof(double));
         else best = before;
     } else {
         /* Alternate: the optimal shift K at U, then the rotation V that
@@ -816,10 +835,11 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
         double prev_s = INFINITY;
         for (int outer = 0; outer <= rc->opt->outer; ++outer) {
             lam_rotate_apply(h, u, rc->tmp, rc->work);
-            double ls = lam_rotate_subtract_shift(rc->tmp);
+            double ls;
+            if ((status = lam_rotate_subtract_shift(rc->tmp, &ls, err))) break;
             double score = ls;
             if (obj == LAM_ROTATE_GROUPED) {
-                score = lam_rotate_grouped_lambda(rc->tmp);
+                if ((status = lam_rotate_grouped_lambda(rc->tmp, &score, err))) break;
                 if (tr->count == tr->cap) {
                     tr->cap = tr->cap ? 2 * tr->cap : 16;
                     tr->lam_s = lam_realloc(tr->lam_s, (size_t)tr->cap * sizeof(double));
@@ -841,9 +861,9 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
                 break;
             prev_s = ls;
             snprintf(label, sizeof label, "start %d round %d", start, outer);
-            minimize_pauli(rc, rc->tmp, v, label);
+            if ((status = minimize_pauli(rc, rc->tmp, v, label, err))) break;
             multiply(n, u, v, t);
-            lam_rotate_orthonormalize(n, t);
+            if ((status = lam_rotate_orthonormalize(n, t, err))) break;
             memcpy(u, t, nn * sizeof(double));
         }
         memcpy(u, ubest, nn * sizeof(double));
@@ -851,12 +871,14 @@ static double run_from(run_ctx *rc, double *u, int start, track *tr)
     }
     free(v);
     free(t);
-    return best;
+    *score_out = best;
+    return status;
 }
 
-void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
-                         double *u, lam_spinfree *out, lam_rotate_result *res)
+int lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
+                        double *u, lam_spinfree *out, lam_rotate_result *res, lam_error *err)
 {
+    int status = 0;
     int n = h->n;
     size_t nn = (size_t)n * n;
     memset(res, 0, sizeof *res);
@@ -874,18 +896,20 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
     double *rnd = lam_malloc(lam_mul_size(nn, sizeof(double)));
     track tr = {NULL, NULL, 0, 0};
 
-    double start_score = score_at(h, u0, opt->objective, out, rc.work, 1);
+    double start_score = 0;
+    status = score_at(h, u0, opt->objective, out, rc.work, 1, &start_score, err);
     res->lambda_before = lam_spinfree_lambda(out);
     memcpy(u, u0, nn * sizeof(double));
     double best = start_score;
     uint64_t state = opt->seed;
-    for (int s = 0; s <= opt->starts; ++s) {
+    for (int s = 0; !status && s <= opt->starts; ++s) {
         memcpy(trial, u0, nn * sizeof(double));
         if (s > 0) {
-            lam_rotate_random(n, opt->blocks, 0.5, &state, rnd);
+            if ((status = lam_rotate_random(n, opt->blocks, 0.5, &state, rnd, err))) break;
             multiply(n, u0, rnd, trial);
         }
-        double score = run_from(&rc, trial, s, &tr);
+        double score;
+        if ((status = run_from(&rc, trial, s, &tr, &score, err))) break;
         lam_progress("start %d: %s objective %.12g (best %.12g)", s,
                      lam_rotate_objective_name(opt->objective),
                      opt->objective == LAM_ROTATE_ER ? -score : score,
@@ -896,12 +920,13 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
             res->best_start = s;
         }
     }
-    double after = score_at(h, u, opt->objective, out, rc.work, 1);
+    double after = start_score;
+    if (!status) status = score_at(h, u, opt->objective, out, rc.work, 1, &after, err);
     res->kept_start = 0;
-    if (!(after < start_score)) {
+    if (!status && !(after < start_score)) {
         /* never worse than the start: keep it */
         memcpy(u, u0, nn * sizeof(double));
-        after = score_at(h, u, opt->objective, out, rc.work, 1);
+        status = score_at(h, u, opt->objective, out, rc.work, 1, &after, err);
         res->kept_start = 1;
         res->best_start = 0;
     }
@@ -921,6 +946,7 @@ void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rota
     lam_spinfree_free(rc.cur);
     lam_spinfree_free(rc.tmp);
     pairs_free(&rc.pairs);
+    return status;
 }
 
 /* ---- the matrix file ---- */
@@ -978,11 +1004,11 @@ int lam_rotate_read_matrix(const char *path, int n, double **out, lam_error *err
             rc = lam_error_at(err, LAM_EX_DATA, path, lineno, "not orthogonal: max |U^T U - I| = %.3g, above %.0e",
                               ortho, LAM_ROTATE_ORTHO_TOL);
     }
+    if (!rc) rc = lam_rotate_orthonormalize(n, u, err);
     if (rc) {
         free(u);
         return rc;
     }
-    lam_rotate_orthonormalize(n, u);
     *out = u;
     return 0;
 }

@@ -49,9 +49,10 @@ void lam_rotate_gradient(const lam_spinfree *sf, const double *gh, const double 
 
 /* exp(K) of an antisymmetric n x n K (scaling and squaring of the Taylor
  * series), re-orthonormalized to rounding. */
-void lam_rotate_expm(int n, const double *k, double *e);
-/* U <- U (U^T U)^(-1/2): the nearest orthogonal matrix (Lowdin). */
-void lam_rotate_orthonormalize(int n, double *u);
+int lam_rotate_expm(int n, const double *k, double *e, lam_error *err);
+/* U <- U (U^T U)^(-1/2): the nearest orthogonal matrix (Lowdin).  Fails
+ * (code 70) only when LAPACK does, on a non-finite U. */
+int lam_rotate_orthonormalize(int n, double *u, lam_error *err);
 /* max |U^T U - I| */
 double lam_rotate_orthogonality_error(int n, const double *u);
 
@@ -116,20 +117,21 @@ typedef struct {
  * return u holds the best U found and out (n orbitals) h in those
  * orbitals, never worse than u0 for the objective as evaluated on out
  * itself).  h is the operator in the original orbitals. */
-void lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
-                         double *u, lam_spinfree *out, lam_rotate_result *res);
+int lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotate_options *opt,
+                        double *u, lam_spinfree *out, lam_rotate_result *res, lam_error *err);
 
 /* Objective value of the operator (already rotated; the ER sum positive). */
-double lam_rotate_objective_value(const lam_spinfree *h, lam_rotate_objective obj);
+int lam_rotate_objective_value(const lam_spinfree *h, lam_rotate_objective obj, double *value, lam_error *err);
 /* Sum_i (ii|ii). */
 double lam_rotate_er_value(const lam_spinfree *h);
 
 /* The optimal symmetry shift of sf (a1, a2, xi; lam-shift's LP) subtracted
- * in place; returns lambda(sf - K). */
-double lam_rotate_subtract_shift(lam_spinfree *sf);
+ * in place; *lambda receives lambda(sf - K).  Fails (code 70) only when
+ * the LP does, on non-finite integrals. */
+int lam_rotate_subtract_shift(lam_spinfree *sf, double *lambda, lam_error *err);
 /* lambda_grouped of sf after the shift (Jordan-Wigner, lam-group's
- * default options). */
-double lam_rotate_grouped_lambda(const lam_spinfree *sf);
+ * default options) into *lambda. */
+int lam_rotate_grouped_lambda(const lam_spinfree *sf, double *lambda, lam_error *err);
 
 /* Read an n x n rotation into *out (one row a line, blank lines and '#'
  * comments skipped); fails with exit 65 and path:line on a bad number, a wrong row length or
@@ -146,7 +148,7 @@ int lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u, l
 
 /* Random orthogonal exp(K), K antisymmetric within the blocks with normal
  * entries of standard deviation sigma (radians), from a seed. */
-void lam_rotate_random(int n, const lam_rotate_blocks *b, double sigma, uint64_t *state,
-                       double *u);
+int lam_rotate_random(int n, const lam_rotate_blocks *b, double sigma, uint64_t *state,
+                      double *u, lam_error *err);
 
 #endif

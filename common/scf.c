@@ -63,13 +63,17 @@ static void mat_nn(int m, int n, int k, const double *a, const double *b, double
 }
 
 /* Canonical orthogonalization X = U s^-1/2 over the eigenvalues of S
- * above s_tol; returns the number of columns kept. */
-static int orthogonalizer(int n, const double *s, double s_tol, double *x)
+ * above s_tol; *kept receives the number of columns kept. */
+static int orthogonalizer(int n, const double *s, double s_tol, double *x, int *kept, lam_error *err)
 {
     double *u = lam_malloc(lam_mul_size((size_t)n * n, sizeof *u));
     double *w = lam_malloc((size_t)n * sizeof *w);
     memcpy(u, s, (size_t)n * n * sizeof *u);
-    lam_symmetric_eigen(n, u, w);
+    if (lam_symmetric_eigen(n, u, w, err)) {
+        free(u);
+        free(w);
+        return err->code;
+    }
     int first = 0;
     while (first < n && w[first] < s_tol) ++first;
     int m = n - first;
@@ -81,7 +85,8 @@ static int orthogonalizer(int n, const double *s, double s_tol, double *x)
                  "%.3g < %.3g); %d orbitals kept", first, w[0], s_tol, m);
     free(u);
     free(w);
-    return m;
+    *kept = m;
+    return 0;
 }
 
 /* PK supermatrix from the packed integrals; with it G(D)_ij =
@@ -141,14 +146,15 @@ static double trace_product(size_t nn, const double *a, const double *b)
 }
 
 /* Diagonalize f in the orthonormal basis x: c = x c', eps ascending. */
-static void roothaan_step(int n, int m, const double *x, const double *f,
-                          double *c, double *eps, double *work)
+static int roothaan_step(int n, int m, const double *x, const double *f,
+                         double *c, double *eps, double *work, lam_error *err)
 {
     double *fx = work, *fo = work + (size_t)n * m;
     mat_nn(n, m, n, f, x, fx);
     mat_tn(m, m, n, x, fx, fo);
-    lam_symmetric_eigen(m, fo, eps);
+    if (lam_symmetric_eigen(m, fo, eps, err)) return err->code;
     mat_nn(n, m, m, x, fo, c);
+    return 0;
 }
 
 /* Orbital gradient X^T (F D S - S D F) X; returns its largest element. */
@@ -313,6 +319,7 @@ static void occupied_density(scf_state *w)
 typedef struct {
     double energy, change, gradient;
     int iterations, converged;
+    int rc; /* non-zero: failed, the reason in the lam_error given */
 } scf_outcome;
 
 /* Canonical orbitals of the determinant in w->c (occupied: the first
@@ -321,8 +328,9 @@ typedef struct {
  * diagonalization of the whole Fock matrix, except that a degeneracy
  * across the Fermi level cannot swap an occupied orbital for a virtual one
  * (H2 at 20 angstrom: sigma_g and sigma_u have the same energy). */
-static void canonicalize(scf_state *w, int nocc)
+static int canonicalize(scf_state *w, int nocc, lam_error *err)
 {
+    int rc = 0;
     int n = w->n, m = w->m;
     double *fc = w->work; /* n x m */
     double *blk = lam_malloc(lam_mul_size((size_t)m, (size_t)m) * sizeof *blk);
@@ -334,13 +342,14 @@ static void canonicalize(scf_state *w, int nocc)
         if (k == 0) continue;
         cblas_dgemm(CblasRowMajor, CblasTrans, CblasNoTrans, k, k, n, 1.0, w->c + f0, m,
                     fc + f0, m, 0.0, blk, k);
-        lam_symmetric_eigen(k, blk, w->eps + f0);
+        if ((rc = lam_symmetric_eigen(k, blk, w->eps + f0, err))) break;
         cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, k, k, 1.0, w->c + f0, m,
                     blk, k, 0.0, cnew + f0, m);
     }
-    memcpy(w->c, cnew, (size_t)n * m * sizeof *cnew);
+    if (!rc) memcpy(w->c, cnew, (size_t)n * m * sizeof *cnew);
     free(blk);
     free(cnew);
+    return rc;
 }
 
 /* Where the iterations start: the core Hamiltonian, the Fock matrix of a
@@ -352,18 +361,19 @@ typedef enum { FROM_CORE, FROM_DENSITY, FROM_ORBITALS } scf_start;
  * canonical within the occupied and the virtual orbitals). */
 static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double electrons,
                                int fractional, scf_start from, const double *d_guess,
-                               int report)
+                               int report, lam_error *err)
 {
     int n = w->n, m = w->m;
-    scf_outcome out = {0.0, 0.0, 0.0, 0, 0};
-    diis_store diis;
-    diis_init(&diis, o->diis_depth > 8 ? 8 : o->diis_depth, w->nn, (size_t)m * m);
+    scf_outcome out = {0.0, 0.0, 0.0, 0, 0, 0};
     if (from == FROM_DENSITY) {
         fock_build(n, w->pk, w->h, d_guess, w->f, w->pd, w->pg);
-        roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+        out.rc = roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work, err);
     } else if (from == FROM_CORE) {
-        roothaan_step(n, m, w->x, w->h, w->c, w->eps, w->work);
+        out.rc = roothaan_step(n, m, w->x, w->h, w->c, w->eps, w->work, err);
     }
+    if (out.rc) return out;
+    diis_store diis;
+    diis_init(&diis, o->diis_depth > 8 ? 8 : o->diis_depth, w->nn, (size_t)m * m);
     if (report)
         fprintf(stderr, "%s: iter  energy/Eh                 change/Eh   gradient\n", lam_program());
     int it;
@@ -389,15 +399,15 @@ static scf_outcome scf_iterate(scf_state *w, const lam_scf_options *o, double el
         }
         diis_push(&diis, w->f, w->err);
         if (diis.count >= 2) diis_extrapolate(&diis, w->f);
-        roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+        if ((out.rc = roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work, err))) break;
     }
     out.iterations = it;
     /* canonical orbitals of the converged (not extrapolated) Fock matrix */
     if (out.converged) {
         if (fractional)
-            roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work);
+            out.rc = roothaan_step(n, m, w->x, w->f, w->c, w->eps, w->work, err);
         else
-            canonicalize(w, (int)(electrons / 2));
+            out.rc = canonicalize(w, (int)(electrons / 2), err);
     }
     diis_free(&diis);
     return out;
@@ -548,7 +558,8 @@ static void hessian_apply(void *ctx, const double *xin, double *y)
  * from one excitation and, with a diagonal preconditioner, would never
  * leave its symmetry species; the reflection mixes every species into the
  * start (the dense path, for small problems, needs none). */
-static void hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_result *res)
+static int hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_result *res,
+                          lam_error *err)
 {
     int n = w->n, nv = w->m - nocc;
     size_t dim = (size_t)nocc * nv, nn = (size_t)n * n, n2 = (size_t)n * (n + 1) / 2;
@@ -563,11 +574,7 @@ static void hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_
     for (int a = 0; a < nv; ++a)
         for (int i = 0; i < nocc; ++i) diag[(size_t)a * nocc + i] = w->eps[nocc + a] - w->eps[i];
     lam_eigen_problem p;
-    lam_eigen_defaults(&p);
-    p.dim = dim;
-    p.apply = hessian_apply;
-    p.ctx = &h;
-    p.diag = diag;
+    lam_eigen_problem_init(&p, dim, hessian_apply, &h, diag);
     p.tol = 1e-7;
     p.max_iter = 300;
     p.max_subspace = 16;
@@ -580,8 +587,8 @@ static void hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_
         cblas_dscal((int)dim, 1.0 / cblas_dnrm2((int)dim, u, 1), u, 1);
         h.u = u;
     }
-    lam_eigen_extreme(&p, res, vec);
-    if (u) reflect(dim, u, vec, vec);
+    int rc = lam_eigen_extreme(&p, res, vec, err);
+    if (u && !rc) reflect(dim, u, vec, vec);
     free(u);
     free(diag);
     free(h.x);
@@ -590,16 +597,20 @@ static void hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_
     free(h.g);
     free(h.pd);
     free(h.pg);
+    return rc;
 }
 
 /* b (n x k, leading dimension ld) <- b m^(-1/2) for a symmetric positive
  * definite k x k matrix m (destroyed). */
-static void times_inverse_sqrt(int n, int k, int ld, double *b, double *m)
+static int times_inverse_sqrt(int n, int k, int ld, double *b, double *m, lam_error *err)
 {
     double *mu = lam_malloc((size_t)k * sizeof *mu);
+    if (lam_symmetric_eigen(k, m, mu, err)) {
+        free(mu);
+        return err->code;
+    }
     double *r = lam_malloc(lam_mul_size((size_t)k, (size_t)k) * sizeof *r);
     double *t = lam_malloc(lam_mul_size((size_t)n, (size_t)k) * sizeof *t);
-    lam_symmetric_eigen(k, m, mu);
     for (int i = 0; i < k; ++i)
         for (int j = 0; j < k; ++j) {
             double v = 0.0;
@@ -611,6 +622,7 @@ static void times_inverse_sqrt(int n, int k, int ld, double *b, double *m)
     free(mu);
     free(r);
     free(t);
+    return 0;
 }
 
 /* Orbitals c (n x m, the first nocc occupied) turned by the rotation
@@ -618,8 +630,8 @@ static void times_inverse_sqrt(int n, int k, int ld, double *b, double *m)
  *     C_o' = (C_o + t C_v X) (1 + t^2 X^T X)^(-1/2),
  *     C_v' = (C_v - t C_o X^T) (1 + t^2 X X^T)^(-1/2),
  * orthonormal, and C_o' orthogonal to C_v'. */
-static void rotate_orbitals(int n, int m, int nocc, const double *c, const double *x, double t,
-                            double *out)
+static int rotate_orbitals(int n, int m, int nocc, const double *c, const double *x, double t,
+                           double *out, lam_error *err)
 {
     int nv = m - nocc;
     memcpy(out, c, (size_t)n * m * sizeof *out);
@@ -635,10 +647,11 @@ static void rotate_orbitals(int n, int m, int nocc, const double *c, const doubl
                 0.0, mv, nv);
     for (int i = 0; i < nocc; ++i) mo[(size_t)i * nocc + i] += 1.0;
     for (int a = 0; a < nv; ++a) mv[(size_t)a * nv + a] += 1.0;
-    times_inverse_sqrt(n, nocc, m, out, mo);
-    times_inverse_sqrt(n, nv, m, out + nocc, mv);
+    int rc = times_inverse_sqrt(n, nocc, m, out, mo, err);
+    if (!rc) rc = times_inverse_sqrt(n, nv, m, out + nocc, mv, err);
     free(mo);
     free(mv);
+    return rc;
 }
 
 #define FOLLOW_STEPS 20
@@ -647,25 +660,25 @@ static void rotate_orbitals(int n, int m, int nocc, const double *c, const doubl
  * Hessian eigenvalue: the lowest determinant of a scan of the rotation
  * angle over (0, pi/2), then iterations from its orbitals. */
 static scf_outcome follow_instability(scf_state *w, const lam_scf_options *o, int nelec,
-                                      const double *x, double e_unstable)
+                                      const double *x, double e_unstable, lam_error *err)
 {
+    scf_outcome r = {e_unstable, 0.0, 0.0, 0, 0, 0};
     int n = w->n, m = w->m, nocc = nelec / 2;
     size_t nm = (size_t)n * m;
     double *c0 = lam_malloc(nm * sizeof *c0), *best = lam_malloc(nm * sizeof *best);
     memcpy(c0, w->c, nm * sizeof *c0);
     double e_best = e_unstable, quarter = 0.5 * acos(-1.0);
     for (int k = 1; k < FOLLOW_STEPS; ++k) {
-        rotate_orbitals(n, m, nocc, c0, x, tan(quarter * k / FOLLOW_STEPS), w->c);
+        if ((r.rc = rotate_orbitals(n, m, nocc, c0, x, tan(quarter * k / FOLLOW_STEPS), w->c, err))) break;
         double e = determinant_energy(w, nelec);
         if (e < e_best) {
             e_best = e;
             memcpy(best, w->c, nm * sizeof *best);
         }
     }
-    scf_outcome r = {e_unstable, 0.0, 0.0, 0, 0};
-    if (e_best < e_unstable) {
+    if (!r.rc && e_best < e_unstable) {
         memcpy(w->c, best, nm * sizeof *best);
-        r = scf_iterate(w, o, nelec, 0, FROM_ORBITALS, NULL, o->report);
+        r = scf_iterate(w, o, nelec, 0, FROM_ORBITALS, NULL, o->report, err);
     }
     free(c0);
     free(best);
@@ -674,10 +687,10 @@ static scf_outcome follow_instability(scf_state *w, const lam_scf_options *o, in
 
 /* The stability test on the converged solution in w, and with
  * LAM_STABILITY_FOLLOW the way down from each instability found.  Returns
- * 0, or -1 with the reason in why (the caller frees and fails: what it
- * holds must not count as leaked). */
+ * 0, -1 with the reason in why (unstable), or the code of a failure in
+ * *err. */
 static int ensure_stable(scf_state *w, const lam_scf_options *o, int nelec, scf_outcome *r,
-                         lam_scf *s, char *why, size_t why_size)
+                         lam_scf *s, char *why, size_t why_size, lam_error *err)
 {
     int nocc = nelec / 2, status = 0;
     size_t dim = (size_t)nocc * (w->m - nocc);
@@ -686,7 +699,7 @@ static int ensure_stable(scf_state *w, const lam_scf_options *o, int nelec, scf_
     double *vec = lam_malloc(dim * sizeof *vec);
     for (;;) {
         lam_eigen_result hr;
-        hessian_lowest(w, nocc, vec, &hr);
+        if ((status = hessian_lowest(w, nocc, vec, &hr, err))) break;
         s->hessian_lowest = hr.value;
         s->hessian_residual = hr.residual;
         if (o->report)
@@ -714,7 +727,11 @@ static int ensure_stable(scf_state *w, const lam_scf_options *o, int nelec, scf_
             break;
         }
         double e_unstable = r->energy;
-        scf_outcome next = follow_instability(w, o, nelec, vec, e_unstable);
+        scf_outcome next = follow_instability(w, o, nelec, vec, e_unstable, err);
+        if (next.rc) {
+            status = next.rc;
+            break;
+        }
         if (!next.converged || next.energy > e_unstable) {
             snprintf(why, why_size, "the RHF solution (%.12f Eh) is unstable (orbital Hessian "
                      "eigenvalue %.6e Eh), and no lower solution was reached along it (%s)",
@@ -769,7 +786,7 @@ static void atom_functions(const lam_basis *b, int atom, int *first, int *count)
 /* Density of the neutral atom `atom` alone in its own functions, from a
  * spherically averaged (fractionally occupied) Hartree-Fock calculation. */
 static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int atom,
-                              const lam_scf_options *o)
+                              const lam_scf_options *o, lam_error *err)
 {
     lam_basis ab = {0, 0, 0, NULL};
     ab.shell = lam_malloc(lam_mul_size((size_t)b->nshell, sizeof *ab.shell));
@@ -790,18 +807,22 @@ static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int a
     double *eri = lam_int_eri(&ab, o->schwarz, NULL);
     double *pk = pk_supermatrix(n, eri);
     free(eri);
-    int m = orthogonalizer(n, ovl, o->s_tol, x);
-    scf_state w;
-    scf_state_init(&w, n, m, h, pk, ovl, x, 0.0);
-    lam_scf_options ao = *o;
-    ao.energy_tol = 1e-8;
-    ao.gradient_tol = 1e-5;
-    ao.max_iter = 60;
-    /* not converging only makes the guess a little worse */
-    scf_iterate(&w, &ao, mol->z[atom], 1, FROM_CORE, NULL, 0);
-    double *d = w.d;
-    w.d = NULL;
-    scf_state_free(&w);
+    int m = 0;
+    double *d = NULL;
+    if (orthogonalizer(n, ovl, o->s_tol, x, &m, err) == 0) {
+        scf_state w;
+        scf_state_init(&w, n, m, h, pk, ovl, x, 0.0);
+        lam_scf_options ao = *o;
+        ao.energy_tol = 1e-8;
+        ao.gradient_tol = 1e-5;
+        ao.max_iter = 60;
+        /* not converging only makes the guess a little worse */
+        if (scf_iterate(&w, &ao, mol->z[atom], 1, FROM_CORE, NULL, 0, err).rc == 0) {
+            d = w.d;
+            w.d = NULL;
+        }
+        scf_state_free(&w);
+    }
     free(ovl);
     free(h);
     free(x);
@@ -810,9 +831,10 @@ static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int a
     return d;
 }
 
-/* Superposition of atomic densities (one atomic calculation per element). */
+/* Superposition of atomic densities (one atomic calculation per element);
+ * NULL with the reason in *err on failure. */
 static double *atomic_densities(const lam_basis *b, const lam_molecule *mol,
-                                const lam_scf_options *o)
+                                const lam_scf_options *o, lam_error *err)
 {
     int n = b->nbf;
     double *d = lam_calloc((size_t)n * n, sizeof *d);
@@ -820,7 +842,11 @@ static double *atomic_densities(const lam_basis *b, const lam_molecule *mol,
     for (int a = 0; a < mol->natom; ++a) {
         int z = mol->z[a], first, count;
         atom_functions(b, a, &first, &count);
-        if (!by_element[z]) by_element[z] = atomic_density(b, mol, a, o);
+        if (!by_element[z] && !(by_element[z] = atomic_density(b, mol, a, o, err))) {
+            free(d);
+            d = NULL;
+            break;
+        }
         for (int i = 0; i < count; ++i)
             memcpy(d + (size_t)(first + i) * n + first, by_element[z] + (size_t)i * count,
                    (size_t)count * sizeof *d);
@@ -856,7 +882,14 @@ int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_optio
                 s->seconds_integrals);
 
     double *x = lam_malloc(nn * sizeof *x);
-    int m = s->nmo = orthogonalizer(n, ovl, o->s_tol, x);
+    int m = 0;
+    if (orthogonalizer(n, ovl, o->s_tol, x, &m, err)) {
+        free(ovl);
+        free(x);
+        lam_scf_free(s);
+        return err->code;
+    }
+    s->nmo = m;
     if (s->nocc > m) {
         free(ovl);
         free(x);
@@ -864,18 +897,24 @@ int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_optio
         return lam_error_at(err, LAM_EX_DATA, mol->source, 0, "%d electrons do not fit in %d orbitals", nelec, m);
     }
     t0 = lam_seconds();
-    double *guess = o->start == LAM_START_ATOMS ? atomic_densities(b, mol, o) : NULL;
+    double *guess = NULL;
+    if (o->start == LAM_START_ATOMS && !(guess = atomic_densities(b, mol, o, err))) {
+        free(ovl);
+        free(x);
+        lam_scf_free(s);
+        return err->code;
+    }
     if (o->report)
         fprintf(stderr, "%s: start from %s\n", lam_program(),
                 guess ? "a superposition of atomic densities" : "the core Hamiltonian");
     scf_state w;
     scf_state_init(&w, n, m, s->hcore, s->pk, ovl, x, s->e_nuc);
     scf_outcome r = scf_iterate(&w, o, nelec, 0, guess ? FROM_DENSITY : FROM_CORE, guess,
-                                o->report);
+                                o->report, err);
     char unstable[320] = "";
-    int stable = 0;
-    if (r.converged) {
-        stable = ensure_stable(&w, o, nelec, &r, s, unstable, sizeof unstable);
+    int stable = r.rc;
+    if (!r.rc && r.converged) {
+        stable = ensure_stable(&w, o, nelec, &r, s, unstable, sizeof unstable, err);
         align_degenerate(n, m, nelec / 2, w.eps, w.c);
         fix_signs(n, m, w.c);
     }
@@ -889,6 +928,10 @@ int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_optio
     free(guess);
     free(ovl);
     free(x);
+    if (stable > 0) {
+        lam_scf_free(s);
+        return err->code;
+    }
     if (!r.converged) {
         lam_scf_free(s);
         return lam_error_at(err, LAM_EX_DATA, mol->source, 0,

@@ -896,24 +896,20 @@ static double rayleigh(const sparse *h, const double *x, double *work)
     return (double)(xy / xx);
 }
 
-static double diagonalize(const sparse *h, int highest, double *x, double *resid)
+static int diagonalize(const sparse *h, int highest, double *x, double *resid, lam_error *err)
 {
     lam_eigen_problem p;
-    lam_eigen_defaults(&p);
-    p.dim = h->dim;
-    p.apply = sparse_apply;
-    p.ctx = (void *)h;
-    p.diag = h->diag;
+    lam_eigen_problem_init(&p, h->dim, sparse_apply, (void *)h, h->diag);
     p.tol = 1e-7;
     p.max_iter = 300;
     p.highest = highest;
     lam_eigen_result r;
     int was = lam_progress_enabled();
     lam_progress_set(0); /* one line per selection round, not per product */
-    lam_eigen_extreme(&p, &r, x);
+    int rc = lam_eigen_extreme(&p, &r, x, err);
     lam_progress_set(was);
     *resid = r.residual;
-    return r.value;
+    return rc;
 }
 
 /* New determinants of a round: the space about triples, so that few
@@ -997,7 +993,11 @@ static int select_run(const lam_spinfree *sf, int na, int nb, const lam_sci_opti
             break;
         }
         double dv;
-        (void)diagonalize(&h, o->highest, x, &dv);
+        if ((rc = diagonalize(&h, o->highest, x, &dv, err))) {
+            budget_give(mem, h.bytes);
+            sparse_free(&h);
+            break;
+        }
         double rq = rayleigh(&h, x, work);
         budget_give(mem, h.bytes);
         sparse_free(&h);
@@ -1072,13 +1072,15 @@ out:
 /* sf in Edmiston-Ruedenberg orbitals (largest sum of (ii|ii)), or NULL
  * when they do not fit the budget.  The highest state crowds electrons
  * into pairs on compact orbitals (ionic configurations), which are few
- * determinants in localized orbitals and very many in canonical ones. */
-static lam_spinfree *localized_orbitals(const lam_spinfree *sf, budget *mem)
+ * determinants in localized orbitals and very many in canonical ones.
+ * *rot is left NULL when they do not fit; fails when the optimizer does. */
+static int localized_orbitals(const lam_spinfree *sf, budget *mem, lam_spinfree **rot, lam_error *err)
 {
     int n = sf->n;
     double n4 = (double)n * n * n * n * sizeof(double);
     double need = (double)lam_spinfree_bytes(n) + 4 * n4; /* the result and the optimizer's work */
-    if (!budget_take(mem, need)) return NULL;
+    *rot = NULL;
+    if (!budget_take(mem, need)) return 0;
     double *u0 = lam_calloc((size_t)n * n, sizeof(double));
     double *u = lam_malloc((size_t)n * n * sizeof(double));
     for (int p = 0; p < n; ++p) u0[p * n + p] = 1;
@@ -1088,14 +1090,19 @@ static lam_spinfree *localized_orbitals(const lam_spinfree *sf, budget *mem)
     ro.starts = 0;
     lam_rotate_result rr;
     lam_spinfree *out = lam_spinfree_new(n);
-    lam_rotate_optimize(sf, u0, &ro, u, out, &rr);
+    int rc = lam_rotate_optimize(sf, u0, &ro, u, out, &rr, err);
     out->e0 = sf->e0;
     out->electrons = sf->electrons;
     out->ms2 = sf->ms2;
     free(u0);
     free(u);
     budget_give(mem, 4 * n4);
-    return out;
+    if (rc) {
+        lam_spinfree_free(out);
+        return rc;
+    }
+    *rot = out;
+    return 0;
 }
 
 int lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o, lam_sci_result *res,
@@ -1127,7 +1134,7 @@ int lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options 
     if (o->highest && o->localize && max_dets < full && n >= 2 &&
         lam_spinfree_real_symmetry_error(sf) <= 1e-10) {
         lam_progress("%s: Edmiston-Ruedenberg localization of %d orbitals", o->label ? o->label : "selected CI", n);
-        rot = localized_orbitals(sf, &mem);
+        if (localized_orbitals(sf, &mem, &rot, err)) return err->code;
         /* kept only when its start determinant is higher: localized
          * orbitals help where the top is ionic (molecules), not for
          * every operator */

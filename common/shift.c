@@ -251,6 +251,8 @@ static void majorana_one_body_form(const lam_shift *k, int sigma, int p, int q, 
 typedef struct {
     lam_l1_problem *lp;
     double fixed;
+    int rc;           /* the first failure, its reason in *err */
+    lam_error *err;
 } lp_builder;
 
 static void emit(lp_builder *b, double weight, double base, affine *a)
@@ -258,8 +260,8 @@ static void emit(lp_builder *b, double weight, double base, affine *a)
     affine_tidy(a);
     if (a->n == 0)
         b->fixed += weight * fabs(base);
-    else
-        lam_l1_add_row(b->lp, weight, base, a->n, a->idx, a->val);
+    else if (!b->rc)
+        b->rc = lam_l1_add_row(b->lp, weight, base, a->n, a->idx, a->val, b->err);
     a->n = 0;
 }
 
@@ -275,15 +277,16 @@ static double majorana_one_body(const lam_spinfree *h, int p, int q)
  *        + 1/4 sum_s sum_{p>r,q>s} |g^ss_pqrs - g^ss_psrq|  (equal spins)
  * over spin-resolved coefficients; without spin terms the two spins are
  * equal and are summed into one row each. */
-void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k, lam_l1_problem *lp,
-                        double *fixed)
+int lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k, lam_l1_problem *lp,
+                       double *fixed, lam_error *err)
 {
     int n = h->n;
-    if (n != k->n) lam_fail(LAM_EX_SOFTWARE, "shift: orbital counts differ");
+    /* the callers make k for h: an internal error */
+    if (n != k->n) return lam_error_set(err, LAM_EX_SOFTWARE, "shift: orbital counts differ");
     int spins = lam_shift_has_spin(k) ? 2 : 1;
     double wspin = spins == 2 ? 0.5 : 1.0;
     lam_l1_init(lp, k->nparams);
-    lp_builder b = {lp, 0};
+    lp_builder b = {lp, 0, 0, err};
     affine a;
     affine_init(&a, 2 * n + 16);
 
@@ -320,18 +323,36 @@ void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k, lam_l1_proble
                         emit(&b, 0.5 * wspin, g, &a);
                     }
     affine_free(&a);
+    if (b.rc) {
+        lam_l1_free(lp);
+        return b.rc;
+    }
     /* the symmetries of the integrals repeat most rows two to eight times */
     lam_l1_merge_rows(lp);
     *fixed = b.fixed;
+    return 0;
+}
+
+int lam_shift_optimize(const lam_spinfree *h, lam_shift *k, double *fixed, lam_l1_result *res, lam_error *err)
+{
+    lam_l1_problem lp;
+    if (lam_shift_build_lp(h, k, &lp, fixed, err)) return err->code;
+    lam_l1_options lo;
+    lam_l1_default_options(&lo);
+    lo.offset = *fixed;
+    int rc = lam_l1_solve(&lp, &lo, NULL, NULL, k->x, res, err);
+    lam_l1_free(&lp);
+    return rc;
 }
 
 /* ---- the operators ---- */
 
 /* out += sign * K */
-static void add_shift(lam_spinfree *out, const lam_shift *k, double sign)
+static int add_shift(lam_spinfree *out, const lam_shift *k, double sign, lam_error *err)
 {
+    /* the callers ask lam_shift_has_spin first: an internal error */
     if (lam_shift_has_spin(k))
-        lam_fail(LAM_EX_SOFTWARE, "shift: spin terms make a spin-free form impossible");
+        return lam_error_set(err, LAM_EX_SOFTWARE, "shift: spin terms make a spin-free form impossible");
     int n = k->n;
     affine a;
     affine_init(&a, 2 * n + 16);
@@ -352,11 +373,13 @@ static void add_shift(lam_spinfree *out, const lam_shift *k, double sign)
                     LAM_G(out, p, q, r, s) += sign * affine_eval(&a, k->x);
                 }
     affine_free(&a);
+    return 0;
 }
 
-lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k)
+int lam_shift_apply(const lam_spinfree *h, const lam_shift *k, lam_spinfree **result, lam_error *err)
 {
     lam_spinfree *out;
+    *result = NULL;
     if (h) {
         out = lam_spinfree_clone(h);
     } else {
@@ -364,11 +387,15 @@ lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k)
         out->electrons = k->electrons;
         out->ms2 = k->ms2;
     }
-    add_shift(out, k, h ? -1 : 1);
-    return out;
+    if (add_shift(out, k, h ? -1 : 1, err)) {
+        lam_spinfree_free(out);
+        return err->code;
+    }
+    *result = out;
+    return 0;
 }
 
-void lam_shift_subtract(lam_spinfree *h, const lam_shift *k) { add_shift(h, k, -1); }
+int lam_shift_subtract(lam_spinfree *h, const lam_shift *k, lam_error *err) { return add_shift(h, k, -1, err); }
 
 void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,
                              lam_spin_order order, lam_fermion_op *out)

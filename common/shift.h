@@ -72,14 +72,20 @@ double lam_shift_constant(const lam_shift *k);
  * (initialised here with nparams parameters); *fixed receives the sum of
  * the others, so lambda(H - K(x)) = *fixed + lam_l1_objective(lp, x).
  * H must have the 8-fold symmetry of real integrals. */
-void lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k,
-                        lam_l1_problem *lp, double *fixed);
+int lam_shift_build_lp(const lam_spinfree *h, const lam_shift *k,
+                       lam_l1_problem *lp, double *fixed, lam_error *err);
 
-/* H - K as a spin-free operator (no spin terms), or K itself when h is
- * NULL (n, electrons taken from k). */
-lam_spinfree *lam_shift_apply(const lam_spinfree *h, const lam_shift *k);
-/* h -= K in place (no spin terms); saves the copy for large n. */
-void lam_shift_subtract(lam_spinfree *h, const lam_shift *k);
+/* The optimal parameters k->x for h with the default solver options:
+ * *fixed and res as from lam_shift_build_lp and lam_l1_solve (res->converged
+ * says whether the gap was reached). */
+int lam_shift_optimize(const lam_spinfree *h, lam_shift *k, double *fixed, lam_l1_result *res, lam_error *err);
+
+/* H - K as a spin-free operator into *out, or K itself when h is NULL (n,
+ * electrons taken from k).  k must have no spin terms (code 70 if it has:
+ * the caller asks lam_shift_has_spin). */
+int lam_shift_apply(const lam_spinfree *h, const lam_shift *k, lam_spinfree **out, lam_error *err);
+/* h -= K in place (no spin terms, as above); saves the copy for large n. */
+int lam_shift_subtract(lam_spinfree *h, const lam_shift *k, lam_error *err);
 /* H - K (or K when h is NULL) as normal-ordered ladder terms over spin
  * orbitals in the given spin order; for spin terms. */
 void lam_shift_apply_fermion(const lam_spinfree *h, const lam_shift *k,

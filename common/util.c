@@ -44,7 +44,9 @@ static void vreport(const char *file, long line, const char *fmt, va_list ap)
     fputc('\n', stderr);
 }
 
-void lam_fail(int code, const char *fmt, ...)
+/* The fatal paths util keeps: out of memory (and sizes that overflow,
+ * which no allocation could satisfy), and stdout failing under --version. */
+static _Noreturn __attribute__((format(printf, 2, 3))) void fatal(int code, const char *fmt, ...)
 {
     va_list ap;
     va_start(ap, fmt);
@@ -53,11 +55,11 @@ void lam_fail(int code, const char *fmt, ...)
     leave(code);
 }
 
-void lam_fail_at(int code, const char *file, long line, const char *fmt, ...)
+void lam_fail(int code, const char *fmt, ...)
 {
     va_list ap;
     va_start(ap, fmt);
-    vreport(file, line, fmt, ap);
+    vreport(NULL, 0, fmt, ap);
     va_end(ap);
     leave(code);
 }
@@ -117,6 +119,12 @@ void lam_error_exit(const lam_error *err)
     leave(err->code ? err->code : LAM_EX_SOFTWARE);
 }
 
+void lam_exit_on_error(int rc, const lam_error *err)
+{
+    if (rc == LAM_EX_USAGE) lam_usage_error("%s", err->msg);
+    if (rc) lam_error_exit(err);
+}
+
 void lam_warn(const char *fmt, ...)
 {
     va_list ap;
@@ -127,7 +135,7 @@ void lam_warn(const char *fmt, ...)
 
 void lam_out_of_memory(size_t n)
 {
-    lam_fail(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", n);
+    fatal(LAM_EX_SOFTWARE, "out of memory (asked for %zu bytes)", n);
 }
 
 void *lam_malloc(size_t n)
@@ -154,7 +162,7 @@ void *lam_realloc(void *p, size_t n)
 size_t lam_mul_size(size_t count, size_t size)
 {
     if (size && count > SIZE_MAX / size)
-        lam_fail(LAM_EX_SOFTWARE, "size overflow (%zu x %zu)", count, size);
+        fatal(LAM_EX_SOFTWARE, "size overflow (%zu x %zu)", count, size);
     return count * size;
 }
 
@@ -364,7 +372,7 @@ void lam_print_version(void)
 {
     printf("%s (lamina) %s\n", program_name, LAMINA_VERSION);
     if (fflush(stdout) != 0 || ferror(stdout))
-        lam_fail(LAM_EX_IOERR, "cannot write to standard output");
+        fatal(LAM_EX_IOERR, "cannot write to standard output");
     exit(0);
 }
 

@@ -28,13 +28,11 @@ enum lam_exit {
 void lam_set_program(const char *argv0);
 const char *lam_program(void);
 
-/* Print "prog: msg" and exit with code. */
+/* Print "prog: msg" and exit with code.  Going away: its last caller is
+ * pauli.c's hash index (being converted to a returned error); nothing new
+ * may call it (library code returns a lam_error, see below). */
 _Noreturn void lam_fail(int code, const char *fmt, ...)
     __attribute__((format(printf, 2, 3)));
-/* Print "prog: file:line: msg" and exit with code (line <= 0 omits it). */
-_Noreturn void lam_fail_at(int code, const char *file, long line,
-                           const char *fmt, ...)
-    __attribute__((format(printf, 4, 5)));
 /* An error handed back by library code.  Library functions that can fail
  * on bad input take a lam_error *err, fill it and return its code (non-zero);
  * only a program's main prints it and exits (lam_error_exit), after freeing
@@ -60,6 +58,10 @@ void lam_error_print(const lam_error *err);
 /* For main: print the error and end the program with its code, without
  * flushing stdout (no half-written result reaches it). */
 _Noreturn void lam_error_exit(const lam_error *err);
+/* For main, after it freed what it holds: nothing when rc is 0; else the
+ * end of the program with err, a usage error (code 64) with the --help hint
+ * of lam_usage_error. */
+void lam_exit_on_error(int rc, const lam_error *err);
 
 /* Print "prog: msg" as a warning; does not exit. */
 void lam_warn(const char *fmt, ...) __attribute__((format(printf, 1, 2)));

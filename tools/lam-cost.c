@@ -236,7 +236,7 @@ static int summary_from_fragments_stream(lam_reader *r, lam_lcu_summary *lcu, la
 {
     lam_fragments *fr = NULL;
     int rc = lam_fragments_read(r, &fr, err);
-    if (rc == 0) lam_cost_summary_from_fragments(fr, lam_reader_meta(r), lcu);
+    if (rc == 0) rc = lam_cost_summary_from_fragments(fr, lam_reader_meta(r), lcu, err);
     lam_fragments_free(fr);
     return rc;
 }

@@ -280,8 +280,13 @@ static int run_group(const options *o, int argc, char **argv)
 
     lam_pauli_set out;
     lam_group_stats st;
-    lam_group_build(&in, &o->group, &out, &st);
+    int failed = lam_group_build(&in, &o->group, &out, &st, &err);
     lam_pauli_set_free(&in);
+    if (failed) {
+        lam_meta_free(&meta);
+        lam_report_free(rep);
+        lam_error_exit(&err);
+    }
 
     lam_meta_setf(&meta, "qubits", "%d", out.nqubits);
     lam_meta_set(&meta, "grouping", o->group.commuting ? "commuting" : "anticommuting");

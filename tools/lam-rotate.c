@@ -183,27 +183,150 @@ static double *identity(int n)
     return u;
 }
 
-/* What main holds, freed before an error ends the program. */
+/* What a run holds; main frees it on every exit path. */
 typedef struct {
     lam_reader *r;
     lam_spinfree *h, *out;
     double *u0, *u;
-    lam_rotate_blocks *blocks;
+    lam_rotate_blocks blocks;
     FILE *mf;
-    lam_meta *meta;
-} held;
+    lam_meta meta;
+    char *history;
+    lam_report *rep;
+} rotate_run;
 
-static _Noreturn void give_up(const held *hd, const lam_error *err)
+static void rotate_run_free(rotate_run *rr)
 {
-    if (hd->meta) lam_meta_free(hd->meta);
-    if (hd->mf) fclose(hd->mf);
-    lam_rotate_blocks_free(hd->blocks);
-    free(hd->u0);
-    free(hd->u);
-    lam_spinfree_free(hd->out);
-    lam_spinfree_free(hd->h);
-    lam_reader_close(hd->r);
-    lam_error_exit(err);
+    lam_report_free(rr->rep);
+    free(rr->history);
+    lam_meta_free(&rr->meta);
+    if (rr->mf) fclose(rr->mf);
+    lam_rotate_blocks_free(&rr->blocks);
+    free(rr->u0);
+    free(rr->u);
+    lam_spinfree_free(rr->out);
+    lam_spinfree_free(rr->h);
+    lam_reader_close(rr->r);
+}
+
+/* Check the operator against the options; usage errors come back with
+ * code LAM_EX_USAGE. */
+static int settle_options(options *o, rotate_run *rr, lam_error *err)
+{
+    lam_spinfree *h = rr->h;
+    const char *src = lam_reader_name(rr->r);
+    int n = h->n;
+    if (lam_spinfree_validate(h, src, "the closed-form one-norm the rotation lowers", err) != 0)
+        return err->code;
+    if (o->electrons >= 0) {
+        if (o->electrons > 2L * n)
+            return lam_error_set(err, LAM_EX_USAGE, "%ld electrons do not fit in %d orbitals", o->electrons, n);
+        h->electrons = (int)o->electrons;
+    }
+    int needs_n = o->ro.objective == LAM_ROTATE_SHIFTED || o->ro.objective == LAM_ROTATE_GROUPED;
+    if (needs_n && h->electrons < 0)
+        return lam_error_set(err, LAM_EX_USAGE, "%s has no 'electrons:' line: give --electrons N for the shift",
+                             src);
+    char why[256];
+    if (lam_rotate_blocks_parse(o->within, n, h->electrons, &rr->blocks, why, sizeof why) != 0)
+        return lam_error_set(err, LAM_EX_USAGE, "--within: %s", why);
+    o->ro.blocks = &rr->blocks;
+    /* small operators: canonical orbitals of symmetric molecules are
+     * stationary points, and random starts cost little there */
+    if (o->ro.starts < 0) o->ro.starts = n <= 16 ? 8 : 0;
+    return 0;
+}
+
+/* The rotated operator and the matrix written, the report filled. */
+static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *err)
+{
+    double t0 = lam_seconds();
+    clock_t c0 = clock();
+    if (lam_reader_open(o->input, &rr->r, err)) return err->code;
+    if (read_operator(rr->r, &rr->h, err)) return err->code;
+    if (settle_options(o, rr, err)) return err->code;
+    lam_spinfree *h = rr->h;
+    const char *src = lam_reader_name(rr->r);
+    int n = h->n;
+
+    int start_er = strcmp(o->start, "er") == 0;
+    if (strcmp(o->start, "given") == 0 || start_er) rr->u0 = identity(n);
+    if (!rr->u0 && lam_rotate_read_matrix(o->start, n, &rr->u0, err)) return err->code;
+    if (o->matrix && !(rr->mf = fopen(o->matrix, "w")))
+        return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write", o->matrix);
+
+    lam_rotate_result er_res = {0};
+    if (start_er) {
+        lam_rotate_options eo = o->ro;
+        eo.objective = LAM_ROTATE_ER;
+        eo.starts = 0;
+        double *t = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
+        lam_spinfree *loc = lam_spinfree_new(n);
+        lam_progress("Edmiston-Ruedenberg localization of %d orbitals", n);
+        int rc = lam_rotate_optimize(h, rr->u0, &eo, t, loc, &er_res, err);
+        lam_spinfree_free(loc);
+        free(rr->u0);
+        rr->u0 = t;
+        if (rc) return rc;
+    }
+    double before_given = lam_spinfree_lambda(h);
+    rr->u = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
+    lam_rotate_result res;
+    lam_progress("optimizing the %s objective over %d orbitals",
+                 lam_rotate_objective_name(o->ro.objective), n);
+    rr->out = lam_spinfree_new(n);
+    if (lam_rotate_optimize(h, rr->u0, &o->ro, rr->u, rr->out, &res, err)) return err->code;
+    double lambda_out = lam_spinfree_lambda(rr->out);
+
+    lam_meta_copy(&rr->meta, lam_reader_meta(rr->r));
+    if (rotate_recorded_shift(&rr->meta, n, rr->u, src, err)) return err->code;
+    lam_spinfree_describe(rr->out, &rr->meta);
+    lam_meta_setf(&rr->meta, "rotation", "objective %s start %s within %s",
+                  lam_rotate_objective_name(o->ro.objective),
+                  start_er || !strcmp(o->start, "given") ? o->start : "file",
+                  o->within ? o->within : "all");
+    char buf[LAM_DOUBLE_BUF];
+    lam_format_double(buf, sizeof buf, before_given);
+    lam_meta_set(&rr->meta, "rotation-lambda-before", buf);
+    lam_format_double(buf, sizeof buf, lambda_out);
+    lam_meta_set(&rr->meta, "rotation-lambda-after", buf);
+    rr->history = lam_history_from_argv(argc, argv);
+    lam_writer *w;
+    if (lam_writer_open(o->output, o->gzip, &w, err)) return err->code;
+    lam_writer_header(w, LAM_KIND_SPINFREE, &rr->meta, rr->history);
+    lam_spinfree_write_terms(w, rr->out);
+    if (lam_writer_close(w, err)) return err->code;
+    if (rr->mf) {
+        FILE *mf = rr->mf;
+        rr->mf = NULL; /* the writer closes it, also on failure */
+        if (lam_rotate_write_matrix(mf, o->matrix, n, rr->u, err)) return err->code;
+    }
+
+    lam_report *rep = rr->rep = lam_report_new();
+    if (o->label) lam_report_str(rep, "label", o->label);
+    lam_report_str(rep, "objective", lam_rotate_objective_name(o->ro.objective));
+    lam_report_str(rep, "start", start_er || !strcmp(o->start, "given") ? o->start : "file");
+    lam_report_num(rep, "lambda_before", before_given);
+    lam_report_num(rep, "lambda_start", res.lambda_before);
+    lam_report_num(rep, "lambda_after", lambda_out);
+    lam_report_num(rep, "objective_before", res.before);
+    lam_report_num(rep, "objective_after", res.after);
+    lam_report_str(rep, "kept_start", res.kept_start ? "yes" : "no");
+    lam_report_int(rep, "best_start", res.best_start);
+    lam_report_int(rep, "starts", o->ro.starts + 1);
+    lam_report_int(rep, "iterations", res.iterations + er_res.iterations);
+    lam_report_int(rep, "evaluations", res.evaluations + er_res.evaluations);
+    if (o->ro.objective == LAM_ROTATE_GROUPED) {
+        lam_report_int(rep, "grouped_candidates", res.candidates);
+        lam_report_num(rep, "surrogate_rank_correlation", res.surrogate_corr);
+    }
+    lam_report_int(rep, "orbitals", n);
+    lam_report_num(rep, "seconds", lam_seconds() - t0);
+    lam_report_num(rep, "cpu_seconds", (double)(clock() - c0) / CLOCKS_PER_SEC);
+    lam_report_int(rep, "threads", openblas_get_num_threads());
+    if (o->report) return lam_report_save(rep, o->report, o->tsv, err);
+    lam_report_write(rep, stderr, o->tsv);
+    return 0;
 }
 
 int main(int argc, char **argv)
@@ -212,148 +335,12 @@ int main(int argc, char **argv)
     options o;
     parse_options(argc, argv, &o);
     lam_blas_threads(o.threads);
-    double t0 = lam_seconds();
-    clock_t c0 = clock();
-
-    /* static: what main holds stays reachable while rotate.c, shift.c, the
-     * spin-free symmetry check and the usage errors below still exit; the
-     * stream reader and writer return their errors and are freed first */
-    static lam_reader *r;
-    static lam_spinfree *h, *out;
-    static double *u0, *u;
-    static lam_rotate_blocks blocks;
-    static FILE *mf;
+    rotate_run rr;
+    memset(&rr, 0, sizeof rr);
+    lam_meta_init(&rr.meta);
     lam_error err;
-    if (lam_reader_open(o.input, &r, &err)) lam_error_exit(&err);
-    if (read_operator(r, &h, &err)) {
-        lam_reader_close(r);
-        lam_error_exit(&err);
-    }
-    const char *src = lam_reader_name(r);
-    int n = h->n;
-    lam_error bad;
-    if (lam_spinfree_validate(h, src, "the closed-form one-norm the rotation lowers", &bad) != 0)
-        lam_error_exit(&bad);
-    if (o.electrons >= 0) {
-        if (o.electrons > 2L * n) lam_usage_error("%ld electrons do not fit in %d orbitals",
-                                                  o.electrons, n);
-        h->electrons = (int)o.electrons;
-    }
-    int needs_n = o.ro.objective == LAM_ROTATE_SHIFTED || o.ro.objective == LAM_ROTATE_GROUPED;
-    if (needs_n && h->electrons < 0)
-        lam_usage_error("%s has no 'electrons:' line: give --electrons N for the shift", src);
-    char why[256];
-    if (lam_rotate_blocks_parse(o.within, n, h->electrons, &blocks, why, sizeof why) != 0)
-        lam_usage_error("--within: %s", why);
-    o.ro.blocks = &blocks;
-    /* small operators: canonical orbitals of symmetric molecules are
-     * stationary points, and random starts cost little there */
-    if (o.ro.starts < 0) o.ro.starts = n <= 16 ? 8 : 0;
-
-    int start_er = strcmp(o.start, "er") == 0;
-    if (strcmp(o.start, "given") == 0 || start_er) u0 = identity(n);
-    held hd = {r, h, NULL, NULL, NULL, &blocks, NULL, NULL};
-    if (!u0 && lam_rotate_read_matrix(o.start, n, &u0, &err)) give_up(&hd, &err);
-    hd.u0 = u0;
-    if (o.matrix && !(mf = fopen(o.matrix, "w"))) {
-        lam_error_set(&err, LAM_EX_IOERR, "%s: cannot write", o.matrix);
-        give_up(&hd, &err);
-    }
-
-    lam_rotate_result er_res = {0};
-    if (start_er) {
-        lam_rotate_options eo = o.ro;
-        eo.objective = LAM_ROTATE_ER;
-        eo.starts = 0;
-        double *t = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
-        lam_spinfree *loc = lam_spinfree_new(n);
-        lam_progress("Edmiston-Ruedenberg localization of %d orbitals", n);
-        lam_rotate_optimize(h, u0, &eo, t, loc, &er_res);
-        lam_spinfree_free(loc);
-        free(u0);
-        u0 = t;
-    }
-    double before_given = lam_spinfree_lambda(h);
-    u = lam_malloc(lam_mul_size((size_t)n * n, sizeof(double)));
-    lam_rotate_result res;
-    lam_progress("optimizing the %s objective over %d orbitals",
-                 lam_rotate_objective_name(o.ro.objective), n);
-    out = lam_spinfree_new(n);
-    lam_rotate_optimize(h, u0, &o.ro, u, out, &res);
-    double lambda_out = lam_spinfree_lambda(out);
-
-    lam_meta meta;
-    lam_meta_init(&meta);
-    lam_meta_copy(&meta, lam_reader_meta(r));
-    if (rotate_recorded_shift(&meta, n, u, src, &err)) {
-        hd = (held){r, h, out, u0, u, &blocks, mf, &meta};
-        give_up(&hd, &err);
-    }
-    lam_spinfree_describe(out, &meta);
-    lam_meta_setf(&meta, "rotation", "objective %s start %s within %s",
-                  lam_rotate_objective_name(o.ro.objective),
-                  start_er || !strcmp(o.start, "given") ? o.start : "file",
-                  o.within ? o.within : "all");
-    char buf[LAM_DOUBLE_BUF];
-    lam_format_double(buf, sizeof buf, before_given);
-    lam_meta_set(&meta, "rotation-lambda-before", buf);
-    lam_format_double(buf, sizeof buf, lambda_out);
-    lam_meta_set(&meta, "rotation-lambda-after", buf);
-    char *history = lam_history_from_argv(argc, argv);
-    lam_writer *w;
-    int rc = lam_writer_open(o.output, o.gzip, &w, &err);
-    if (!rc) {
-        lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
-        lam_spinfree_write_terms(w, out);
-        rc = lam_writer_close(w, &err);
-    }
-    if (rc) {
-        if (mf) fclose(mf);
-        free(history);
-        lam_meta_free(&meta);
-        goto done;
-    }
-    if (mf && lam_rotate_write_matrix(mf, o.matrix, n, u, &err)) {
-        free(history);
-        hd = (held){r, h, out, u0, u, &blocks, NULL, &meta};
-        give_up(&hd, &err);
-    }
-
-    lam_report *rep = lam_report_new();
-    if (o.label) lam_report_str(rep, "label", o.label);
-    lam_report_str(rep, "objective", lam_rotate_objective_name(o.ro.objective));
-    lam_report_str(rep, "start", start_er || !strcmp(o.start, "given") ? o.start : "file");
-    lam_report_num(rep, "lambda_before", before_given);
-    lam_report_num(rep, "lambda_start", res.lambda_before);
-    lam_report_num(rep, "lambda_after", lambda_out);
-    lam_report_num(rep, "objective_before", res.before);
-    lam_report_num(rep, "objective_after", res.after);
-    lam_report_str(rep, "kept_start", res.kept_start ? "yes" : "no");
-    lam_report_int(rep, "best_start", res.best_start);
-    lam_report_int(rep, "starts", o.ro.starts + 1);
-    lam_report_int(rep, "iterations", res.iterations + er_res.iterations);
-    lam_report_int(rep, "evaluations", res.evaluations + er_res.evaluations);
-    if (o.ro.objective == LAM_ROTATE_GROUPED) {
-        lam_report_int(rep, "grouped_candidates", res.candidates);
-        lam_report_num(rep, "surrogate_rank_correlation", res.surrogate_corr);
-    }
-    lam_report_int(rep, "orbitals", n);
-    lam_report_num(rep, "seconds", lam_seconds() - t0);
-    lam_report_num(rep, "cpu_seconds", (double)(clock() - c0) / CLOCKS_PER_SEC);
-    lam_report_int(rep, "threads", openblas_get_num_threads());
-    if (o.report) rc = lam_report_save(rep, o.report, o.tsv, &err);
-    else lam_report_write(rep, stderr, o.tsv);
-
-    lam_report_free(rep);
-    free(history);
-    lam_meta_free(&meta);
-done:
-    lam_rotate_blocks_free(&blocks);
-    free(u0);
-    free(u);
-    lam_spinfree_free(out);
-    lam_spinfree_free(h);
-    lam_reader_close(r);
-    if (rc) lam_error_exit(&err);
+    int rc = rotate(&o, argc, argv, &rr, &err);
+    rotate_run_free(&rr);
+    lam_exit_on_error(rc, &err);
     return 0;
 }

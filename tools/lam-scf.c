@@ -159,58 +159,55 @@ static void parse_options(int argc, char **argv, options *o)
     o->scf.report = !o->quiet && lam_progress_enabled();
 }
 
-/* The frozen/active choice must fit the molecule (exit 64 otherwise). */
-static void check_orbital_space(const options *o, const lam_scf *s, int *active)
+/* The frozen/active choice must fit the molecule (code 64 otherwise). */
+static int check_orbital_space(const options *o, const lam_scf *s, int *active, lam_error *err)
 {
     if (o->frozen > s->nocc)
-        lam_usage_error("--frozen %ld exceeds the %d doubly occupied orbitals", o->frozen,
-                        s->nocc);
+        return lam_error_set(err, LAM_EX_USAGE, "--frozen %ld exceeds the %d doubly occupied orbitals",
+                             o->frozen, s->nocc);
     long left = s->nmo - o->frozen;
     if (o->active > left)
-        lam_usage_error("--active %ld exceeds the %ld orbitals above the frozen ones",
-                        o->active, left);
+        return lam_error_set(err, LAM_EX_USAGE, "--active %ld exceeds the %ld orbitals above the frozen ones",
+                             o->active, left);
     *active = (int)(o->active < 0 ? left : o->active);
     long electrons = 2L * (s->nocc - o->frozen);
     if (electrons > 2L * *active)
-        lam_usage_error("%ld electrons do not fit in %d active orbitals", electrons, *active);
-    if (*active < 1) lam_usage_error("no active orbitals left");
+        return lam_error_set(err, LAM_EX_USAGE, "%ld electrons do not fit in %d active orbitals", electrons,
+                             *active);
+    if (*active < 1) return lam_error_set(err, LAM_EX_USAGE, "no active orbitals left");
+    return 0;
 }
 
-static void check_memory(const options *o, int nbf, int active)
+static int check_memory(const options *o, int nbf, int active, lam_error *err)
 {
     double n2 = 0.5 * nbf * (nbf + 1.0), m2 = 0.5 * active * (active + 1.0);
     /* SCF data, half-transformed and MO pair matrices, the dense operator */
     double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + 8.0 * m2 * m2 +
                    (double)lam_spinfree_bytes(active);
-    if (bytes > o->max_memory) {
-        lam_error fail_err;
-        lam_error_set(&fail_err, LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
-                      "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
-                      o->max_memory / 1048576.0);
-        lam_error_exit(&fail_err);
-    }
+    if (bytes > o->max_memory)
+        return lam_error_set(err, LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
+                             "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
+                             o->max_memory / 1048576.0);
+    return 0;
 }
 
 /* Opened before any work, so that a wrong -o path fails at once. */
-static FILE *open_output(const char *path)
+static int open_output(const char *path, FILE **out, lam_error *err)
 {
-    if (!path || strcmp(path, "-") == 0) return stdout;
-    FILE *out = fopen(path, "w");
-    if (!out) {
-        lam_error fail_err;
-        lam_error_set(&fail_err, LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
-        lam_error_exit(&fail_err);
-    }
-    return out;
+    *out = stdout;
+    if (!path || strcmp(path, "-") == 0) return 0;
+    if (!(*out = fopen(path, "w")))
+        return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
+    return 0;
 }
 
-static void close_output(FILE *out, const char *path)
+/* Closes out (not stdout) also on failure. */
+static int close_output(FILE *out, const char *path, lam_error *err)
 {
-    if (fflush(out) != 0 || ferror(out) || (out != stdout && fclose(out) != 0)) {
-        lam_error fail_err;
-        lam_error_set(&fail_err, LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
-        lam_error_exit(&fail_err);
-    }
+    int bad = fflush(out) != 0 || ferror(out);
+    if (out != stdout && fclose(out) != 0) bad = 1;
+    if (bad) return lam_error_set(err, LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
+    return 0;
 }
 
 /* Integrals that vanish by symmetry come out as rounding noise: below the
@@ -262,80 +259,77 @@ static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
     lam_report_free(rep);
 }
 
-/* What main holds stays reachable from here until it is freed, so that
- * an exit on bad input is not reported as a leak (valgrind, ASan), which
- * would change the exit code.  volatile: the stores must not be dropped.
- * Still needed while scf.c exits on bad input and for the usage errors
- * found after the molecule is read (--max-memory, --frozen, --active);
- * the readers return their errors and are freed before the exit. */
-static lam_molecule *volatile held_molecule;
-static lam_basis *volatile held_basis;
-static lam_scf *volatile held_scf;
-static lam_spinfree *volatile held_op;
+/* What a run holds; main frees it on every exit path. */
+typedef struct {
+    lam_molecule *mol;
+    lam_basis *basis;
+    lam_scf *scf;
+    lam_spinfree *op;
+    FILE *out; /* NULL once closed */
+} scf_run;
+
+static void scf_run_free(scf_run *run)
+{
+    if (run->out && run->out != stdout) fclose(run->out);
+    lam_spinfree_free(run->op);
+    lam_scf_free(run->scf);
+    lam_basis_free(run->basis);
+    lam_molecule_free(run->mol);
+}
+
+static void say_energy(const lam_scf *s)
+{
+    fprintf(stderr, "%s: RHF energy %.12f Eh after %d iterations (%d basis functions, "
+            "%d orbitals, E_nuc %.12f Eh; integrals %.2f s, iterations %.2f s)\n",
+            lam_program(), s->energy, s->iterations, s->nbf, s->nmo, s->e_nuc,
+            s->seconds_integrals, s->seconds_iterations);
+    if (s->instabilities_followed)
+        fprintf(stderr, "%s: note: the first RHF solution (%.12f Eh) was unstable (orbital "
+                "Hessian eigenvalue %.3e Eh); %d instabilit%s followed down to this one\n",
+                lam_program(), s->unstable_energy, s->unstable_eigenvalue,
+                s->instabilities_followed, s->instabilities_followed == 1 ? "y" : "ies");
+}
+
+/* The SCF and its energy report or FCIDUMP; usage errors come back with
+ * code LAM_EX_USAGE. */
+static int scf(const options *o, scf_run *run, lam_error *err)
+{
+    if (lam_molecule_read_xyz(o->input, o->bohr, &run->mol, err)) return err->code;
+    run->mol->charge = (int)o->charge;
+    int electrons;
+    if (lam_scf_closed_shell_electrons(run->mol, &electrons, err)) return err->code;
+    if (lam_basis_build(run->mol, lam_basis_set_find(o->basis), o->pure, &run->basis, err)) return err->code;
+    /* the largest possible active space bounds the memory before any work */
+    int nbf = run->basis->nbf;
+    int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
+    if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
+    if (open_output(o->output, &run->out, err)) return err->code;
+    if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
+    const lam_scf *s = run->scf;
+    if (!o->quiet) say_energy(s);
+    if (o->energy_only) {
+        write_energy_report(run->out, o, s);
+    } else {
+        int active = 0;
+        if (check_orbital_space(o, s, &active, err)) return err->code;
+        run->op = lam_scf_mo_hamiltonian(s, (int)o->frozen, active);
+        clean_integrals(o, run->op);
+        if (write_fcidump(run->out, run->op, err)) return err->code;
+    }
+    FILE *out = run->out;
+    run->out = NULL;
+    return close_output(out, o->output, err);
+}
 
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-
+    scf_run run = {NULL, NULL, NULL, NULL, NULL};
     lam_error err;
-    lam_molecule *mol;
-    lam_basis *basis;
-    if (lam_molecule_read_xyz(o.input, o.bohr, &mol, &err)) lam_error_exit(&err);
-    held_molecule = mol;
-    mol->charge = (int)o.charge;
-    int electrons;
-    if (lam_scf_closed_shell_electrons(mol, &electrons, &err)) {
-        lam_molecule_free(mol);
-        lam_error_exit(&err);
-    }
-    if (lam_basis_build(mol, lam_basis_set_find(o.basis), o.pure, &basis, &err)) {
-        lam_molecule_free(mol);
-        lam_error_exit(&err);
-    }
-    held_basis = basis;
-    /* the largest possible active space bounds the memory before any work */
-    int most_active = o.energy_only ? 1 : (int)(o.active > 0 ? o.active : basis->nbf - o.frozen);
-    check_memory(&o, basis->nbf, most_active > 0 ? most_active : 1);
-    FILE *out = open_output(o.output);
-
-    lam_scf *s;
-    if (lam_scf_run(mol, basis, &o.scf, &s, &err)) {
-        if (out != stdout) fclose(out);
-        lam_basis_free(basis);
-        lam_molecule_free(mol);
-        lam_error_exit(&err);
-    }
-    held_scf = s;
-    if (!o.quiet)
-        fprintf(stderr, "%s: RHF energy %.12f Eh after %d iterations (%d basis functions, "
-                "%d orbitals, E_nuc %.12f Eh; integrals %.2f s, iterations %.2f s)\n",
-                lam_program(), s->energy, s->iterations, s->nbf, s->nmo, s->e_nuc,
-                s->seconds_integrals, s->seconds_iterations);
-    if (!o.quiet && s->instabilities_followed)
-        fprintf(stderr, "%s: note: the first RHF solution (%.12f Eh) was unstable (orbital "
-                "Hessian eigenvalue %.3e Eh); %d instabilit%s followed down to this one\n",
-                lam_program(), s->unstable_energy, s->unstable_eigenvalue,
-                s->instabilities_followed, s->instabilities_followed == 1 ? "y" : "ies");
-    if (o.energy_only) {
-        write_energy_report(out, &o, s);
-    } else {
-        int active;
-        check_orbital_space(&o, s, &active);
-        lam_spinfree *sf = held_op = lam_scf_mo_hamiltonian(s, (int)o.frozen, active);
-        clean_integrals(&o, sf);
-        int rc = write_fcidump(out, sf, &err);
-        lam_spinfree_free(sf);
-        held_op = NULL;
-        if (rc) lam_error_exit(&err);
-    }
-    close_output(out, o.output);
-    lam_scf_free(s);
-    lam_basis_free(basis);
-    lam_molecule_free(mol);
-    held_scf = NULL;
-    held_basis = NULL;
-    held_molecule = NULL;
+    int rc = scf(&o, &run, &err);
+    scf_run_free(&run);
+    lam_exit_on_error(rc, &err);
     return 0;
 }

@@ -174,22 +174,24 @@ static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
                         "lam-shift reads spinfree or fermion streams, not %s", lam_kind_name(kind));
 }
 
-static void resolve_target(const options *o, lam_spinfree *sf, const char *src, lam_shift **k)
+/* The shift to solve for; usage errors come back with code LAM_EX_USAGE. */
+static int resolve_target(const options *o, lam_spinfree *sf, const char *src, lam_shift **k, lam_error *err)
 {
     long n0 = o->electrons >= 0 ? o->electrons : sf->electrons;
     if (n0 < 0)
-        lam_usage_error("%s has no 'electrons:' line: give --electrons N", src);
+        return lam_error_set(err, LAM_EX_USAGE, "%s has no 'electrons:' line: give --electrons N", src);
     if (n0 > 2L * sf->n)
-        lam_usage_error("%ld electrons do not fit in %d orbitals", n0, sf->n);
+        return lam_error_set(err, LAM_EX_USAGE, "%ld electrons do not fit in %d orbitals", n0, sf->n);
     int ms2 = o->have_ms2 ? o->ms2 : sf->ms2;
     if (o->spin) {
         long room = n0 < 2L * sf->n - n0 ? n0 : 2L * sf->n - n0;
         if (labs((long)ms2) > room || (n0 - ms2) % 2 != 0)
-            lam_usage_error("no state of %ld electrons in %d orbitals has Sz = %g", n0, sf->n,
-                            0.5 * ms2);
+            return lam_error_set(err, LAM_EX_USAGE, "no state of %ld electrons in %d orbitals has Sz = %g", n0,
+                                 sf->n, 0.5 * ms2);
     }
     sf->electrons = (int)n0;
     *k = lam_shift_new(sf->n, (int)n0, ms2, o->terms);
+    return 0;
 }
 
 static void show_iteration(int it, double primal, double dual, void *ctx)
@@ -237,7 +239,8 @@ static int emit_recorded(const options *o, int argc, char **argv)
         lam_fermion_write_terms(w, &op);
         lam_fermion_free(&op);
     } else {
-        lam_spinfree *kk = lam_shift_apply(NULL, k);
+        lam_spinfree *kk;
+        if ((rc = lam_shift_apply(NULL, k, &kk, &err))) goto done;
         lam_spinfree_describe(kk, &out);
         lam_writer_header(w, LAM_KIND_SPINFREE, &out, history);
         lam_spinfree_write_terms(w, kk);
@@ -283,150 +286,163 @@ static const char *const tsv_columns[] = {
     "b2", "zeta_trace", "zeta_max_abs", "zeta_nonzero", "orbitals", "parameters", "rows",
     "blocks", "largest_block", "iterations", "lp_seconds", "solve_seconds", "seconds", NULL};
 
-int main(int argc, char **argv)
-{
-    lam_set_program(argv[0]);
-    options o;
-    parse_options(argc, argv, &o);
-    double t0 = lam_seconds();
-    if (o.emit_recorded) return emit_recorded(&o, argc, argv);
-
-    /* static: what main holds stays reachable while the spin-free check and
-     * shift.c may still exit on bad input; everything that returns an
-     * error is freed below before the program ends */
-    static lam_reader *r;
-    static lam_spinfree *h;
-    static lam_shift *k, *earlier;
-    lam_error err;
-    if (lam_reader_open(o.input, &r, &err)) lam_error_exit(&err);
-    lam_progress("reading %s", lam_reader_name(r));
-    if (read_operator(r, &h, &err)) {
-        lam_reader_close(r);
-        lam_error_exit(&err);
-    }
-    lam_progress("read %d orbitals in %.2f s", h->n, lam_seconds() - t0);
-    const char *src = lam_reader_name(r);
-    if (lam_spinfree_validate(h, src, "the one-norm the shift minimizes", &err) != 0) {
-        lam_spinfree_free(h);
-        lam_reader_close(r);
-        lam_error_exit(&err);
-    }
-    resolve_target(&o, h, src, &k);
-    int bad = lam_shift_recorded(lam_reader_meta(r), h->n, src, &earlier, &err);
-    if (!bad && earlier &&
-        (earlier->electrons != k->electrons ||
-         (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
-        bad = lam_error_at(&err, LAM_EX_DATA, src, 0,
-                     "the stream was already shifted for %d electrons (2Sz %d); a second shift "
-                     "for %d (2Sz %d) would leave no block as in the original operator",
-                     earlier->electrons, earlier->ms2, k->electrons, k->ms2);
-    if (bad) {
-        lam_shift_free(earlier);
-        lam_shift_free(k);
-        lam_spinfree_free(h);
-        lam_reader_close(r);
-        lam_error_exit(&err);
-    }
-
-    double t_lp = lam_seconds();
+/* What a run holds; main frees it on every exit path. */
+typedef struct {
+    lam_reader *r;
+    lam_spinfree *h;
+    lam_shift *k, *earlier, *total;
     lam_l1_problem lp;
-    double fixed;
-    lam_shift_build_lp(h, k, &lp, &fixed);
-    lam_progress("%d orbitals, %d parameters, %zu rows depend on them", h->n, k->nparams, lp.rows);
-    lam_l1_options lo;
-    lam_l1_default_options(&lo);
-    lo.rel_gap = o.gap;
-    lo.offset = fixed;
-    lo.max_iter = (int)o.max_iter;
-    lam_l1_result res;
-    double t_solve = lam_seconds();
-    int status = lam_l1_solve(&lp, &lo, show_iteration, &fixed, k->x, &res);
-    t_solve = lam_seconds() - t_solve;
-    t_lp = lam_seconds() - t_lp;
-    /* the metadata describes the whole shift since the original operator */
-    lam_shift *total = earlier && !o.emit_shift ? lam_shift_sum(earlier, k) : NULL;
-    const lam_shift *recorded = total ? total : k;
-
-    double before = lam_spinfree_lambda(h);
-    double after = fixed + res.primal;
     lam_meta meta;
-    lam_meta_init(&meta);
-    lam_meta_copy(&meta, lam_reader_meta(r));
-    char *history = lam_history_from_argv(argc, argv);
-    lam_progress("optimum found in %.2f s; writing %s", t_lp, o.emit_shift ? "K" : "H - K");
-    /* both outputs open before the first byte of either is written */
-    FILE *report = NULL, *dump = NULL;
-    lam_writer *w = NULL;
-    int rc = o.report ? lam_report_open(o.report, &report, &err) : 0;
-    if (!rc && o.dump && !(dump = fopen(o.dump, "w")))
-        rc = lam_error_set(&err, LAM_EX_IOERR, "cannot open %s for writing: %s", o.dump,
-                           strerror(errno));
-    if (!rc) rc = lam_writer_open(o.output, o.gzip, &w, &err);
-    if (!rc && dump) {
-        lam_l1_write(dump, &lp, fixed);
-        if (fclose(dump) != 0)
-            rc = lam_error_set(&err, LAM_EX_IOERR, "cannot write %s: %s", o.dump, strerror(errno));
-        dump = NULL;
-    }
-    if (rc) {
+    char *history;
+    lam_report *rep;
+    FILE *report;     /* open until the report is written */
+    lam_writer *w;    /* open until the operator is written */
+} shift_run;
+
+static void shift_run_free(shift_run *sr)
+{
+    lam_writer_discard(sr->w);
+    lam_report_discard(sr->report);
+    lam_report_free(sr->rep);
+    free(sr->history);
+    lam_meta_free(&sr->meta);
+    lam_l1_free(&sr->lp);
+    lam_shift_free(sr->k);
+    lam_shift_free(sr->earlier);
+    lam_shift_free(sr->total);
+    lam_spinfree_free(sr->h);
+    lam_reader_close(sr->r);
+}
+
+/* The operator and its shift (k), checked against an earlier shift. */
+static int read_and_target(const options *o, shift_run *sr, lam_error *err)
+{
+    double t0 = lam_seconds();
+    if (lam_reader_open(o->input, &sr->r, err)) return err->code;
+    lam_progress("reading %s", lam_reader_name(sr->r));
+    if (read_operator(sr->r, &sr->h, err)) return err->code;
+    lam_progress("read %d orbitals in %.2f s", sr->h->n, lam_seconds() - t0);
+    const char *src = lam_reader_name(sr->r);
+    if (lam_spinfree_validate(sr->h, src, "the one-norm the shift minimizes", err) != 0) return err->code;
+    if (resolve_target(o, sr->h, src, &sr->k, err)) return err->code;
+    if (lam_shift_recorded(lam_reader_meta(sr->r), sr->h->n, src, &sr->earlier, err)) return err->code;
+    const lam_shift *k = sr->k, *earlier = sr->earlier;
+    if (earlier && (earlier->electrons != k->electrons ||
+                    (lam_shift_has_spin(k) && lam_shift_has_spin(earlier) && earlier->ms2 != k->ms2)))
+        return lam_error_at(err, LAM_EX_DATA, src, 0,
+                            "the stream was already shifted for %d electrons (2Sz %d); a second shift "
+                            "for %d (2Sz %d) would leave no block as in the original operator",
+                            earlier->electrons, earlier->ms2, k->electrons, k->ms2);
+    return 0;
+}
+
+/* Both outputs (and the LP dump) open before the first byte of either is
+ * written; the dump is written and closed here. */
+static int open_outputs(const options *o, shift_run *sr, double fixed, lam_error *err)
+{
+    if (o->report && lam_report_open(o->report, &sr->report, err)) return err->code;
+    FILE *dump = NULL;
+    if (o->dump && !(dump = fopen(o->dump, "w")))
+        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->dump, strerror(errno));
+    if (lam_writer_open(o->output, o->gzip, &sr->w, err)) {
         if (dump) fclose(dump);
-        lam_writer_discard(w);
-        lam_report_discard(report);
-        goto fail;
+        return err->code;
     }
+    if (dump) {
+        lam_l1_write(dump, &sr->lp, fixed);
+        if (fclose(dump) != 0)
+            return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", o->dump, strerror(errno));
+    }
+    return 0;
+}
+
+/* H - K (or K) written as a spin-free or, with spin terms, fermion stream;
+ * after: the LP's value, which the operator written must have. */
+static int write_operator(const options *o, shift_run *sr, double after, lam_error *err)
+{
+    lam_shift *k = sr->k;
+    const lam_shift *recorded = sr->total ? sr->total : k;
+    lam_spinfree *h = sr->h;
     if (!lam_shift_has_spin(k)) {
         lam_spinfree *out;
-        if (o.emit_shift) {
-            out = lam_shift_apply(NULL, k);
+        if (o->emit_shift) {
+            if (lam_shift_apply(NULL, k, &out, err)) return err->code;
         } else {
             /* in place: H is not needed any more, and at 80 orbitals a copy
              * of its integrals is 330 MB */
-            lam_shift_subtract(h, k);
+            if (lam_shift_subtract(h, k, err)) return err->code;
             out = h;
             /* the operator written is the one whose norm is reported */
             double check = lam_spinfree_lambda(out);
-            if (fabs(check - after) > 1e-9 * fmax(1, after)) {
-                lam_error_set(&err, LAM_EX_SOFTWARE, "lambda of H - K is %.17g, the LP says %.17g",
-                              check, after);
-                lam_writer_discard(w);
-                lam_report_discard(report);
-                rc = LAM_EX_SOFTWARE;
-                goto fail;
-            }
+            if (fabs(check - after) > 1e-9 * fmax(1, after))
+                return lam_error_set(err, LAM_EX_SOFTWARE, "lambda of H - K is %.17g, the LP says %.17g",
+                                     check, after);
         }
-        lam_spinfree_describe(out, &meta);
-        lam_shift_describe(recorded, &meta);
-        lam_writer_header(w, LAM_KIND_SPINFREE, &meta, history);
-        lam_spinfree_write_terms(w, out);
+        lam_spinfree_describe(out, &sr->meta);
+        lam_shift_describe(recorded, &sr->meta);
+        lam_writer_header(sr->w, LAM_KIND_SPINFREE, &sr->meta, sr->history);
+        lam_spinfree_write_terms(sr->w, out);
         if (out != h) lam_spinfree_free(out);
     } else {
         lam_fermion_op out;
-        lam_shift_apply_fermion(o.emit_shift ? NULL : h, k, o.order, &out);
-        lam_meta_remove(&meta, "orbitals");
-        lam_meta_setf(&meta, "modes", "%d", 2 * h->n);
-        lam_meta_set(&meta, "spin-order", lam_spin_order_name(o.order));
-        lam_meta_setf(&meta, "electrons", "%d", k->electrons);
-        lam_meta_setf(&meta, "ms2", "%d", k->ms2);
-        lam_shift_describe(recorded, &meta);
-        lam_writer_header(w, LAM_KIND_FERMION, &meta, history);
-        lam_fermion_write_terms(w, &out);
+        lam_shift_apply_fermion(o->emit_shift ? NULL : h, k, o->order, &out);
+        lam_meta_remove(&sr->meta, "orbitals");
+        lam_meta_setf(&sr->meta, "modes", "%d", 2 * h->n);
+        lam_meta_set(&sr->meta, "spin-order", lam_spin_order_name(o->order));
+        lam_meta_setf(&sr->meta, "electrons", "%d", k->electrons);
+        lam_meta_setf(&sr->meta, "ms2", "%d", k->ms2);
+        lam_shift_describe(recorded, &sr->meta);
+        lam_writer_header(sr->w, LAM_KIND_FERMION, &sr->meta, sr->history);
+        lam_fermion_write_terms(sr->w, &out);
         lam_fermion_free(&out);
     }
-    rc = lam_writer_close(w, &err);
-    if (rc) {
-        lam_report_discard(report);
-        goto fail;
-    }
+    lam_writer *w = sr->w;
+    sr->w = NULL;
+    return lam_writer_close(w, err);
+}
 
-    lam_report *rep = lam_report_new();
+static int shift(const options *o, int argc, char **argv, shift_run *sr, lam_error *err)
+{
+    double t0 = lam_seconds();
+    if (read_and_target(o, sr, err)) return err->code;
+    lam_spinfree *h = sr->h;
+    lam_shift *k = sr->k;
+    const char *src = lam_reader_name(sr->r);
+
+    double t_lp = lam_seconds();
+    double fixed;
+    if (lam_shift_build_lp(h, k, &sr->lp, &fixed, err)) return err->code;
+    lam_progress("%d orbitals, %d parameters, %zu rows depend on them", h->n, k->nparams, sr->lp.rows);
+    lam_l1_options lo;
+    lam_l1_default_options(&lo);
+    lo.rel_gap = o->gap;
+    lo.offset = fixed;
+    lo.max_iter = (int)o->max_iter;
+    lam_l1_result res;
+    double t_solve = lam_seconds();
+    if (lam_l1_solve(&sr->lp, &lo, show_iteration, &fixed, k->x, &res, err)) return err->code;
+    t_solve = lam_seconds() - t_solve;
+    t_lp = lam_seconds() - t_lp;
+    /* the metadata describes the whole shift since the original operator */
+    if (sr->earlier && !o->emit_shift) sr->total = lam_shift_sum(sr->earlier, k);
+
+    double before = lam_spinfree_lambda(h);
+    double after = fixed + res.primal;
+    lam_meta_copy(&sr->meta, lam_reader_meta(sr->r));
+    sr->history = lam_history_from_argv(argc, argv);
+    lam_progress("optimum found in %.2f s; writing %s", t_lp, o->emit_shift ? "K" : "H - K");
+    if (open_outputs(o, sr, fixed, err)) return err->code;
+    if (write_operator(o, sr, after, err)) return err->code;
+
+    lam_report *rep = sr->rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
-    lam_report_str(rep, "label", o.label ? o.label : src);
+    lam_report_str(rep, "label", o->label ? o->label : src);
     lam_report_num(rep, "lambda_before", before);
     lam_report_num(rep, "lambda_after", after);
     lam_report_num(rep, "gap", res.primal - res.dual);
     lam_report_num(rep, "relative_gap", (res.primal - res.dual) / fmax(after, 1e-300));
     lam_report_num(rep, "lambda_lower_bound", fixed + res.dual);
-    lam_report_str(rep, "converged", status == 0 ? "yes" : "no");
+    lam_report_str(rep, "converged", res.converged ? "yes" : "no");
     lam_report_int(rep, "electrons", k->electrons);
     lam_report_num(rep, "a1", lam_shift_a1(k));
     lam_report_num(rep, "a2", lam_shift_a2(k));
@@ -439,32 +455,38 @@ int main(int argc, char **argv)
     }
     lam_report_int(rep, "orbitals", h->n);
     lam_report_int(rep, "parameters", k->nparams);
-    lam_report_int(rep, "rows", (long long)lp.rows);
+    lam_report_int(rep, "rows", (long long)sr->lp.rows);
     lam_report_int(rep, "blocks", res.blocks);
     lam_report_int(rep, "largest_block", res.largest_block);
     lam_report_int(rep, "iterations", res.iterations);
     lam_report_num(rep, "lp_seconds", t_lp);
     lam_report_num(rep, "solve_seconds", t_solve);
     lam_report_num(rep, "seconds", lam_seconds() - t0);
-    if (report) {
-        lam_report_write(rep, report, o.tsv);
-        rc = lam_report_close(report, o.report, &err);
+    if (sr->report) {
+        lam_report_write(rep, sr->report, o->tsv);
+        FILE *report = sr->report;
+        sr->report = NULL;
+        if (lam_report_close(report, o->report, err)) return err->code;
     }
-    if (status != 0 && !rc)
+    if (!res.converged)
         lam_warn("warning: the relative gap %.3g did not reach %.3g in %d iterations; "
                  "H - K is exact, only possibly not the best",
-                 (res.primal - res.dual) / fmax(after, 1e-300), o.gap, res.iterations);
+                 (res.primal - res.dual) / fmax(after, 1e-300), o->gap, res.iterations);
+    return 0;
+}
 
-    lam_report_free(rep);
-fail:
-    free(history);
-    lam_meta_free(&meta);
-    lam_l1_free(&lp);
-    lam_shift_free(k);
-    lam_shift_free(earlier);
-    lam_shift_free(total);
-    lam_spinfree_free(h);
-    lam_reader_close(r);
-    if (rc) lam_error_exit(&err);
+int main(int argc, char **argv)
+{
+    lam_set_program(argv[0]);
+    options o;
+    parse_options(argc, argv, &o);
+    if (o.emit_recorded) return emit_recorded(&o, argc, argv);
+    shift_run sr;
+    memset(&sr, 0, sizeof sr);
+    lam_meta_init(&sr.meta);
+    lam_error err;
+    int rc = shift(&o, argc, argv, &sr, &err);
+    shift_run_free(&sr);
+    lam_exit_on_error(rc, &err);
     return 0;
 }

@@ -8,6 +8,13 @@
 #include "cost.h"
 #include "tap.h"
 
+/* A library failure here is a failed test, with its message. */
+static lam_error lib_err;
+static void must(int rc)
+{
+    if (rc) tap_ok(0, lib_err.msg);
+}
+
 /* Walk steps = ceil(pi lambda / (2 eps)): Babbush et al., PRX 8, 041015
  * (2018) and Lee et al., PRX Quantum 2, 030305 (2021), from memory. */
 static void walk_steps_by_hand(void)
@@ -250,7 +257,7 @@ static void fragments_summary(void)
     lam_fragments_add(fr, 1, 1, 3, 0.12);
     lam_fragments_merge(fr);
     lam_lcu_summary lcu;
-    lam_cost_summary_from_fragments(fr, NULL, &lcu);
+    must(lam_cost_summary_from_fragments(fr, NULL, &lcu, &lib_err));
     tap_near(lcu.lambda, 2.23, 1e-14, "fragments flat lambda 2.23");
     tap_near(lcu.df_lambda, 2.48, 1e-12, "fragments DF lambda 2.48");
     tap_ok(lcu.df_factors == 1 && lcu.df_eigvecs == 4, "one factor, 4 eigenvectors");

@@ -20,6 +20,13 @@
 #include "eigen.h"
 #include "tap.h"
 
+/* A library failure here is a failed test, with its message. */
+static lam_error lib_err;
+static void must(int rc)
+{
+    if (rc) tap_ok(0, lib_err.msg);
+}
+
 typedef struct {
     size_t n;
     const double *ramp; /* may be NULL */
@@ -62,21 +69,60 @@ static void solve(size_t n, const double *ramp, int highest, size_t dense_limit,
     double *diag = malloc(n * sizeof(double));
     for (size_t i = 0; i < n; ++i) diag[i] = 2 + (ramp ? ramp[i] : 0);
     lam_eigen_problem p;
-    lam_eigen_defaults(&p);
-    p.dim = n;
-    p.apply = path_apply;
-    p.ctx = &op;
-    p.diag = diag;
+    lam_eigen_problem_init(&p, n, path_apply, &op, diag);
     p.highest = highest;
     p.dense_limit = dense_limit;
     p.max_iter = 3000;
     p.tol = 1e-9;
-    lam_eigen_extreme(&p, res, NULL);
+    must(lam_eigen_extreme(&p, res, NULL, &lib_err));
+    free(diag);
+}
+
+/* y = NaN: what a non-finite operator gives (the stream readers refuse
+ * coefficients beyond 1e100, so no input file gets here). */
+static void nan_apply(void *ctx, const double *x, double *y)
+{
+    size_t n = *(const size_t *)ctx;
+    for (size_t i = 0; i < n; ++i) y[i] = x[i] * NAN;
+}
+
+/* LAPACK's failures and an empty problem come back as code 70 with the
+ * routine named, on the dense and the Davidson path alike. */
+static void failures_return(void)
+{
+    lam_error err;
+    double a[4] = {1, NAN, NAN, 2}, w[2];
+    tap_ok(lam_eigen_dense(2, a, w, &err) == 70 && strstr(err.msg, "symmetric eigensolver failed"),
+           "NaN matrix: lam_eigen_dense fails with code 70");
+    double b[4] = {1, NAN, NAN, 2};
+    tap_ok(lam_symmetric_eigen(2, b, w, &err) == 70 && strstr(err.msg, "n = 2"),
+           "NaN matrix: lam_symmetric_eigen fails with code 70, the order named");
+    size_t n = 400;
+    double *diag = calloc(n, sizeof(double));
+    lam_eigen_problem p;
+    lam_eigen_problem_init(&p, n, nan_apply, NULL, diag);
+    p.ctx = &p.dim;
+    lam_eigen_result r;
+    p.dense_limit = 500;
+    tap_ok(lam_eigen_extreme(&p, &r, NULL, &err) == 70 && strstr(err.msg, "LAPACK dsyevr failed"),
+           "NaN operator, dense beyond 300: code 70, dsyevr named");
+    p.dim = 20;
+    tap_ok(lam_eigen_extreme(&p, &r, NULL, &err) == 70 && strstr(err.msg, "LAPACK dsyev failed"),
+           "NaN operator, small dense: code 70, dsyev named");
+    p.dim = n;
+    p.dense_limit = 0;
+    tap_ok(lam_eigen_ends(&p, &r, NULL, &err) == 70 && strstr(err.msg, "LAPACK dsyev failed"),
+           "NaN operator, Davidson: code 70 from the Ritz step");
+    p.dim = 0;
+    tap_ok(lam_eigen_extreme(&p, &r, NULL, &err) == 70 &&
+               strcmp(err.msg, "eigenvalue problem of dimension 0") == 0,
+           "dimension 0: code 70");
     free(diag);
 }
 
 int main(void)
 {
+    failures_return();
     const double pi = 3.14159265358979323846;
     lam_eigen_result r;
 
@@ -103,7 +149,7 @@ int main(void)
         a[i * n + i] = 2 + ramp[i];
         if (i + 1 < n) a[i * n + i + 1] = a[(i + 1) * n + i] = -1;
     }
-    lam_eigen_dense((int)n, a, w);
+    must(lam_eigen_dense((int)n, a, w, &lib_err));
     solve(n, ramp, 0, 0, &r);
     tap_near(r.value, w[0], 1e-10, "Davidson with a ramp: lowest = LAPACK");
     tap_ok(r.value >= w[0] - 1e-12, "the value is a Rayleigh quotient: not below the lowest eigenvalue");
@@ -116,27 +162,23 @@ int main(void)
     path_op op = {n, ramp, 1};
     double *diag = malloc(2 * n * sizeof(double));
     for (size_t i = 0; i < 2 * n; ++i) diag[i] = 2 + ramp[i % n];
-    lam_eigen_defaults(&p);
-    p.dim = n;
-    p.apply = path_apply;
-    p.ctx = &op;
-    p.diag = diag;
+    lam_eigen_problem_init(&p, n, path_apply, &op, diag);
     p.dense_limit = 0;
     p.max_iter = 3000;
     p.spread = 40; /* |A| <= 4 + 30 */
     lam_eigen_result r0;
     p.check_steps = 0;
-    lam_eigen_extreme(&p, &r0, NULL);
+    must(lam_eigen_extreme(&p, &r0, NULL, &lib_err));
     tap_ok(!r0.extreme, "without the check a Davidson value is not called extreme");
     p.check_steps = 400;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     tap_ok(r.extreme, "ramp: the lowest is certified extreme");
     tap_ok(r.certificate == LAM_EIGEN_BY_CONGRUENCE && r.roots == 1,
            "ramp: a gap to the next level: the congruence check certifies the lowest");
     tap_near(r.value, w[0], 1e-9, "ramp: the certified lowest is LAPACK's");
     tap_ok(r.other <= w[0] + 1e-12 && r.value - r.other <= 1e-9, "ramp: the certified lower end is below E_min, within tol");
     p.highest = 1;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     tap_ok(r.extreme && fabs(r.value - w[n - 1]) <= 1e-9, "ramp: the highest is certified extreme");
 
     /* a degenerate lowest level: two equal blocks */
@@ -144,7 +186,7 @@ int main(void)
     p.dim = 2 * n;
     p.ctx = &two;
     p.highest = 0;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     tap_ok(r.extreme && r.roots >= 2, "degenerate lowest: certified (with two roots or more)");
     tap_ok(r.certificate == LAM_EIGEN_BY_BLOCK,
            "degenerate lowest: the congruence check refuses (two eigenvalues below sigma), the block check certifies");
@@ -164,7 +206,7 @@ int main(void)
     p.diag = d2;
     p.spread = 20;
     p.tol = 1e-6;
-    lam_eigen_extreme(&p, &r, NULL);
+    must(lam_eigen_extreme(&p, &r, NULL, &lib_err));
     double want = 1 - 3.2 * cos(pi / (double)(half + 1));
     tap_ok(r.extreme, "start at an interior eigenvalue: the value is certified extreme");
     tap_ok(r.certificate == LAM_EIGEN_BY_BLOCK,

@@ -10,6 +10,13 @@
 #include "norm.h"
 #include "shift.h"
 #include "tap.h"
+
+/* A library failure here is a failed test, with its message. */
+static lam_error lib_err;
+static void must(int rc)
+{
+    if (rc) tap_ok(0, lib_err.msg);
+}
 #include "testops.h"
 
 static unsigned long long rng_state = 0x9E3779B97F4A7C15ULL;
@@ -32,13 +39,14 @@ static void rows_match_closed_form(int n, int electrons, unsigned terms, const c
     lam_shift *k = lam_shift_new(n, electrons, 0, terms);
     lam_l1_problem lp;
     double fixed;
-    lam_shift_build_lp(h, k, &lp, &fixed);
+    must(lam_shift_build_lp(h, k, &lp, &fixed, &lib_err));
     char name[160];
     snprintf(name, sizeof name, "%s: rows at x = 0 give lambda(H)", what);
     tap_near(fixed + lam_l1_objective(&lp, k->x), lam_spinfree_lambda(h), 1e-12, name);
     for (int trial = 0; trial < 3; ++trial) {
         randomize(k);
-        lam_spinfree *hk = lam_shift_apply(h, k);
+        lam_spinfree *hk;
+        must(lam_shift_apply(h, k, &hk, &lib_err));
         snprintf(name, sizeof name, "%s: rows at random x give lambda(H - K)", what);
         tap_near(fixed + lam_l1_objective(&lp, k->x), lam_spinfree_lambda(hk), 1e-12, name);
         snprintf(name, sizeof name, "%s: H - K keeps the real 8-fold symmetry", what);
@@ -60,7 +68,8 @@ static void operator_matches_definition(void)
     int n = 3, n0 = 2;
     lam_shift *k = lam_shift_new(n, n0, 0, LAM_SHIFT_DEFAULT);
     randomize(k);
-    lam_spinfree *kk = lam_shift_apply(NULL, k);
+    lam_spinfree *kk;
+    must(lam_shift_apply(NULL, k, &kk, &lib_err));
     lam_spinfree *ref = lam_spinfree_new(n);
     double a1 = lam_shift_a1(k), a2 = lam_shift_a2(k);
     ref->e0 = -a1 * n0 - a2 * n0 * n0;
@@ -108,7 +117,7 @@ static void spin_rows_match_majorana(int ms2)
     lam_shift *k = lam_shift_new(n, n0, ms2, LAM_SHIFT_DEFAULT | LAM_SHIFT_SPIN_DEFAULT);
     lam_l1_problem lp;
     double fixed;
-    lam_shift_build_lp(h, k, &lp, &fixed);
+    must(lam_shift_build_lp(h, k, &lp, &fixed, &lib_err));
     for (int trial = 0; trial < 2; ++trial) {
         randomize(k);
         lam_fermion_op op;
@@ -136,24 +145,42 @@ static void optimum_brackets(void)
 {
     lam_spinfree *h = random_operator(5, 4);
     lam_shift *k = lam_shift_new(5, 4, 0, LAM_SHIFT_DEFAULT);
-    lam_l1_problem lp;
     double fixed;
-    lam_shift_build_lp(h, k, &lp, &fixed);
-    lam_l1_options opt;
-    lam_l1_default_options(&opt);
-    opt.offset = fixed;
     lam_l1_result res;
-    int st = lam_l1_solve(&lp, &opt, NULL, NULL, k->x, &res);
-    lam_spinfree *hk = lam_shift_apply(h, k);
+    must(lam_shift_optimize(h, k, &fixed, &res, &lib_err));
+    lam_spinfree *hk;
+    must(lam_shift_apply(h, k, &hk, &lib_err));
     double after = lam_spinfree_lambda(hk);
-    tap_ok(st == 0, "random 5-orbital operator: solver converged");
+    tap_ok(res.converged, "random 5-orbital operator: solver converged");
     tap_ok(after < lam_spinfree_lambda(h), "shift lowers lambda");
     tap_near(after, fixed + res.primal, 1e-12 * after, "returned operator has the primal value");
     tap_ok(fixed + res.dual <= after && after - (fixed + res.dual) <= 1e-10 * after,
            "certified gap below 1e-10 relative");
     lam_spinfree_free(hk);
-    lam_l1_free(&lp);
     lam_shift_free(k);
+    lam_spinfree_free(h);
+}
+
+/* The callers' mistakes come back as internal errors (code 70), with
+ * nothing allocated left behind. */
+static void misuse_returns(void)
+{
+    lam_spinfree *h = random_operator(3, 2);
+    lam_shift *spin = lam_shift_new(3, 2, 0, LAM_SHIFT_DEFAULT | LAM_SHIFT_SPIN_DEFAULT);
+    lam_shift *other = lam_shift_new(4, 2, 0, LAM_SHIFT_DEFAULT);
+    lam_spinfree *out = h;
+    lam_error err;
+    tap_ok(lam_shift_apply(h, spin, &out, &err) == 70 && out == NULL,
+           "spin terms: no spin-free H - K (code 70, nothing returned)");
+    tap_ok(strcmp(err.msg, "shift: spin terms make a spin-free form impossible") == 0, "... said so");
+    tap_ok(lam_shift_subtract(h, spin, &err) == 70, "spin terms: no in-place subtraction either");
+    lam_l1_problem lp;
+    double fixed;
+    tap_ok(lam_shift_build_lp(h, other, &lp, &fixed, &err) == 70 &&
+               strcmp(err.msg, "shift: orbital counts differ") == 0,
+           "a shift for 4 orbitals on a 3-orbital H: code 70");
+    lam_shift_free(other);
+    lam_shift_free(spin);
     lam_spinfree_free(h);
 }
 
@@ -246,6 +273,7 @@ int main(void)
     spin_rows_match_majorana(0);
     spin_rows_match_majorana(1);
     optimum_brackets();
+    misuse_returns();
     fold_round_trip(LAM_SPIN_INTERLEAVED, "interleaved");
     fold_round_trip(LAM_SPIN_BLOCKED, "blocked");
     metadata_round_trip();
