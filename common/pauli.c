@@ -300,7 +300,9 @@ size_t lam_rowhash_insert(lam_rowhash *h, const uint64_t *rows, size_t width,
 {
     if (2 * (h->used + 1) > h->size)
         rowhash_resize(h, rows, width, tags, h->size ? lam_mul_size(h->size, 2) : 64);
-    if (cand >= SLOT_INDEX_MASK) lam_fail(LAM_EX_SOFTWARE, "hash index: too many rows");
+    /* the slots address 2^40 rows, at least 8 TiB of keys: the table's
+     * limit is a memory limit, reported as out of memory */
+    if (cand >= SLOT_INDEX_MASK) lam_out_of_memory(lam_mul_size(cand + 1, lam_mul_size(width, sizeof(uint64_t))));
     const uint64_t *row = rows + cand * width;
     int32_t tag = tags ? tags[cand] : 0;
     uint64_t hv = row_hash(row, width, tag), fp = SLOT_FP(hv);

@@ -55,15 +55,6 @@ static _Noreturn __attribute__((format(printf, 2, 3))) void fatal(int code, cons
     leave(code);
 }
 
-void lam_fail(int code, const char *fmt, ...)
-{
-    va_list ap;
-    va_start(ap, fmt);
-    vreport(NULL, 0, fmt, ap);
-    va_end(ap);
-    leave(code);
-}
-
 void lam_error_clear(lam_error *err)
 {
     err->code = LAM_EX_OK;

@@ -28,11 +28,6 @@ enum lam_exit {
 void lam_set_program(const char *argv0);
 const char *lam_program(void);
 
-/* Print "prog: msg" and exit with code.  Going away: its last caller is
- * pauli.c's hash index (being converted to a returned error); nothing new
- * may call it (library code returns a lam_error, see below). */
-_Noreturn void lam_fail(int code, const char *fmt, ...)
-    __attribute__((format(printf, 2, 3)));
 /* An error handed back by library code.  Library functions that can fail
  * on bad input take a lam_error *err, fill it and return its code (non-zero);
  * only a program's main prints it and exits (lam_error_exit), after freeing
