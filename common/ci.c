@@ -605,14 +605,9 @@ size_t lam_ci_solve_bytes(const lam_ci_ham *h, int na, int nb, const lam_eigen_p
     return bytes;
 }
 
-typedef struct {
-    const lam_ci_ham *h;
-    lam_ci_sector *s;
-} sigma_ctx;
-
-static void sigma_apply(void *ctx, const double *x, double *y)
+void lam_ci_sigma_apply(void *ctx, const double *x, double *y)
 {
-    sigma_ctx *c = ctx;
+    lam_ci_sigma_ctx *c = ctx;
     lam_ci_sigma(c->h, c->s, x, y);
 }
 
@@ -624,10 +619,10 @@ int lam_ci_solve(const lam_ci_ham *h, int na, int nb, const lam_eigen_problem *t
     if (lam_ci_sector_new(h, na, nb, lam_ci_scratch_bytes(dim), &s, err)) return err->code;
     double *diag = lam_malloc(lam_mul_size(s->dim, sizeof(double)));
     lam_ci_diagonal(h, s, diag);
-    sigma_ctx ctx = {h, s};
+    lam_ci_sigma_ctx ctx = {h, s};
     lam_eigen_problem p = *tmpl;
     p.dim = s->dim;
-    p.apply = sigma_apply;
+    p.apply = lam_ci_sigma_apply;
     p.ctx = &ctx;
     p.diag = diag;
     int rc = lam_eigen_ends(&p, lo, hi, err);

@@ -108,6 +108,13 @@ void lam_ci_set_threads(int threads);
 /* sigma = H c on the sector. */
 void lam_ci_sigma(const lam_ci_ham *h, lam_ci_sector *s, const double *c,
                   double *sigma);
+/* lam_ci_sigma as the eigensolver's operator (lam_eigen_apply): ctx is a
+ * lam_ci_sigma_ctx. */
+typedef struct {
+    const lam_ci_ham *h;
+    lam_ci_sector *s;
+} lam_ci_sigma_ctx;
+void lam_ci_sigma_apply(void *ctx, const double *x, double *y);
 /* Diagonal elements <I|H|I>. */
 void lam_ci_diagonal(const lam_ci_ham *h, const lam_ci_sector *s,
                      double *diag);

@@ -119,6 +119,14 @@ static int read_terms(lam_reader *r, long n, lam_spinfree *sf, held_term **held,
     return rc;
 }
 
+int lam_spinfree_read_if_kind(lam_reader *r, lam_kind *kind, lam_spinfree **out, lam_error *err)
+{
+    *out = NULL;
+    int rc = lam_reader_kind(r, kind, err);
+    if (rc || *kind != LAM_KIND_SPINFREE) return rc;
+    return lam_spinfree_read(r, out, err);
+}
+
 int lam_spinfree_read(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
     *out = NULL;

@@ -44,6 +44,9 @@ void lam_spinfree_add_two(lam_spinfree *sf, int p, int q, int r, int s,
  * absent, from the largest index.  "electrons:" and "ms2:" are taken when
  * present.  0, or the reader's error code (nothing left allocated). */
 int lam_spinfree_read(lam_reader *r, lam_spinfree **out, lam_error *err);
+/* The stream's kind into *kind and, when it is spinfree, the operator into
+ * *out; for any other kind *out is NULL and the caller reads or refuses it. */
+int lam_spinfree_read_if_kind(lam_reader *r, lam_kind *kind, lam_spinfree **out, lam_error *err);
 /* Read the terms of a spinfree stream that declares "orbitals: n" one at a
  * time, without the dense n^4 arrays: fn gets each line's coefficient and
  * indices (c alone, c E_pq or c e_pqrs) and its line number; *norb gets n.

@@ -142,10 +142,8 @@ static void parse_options(int argc, char **argv, options *o)
 static int read_operator(lam_reader *r, lam_spinfree **out, lam_error *err)
 {
     lam_kind kind;
-    int rc = lam_reader_kind(r, &kind, err);
-    *out = NULL;
-    if (rc) return rc;
-    if (kind == LAM_KIND_SPINFREE) return lam_spinfree_read(r, out, err);
+    int rc = lam_spinfree_read_if_kind(r, &kind, out, err);
+    if (rc || *out) return rc;
     if (kind == LAM_KIND_FERMION) {
         lam_spin_order order;
         lam_fermion_op op;

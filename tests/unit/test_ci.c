@@ -110,16 +110,6 @@ static void brute_matrix(const lam_spinfree *sf, int na, int nb, int *dim_out, d
     *mat = m;
 }
 
-typedef struct {
-    const lam_ci_ham *h;
-    lam_ci_sector *s;
-} sigma_ctx;
-
-static void sigma_apply(void *ctx, const double *x, double *y)
-{
-    sigma_ctx *c = ctx;
-    lam_ci_sigma(c->h, c->s, x, y);
-}
 
 static void check_sector(const lam_spinfree *sf, int na, int nb, size_t scratch, const char *what)
 {
@@ -211,10 +201,10 @@ int main(void)
     must(lam_ci_sector_new(h, 3, 3, 1 << 16, &s, &lib_err));
     double *diag = malloc(s->dim * sizeof(double));
     lam_ci_diagonal(h, s, diag);
-    sigma_ctx ctx = {h, s};
+    lam_ci_sigma_ctx ctx = {h, s};
     for (int hi = 0; hi < 2; ++hi) {
         lam_eigen_problem p;
-        lam_eigen_problem_init(&p, s->dim, sigma_apply, &ctx, diag);
+        lam_eigen_problem_init(&p, s->dim, lam_ci_sigma_apply, &ctx, diag);
         p.highest = hi;
         p.dense_limit = 1000;
         lam_eigen_result dense, dav;
