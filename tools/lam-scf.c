@@ -266,6 +266,7 @@ typedef struct {
     lam_scf *scf;
     lam_spinfree *op;
     FILE *out; /* NULL once closed */
+    const char *made; /* the -o file this run created, removed if it fails */
 } scf_run;
 
 static void scf_run_free(scf_run *run)
@@ -304,6 +305,7 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
     if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
     if (open_output(o->output, &run->out, err)) return err->code;
+    if (run->out != stdout) run->made = o->output;
     if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
     const lam_scf *s = run->scf;
     if (!o->quiet) say_energy(s);
@@ -326,10 +328,13 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-    scf_run run = {NULL, NULL, NULL, NULL, NULL};
+    scf_run run = {NULL, NULL, NULL, NULL, NULL, NULL};
     lam_error err;
     int rc = scf(&o, &run, &err);
     scf_run_free(&run);
+    /* the output was opened before the work so that a bad path fails at
+     * once; a run that fails later leaves no half-written file behind */
+    if (rc && run.made) remove(run.made);
     lam_exit_on_error(rc, &err);
     return 0;
 }
