@@ -661,12 +661,11 @@ static int certify_by_congruence(const lam_eigen_problem *p, const signed_op *op
     pb.check_steps = 0;
     pb.spread = 0;
     signed_op bop = {&pb, 1.0, NULL, 0, NULL, 0};
-    for (size_t i = 0; i < dim; ++i) tmp[i] = x[i] / w[i];
+    /* B's start: W^-1 x, the direction x stands for (hx is free now) */
+    for (size_t i = 0; i < dim; ++i) hx[i] = x[i] / w[i];
     lam_eigen_result rb;
     memset(&rb, 0, sizeof rb);
-    double *start = hx; /* hx is no longer needed */
-    memcpy(start, tmp, dim * sizeof(double));
-    if ((rc = solve_davidson(&pb, &bop, &rb, z, start, NULL, err))) goto done;
+    if ((rc = solve_davidson(&pb, &bop, &rb, z, hx, NULL, err))) goto done;
     res->check_iterations += rb.iterations;
     lam_progress("%s%scongruence check: sigma %.9f, B's lowest %.3e (residual %.1e, %d steps)",
                  p->label ? p->label : "", p->label ? ": " : "", op->sign * sigma, rb.value,
