@@ -62,8 +62,8 @@ void lam_cli_report_needs(const lam_cli_fields *f, const char *what)
 
 lam_kind lam_cli_kind(const char *arg, unsigned allowed)
 {
-    lam_kind k;
-    if (lam_kind_parse(arg, &k) == 0 && (allowed & LAM_CLI_KIND(k))) return k;
+    lam_kind k = lam_kind_parse(arg);
+    if (k != LAM_KIND_UNKNOWN && (allowed & LAM_CLI_KIND(k))) return k;
     const char *name[LAM_KIND_FRAGMENTS + 1];
     int n = 0;
     for (int i = LAM_KIND_SPINFREE; i <= LAM_KIND_FRAGMENTS; ++i)

@@ -108,12 +108,9 @@ const char *lam_cost_construction_name(lam_construction c) { return con_names[c]
 
 int lam_cost_construction_parse(const char *name, lam_construction *c)
 {
-    for (int i = 0; i < LAM_CON_COUNT; ++i)
-        if (strcmp(name, con_names[i]) == 0) {
-            *c = (lam_construction)i;
-            return 0;
-        }
-    return -1;
+    int i = lam_name_index(con_names, LAM_CON_COUNT, name);
+    if (i >= 0) *c = (lam_construction)i;
+    return i < 0 ? -1 : 0;
 }
 
 int lam_cost_applies(const lam_lcu_summary *lcu, lam_construction c)

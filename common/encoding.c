@@ -17,12 +17,9 @@ const char *lam_encoding_name(lam_encoding_kind k)
 
 int lam_encoding_parse(const char *name, lam_encoding_kind *k)
 {
-    for (int i = 0; i < 3; ++i)
-        if (strcmp(name, encoding_names[i]) == 0) {
-            *k = (lam_encoding_kind)i;
-            return 0;
-        }
-    return -1;
+    int i = lam_name_index(encoding_names, 3, name);
+    if (i >= 0) *k = (lam_encoding_kind)i;
+    return i < 0 ? -1 : 0;
 }
 
 static void set_bit(uint64_t *row, int j) { row[j / 64] |= (uint64_t)1 << (j % 64); }

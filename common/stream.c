@@ -26,14 +26,10 @@ const char *lam_kind_name(lam_kind kind)
                : "unknown";
 }
 
-int lam_kind_parse(const char *name, lam_kind *kind)
+lam_kind lam_kind_parse(const char *name)
 {
-    for (int k = LAM_KIND_SPINFREE; k <= LAM_KIND_FRAGMENTS; ++k)
-        if (strcmp(name, kind_names[k]) == 0) {
-            *kind = (lam_kind)k;
-            return 0;
-        }
-    return -1;
+    int k = lam_name_index(kind_names + LAM_KIND_SPINFREE, LAM_KIND_FRAGMENTS, name);
+    return k < 0 ? LAM_KIND_UNKNOWN : (lam_kind)(k + LAM_KIND_SPINFREE);
 }
 
 /* ------------------------------------------------------------------ */
@@ -279,8 +275,8 @@ static int take_meta(lam_reader *r, char *s, long line, lam_error *err)
     char *key = trim(s), *value = trim(colon + 1);
     if (!*key) return lam_reader_error(r, line, err, "metadata line with an empty key");
     if (strcmp(key, "kind") == 0) {
-        lam_kind k;
-        if (lam_kind_parse(value, &k) != 0)
+        lam_kind k = lam_kind_parse(value);
+        if (k == LAM_KIND_UNKNOWN)
             return lam_reader_error(r, line, err, "unknown stream kind '%s'", value);
         if (r->kind != LAM_KIND_UNKNOWN && r->kind != k)
             return lam_reader_error(r, line, err, "second kind '%s' contradicts '%s'", value,

@@ -30,8 +30,9 @@ typedef enum {
 } lam_kind;
 
 const char *lam_kind_name(lam_kind kind);
-/* Returns 0 and sets *kind for a known name, -1 otherwise. */
-int lam_kind_parse(const char *name, lam_kind *kind);
+/* The kind a name stands for; LAM_KIND_UNKNOWN for any other name
+ * ("unknown" included). */
+lam_kind lam_kind_parse(const char *name);
 
 /* ---- metadata: ordered key/value list; keys may repeat (history) ---- */
 typedef struct {

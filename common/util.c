@@ -165,6 +165,18 @@ char *lam_strdup(const char *s)
     return d;
 }
 
+void lam_free_each(void *const *buffers, size_t count)
+{
+    for (size_t i = 0; i < count; ++i) free(buffers[i]);
+}
+
+int lam_name_index(const char *const *names, int count, const char *name)
+{
+    for (int i = 0; i < count; ++i)
+        if (strcmp(name, names[i]) == 0) return i;
+    return -1;
+}
+
 /* Slow, always correct: glibc's strtod on a copy with the exponent letter
  * made 'e' (Fortran writes D). */
 static int parse_double_strtod(const char *tok, size_t n, double *out)

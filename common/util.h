@@ -71,6 +71,16 @@ void *lam_realloc(void *p, size_t n);
 /* count*size with overflow check (exit 70 on overflow). */
 size_t lam_mul_size(size_t count, size_t size);
 char *lam_strdup(const char *s);
+/* A free for each of the count buffers (NULL ones included); LAM_FREE_ALL
+ * names them in place: LAM_FREE_ALL(x->a, x->b). */
+void lam_free_each(void *const *buffers, size_t count);
+#define LAM_FREE_ALL(...)                                                        \
+    lam_free_each((void *const[]){__VA_ARGS__},                                 \
+                  sizeof((void *const[]){__VA_ARGS__}) / sizeof(void *))
+
+/* The index of name in the count names of an enumeration (its values in
+ * order), -1 when it is none of them. */
+int lam_name_index(const char *const *names, int count, const char *name);
 
 /* Strict parsing of a whole token.  Return 0 on success, -1 if the token is
  * not a complete number (trailing junk, empty, NaN, Inf, out of range).

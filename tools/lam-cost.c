@@ -132,8 +132,8 @@ static void parse_options(int argc, char **argv, options *o)
         case OPT_ROT: o->par.rot_bits = (int)lam_opt_long("--rot-bits", optarg, 3, 60); break;
         case OPT_UNGROUPED: o->ungrouped = 1; break;
         case OPT_KIND:
-            if (lam_kind_parse(optarg, &o->kind) != 0 ||
-                (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS))
+            o->kind = lam_kind_parse(optarg);
+            if (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS)
                 lam_usage_error("option --kind wants pauli or fragments, not '%s'", optarg);
             break;
         case LAM_OPT_FLOOR:
