@@ -121,9 +121,7 @@ int lam_ci_strings_new(int n, int k, lam_ci_strings **result, lam_error *err)
 void lam_ci_strings_free(lam_ci_strings *s)
 {
     if (!s) return;
-    free(s->mask);
-    free(s->exc);
-    free(s);
+    LAM_FREE_ALL(s->mask, s->exc, s);
 }
 
 /* ---- the prepared operator ---- */
@@ -184,10 +182,7 @@ lam_ci_ham *lam_ci_ham_new(const lam_spinfree *sf)
 void lam_ci_ham_free(lam_ci_ham *h)
 {
     if (!h) return;
-    free(h->pair);
-    free(h->kvec);
-    free(h->gmat);
-    free(h);
+    LAM_FREE_ALL(h->pair, h->kvec, h->gmat, h);
 }
 
 /* ---- sectors ---- */
@@ -274,11 +269,7 @@ void lam_ci_sector_free(lam_ci_sector *s)
     if (!s) return;
     if (s->beta != s->alpha) lam_ci_strings_free(s->beta);
     lam_ci_strings_free(s->alpha);
-    free(s->moves);
-    free(s->move_first);
-    free(s->d);
-    free(s->gbuf);
-    free(s);
+    LAM_FREE_ALL(s->moves, s->move_first, s->d, s->gbuf, s);
 }
 
 /* ---- sigma ----
@@ -473,9 +464,7 @@ void lam_ci_diagonal(const lam_ci_ham *h, const lam_ci_sector *s, double *diag)
             diag[ia * B->count + ib] = e;
         }
     }
-    free(ea);
-    free(eb);
-    free(jrow);
+    LAM_FREE_ALL(ea, eb, jrow);
 }
 
 /* ---- Slater-Condon rules over spin orbitals (alpha 0..n-1, beta n..2n-1) ---- */

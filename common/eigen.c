@@ -157,9 +157,7 @@ static int solve_dense(const lam_eigen_problem *p, const signed_op *op,
     res->other = res->extreme ? op->sign * (w[0] - res->residual) : NAN;
     if (vec) memcpy(vec, e, n * sizeof(double));
 done:
-    free(a);
-    free(e);
-    free(w);
+    LAM_FREE_ALL(a, e, w);
     return rc;
 }
 
@@ -397,18 +395,7 @@ static int solve_davidson(const lam_eigen_problem *p, const signed_op *op,
     res->converged = rnorm <= p->tol || quadratic;
     if (next) *next = s.m >= 2 ? w[1] : INFINITY;
     if (vec && !rc) memcpy(vec, x, dim * sizeof(double));
-    free(s.V);
-    free(s.AV);
-    free(s.T);
-    free(x);
-    free(ax);
-    free(r);
-    free(t);
-    free(Y);
-    free(w);
-    free(yprev);
-    free(work);
-    free(ov);
+    LAM_FREE_ALL(s.V, s.AV, s.T, x, ax, r, t, Y, w, yprev, work, ov);
     return rc;
 }
 
@@ -481,10 +468,7 @@ static int tridiagonal_ends(int k, const double *alpha, const double *beta, doub
         }
         *(end ? hi : lo) = w[0];
     }
-    free(iblock);
-    free(isplit);
-    free(w);
-    free(e);
+    LAM_FREE_ALL(iblock, isplit, w, e);
     return rc;
 }
 

@@ -142,11 +142,7 @@ lam_encoding *lam_encoding_new(lam_encoding_kind kind, int nmodes)
 void lam_encoding_free(lam_encoding *e)
 {
     if (!e) return;
-    free(e->matrix);
-    free(e->inverse);
-    free(e->images);
-    free(e->phase);
-    free(e);
+    LAM_FREE_ALL(e->matrix, e->inverse, e->images, e->phase, e);
 }
 
 void lam_encoding_each_pauli(const lam_encoding *e, const lam_majorana_set *m,

@@ -116,9 +116,7 @@ void lam_expm(int n, const double *a, double *out)
         matmul(n, out, out, next);
         memcpy(out, next, nn * sizeof(double));
     }
-    free(x);
-    free(term);
-    free(next);
+    LAM_FREE_ALL(x, term, next);
 }
 
 void lam_expm_frechet(int n, const double *a, const double *e, double *out)
@@ -251,12 +249,7 @@ int lam_lbfgs(int dim, double *x, lam_objective f, void *ctx, int max_iter, doub
         if (decrease <= 1e-16 * fmax(fabs(fcur), 1e-300) && decrease >= 0.0) break;
     }
     *fx = fcur;
-    free(g);
-    free(gn);
-    free(xn);
-    free(d);
-    free(sv);
-    free(yv);
+    LAM_FREE_ALL(g, gn, xn, d, sv, yv);
     return iter;
 }
 
@@ -365,19 +358,9 @@ double lam_fragment_fit(int n, const double *resid, const double *u0, const doub
         for (int i = 0; i < n; ++i)
             for (int j = i; j < n; ++j, ++at)
                 grad[at] = (i == j ? -2.0 : -4.0) * p[(size_t)i * n + j];
-        free(w);
-        free(p);
-        free(y);
-        free(gu);
-        free(ge);
-        free(m);
+        LAM_FREE_ALL(w, p, y, gu, ge, m);
     }
-    free(k);
-    free(e);
-    free(u);
-    free(lam);
-    free(v);
-    free(d);
+    LAM_FREE_ALL(k, e, u, lam, v, d);
     return f;
 }
 
@@ -506,12 +489,7 @@ static int double_factorization(const lam_spinfree *sf, const lam_factor_options
         if ((rc = factor_to_fragment(n, z, np, order[k], w[order[k]], u, lam, err))) break;
         list_push(fl, u, lam);
     }
-    free(m);
-    free(w);
-    free(z);
-    free(u);
-    free(lam);
-    free(order);
+    LAM_FREE_ALL(m, w, z, u, lam, order);
     return rc;
 }
 
@@ -543,13 +521,7 @@ double lam_fragment_fit_reduced(int n, const double *resid, const double *u0,
      * joint objective is the gradient of the reduced one. */
     double f = lam_fragment_fit(n, resid, u0, x, grad ? full : NULL);
     if (grad) memcpy(grad, full, (size_t)nk * sizeof(double));
-    free(x);
-    free(full);
-    free(k);
-    free(e);
-    free(u);
-    free(v);
-    free(lam);
+    LAM_FREE_ALL(x, full, k, e, u, v, lam);
     return f;
 }
 
@@ -576,10 +548,7 @@ static int leading_factor_rotation(int n, const double *resid, double *u, lam_er
             if (fabs(w[a]) > fabs(w[best])) best = a;
         rc = factor_to_fragment(n, z, np, best, w[best], u, lam, err);
     }
-    free(m);
-    free(w);
-    free(z);
-    free(lam);
+    LAM_FREE_ALL(m, w, z, lam);
     return rc;
 }
 
@@ -593,11 +562,7 @@ static int fit_one_fragment(int n, double *resid, const lam_factor_options *o, d
     double *kappa = new_matrix((size_t)nk, 1), *k = new_matrix((size_t)n, (size_t)n);
     double *e = new_matrix((size_t)n, (size_t)n);
     if (leading_factor_rotation(n, resid, u0, err)) {
-        free(u0);
-        free(v);
-        free(kappa);
-        free(k);
-        free(e);
+        LAM_FREE_ALL(u0, v, kappa, k, e);
         return err->code;
     }
     double norm2 = cblas_ddot((int)(nn * nn), resid, 1, resid, 1), fx;
@@ -609,11 +574,7 @@ static int fit_one_fragment(int n, double *resid, const lam_factor_options *o, d
     pair_projectors(n, u, v);
     diagonal_projection(n, v, resid, lam);
     add_fragment_tensor(n, v, lam, -1.0, resid);
-    free(u0);
-    free(v);
-    free(kappa);
-    free(k);
-    free(e);
+    LAM_FREE_ALL(u0, v, kappa, k, e);
     return 0;
 }
 
@@ -628,18 +589,14 @@ static int full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragme
     double norm = frobenius(n4, resid);
     while (norm > o->tol) {
         if (fl->count >= o->max_fragments) {
-            free(resid);
-            free(u);
-            free(lam);
+            LAM_FREE_ALL(resid, u, lam);
             return lam_error_set(err, LAM_EX_DATA,
                                  "full-rank fragments: residual %.3g Eh above --tol %.3g after %d "
                                  "fragments (raise --max-fragments or --tol)",
                                  norm, o->tol, fl->count);
         }
         if (fit_one_fragment(n, resid, o, u, lam, &info->iterations, err)) {
-            free(resid);
-            free(u);
-            free(lam);
+            LAM_FREE_ALL(resid, u, lam);
             return err->code;
         }
         list_push(fl, u, lam);
@@ -647,9 +604,7 @@ static int full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragme
         norm = frobenius(n4, resid);
         lam_progress("full rank: fragment %d, residual %.3e Eh", fl->count, norm);
         if (!(norm < before)) {
-            free(resid);
-            free(u);
-            free(lam);
+            LAM_FREE_ALL(resid, u, lam);
             return lam_error_set(err, LAM_EX_DATA,
                                  "full-rank fragments: fragment %d does not lower the residual "
                                  "(%.3g Eh, --tol %.3g is below what the fit can reach)",
@@ -657,9 +612,7 @@ static int full_rank(const lam_spinfree *sf, const lam_factor_options *o, fragme
         }
     }
     info->residual_norm = norm;
-    free(resid);
-    free(u);
-    free(lam);
+    LAM_FREE_ALL(resid, u, lam);
     return 0;
 }
 
@@ -707,9 +660,7 @@ static int add_one_body_fragment(lam_fragments *fr, const lam_spinfree *sf,
                                           LAM_H(two, q, p));
     if ((rc = symmetric_eigen(n, t, ev, w, err))) {
         lam_spinfree_free(two);
-        free(t);
-        free(ev);
-        free(w);
+        LAM_FREE_ALL(t, ev, w);
         return rc;
     }
     make_proper_rotation(n, w);
@@ -722,9 +673,7 @@ static int add_one_body_fragment(lam_fragments *fr, const lam_spinfree *sf,
         add_unitary(fr, 0, 2 * i + 1, -1, -0.5 * ev[i], o, info);
     }
     lam_spinfree_free(two);
-    free(t);
-    free(ev);
-    free(w);
+    LAM_FREE_ALL(t, ev, w);
     return 0;
 }
 

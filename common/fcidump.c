@@ -339,26 +339,18 @@ int lam_fcidump_read(const char *path, lam_fcidump **out, lam_error *err)
                      "complete files end with it, so the file may have been cut short",
                      in.name, in.line);
     }
-    free(named);
-    free(seen2);
-    free(seen1);
-    free(in.buf);
+    LAM_FREE_ALL(named, seen2, seen1, in.buf);
     gzclose(in.gz);
-    if (rc) {
-        lam_fcidump_free(fd);
-        return rc;
-    }
-    *out = fd;
-    return 0;
+    if (rc) lam_fcidump_free(fd);
+    else *out = fd;
+    return rc;
 }
 
 void lam_fcidump_free(lam_fcidump *fd)
 {
     if (!fd) return;
     lam_spinfree_free(fd->op);
-    free(fd->orbsym);
-    free(fd->source);
-    free(fd);
+    LAM_FREE_ALL(fd->orbsym, fd->source, fd);
 }
 
 static void write_header(FILE *out, const lam_fcidump *fd)

@@ -33,9 +33,7 @@ lam_fragments *lam_fragments_new(int n, int nfrag)
 void lam_fragments_free(lam_fragments *fr)
 {
     if (!fr) return;
-    free(fr->rot);
-    free(fr->terms);
-    free(fr);
+    LAM_FREE_ALL(fr->rot, fr->terms, fr);
 }
 
 void lam_fragments_add(lam_fragments *fr, int frag, int a, int b, double c)
@@ -508,10 +506,7 @@ int lam_fragments_to_spinfree(const lam_fragments *fr, const char *name, lam_spi
         sf->e0 += o.constant;
         rotate_back(sf, fr, f, d, lam);
     }
-    free(o.occ);
-    free(o.pair);
-    free(d);
-    free(lam);
+    LAM_FREE_ALL(o.occ, o.pair, d, lam);
     if (rc) {
         lam_spinfree_free(sf);
         return rc;

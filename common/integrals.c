@@ -295,13 +295,7 @@ static void shell_pair_build(shell_pair *sp, const lam_basis *b, int ia, int ib)
 
 static void shell_pair_free(shell_pair *sp)
 {
-    free(sp->nz_count);
-    free(sp->nz_index);
-    free(sp->p);
-    free(sp->pref);
-    free(sp->centre);
-    free(sp->e);
-    free(sp->ket_e);
+    LAM_FREE_ALL(sp->nz_count, sp->nz_index, sp->p, sp->pref, sp->centre, sp->e, sp->ket_e);
 }
 
 /* All pairs a >= b, pair (a, b) at a(a+1)/2 + b. */

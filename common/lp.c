@@ -32,11 +32,7 @@ void lam_l1_init(lam_l1_problem *p, int params)
 
 void lam_l1_free(lam_l1_problem *p)
 {
-    free(p->weight);
-    free(p->target);
-    free(p->start);
-    free(p->col);
-    free(p->val);
+    LAM_FREE_ALL(p->weight, p->target, p->start, p->col, p->val);
     memset(p, 0, sizeof *p);
 }
 
@@ -233,20 +229,12 @@ static void normal_init(normal_matrix *nm, const lam_l1_problem *p)
     }
     nm->mat = lam_malloc(lam_mul_size(total + 1, sizeof *nm->mat));
     nm->rhs = lam_malloc(lam_mul_size((size_t)k + 1, sizeof *nm->rhs));
-    free(parent);
-    free(used);
-    free(root_block);
+    LAM_FREE_ALL(parent, used, root_block);
 }
 
 static void normal_free(normal_matrix *nm)
 {
-    free(nm->block);
-    free(nm->local);
-    free(nm->size);
-    free(nm->offset);
-    free(nm->first);
-    free(nm->mat);
-    free(nm->rhs);
+    LAM_FREE_ALL(nm->block, nm->local, nm->size, nm->offset, nm->first, nm->mat, nm->rhs);
 }
 
 static size_t normal_total(const normal_matrix *nm)
@@ -603,9 +591,8 @@ int lam_l1_solve(const lam_l1_problem *p, const lam_l1_options *opt,
     res->converged = status == 0 && res->primal - res->dual <=
                      fmax(opt->rel_gap * fabs(opt->offset + res->primal), floor_gap);
 
-    free(s.u), free(s.v), free(s.y), free(s.dx), free(s.du), free(s.dv);
-    free(s.dy), free(s.dua), free(s.dva), free(s.dya), free(s.rp), free(s.rd);
-    free(s.D), free(s.tmp), free(s.rk), free(rcu), free(rcv);
+    LAM_FREE_ALL(s.u, s.v, s.y, s.dx, s.du, s.dv, s.dy, s.dua, s.dva, s.dya, s.rp, s.rd, s.D,
+                 s.tmp, s.rk, rcu, rcv);
     normal_free(&nm);
     return rc;
 }

@@ -158,22 +158,15 @@ int lam_molecule_read_xyz(const char *path, int bohr, lam_molecule **out, lam_er
     mol->source = lam_strdup(use_stdin ? "stdin" : path);
     int rc = read_atoms(f, mol, bohr ? 1.0 : 1.0 / LAM_BOHR_ANGSTROM, err);
     if (!use_stdin) fclose(f);
-    if (rc) {
-        lam_molecule_free(mol);
-        return rc;
-    }
-    *out = mol;
-    return 0;
+    if (rc) lam_molecule_free(mol);
+    else *out = mol;
+    return rc;
 }
 
 void lam_molecule_free(lam_molecule *mol)
 {
     if (!mol) return;
-    free(mol->z);
-    free(mol->xyz);
-    free(mol->line);
-    free(mol->source);
-    free(mol);
+    LAM_FREE_ALL(mol->z, mol->xyz, mol->line, mol->source, mol);
 }
 
 double lam_molecule_nuclear_repulsion(const lam_molecule *mol)

@@ -80,9 +80,7 @@ double lam_grouped_norm_finish(lam_grouped_norm *g, size_t *groups)
     double sum = 0;
     for (size_t k = 0; k < g->count; ++k) sum += lam_norm2_value(&g->norm[k]);
     if (groups) *groups = g->count;
-    free(g->labels);
-    free(g->norm);
-    free(g->slot);
+    LAM_FREE_ALL(g->labels, g->norm, g->slot);
     g->labels = NULL;
     g->norm = NULL;
     g->slot = NULL;

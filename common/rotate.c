@@ -185,10 +185,7 @@ int lam_rotate_orthonormalize(int n, double *u, lam_error *err)
     cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasTrans, n, n, n, 1.0, t, n, s, n, 0.0, r, n);
     memcpy(t, u, nn * sizeof(double));
     cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, n, n, 1.0, t, n, r, n, 0.0, u, n);
-    free(r);
-    free(t);
-    free(w);
-    free(s);
+    LAM_FREE_ALL(r, t, w, s);
     return 0;
 }
 
@@ -225,9 +222,7 @@ int lam_rotate_expm(int n, const double *k, double *e, lam_error *err)
                     next, n);
         memcpy(e, next, nn * sizeof(double));
     }
-    free(a);
-    free(term);
-    free(next);
+    LAM_FREE_ALL(a, term, next);
     return lam_rotate_orthonormalize(n, e, err);
 }
 
@@ -641,14 +636,7 @@ static int lbfgs(eval_ctx *c, double *u, int max_iter, double gtol, double ftol,
         if (old - f < ftol * fabs(f)) break;
     }
     if (!rc) rc = lam_rotate_orthonormalize(n, u, err);
-    free(g);
-    free(gt);
-    free(d);
-    free(S);
-    free(Y);
-    free(rho);
-    free(alpha);
-    free(ut);
+    LAM_FREE_ALL(g, gt, d, S, Y, rho, alpha, ut);
     return rc;
 }
 
@@ -936,13 +924,7 @@ int lam_rotate_optimize(const lam_spinfree *h, const double *u0, const lam_rotat
     res->after = sign * after;
     res->candidates = tr.count;
     res->surrogate_corr = rank_correlation(tr.count, tr.lam_s, tr.lam_g);
-    free(tr.lam_s);
-    free(tr.lam_g);
-    free(trial);
-    free(rnd);
-    free(rc.work);
-    free(rc.gh);
-    free(rc.gfull);
+    LAM_FREE_ALL(tr.lam_s, tr.lam_g, trial, rnd, rc.work, rc.gh, rc.gfull);
     lam_spinfree_free(rc.cur);
     lam_spinfree_free(rc.tmp);
     pairs_free(&rc.pairs);
@@ -1005,12 +987,9 @@ int lam_rotate_read_matrix(const char *path, int n, double **out, lam_error *err
                               ortho, LAM_ROTATE_ORTHO_TOL);
     }
     if (!rc) rc = lam_rotate_orthonormalize(n, u, err);
-    if (rc) {
-        free(u);
-        return rc;
-    }
-    *out = u;
-    return 0;
+    if (rc) free(u);
+    else *out = u;
+    return rc;
 }
 
 int lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u, lam_error *err)

@@ -274,16 +274,7 @@ static void scf_state_init(scf_state *w, int n, int m, const double *h, const do
 
 static void scf_state_free(scf_state *w)
 {
-    free(w->c);
-    free(w->scaled);
-    free(w->eps);
-    free(w->occ);
-    free(w->d);
-    free(w->f);
-    free(w->err);
-    free(w->work);
-    free(w->pd);
-    free(w->pg);
+    LAM_FREE_ALL(w->c, w->scaled, w->eps, w->occ, w->d, w->f, w->err, w->work, w->pd, w->pg);
 }
 
 /* Aufbau occupations for `electrons` over the orbital energies.  With
@@ -589,14 +580,7 @@ static int hessian_lowest(const scf_state *w, int nocc, double *vec, lam_eigen_r
     }
     int rc = lam_eigen_extreme(&p, res, vec, err);
     if (u && !rc) reflect(dim, u, vec, vec);
-    free(u);
-    free(diag);
-    free(h.x);
-    free(h.t);
-    free(h.d);
-    free(h.g);
-    free(h.pd);
-    free(h.pg);
+    LAM_FREE_ALL(u, diag, h.x, h.t, h.d, h.g, h.pd, h.pg);
     return rc;
 }
 
@@ -619,9 +603,7 @@ static int times_inverse_sqrt(int n, int k, int ld, double *b, double *m, lam_er
         }
     cblas_dgemm(CblasRowMajor, CblasNoTrans, CblasNoTrans, n, k, k, 1.0, b, ld, r, k, 0.0, t, k);
     for (int i = 0; i < n; ++i) memcpy(b + (size_t)i * ld, t + (size_t)i * k, (size_t)k * sizeof *t);
-    free(mu);
-    free(r);
-    free(t);
+    LAM_FREE_ALL(mu, r, t);
     return 0;
 }
 
@@ -823,11 +805,7 @@ static double *atomic_density(const lam_basis *b, const lam_molecule *mol, int a
         }
         scf_state_free(&w);
     }
-    free(ovl);
-    free(h);
-    free(x);
-    free(pk);
-    free(ab.shell);
+    LAM_FREE_ALL(ovl, h, x, pk, ab.shell);
     return d;
 }
 
@@ -925,9 +903,7 @@ int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_optio
     s->eps = w.eps;
     w.c = w.eps = NULL;
     scf_state_free(&w);
-    free(guess);
-    free(ovl);
-    free(x);
+    LAM_FREE_ALL(guess, ovl, x);
     if (stable > 0) {
         lam_scf_free(s);
         return err->code;
@@ -950,12 +926,7 @@ int lam_scf_run(const lam_molecule *mol, const lam_basis *b, const lam_scf_optio
 void lam_scf_free(lam_scf *s)
 {
     if (!s) return;
-    free(s->hcore);
-    free(s->eri);
-    free(s->pk);
-    free(s->c);
-    free(s->eps);
-    free(s);
+    LAM_FREE_ALL(s->hcore, s->eri, s->pk, s->c, s->eps, s);
 }
 
 /* Columns first .. first+count-1 of c (n x m) as an n x count matrix. */
@@ -1066,12 +1037,7 @@ static void transform_eri(const lam_scf *s, const double *c, int m, lam_spinfree
             for (int r = 0; r < m; ++r)
                 for (int u = 0; u < m; ++u) g[(size_t)r * m + u] = row[LAM_PAIR(r, u)];
         }
-    free(mo);
-    free(rows);
-    free(full);
-    free(t);
-    free(bm);
-    free(out);
+    LAM_FREE_ALL(mo, rows, full, t, bm, out);
 }
 
 lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active)
@@ -1097,13 +1063,7 @@ lam_spinfree *lam_scf_mo_hamiltonian(const lam_scf *s, int frozen, int active)
     for (int p = 0; p < active; ++p)
         for (int q = 0; q < p; ++q) LAM_H(sf, q, p) = LAM_H(sf, p, q);
     transform_eri(s, c, active, sf);
-    free(ccore);
-    free(d);
-    free(f);
-    free(pd);
-    free(pg);
-    free(c);
-    free(t);
+    LAM_FREE_ALL(ccore, d, f, pd, pg, c, t);
     return sf;
 }
 

@@ -98,10 +98,7 @@ lam_shift *lam_shift_new(int n, int electrons, int ms2, unsigned terms)
 void lam_shift_free(lam_shift *k)
 {
     if (!k) return;
-    free(k->ixi);
-    free(k->izeta);
-    free(k->x);
-    free(k);
+    LAM_FREE_ALL(k->ixi, k->izeta, k->x, k);
 }
 
 int lam_shift_has_spin(const lam_shift *k) { return (k->terms & LAM_SHIFT_SPIN_TERMS) != 0; }
@@ -524,9 +521,7 @@ static void orbital_of(const fold_work *fw, int mode, int *p, int *spin)
 static void fold_free(fold_work *fw)
 {
     for (int sp = 0; sp < 2; ++sp) {
-        free(fw->t[sp]);
-        free(fw->same[sp]);
-        free(fw->same_line[sp]);
+        LAM_FREE_ALL(fw->t[sp], fw->same[sp], fw->same_line[sp]);
     }
     lam_fermion_free(&fw->op);
 }
