@@ -10,16 +10,17 @@
 #include "stream.h"
 #include "util.h"
 
-typedef struct {
-    char *key;
-    char *value;
-    int tsv; /* appears in the TSV form */
-} entry;
+/* A report is a key/value list (lam_meta, the list a stream's metadata
+ * lives in).  Its entries' line field says where one goes: a figure is in
+ * the text form and the TSV form, a text line (lam_report_line) only in
+ * the text form. */
+enum { TEXT_LINE = 0, FIGURE = 1 };
+
+typedef lam_meta_entry entry;
 
 struct lam_report {
-    entry *items;
-    size_t count, cap;
-    const char *const *columns; /* fixed TSV columns, or NULL: the TSV entries */
+    lam_meta list;
+    const char *const *columns; /* fixed TSV columns, or NULL: the figures */
 };
 
 lam_report *lam_report_new(void) { return lam_calloc(1, sizeof(lam_report)); }
@@ -27,80 +28,69 @@ lam_report *lam_report_new(void) { return lam_calloc(1, sizeof(lam_report)); }
 void lam_report_free(lam_report *rep)
 {
     if (!rep) return;
-    for (size_t i = 0; i < rep->count; ++i) {
-        free(rep->items[i].key);
-        free(rep->items[i].value);
-    }
-    free(rep->items);
+    lam_meta_free(&rep->list);
     free(rep);
 }
 
-static void add(lam_report *rep, const char *key, const char *value, int tsv)
+static entry *find_figure(const lam_report *rep, const char *key)
 {
-    if (tsv)
-        for (size_t i = 0; i < rep->count; ++i)
-            if (rep->items[i].tsv && strcmp(rep->items[i].key, key) == 0) {
-                char *v = lam_strdup(value);
-                free(rep->items[i].value);
-                rep->items[i].value = v;
-                return;
-            }
-    if (rep->count == rep->cap) {
-        rep->cap = rep->cap ? 2 * rep->cap : 16;
-        rep->items = lam_realloc(rep->items, lam_mul_size(rep->cap, sizeof *rep->items));
+    for (size_t i = 0; i < rep->list.count; ++i)
+        if (rep->list.items[i].line == FIGURE && strcmp(rep->list.items[i].key, key) == 0)
+            return &rep->list.items[i];
+    return NULL;
+}
+
+static void add(lam_report *rep, const char *key, const char *value, int where)
+{
+    entry *e = where == FIGURE ? find_figure(rep, key) : NULL;
+    if (!e) {
+        lam_meta_append(&rep->list, key, value, where);
+        return;
     }
-    entry *e = &rep->items[rep->count++];
-    e->key = lam_strdup(key);
-    e->value = lam_strdup(value);
-    e->tsv = tsv;
+    char *v = lam_strdup(value);
+    free(e->value);
+    e->value = v;
 }
 
 void lam_report_num(lam_report *rep, const char *key, double value)
 {
     char buf[LAM_DOUBLE_BUF];
     lam_format_double(buf, sizeof buf, value);
-    add(rep, key, buf, 1);
+    add(rep, key, buf, FIGURE);
 }
 
 void lam_report_int(lam_report *rep, const char *key, long long value)
 {
     char buf[32];
     snprintf(buf, sizeof buf, "%lld", value);
-    add(rep, key, buf, 1);
+    add(rep, key, buf, FIGURE);
 }
 
 void lam_report_str(lam_report *rep, const char *key, const char *value)
 {
-    add(rep, key, value, 1);
+    add(rep, key, value, FIGURE);
 }
 
 void lam_report_line(lam_report *rep, const char *key, const char *value)
 {
-    add(rep, key, value, 0);
+    add(rep, key, value, TEXT_LINE);
 }
 
 void lam_report_columns(lam_report *rep, const char *const *columns) { rep->columns = columns; }
 
-static const entry *find_tsv(const lam_report *rep, const char *key)
-{
-    for (size_t i = 0; i < rep->count; ++i)
-        if (rep->items[i].tsv && strcmp(rep->items[i].key, key) == 0) return &rep->items[i];
-    return NULL;
-}
-
 int lam_report_value(const lam_report *rep, const char *key, double *value)
 {
-    const entry *e = find_tsv(rep, key);
+    const entry *e = find_figure(rep, key);
     *value = NAN;
     return e && lam_parse_double(e->value, value) == 0;
 }
 
 static void require_columns_cover(const lam_report *rep)
 {
-    for (size_t i = 0; i < rep->count; ++i) {
-        if (!rep->items[i].tsv) continue;
+    for (size_t i = 0; i < rep->list.count; ++i) {
+        if (rep->list.items[i].line != FIGURE) continue;
         size_t c = 0;
-        while (rep->columns[c] && strcmp(rep->columns[c], rep->items[i].key) != 0) ++c;
+        while (rep->columns[c] && strcmp(rep->columns[c], rep->list.items[i].key) != 0) ++c;
         /* a program's report keys and its TSV columns must not drift apart */
         assert(rep->columns[c] != NULL);
     }
@@ -120,16 +110,16 @@ static void write_tsv_line(const lam_report *rep, FILE *out, int values)
     if (rep->columns) {
         require_columns_cover(rep);
         for (size_t c = 0; rep->columns[c]; ++c) {
-            const entry *e = values ? find_tsv(rep, rep->columns[c]) : NULL;
+            const entry *e = values ? find_figure(rep, rep->columns[c]) : NULL;
             fprintf(out, "%s%s", first ? "" : "\t",
                     !values ? rep->columns[c] : e ? e->value : LAM_REPORT_ABSENT);
             first = 0;
         }
     } else {
-        for (size_t i = 0; i < rep->count; ++i)
-            if (rep->items[i].tsv) {
+        for (size_t i = 0; i < rep->list.count; ++i)
+            if (rep->list.items[i].line == FIGURE) {
                 fprintf(out, "%s%s", first ? "" : "\t",
-                        values ? rep->items[i].value : rep->items[i].key);
+                        values ? rep->list.items[i].value : rep->list.items[i].key);
                 first = 0;
             }
     }
@@ -147,8 +137,8 @@ void lam_report_write(const lam_report *rep, FILE *out, int tsv)
         lam_report_write_row(rep, out);
         return;
     }
-    for (size_t i = 0; i < rep->count; ++i)
-        fprintf(out, "%s\t%s\n", rep->items[i].key, rep->items[i].value);
+    for (size_t i = 0; i < rep->list.count; ++i)
+        fprintf(out, "%s\t%s\n", rep->list.items[i].key, rep->list.items[i].value);
 }
 
 int lam_report_open(const char *path, FILE **out, lam_error *err)
@@ -214,13 +204,13 @@ void lam_drop_say(const lam_drop *d)
 
 /* ---- reading ---- */
 
+/* The lines read, with their line numbers (a lam_meta list). */
 struct lam_report_in {
-    entry *items;
-    size_t count;
+    lam_meta list;
 };
 
 /* Lines are "key<TAB>value"; '#' lines and blank lines are skipped.
- * Keys keep their line number (in .tsv) for messages. */
+ * Keys keep their line number (in .line) for messages. */
 int lam_report_read(const char *path, lam_report_in **out, lam_error *err)
 {
     *out = NULL;
@@ -228,7 +218,6 @@ int lam_report_read(const char *path, lam_report_in **out, lam_error *err)
     const char *name = f == stdin ? "<stdin>" : path;
     if (!f) return lam_error_set(err, LAM_EX_NOINPUT, "cannot open %s: %s", name, strerror(errno));
     lam_report_in *in = lam_calloc(1, sizeof *in);
-    size_t cap = 0;
     char *line = NULL;
     size_t linecap = 0;
     long lineno = 0;
@@ -245,31 +234,19 @@ int lam_report_read(const char *path, lam_report_in **out, lam_error *err)
             break;
         }
         *tab = '\0';
-        if (in->count == cap) {
-            cap = cap ? 2 * cap : 16;
-            in->items = lam_realloc(in->items, lam_mul_size(cap, sizeof *in->items));
-        }
-        in->items[in->count].key = lam_strdup(line);
-        in->items[in->count].value = lam_strdup(tab + 1);
-        in->items[in->count].tsv = (int)lineno;
-        in->count++;
+        lam_meta_append(&in->list, line, tab + 1, lineno);
     }
     if (!rc && ferror(f)) rc = lam_error_set(err, LAM_EX_IOERR, "read error on %s", name);
     free(line);
     if (f != stdin) fclose(f);
-    if (rc) {
-        lam_report_in_free(in);
-        return rc;
-    }
-    *out = in;
-    return 0;
+    if (rc) lam_report_in_free(in);
+    else *out = in;
+    return rc;
 }
 
 const char *lam_report_get_str(const lam_report_in *in, const char *key)
 {
-    for (size_t i = in->count; i-- > 0;)
-        if (strcmp(in->items[i].key, key) == 0) return in->items[i].value;
-    return NULL;
+    return lam_meta_get(&in->list, key);
 }
 
 int lam_report_get(const lam_report_in *in, const char *key, double *value)
@@ -289,11 +266,7 @@ int lam_report_get(const lam_report_in *in, const char *key, double *value)
 void lam_report_in_free(lam_report_in *in)
 {
     if (!in) return;
-    for (size_t i = 0; i < in->count; ++i) {
-        free(in->items[i].key);
-        free(in->items[i].value);
-    }
-    free(in->items);
+    lam_meta_free(&in->list);
     free(in);
 }
 
@@ -301,11 +274,7 @@ lam_report_in *lam_report_in_new(void) { return lam_calloc(1, sizeof(lam_report_
 
 void lam_report_in_add(lam_report_in *in, const char *key, const char *value, long line)
 {
-    in->items = lam_realloc(in->items, lam_mul_size(in->count + 1, sizeof *in->items));
-    in->items[in->count].key = lam_strdup(key);
-    in->items[in->count].value = lam_strdup(value);
-    in->items[in->count].tsv = (int)line;
-    in->count++;
+    lam_meta_append(&in->list, key, value, line);
 }
 
 /* ---- the floor from a lam-range report ---- */
@@ -316,12 +285,12 @@ static const entry *find_in(const lam_report_in *in, const char *key, const entr
 {
     const entry *first = NULL;
     *dup = NULL;
-    for (size_t i = 0; i < in->count; ++i)
-        if (strcmp(in->items[i].key, key) == 0 && strcmp(in->items[i].value, LAM_REPORT_ABSENT) != 0) {
+    for (size_t i = 0; i < in->list.count; ++i)
+        if (strcmp(in->list.items[i].key, key) == 0 && strcmp(in->list.items[i].value, LAM_REPORT_ABSENT) != 0) {
             if (!first)
-                first = &in->items[i];
+                first = &in->list.items[i];
             else if (!*dup)
-                *dup = &in->items[i];
+                *dup = &in->list.items[i];
         }
     return first;
 }
@@ -337,8 +306,8 @@ static size_t count_fields(const char *s)
  * "key<TAB>rest" lines, so more than two fields each). */
 static int looks_tsv(const lam_report_in *in)
 {
-    return in->count >= 2 && count_fields(in->items[0].value) > 1 &&
-           count_fields(in->items[0].value) == count_fields(in->items[1].value);
+    return in->list.count >= 2 && count_fields(in->list.items[0].value) > 1 &&
+           count_fields(in->list.items[0].value) == count_fields(in->list.items[1].value);
 }
 
 /* --tsv form: turn the header row and the value row into one entry a
@@ -347,32 +316,26 @@ static int looks_tsv(const lam_report_in *in)
 static int unfold_tsv(lam_report_in *in, const char *path, lam_error *err)
 {
     if (!looks_tsv(in)) return 0;
-    if (in->count > 2)
-        return lam_error_at(err, LAM_EX_DATA, path, in->items[2].tsv,
+    if (in->list.count > 2)
+        return lam_error_at(err, LAM_EX_DATA, path, in->list.items[2].line,
                             "two floors in one report: a --tsv report has one value row (the "
-                            "first at line %d)", in->items[1].tsv);
-    size_t n = count_fields(in->items[0].value) + 1;
-    entry *cols = lam_calloc(n, sizeof *cols);
-    char *kp = in->items[0].value, *vp = in->items[1].value;
-    cols[0].key = lam_strdup(in->items[0].key);
-    cols[0].value = lam_strdup(in->items[1].key);
+                            "first at line %ld)", in->list.items[1].line);
+    const entry *head = &in->list.items[0], *row = &in->list.items[1];
+    size_t n = count_fields(head->value) + 1;
+    lam_meta cols;
+    lam_meta_init(&cols);
+    lam_meta_append(&cols, head->key, row->key, row->line);
+    char *kp = head->value, *vp = row->value;
     for (size_t c = 1; c < n; ++c) {
         size_t kl = strcspn(kp, "\t"), vl = strcspn(vp, "\t");
-        cols[c].key = lam_strdup(kp);
-        cols[c].key[kl] = '\0';
-        cols[c].value = lam_strdup(vp);
-        cols[c].value[vl] = '\0';
-        kp += kl + (kp[kl] != '\0');
-        vp += vl + (vp[vl] != '\0');
+        char kend = kp[kl], vend = vp[vl];
+        kp[kl] = vp[vl] = '\0';
+        lam_meta_append(&cols, kp, vp, row->line);
+        kp += kl + (kend != '\0');
+        vp += vl + (vend != '\0');
     }
-    for (size_t c = 0; c < n; ++c) cols[c].tsv = in->items[1].tsv;
-    for (size_t i = 0; i < in->count; ++i) {
-        free(in->items[i].key);
-        free(in->items[i].value);
-    }
-    free(in->items);
-    in->items = cols;
-    in->count = n;
+    lam_meta_free(&in->list);
+    in->list = cols;
     return 0;
 }
 
@@ -383,14 +346,14 @@ static int end_status(const lam_report_in *in, const char *path, const entry *ha
 {
     const entry *dup, *e = find_in(in, key, &dup);
     if (!e)
-        return lam_error_at(err, LAM_EX_DATA, path, half->tsv,
+        return lam_error_at(err, LAM_EX_DATA, path, half->line,
                             "report has %s but no %s line: the status of the floor is unknown",
                             half->key, key);
     if (dup)
-        return lam_error_at(err, LAM_EX_DATA, path, dup->tsv,
-                            "two floors in one report: %s again (first at line %d)", key, e->tsv);
+        return lam_error_at(err, LAM_EX_DATA, path, dup->line,
+                            "two floors in one report: %s again (first at line %ld)", key, e->line);
     if (strcmp(e->value, "exact") != 0 && strcmp(e->value, "bound") != 0)
-        return lam_error_at(err, LAM_EX_DATA, path, e->tsv,
+        return lam_error_at(err, LAM_EX_DATA, path, e->line,
                             "unknown status '%s' of %s (lam-range writes exact or bound)",
                             e->value, key);
     *exact = strcmp(e->value, "exact") == 0;
@@ -413,14 +376,14 @@ static int floor_from(const lam_report_in *in, const char *path, lam_floor *fl, 
                             "fock_half_range): is it lam-range's, run without --lowest or "
                             "--highest?");
     if (dup)
-        return lam_error_at(err, LAM_EX_DATA, path, dup->tsv,
-                            "two floors in one report: %s again (first at line %d)", half->key,
-                            half->tsv);
+        return lam_error_at(err, LAM_EX_DATA, path, dup->line,
+                            "two floors in one report: %s again (first at line %ld)", half->key,
+                            half->line);
     if (lam_parse_double(half->value, &fl->value) != 0 || !isfinite(fl->value))
-        return lam_error_at(err, LAM_EX_DATA, path, half->tsv, "%s is not a number: '%s'",
+        return lam_error_at(err, LAM_EX_DATA, path, half->line, "%s is not a number: '%s'",
                             half->key, half->value);
     if (!(fl->value > 0))
-        return lam_error_at(err, LAM_EX_DATA, path, half->tsv,
+        return lam_error_at(err, LAM_EX_DATA, path, half->line,
                             "%s is %s: a floor must be > 0 to divide by", half->key, half->value);
     snprintf(lo, sizeof lo, "%s_min_status", scopes[s - 1]);
     snprintf(hi, sizeof hi, "%s_max_status", scopes[s - 1]);

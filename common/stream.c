@@ -47,8 +47,7 @@ void lam_meta_free(lam_meta *m)
     lam_meta_init(m);
 }
 
-static void meta_append(lam_meta *m, const char *key, const char *value,
-                        long line)
+void lam_meta_append(lam_meta *m, const char *key, const char *value, long line)
 {
     if (m->count == m->cap) {
         m->cap = m->cap ? 2 * m->cap : 8;
@@ -64,7 +63,7 @@ void lam_meta_copy(lam_meta *dst, const lam_meta *src)
 {
     lam_meta_init(dst);
     for (size_t i = 0; i < src->count; ++i)
-        meta_append(dst, src->items[i].key, src->items[i].value,
+        lam_meta_append(dst, src->items[i].key, src->items[i].value,
                     src->items[i].line);
 }
 
@@ -91,7 +90,7 @@ void lam_meta_set(lam_meta *m, const char *key, const char *value)
             m->items[i].line = 0;
             return;
         }
-    meta_append(m, key, value, 0);
+    lam_meta_append(m, key, value, 0);
 }
 
 void lam_meta_setf(lam_meta *m, const char *key, const char *fmt, ...)
@@ -111,7 +110,7 @@ void lam_meta_setf(lam_meta *m, const char *key, const char *fmt, ...)
 
 void lam_meta_add(lam_meta *m, const char *key, const char *value)
 {
-    meta_append(m, key, value, 0);
+    lam_meta_append(m, key, value, 0);
 }
 
 void lam_meta_remove(lam_meta *m, const char *key)
@@ -283,7 +282,7 @@ static int take_meta(lam_reader *r, char *s, long line, lam_error *err)
                                     lam_kind_name(r->kind));
         r->kind = k;
     }
-    meta_append(&r->meta, key, value, line);
+    lam_meta_append(&r->meta, key, value, line);
     return 0;
 }
 
@@ -387,12 +386,9 @@ int lam_reader_open(const char *path, lam_reader **out, lam_error *err)
         gzbuffer(r->gz, 1 << 17);
         rc = read_header(r, err);
     }
-    if (rc) {
-        lam_reader_close(r);
-        return rc;
-    }
-    *out = r;
-    return 0;
+    if (rc) lam_reader_close(r);
+    else *out = r;
+    return rc;
 }
 
 void lam_reader_close(lam_reader *r)
@@ -400,11 +396,7 @@ void lam_reader_close(lam_reader *r)
     if (!r) return;
     if (r->gz) gzclose(r->gz);
     for (size_t i = r->pending_next; i < r->npending; ++i) free(r->pending[i].text);
-    free(r->pending);
-    free(r->pending_current);
-    free(r->buf);
-    free(r->name);
-    free(r->fields);
+    LAM_FREE_ALL(r->pending, r->pending_current, r->buf, r->name, r->fields);
     lam_meta_free(&r->meta);
     free(r);
 }

@@ -58,6 +58,8 @@ void lam_meta_setf(lam_meta *m, const char *key, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 /* Append (keys such as history may repeat). */
 void lam_meta_add(lam_meta *m, const char *key, const char *value);
+/* Append with the line the entry was read from (0: set by a program). */
+void lam_meta_append(lam_meta *m, const char *key, const char *value, long line);
 void lam_meta_remove(lam_meta *m, const char *key);
 
 /* ---- reader ---- */
