@@ -65,12 +65,7 @@ int lam_fockop_new(const lam_pauli_set *s, const char *src, lam_fockop **out, la
 void lam_fockop_free(lam_fockop *op)
 {
     if (!op) return;
-    free(op->flip);
-    free(op->first);
-    free(op->z);
-    free(op->re);
-    free(op->im);
-    free(op);
+    LAM_FREE_ALL(op->flip, op->first, op->z, op->re, op->im, op);
 }
 
 static int parity(uint64_t v) { return __builtin_popcountll(v) & 1; }
@@ -268,10 +263,7 @@ static sector_index *sector_index_new(const lam_fockop *op, const lam_fock_secto
 static void sector_index_free(sector_index *ix)
 {
     if (!ix) return;
-    free(ix->states);
-    free(ix->rank_a);
-    free(ix->rank_b);
-    free(ix);
+    LAM_FREE_ALL(ix->states, ix->rank_a, ix->rank_b, ix);
 }
 
 static uint64_t state_at(const sector_index *ix, size_t i)
@@ -463,24 +455,14 @@ static uint64_t descend(const lam_fockop *op, const lam_fock_sector *sec, double
     return b;
 }
 
-typedef struct {
-    uint64_t b;
-    double w;
-} neighbour;
-
-static int by_weight(const void *a, const void *b)
-{
-    double x = ((const neighbour *)a)->w, y = ((const neighbour *)b)->w;
-    return (x < y) - (x > y);
-}
-
 static int ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subspace, double sign,
                       double *value, lam_error *err)
 {
     sector_index *ix = sector_index_new(op, sec, 0, err);
     if (!ix) return err->code;
     uint64_t b0 = descend(op, sec, sign);
-    neighbour *nb = lam_malloc(lam_mul_size(op->nflip + 1, sizeof *nb));
+    /* the neighbours of b0, each weighed by |<b0|H|b0 ^ flip>|, at its flip */
+    lam_weighted *nb = lam_malloc(lam_mul_size(op->nflip + 1, sizeof *nb));
     size_t k = 0;
     for (size_t f = 0; f < op->nflip; ++f) {
         if (op->flip[f] == 0) continue;
@@ -489,13 +471,13 @@ static int ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subs
         double er, ei;
         element(op, b0, c, &er, &ei);
         if (er == 0 && ei == 0) continue;
-        nb[k++] = (neighbour){c, hypot(er, ei)};
+        nb[k++] = (lam_weighted){hypot(er, ei), f};
     }
-    qsort(nb, k, sizeof *nb, by_weight);
+    lam_sort_heaviest_first(nb, k);
     size_t m = 1 + (k < (size_t)subspace - 1 ? k : (size_t)subspace - 1);
     uint64_t *basis = lam_malloc(m * sizeof(uint64_t));
     basis[0] = b0;
-    for (size_t i = 1; i < m; ++i) basis[i] = nb[i - 1].b;
+    for (size_t i = 1; i < m; ++i) basis[i] = b0 ^ op->flip[nb[i - 1].at];
     /* the real form [[A, -B], [B, A]] of the Hermitian projection */
     size_t r = 2 * m;
     double *a = lam_calloc(r * r, sizeof(double)), *w = lam_malloc(r * sizeof(double));
@@ -509,10 +491,7 @@ static int ritz_bound(const lam_fockop *op, const lam_fock_sector *sec, int subs
         }
     int rc = lam_eigen_dense((int)r, a, w, err);
     double v = sign > 0 ? w[0] : w[r - 1];
-    free(nb);
-    free(basis);
-    free(a);
-    free(w);
+    LAM_FREE_ALL(nb, basis, a, w);
     sector_index_free(ix);
     if (!rc) *value = v;
     return rc;

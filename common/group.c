@@ -723,18 +723,13 @@ static int optimize_split(const engine *e, shares *sh, int iterations, double *b
         if (before - obj <= 1e-15 * obj) break;
     }
     *bound = split_bound(e, sh, w, trial);
-    free(w);
-    free(next);
-    free(trial);
-    free(trial_next);
+    LAM_FREE_ALL(w, next, trial, trial_next);
     return it;
 }
 
 static void shares_free(shares *sh)
 {
-    free(sh->start);
-    free(sh->gid);
-    free(sh->share);
+    LAM_FREE_ALL(sh->start, sh->gid, sh->share);
     memset(sh, 0, sizeof *sh);
 }
 
@@ -785,18 +780,6 @@ static void tidy_shares(const engine *e, shares *sh)
 
 /* ---------------------------------------------------------------- output */
 
-typedef struct {
-    double norm;
-    uint32_t id;
-} ranked;
-
-static int by_norm_desc(const void *pa, const void *pb)
-{
-    const ranked *a = pa, *b = pb;
-    if (a->norm != b->norm) return a->norm > b->norm ? -1 : 1;
-    return (a->id > b->id) - (a->id < b->id);
-}
-
 /* A share folded away by tidy_shares is no line; a term whose coefficient
  * is zero keeps its one line in its home group. */
 static int is_line(const engine *e, const shares *sh, size_t t, size_t k)
@@ -822,18 +805,18 @@ static void emit(const engine *e, const shares *sh, const lam_pauli_set *in,
         if (lines > 1) st->shared_terms++;
         st->lines += (size_t)lines;
     }
-    ranked *order = lam_malloc(lam_mul_size(ng ? ng : 1, sizeof *order));
+    lam_weighted *order = lam_malloc(lam_mul_size(ng ? ng : 1, sizeof *order));
     uint32_t live = 0;
     for (uint32_t gi = 0; gi < ng; ++gi)
-        if (count[gi]) order[live++] = (ranked){sqrt(norm2[gi]), gi};
-    qsort(order, live, sizeof *order, by_norm_desc);
+        if (count[gi]) order[live++] = (lam_weighted){sqrt(norm2[gi]), gi};
+    lam_sort_heaviest_first(order, live);
     uint32_t *label = lam_malloc(lam_mul_size(ng ? ng : 1, sizeof *label));
     size_t *first = lam_malloc(lam_mul_size((size_t)live + 1, sizeof *first));
     first[0] = 0;
     for (uint32_t k = 0; k < live; ++k) {
-        label[order[k].id] = k;
-        first[k + 1] = first[k] + count[order[k].id];
-        if (count[order[k].id] > st->largest_group) st->largest_group = count[order[k].id];
+        label[order[k].at] = k;
+        first[k + 1] = first[k] + count[order[k].at];
+        if (count[order[k].at] > st->largest_group) st->largest_group = count[order[k].at];
     }
     /* place every line at its group's next slot, terms in rank order */
     size_t *slot_term = lam_malloc(lam_mul_size(st->lines ? st->lines : 1, sizeof *slot_term));
@@ -853,14 +836,7 @@ static void emit(const engine *e, const shares *sh, const lam_pauli_set *in,
             lam_pauli_set_add(out, lam_pauli_x(in, slot_term[at]), lam_pauli_z(in, slot_term[at]),
                               slot_coef[at], (int32_t)k);
     st->groups = live;
-    free(norm2);
-    free(count);
-    free(order);
-    free(label);
-    free(first);
-    free(slot_term);
-    free(slot_coef);
-    free(fill);
+    LAM_FREE_ALL(norm2, count, order, label, first, slot_term, slot_coef, fill);
 }
 
 /* ---------------------------------------------------------------- driver */
@@ -885,18 +861,6 @@ int lam_group_method_parse(const char *name, lam_group_method *method)
 const char *lam_group_method_name(lam_group_method method)
 {
     return method == LAM_GROUP_SORTED ? "sorted" : "best";
-}
-
-typedef struct {
-    double mag;
-    size_t term;
-} by_mag;
-
-static int by_mag_desc(const void *pa, const void *pb)
-{
-    const by_mag *a = pa, *b = pb;
-    if (a->mag != b->mag) return a->mag > b->mag ? -1 : 1;
-    return (a->term > b->term) - (a->term < b->term);
 }
 
 static void engine_init(engine *e, const lam_pauli_set *in, const lam_group_options *opt,
@@ -924,29 +888,16 @@ static void engine_init(engine *e, const lam_pauli_set *in, const lam_group_opti
 static void engine_free(engine *e)
 {
     for (uint32_t gi = 0; gi < e->ng; ++gi) {
-        free(e->g[gi].ids);
-        free(e->g[gi].bits);
-        free(e->g[gi].cols);
+        LAM_FREE_ALL(e->g[gi].ids, e->g[gi].bits, e->g[gi].cols);
     }
-    free(e->g);
-    free(e->stamp);
-    free(e->home);
-    free(e->pos);
+    LAM_FREE_ALL(e->g, e->stamp, e->home, e->pos);
     if (e->single)
         for (int i = 0; i < e->M; ++i) free(e->single[i].v);
     if (e->pair)
         for (size_t i = 0; i < (size_t)e->M * (size_t)e->M; ++i) free(e->pair[i].v);
-    free(e->single);
-    free(e->pair);
-    free(e->wide.v);
-    free(e->odd.v);
-    free(e->found.v);
-    free(e->cand.v);
+    LAM_FREE_ALL(e->single, e->pair, e->wide.v, e->odd.v, e->found.v, e->cand.v);
     for (int c = 0; c <= e->M; ++c) free(e->pcol[c]);
-    free(e->pcol);
-    free(e->gsize);
-    free(e->pidx);
-    free(e->pidx_member);
+    LAM_FREE_ALL(e->pcol, e->gsize, e->pidx, e->pidx_member);
 }
 
 int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
@@ -959,7 +910,7 @@ int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
     lam_pauli_set_grow_qubits(out, in->nqubits);
 
     /* the identity stays unlabelled, first; the rest by decreasing |c| */
-    by_mag *sorted = lam_malloc(lam_mul_size(in->count ? in->count : 1, sizeof *sorted));
+    lam_weighted *sorted = lam_malloc(lam_mul_size(in->count ? in->count : 1, sizeof *sorted));
     size_t n = 0;
     for (size_t t = 0; t < in->count; ++t) {
         if (lam_pauli_is_identity(nw, lam_pauli_x(in, t), lam_pauli_z(in, t))) {
@@ -967,7 +918,7 @@ int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
             lam_pauli_set_add(out, lam_pauli_x(in, t), lam_pauli_z(in, t), in->coef[t], -1);
             continue;
         }
-        sorted[n++] = (by_mag){fabs(in->coef[t]), t};
+        sorted[n++] = (lam_weighted){fabs(in->coef[t]), t};
     }
     st->lambda = lam_pauli_set_lambda(in);
     /* ranks are 32-bit: memory runs out long before this in practice */
@@ -976,14 +927,14 @@ int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
         lam_pauli_set_free(out);
         return lam_error_set(err, LAM_EX_SOFTWARE, "%zu terms: more than lam-group can hold", n);
     }
-    qsort(sorted, n, sizeof *sorted, by_mag_desc);
+    lam_sort_heaviest_first(sorted, n);
     st->terms = n;
 
     uint64_t *tbits = lam_malloc(lam_mul_size(n ? n : 1, stride * sizeof(uint64_t)));
     double *tc = lam_malloc(lam_mul_size(n ? n : 1, sizeof *tc));
     size_t *rank_to_term = lam_malloc(lam_mul_size(n ? n : 1, sizeof *rank_to_term));
     for (size_t k = 0; k < n; ++k) {
-        size_t t = sorted[k].term;
+        size_t t = sorted[k].at;
         memcpy(tbits + k * stride, lam_pauli_x(in, t), stride * sizeof(uint64_t));
         tc[k] = in->coef[t];
         rank_to_term[k] = t;
@@ -1046,25 +997,15 @@ int lam_group_build(const lam_pauli_set *in, const lam_group_options *opt,
 
     shares_free(&sh);
     engine_free(&e);
-    free(tbits);
-    free(tc);
-    free(rank_to_term);
+    LAM_FREE_ALL(tbits, tc, rank_to_term);
     return 0;
 }
 
 /* ---------------------------------------------------------------- labels */
 
-typedef struct {
-    int32_t label;
-    size_t term;
-} labelled;
-
-static int by_label(const void *pa, const void *pb)
-{
-    const labelled *a = pa, *b = pb;
-    if (a->label != b->label) return (a->label > b->label) - (a->label < b->label);
-    return (a->term > b->term) - (a->term < b->term);
-}
+/* A labelled term: its label (>= 0) is the key, its position in the set
+ * is at. */
+typedef lam_keyed labelled;
 
 /* Labelled non-identity-or-not terms sorted by (label, position): the
  * members of each group in stream order.  Returns the count. */
@@ -1073,8 +1014,8 @@ static size_t members_by_label(const lam_pauli_set *s, labelled **out)
     size_t n = 0;
     labelled *v = lam_malloc(lam_mul_size(s->count ? s->count : 1, sizeof *v));
     for (size_t t = 0; s->group && t < s->count; ++t)
-        if (s->group[t] >= 0) v[n++] = (labelled){s->group[t], t};
-    qsort(v, n, sizeof *v, by_label);
+        if (s->group[t] >= 0) v[n++] = (labelled){(uint64_t)s->group[t], t};
+    lam_sort_by_key(v, n);
     *out = v;
     return n;
 }
@@ -1100,7 +1041,7 @@ static int check_anticommuting(const lam_pauli_set *s, const labelled *m, size_t
     size_t nd = 0;
     int bad = 0;
     for (size_t i = 0; i < k && !bad; ++i) {
-        size_t t = m[i].term;
+        size_t t = m[i].at;
         int repeat = 0;
         for (size_t d = 0; d < nd; ++d) {
             if (same_string(s, distinct[d], t)) {
@@ -1135,7 +1076,7 @@ static int check_commuting(const lam_pauli_set *s, const labelled *m, size_t k,
     size_t nb = 0;
     int bad = 0;
     for (size_t i = 0; i < k && !bad; ++i) {
-        const uint64_t *p = lam_pauli_x(s, m[i].term);
+        const uint64_t *p = lam_pauli_x(s, m[i].at);
         for (size_t b = 0; b < nb; ++b)
             if (anticommute(nw, p, basis + b * stride)) {
                 bad = 1;
@@ -1143,9 +1084,9 @@ static int check_commuting(const lam_pauli_set *s, const labelled *m, size_t k,
             }
         if (bad) {
             for (size_t j = 0; j < i; ++j)
-                if (pair_anticommutes(s, m[j].term, m[i].term)) {
-                    *first = m[j].term;
-                    *second = m[i].term;
+                if (pair_anticommutes(s, m[j].at, m[i].at)) {
+                    *first = m[j].at;
+                    *second = m[i].at;
                     break;
                 }
             break;
@@ -1165,9 +1106,7 @@ static int check_commuting(const lam_pauli_set *s, const labelled *m, size_t k,
                 break;
             }
     }
-    free(basis);
-    free(pivot);
-    free(v);
+    LAM_FREE_ALL(basis, pivot, v);
     return bad;
 }
 
@@ -1179,7 +1118,7 @@ int lam_group_check(const lam_pauli_set *s, int want_commuting, size_t *first,
     int found = 0;
     for (size_t a = 0; a < n;) {
         size_t b = a;
-        while (b < n && v[b].label == v[a].label) ++b;
+        while (b < n && v[b].key == v[a].key) ++b;
         size_t f = 0, g = 0;
         int bad = want_commuting ? check_commuting(s, v + a, b - a, &f, &g)
                                  : check_anticommuting(s, v + a, b - a, &f, &g);

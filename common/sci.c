@@ -336,12 +336,7 @@ static int heatbath_build(heatbath *hb, const lam_spinfree *sf, budget *mem, lam
 
 static void heatbath_free(heatbath *hb)
 {
-    free(hb->same_first);
-    free(hb->opp_first);
-    free(hb->sgl_first);
-    free(hb->same);
-    free(hb->opp);
-    free(hb->sgl);
+    LAM_FREE_ALL(hb->same_first, hb->opp_first, hb->sgl_first, hb->same, hb->opp, hb->sgl);
 }
 
 /* Every determinant K outside-or-inside the space with |<K|H|D>| w > eps
@@ -472,9 +467,7 @@ typedef struct {
 
 static void sparse_free(sparse *h)
 {
-    free(h->row);
-    free(h->col);
-    free(h->val);
+    LAM_FREE_ALL(h->row, h->col, h->val);
     memset(h, 0, sizeof *h);
 }
 
@@ -533,34 +526,22 @@ static int by_other_string(const void *x, const void *y)
     return (u > v) - (u < v);
 }
 
-typedef struct {
-    uint64_t key;
-    uint32_t s;
-} keyed;
-
-static int by_key(const void *x, const void *y)
-{
-    const keyed *a = x, *b = y;
-    if (a->key != b->key) return (a->key > b->key) - (a->key < b->key);
-    return (a->s > b->s) - (a->s < b->s);
-}
-
 /* Strings one replacement apart share exactly one string with one electron
  * removed: sort (string minus one electron, string) pairs and link within
  * runs of equal keys. */
 static void link_singles(groups *g, int k)
 {
     size_t np = g->nstr * (size_t)k;
-    keyed *p = lam_malloc(lam_mul_size(np + 1, sizeof(keyed)));
+    lam_keyed *p = lam_malloc(lam_mul_size(np + 1, sizeof *p));
     size_t c = 0;
     for (size_t s = 0; s < g->nstr; ++s)
-        for (uint64_t m = g->str[s]; m; m &= m - 1) p[c++] = (keyed){g->str[s] ^ (m & -m), (uint32_t)s};
-    qsort(p, c, sizeof *p, by_key);
+        for (uint64_t m = g->str[s]; m; m &= m - 1) p[c++] = (lam_keyed){g->str[s] ^ (m & -m), s};
+    lam_sort_by_key(p, c);
     size_t *cnt = lam_calloc(g->nstr + 1, sizeof(size_t));
     for (size_t r = 0; r < c;) {
         size_t e = r;
         while (e < c && p[e].key == p[r].key) ++e;
-        for (size_t x = r; x < e; ++x) cnt[p[x].s] += e - r - 1;
+        for (size_t x = r; x < e; ++x) cnt[p[x].at] += e - r - 1;
         r = e;
     }
     g->single_first = lam_malloc((g->nstr + 1) * sizeof(size_t));
@@ -577,7 +558,7 @@ static void link_singles(groups *g, int k)
         while (e < c && p[e].key == p[r].key) ++e;
         for (size_t x = r; x < e; ++x)
             for (size_t y = r; y < e; ++y)
-                if (x != y) g->single[cnt[p[x].s]++] = p[y].s;
+                if (x != y) g->single[cnt[p[x].at]++] = (uint32_t)p[y].at;
         r = e;
     }
     free(cnt);
@@ -626,12 +607,7 @@ static double groups_bytes(const groups *g, size_t m)
 
 static void groups_free(groups *g)
 {
-    free(g->str);
-    free(g->of);
-    free(g->first);
-    free(g->member);
-    free(g->single_first);
-    free(g->single);
+    LAM_FREE_ALL(g->str, g->of, g->first, g->member, g->single_first, g->single);
 }
 
 /* Member of group s whose beta string is b, or UINT32_MAX. */
@@ -871,18 +847,6 @@ const char *lam_sci_stop_name(lam_sci_stop s)
     }
 }
 
-typedef struct {
-    int key_index;
-    double val;
-} ranked;
-
-static int by_rank(const void *x, const void *y)
-{
-    double a = ((const ranked *)x)->val, b = ((const ranked *)y)->val;
-    if (a != b) return (a < b) - (a > b);
-    return ((const ranked *)x)->key_index - ((const ranked *)y)->key_index;
-}
-
 /* Rayleigh quotient of x computed afresh from the matrix (long double sums),
  * the number that is reported as the bound. */
 static double rayleigh(const sparse *h, const double *x, double *work)
@@ -969,7 +933,7 @@ static int select_run(const lam_spinfree *sf, int na, int nb, const lam_sci_opti
     while (climit < ((size_t)1 << 31) && candidate_bytes(2 * climit) < left / 2) climit *= 2;
     double cbytes = candidate_bytes(climit);
     candidates cand;
-    ranked *rank = NULL;
+    lam_weighted *rank = NULL;
     int rc = 0;
     if (!budget_take(mem, cbytes)) {
         rc = lam_error_set(err, LAM_EX_MEMORY, "selected CI: no room for candidate determinants within --max-memory");
@@ -1035,11 +999,11 @@ static int select_run(const lam_spinfree *sf, int na, int nb, const lam_sci_opti
             stop = raised ? LAM_SCI_MEMORY : LAM_SCI_SATURATED;
             break;
         }
-        rank = lam_realloc(rank, cand.count * sizeof(ranked));
-        for (size_t k = 0; k < cand.count; ++k) rank[k] = (ranked){(int)k, cand.val[k]};
-        qsort(rank, cand.count, sizeof(ranked), by_rank);
+        rank = lam_realloc(rank, lam_mul_size(cand.count, sizeof *rank));
+        for (size_t k = 0; k < cand.count; ++k) rank[k] = (lam_weighted){cand.val[k], k};
+        lam_sort_heaviest_first(rank, cand.count);
         size_t add = cand.count < target ? cand.count : target;
-        for (size_t k = 0; k < add; ++k) space_add(&v, sf, cand.d[rank[k].key_index]);
+        for (size_t k = 0; k < add; ++k) space_add(&v, sf, cand.d[rank[k].at]);
     }
     candidates_free(&cand);
     if (rc == 0) {
@@ -1060,9 +1024,7 @@ static int select_run(const lam_spinfree *sf, int na, int nb, const lam_sci_opti
 out:
     free(rank);
     budget_give(mem, held);
-    free(x);
-    free(xprev);
-    free(work);
+    LAM_FREE_ALL(x, xprev, work);
     space_free(&v);
     heatbath_free(&hb);
     budget_give(mem, hb.list_bytes);
@@ -1097,12 +1059,9 @@ static int localized_orbitals(const lam_spinfree *sf, budget *mem, lam_spinfree 
     free(u0);
     free(u);
     budget_give(mem, 4 * n4);
-    if (rc) {
-        lam_spinfree_free(out);
-        return rc;
-    }
-    *rot = out;
-    return 0;
+    if (rc) lam_spinfree_free(out);
+    else *rot = out;
+    return rc;
 }
 
 int lam_sci_solve(const lam_spinfree *sf, int na, int nb, const lam_sci_options *o, lam_sci_result *res,

@@ -170,6 +170,26 @@ void lam_free_each(void *const *buffers, size_t count)
     for (size_t i = 0; i < count; ++i) free(buffers[i]);
 }
 
+static int compare_positions(size_t a, size_t b) { return (a > b) - (a < b); }
+
+static int heavier_first(const void *pa, const void *pb)
+{
+    const lam_weighted *a = pa, *b = pb;
+    if (a->weight != b->weight) return a->weight > b->weight ? -1 : 1;
+    return compare_positions(a->at, b->at);
+}
+
+void lam_sort_heaviest_first(lam_weighted *v, size_t n) { qsort(v, n, sizeof *v, heavier_first); }
+
+static int smaller_key_first(const void *pa, const void *pb)
+{
+    const lam_keyed *a = pa, *b = pb;
+    if (a->key != b->key) return a->key < b->key ? -1 : 1;
+    return compare_positions(a->at, b->at);
+}
+
+void lam_sort_by_key(lam_keyed *v, size_t n) { qsort(v, n, sizeof *v, smaller_key_first); }
+
 int lam_name_index(const char *const *names, int count, const char *name)
 {
     for (int i = 0; i < count; ++i)

@@ -78,6 +78,21 @@ void lam_free_each(void *const *buffers, size_t count);
     lam_free_each((void *const[]){__VA_ARGS__},                                 \
                   sizeof((void *const[]){__VA_ARGS__}) / sizeof(void *))
 
+/* Sorting with ties settled by position, so that the order does not
+ * depend on the qsort of the C library. */
+typedef struct {
+    double weight;
+    size_t at; /* the position of what it weighs */
+} lam_weighted;
+/* Largest weight first; equal weights in the order of at. */
+void lam_sort_heaviest_first(lam_weighted *v, size_t n);
+typedef struct {
+    uint64_t key;
+    size_t at; /* the position the key belongs to */
+} lam_keyed;
+/* Smallest key first; equal keys in the order of at. */
+void lam_sort_by_key(lam_keyed *v, size_t n);
+
 /* The index of name in the count names of an enumeration (its values in
  * order), -1 when it is none of them. */
 int lam_name_index(const char *const *names, int count, const char *name);
