@@ -57,10 +57,7 @@ void lam_fermion_init(lam_fermion_op *op, int nmodes)
 
 void lam_fermion_free(lam_fermion_op *op)
 {
-    free(op->first);
-    free(op->ops);
-    free(op->coef);
-    free(op->line);
+    LAM_FREE_ALL(op->first, op->ops, op->coef, op->line);
     memset(op, 0, sizeof *op);
 }
 
@@ -403,7 +400,6 @@ void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out)
     ordered_set set;
     memset(&set, 0, sizeof set);
     set.nw = lam_pauli_words(in->nmodes > 0 ? in->nmodes : 1);
-    lam_rowhash_init(&set.index);
     work_stack st = {NULL, 0, 0};
     for (size_t t = 0; t < in->count; ++t) {
         work_term w;
@@ -431,10 +427,7 @@ void lam_fermion_normal_order(const lam_fermion_op *in, lam_fermion_op *out)
             if (bit_is_set(ann, j)) ops[k++] = LAM_ANNIHILATE(j);
         lam_fermion_add(out, set.coef[t], ops, k, set.line[t]);
     }
-    free(ops);
-    free(set.rows);
-    free(set.coef);
-    free(set.line);
+    LAM_FREE_ALL(ops, set.rows, set.coef, set.line);
 }
 
 /* ------------------------------------------------------------ from spinfree */
@@ -494,16 +487,11 @@ void lam_majorana_init(lam_majorana_set *m, int nmodes)
     memset(m, 0, sizeof *m);
     m->nmodes = nmodes;
     m->nwords = lam_pauli_words(2 * nmodes > 0 ? 2 * nmodes : 1);
-    lam_rowhash_init(&m->index);
 }
 
 void lam_majorana_free(lam_majorana_set *m)
 {
-    free(m->bits);
-    free(m->re);
-    free(m->im);
-    free(m->mass);
-    free(m->line);
+    LAM_FREE_ALL(m->bits, m->re, m->im, m->mass, m->line);
     lam_rowhash_free(&m->index);
     memset(m, 0, sizeof *m);
 }

@@ -144,9 +144,7 @@ void lam_pauli_set_init(lam_pauli_set *s, int nqubits)
 
 void lam_pauli_set_free(lam_pauli_set *s)
 {
-    free(s->bits);
-    free(s->coef);
-    free(s->group);
+    LAM_FREE_ALL(s->bits, s->coef, s->group);
     memset(s, 0, sizeof *s);
 }
 
@@ -231,8 +229,6 @@ static inline uint64_t row_hash(const uint64_t *row, size_t width, int32_t tag)
 #define SLOT_INDEX_BITS 40
 #define SLOT_INDEX_MASK ((UINT64_C(1) << SLOT_INDEX_BITS) - 1)
 #define SLOT_FP(h) ((h) >> SLOT_INDEX_BITS)
-
-void lam_rowhash_init(lam_rowhash *h) { memset(h, 0, sizeof *h); }
 
 void lam_rowhash_free(lam_rowhash *h)
 {
@@ -368,8 +364,7 @@ static void merge_tail(lam_pauli_set *s, lam_rowhash *h, size_t from)
 
 void lam_pauli_set_merge(lam_pauli_set *s, int drop)
 {
-    lam_rowhash h;
-    lam_rowhash_init(&h);
+    lam_rowhash h = {0};
     merge_tail(s, &h, 0);
     lam_rowhash_free(&h);
     if (drop) drop_zeros(s);
@@ -609,8 +604,7 @@ static int read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge,
     if (rc) return rc;
     int bounded = declared >= 0;
     size_t lines_cap = 0, merged = 0;
-    lam_rowhash h;
-    lam_rowhash_init(&h);
+    lam_rowhash h = {0};
     lam_line ln;
     while ((rc = lam_reader_next(r, &ln, err)) == 1) {
         int32_t group;
@@ -626,7 +620,6 @@ static int read_terms(lam_reader *r, lam_pauli_set *s, long **lines, int merge,
             lam_pauli_set_grow_qubits(s, (int)need);
             if (s->nwords != nw) { /* the rows changed width: index them again */
                 lam_rowhash_free(&h);
-                lam_rowhash_init(&h);
                 merged = 0;
             }
         }
@@ -1191,11 +1184,7 @@ typedef struct {
 
 static void text_block_free(text_block *b)
 {
-    free(b->text);
-    free(b->rec[0]);
-    free(b->rec[1]);
-    free(b->keys);
-    free(b->ev);
+    LAM_FREE_ALL(b->text, b->rec[0], b->rec[1], b->keys, b->ev);
 }
 
 static key_rec *block_rec(text_block *b, int half)
@@ -1634,9 +1623,7 @@ static int run_both_cores(lam_reader *r, key_table kt[2], table_plan plan, order
     if (!rc) rc = lam_reader_raw_finish(r, err);
     for (int k = 0; k < 2; ++k)
         for (int t = 0; t < 2; ++t) text_block_free(&bc.blk[k][t]);
-    free(carry.bytes);
-    free(first.xz);
-    free(second.xz);
+    LAM_FREE_ALL(carry.bytes, first.xz, second.xz);
     return rc;
 }
 

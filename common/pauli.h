@@ -80,7 +80,7 @@ typedef struct {
     uint64_t *slot;
     size_t size, used;
 } lam_rowhash;
-void lam_rowhash_init(lam_rowhash *h);
+/* A zeroed lam_rowhash is an empty index; freeing it makes it one again. */
 void lam_rowhash_free(lam_rowhash *h);
 /* Room for count rows without growing (rows as for insert). */
 void lam_rowhash_reserve(lam_rowhash *h, const uint64_t *rows, size_t width,

@@ -30,9 +30,7 @@ lam_spinfree *lam_spinfree_new(int n)
 void lam_spinfree_free(lam_spinfree *sf)
 {
     if (!sf) return;
-    free(sf->h);
-    free(sf->g);
-    free(sf);
+    LAM_FREE_ALL(sf->h, sf->g, sf);
 }
 
 lam_spinfree *lam_spinfree_clone(const lam_spinfree *sf)
@@ -249,28 +247,31 @@ static double one_body_asymmetry(const lam_spinfree *sf)
     return worst;
 }
 
-double lam_spinfree_hermiticity_error(const lam_spinfree *sf)
+/* The largest |h_pq - h_qp| and |(pq|rs) - partner|, the partner being
+ * (qp|sr) for Hermiticity (swap_rs) or (qp|rs) for real orbitals.  Both
+ * relations are symmetric in the pair, so q <= p covers them. */
+static double worst_pair_difference(const lam_spinfree *sf, int swap_rs)
 {
     int n = sf->n;
     double worst = one_body_asymmetry(sf);
     for (int p = 0; p < n; ++p)
-        for (int q = 0; q < n; ++q)
+        for (int q = 0; q <= p; ++q)
             for (int r = 0; r < n; ++r)
-                for (int s = 0; s < n; ++s)
-                    worst = fmax(worst, fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, s, r)));
+                for (int s = 0; s < n; ++s) {
+                    double partner = swap_rs ? LAM_G(sf, q, p, s, r) : LAM_G(sf, q, p, r, s);
+                    worst = fmax(worst, fabs(LAM_G(sf, p, q, r, s) - partner));
+                }
     return worst;
+}
+
+double lam_spinfree_hermiticity_error(const lam_spinfree *sf)
+{
+    return worst_pair_difference(sf, 1);
 }
 
 double lam_spinfree_real_symmetry_error(const lam_spinfree *sf)
 {
-    int n = sf->n;
-    double worst = one_body_asymmetry(sf);
-    for (int p = 0; p < n; ++p)
-        for (int q = 0; q < p; ++q)
-            for (int r = 0; r < n; ++r)
-                for (int s = 0; s < n; ++s)
-                    worst = fmax(worst, fabs(LAM_G(sf, p, q, r, s) - LAM_G(sf, q, p, r, s)));
-    return worst;
+    return worst_pair_difference(sf, 0);
 }
 
 /* ---- the validation policy ---- */
