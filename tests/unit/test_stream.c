@@ -105,6 +105,59 @@ static void test_returned_errors(void)
     }
 }
 
+/* The sorts must order by weight (key) and settle ties by position, the
+ * same order a stable sort gives; checked against a plain insertion sort
+ * of the same items. */
+static void test_sorts(void)
+{
+    enum { N = 2000 };
+    unsigned long long st = 4242424242ULL;
+    lam_weighted *w = malloc(N * sizeof *w), *wref = malloc(N * sizeof *wref);
+    lam_keyed *k = malloc(N * sizeof *k), *kref = malloc(N * sizeof *kref);
+    for (size_t i = 0; i < N; ++i) {
+        test_xorshift(&st);
+        /* few distinct values, so that most items tie; keys above 2^63
+         * catch a signed comparison */
+        w[i] = (lam_weighted){(double)(st % 7) * 0.25, (i * 7919) % N};
+        k[i] = (lam_keyed){(st % 5) << 61, (i * 104729) % N};
+    }
+    memcpy(wref, w, N * sizeof *w);
+    memcpy(kref, k, N * sizeof *k);
+    for (size_t i = 1; i < N; ++i)
+        for (size_t j = i; j > 0; --j) {
+            lam_weighted a = wref[j - 1], b = wref[j];
+            if (a.weight > b.weight || (a.weight == b.weight && a.at < b.at)) break;
+            wref[j - 1] = b, wref[j] = a;
+        }
+    for (size_t i = 1; i < N; ++i)
+        for (size_t j = i; j > 0; --j) {
+            lam_keyed a = kref[j - 1], b = kref[j];
+            if (a.key < b.key || (a.key == b.key && a.at < b.at)) break;
+            kref[j - 1] = b, kref[j] = a;
+        }
+    lam_sort_heaviest_first(w, N);
+    lam_sort_by_key(k, N);
+    tap_ok(memcmp(w, wref, N * sizeof *w) == 0, "heaviest first, ties by position");
+    tap_ok(memcmp(k, kref, N * sizeof *k) == 0, "smallest key first, keys >= 2^63 too, ties by position");
+    tap_ok(k[0].key == 0 && k[N - 1].key == (uint64_t)4 << 61, "key order spans the unsigned range");
+    LAM_FREE_ALL(w, wref, k, kref, NULL);
+}
+
+static void test_names(void)
+{
+    static const char *const names[] = {"flat", "sparse", "grouped"};
+    tap_ok(lam_name_index(names, 3, "sparse") == 1 && lam_name_index(names, 3, "grouped") == 2,
+           "a name's index in its table");
+    tap_ok(lam_name_index(names, 3, "Sparse") == -1 && lam_name_index(names, 3, "") == -1 &&
+               lam_name_index(names, 2, "grouped") == -1,
+           "case, empty and names past count are unknown");
+    tap_ok(lam_kind_parse("fragments") == LAM_KIND_FRAGMENTS &&
+               lam_kind_parse("spinfree") == LAM_KIND_SPINFREE,
+           "stream kinds parse");
+    tap_ok(lam_kind_parse("unknown") == LAM_KIND_UNKNOWN && lam_kind_parse("pauli ") == LAM_KIND_UNKNOWN,
+           "'unknown' and near misses are no kind");
+}
+
 int main(void)
 {
     int fd = mkstemp(path);
@@ -234,6 +287,8 @@ int main(void)
     free(h);
 
     test_returned_errors();
+    test_sorts();
+    test_names();
     unlink(path);
     return tap_done();
 }
