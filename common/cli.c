@@ -63,17 +63,25 @@ void lam_cli_report_needs(const lam_cli_fields *f, const char *what)
 lam_kind lam_cli_kind(const char *arg, unsigned allowed)
 {
     lam_kind k = lam_kind_parse(arg);
-    if (k != LAM_KIND_UNKNOWN && (allowed & LAM_CLI_KIND(k))) return k;
+    if (k != LAM_KIND_UNKNOWN && (allowed & LAM_CLI_KIND_BIT(k))) return k;
     const char *name[LAM_KIND_FRAGMENTS + 1];
     int n = 0;
     for (int i = LAM_KIND_SPINFREE; i <= LAM_KIND_FRAGMENTS; ++i)
-        if (allowed & LAM_CLI_KIND(i)) name[n++] = lam_kind_name((lam_kind)i);
+        if (allowed & LAM_CLI_KIND_BIT(i)) name[n++] = lam_kind_name((lam_kind)i);
     char names[128] = ""; /* "a, b or c" */
     for (int i = 0; i < n; ++i) {
         strcat(names, name[i]);
         strcat(names, i + 2 < n ? ", " : i + 2 == n ? " or " : "");
     }
     lam_usage_error("--kind wants %s, not '%s'", names, arg);
+}
+
+lam_spin_order lam_cli_spin_order(const char *arg)
+{
+    lam_spin_order order;
+    if (lam_spin_order_parse(arg, &order) != 0)
+        lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", arg);
+    return order;
 }
 
 const char *lam_cli_operand(int argc, char **argv, const char *too_many)

@@ -92,19 +92,10 @@ static void parse_split(const char *arg, double split[3])
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_ERROR, OPT_SPLIT, OPT_CON, OPT_PREP, OPT_ROT };
     static const struct option longopts[] = {
-        LAM_CLI_ALLOW_EMPTY,
-        {"compare", no_argument, 0, 'C'},
-        {"error", required_argument, 0, OPT_ERROR},
-        {"split", required_argument, 0, OPT_SPLIT},
-        {"construction", required_argument, 0, OPT_CON},
-        {"prep-bits", required_argument, 0, OPT_PREP},
-        {"rot-bits", required_argument, 0, OPT_ROT},
-        {"ungrouped", no_argument, 0, OPT_UNGROUPED},
-        {"kind", required_argument, 0, OPT_KIND},
-        {"floor", required_argument, 0, LAM_OPT_FLOOR},
-        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_COMPARE, LAM_CLI_ERROR, LAM_CLI_SPLIT_ERROR,
+        LAM_CLI_CONSTRUCTION, LAM_CLI_PREP_BITS, LAM_CLI_ROT_BITS, LAM_CLI_UNGROUPED,
+        LAM_CLI_KIND_LONG_ONLY, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.tsv = &o->tsv, .label = &o->label, .output = &o->output,
                               .quiet = &o->quiet};
     memset(o, 0, sizeof *o);
@@ -116,22 +107,22 @@ static void parse_options(int argc, char **argv, options *o)
     while ((c = lam_cli_next(argc, argv, ":Ctl:o:qhV", longopts)) != -1) {
         switch (c) {
         case 'C': o->compare = 1; break;
-        case OPT_ERROR:
+        case LAM_OPT_ERROR:
             o->error = lam_opt_double("--error", optarg);
             if (!(o->error > 0))
                 lam_usage_error("option --error wants a positive energy in Eh, not '%s'", optarg);
             break;
-        case OPT_SPLIT: parse_split(optarg, o->split); break;
-        case OPT_CON:
+        case LAM_OPT_SPLIT_ERROR: parse_split(optarg, o->split); break;
+        case LAM_OPT_CONSTRUCTION:
             if (lam_cost_construction_parse(optarg, &o->con) != 0)
                 lam_usage_error("option --construction wants flat, sparse, grouped or df, not '%s'",
                                 optarg);
             o->have_con = 1;
             break;
-        case OPT_PREP: o->par.prep_bits = (int)lam_opt_long("--prep-bits", optarg, 1, 60); break;
-        case OPT_ROT: o->par.rot_bits = (int)lam_opt_long("--rot-bits", optarg, 3, 60); break;
-        case OPT_UNGROUPED: o->ungrouped = 1; break;
-        case OPT_KIND:
+        case LAM_OPT_PREP_BITS: o->par.prep_bits = (int)lam_opt_long("--prep-bits", optarg, 1, 60); break;
+        case LAM_OPT_ROT_BITS: o->par.rot_bits = (int)lam_opt_long("--rot-bits", optarg, 3, 60); break;
+        case LAM_OPT_UNGROUPED: o->ungrouped = 1; break;
+        case LAM_OPT_KIND:
             o->kind = lam_kind_parse(optarg);
             if (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS)
                 lam_usage_error("option --kind wants pauli or fragments, not '%s'", optarg);

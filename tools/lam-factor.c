@@ -74,13 +74,8 @@ static double non_negative(const char *opt, const char *arg)
 
 static void parse_args(int argc, char **argv, cli *c)
 {
-    enum { OPT_TOL = 256, OPT_CUTOFF, OPT_MAXFRAG, OPT_MAXITER };
     static const struct option opts[] = {
-        {"method", required_argument, 0, 'm'},
-        {"tol", required_argument, 0, OPT_TOL},
-        {"cutoff", required_argument, 0, OPT_CUTOFF},
-        {"max-fragments", required_argument, 0, OPT_MAXFRAG},
-        {"max-iter", required_argument, 0, OPT_MAXITER},
+        LAM_CLI_METHOD, LAM_CLI_TOL, LAM_CLI_CUTOFF, LAM_CLI_MAX_FRAGMENTS, LAM_CLI_MAX_ITER,
         LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_THREADS, LAM_CLI_ALLOW_EMPTY,
         LAM_CLI_STANDARD, LAM_CLI_END};
     long threads = 0;
@@ -93,10 +88,10 @@ static void parse_args(int argc, char **argv, cli *c)
     while ((o = lam_cli_next(argc, argv, ":m:r:tl:o:zqhVj:", opts)) != -1) {
         switch (o) {
         case 'm': c->method = parse_method(optarg); break;
-        case OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
-        case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
-        case OPT_MAXFRAG: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
-        case OPT_MAXITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
+        case LAM_OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
+        case LAM_OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
+        case LAM_OPT_MAX_FRAGMENTS: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
+        case LAM_OPT_MAX_ITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
         default: lam_cli_option(o, argv, usage, &f);
         }
     }

@@ -57,18 +57,12 @@ typedef struct {
     const char *output, *report, *input, *label;
 } options;
 
-enum { OPT_REFINE = 256, OPT_SPLIT, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK };
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"method", required_argument, 0, 'm'},
-        {"refine", required_argument, 0, OPT_REFINE},
-        {"split", no_argument, 0, OPT_SPLIT},
-        {"no-split", no_argument, 0, OPT_NO_SPLIT},
-        {"split-iterations", required_argument, 0, OPT_SPLIT_ITER},
-        {"commuting", no_argument, 0, OPT_COMMUTING},
-        {"check", no_argument, 0, OPT_CHECK},
+        LAM_CLI_METHOD, LAM_CLI_REFINE, LAM_CLI_SPLIT_TERMS, LAM_CLI_NO_SPLIT,
+        LAM_CLI_SPLIT_ITERATIONS, LAM_CLI_COMMUTING, LAM_CLI_CHECK,
         LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.report = &o->report, .tsv = &o->tsv, .label = &o->label,
                               .output = &o->output, .gzip = &o->gzip};
@@ -81,15 +75,15 @@ static void parse_options(int argc, char **argv, options *o)
             if (lam_group_method_parse(optarg, &o->group.method) != 0)
                 lam_usage_error("--method wants sorted or best, not '%s'", optarg);
             break;
-        case OPT_REFINE: o->group.refine_passes = (int)lam_opt_long("--refine", optarg, 0, 1000); break;
-        case OPT_SPLIT: o->group.split = 1; break;
-        case OPT_NO_SPLIT: o->group.split = 0; break;
-        case OPT_SPLIT_ITER:
+        case LAM_OPT_REFINE: o->group.refine_passes = (int)lam_opt_long("--refine", optarg, 0, 1000); break;
+        case LAM_OPT_SPLIT_TERMS: o->group.split = 1; break;
+        case LAM_OPT_NO_SPLIT: o->group.split = 0; break;
+        case LAM_OPT_SPLIT_ITERATIONS:
             o->group.split_iterations =
                 (int)lam_opt_long("--split-iterations", optarg, 1, 1000000);
             break;
-        case OPT_COMMUTING: o->group.commuting = 1; break;
-        case OPT_CHECK: o->check = 1; break;
+        case LAM_OPT_COMMUTING: o->group.commuting = 1; break;
+        case LAM_OPT_CHECK: o->check = 1; break;
         default: lam_cli_option(c, argv, usage, &f);
         }
     }

@@ -50,13 +50,8 @@ typedef struct {
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_SPIN_ORDER = 256 };
     static const struct option opts[] = {
-        {"encoding", required_argument, 0, 'e'},
-        {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
-        {"drop", required_argument, 0, 'd'},
-        {"kind", required_argument, 0, 'k'},
-        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
+        LAM_CLI_ENCODING, LAM_CLI_SPIN_ORDER, LAM_CLI_DROP, LAM_CLI_KIND, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.output = &o->output, .gzip = &o->gzip};
     int c;
     while ((c = lam_cli_next(argc, argv, ":e:d:k:o:zqhV", opts)) != -1) {
@@ -66,17 +61,16 @@ static void parse_options(int argc, char **argv, options *o)
                 lam_usage_error("--encoding wants jordan-wigner, bravyi-kitaev or parity, not '%s'",
                                 optarg);
             break;
-        case OPT_SPIN_ORDER:
-            if (lam_spin_order_parse(optarg, &o->spin) != 0)
-                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
+        case LAM_OPT_SPIN_ORDER:
+            o->spin = lam_cli_spin_order(optarg);
             o->spin_given = 1;
             break;
         case 'd':
             lam_drop_parse(&o->drop, optarg);
             break;
         case 'k':
-            o->kind = lam_cli_kind(optarg, LAM_CLI_KIND(LAM_KIND_SPINFREE) |
-                                               LAM_CLI_KIND(LAM_KIND_FERMION));
+            o->kind = lam_cli_kind(optarg, LAM_CLI_KIND_BIT(LAM_KIND_SPINFREE) |
+                                               LAM_CLI_KIND_BIT(LAM_KIND_FERMION));
             break;
         default: lam_cli_option(c, argv, usage, &f);
         }

@@ -157,8 +157,7 @@ typedef struct {
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        LAM_CLI_ALLOW_EMPTY,      {"kind", required_argument, 0, 'k'},
-        {"floor", required_argument, 0, LAM_OPT_FLOOR},
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_KIND, LAM_CLI_FLOOR,
         LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.tsv = &o->tsv, .output = &o->output};
     int c;

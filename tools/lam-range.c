@@ -100,19 +100,11 @@ static void parse_sector(const char *arg, options *o)
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { O_LOW = 256, O_HIGH, O_TOL, O_BOUNDS, O_BSUB, O_BTOL, O_MULT, O_NOMULT, O_CHECK,
-           O_RESUME };
     static const struct option opts[] = {
-        LAM_CLI_ALLOW_EMPTY,
-        {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'n'},
-        {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
-        {"tol", required_argument, 0, O_TOL}, LAM_CLI_MAX_MEMORY,
-        {"bounds", optional_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
-        {"bound-energy-tol", required_argument, 0, O_BTOL},
-        {"multiplets", no_argument, 0, O_MULT}, {"no-multiplets", no_argument, 0, O_NOMULT},
-        {"threads", required_argument, 0, 'j'}, {"kind", required_argument, 0, 'k'},
-        {"check-steps", required_argument, 0, O_CHECK}, {"resume", required_argument, 0, O_RESUME},
-        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_SECTOR, LAM_CLI_ELECTRONS, LAM_CLI_LOWEST, LAM_CLI_HIGHEST,
+        LAM_CLI_TOL, LAM_CLI_MAX_MEMORY, LAM_CLI_BOUNDS, LAM_CLI_BOUND_SUBSPACE,
+        LAM_CLI_BOUND_ENERGY_TOL, LAM_CLI_MULTIPLETS, LAM_CLI_NO_MULTIPLETS, LAM_CLI_THREADS,
+        LAM_CLI_KIND, LAM_CLI_CHECK_STEPS, LAM_CLI_RESUME, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     const lam_cli_fields f = {.max_memory = &o->run.max_memory, .tsv = &o->tsv,
                               .label = &o->label, .output = &o->output};
     memset(o, 0, sizeof *o);
@@ -128,31 +120,31 @@ static void parse_options(int argc, char **argv, options *o)
         switch (c) {
         case 's': parse_sector(optarg, o); break;
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 128); break;
-        case O_LOW: low = 1; break;
-        case O_HIGH: high = 1; break;
-        case O_TOL:
+        case LAM_OPT_LOWEST: low = 1; break;
+        case LAM_OPT_HIGHEST: high = 1; break;
+        case LAM_OPT_TOL:
             o->run.tol = lam_opt_double("--tol", optarg);
             if (!(o->run.tol > 0)) lam_usage_error("--tol must be positive");
             break;
-        case O_BOUNDS:
+        case LAM_OPT_BOUNDS:
             /* --bounds=always: inner bounds even where an exact solve fits
              * (to compare the two, or when the exact one would be slow) */
             if (optarg && strcmp(optarg, "always") && strcmp(optarg, "past-memory"))
                 lam_usage_error("--bounds takes always or past-memory, not '%s'", optarg);
             o->run.bounds = optarg && !strcmp(optarg, "always") ? 2 : 1;
             break;
-        case O_BSUB: o->run.bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
-        case O_BTOL:
+        case LAM_OPT_BOUND_SUBSPACE: o->run.bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
+        case LAM_OPT_BOUND_ENERGY_TOL:
             o->run.bound_energy_tol = lam_opt_double("--bound-energy-tol", optarg);
             if (!(o->run.bound_energy_tol >= 0)) lam_usage_error("--bound-energy-tol must not be negative");
             break;
-        case O_MULT: o->multiplets = 1; break;
-        case O_NOMULT: o->multiplets = 0; break;
-        case O_CHECK: o->run.check_steps = (int)lam_opt_long("--check-steps", optarg, 0, 1000000); break;
-        case O_RESUME: o->run.resume = optarg; break;
+        case LAM_OPT_MULTIPLETS: o->multiplets = 1; break;
+        case LAM_OPT_NO_MULTIPLETS: o->multiplets = 0; break;
+        case LAM_OPT_CHECK_STEPS: o->run.check_steps = (int)lam_opt_long("--check-steps", optarg, 0, 1000000); break;
+        case LAM_OPT_RESUME: o->run.resume = optarg; break;
         case 'j': o->threads = (int)lam_opt_long("--threads", optarg, 1, 64); break;
         case 'k':
-            o->kind = lam_cli_kind(optarg, ~LAM_CLI_KIND(LAM_KIND_FRAGMENTS));
+            o->kind = lam_cli_kind(optarg, ~LAM_CLI_KIND_BIT(LAM_KIND_FRAGMENTS));
             break;
         default: lam_cli_option(c, argv, usage, &f);
         }

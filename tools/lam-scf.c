@@ -64,11 +64,6 @@ static _Noreturn void usage(void)
     exit(0);
 }
 
-enum {
-    OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ENERGY_TOL, OPT_GRADIENT_TOL, OPT_MAXIT,
-    OPT_DIIS_DEPTH, OPT_SCHWARZ, OPT_CUTOFF, OPT_START, OPT_STABILITY,
-    OPT_ENERGY_ONLY
-};
 
 typedef struct {
     const char *basis, *output, *input;
@@ -90,19 +85,10 @@ static int parse_choice(const char *opt, const char *arg, const char *const *nam
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"basis", required_argument, 0, 'b'},   {"charge", required_argument, 0, 'c'},
-        {"bohr", no_argument, 0, OPT_BOHR},     {"cartesian", no_argument, 0, OPT_CART},
-        {"spherical", no_argument, 0, OPT_SPH}, {"frozen", required_argument, 0, 'f'},
-        {"active", required_argument, 0, 'a'},
-        {"energy-tol", required_argument, 0, OPT_ENERGY_TOL},
-        {"gradient-tol", required_argument, 0, OPT_GRADIENT_TOL},
-        {"max-iter", required_argument, 0, OPT_MAXIT},
-        {"diis-depth", required_argument, 0, OPT_DIIS_DEPTH},
-        {"start", required_argument, 0, OPT_START},
-        {"stability", required_argument, 0, OPT_STABILITY},
-        {"schwarz", required_argument, 0, OPT_SCHWARZ},
-        {"cutoff", required_argument, 0, OPT_CUTOFF},
-        {"energy-only", no_argument, 0, OPT_ENERGY_ONLY},
+        LAM_CLI_BASIS, LAM_CLI_CHARGE, LAM_CLI_BOHR, LAM_CLI_CARTESIAN, LAM_CLI_SPHERICAL,
+        LAM_CLI_FROZEN, LAM_CLI_ACTIVE, LAM_CLI_ENERGY_TOL, LAM_CLI_GRADIENT_TOL, LAM_CLI_MAX_ITER,
+        LAM_CLI_DIIS_DEPTH, LAM_CLI_START_GUESS, LAM_CLI_STABILITY, LAM_CLI_SCHWARZ,
+        LAM_CLI_CUTOFF, LAM_CLI_ENERGY_ONLY,
         LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT, LAM_CLI_THREADS, LAM_CLI_STANDARD,
         LAM_CLI_END};
     long threads = 0;
@@ -122,29 +108,29 @@ static void parse_options(int argc, char **argv, options *o)
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
-        case OPT_BOHR: o->bohr = 1; break;
-        case OPT_CART: o->pure = 0; break;
-        case OPT_SPH: o->pure = 1; break;
+        case LAM_OPT_BOHR: o->bohr = 1; break;
+        case LAM_OPT_CARTESIAN: o->pure = 0; break;
+        case LAM_OPT_SPHERICAL: o->pure = 1; break;
         case 'f': o->frozen = lam_opt_long("--frozen", optarg, 0, 100000); break;
         case 'a': o->active = lam_opt_long("--active", optarg, 1, 100000); break;
-        case OPT_ENERGY_TOL: o->scf.energy_tol = lam_opt_double("--energy-tol", optarg); break;
-        case OPT_GRADIENT_TOL:
+        case LAM_OPT_ENERGY_TOL: o->scf.energy_tol = lam_opt_double("--energy-tol", optarg); break;
+        case LAM_OPT_GRADIENT_TOL:
             o->scf.gradient_tol = lam_opt_double("--gradient-tol", optarg);
             break;
-        case OPT_MAXIT: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case OPT_DIIS_DEPTH:
+        case LAM_OPT_MAX_ITER: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
+        case LAM_OPT_DIIS_DEPTH:
             o->scf.diis_depth = (int)lam_opt_long("--diis-depth", optarg, 0, 8);
             break;
-        case OPT_START: o->scf.start = parse_choice("--start", optarg, starts, 2); break;
-        case OPT_STABILITY:
+        case LAM_OPT_START_GUESS: o->scf.start = parse_choice("--start", optarg, starts, 2); break;
+        case LAM_OPT_STABILITY:
             o->scf.stability = parse_choice("--stability", optarg, stabilities, 3);
             break;
-        case OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
-        case OPT_CUTOFF:
+        case LAM_OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
+        case LAM_OPT_CUTOFF:
             o->cutoff = lam_opt_double("--cutoff", optarg);
             if (o->cutoff < 0) lam_usage_error("--cutoff must not be negative");
             break;
-        case OPT_ENERGY_ONLY: o->energy_only = 1; break;
+        case LAM_OPT_ENERGY_ONLY: o->energy_only = 1; break;
         default: lam_cli_option(c, argv, usage, &f);
         }
     }

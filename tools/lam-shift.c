@@ -69,22 +69,11 @@ typedef struct {
     const char *report, *dump, *output, *input, *label;
 } options;
 
-enum { OPT_TERMS = 256, OPT_SPIN, OPT_SZ, OPT_ORDER, OPT_EMIT, OPT_RECORDED, OPT_GAP, OPT_ITER,
-       OPT_DUMP };
-
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"electrons", required_argument, 0, 'n'},
-        {"terms", required_argument, 0, OPT_TERMS},
-        {"spin", no_argument, 0, OPT_SPIN},
-        {"sz", required_argument, 0, OPT_SZ},
-        {"spin-order", required_argument, 0, OPT_ORDER},
-        {"emit-shift", no_argument, 0, OPT_EMIT},
-        {"emit-recorded", no_argument, 0, OPT_RECORDED},
-        {"gap", required_argument, 0, OPT_GAP},
-        {"max-iter", required_argument, 0, OPT_ITER},
-        {"dump-lp", required_argument, 0, OPT_DUMP},
+        LAM_CLI_ELECTRONS, LAM_CLI_TERMS, LAM_CLI_SPIN, LAM_CLI_SZ, LAM_CLI_SPIN_ORDER,
+        LAM_CLI_EMIT_SHIFT, LAM_CLI_EMIT_RECORDED, LAM_CLI_GAP, LAM_CLI_MAX_ITER, LAM_CLI_DUMP_LP,
         LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_THREADS, LAM_CLI_ALLOW_EMPTY,
         LAM_CLI_STANDARD, LAM_CLI_END};
     long threads = 0;
@@ -99,14 +88,14 @@ static void parse_options(int argc, char **argv, options *o)
     while ((c = lam_cli_next(argc, argv, ":n:r:tl:o:zqhVj:", opts)) != -1) {
         switch (c) {
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
-        case OPT_TERMS:
+        case LAM_OPT_TERMS:
             if (lam_shift_parse_terms(optarg, &o->terms) != 0 || o->terms == 0)
                 lam_usage_error("--terms wants a comma-separated list of a1, a2, xi, xi-diag, "
                                 "b1, b2, zeta, zeta-diag, not '%s'", optarg);
             explicit_terms = 1;
             break;
-        case OPT_SPIN: o->spin = 1; break;
-        case OPT_SZ: {
+        case LAM_OPT_SPIN: o->spin = 1; break;
+        case LAM_OPT_SZ: {
             double sz = lam_opt_double("--sz", optarg);
             if (fabs(sz) > 1e6 || 2 * sz != floor(2 * sz))
                 lam_usage_error("--sz wants a whole or half-whole number, not '%s'", optarg);
@@ -114,19 +103,16 @@ static void parse_options(int argc, char **argv, options *o)
             o->have_ms2 = 1;
             break;
         }
-        case OPT_ORDER:
-            if (lam_spin_order_parse(optarg, &o->order) != 0)
-                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
-            break;
-        case OPT_EMIT: o->emit_shift = 1; break;
-        case OPT_RECORDED: o->emit_recorded = 1; break;
-        case OPT_GAP:
+        case LAM_OPT_SPIN_ORDER: o->order = lam_cli_spin_order(optarg); break;
+        case LAM_OPT_EMIT_SHIFT: o->emit_shift = 1; break;
+        case LAM_OPT_EMIT_RECORDED: o->emit_recorded = 1; break;
+        case LAM_OPT_GAP:
             o->gap = lam_opt_double("--gap", optarg);
             if (!(o->gap > 0) || o->gap >= 1)
                 lam_usage_error("--gap wants a relative gap between 0 and 1, not '%s'", optarg);
             break;
-        case OPT_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case OPT_DUMP: o->dump = optarg; break;
+        case LAM_OPT_MAX_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
+        case LAM_OPT_DUMP_LP: o->dump = optarg; break;
         default: lam_cli_option(c, argv, usage, &f);
         }
     }

@@ -323,13 +323,8 @@ static void add_input(options *o, const char *path, int *scaled, double factor)
  * that a --scale belongs to the FILE right after it. */
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_SCALE = 256, OPT_SORT };
     static const struct option opts[] = {
-        {"scale", required_argument, 0, OPT_SCALE},
-        {"drop", required_argument, 0, 'd'},
-        {"sort", no_argument, 0, OPT_SORT},
-        {"kind", required_argument, 0, 'k'},
-        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_SCALE, LAM_CLI_DROP, LAM_CLI_SORT, LAM_CLI_KIND, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     const lam_cli_fields f = {.output = &o->out, .gzip = &o->gzip};
     int c, scaled = 0;
     double factor = 1.0;
@@ -340,7 +335,7 @@ static void parse_options(int argc, char **argv, options *o)
     while ((c = lam_cli_next(argc, argv, "-:d:k:o:zhV", opts)) != -1) {
         switch (c) {
         case 1: add_input(o, optarg, &scaled, factor); break;
-        case OPT_SCALE:
+        case LAM_OPT_SCALE:
             if (scaled)
                 lam_usage_error("--scale %s and --scale %s before one FILE: one factor a FILE",
                                 scale_text, optarg);
@@ -349,9 +344,9 @@ static void parse_options(int argc, char **argv, options *o)
             scaled = 1;
             break;
         case 'd': lam_drop_parse(&o->drop, optarg); break;
-        case OPT_SORT: o->sort = 1; break;
+        case LAM_OPT_SORT: o->sort = 1; break;
         case 'k':
-            o->forced = lam_cli_kind(optarg, ~LAM_CLI_KIND(LAM_KIND_FRAGMENTS));
+            o->forced = lam_cli_kind(optarg, ~LAM_CLI_KIND_BIT(LAM_KIND_FRAGMENTS));
             break;
         case '?':
         case ':': refuse_factor_prefix(argc, argv); /* fall through */
