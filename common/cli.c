@@ -23,26 +23,26 @@ void lam_cli_common(int c, char **argv, void (*usage)(void))
     }
 }
 
-/* The value of a shared option into its place: 1, or 0 when c is none of
- * them or f has no place for it. */
-static int store_option(int c, const lam_cli_fields *f)
+/* The value of a shared option into v: 1, or 0 when c is none of them. */
+static int store_option(int c, lam_cli_values *v)
 {
-    if (c == 'o' && f->output) *f->output = optarg;
-    else if (c == 'z' && f->gzip) *f->gzip = 1;
-    else if (c == 'r' && f->report) *f->report = optarg;
-    else if (c == 't' && f->tsv) *f->tsv = 1;
-    else if (c == 'l' && f->label) *f->label = optarg;
-    else if (c == 'j' && f->threads) *f->threads = lam_opt_long("--threads", optarg, 1, 1024);
-    else if (c == 'M' && f->max_memory) *f->max_memory = lam_opt_size("--max-memory", optarg);
-    else return 0;
+    switch (c) {
+    case 'o': v->output = optarg; break;
+    case 'z': v->gzip = 1; break;
+    case 'r': v->report = optarg; break;
+    case 't': v->tsv = 1; break;
+    case 'l': v->label = optarg; break;
+    case 'j': v->threads = lam_opt_long("--threads", optarg, 1, 1024); break;
+    case 'M': v->max_memory = lam_opt_size("--max-memory", optarg); break;
+    case 'q': v->quiet = 1; return 0; /* and progress off: */
+    default: return 0;
+    }
     return 1;
 }
 
-void lam_cli_option(int c, char **argv, void (*usage)(void), const lam_cli_fields *f)
+void lam_cli_option(int c, char **argv, void (*usage)(void), lam_cli_values *v)
 {
-    if (f && store_option(c, f)) return;
-    if (c == 'q' && f && f->quiet) *f->quiet = 1; /* and progress off: */
-    lam_cli_common(c, argv, usage);
+    if (!store_option(c, v)) lam_cli_common(c, argv, usage);
 }
 
 static int is_stdout(const char *path)
@@ -50,13 +50,13 @@ static int is_stdout(const char *path)
     return !path || strcmp(path, "-") == 0;
 }
 
-void lam_cli_report_needs(const lam_cli_fields *f, const char *what)
+void lam_cli_report_needs(const lam_cli_values *v, const char *what)
 {
-    const char *report = *f->report;
-    if (!report && (*f->tsv || *f->label))
+    const char *report = v->report;
+    if (!report && (v->tsv || v->label))
         lam_usage_error("%s formats the --report; give --report FILE",
-                        *f->tsv ? "--tsv" : "--label");
-    if (report && strcmp(report, "-") == 0 && is_stdout(*f->output))
+                        v->tsv ? "--tsv" : "--label");
+    if (report && strcmp(report, "-") == 0 && is_stdout(v->output))
         lam_usage_error("--report - needs -o FILE: stdout carries the %s", what);
 }
 

@@ -13,19 +13,17 @@
  * the same in every program, and a bad option gets the same one message
  * (exit 64).  So do the output options of the suite's table: -o/--output,
  * -z/--gzip, -r/--report, -t/--tsv, -l/--label, -j/--threads and
- * -M/--max-memory.  A program says in a lam_cli_fields where it keeps
- * their values, and sends every option its switch does not handle to
- * lam_cli_option:
+ * -M/--max-memory.  A program keeps their values in a lam_cli_values and
+ * sends every option its switch does not handle to lam_cli_option:
  *
  *     static const struct option opts[] = {
  *         LAM_CLI_DROP, LAM_CLI_SORT,
  *         LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
- *     const lam_cli_fields f = {.output = &o->output, .gzip = &o->gzip};
  *     while ((c = lam_cli_next(argc, argv, ":d:o:zqhV", opts)) != -1)
  *         switch (c) {
  *         case 'd': ...; break;
  *         case LAM_OPT_SORT: ...; break;
- *         default: lam_cli_option(c, argv, usage, &f);
+ *         default: lam_cli_option(c, argv, usage, &o->cli);
  *         }
  *     o->input = lam_cli_operand(argc, argv, "one input stream at a time");
  *
@@ -171,18 +169,18 @@ enum {
     "      --allow-empty    read an empty input as the zero operator\n"        \
     "  -V, --version        show the version\n\n"
 
-/* Where a program keeps the values of the shared options it offers; a NULL
- * member is an option it does not take. */
+/* The values of the shared options: a program keeps one in its options,
+ * and its table says which of them it offers.  Zero is "not given". */
 typedef struct {
-    const char **output; /* -o FILE */
-    int *gzip;           /* -z */
-    const char **report; /* -r FILE */
-    int *tsv;            /* -t */
-    const char **label;  /* -l TEXT */
-    long *threads;       /* -j N, 1 to 1024 */
-    double *max_memory;  /* -M SIZE, bytes */
-    int *quiet;          /* -q: set to 1 besides turning progress off */
-} lam_cli_fields;
+    const char *output; /* -o FILE */
+    int gzip;           /* -z */
+    const char *report; /* -r FILE */
+    int tsv;            /* -t */
+    const char *label;  /* -l TEXT */
+    long threads;       /* -j N, 1 to 1024 */
+    double max_memory;  /* -M SIZE, bytes (a program may set its default first) */
+    int quiet;          /* -q, besides turning progress off (e.g. no note on stderr) */
+} lam_cli_values;
 
 /* getopt_long with getopt's own messages off (opterr = 0): the one message
  * for a bad option is lam_cli_common's. */
@@ -197,13 +195,13 @@ int lam_cli_next(int argc, char **argv, const char *shortopts, const struct opti
 void lam_cli_common(int c, char **argv, void (*usage)(void));
 
 /* Handle a shared option c, the output options included: store the value
- * where f says (f may be NULL) and pass anything else to lam_cli_common. */
-void lam_cli_option(int c, char **argv, void (*usage)(void), const lam_cli_fields *f);
+ * in v and pass anything else to lam_cli_common. */
+void lam_cli_option(int c, char **argv, void (*usage)(void), lam_cli_values *v);
 
 /* -t and -l format the report, so they want -r; "-r -" wants -o FILE when
  * stdout carries the program's main output (what names it).  Exit 64 when
- * they do not get it.  f names report, tsv, label and output. */
-void lam_cli_report_needs(const lam_cli_fields *f, const char *what);
+ * they do not get it. */
+void lam_cli_report_needs(const lam_cli_values *v, const char *what);
 
 /* The stream kind arg names, one of those in allowed (a LAM_CLI_KIND_BIT
  * each); any other is a usage error that lists them (exit 64). */

@@ -78,9 +78,10 @@ static _Noreturn void usage(void)
 typedef struct {
     lam_range_options run; /* every option that changes the values */
     long electrons;
-    int multiplets, threads, tsv;
+    int multiplets, threads;
     lam_kind kind;
-    const char *output, *input, *label;
+    const char *input;
+    lam_cli_values cli; /* -o, -t, -l, -M (-j is the program's own) */
 } options;
 
 static void parse_sector(const char *arg, options *o)
@@ -105,8 +106,6 @@ static void parse_options(int argc, char **argv, options *o)
         LAM_CLI_TOL, LAM_CLI_MAX_MEMORY, LAM_CLI_BOUNDS, LAM_CLI_BOUND_SUBSPACE,
         LAM_CLI_BOUND_ENERGY_TOL, LAM_CLI_MULTIPLETS, LAM_CLI_NO_MULTIPLETS, LAM_CLI_THREADS,
         LAM_CLI_KIND, LAM_CLI_CHECK_STEPS, LAM_CLI_RESUME, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.max_memory = &o->run.max_memory, .tsv = &o->tsv,
-                              .label = &o->label, .output = &o->output};
     memset(o, 0, sizeof *o);
     o->run.sector_na = o->run.sector_nb = -1;
     o->electrons = -1;
@@ -146,13 +145,13 @@ static void parse_options(int argc, char **argv, options *o)
         case 'k':
             o->kind = lam_cli_kind(optarg, ~LAM_CLI_KIND_BIT(LAM_KIND_FRAGMENTS));
             break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     o->input = lam_cli_operand(argc, argv, "one stream at a time");
     o->run.want_low = low || !high;
     o->run.want_high = high || !low;
-    if (!o->run.max_memory) o->run.max_memory = lam_machine_memory();
+    o->run.max_memory = o->cli.max_memory ? o->cli.max_memory : lam_machine_memory();
     if (o->multiplets == 1 && o->run.sector_na >= 0) lam_usage_error("--multiplets and --sector do not go together");
 }
 
@@ -254,7 +253,7 @@ static int write_report(const lam_plan *p, int electrons, const options *o, int 
 {
     lam_report *rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
-    lam_report_str(rep, "label", o->label ? o->label : o->input ? o->input : "<stdin>");
+    lam_report_str(rep, "label", o->cli.label ? o->cli.label : o->input ? o->input : "<stdin>");
     int solved = 0, bounds = 0;
     double max_res = 0;
     for (int i = 0; i < p->count; ++i) {
@@ -288,7 +287,7 @@ static int write_report(const lam_plan *p, int electrons, const options *o, int 
     }
     if (solved) lam_report_num(rep, "max_residual", max_res);
     lam_report_str(rep, "status", bounds ? "bound" : "exact");
-    int rc = lam_report_save(rep, o->output, o->tsv, err);
+    int rc = lam_report_save(rep, o->cli.output, o->cli.tsv, err);
     lam_report_free(rep);
     *nbounds = bounds;
     return rc;

@@ -66,11 +66,11 @@ static _Noreturn void usage(void)
 
 
 typedef struct {
-    const char *basis, *output, *input;
-    int bohr, pure, quiet, energy_only, tsv;
+    const char *basis, *input;
+    int bohr, pure, energy_only;
     long charge, frozen, active;
     double cutoff;      /* < 0: LAM_SCF_CUTOFF_RELATIVE x the largest integral */
-    double max_memory;  /* bytes */
+    lam_cli_values cli; /* -o, -t, -j, -M, -q */
     lam_scf_options scf;
 } options;
 
@@ -91,9 +91,6 @@ static void parse_options(int argc, char **argv, options *o)
         LAM_CLI_CUTOFF, LAM_CLI_ENERGY_ONLY,
         LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT, LAM_CLI_THREADS, LAM_CLI_STANDARD,
         LAM_CLI_END};
-    long threads = 0;
-    const lam_cli_fields f = {.max_memory = &o->max_memory, .tsv = &o->tsv, .output = &o->output,
-                              .threads = &threads, .quiet = &o->quiet};
     static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
     static const char *const stabilities[] = {"follow", "check", "off"};
     memset(o, 0, sizeof *o);
@@ -101,7 +98,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->pure = -1;
     o->active = -1;
     o->cutoff = -1;
-    o->max_memory = lam_machine_memory();
+    o->cli.max_memory = lam_machine_memory();
     lam_scf_options_default(&o->scf);
     int c;
     while ((c = lam_cli_next(argc, argv, ":b:c:f:a:M:to:qhVj:", opts)) != -1) {
@@ -131,18 +128,18 @@ static void parse_options(int argc, char **argv, options *o)
             if (o->cutoff < 0) lam_usage_error("--cutoff must not be negative");
             break;
         case LAM_OPT_ENERGY_ONLY: o->energy_only = 1; break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
-    lam_blas_threads(threads);
+    lam_blas_threads(o->cli.threads);
     if (o->scf.energy_tol <= 0 || o->scf.gradient_tol <= 0)
         lam_usage_error("--energy-tol and --gradient-tol must be positive");
     if (o->scf.schwarz < 0) lam_usage_error("--schwarz must not be negative");
-    if (o->tsv && !o->energy_only) lam_usage_error("--tsv goes with --energy-only");
+    if (o->cli.tsv && !o->energy_only) lam_usage_error("--tsv goes with --energy-only");
     o->input = lam_cli_operand(argc, argv, "one molecule at a time");
     if (!lam_basis_set_find(o->basis))
         lam_usage_error("unknown basis '%s' (known: %s)", o->basis, lam_basis_set_names());
-    o->scf.report = !o->quiet && lam_progress_enabled();
+    o->scf.report = !o->cli.quiet && lam_progress_enabled();
 }
 
 /* The frozen/active choice must fit the molecule (code 64 otherwise). */
@@ -170,10 +167,10 @@ static int check_memory(const options *o, int nbf, int active, lam_error *err)
     /* SCF data, half-transformed and MO pair matrices, the dense operator */
     double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + 8.0 * m2 * m2 +
                    (double)lam_spinfree_bytes(active);
-    if (bytes > o->max_memory)
+    if (bytes > o->cli.max_memory)
         return lam_error_set(err, LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
                              "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
-                             o->max_memory / 1048576.0);
+                             o->cli.max_memory / 1048576.0);
     return 0;
 }
 
@@ -204,7 +201,7 @@ static void clean_integrals(const options *o, lam_spinfree *sf)
                                    : LAM_SCF_CUTOFF_RELATIVE * lam_scf_integral_scale(sf);
     lam_scf_cleaning cl;
     lam_scf_clean_integrals(sf, cutoff, &cl);
-    if (!o->quiet)
+    if (!o->cli.quiet)
         fprintf(stderr, "%s: %zu integrals written, %zu at or below the cutoff %.3g Eh set to "
                 "zero (largest %.3g Eh)\n", lam_program(), cl.kept, cl.dropped, cutoff,
                 cl.largest_dropped);
@@ -241,7 +238,7 @@ static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
         lam_report_num(rep, "stability_eigenvalue", s->hessian_lowest);
         lam_report_int(rep, "instabilities_followed", s->instabilities_followed);
     }
-    lam_report_write(rep, out, o->tsv);
+    lam_report_write(rep, out, o->cli.tsv);
     lam_report_free(rep);
 }
 
@@ -290,11 +287,11 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     int nbf = run->basis->nbf;
     int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
     if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
-    if (open_output(o->output, &run->out, err)) return err->code;
-    if (run->out != stdout) run->made = o->output;
+    if (open_output(o->cli.output, &run->out, err)) return err->code;
+    if (run->out != stdout) run->made = o->cli.output;
     if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
     const lam_scf *s = run->scf;
-    if (!o->quiet) say_energy(s);
+    if (!o->cli.quiet) say_energy(s);
     if (o->energy_only) {
         write_energy_report(run->out, o, s);
     } else {
@@ -306,7 +303,7 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     }
     FILE *out = run->out;
     run->out = NULL;
-    return close_output(out, o->output, err);
+    return close_output(out, o->cli.output, err);
 }
 
 int main(int argc, char **argv)
