@@ -97,7 +97,8 @@ static void parse_options(int argc, char **argv, options *o)
     static const struct option longopts[] = {
         LAM_CLI_ALLOW_EMPTY, LAM_CLI_COMPARE, LAM_CLI_ERROR, LAM_CLI_SPLIT_ERROR,
         LAM_CLI_CONSTRUCTION, LAM_CLI_PREP_BITS, LAM_CLI_ROT_BITS, LAM_CLI_UNGROUPED,
-        LAM_CLI_KIND_LONG_ONLY, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+        LAM_CLI_KIND_LONG_ONLY, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT,
+        LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     o->error = LAM_COST_DEFAULT_ERROR;
     o->split[0] = LAM_COST_DEFAULT_SPLIT_PHASE;

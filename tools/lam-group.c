@@ -63,8 +63,8 @@ static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
         LAM_CLI_METHOD, LAM_CLI_REFINE, LAM_CLI_SPLIT_TERMS, LAM_CLI_NO_SPLIT,
-        LAM_CLI_SPLIT_ITERATIONS, LAM_CLI_COMMUTING, LAM_CLI_CHECK,
-        LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
+        LAM_CLI_SPLIT_ITERATIONS, LAM_CLI_COMMUTING, LAM_CLI_CHECK, LAM_CLI_REPORT_OUT,
+        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     lam_group_options_default(&o->group);
     int c;

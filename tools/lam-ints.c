@@ -36,7 +36,8 @@ int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     static const struct option opts[] = {
-        LAM_CLI_ELECTRONS, LAM_CLI_FERMION, LAM_CLI_SPIN_ORDER, LAM_CLI_STREAM_OUT, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_ELECTRONS, LAM_CLI_FERMION, LAM_CLI_SPIN_ORDER, LAM_CLI_STREAM_OUT, LAM_CLI_HELP,
+        LAM_CLI_VERSION, LAM_CLI_END};
     long electrons = -1;
     int fermion = 0, c;
     lam_spin_order order = LAM_SPIN_INTERLEAVED;

@@ -156,8 +156,8 @@ typedef struct {
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        LAM_CLI_ALLOW_EMPTY, LAM_CLI_KIND, LAM_CLI_FLOOR,
-        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_KIND, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL,
+        LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     int c;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;

@@ -88,9 +88,8 @@ static void parse_options(int argc, char **argv, options *o)
         LAM_CLI_BASIS, LAM_CLI_CHARGE, LAM_CLI_BOHR, LAM_CLI_CARTESIAN, LAM_CLI_SPHERICAL,
         LAM_CLI_FROZEN, LAM_CLI_ACTIVE, LAM_CLI_ENERGY_TOL, LAM_CLI_GRADIENT_TOL, LAM_CLI_MAX_ITER,
         LAM_CLI_DIIS_DEPTH, LAM_CLI_START_GUESS, LAM_CLI_STABILITY, LAM_CLI_SCHWARZ,
-        LAM_CLI_CUTOFF, LAM_CLI_ENERGY_ONLY,
-        LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT, LAM_CLI_THREADS, LAM_CLI_STANDARD,
-        LAM_CLI_END};
+        LAM_CLI_CUTOFF, LAM_CLI_ENERGY_ONLY, LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT,
+        LAM_CLI_THREADS, LAM_CLI_STANDARD, LAM_CLI_END};
     static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
     static const char *const stabilities[] = {"follow", "check", "off"};
     memset(o, 0, sizeof *o);

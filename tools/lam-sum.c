@@ -324,7 +324,8 @@ static void add_input(options *o, const char *path, int *scaled, double factor)
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        LAM_CLI_SCALE, LAM_CLI_DROP, LAM_CLI_SORT, LAM_CLI_KIND, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_SCALE, LAM_CLI_DROP, LAM_CLI_SORT, LAM_CLI_KIND, LAM_CLI_STREAM_OUT,
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     int c, scaled = 0;
     double factor = 1.0;
     const char *scale_text = NULL;
