@@ -5,10 +5,40 @@
 
 #include "util.h"
 
-int lam_cli_next(int argc, char **argv, const char *shortopts, const struct option *longopts)
+/* The short-option string the table implies, after mode (":" or "-:"):
+ * the letter of each entry that has one, followed by ':' when it takes a
+ * value ("::" when the value is optional). */
+static const char *short_options(const struct option *longopts, const char *mode, char *buf)
 {
+    char seen[128] = {0};
+    size_t n = strlen(strcpy(buf, mode));
+    for (const struct option *e = longopts; e->name; ++e) {
+        if (e->flag || e->val <= 0 || e->val >= 128 || seen[e->val]) continue;
+        seen[e->val] = 1;
+        buf[n++] = (char)e->val;
+        if (e->has_arg != no_argument) buf[n++] = ':';
+        if (e->has_arg == optional_argument) buf[n++] = ':';
+    }
+    buf[n] = '\0';
+    return buf;
+}
+
+/* getopt_long with getopt's own messages off (opterr = 0). */
+static int next_option(int argc, char **argv, const char *mode, const struct option *longopts)
+{
+    char shortopts[3 + 3 * 128];
     opterr = 0;
-    return getopt_long(argc, argv, shortopts, longopts, NULL);
+    return getopt_long(argc, argv, short_options(longopts, mode, shortopts), longopts, NULL);
+}
+
+int lam_cli_next(int argc, char **argv, const struct option *longopts)
+{
+    return next_option(argc, argv, ":", longopts);
+}
+
+int lam_cli_next_in_order(int argc, char **argv, const struct option *longopts)
+{
+    return next_option(argc, argv, "-:", longopts);
 }
 
 void lam_cli_common(int c, char **argv, void (*usage)(void))

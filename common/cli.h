@@ -19,7 +19,7 @@
  *     static const struct option opts[] = {
  *         LAM_CLI_DROP, LAM_CLI_SORT,
  *         LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
- *     while ((c = lam_cli_next(argc, argv, ":d:o:zqhV", opts)) != -1)
+ *     while ((c = lam_cli_next(argc, argv, opts)) != -1)
  *         switch (c) {
  *         case 'd': ...; break;
  *         case LAM_OPT_SORT: ...; break;
@@ -27,9 +27,9 @@
  *         }
  *     o->input = lam_cli_operand(argc, argv, "one input stream at a time");
  *
- * The short-option string starts with ':' (or "-:" to get FILE operands in
- * order), so that a missing value comes back as ':' and is told apart from
- * an unknown option.  A new option gets its id and its entry here first.
+ * The table is all a program says about its options: lam_cli_next builds
+ * the short-option string from the entries' letters.  A new option gets
+ * its id and its entry here first.
  */
 #ifndef LAM_CLI_H
 #define LAM_CLI_H
@@ -182,9 +182,17 @@ typedef struct {
     int quiet;          /* -q, besides turning progress off (e.g. no note on stderr) */
 } lam_cli_values;
 
-/* getopt_long with getopt's own messages off (opterr = 0): the one message
- * for a bad option is lam_cli_common's. */
-int lam_cli_next(int argc, char **argv, const char *shortopts, const struct option *longopts);
+/* The next option, as getopt_long returns it, with the short-option
+ * string built from the table (the letter of every entry that has one), so
+ * that the table is a program's one list of its options.  getopt's own
+ * messages are off (opterr = 0): a missing value comes back as ':', an
+ * unknown option as '?', and lam_cli_common gives each its one message. */
+int lam_cli_next(int argc, char **argv, const struct option *longopts);
+
+/* The same, with the operands coming back in order among the options (as
+ * option 1, the operand in optarg), for a program where an option applies
+ * to the FILE after it. */
+int lam_cli_next_in_order(int argc, char **argv, const struct option *longopts);
 
 /* Handle a shared option c: -h calls usage (which prints the help and
  * exits 0), -V prints the version and exits 0, -q turns progress off,

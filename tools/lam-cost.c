@@ -105,7 +105,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->split[1] = LAM_COST_DEFAULT_SPLIT_TRUNC;
     o->split[2] = LAM_COST_DEFAULT_SPLIT_SYNTH;
     int c;
-    while ((c = lam_cli_next(argc, argv, ":Ctl:o:qhV", longopts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, longopts)) != -1) {
         switch (c) {
         case 'C': o->compare = 1; break;
         case LAM_OPT_ERROR:

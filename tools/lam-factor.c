@@ -83,7 +83,7 @@ static void parse_args(int argc, char **argv, cli *c)
     memset(c, 0, sizeof *c);
     c->method = LAM_FACTOR_DOUBLE;
     c->max_fragments = c->max_iter = -1;
-    while ((o = lam_cli_next(argc, argv, ":m:r:tl:o:zqhVj:", opts)) != -1) {
+    while ((o = lam_cli_next(argc, argv, opts)) != -1) {
         switch (o) {
         case 'm': c->method = parse_method(optarg); break;
         case LAM_OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;

@@ -68,7 +68,7 @@ static void parse_options(int argc, char **argv, options *o)
     memset(o, 0, sizeof *o);
     lam_group_options_default(&o->group);
     int c;
-    while ((c = lam_cli_next(argc, argv, ":m:r:tl:o:zqhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'm':
             if (lam_group_method_parse(optarg, &o->group.method) != 0)

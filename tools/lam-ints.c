@@ -42,7 +42,7 @@ int main(int argc, char **argv)
     int fermion = 0, c;
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
     lam_cli_values cli = {0};
-    while ((c = lam_cli_next(argc, argv, ":n:o:zhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'n': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
         case LAM_OPT_FERMION: fermion = 1; break;

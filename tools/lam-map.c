@@ -54,7 +54,7 @@ static void parse_options(int argc, char **argv, options *o)
         LAM_CLI_ENCODING, LAM_CLI_SPIN_ORDER, LAM_CLI_DROP, LAM_CLI_KIND, LAM_CLI_STREAM_OUT,
         LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
     int c;
-    while ((c = lam_cli_next(argc, argv, ":e:d:k:o:zqhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'e':
             if (lam_encoding_parse(optarg, &o->encoding) != 0)

@@ -163,7 +163,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->forced = LAM_KIND_UNKNOWN;
     o->labels = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->labels));
     o->floors = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->floors));
-    while ((c = lam_cli_next(argc, argv, ":k:tl:o:qhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'k': o->forced = lam_cli_kind(optarg, ~0u); break;
         case 'l': o->labels[o->nlabels++] = optarg; break; /* one per stream */

@@ -116,7 +116,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->run.check_steps = 300;
     o->multiplets = -1; /* default: on for spinfree input without --sector */
     int low = 0, high = 0, c;
-    while ((c = lam_cli_next(argc, argv, ":s:n:M:j:k:qtl:o:hV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 's': parse_sector(optarg, o); break;
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 128); break;

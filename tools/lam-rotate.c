@@ -87,7 +87,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->start = "given";
     o->ro.starts = -1;
     int c;
-    while ((c = lam_cli_next(argc, argv, ":S:n:j:r:tl:o:zqhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case LAM_OPT_OBJECTIVE:
             if (lam_rotate_objective_parse(optarg, &o->ro.objective) != 0)

@@ -100,7 +100,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->cli.max_memory = lam_machine_memory();
     lam_scf_options_default(&o->scf);
     int c;
-    while ((c = lam_cli_next(argc, argv, ":b:c:f:a:M:to:qhVj:", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;

@@ -83,7 +83,7 @@ static void parse_options(int argc, char **argv, options *o)
     o->gap = 1e-10;
     o->max_iter = 200;
     int explicit_terms = 0, c;
-    while ((c = lam_cli_next(argc, argv, ":n:r:tl:o:zqhVj:", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
         case LAM_OPT_TERMS:

@@ -332,7 +332,7 @@ static void parse_options(int argc, char **argv, options *o)
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
     o->inputs = lam_malloc(lam_mul_size((size_t)argc + 1, sizeof *o->inputs));
-    while ((c = lam_cli_next(argc, argv, "-:d:k:o:zhV", opts)) != -1) {
+    while ((c = lam_cli_next_in_order(argc, argv, opts)) != -1) {
         switch (c) {
         case 1: add_input(o, optarg, &scaled, factor); break;
         case LAM_OPT_SCALE:
