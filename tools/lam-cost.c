@@ -69,10 +69,12 @@ static _Noreturn void usage(void)
 typedef struct {
     lam_cost_params par;
     double error, split[3];
-    int ungrouped, tsv, quiet, compare, have_con;
+    lam_cost_budget bud; /* error split by --split */
+    int ungrouped, compare, have_con;
     lam_construction con;
     lam_kind kind;
-    const char *output, *label, *floor;
+    const char *floor;
+    lam_cli_values cli; /* -o, -t, -l, -q */
     char **inputs;
     int ninputs;
 } options;
@@ -92,46 +94,36 @@ static void parse_split(const char *arg, double split[3])
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_UNGROUPED = 256, OPT_KIND, OPT_ERROR, OPT_SPLIT, OPT_CON, OPT_PREP, OPT_ROT };
     static const struct option longopts[] = {
-        LAM_CLI_ALLOW_EMPTY,
-        {"compare", no_argument, 0, 'C'},
-        {"error", required_argument, 0, OPT_ERROR},
-        {"split", required_argument, 0, OPT_SPLIT},
-        {"construction", required_argument, 0, OPT_CON},
-        {"prep-bits", required_argument, 0, OPT_PREP},
-        {"rot-bits", required_argument, 0, OPT_ROT},
-        {"ungrouped", no_argument, 0, OPT_UNGROUPED},
-        {"kind", required_argument, 0, OPT_KIND},
-        {"floor", required_argument, 0, LAM_OPT_FLOOR},
-        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.tsv = &o->tsv, .label = &o->label, .output = &o->output,
-                              .quiet = &o->quiet};
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_COMPARE, LAM_CLI_ERROR, LAM_CLI_SPLIT_ERROR,
+        LAM_CLI_CONSTRUCTION, LAM_CLI_PREP_BITS, LAM_CLI_ROT_BITS, LAM_CLI_UNGROUPED,
+        LAM_CLI_KIND_LONG_ONLY, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT,
+        LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     o->error = LAM_COST_DEFAULT_ERROR;
     o->split[0] = LAM_COST_DEFAULT_SPLIT_PHASE;
     o->split[1] = LAM_COST_DEFAULT_SPLIT_TRUNC;
     o->split[2] = LAM_COST_DEFAULT_SPLIT_SYNTH;
     int c;
-    while ((c = lam_cli_next(argc, argv, ":Ctl:o:qhV", longopts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, longopts)) != -1) {
         switch (c) {
         case 'C': o->compare = 1; break;
-        case OPT_ERROR:
+        case LAM_OPT_ERROR:
             o->error = lam_opt_double("--error", optarg);
             if (!(o->error > 0))
                 lam_usage_error("option --error wants a positive energy in Eh, not '%s'", optarg);
             break;
-        case OPT_SPLIT: parse_split(optarg, o->split); break;
-        case OPT_CON:
+        case LAM_OPT_SPLIT_ERROR: parse_split(optarg, o->split); break;
+        case LAM_OPT_CONSTRUCTION:
             if (lam_cost_construction_parse(optarg, &o->con) != 0)
                 lam_usage_error("option --construction wants flat, sparse, grouped or df, not '%s'",
                                 optarg);
             o->have_con = 1;
             break;
-        case OPT_PREP: o->par.prep_bits = (int)lam_opt_long("--prep-bits", optarg, 1, 60); break;
-        case OPT_ROT: o->par.rot_bits = (int)lam_opt_long("--rot-bits", optarg, 3, 60); break;
-        case OPT_UNGROUPED: o->ungrouped = 1; break;
-        case OPT_KIND:
+        case LAM_OPT_PREP_BITS: o->par.prep_bits = (int)lam_opt_long("--prep-bits", optarg, 1, 60); break;
+        case LAM_OPT_ROT_BITS: o->par.rot_bits = (int)lam_opt_long("--rot-bits", optarg, 3, 60); break;
+        case LAM_OPT_UNGROUPED: o->ungrouped = 1; break;
+        case LAM_OPT_KIND:
             o->kind = lam_kind_parse(optarg);
             if (o->kind != LAM_KIND_PAULI && o->kind != LAM_KIND_FRAGMENTS)
                 lam_usage_error("option --kind wants pauli or fragments, not '%s'", optarg);
@@ -140,20 +132,21 @@ static void parse_options(int argc, char **argv, options *o)
             if (o->floor) lam_usage_error("--floor given twice: one lam-range report at most");
             o->floor = optarg;
             break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     o->inputs = argv + optind;
     o->ninputs = argc - optind;
     if (!o->compare && o->ninputs > 1)
         lam_usage_error("one input at most, got %d (several inputs want -C)", o->ninputs);
-    if (o->compare && o->tsv) lam_usage_error("-C writes a table already; leave out --tsv");
+    if (o->compare && o->cli.tsv) lam_usage_error("-C writes a table already; leave out --tsv");
     int stdin_uses = o->ninputs == 0;
     for (int i = 0; i < o->ninputs; ++i) stdin_uses += strcmp(o->inputs[i], "-") == 0;
     if (stdin_uses > 1) lam_usage_error("standard input can be read once only");
     const char *why;
-    lam_cost_budget b;
-    if (lam_cost_budget_split(o->error, o->split, &b, &why) != 0) lam_usage_error("%s", why);
+    if (lam_cost_budget_split(o->error, o->split, &o->bud, &why) != 0) lam_usage_error("%s", why);
+    if (o->floor && strcmp(o->floor, "-") == 0 && stdin_uses)
+        lam_usage_error("standard input can be read once only");
 }
 
 /* ---- the library calls that can fail on bad input ---- */
@@ -401,7 +394,7 @@ static int summarize(const char *input, const options *o, lam_lcu_summary *lcu, 
 static void warn_truncation(const options *o, const lam_cost_budget *bud, const char *name,
                             const lam_lcu_summary *lcu)
 {
-    if (lcu->trunc_input > bud->trunc && !o->quiet)
+    if (lcu->trunc_input > bud->trunc && !o->cli.quiet)
         lam_warn("%s: the input's truncation (%.3g Eh, from %s) exceeds its share eps.trunc "
                  "(%.3g Eh)", name, lcu->trunc_input, lcu->trunc_source, bud->trunc);
 }
@@ -427,11 +420,11 @@ static int one_input(const options *o, const lam_cost_budget *bud, const lam_flo
         return lam_error_at(err, LAM_EX_DATA, name, 0, "%s", why);
     warn_truncation(o, bud, name, &lcu);
     lam_report *rep = lam_report_new();
-    if (o->label) lam_report_str(rep, "label", o->label);
+    if (o->cli.label) lam_report_str(rep, "label", o->cli.label);
     lam_cost_report(rep, &lcu, bud, &est);
     lam_floor_report(rep, fl, '.');
     lam_floor_ratio(rep, fl, '.', "ratio", est.lambda);
-    int rc = lam_report_save(rep, o->output, o->tsv, err);
+    int rc = lam_report_save(rep, o->cli.output, o->cli.tsv, err);
     lam_report_free(rep);
     return rc;
 }
@@ -466,7 +459,7 @@ static void write_table(FILE *f, const options *o, const lam_cost_budget *bud, c
                         size_t n, const lam_floor *fl)
 {
     char lam[40], trunc[40];
-    if (o->label) fputs("label\t", f);
+    if (o->cli.label) fputs("label\t", f);
     fputs("input\tform\tconstruction\tlambda\twalk.steps\tstep.toffoli\tstep.rotations\t"
           "rot.bits\trun.toffoli\trun.qubits\teps.total\teps.phase\teps.trunc\teps.synth\t"
           "trunc.input", f);
@@ -478,7 +471,7 @@ static void write_table(FILE *f, const options *o, const lam_cost_budget *bud, c
             snprintf(trunc, sizeof trunc, "%.3g", r->lcu.trunc_input);
         else
             snprintf(trunc, sizeof trunc, "unknown");
-        if (o->label) fprintf(f, "%s\t", o->label);
+        if (o->cli.label) fprintf(f, "%s\t", o->cli.label);
         fprintf(f, "%s\t%s\t%s\t%s\t%lld\t%lld\t%lld\t%d\t%lld\t%d\t%g\t%g\t%g\t%g\t%s",
                 r->input, r->lcu.form, lam_cost_construction_name(r->est.con), lam,
                 r->est.walk_steps, r->est.step_toffoli, r->est.step_rotations, r->est.rot_bits,
@@ -516,14 +509,14 @@ static int add_rows(const options *o, const lam_cost_budget *bud, const char *in
 static int write_table_to(const options *o, const lam_cost_budget *bud, const row *rows,
                           size_t n, const lam_floor *fl, lam_error *err)
 {
-    FILE *f = o->output && strcmp(o->output, "-") != 0 ? fopen(o->output, "w") : stdout;
+    FILE *f = o->cli.output && strcmp(o->cli.output, "-") != 0 ? fopen(o->cli.output, "w") : stdout;
     if (!f)
-        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->output,
+        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->cli.output,
                              strerror(errno));
     write_table(f, o, bud, rows, n, fl);
     if ((f == stdout ? fflush(f) : fclose(f)) != 0 || (f == stdout && ferror(f)))
         return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s",
-                             f == stdout ? "<stdout>" : o->output, strerror(errno));
+                             f == stdout ? "<stdout>" : o->cli.output, strerror(errno));
     return 0;
 }
 
@@ -549,20 +542,13 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-    lam_cost_budget bud;
-    const char *why = NULL;
-    lam_cost_budget_split(o.error, o.split, &bud, &why); /* checked by parse_options */
     lam_error err;
     lam_error_clear(&err);
     lam_floor floor_in, *fl = o.floor ? &floor_in : NULL;
-    int stdin_uses = o.ninputs == 0;
-    for (int i = 0; i < o.ninputs; ++i) stdin_uses += strcmp(o.inputs[i], "-") == 0;
-    if (fl && strcmp(o.floor, "-") == 0 && stdin_uses)
-        lam_usage_error("standard input can be read once only");
     if (fl && lam_floor_read(o.floor, fl, &err) != 0) lam_error_exit(&err);
-    if ((o.compare ? compare(&o, &bud, fl, &err) : one_input(&o, &bud, fl, &err)) != 0)
+    if ((o.compare ? compare(&o, &o.bud, fl, &err) : one_input(&o, &o.bud, fl, &err)) != 0)
         lam_error_exit(&err);
-    if (!o.quiet)
+    if (!o.cli.quiet)
         fprintf(stderr, "%s: note: these figures are estimates of one construction each "
                 "(see the 'assumes' line and lam-cost(1))\n", lam_program());
     return 0;

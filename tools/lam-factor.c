@@ -53,9 +53,10 @@ static _Noreturn void usage(void)
 typedef struct {
     lam_factor_method method;
     double tol, cutoff;
-    int tol_set, cutoff_set, tsv, gzip;
+    int tol_set, cutoff_set;
     long max_fragments, max_iter;
-    const char *out, *report, *in, *label;
+    const char *in;
+    lam_cli_values cli; /* -o, -z, -r, -t, -l, -j */
 } cli;
 
 static lam_factor_method parse_method(const char *s)
@@ -74,37 +75,29 @@ static double non_negative(const char *opt, const char *arg)
 
 static void parse_args(int argc, char **argv, cli *c)
 {
-    enum { OPT_TOL = 256, OPT_CUTOFF, OPT_MAXFRAG, OPT_MAXITER };
     static const struct option opts[] = {
-        {"method", required_argument, 0, 'm'},
-        {"tol", required_argument, 0, OPT_TOL},
-        {"cutoff", required_argument, 0, OPT_CUTOFF},
-        {"max-fragments", required_argument, 0, OPT_MAXFRAG},
-        {"max-iter", required_argument, 0, OPT_MAXITER},
+        LAM_CLI_METHOD, LAM_CLI_TOL, LAM_CLI_CUTOFF, LAM_CLI_MAX_FRAGMENTS, LAM_CLI_MAX_ITER,
         LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_THREADS, LAM_CLI_ALLOW_EMPTY,
         LAM_CLI_STANDARD, LAM_CLI_END};
-    long threads = 0;
-    const lam_cli_fields f = {.report = &c->report, .tsv = &c->tsv, .label = &c->label,
-                              .output = &c->out, .gzip = &c->gzip, .threads = &threads};
     int o;
     memset(c, 0, sizeof *c);
     c->method = LAM_FACTOR_DOUBLE;
     c->max_fragments = c->max_iter = -1;
-    while ((o = lam_cli_next(argc, argv, ":m:r:tl:o:zqhVj:", opts)) != -1) {
+    while ((o = lam_cli_next(argc, argv, opts)) != -1) {
         switch (o) {
         case 'm': c->method = parse_method(optarg); break;
-        case OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
-        case OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
-        case OPT_MAXFRAG: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
-        case OPT_MAXITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
-        default: lam_cli_option(o, argv, usage, &f);
+        case LAM_OPT_TOL: c->tol = non_negative("--tol", optarg); c->tol_set = 1; break;
+        case LAM_OPT_CUTOFF: c->cutoff = non_negative("--cutoff", optarg); c->cutoff_set = 1; break;
+        case LAM_OPT_MAX_FRAGMENTS: c->max_fragments = lam_opt_long("--max-fragments", optarg, 1, 100000000); break;
+        case LAM_OPT_MAX_ITER: c->max_iter = lam_opt_long("--max-iter", optarg, 0, 100000000); break;
+        default: lam_cli_option(o, argv, usage, &c->cli);
         }
     }
-    lam_blas_threads(threads);
+    lam_blas_threads(c->cli.threads);
     c->in = lam_cli_operand(argc, argv, "one input stream at a time");
-    if (c->label && !c->tsv && !c->report)
+    if (c->cli.label && !c->cli.tsv && !c->cli.report)
         lam_usage_error("--label names the --report; give --report FILE");
-    lam_cli_report_needs(&f, "stream");
+    lam_cli_report_needs(&c->cli, "stream");
     if (c->method == LAM_FACTOR_FULL_RANK && c->tol_set && c->tol == 0.0)
         lam_usage_error("--tol 0 cannot be reached by full-rank fragments: give a positive "
                         "residual");
@@ -182,7 +175,7 @@ static lam_report *make_report(const cli *c, const char *input, const lam_spinfr
 {
     lam_report *rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
-    lam_report_str(rep, "label", c->label ? c->label : input);
+    lam_report_str(rep, "label", c->cli.label ? c->cli.label : input);
     lam_fragments_report(fr, rep);
     double lambda = lam_fragments_lambda(fr, -1), one = lam_fragments_lambda(fr, 0);
     lam_report_str(rep, "method", method_name(o->method));
@@ -236,8 +229,8 @@ int main(int argc, char **argv)
     describe_result(&meta, fr, &o, &info);
     history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
-    if (c.report && (rc = lam_report_open(c.report, &report, &err))) goto done;
-    if ((rc = lam_writer_open(c.out, c.gzip, &w, &err))) goto done;
+    if (c.cli.report && (rc = lam_report_open(c.cli.report, &report, &err))) goto done;
+    if ((rc = lam_writer_open(c.cli.output, c.cli.gzip, &w, &err))) goto done;
     lam_writer_header(w, LAM_KIND_FRAGMENTS, &meta, history);
     lam_fragments_write_terms(w, fr);
     rc = lam_writer_close(w, &err);
@@ -245,9 +238,9 @@ int main(int argc, char **argv)
     if (rc) goto done;
     if (report) {
         lam_report *rep = make_report(&c, lam_reader_name(r), sf, fr, &o, &info);
-        lam_report_write(rep, report, c.tsv);
+        lam_report_write(rep, report, c.cli.tsv);
         lam_report_free(rep);
-        rc = lam_report_close(report, c.report, &err);
+        rc = lam_report_close(report, c.cli.report, &err);
         report = NULL;
     }
 

@@ -53,49 +53,42 @@ static _Noreturn void usage(void)
 
 typedef struct {
     lam_group_options group;
-    int check, tsv, gzip;
-    const char *output, *report, *input, *label;
+    int check;
+    const char *input;
+    lam_cli_values cli; /* -o, -z, -r, -t, -l */
 } options;
 
-enum { OPT_REFINE = 256, OPT_SPLIT, OPT_SPLIT_ITER, OPT_NO_SPLIT, OPT_COMMUTING, OPT_CHECK };
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"method", required_argument, 0, 'm'},
-        {"refine", required_argument, 0, OPT_REFINE},
-        {"split", no_argument, 0, OPT_SPLIT},
-        {"no-split", no_argument, 0, OPT_NO_SPLIT},
-        {"split-iterations", required_argument, 0, OPT_SPLIT_ITER},
-        {"commuting", no_argument, 0, OPT_COMMUTING},
-        {"check", no_argument, 0, OPT_CHECK},
-        LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.report = &o->report, .tsv = &o->tsv, .label = &o->label,
-                              .output = &o->output, .gzip = &o->gzip};
+        LAM_CLI_METHOD, LAM_CLI_REFINE, LAM_CLI_SPLIT_TERMS, LAM_CLI_NO_SPLIT,
+        LAM_CLI_SPLIT_ITERATIONS, LAM_CLI_COMMUTING, LAM_CLI_CHECK, LAM_CLI_REPORT_OUT,
+        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     lam_group_options_default(&o->group);
     int c;
-    while ((c = lam_cli_next(argc, argv, ":m:r:tl:o:zqhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'm':
             if (lam_group_method_parse(optarg, &o->group.method) != 0)
                 lam_usage_error("--method wants sorted or best, not '%s'", optarg);
             break;
-        case OPT_REFINE: o->group.refine_passes = (int)lam_opt_long("--refine", optarg, 0, 1000); break;
-        case OPT_SPLIT: o->group.split = 1; break;
-        case OPT_NO_SPLIT: o->group.split = 0; break;
-        case OPT_SPLIT_ITER:
+        case LAM_OPT_REFINE: o->group.refine_passes = (int)lam_opt_long("--refine", optarg, 0, 1000); break;
+        case LAM_OPT_SPLIT_TERMS: o->group.split = 1; break;
+        case LAM_OPT_NO_SPLIT: o->group.split = 0; break;
+        case LAM_OPT_SPLIT_ITERATIONS:
             o->group.split_iterations =
                 (int)lam_opt_long("--split-iterations", optarg, 1, 1000000);
             break;
-        case OPT_COMMUTING: o->group.commuting = 1; break;
-        case OPT_CHECK: o->check = 1; break;
-        default: lam_cli_option(c, argv, usage, &f);
+        case LAM_OPT_COMMUTING: o->group.commuting = 1; break;
+        case LAM_OPT_CHECK: o->check = 1; break;
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     o->input = lam_cli_operand(argc, argv, "one input stream at a time");
     /* --check writes no stream: its report goes to --report, else -o, else stdout */
-    if (!o->check) lam_cli_report_needs(&f, "stream");
+    if (!o->check) lam_cli_report_needs(&o->cli, "stream");
 }
 
 /* The input stream, refused (freed, program ended) unless it is a pauli
@@ -139,7 +132,7 @@ static lam_report *new_report(const options *o, lam_reader *r)
 {
     lam_report *rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
-    lam_report_str(rep, "label", o->label ? o->label : lam_reader_name(r));
+    lam_report_str(rep, "label", o->cli.label ? o->cli.label : lam_reader_name(r));
     return rep;
 }
 
@@ -217,7 +210,7 @@ static int run_check(const options *o)
     lam_report_num(rep, "lambda", lam_pauli_set_lambda(&op));
     lam_report_num(rep, commuting ? "group_norm_sum" : "lambda_grouped", grouped);
     lam_pauli_set_free(&op);
-    int rc = lam_report_save(rep, o->report ? o->report : o->output, o->tsv, &err);
+    int rc = lam_report_save(rep, o->cli.report ? o->cli.report : o->cli.output, o->cli.tsv, &err);
     lam_report_free(rep);
     free(lines);
     lam_pauli_set_free(&s);
@@ -294,8 +287,8 @@ static int run_group(const options *o, int argc, char **argv)
     /* both outputs open before the first byte of either is written */
     FILE *report = NULL;
     lam_writer *w = NULL;
-    int rc = o->report ? lam_report_open(o->report, &report, &err) : 0;
-    if (!rc) rc = lam_writer_open(o->output, o->gzip, &w, &err);
+    int rc = o->cli.report ? lam_report_open(o->cli.report, &report, &err) : 0;
+    if (!rc) rc = lam_writer_open(o->cli.output, o->cli.gzip, &w, &err);
     if (!rc) {
         lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
         rc = lam_pauli_write_terms(w, &out, &err);
@@ -306,8 +299,8 @@ static int run_group(const options *o, int argc, char **argv)
     }
     add_report(rep, o, &st, lam_seconds() - t0);
     if (!rc && report) {
-        lam_report_write(rep, report, o->tsv);
-        rc = lam_report_close(report, o->report, &err);
+        lam_report_write(rep, report, o->cli.tsv);
+        rc = lam_report_close(report, o->cli.report, &err);
         report = NULL;
     }
     lam_writer_discard(w);

@@ -32,29 +32,22 @@ static _Noreturn void usage(void)
     exit(0);
 }
 
-enum { OPT_FERMION = 256, OPT_SPIN_ORDER };
-
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
     static const struct option opts[] = {
-        {"electrons", required_argument, 0, 'n'}, {"fermion", no_argument, 0, OPT_FERMION},
-        {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
-        LAM_CLI_STREAM_OUT, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
+        LAM_CLI_ELECTRONS, LAM_CLI_FERMION, LAM_CLI_SPIN_ORDER, LAM_CLI_STREAM_OUT, LAM_CLI_HELP,
+        LAM_CLI_VERSION, LAM_CLI_END};
     long electrons = -1;
-    int fermion = 0, gzip = 0, c;
+    int fermion = 0, c;
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
-    const char *out = NULL;
-    const lam_cli_fields f = {.output = &out, .gzip = &gzip};
-    while ((c = lam_cli_next(argc, argv, ":n:o:zhV", opts)) != -1) {
+    lam_cli_values cli = {0};
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'n': electrons = lam_opt_long("--electrons", optarg, 0, 8192); break;
-        case OPT_FERMION: fermion = 1; break;
-        case OPT_SPIN_ORDER:
-            if (lam_spin_order_parse(optarg, &order) != 0)
-                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
-            break;
-        default: lam_cli_option(c, argv, usage, &f);
+        case LAM_OPT_FERMION: fermion = 1; break;
+        case LAM_OPT_SPIN_ORDER: order = lam_cli_spin_order(optarg); break;
+        default: lam_cli_option(c, argv, usage, &cli);
         }
     }
     const char *path = lam_cli_operand(argc, argv, "one FCIDUMP at a time");
@@ -92,7 +85,7 @@ int main(int argc, char **argv)
     }
     char *history = lam_history_from_argv(argc, argv);
     lam_writer *w;
-    if (lam_writer_open(out, gzip, &w, &err)) {
+    if (lam_writer_open(cli.output, cli.gzip, &w, &err)) {
         free(history);
         lam_meta_free(&meta);
         lam_fcidump_free(fd);

@@ -43,42 +43,36 @@ typedef struct {
     int spin_given;
     lam_spin_order spin;
     lam_drop drop;
-    int gzip;
     lam_kind kind;
-    const char *output, *input;
+    const char *input;
+    lam_cli_values cli; /* -o, -z */
 } options;
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_SPIN_ORDER = 256 };
     static const struct option opts[] = {
-        {"encoding", required_argument, 0, 'e'},
-        {"spin-order", required_argument, 0, OPT_SPIN_ORDER},
-        {"drop", required_argument, 0, 'd'},
-        {"kind", required_argument, 0, 'k'},
-        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.output = &o->output, .gzip = &o->gzip};
+        LAM_CLI_ENCODING, LAM_CLI_SPIN_ORDER, LAM_CLI_DROP, LAM_CLI_KIND, LAM_CLI_STREAM_OUT,
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_STANDARD, LAM_CLI_END};
     int c;
-    while ((c = lam_cli_next(argc, argv, ":e:d:k:o:zqhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'e':
             if (lam_encoding_parse(optarg, &o->encoding) != 0)
                 lam_usage_error("--encoding wants jordan-wigner, bravyi-kitaev or parity, not '%s'",
                                 optarg);
             break;
-        case OPT_SPIN_ORDER:
-            if (lam_spin_order_parse(optarg, &o->spin) != 0)
-                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
+        case LAM_OPT_SPIN_ORDER:
+            o->spin = lam_cli_spin_order(optarg);
             o->spin_given = 1;
             break;
         case 'd':
             lam_drop_parse(&o->drop, optarg);
             break;
         case 'k':
-            o->kind = lam_cli_kind(optarg, LAM_CLI_KIND(LAM_KIND_SPINFREE) |
-                                               LAM_CLI_KIND(LAM_KIND_FERMION));
+            o->kind = lam_cli_kind(optarg, LAM_CLI_KIND_BIT(LAM_KIND_SPINFREE) |
+                                               LAM_CLI_KIND_BIT(LAM_KIND_FERMION));
             break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     o->input = lam_cli_operand(argc, argv, "one stream at a time");
@@ -163,8 +157,8 @@ static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double
 int main(int argc, char **argv)
 {
     lam_set_program(argv[0]);
-    options o = {LAM_ENC_JORDAN_WIGNER, 0, LAM_SPIN_INTERLEAVED, {0, 0.0, NULL, 0, 0.0}, 0,
-                 LAM_KIND_UNKNOWN, NULL, NULL};
+    options o = {.encoding = LAM_ENC_JORDAN_WIGNER, .spin = LAM_SPIN_INTERLEAVED,
+                 .kind = LAM_KIND_UNKNOWN};
     parse_options(argc, argv, &o);
 
     lam_error err;
@@ -204,7 +198,7 @@ int main(int argc, char **argv)
     lam_meta_set(&meta, "encoding", lam_encoding_name(o.encoding));
     lam_meta_set(&meta, "spin-order", lam_spin_order_name(order));
     history = lam_history_from_argv(argc, argv);
-    if ((rc = lam_writer_open(o.output, o.gzip, &c.w, &err))) goto done;
+    if ((rc = lam_writer_open(o.cli.output, o.cli.gzip, &c.w, &err))) goto done;
     c.nwords = enc->nwords;
     c.size = (size_t)m.nmodes * 10 + 32;
     c.buf = lam_malloc(c.size);

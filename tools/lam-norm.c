@@ -148,8 +148,7 @@ static int norm_pauli(lam_report *rep, lam_reader *r, lam_error *err)
 
 typedef struct {
     lam_kind forced;
-    int tsv;
-    const char *output;
+    lam_cli_values cli; /* -o, -t */
     const char **labels, **floors;
     int nlabels, nfloors;
 } options;
@@ -157,21 +156,19 @@ typedef struct {
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        LAM_CLI_ALLOW_EMPTY,      {"kind", required_argument, 0, 'k'},
-        {"floor", required_argument, 0, LAM_OPT_FLOOR},
-        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.tsv = &o->tsv, .output = &o->output};
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_KIND, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL,
+        LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     int c;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
     o->labels = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->labels));
     o->floors = lam_malloc(lam_mul_size((size_t)argc, sizeof *o->floors));
-    while ((c = lam_cli_next(argc, argv, ":k:tl:o:qhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'k': o->forced = lam_cli_kind(optarg, ~0u); break;
         case 'l': o->labels[o->nlabels++] = optarg; break; /* one per stream */
         case LAM_OPT_FLOOR: o->floors[o->nfloors++] = optarg; break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     int streams = argc - optind > 0 ? argc - optind : 1;
@@ -269,7 +266,7 @@ int main(int argc, char **argv)
         if (!rc && o.nfloors) report_floor(reps[i], &floors[o.nfloors > 1 ? i : 0]);
     }
     free(floors);
-    if (!rc) rc = lam_report_open(o.output, &out, &err);
+    if (!rc) rc = lam_report_open(o.cli.output, &out, &err);
     if (rc) {
         for (int i = 0; i < nstreams; ++i) lam_report_free(reps[i]);
         free(reps);
@@ -278,7 +275,7 @@ int main(int argc, char **argv)
         lam_error_exit(&err);
     }
     for (int i = 0; i < nstreams; ++i) {
-        if (o.tsv) {
+        if (o.cli.tsv) {
             if (i == 0) lam_report_write_header(reps[i], out);
             lam_report_write_row(reps[i], out);
         } else {
@@ -287,7 +284,7 @@ int main(int argc, char **argv)
         }
         lam_report_free(reps[i]);
     }
-    rc = lam_report_close(out, o.output, &err);
+    rc = lam_report_close(out, o.cli.output, &err);
     free(reps);
     free(o.labels);
     free(o.floors);

@@ -78,9 +78,10 @@ static _Noreturn void usage(void)
 typedef struct {
     lam_range_options run; /* every option that changes the values */
     long electrons;
-    int multiplets, threads, tsv;
+    int multiplets, threads;
     lam_kind kind;
-    const char *output, *input, *label;
+    const char *input;
+    lam_cli_values cli; /* -o, -t, -l, -M (-j is the program's own) */
 } options;
 
 static void parse_sector(const char *arg, options *o)
@@ -100,21 +101,12 @@ static void parse_sector(const char *arg, options *o)
 
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { O_LOW = 256, O_HIGH, O_TOL, O_BOUNDS, O_BSUB, O_BTOL, O_MULT, O_NOMULT, O_CHECK,
-           O_RESUME };
     static const struct option opts[] = {
-        LAM_CLI_ALLOW_EMPTY,
-        {"sector", required_argument, 0, 's'}, {"electrons", required_argument, 0, 'n'},
-        {"lowest", no_argument, 0, O_LOW}, {"highest", no_argument, 0, O_HIGH},
-        {"tol", required_argument, 0, O_TOL}, LAM_CLI_MAX_MEMORY,
-        {"bounds", optional_argument, 0, O_BOUNDS}, {"bound-subspace", required_argument, 0, O_BSUB},
-        {"bound-energy-tol", required_argument, 0, O_BTOL},
-        {"multiplets", no_argument, 0, O_MULT}, {"no-multiplets", no_argument, 0, O_NOMULT},
-        {"threads", required_argument, 0, 'j'}, {"kind", required_argument, 0, 'k'},
-        {"check-steps", required_argument, 0, O_CHECK}, {"resume", required_argument, 0, O_RESUME},
-        LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.max_memory = &o->run.max_memory, .tsv = &o->tsv,
-                              .label = &o->label, .output = &o->output};
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_SECTOR, LAM_CLI_ELECTRONS, LAM_CLI_LOWEST, LAM_CLI_HIGHEST,
+        LAM_CLI_TOL, LAM_CLI_MAX_MEMORY, LAM_CLI_BOUNDS, LAM_CLI_BOUND_SUBSPACE,
+        LAM_CLI_BOUND_ENERGY_TOL, LAM_CLI_MULTIPLETS, LAM_CLI_NO_MULTIPLETS, LAM_CLI_THREADS,
+        LAM_CLI_KIND, LAM_CLI_CHECK_STEPS, LAM_CLI_RESUME, LAM_CLI_TSV, LAM_CLI_LABEL,
+        LAM_CLI_OUTPUT, LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     o->run.sector_na = o->run.sector_nb = -1;
     o->electrons = -1;
@@ -124,43 +116,43 @@ static void parse_options(int argc, char **argv, options *o)
     o->run.check_steps = 300;
     o->multiplets = -1; /* default: on for spinfree input without --sector */
     int low = 0, high = 0, c;
-    while ((c = lam_cli_next(argc, argv, ":s:n:M:j:k:qtl:o:hV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 's': parse_sector(optarg, o); break;
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 128); break;
-        case O_LOW: low = 1; break;
-        case O_HIGH: high = 1; break;
-        case O_TOL:
+        case LAM_OPT_LOWEST: low = 1; break;
+        case LAM_OPT_HIGHEST: high = 1; break;
+        case LAM_OPT_TOL:
             o->run.tol = lam_opt_double("--tol", optarg);
             if (!(o->run.tol > 0)) lam_usage_error("--tol must be positive");
             break;
-        case O_BOUNDS:
+        case LAM_OPT_BOUNDS:
             /* --bounds=always: inner bounds even where an exact solve fits
              * (to compare the two, or when the exact one would be slow) */
             if (optarg && strcmp(optarg, "always") && strcmp(optarg, "past-memory"))
                 lam_usage_error("--bounds takes always or past-memory, not '%s'", optarg);
             o->run.bounds = optarg && !strcmp(optarg, "always") ? 2 : 1;
             break;
-        case O_BSUB: o->run.bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
-        case O_BTOL:
+        case LAM_OPT_BOUND_SUBSPACE: o->run.bound_subspace = (int)lam_opt_long("--bound-subspace", optarg, 1, 100000000); break;
+        case LAM_OPT_BOUND_ENERGY_TOL:
             o->run.bound_energy_tol = lam_opt_double("--bound-energy-tol", optarg);
             if (!(o->run.bound_energy_tol >= 0)) lam_usage_error("--bound-energy-tol must not be negative");
             break;
-        case O_MULT: o->multiplets = 1; break;
-        case O_NOMULT: o->multiplets = 0; break;
-        case O_CHECK: o->run.check_steps = (int)lam_opt_long("--check-steps", optarg, 0, 1000000); break;
-        case O_RESUME: o->run.resume = optarg; break;
+        case LAM_OPT_MULTIPLETS: o->multiplets = 1; break;
+        case LAM_OPT_NO_MULTIPLETS: o->multiplets = 0; break;
+        case LAM_OPT_CHECK_STEPS: o->run.check_steps = (int)lam_opt_long("--check-steps", optarg, 0, 1000000); break;
+        case LAM_OPT_RESUME: o->run.resume = optarg; break;
         case 'j': o->threads = (int)lam_opt_long("--threads", optarg, 1, 64); break;
         case 'k':
-            o->kind = lam_cli_kind(optarg, ~LAM_CLI_KIND(LAM_KIND_FRAGMENTS));
+            o->kind = lam_cli_kind(optarg, ~LAM_CLI_KIND_BIT(LAM_KIND_FRAGMENTS));
             break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     o->input = lam_cli_operand(argc, argv, "one stream at a time");
     o->run.want_low = low || !high;
     o->run.want_high = high || !low;
-    if (!o->run.max_memory) o->run.max_memory = lam_machine_memory();
+    o->run.max_memory = o->cli.max_memory ? o->cli.max_memory : lam_machine_memory();
     if (o->multiplets == 1 && o->run.sector_na >= 0) lam_usage_error("--multiplets and --sector do not go together");
 }
 
@@ -262,7 +254,7 @@ static int write_report(const lam_plan *p, int electrons, const options *o, int 
 {
     lam_report *rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
-    lam_report_str(rep, "label", o->label ? o->label : o->input ? o->input : "<stdin>");
+    lam_report_str(rep, "label", o->cli.label ? o->cli.label : o->input ? o->input : "<stdin>");
     int solved = 0, bounds = 0;
     double max_res = 0;
     for (int i = 0; i < p->count; ++i) {
@@ -296,7 +288,7 @@ static int write_report(const lam_plan *p, int electrons, const options *o, int 
     }
     if (solved) lam_report_num(rep, "max_residual", max_res);
     lam_report_str(rep, "status", bounds ? "bound" : "exact");
-    int rc = lam_report_save(rep, o->output, o->tsv, err);
+    int rc = lam_report_save(rep, o->cli.output, o->cli.tsv, err);
     lam_report_free(rep);
     *nbounds = bounds;
     return rc;

@@ -69,64 +69,56 @@ static _Noreturn void usage(void)
 
 typedef struct {
     lam_rotate_options ro;
-    long electrons, threads;
-    const char *start, *within, *matrix, *report, *label, *output, *input;
-    int tsv, gzip;
+    long electrons;
+    const char *start, *within, *matrix, *input;
+    lam_cli_values cli; /* -o, -z, -r, -t, -l, -j */
 } options;
-
-enum { O_OBJ = 256, O_START, O_STARTS, O_WITHIN, O_MATRIX, O_ITER, O_STAGES, O_MU, O_ROUNDS,
-       O_GTOL, O_FTOL };
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"objective", required_argument, 0, O_OBJ}, {"start", required_argument, 0, O_START},
-        {"starts", required_argument, 0, O_STARTS}, {"seed", required_argument, 0, 'S'},
-        {"within", required_argument, 0, O_WITHIN}, {"electrons", required_argument, 0, 'n'},
-        {"matrix", required_argument, 0, O_MATRIX}, {"max-iter", required_argument, 0, O_ITER},
-        {"stages", required_argument, 0, O_STAGES}, {"mu", required_argument, 0, O_MU},
-        {"rounds", required_argument, 0, O_ROUNDS}, {"gtol", required_argument, 0, O_GTOL},
-        {"ftol", required_argument, 0, O_FTOL},
-        LAM_CLI_THREADS, LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_STANDARD, LAM_CLI_END};
-    const lam_cli_fields f = {.threads = &o->threads, .report = &o->report, .tsv = &o->tsv,
-                              .label = &o->label, .output = &o->output, .gzip = &o->gzip};
+        LAM_CLI_OBJECTIVE, LAM_CLI_START_ORBITALS, LAM_CLI_STARTS, LAM_CLI_SEED, LAM_CLI_WITHIN,
+        LAM_CLI_ELECTRONS, LAM_CLI_MATRIX, LAM_CLI_MAX_ITER, LAM_CLI_STAGES, LAM_CLI_MU,
+        LAM_CLI_ROUNDS, LAM_CLI_GTOL, LAM_CLI_FTOL, LAM_CLI_THREADS, LAM_CLI_REPORT_OUT,
+        LAM_CLI_STREAM_OUT, LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
     lam_rotate_default_options(&o->ro);
     o->electrons = -1;
     o->start = "given";
     o->ro.starts = -1;
     int c;
-    while ((c = lam_cli_next(argc, argv, ":S:n:j:r:tl:o:zqhV", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
-        case O_OBJ:
+        case LAM_OPT_OBJECTIVE:
             if (lam_rotate_objective_parse(optarg, &o->ro.objective) != 0)
                 lam_usage_error("--objective wants pauli, shifted, grouped or er, not '%s'",
                                 optarg);
             break;
-        case O_START: o->start = optarg; break;
-        case O_STARTS: o->ro.starts = (int)lam_opt_long("--starts", optarg, 0, 100000); break;
+        case LAM_OPT_START_ORBITALS: o->start = optarg; break;
+        case LAM_OPT_STARTS: o->ro.starts = (int)lam_opt_long("--starts", optarg, 0, 100000); break;
         case 'S': o->ro.seed = (uint64_t)lam_opt_long("--seed", optarg, 0, 1L << 62); break;
-        case O_WITHIN: o->within = optarg; break;
+        case LAM_OPT_WITHIN: o->within = optarg; break;
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
-        case O_MATRIX: o->matrix = optarg; break;
-        case O_ITER: o->ro.max_iter = (int)lam_opt_long("--max-iter", optarg, 0, 10000000); break;
-        case O_STAGES: o->ro.stages = (int)lam_opt_long("--stages", optarg, 0, 30); break;
-        case O_MU:
+        case LAM_OPT_MATRIX: o->matrix = optarg; break;
+        case LAM_OPT_MAX_ITER: o->ro.max_iter = (int)lam_opt_long("--max-iter", optarg, 0, 10000000); break;
+        case LAM_OPT_STAGES: o->ro.stages = (int)lam_opt_long("--stages", optarg, 0, 30); break;
+        case LAM_OPT_MU:
             o->ro.mu0 = lam_opt_double("--mu", optarg);
             if (!(o->ro.mu0 > 0)) lam_usage_error("--mu wants a positive width, not '%s'", optarg);
             break;
-        case O_ROUNDS: o->ro.outer = (int)lam_opt_long("--rounds", optarg, 0, 100000); break;
-        case O_GTOL:
+        case LAM_OPT_ROUNDS: o->ro.outer = (int)lam_opt_long("--rounds", optarg, 0, 100000); break;
+        case LAM_OPT_GTOL:
             o->ro.gtol = lam_opt_double("--gtol", optarg);
             if (!(o->ro.gtol >= 0)) lam_usage_error("--gtol wants a norm >= 0, not '%s'", optarg);
             break;
-        case O_FTOL:
+        case LAM_OPT_FTOL:
             o->ro.ftol = lam_opt_double("--ftol", optarg);
             if (!(o->ro.ftol >= 0)) lam_usage_error("--ftol wants a fraction >= 0, not '%s'", optarg);
             break;
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
+    lam_blas_threads(o->cli.threads);
     o->input = lam_cli_operand(argc, argv, "one input stream at a time");
 }
 
@@ -290,7 +282,7 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
     lam_meta_set(&rr->meta, "rotation-lambda-after", buf);
     rr->history = lam_history_from_argv(argc, argv);
     lam_writer *w;
-    if (lam_writer_open(o->output, o->gzip, &w, err)) return err->code;
+    if (lam_writer_open(o->cli.output, o->cli.gzip, &w, err)) return err->code;
     lam_writer_header(w, LAM_KIND_SPINFREE, &rr->meta, rr->history);
     lam_spinfree_write_terms(w, rr->out);
     if (lam_writer_close(w, err)) return err->code;
@@ -301,7 +293,7 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
     }
 
     lam_report *rep = rr->rep = lam_report_new();
-    if (o->label) lam_report_str(rep, "label", o->label);
+    if (o->cli.label) lam_report_str(rep, "label", o->cli.label);
     lam_report_str(rep, "objective", lam_rotate_objective_name(o->ro.objective));
     lam_report_str(rep, "start", start_er || !strcmp(o->start, "given") ? o->start : "file");
     lam_report_num(rep, "lambda_before", before_given);
@@ -322,8 +314,8 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     lam_report_num(rep, "cpu_seconds", (double)(clock() - c0) / CLOCKS_PER_SEC);
     lam_report_int(rep, "threads", openblas_get_num_threads());
-    if (o->report) return lam_report_save(rep, o->report, o->tsv, err);
-    lam_report_write(rep, stderr, o->tsv);
+    if (o->cli.report) return lam_report_save(rep, o->cli.report, o->cli.tsv, err);
+    lam_report_write(rep, stderr, o->cli.tsv);
     return 0;
 }
 
@@ -332,7 +324,6 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-    lam_blas_threads(o.threads);
     rotate_run rr;
     memset(&rr, 0, sizeof rr);
     lam_meta_init(&rr.meta);

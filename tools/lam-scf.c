@@ -64,18 +64,13 @@ static _Noreturn void usage(void)
     exit(0);
 }
 
-enum {
-    OPT_BOHR = 256, OPT_CART, OPT_SPH, OPT_ENERGY_TOL, OPT_GRADIENT_TOL, OPT_MAXIT,
-    OPT_DIIS_DEPTH, OPT_SCHWARZ, OPT_CUTOFF, OPT_START, OPT_STABILITY,
-    OPT_ENERGY_ONLY
-};
 
 typedef struct {
-    const char *basis, *output, *input;
-    int bohr, pure, quiet, energy_only, tsv;
+    const char *basis, *input;
+    int bohr, pure, energy_only;
     long charge, frozen, active;
     double cutoff;      /* < 0: LAM_SCF_CUTOFF_RELATIVE x the largest integral */
-    double max_memory;  /* bytes */
+    lam_cli_values cli; /* -o, -t, -j, -M, -q */
     lam_scf_options scf;
 } options;
 
@@ -90,24 +85,11 @@ static int parse_choice(const char *opt, const char *arg, const char *const *nam
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"basis", required_argument, 0, 'b'},   {"charge", required_argument, 0, 'c'},
-        {"bohr", no_argument, 0, OPT_BOHR},     {"cartesian", no_argument, 0, OPT_CART},
-        {"spherical", no_argument, 0, OPT_SPH}, {"frozen", required_argument, 0, 'f'},
-        {"active", required_argument, 0, 'a'},
-        {"energy-tol", required_argument, 0, OPT_ENERGY_TOL},
-        {"gradient-tol", required_argument, 0, OPT_GRADIENT_TOL},
-        {"max-iter", required_argument, 0, OPT_MAXIT},
-        {"diis-depth", required_argument, 0, OPT_DIIS_DEPTH},
-        {"start", required_argument, 0, OPT_START},
-        {"stability", required_argument, 0, OPT_STABILITY},
-        {"schwarz", required_argument, 0, OPT_SCHWARZ},
-        {"cutoff", required_argument, 0, OPT_CUTOFF},
-        {"energy-only", no_argument, 0, OPT_ENERGY_ONLY},
-        LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT, LAM_CLI_THREADS, LAM_CLI_STANDARD,
-        LAM_CLI_END};
-    long threads = 0;
-    const lam_cli_fields f = {.max_memory = &o->max_memory, .tsv = &o->tsv, .output = &o->output,
-                              .threads = &threads, .quiet = &o->quiet};
+        LAM_CLI_BASIS, LAM_CLI_CHARGE, LAM_CLI_BOHR, LAM_CLI_CARTESIAN, LAM_CLI_SPHERICAL,
+        LAM_CLI_FROZEN, LAM_CLI_ACTIVE, LAM_CLI_ENERGY_TOL, LAM_CLI_GRADIENT_TOL, LAM_CLI_MAX_ITER,
+        LAM_CLI_DIIS_DEPTH, LAM_CLI_START_GUESS, LAM_CLI_STABILITY, LAM_CLI_SCHWARZ,
+        LAM_CLI_CUTOFF, LAM_CLI_ENERGY_ONLY, LAM_CLI_MAX_MEMORY, LAM_CLI_TSV, LAM_CLI_OUTPUT,
+        LAM_CLI_THREADS, LAM_CLI_STANDARD, LAM_CLI_END};
     static const char *const starts[] = {"core", "atoms"}; /* LAM_START_CORE, _ATOMS */
     static const char *const stabilities[] = {"follow", "check", "off"};
     memset(o, 0, sizeof *o);
@@ -115,48 +97,48 @@ static void parse_options(int argc, char **argv, options *o)
     o->pure = -1;
     o->active = -1;
     o->cutoff = -1;
-    o->max_memory = lam_machine_memory();
+    o->cli.max_memory = lam_machine_memory();
     lam_scf_options_default(&o->scf);
     int c;
-    while ((c = lam_cli_next(argc, argv, ":b:c:f:a:M:to:qhVj:", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'b': o->basis = optarg; break;
         case 'c': o->charge = lam_opt_long("--charge", optarg, -1000, 1000); break;
-        case OPT_BOHR: o->bohr = 1; break;
-        case OPT_CART: o->pure = 0; break;
-        case OPT_SPH: o->pure = 1; break;
+        case LAM_OPT_BOHR: o->bohr = 1; break;
+        case LAM_OPT_CARTESIAN: o->pure = 0; break;
+        case LAM_OPT_SPHERICAL: o->pure = 1; break;
         case 'f': o->frozen = lam_opt_long("--frozen", optarg, 0, 100000); break;
         case 'a': o->active = lam_opt_long("--active", optarg, 1, 100000); break;
-        case OPT_ENERGY_TOL: o->scf.energy_tol = lam_opt_double("--energy-tol", optarg); break;
-        case OPT_GRADIENT_TOL:
+        case LAM_OPT_ENERGY_TOL: o->scf.energy_tol = lam_opt_double("--energy-tol", optarg); break;
+        case LAM_OPT_GRADIENT_TOL:
             o->scf.gradient_tol = lam_opt_double("--gradient-tol", optarg);
             break;
-        case OPT_MAXIT: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case OPT_DIIS_DEPTH:
+        case LAM_OPT_MAX_ITER: o->scf.max_iter = (int)lam_opt_long("--max-iter", optarg, 1, 100000); break;
+        case LAM_OPT_DIIS_DEPTH:
             o->scf.diis_depth = (int)lam_opt_long("--diis-depth", optarg, 0, 8);
             break;
-        case OPT_START: o->scf.start = parse_choice("--start", optarg, starts, 2); break;
-        case OPT_STABILITY:
+        case LAM_OPT_START_GUESS: o->scf.start = parse_choice("--start", optarg, starts, 2); break;
+        case LAM_OPT_STABILITY:
             o->scf.stability = parse_choice("--stability", optarg, stabilities, 3);
             break;
-        case OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
-        case OPT_CUTOFF:
+        case LAM_OPT_SCHWARZ: o->scf.schwarz = lam_opt_double("--schwarz", optarg); break;
+        case LAM_OPT_CUTOFF:
             o->cutoff = lam_opt_double("--cutoff", optarg);
             if (o->cutoff < 0) lam_usage_error("--cutoff must not be negative");
             break;
-        case OPT_ENERGY_ONLY: o->energy_only = 1; break;
-        default: lam_cli_option(c, argv, usage, &f);
+        case LAM_OPT_ENERGY_ONLY: o->energy_only = 1; break;
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
-    lam_blas_threads(threads);
+    lam_blas_threads(o->cli.threads);
     if (o->scf.energy_tol <= 0 || o->scf.gradient_tol <= 0)
         lam_usage_error("--energy-tol and --gradient-tol must be positive");
     if (o->scf.schwarz < 0) lam_usage_error("--schwarz must not be negative");
-    if (o->tsv && !o->energy_only) lam_usage_error("--tsv goes with --energy-only");
+    if (o->cli.tsv && !o->energy_only) lam_usage_error("--tsv goes with --energy-only");
     o->input = lam_cli_operand(argc, argv, "one molecule at a time");
     if (!lam_basis_set_find(o->basis))
         lam_usage_error("unknown basis '%s' (known: %s)", o->basis, lam_basis_set_names());
-    o->scf.report = !o->quiet && lam_progress_enabled();
+    o->scf.report = !o->cli.quiet && lam_progress_enabled();
 }
 
 /* The frozen/active choice must fit the molecule (code 64 otherwise). */
@@ -184,10 +166,10 @@ static int check_memory(const options *o, int nbf, int active, lam_error *err)
     /* SCF data, half-transformed and MO pair matrices, the dense operator */
     double bytes = lam_scf_bytes(nbf) + 8.0 * n2 * m2 + 8.0 * m2 * m2 +
                    (double)lam_spinfree_bytes(active);
-    if (bytes > o->max_memory)
+    if (bytes > o->cli.max_memory)
         return lam_error_set(err, LAM_EX_MEMORY, "%d basis functions, %d active orbitals need about %.1f MiB, "
                              "over --max-memory %.1f MiB", nbf, active, bytes / 1048576.0,
-                             o->max_memory / 1048576.0);
+                             o->cli.max_memory / 1048576.0);
     return 0;
 }
 
@@ -218,7 +200,7 @@ static void clean_integrals(const options *o, lam_spinfree *sf)
                                    : LAM_SCF_CUTOFF_RELATIVE * lam_scf_integral_scale(sf);
     lam_scf_cleaning cl;
     lam_scf_clean_integrals(sf, cutoff, &cl);
-    if (!o->quiet)
+    if (!o->cli.quiet)
         fprintf(stderr, "%s: %zu integrals written, %zu at or below the cutoff %.3g Eh set to "
                 "zero (largest %.3g Eh)\n", lam_program(), cl.kept, cl.dropped, cutoff,
                 cl.largest_dropped);
@@ -255,7 +237,7 @@ static void write_energy_report(FILE *out, const options *o, const lam_scf *s)
         lam_report_num(rep, "stability_eigenvalue", s->hessian_lowest);
         lam_report_int(rep, "instabilities_followed", s->instabilities_followed);
     }
-    lam_report_write(rep, out, o->tsv);
+    lam_report_write(rep, out, o->cli.tsv);
     lam_report_free(rep);
 }
 
@@ -304,11 +286,11 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     int nbf = run->basis->nbf;
     int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
     if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
-    if (open_output(o->output, &run->out, err)) return err->code;
-    if (run->out != stdout) run->made = o->output;
+    if (open_output(o->cli.output, &run->out, err)) return err->code;
+    if (run->out != stdout) run->made = o->cli.output;
     if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
     const lam_scf *s = run->scf;
-    if (!o->quiet) say_energy(s);
+    if (!o->cli.quiet) say_energy(s);
     if (o->energy_only) {
         write_energy_report(run->out, o, s);
     } else {
@@ -320,7 +302,7 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     }
     FILE *out = run->out;
     run->out = NULL;
-    return close_output(out, o->output, err);
+    return close_output(out, o->cli.output, err);
 }
 
 int main(int argc, char **argv)

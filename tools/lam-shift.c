@@ -62,51 +62,38 @@ typedef struct {
     long electrons;
     int ms2, have_ms2;
     unsigned terms;
-    int spin, emit_shift, emit_recorded, tsv, gzip;
+    int spin, emit_shift, emit_recorded;
     lam_spin_order order;
     double gap;
     long max_iter;
-    const char *report, *dump, *output, *input, *label;
+    const char *dump, *input;
+    lam_cli_values cli; /* -o, -z, -r, -t, -l, -j */
 } options;
-
-enum { OPT_TERMS = 256, OPT_SPIN, OPT_SZ, OPT_ORDER, OPT_EMIT, OPT_RECORDED, OPT_GAP, OPT_ITER,
-       OPT_DUMP };
 
 static void parse_options(int argc, char **argv, options *o)
 {
     static const struct option opts[] = {
-        {"electrons", required_argument, 0, 'n'},
-        {"terms", required_argument, 0, OPT_TERMS},
-        {"spin", no_argument, 0, OPT_SPIN},
-        {"sz", required_argument, 0, OPT_SZ},
-        {"spin-order", required_argument, 0, OPT_ORDER},
-        {"emit-shift", no_argument, 0, OPT_EMIT},
-        {"emit-recorded", no_argument, 0, OPT_RECORDED},
-        {"gap", required_argument, 0, OPT_GAP},
-        {"max-iter", required_argument, 0, OPT_ITER},
-        {"dump-lp", required_argument, 0, OPT_DUMP},
+        LAM_CLI_ELECTRONS, LAM_CLI_TERMS, LAM_CLI_SPIN, LAM_CLI_SZ, LAM_CLI_SPIN_ORDER,
+        LAM_CLI_EMIT_SHIFT, LAM_CLI_EMIT_RECORDED, LAM_CLI_GAP, LAM_CLI_MAX_ITER, LAM_CLI_DUMP_LP,
         LAM_CLI_REPORT_OUT, LAM_CLI_STREAM_OUT, LAM_CLI_THREADS, LAM_CLI_ALLOW_EMPTY,
         LAM_CLI_STANDARD, LAM_CLI_END};
-    long threads = 0;
-    const lam_cli_fields f = {.report = &o->report, .tsv = &o->tsv, .label = &o->label,
-                              .output = &o->output, .gzip = &o->gzip, .threads = &threads};
     memset(o, 0, sizeof *o);
     o->electrons = -1;
     o->terms = 0;
     o->gap = 1e-10;
     o->max_iter = 200;
     int explicit_terms = 0, c;
-    while ((c = lam_cli_next(argc, argv, ":n:r:tl:o:zqhVj:", opts)) != -1) {
+    while ((c = lam_cli_next(argc, argv, opts)) != -1) {
         switch (c) {
         case 'n': o->electrons = lam_opt_long("--electrons", optarg, 0, 1L << 20); break;
-        case OPT_TERMS:
+        case LAM_OPT_TERMS:
             if (lam_shift_parse_terms(optarg, &o->terms) != 0 || o->terms == 0)
                 lam_usage_error("--terms wants a comma-separated list of a1, a2, xi, xi-diag, "
                                 "b1, b2, zeta, zeta-diag, not '%s'", optarg);
             explicit_terms = 1;
             break;
-        case OPT_SPIN: o->spin = 1; break;
-        case OPT_SZ: {
+        case LAM_OPT_SPIN: o->spin = 1; break;
+        case LAM_OPT_SZ: {
             double sz = lam_opt_double("--sz", optarg);
             if (fabs(sz) > 1e6 || 2 * sz != floor(2 * sz))
                 lam_usage_error("--sz wants a whole or half-whole number, not '%s'", optarg);
@@ -114,24 +101,21 @@ static void parse_options(int argc, char **argv, options *o)
             o->have_ms2 = 1;
             break;
         }
-        case OPT_ORDER:
-            if (lam_spin_order_parse(optarg, &o->order) != 0)
-                lam_usage_error("--spin-order wants interleaved or blocked, not '%s'", optarg);
-            break;
-        case OPT_EMIT: o->emit_shift = 1; break;
-        case OPT_RECORDED: o->emit_recorded = 1; break;
-        case OPT_GAP:
+        case LAM_OPT_SPIN_ORDER: o->order = lam_cli_spin_order(optarg); break;
+        case LAM_OPT_EMIT_SHIFT: o->emit_shift = 1; break;
+        case LAM_OPT_EMIT_RECORDED: o->emit_recorded = 1; break;
+        case LAM_OPT_GAP:
             o->gap = lam_opt_double("--gap", optarg);
             if (!(o->gap > 0) || o->gap >= 1)
                 lam_usage_error("--gap wants a relative gap between 0 and 1, not '%s'", optarg);
             break;
-        case OPT_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
-        case OPT_DUMP: o->dump = optarg; break;
-        default: lam_cli_option(c, argv, usage, &f);
+        case LAM_OPT_MAX_ITER: o->max_iter = lam_opt_long("--max-iter", optarg, 1, 100000); break;
+        case LAM_OPT_DUMP_LP: o->dump = optarg; break;
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
-    lam_blas_threads(threads);
-    lam_cli_report_needs(&f, "operator");
+    lam_blas_threads(o->cli.threads);
+    lam_cli_report_needs(&o->cli, "operator");
     if (!explicit_terms) o->terms = LAM_SHIFT_DEFAULT | (o->spin ? LAM_SHIFT_SPIN_DEFAULT : 0);
     if ((o->terms & LAM_SHIFT_SPIN_TERMS) && !o->spin)
         lam_usage_error("--terms b1, b2, zeta and zeta-diag need --spin");
@@ -201,35 +185,34 @@ static void show_iteration(int it, double primal, double dual, void *ctx)
 
 /* The shift recorded in a shifted stream, written as an operator: with it
  * the original is rebuilt (lam-sum shifted recorded). */
-static int emit_recorded(const options *o, int argc, char **argv)
+static int emit_recorded(const options *o, int argc, char **argv, lam_error *err)
 {
     lam_reader *r = NULL;
-    lam_error err;
     lam_shift *k = NULL;
     lam_meta out;
     char *history = NULL;
     lam_writer *w = NULL;
     long n = -1, modes;
     lam_meta_init(&out);
-    int rc = lam_reader_open(o->input, &r, &err);
-    if (rc) lam_error_exit(&err);
+    int rc = lam_reader_open(o->input, &r, err);
+    if (rc) goto done;
     lam_meta *meta = lam_reader_meta(r);
-    rc = lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, &err);
-    if (!rc && n < 0 && !(rc = lam_reader_meta_long(r, "modes", -2, 0, 8192, &modes, &err)))
+    rc = lam_reader_meta_long(r, "orbitals", -1, 0, 4096, &n, err);
+    if (!rc && n < 0 && !(rc = lam_reader_meta_long(r, "modes", -2, 0, 8192, &modes, err)))
         n = modes / 2;
     if (!rc && n < 0)
-        rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0,
+        rc = lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0,
                           "no 'orbitals:' or 'modes:' line");
-    if (!rc && !(rc = lam_shift_recorded(meta, (int)n, lam_reader_name(r), &k, &err)) && !k)
-        rc = lam_error_at(&err, LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
+    if (!rc && !(rc = lam_shift_recorded(meta, (int)n, lam_reader_name(r), &k, err)) && !k)
+        rc = lam_error_at(err, LAM_EX_DATA, lam_reader_name(r), 0, "no shift-* metadata to emit");
     lam_spin_order order = LAM_SPIN_INTERLEAVED;
     if (!rc && lam_shift_has_spin(k))
-        rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &order, &err);
+        rc = lam_reader_spin_order(r, LAM_SPIN_INTERLEAVED, &order, err);
     if (rc) goto done;
     lam_meta_copy(&out, meta);
     lam_shift_describe(k, &out);
     history = lam_history_from_argv(argc, argv);
-    if ((rc = lam_writer_open(o->output, o->gzip, &w, &err))) goto done;
+    if ((rc = lam_writer_open(o->cli.output, o->cli.gzip, &w, err))) goto done;
     if (lam_shift_has_spin(k)) {
         lam_fermion_op op;
         lam_shift_apply_fermion(NULL, k, order, &op);
@@ -238,13 +221,13 @@ static int emit_recorded(const options *o, int argc, char **argv)
         lam_fermion_free(&op);
     } else {
         lam_spinfree *kk;
-        if ((rc = lam_shift_apply(NULL, k, &kk, &err))) goto done;
+        if ((rc = lam_shift_apply(NULL, k, &kk, err))) goto done;
         lam_spinfree_describe(kk, &out);
         lam_writer_header(w, LAM_KIND_SPINFREE, &out, history);
         lam_spinfree_write_terms(w, kk);
         lam_spinfree_free(kk);
     }
-    rc = lam_writer_close(w, &err);
+    rc = lam_writer_close(w, err);
     w = NULL;
 done:
     lam_writer_discard(w);
@@ -252,8 +235,7 @@ done:
     lam_meta_free(&out);
     lam_shift_free(k);
     lam_reader_close(r);
-    if (rc) lam_error_exit(&err);
-    return 0;
+    return rc;
 }
 
 static void report_matrix(lam_report *rep, const char *name, const lam_shift *k,
@@ -338,11 +320,11 @@ static int read_and_target(const options *o, shift_run *sr, lam_error *err)
  * written; the dump is written and closed here. */
 static int open_outputs(const options *o, shift_run *sr, double fixed, lam_error *err)
 {
-    if (o->report && lam_report_open(o->report, &sr->report, err)) return err->code;
+    if (o->cli.report && lam_report_open(o->cli.report, &sr->report, err)) return err->code;
     FILE *dump = NULL;
     if (o->dump && !(dump = fopen(o->dump, "w")))
         return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->dump, strerror(errno));
-    if (lam_writer_open(o->output, o->gzip, &sr->w, err)) {
+    if (lam_writer_open(o->cli.output, o->cli.gzip, &sr->w, err)) {
         if (dump) fclose(dump);
         return err->code;
     }
@@ -434,7 +416,7 @@ static int shift(const options *o, int argc, char **argv, shift_run *sr, lam_err
 
     lam_report *rep = sr->rep = lam_report_new();
     lam_report_columns(rep, tsv_columns);
-    lam_report_str(rep, "label", o->label ? o->label : src);
+    lam_report_str(rep, "label", o->cli.label ? o->cli.label : src);
     lam_report_num(rep, "lambda_before", before);
     lam_report_num(rep, "lambda_after", after);
     lam_report_num(rep, "gap", res.primal - res.dual);
@@ -461,10 +443,10 @@ static int shift(const options *o, int argc, char **argv, shift_run *sr, lam_err
     lam_report_num(rep, "solve_seconds", t_solve);
     lam_report_num(rep, "seconds", lam_seconds() - t0);
     if (sr->report) {
-        lam_report_write(rep, sr->report, o->tsv);
+        lam_report_write(rep, sr->report, o->cli.tsv);
         FILE *report = sr->report;
         sr->report = NULL;
-        if (lam_report_close(report, o->report, err)) return err->code;
+        if (lam_report_close(report, o->cli.report, err)) return err->code;
     }
     if (!res.converged)
         lam_warn("warning: the relative gap %.3g did not reach %.3g in %d iterations; "
@@ -478,13 +460,17 @@ int main(int argc, char **argv)
     lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
-    if (o.emit_recorded) return emit_recorded(&o, argc, argv);
-    shift_run sr;
-    memset(&sr, 0, sizeof sr);
-    lam_meta_init(&sr.meta);
     lam_error err;
-    int rc = shift(&o, argc, argv, &sr, &err);
-    shift_run_free(&sr);
+    int rc;
+    if (o.emit_recorded) {
+        rc = emit_recorded(&o, argc, argv, &err);
+    } else {
+        shift_run sr;
+        memset(&sr, 0, sizeof sr);
+        lam_meta_init(&sr.meta);
+        rc = shift(&o, argc, argv, &sr, &err);
+        shift_run_free(&sr);
+    }
     lam_exit_on_error(rc, &err);
     return 0;
 }

@@ -44,9 +44,9 @@ typedef struct {
 } input;
 
 typedef struct {
-    int sort, gzip;
+    int sort;
     lam_kind forced;
-    const char *out;
+    lam_cli_values cli; /* -o, -z */
     lam_drop drop;
     input *inputs;
     int ninputs;
@@ -323,24 +323,19 @@ static void add_input(options *o, const char *path, int *scaled, double factor)
  * that a --scale belongs to the FILE right after it. */
 static void parse_options(int argc, char **argv, options *o)
 {
-    enum { OPT_SCALE = 256, OPT_SORT };
     static const struct option opts[] = {
-        {"scale", required_argument, 0, OPT_SCALE},
-        {"drop", required_argument, 0, 'd'},
-        {"sort", no_argument, 0, OPT_SORT},
-        {"kind", required_argument, 0, 'k'},
-        LAM_CLI_STREAM_OUT, LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
-    const lam_cli_fields f = {.output = &o->out, .gzip = &o->gzip};
+        LAM_CLI_SCALE, LAM_CLI_DROP, LAM_CLI_SORT, LAM_CLI_KIND, LAM_CLI_STREAM_OUT,
+        LAM_CLI_ALLOW_EMPTY, LAM_CLI_HELP, LAM_CLI_VERSION, LAM_CLI_END};
     int c, scaled = 0;
     double factor = 1.0;
     const char *scale_text = NULL;
     memset(o, 0, sizeof *o);
     o->forced = LAM_KIND_UNKNOWN;
     o->inputs = lam_malloc(lam_mul_size((size_t)argc + 1, sizeof *o->inputs));
-    while ((c = lam_cli_next(argc, argv, "-:d:k:o:zhV", opts)) != -1) {
+    while ((c = lam_cli_next_in_order(argc, argv, opts)) != -1) {
         switch (c) {
         case 1: add_input(o, optarg, &scaled, factor); break;
-        case OPT_SCALE:
+        case LAM_OPT_SCALE:
             if (scaled)
                 lam_usage_error("--scale %s and --scale %s before one FILE: one factor a FILE",
                                 scale_text, optarg);
@@ -349,13 +344,13 @@ static void parse_options(int argc, char **argv, options *o)
             scaled = 1;
             break;
         case 'd': lam_drop_parse(&o->drop, optarg); break;
-        case OPT_SORT: o->sort = 1; break;
+        case LAM_OPT_SORT: o->sort = 1; break;
         case 'k':
-            o->forced = lam_cli_kind(optarg, ~LAM_CLI_KIND(LAM_KIND_FRAGMENTS));
+            o->forced = lam_cli_kind(optarg, ~LAM_CLI_KIND_BIT(LAM_KIND_FRAGMENTS));
             break;
         case '?':
         case ':': refuse_factor_prefix(argc, argv); /* fall through */
-        default: lam_cli_option(c, argv, usage, &f);
+        default: lam_cli_option(c, argv, usage, &o->cli);
         }
     }
     for (int i = optind; i < argc; ++i) add_input(o, argv[i], &scaled, factor); /* after "--" */
@@ -430,30 +425,25 @@ static void sum_free(sum *s)
     lam_meta_free(&s->meta);
 }
 
+/* The terms of one open input of kind k into one (a sum of one input). */
+static int read_terms(sum *one, lam_reader *r, lam_kind k, lam_error *err)
+{
+    if (k == LAM_KIND_SPINFREE) return read_spinfree(r, &one->sf, err);
+    if (k == LAM_KIND_PAULI) return lam_pauli_read(r, &one->pauli, err);
+    return lam_fermion_read(r, &one->fermion, err);
+}
+
 /* The terms of one open input, times factor, into the sum. */
 static int add_terms(sum *s, lam_reader *r, lam_kind k, double factor, lam_error *err)
 {
-    if (k == LAM_KIND_SPINFREE) {
-        lam_spinfree *sf = NULL;
-        if (read_spinfree(r, &sf, err) != 0) return err->code;
-        add_spinfree(&s->sf, sf, factor);
-        lam_spinfree_free(sf);
-    } else if (k == LAM_KIND_PAULI) {
-        lam_pauli_set p;
-        lam_pauli_set_init(&p, 0);
-        int rc = lam_pauli_read(r, &p, err);
-        if (rc == 0) add_pauli(&s->pauli, &p, factor);
-        lam_pauli_set_free(&p);
-        return rc;
-    } else {
-        lam_fermion_op f;
-        lam_fermion_init(&f, 0);
-        int rc = lam_fermion_read(r, &f, err);
-        if (rc == 0) add_fermion(&s->fermion, &f, factor);
-        lam_fermion_free(&f);
-        return rc;
-    }
-    return 0;
+    sum one;
+    sum_init(&one);
+    int rc = read_terms(&one, r, k, err);
+    if (rc == 0 && k == LAM_KIND_SPINFREE) add_spinfree(&s->sf, one.sf, factor);
+    else if (rc == 0 && k == LAM_KIND_PAULI) add_pauli(&s->pauli, &one.pauli, factor);
+    else if (rc == 0) add_fermion(&s->fermion, &one.fermion, factor);
+    sum_free(&one);
+    return rc;
 }
 
 /* Input number i (its kind checked against the first's) into the sum. */
@@ -531,7 +521,7 @@ int main(int argc, char **argv)
     lam_writer *w = NULL;
     if (rc == 0) {
         history = lam_history_from_argv(argc, argv);
-        rc = lam_writer_open(o.out, o.gzip, &w, &err);
+        rc = lam_writer_open(o.cli.output, o.cli.gzip, &w, &err);
     }
     if (rc == 0) {
         rc = write_sum(&s, &o, w, history, &err);
