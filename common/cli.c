@@ -23,10 +23,12 @@ static const char *short_options(const struct option *longopts, const char *mode
     return buf;
 }
 
-/* getopt_long with getopt's own messages off (opterr = 0). */
+/* getopt_long with getopt's own messages off (opterr = 0).  The first
+ * call names the program after argv[0] for every message that follows. */
 static int next_option(int argc, char **argv, const char *mode, const struct option *longopts)
 {
     char shortopts[3 + 3 * 128];
+    if (optind <= 1) lam_set_program(argv[0]);
     opterr = 0;
     return getopt_long(argc, argv, short_options(longopts, mode, shortopts), longopts, NULL);
 }

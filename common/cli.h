@@ -186,7 +186,9 @@ typedef struct {
  * string built from the table (the letter of every entry that has one), so
  * that the table is a program's one list of its options.  getopt's own
  * messages are off (opterr = 0): a missing value comes back as ':', an
- * unknown option as '?', and lam_cli_common gives each its one message. */
+ * unknown option as '?', and lam_cli_common gives each its one message.
+ * The first call also names the program after argv[0] (lam_set_program),
+ * so that a program's main begins with its options. */
 int lam_cli_next(int argc, char **argv, const struct option *longopts);
 
 /* The same, with the operands coming back in order among the options (as

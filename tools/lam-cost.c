@@ -539,7 +539,6 @@ static int compare(const options *o, const lam_cost_budget *bud, const lam_floor
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     lam_error err;

@@ -202,7 +202,6 @@ static lam_report *make_report(const cli *c, const char *input, const lam_spinfr
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     cli c;
     parse_args(argc, argv, &c);
     lam_error err;

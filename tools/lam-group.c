@@ -315,7 +315,6 @@ static int run_group(const options *o, int argc, char **argv)
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     return o.check ? run_check(&o) : run_group(&o, argc, argv);

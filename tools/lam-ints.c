@@ -34,7 +34,6 @@ static _Noreturn void usage(void)
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     static const struct option opts[] = {
         LAM_CLI_ELECTRONS, LAM_CLI_FERMION, LAM_CLI_SPIN_ORDER, LAM_CLI_STREAM_OUT, LAM_CLI_HELP,
         LAM_CLI_VERSION, LAM_CLI_END};

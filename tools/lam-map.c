@@ -156,7 +156,6 @@ static void write_string(void *ctx, const uint64_t *x, const uint64_t *z, double
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o = {.encoding = LAM_ENC_JORDAN_WIGNER, .spin = LAM_SPIN_INTERLEAVED,
                  .kind = LAM_KIND_UNKNOWN};
     parse_options(argc, argv, &o);

@@ -251,7 +251,6 @@ static void report_floor(lam_report *rep, const lam_floor *fl)
  * no partial table behind. */
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     int nstreams = argc - optind > 0 ? argc - optind : 1;

@@ -363,7 +363,6 @@ static int range_of_pauli(held *h, lam_kind kind, const char *src, const options
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     /* one thread unless asked: measured, a second BLAS or loop thread

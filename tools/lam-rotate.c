@@ -321,7 +321,6 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     rotate_run rr;

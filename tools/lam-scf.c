@@ -307,7 +307,6 @@ static int scf(const options *o, scf_run *run, lam_error *err)
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     scf_run run = {NULL, NULL, NULL, NULL, NULL, NULL};

@@ -457,7 +457,6 @@ static int shift(const options *o, int argc, char **argv, shift_run *sr, lam_err
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     parse_options(argc, argv, &o);
     lam_error err;

@@ -507,7 +507,6 @@ static int write_sum(sum *s, options *o, lam_writer *w, const char *history, lam
 
 int main(int argc, char **argv)
 {
-    lam_set_program(argv[0]);
     options o;
     lam_error err;
     lam_error_clear(&err);
