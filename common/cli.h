@@ -37,14 +37,14 @@
 #include <getopt.h>
 
 #include "fermion.h"
-#include "report.h"
 #include "stream.h"
 
 /* getopt_long ids of the long-only options: above the characters and
  * below the fixed ids of --progress, --allow-empty and --floor (0x4c45 and
- * up; LAM_OPT_FLOOR is report.h's, beside the floor reader). */
+ * up). */
 #define LAM_OPT_PROGRESS 0x4c50
 #define LAM_OPT_ALLOW_EMPTY 0x4c45
+#define LAM_OPT_FLOOR 0x4c46
 enum {
     LAM_OPT_BOHR = 256,
     LAM_OPT_BOUND_ENERGY_TOL, LAM_OPT_BOUND_SUBSPACE, LAM_OPT_BOUNDS, LAM_OPT_CARTESIAN,

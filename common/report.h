@@ -92,7 +92,6 @@ void lam_report_in_add(lam_report_in *in, const char *key, const char *value, lo
  * keys say exact, and otherwise a certified lower bound on the floor
  * (lam-range's values are Rayleigh quotients), so that lambda/floor is
  * then an upper bound on the true ratio ("at-most"). */
-#define LAM_OPT_FLOOR 0x4c46 /* getopt_long value of the long-only --floor */
 typedef struct {
     const char *path;  /* as given */
     const char *from;  /* the report key used, e.g. "n_half_range" */

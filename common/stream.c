@@ -63,8 +63,7 @@ void lam_meta_copy(lam_meta *dst, const lam_meta *src)
 {
     lam_meta_init(dst);
     for (size_t i = 0; i < src->count; ++i)
-        lam_meta_append(dst, src->items[i].key, src->items[i].value,
-                    src->items[i].line);
+        lam_meta_append(dst, src->items[i].key, src->items[i].value, src->items[i].line);
 }
 
 const lam_meta_entry *lam_meta_find(const lam_meta *m, const char *key)

@@ -68,8 +68,7 @@ static _Noreturn void usage(void)
 
 typedef struct {
     lam_cost_params par;
-    double error, split[3];
-    lam_cost_budget bud; /* error split by --split */
+    lam_cost_budget bud; /* --error split by --split */
     int ungrouped, compare, have_con;
     lam_construction con;
     lam_kind kind;
@@ -100,20 +99,19 @@ static void parse_options(int argc, char **argv, options *o)
         LAM_CLI_KIND_LONG_ONLY, LAM_CLI_FLOOR, LAM_CLI_TSV, LAM_CLI_LABEL, LAM_CLI_OUTPUT,
         LAM_CLI_STANDARD, LAM_CLI_END};
     memset(o, 0, sizeof *o);
-    o->error = LAM_COST_DEFAULT_ERROR;
-    o->split[0] = LAM_COST_DEFAULT_SPLIT_PHASE;
-    o->split[1] = LAM_COST_DEFAULT_SPLIT_TRUNC;
-    o->split[2] = LAM_COST_DEFAULT_SPLIT_SYNTH;
+    double error = LAM_COST_DEFAULT_ERROR;
+    double split[3] = {LAM_COST_DEFAULT_SPLIT_PHASE, LAM_COST_DEFAULT_SPLIT_TRUNC,
+                       LAM_COST_DEFAULT_SPLIT_SYNTH};
     int c;
     while ((c = lam_cli_next(argc, argv, longopts)) != -1) {
         switch (c) {
         case 'C': o->compare = 1; break;
         case LAM_OPT_ERROR:
-            o->error = lam_opt_double("--error", optarg);
-            if (!(o->error > 0))
+            error = lam_opt_double("--error", optarg);
+            if (!(error > 0))
                 lam_usage_error("option --error wants a positive energy in Eh, not '%s'", optarg);
             break;
-        case LAM_OPT_SPLIT_ERROR: parse_split(optarg, o->split); break;
+        case LAM_OPT_SPLIT_ERROR: parse_split(optarg, split); break;
         case LAM_OPT_CONSTRUCTION:
             if (lam_cost_construction_parse(optarg, &o->con) != 0)
                 lam_usage_error("option --construction wants flat, sparse, grouped or df, not '%s'",
@@ -144,7 +142,7 @@ static void parse_options(int argc, char **argv, options *o)
     for (int i = 0; i < o->ninputs; ++i) stdin_uses += strcmp(o->inputs[i], "-") == 0;
     if (stdin_uses > 1) lam_usage_error("standard input can be read once only");
     const char *why;
-    if (lam_cost_budget_split(o->error, o->split, &o->bud, &why) != 0) lam_usage_error("%s", why);
+    if (lam_cost_budget_split(error, split, &o->bud, &why) != 0) lam_usage_error("%s", why);
     if (o->floor && strcmp(o->floor, "-") == 0 && stdin_uses)
         lam_usage_error("standard input can be read once only");
 }
