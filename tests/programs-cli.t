@@ -30,6 +30,28 @@ for p in $TABLE_PROGRAMS; do
     like "$OUT" "^$p \\(lamina\\) [0-9]+\\.[0-9]+\\.[0-9]+$" "$p -V is --version"
     one_bad_option_message "$p" --output
 done
+# Every option a program accepts is in its --help and its man page (project
+# conventions, DEVELOPERS.md).  What it accepts is its option table in
+# tools/ (LAM_CLI_ entries), the names those entries have in common/cli.h.
+cli_groups='s/^LAM_CLI_STANDARD$/LAM_CLI_PROGRESS LAM_CLI_QUIET LAM_CLI_HELP LAM_CLI_VERSION/
+s/^LAM_CLI_STREAM_OUT$/LAM_CLI_OUTPUT LAM_CLI_GZIP/
+s/^LAM_CLI_REPORT_OUT$/LAM_CLI_REPORT LAM_CLI_TSV LAM_CLI_LABEL/'
+for src in "$ROOT"/tools/lam-*.c; do
+    p=$(basename "$src" .c)
+    names=$(awk '/static const struct option/ { t = 1 } t { print } t && /LAM_CLI_END/ { exit }' "$src" |
+        grep -o 'LAM_CLI_[A-Z_]*' | sed "$cli_groups" | tr ' ' '\n' | grep -vx LAM_CLI_END |
+        while read -r m; do sed -n "s/^#define $m {\"\([a-z-]*\)\".*/\1/p" "$ROOT/common/cli.h"; done |
+        sort -u)
+    ok "$([ "$(wc -w <<<"$names")" -ge 7 ]; echo $?)" "$p: its option table is found ($(wc -w <<<"$names") names)"
+    lam "$p" --help >"$TMP/help"
+    sed 's/\\-/-/g' "$ROOT/man/$p.1" >"$TMP/man"
+    missing=
+    for n in $names; do
+        grep -qE -- "--$n([^a-z-]|\$)" "$TMP/help" || missing="$missing --help:--$n"
+        grep -qE -- "--$n([^a-z-]|\$)" "$TMP/man" || missing="$missing man:--$n"
+    done
+    is "$missing" "" "$p: every option it accepts is in --help and in man/$p.1"
+done
 ok "$([ -f "$ROOT/man/lamina-stream.5" ]; echo $?)" "man/lamina-stream.5"
 ok "$([ -f "$ROOT/man/lamina.7" ]; echo $?)" "man/lamina.7"
 # issue 15.10: make demo needs the build packages and, optionally, the
