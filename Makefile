@@ -51,7 +51,8 @@ FUZZ_SRC  := $(sort $(wildcard fuzz/fuzz-*.c))
 MANPAGES  := $(sort $(wildcard man/*.[157]))
 
 # What each entry point needs from Debian: the demo only the build packages
-# (plots are optional: gnuplot-nox); the tests the independent references;
+# (plots are optional: gnuplot-nox); the tests the independent references
+# and, optionally, gnuplot-nox to check the study's plots;
 # valgrind-check valgrind; fuzz clang with its sanitizer runtime.
 DEB_BUILD := libopenblas-dev liblapacke-dev zlib1g-dev
 DEB_TEST  := python3-numpy python3-scipy psi4
@@ -120,7 +121,7 @@ TEST_ENV := LAM_BIN=$(CURDIR)/$(BINDIR) LAM_UNIT=$(CURDIR)/$(OBJDIR)/unit \
             OPENBLAS_NUM_THREADS=1 ASAN_OPTIONS=detect_leaks=1 \
             UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1
 
-check: deps
+check: deps deps-plot
 	@$(MAKE) --no-print-directory $(if $(filter san,$(MODE)),sanitize) all
 	$(TEST_ENV) prove -j2 $(UNITS) tests/*.t
 

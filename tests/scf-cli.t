@@ -245,9 +245,18 @@ runlam lam-scf --quiet --bohr -M 1K "$TMP/water.xyz"
 is "$RC" 75 "over --max-memory: exit 75"
 runlam lam-scf --quiet --bohr -o "$TMP/no/such/dir/out" "$TMP/water.xyz"
 is "$RC" 74 "output cannot be opened: exit 74"
-if [ -w /dev/full ]; then
+if [ -w /dev/full ] && [ -c /dev/full ]; then
     runlam lam-scf --quiet --bohr -o /dev/full "$TMP/water.xyz"
     is "$RC" 74 "write error (full device): exit 74"
+    [ -c /dev/full ]; ok $? "a failed run leaves the device it wrote to in place (/dev/full)"
 fi
+# A failed run removes a half-written plain file only: a pipe (or a device,
+# or a link such as /dev/stdout) is not the program's to remove.
+mkfifo "$TMP/pipe"
+cat "$TMP/pipe" >/dev/null &
+runlam lam-scf --quiet --bohr --active 9 -o "$TMP/pipe" "$TMP/water.xyz"
+wait
+is "$RC" 64 "-o PIPE, a late usage error: exit 64"
+[ -p "$TMP/pipe" ]; ok $? "-o PIPE, a late usage error: the pipe stays"
 
 done_testing

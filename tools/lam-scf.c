@@ -4,6 +4,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "basis.h"
 #include "cli.h"
@@ -183,6 +184,16 @@ static int open_output(const char *path, FILE **out, lam_error *err)
     return 0;
 }
 
+/* Whether out, opened on path, is a plain file that a failed run may
+ * remove: not stdout, a device (/dev/full), a pipe or a symbolic link
+ * (/dev/stdout), whose removal would take away what is not the program's. */
+static int is_plain_file(FILE *out, const char *path)
+{
+    struct stat st, link;
+    return out != stdout && fstat(fileno(out), &st) == 0 && S_ISREG(st.st_mode) &&
+           lstat(path, &link) == 0 && S_ISREG(link.st_mode);
+}
+
 /* Closes out (not stdout) also on failure. */
 static int close_output(FILE *out, const char *path, lam_error *err)
 {
@@ -248,7 +259,7 @@ typedef struct {
     lam_scf *scf;
     lam_spinfree *op;
     FILE *out; /* NULL once closed */
-    const char *made; /* the -o file this run created, removed if it fails */
+    const char *made; /* the plain -o file this run writes, removed if it fails */
 } scf_run;
 
 static void scf_run_free(scf_run *run)
@@ -287,7 +298,7 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
     if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
     if (open_output(o->cli.output, &run->out, err)) return err->code;
-    if (run->out != stdout) run->made = o->cli.output;
+    if (is_plain_file(run->out, o->cli.output)) run->made = o->cli.output;
     if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
     const lam_scf *s = run->scf;
     if (!o->cli.quiet) say_energy(s);
