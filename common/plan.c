@@ -10,6 +10,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "output.h"
 #include "util.h"
 
 void lam_plan_add(lam_plan *p, int na, int nb)
@@ -247,23 +248,22 @@ static void write_value(FILE *f, double x)
 
 int lam_plan_resume_write(const char *dir, uint64_t fp, const lam_plan_entry *e, lam_error *err)
 {
-    char path[4096], tmp[4200];
+    char path[4096];
     if (mkdir(dir, 0777) != 0 && errno != EEXIST)
         return lam_error_set(err, LAM_EX_IOERR, "%s: cannot create the resume directory: %s", dir,
                              strerror(errno));
     block_path(dir, e, path, sizeof path);
-    /* a name of this process's own: two runs on one directory (a job
-     * started twice) must not write into each other's half-written file */
-    snprintf(tmp, sizeof tmp, "%s.%ld.tmp", path, (long)getpid());
-    FILE *f = fopen(tmp, "w");
-    if (!f) return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write: %s", tmp, strerror(errno));
+    /* written beside under a name of its own (two runs on one directory, a
+     * job started twice, must not write into each other's half-written
+     * file) and renamed into place whole */
+    lam_output out;
+    if (lam_output_open(path, &out, err)) return err->code;
+    FILE *f = out.fp;
     fprintf(f, "lamina-range-block 1\n%016llx %d %d %zu", (unsigned long long)fp, e->na, e->nb, e->dim);
     write_value(f, e->lo);
     write_value(f, e->hi);
     write_value(f, e->res_lo);
     write_value(f, e->res_hi);
     fprintf(f, " %d %d %d\n", e->exact_lo, e->exact_hi, e->use_bounds);
-    if (fclose(f) != 0 || rename(tmp, path) != 0)
-        return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write: %s", path, strerror(errno));
-    return 0;
+    return lam_output_close(&out, 1, err);
 }

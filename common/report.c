@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "output.h"
 #include "stream.h"
 #include "util.h"
 
@@ -96,13 +97,6 @@ static void require_columns_cover(const lam_report *rep)
     }
 }
 
-static int check_written(FILE *out, lam_error *err)
-{
-    if (fflush(out) != 0 || ferror(out))
-        return lam_error_set(err, LAM_EX_IOERR, "cannot write the report: %s", strerror(errno));
-    return 0;
-}
-
 /* One TSV line: the keys (header) or the values of the columns. */
 static void write_tsv_line(const lam_report *rep, FILE *out, int values)
 {
@@ -141,39 +135,12 @@ void lam_report_write(const lam_report *rep, FILE *out, int tsv)
         fprintf(out, "%s\t%s\n", rep->list.items[i].key, rep->list.items[i].value);
 }
 
-int lam_report_open(const char *path, FILE **out, lam_error *err)
-{
-    *out = stdout;
-    if (!path || strcmp(path, "-") == 0) return 0;
-    *out = fopen(path, "w");
-    if (!*out)
-        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", path,
-                             strerror(errno));
-    return 0;
-}
-
-int lam_report_close(FILE *f, const char *path, lam_error *err)
-{
-    if (f == stdout) return check_written(f, err);
-    int bad = ferror(f);
-    if (fclose(f) != 0 || bad)
-        return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", path,
-                             errno ? strerror(errno) : "write error");
-    return 0;
-}
-
-void lam_report_discard(FILE *f)
-{
-    if (f && f != stdout) fclose(f);
-}
-
 int lam_report_save(const lam_report *rep, const char *path, int tsv, lam_error *err)
 {
-    FILE *f;
-    int rc = lam_report_open(path, &f, err);
-    if (rc) return rc;
-    lam_report_write(rep, f, tsv);
-    return lam_report_close(f, path, err);
+    lam_output out;
+    if (lam_output_open(path, &out, err)) return err->code;
+    lam_report_write(rep, out.fp, tsv);
+    return lam_output_close(&out, 1, err);
 }
 
 /* ---- --drop ---- */

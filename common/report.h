@@ -33,23 +33,18 @@ void lam_report_columns(lam_report *rep, const char *const *columns);
 /* 1 and the number of key (a TSV entry) when present and numeric, else 0
  * and NAN: for a program that adds figures derived from its own report. */
 int lam_report_value(const lam_report *rep, const char *key, double *value);
-/* Write to out in text or TSV form; a write error is seen by
- * lam_report_close (ferror). */
+/* Write to out in text or TSV form; a write error is seen when the output
+ * is closed (lam_output_close, output.h: ferror). */
 void lam_report_write(const lam_report *rep, FILE *out, int tsv);
 /* The two halves of the TSV form, for a program that writes one row per
  * input under one header (every report given the same columns). */
 void lam_report_write_header(const lam_report *rep, FILE *out);
 void lam_report_write_row(const lam_report *rep, FILE *out);
-/* Write to path ("-" or NULL: stdout); 0, or 74 with err filled. */
+/* Write to path ("-" or NULL: stdout), whole or not at all; 0, or 74 with
+ * err filled.  A program that must open its report before its main output
+ * (so that an unwritable path fails before a byte of that goes out) opens
+ * it with lam_output_open and closes it with lam_output_close. */
 int lam_report_save(const lam_report *rep, const char *path, int tsv, lam_error *err);
-/* Open a report destination into *out before anything else is written, so
- * that an unwritable path fails (74) before a byte of the main output goes
- * out; "-" or NULL is stdout.  lam_report_close writes nothing itself: it
- * flushes and closes (74 on a write error, now or earlier);
- * lam_report_discard closes a file on a failure path (stdout untouched). */
-int lam_report_open(const char *path, FILE **out, lam_error *err);
-int lam_report_close(FILE *f, const char *path, lam_error *err);
-void lam_report_discard(FILE *f);
 
 /* --drop TOL of the programs that remove small terms (lam-map, lam-sum):
  * the tolerance, and what was removed, counted so that the program can say

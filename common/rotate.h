@@ -140,11 +140,10 @@ int lam_rotate_grouped_lambda(const lam_spinfree *sf, double *lambda, lam_error 
  * (Lowdin) so that the spectrum is kept to rounding. */
 #define LAM_ROTATE_ORTHO_TOL 1e-8
 int lam_rotate_read_matrix(const char *path, int n, double **out, lam_error *err);
-/* Write U to f (opened by the caller before the work, named path in
- * messages), one row a line, 17 significant digits, and close it; fails
- * with exit 74 on a write error. */
+/* Write U to f (opened by the caller before the work), one row a line,
+ * 17 significant digits; the caller's close sees a write error. */
 #include <stdio.h>
-int lam_rotate_write_matrix(FILE *f, const char *path, int n, const double *u, lam_error *err);
+void lam_rotate_write_matrix(FILE *f, int n, const double *u);
 
 /* Random orthogonal exp(K), K antisymmetric within the blocks with normal
  * entries of standard deviation sigma (radians), from a seed. */

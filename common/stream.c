@@ -7,10 +7,12 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 #include <fcntl.h>
 #include <sys/stat.h>
 #include <zlib.h>
 
+#include "output.h"
 #include "util.h"
 
 /* ------------------------------------------------------------------ */
@@ -714,10 +716,10 @@ int lam_reader_index(const lam_reader *r, const lam_line *ln, int field, long li
 /* writer */
 
 struct lam_writer {
-    FILE *fp;
+    lam_output out; /* the file (whole or not at all) or stdout */
+    FILE *fp;       /* out.fp, unless gz writes to it */
     gzFile gz;
     char *name;
-    int owns_fp;
     int distinct;
     int failed_errno; /* the first write error, kept until close reports it */
     int failed;
@@ -728,29 +730,29 @@ void lam_writer_set_distinct(lam_writer *w) { w->distinct = 1; }
 int lam_writer_open(const char *path, int gzip, lam_writer **out, lam_error *err)
 {
     *out = NULL;
-    int use_stdout = !path || strcmp(path, "-") == 0;
-    const char *name = use_stdout ? "<stdout>" : path;
-    FILE *fp = NULL;
+    const char *name = !path || strcmp(path, "-") == 0 ? "<stdout>" : path;
+    lam_output file;
+    if (gzip) fflush(stdout); /* what is in stdout's buffer comes before the gzip stream */
+    if (lam_output_open(path, &file, err)) return err->code;
     gzFile gz = NULL;
     if (gzip) {
-        fflush(stdout);
-        gz = use_stdout ? gzdopen(dup(1), "wb6") : gzopen(path, "wb6");
-        if (!gz)
+        int fd = dup(fileno(file.fp));
+        if (fd < 0 || !(gz = gzdopen(fd, "wb6"))) {
+            int errnum = errno;
+            if (fd >= 0) close(fd);
+            lam_output_discard(&file);
             return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", name,
-                                 strerror(errno));
+                                 strerror(errnum));
+        }
         gzbuffer(gz, 1 << 17);
-    } else {
-        fp = use_stdout ? stdout : fopen(path, "w");
-        if (!fp)
-            return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", name,
-                                 strerror(errno));
-        if (!use_stdout) setvbuf(fp, NULL, _IOFBF, 1 << 17);
+    } else if (file.fp != stdout) {
+        setvbuf(file.fp, NULL, _IOFBF, 1 << 17);
     }
     lam_writer *w = lam_calloc(1, sizeof *w);
     w->name = lam_strdup(name);
-    w->fp = fp;
+    w->out = file;
+    w->fp = gz ? NULL : file.fp;
     w->gz = gz;
-    w->owns_fp = fp && !use_stdout;
     *out = w;
     return 0;
 }
@@ -837,13 +839,12 @@ int lam_writer_close_raw(lam_writer *w, lam_error *err)
     if (!w) return 0;
     int failed = w->failed, errnum = w->failed_errno;
     errno = 0;
-    if (w->gz) {
-        if (gzclose(w->gz) != Z_OK && !failed) failed = 1, errnum = errno;
-    } else {
-        if ((fflush(w->fp) != 0 || ferror(w->fp)) && !failed) failed = 1, errnum = errno;
-        if (w->owns_fp && fclose(w->fp) != 0 && !failed) failed = 1, errnum = errno;
-    }
+    if (w->gz && gzclose(w->gz) != Z_OK && !failed) failed = 1, errnum = errno;
+    lam_error ignored;
     int rc = failed ? write_error(w, errnum, err) : 0;
+    /* the file is renamed into place only when all of it was written */
+    int closed = lam_output_close(&w->out, !failed, failed ? &ignored : err);
+    if (!rc) rc = closed;
     free(w->name);
     free(w);
     return rc;
@@ -860,7 +861,7 @@ void lam_writer_discard(lam_writer *w)
     if (!w) return;
     /* standard output is left unflushed: no half-written result reaches it */
     if (w->gz) gzclose(w->gz);
-    else if (w->owns_fp) fclose(w->fp);
+    lam_output_discard(&w->out);
     free(w->name);
     free(w);
 }

@@ -24,13 +24,13 @@ expect 64 "99 electrons do not fit in 6 orbitals" lam-rotate --electrons 99 "$TM
 like "$ERR" "Try 'lam-rotate --help'" "a usage error found after reading still shows the hint"
 expect 64 "--within: '0-99' is not a list of orbital blocks" lam-rotate --within 0-99 "$TMP/w.sf"
 expect 66 "/nonexistent/u.txt: cannot open" lam-rotate --start /nonexistent/u.txt "$TMP/w.sf"
-expect 74 "$TMP/no/m.txt: cannot write" lam-rotate --matrix "$TMP/no/m.txt" "$TMP/w.sf"
+expect 74 "cannot open $TMP/no/m.txt for writing" lam-rotate --matrix "$TMP/no/m.txt" "$TMP/w.sf"
 expect 64 "99 electrons do not fit in 6 orbitals" lam-shift --electrons 99 "$TMP/w.sf"
 expect 65 ".*already shifted for 8 electrons" lam-shift --electrons 6 "$TMP/shifted.sf"
 expect 64 "--frozen 9 exceeds the 5 doubly occupied orbitals" lam-scf -q --frozen 9 "$XYZ"
 expect 64 "--active 99 exceeds the 7 orbitals above the frozen ones" lam-scf -q --active 99 "$XYZ"
 expect 75 "7 basis functions, 7 active orbitals need about" lam-scf -q -M 1K "$XYZ"
-expect 74 "cannot write $TMP/no/w.fcidump" lam-scf -q -o "$TMP/no/w.fcidump" "$XYZ"
+expect 74 "cannot open $TMP/no/w.fcidump for writing" lam-scf -q -o "$TMP/no/w.fcidump" "$XYZ"
 
 # valgrind on the exits: the code stays the program's (99 would be a
 # definite leak or a memory error), and no block of ours is even still

@@ -21,7 +21,6 @@ integrals).  For each, `lam-ints | lam-map | lam-group` without and with
   plain Pauli one-norm; asserted loosely as a factor of at least 2.
 """
 import os
-import tempfile
 import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
@@ -116,9 +115,7 @@ def merged(terms):
 
 
 def check_stream(name, pauli_text, electrons=None):
-    with tempfile.NamedTemporaryFile("r", suffix=".rep") as repf:
-        code, out, err = lamtest.run("lam-group", ["-r", repf.name], stdin=pauli_text)
-        rep = lamtest.report(repf.read())
+    code, out, err, rep = lamtest.run_with_report("lam-group", [], stdin=pauli_text)
     if not t.ok(code == 0, "%s: lam-group runs" % name, err):
         return None
     nq, terms = parse(out)

@@ -14,7 +14,6 @@
   operator, and fock_half_range(H - K) >= n_half_range(H).
 """
 import os
-import tempfile
 import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), "lib"))
@@ -169,9 +168,7 @@ def fock_half_range(H, sectors):
 
 def shift_with_report(args, stdin):
     """lam-shift ARGS -r FILE: (rc, stream, stderr, report as a dict)."""
-    with tempfile.NamedTemporaryFile("r", suffix=".rep") as repf:
-        rc, out, err = lamtest.run("lam-shift", list(args) + ["-r", repf.name], stdin=stdin)
-        return rc, out, err, lamtest.report(repf.read())
+    return lamtest.run_with_report("lam-shift", args, stdin=stdin)
 
 
 table = []

@@ -13,6 +13,7 @@
 #include "cost.h"
 #include "fragments.h"
 #include "pauli.h"
+#include "output.h"
 #include "report.h"
 #include "stream.h"
 #include "util.h"
@@ -507,15 +508,10 @@ static int add_rows(const options *o, const lam_cost_budget *bud, const char *in
 static int write_table_to(const options *o, const lam_cost_budget *bud, const row *rows,
                           size_t n, const lam_floor *fl, lam_error *err)
 {
-    FILE *f = o->cli.output && strcmp(o->cli.output, "-") != 0 ? fopen(o->cli.output, "w") : stdout;
-    if (!f)
-        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->cli.output,
-                             strerror(errno));
-    write_table(f, o, bud, rows, n, fl);
-    if ((f == stdout ? fflush(f) : fclose(f)) != 0 || (f == stdout && ferror(f)))
-        return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s",
-                             f == stdout ? "<stdout>" : o->cli.output, strerror(errno));
-    return 0;
+    lam_output out;
+    if (lam_output_open(o->cli.output, &out, err)) return err->code;
+    write_table(out.fp, o, bud, rows, n, fl);
+    return lam_output_close(&out, 1, err);
 }
 
 static int compare(const options *o, const lam_cost_budget *bud, const lam_floor *fl,

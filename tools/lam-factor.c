@@ -9,6 +9,7 @@
 #include "factor.h"
 #include "fragments.h"
 #include "norm.h"
+#include "output.h"
 #include "report.h"
 #include "spinfree.h"
 #include "stream.h"
@@ -210,7 +211,7 @@ int main(int argc, char **argv)
     lam_fragments *fr = NULL;
     lam_meta meta;
     char *history = NULL;
-    FILE *report = NULL;
+    lam_output report = {0};
     lam_writer *w = NULL;
     lam_meta_init(&meta);
     int rc = lam_reader_open(c.in, &r, &err);
@@ -228,24 +229,23 @@ int main(int argc, char **argv)
     describe_result(&meta, fr, &o, &info);
     history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
-    if (c.cli.report && (rc = lam_report_open(c.cli.report, &report, &err))) goto done;
+    if (c.cli.report && (rc = lam_output_open(c.cli.report, &report, &err))) goto done;
     if ((rc = lam_writer_open(c.cli.output, c.cli.gzip, &w, &err))) goto done;
     lam_writer_header(w, LAM_KIND_FRAGMENTS, &meta, history);
     lam_fragments_write_terms(w, fr);
     rc = lam_writer_close(w, &err);
     w = NULL;
     if (rc) goto done;
-    if (report) {
+    if (report.fp) {
         lam_report *rep = make_report(&c, lam_reader_name(r), sf, fr, &o, &info);
-        lam_report_write(rep, report, c.cli.tsv);
+        lam_report_write(rep, report.fp, c.cli.tsv);
         lam_report_free(rep);
-        rc = lam_report_close(report, c.cli.report, &err);
-        report = NULL;
+        rc = lam_output_close(&report, 1, &err);
     }
 
 done:
     lam_writer_discard(w);
-    lam_report_discard(report);
+    lam_output_discard(&report);
     free(history);
     lam_meta_free(&meta);
     lam_fragments_free(fr);

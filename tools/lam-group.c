@@ -7,6 +7,7 @@
 #include "cli.h"
 #include "group.h"
 #include "norm.h"
+#include "output.h"
 #include "pauli.h"
 #include "report.h"
 #include "stream.h"
@@ -285,9 +286,9 @@ static int run_group(const options *o, int argc, char **argv)
     lam_meta_set(&meta, "grouping", o->group.commuting ? "commuting" : "anticommuting");
     char *history = lam_history_from_argv(argc, argv);
     /* both outputs open before the first byte of either is written */
-    FILE *report = NULL;
+    lam_output report = {0};
     lam_writer *w = NULL;
-    int rc = o->cli.report ? lam_report_open(o->cli.report, &report, &err) : 0;
+    int rc = o->cli.report ? lam_output_open(o->cli.report, &report, &err) : 0;
     if (!rc) rc = lam_writer_open(o->cli.output, o->cli.gzip, &w, &err);
     if (!rc) {
         lam_writer_header(w, LAM_KIND_PAULI, &meta, history);
@@ -298,13 +299,12 @@ static int run_group(const options *o, int argc, char **argv)
         }
     }
     add_report(rep, o, &st, lam_seconds() - t0);
-    if (!rc && report) {
-        lam_report_write(rep, report, o->cli.tsv);
-        rc = lam_report_close(report, o->cli.report, &err);
-        report = NULL;
+    if (!rc && report.fp) {
+        lam_report_write(rep, report.fp, o->cli.tsv);
+        rc = lam_output_close(&report, 1, &err);
     }
     lam_writer_discard(w);
-    lam_report_discard(report);
+    lam_output_discard(&report);
     lam_report_free(rep);
     free(history);
     lam_meta_free(&meta);

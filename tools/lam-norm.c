@@ -8,6 +8,7 @@
 #include "fermion.h"
 #include "fragments.h"
 #include "norm.h"
+#include "output.h"
 #include "pauli.h"
 #include "report.h"
 #include "spinfree.h"
@@ -256,7 +257,7 @@ int main(int argc, char **argv)
     int nstreams = argc - optind > 0 ? argc - optind : 1;
     lam_report **reps = lam_calloc((size_t)nstreams, sizeof *reps);
     lam_error err;
-    FILE *out = NULL;
+    lam_output out = {0};
     lam_floor *floors = lam_calloc((size_t)nstreams, sizeof *floors);
     int rc = read_floors(&o, optind < argc ? argv + optind : NULL, nstreams, floors, &err);
     for (int i = 0; i < nstreams && !rc; ++i) {
@@ -265,7 +266,7 @@ int main(int argc, char **argv)
         if (!rc && o.nfloors) report_floor(reps[i], &floors[o.nfloors > 1 ? i : 0]);
     }
     free(floors);
-    if (!rc) rc = lam_report_open(o.cli.output, &out, &err);
+    if (!rc) rc = lam_output_open(o.cli.output, &out, &err);
     if (rc) {
         for (int i = 0; i < nstreams; ++i) lam_report_free(reps[i]);
         free(reps);
@@ -275,15 +276,15 @@ int main(int argc, char **argv)
     }
     for (int i = 0; i < nstreams; ++i) {
         if (o.cli.tsv) {
-            if (i == 0) lam_report_write_header(reps[i], out);
-            lam_report_write_row(reps[i], out);
+            if (i == 0) lam_report_write_header(reps[i], out.fp);
+            lam_report_write_row(reps[i], out.fp);
         } else {
-            if (i > 0) fputc('\n', out);
-            lam_report_write(reps[i], out, 0);
+            if (i > 0) fputc('\n', out.fp);
+            lam_report_write(reps[i], out.fp, 0);
         }
         lam_report_free(reps[i]);
     }
-    rc = lam_report_close(out, o.cli.output, &err);
+    rc = lam_output_close(&out, 1, &err);
     free(reps);
     free(o.labels);
     free(o.floors);

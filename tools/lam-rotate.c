@@ -7,6 +7,7 @@
 #include <time.h>
 
 #include "cli.h"
+#include "output.h"
 #include "report.h"
 #include "rotate.h"
 #include "shift.h"
@@ -179,7 +180,7 @@ typedef struct {
     lam_spinfree *h, *out;
     double *u0, *u;
     lam_rotate_blocks blocks;
-    FILE *mf;
+    lam_output matrix; /* --matrix, open from before the work */
     lam_meta meta;
     char *history;
     lam_report *rep;
@@ -190,7 +191,7 @@ static void rotate_run_free(rotate_run *rr)
     lam_report_free(rr->rep);
     free(rr->history);
     lam_meta_free(&rr->meta);
-    if (rr->mf) fclose(rr->mf);
+    lam_output_discard(&rr->matrix);
     lam_rotate_blocks_free(&rr->blocks);
     free(rr->u0);
     free(rr->u);
@@ -242,8 +243,7 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
     int start_er = strcmp(o->start, "er") == 0;
     if (strcmp(o->start, "given") == 0 || start_er) rr->u0 = identity(n);
     if (!rr->u0 && lam_rotate_read_matrix(o->start, n, &rr->u0, err)) return err->code;
-    if (o->matrix && !(rr->mf = fopen(o->matrix, "w")))
-        return lam_error_set(err, LAM_EX_IOERR, "%s: cannot write", o->matrix);
+    if (o->matrix && lam_output_open(o->matrix, &rr->matrix, err)) return err->code;
 
     lam_rotate_result er_res = {0};
     if (start_er) {
@@ -286,10 +286,9 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
     lam_writer_header(w, LAM_KIND_SPINFREE, &rr->meta, rr->history);
     lam_spinfree_write_terms(w, rr->out);
     if (lam_writer_close(w, err)) return err->code;
-    if (rr->mf) {
-        FILE *mf = rr->mf;
-        rr->mf = NULL; /* the writer closes it, also on failure */
-        if (lam_rotate_write_matrix(mf, o->matrix, n, rr->u, err)) return err->code;
+    if (rr->matrix.fp) {
+        lam_rotate_write_matrix(rr->matrix.fp, n, rr->u);
+        if (lam_output_close(&rr->matrix, 1, err)) return err->code;
     }
 
     lam_report *rep = rr->rep = lam_report_new();

@@ -4,11 +4,11 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 
 #include "basis.h"
 #include "cli.h"
 #include "fcidump.h"
+#include "output.h"
 #include "report.h"
 #include "molecule.h"
 #include "scf.h"
@@ -175,34 +175,6 @@ static int check_memory(const options *o, int nbf, int active, lam_error *err)
 }
 
 /* Opened before any work, so that a wrong -o path fails at once. */
-static int open_output(const char *path, FILE **out, lam_error *err)
-{
-    *out = stdout;
-    if (!path || strcmp(path, "-") == 0) return 0;
-    if (!(*out = fopen(path, "w")))
-        return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", path, strerror(errno));
-    return 0;
-}
-
-/* Whether out, opened on path, is a plain file that a failed run may
- * remove: not stdout, a device (/dev/full), a pipe or a symbolic link
- * (/dev/stdout), whose removal would take away what is not the program's. */
-static int is_plain_file(FILE *out, const char *path)
-{
-    struct stat st, link;
-    return out != stdout && fstat(fileno(out), &st) == 0 && S_ISREG(st.st_mode) &&
-           lstat(path, &link) == 0 && S_ISREG(link.st_mode);
-}
-
-/* Closes out (not stdout) also on failure. */
-static int close_output(FILE *out, const char *path, lam_error *err)
-{
-    int bad = fflush(out) != 0 || ferror(out);
-    if (out != stdout && fclose(out) != 0) bad = 1;
-    if (bad) return lam_error_set(err, LAM_EX_IOERR, "write error on %s", path && strcmp(path, "-") ? path : "stdout");
-    return 0;
-}
-
 /* Integrals that vanish by symmetry come out as rounding noise: below the
  * cutoff they are set to exactly zero (said on stderr). */
 static void clean_integrals(const options *o, lam_spinfree *sf)
@@ -258,13 +230,12 @@ typedef struct {
     lam_basis *basis;
     lam_scf *scf;
     lam_spinfree *op;
-    FILE *out; /* NULL once closed */
-    const char *made; /* the plain -o file this run writes, removed if it fails */
+    lam_output out; /* -o, open from before the work; whole or not at all */
 } scf_run;
 
 static void scf_run_free(scf_run *run)
 {
-    if (run->out && run->out != stdout) fclose(run->out);
+    lam_output_discard(&run->out);
     lam_spinfree_free(run->op);
     lam_scf_free(run->scf);
     lam_basis_free(run->basis);
@@ -297,36 +268,30 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     int nbf = run->basis->nbf;
     int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
     if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
-    if (open_output(o->cli.output, &run->out, err)) return err->code;
-    if (is_plain_file(run->out, o->cli.output)) run->made = o->cli.output;
+    if (lam_output_open(o->cli.output, &run->out, err)) return err->code;
     if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
     const lam_scf *s = run->scf;
     if (!o->cli.quiet) say_energy(s);
     if (o->energy_only) {
-        write_energy_report(run->out, o, s);
+        write_energy_report(run->out.fp, o, s);
     } else {
         int active = 0;
         if (check_orbital_space(o, s, &active, err)) return err->code;
         run->op = lam_scf_mo_hamiltonian(s, (int)o->frozen, active);
         clean_integrals(o, run->op);
-        if (write_fcidump(run->out, run->op, err)) return err->code;
+        if (write_fcidump(run->out.fp, run->op, err)) return err->code;
     }
-    FILE *out = run->out;
-    run->out = NULL;
-    return close_output(out, o->cli.output, err);
+    return lam_output_close(&run->out, 1, err);
 }
 
 int main(int argc, char **argv)
 {
     options o;
     parse_options(argc, argv, &o);
-    scf_run run = {NULL, NULL, NULL, NULL, NULL, NULL};
+    scf_run run = {0};
     lam_error err;
     int rc = scf(&o, &run, &err);
-    scf_run_free(&run);
-    /* the output was opened before the work so that a bad path fails at
-     * once; a run that fails later leaves no half-written file behind */
-    if (rc && run.made) remove(run.made);
+    scf_run_free(&run); /* a run that failed leaves no file behind */
     lam_exit_on_error(rc, &err);
     return 0;
 }

@@ -8,6 +8,7 @@
 #include "cli.h"
 #include "fermion.h"
 #include "lp.h"
+#include "output.h"
 #include "report.h"
 #include "shift.h"
 #include "norm.h"
@@ -275,14 +276,14 @@ typedef struct {
     lam_meta meta;
     char *history;
     lam_report *rep;
-    FILE *report;     /* open until the report is written */
+    lam_output report; /* open until the report is written */
     lam_writer *w;    /* open until the operator is written */
 } shift_run;
 
 static void shift_run_free(shift_run *sr)
 {
     lam_writer_discard(sr->w);
-    lam_report_discard(sr->report);
+    lam_output_discard(&sr->report);
     lam_report_free(sr->rep);
     free(sr->history);
     lam_meta_free(&sr->meta);
@@ -320,20 +321,16 @@ static int read_and_target(const options *o, shift_run *sr, lam_error *err)
  * written; the dump is written and closed here. */
 static int open_outputs(const options *o, shift_run *sr, double fixed, lam_error *err)
 {
-    if (o->cli.report && lam_report_open(o->cli.report, &sr->report, err)) return err->code;
-    FILE *dump = NULL;
-    if (o->dump && !(dump = fopen(o->dump, "w")))
-        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", o->dump, strerror(errno));
+    if (o->cli.report && lam_output_open(o->cli.report, &sr->report, err)) return err->code;
+    lam_output dump = {0};
+    if (o->dump && lam_output_open(o->dump, &dump, err)) return err->code;
     if (lam_writer_open(o->cli.output, o->cli.gzip, &sr->w, err)) {
-        if (dump) fclose(dump);
+        lam_output_discard(&dump);
         return err->code;
     }
-    if (dump) {
-        lam_l1_write(dump, &sr->lp, fixed);
-        if (fclose(dump) != 0)
-            return lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s", o->dump, strerror(errno));
-    }
-    return 0;
+    if (!dump.fp) return 0;
+    lam_l1_write(dump.fp, &sr->lp, fixed);
+    return lam_output_close(&dump, 1, err);
 }
 
 /* H - K (or K) written as a spin-free or, with spin terms, fermion stream;
@@ -442,11 +439,9 @@ static int shift(const options *o, int argc, char **argv, shift_run *sr, lam_err
     lam_report_num(rep, "lp_seconds", t_lp);
     lam_report_num(rep, "solve_seconds", t_solve);
     lam_report_num(rep, "seconds", lam_seconds() - t0);
-    if (sr->report) {
-        lam_report_write(rep, sr->report, o->cli.tsv);
-        FILE *report = sr->report;
-        sr->report = NULL;
-        if (lam_report_close(report, o->cli.report, err)) return err->code;
+    if (sr->report.fp) {
+        lam_report_write(rep, sr->report.fp, o->cli.tsv);
+        if (lam_output_close(&sr->report, 1, err)) return err->code;
     }
     if (!res.converged)
         lam_warn("warning: the relative gap %.3g did not reach %.3g in %d iterations; "

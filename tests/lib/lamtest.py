@@ -2,6 +2,7 @@
 import importlib.util
 import os
 import subprocess
+import tempfile
 import sysconfig
 import sys
 
@@ -69,6 +70,18 @@ def run(prog, args=(), stdin=None, check=False):
     if check and p.returncode != 0:
         raise RuntimeError("%s failed (%d): %s" % (prog, p.returncode, p.stderr))
     return p.returncode, p.stdout, p.stderr
+
+
+def run_with_report(prog, args=(), stdin=None):
+    """Run bin/prog ARGS -r FILE; returns (exit code, stdout, stderr, the
+    report as a dict).  The report is read by its name after the run: the
+    program puts a new file at that name (written whole, then renamed), so
+    a handle opened before the run would still show the old one."""
+    with tempfile.TemporaryDirectory() as d:
+        path = os.path.join(d, "report")
+        code, out, err = run(prog, list(args) + ["-r", path], stdin=stdin)
+        text = open(path).read() if os.path.exists(path) else ""
+    return code, out, err, report(text)
 
 
 def pipe(*stages, stdin=None):

@@ -8,7 +8,7 @@
 
 static int tap_count, tap_failed;
 
-static void tap_ok(int cond, const char *name)
+static inline void tap_ok(int cond, const char *name)
 {
     ++tap_count;
     if (!cond) ++tap_failed;
@@ -17,14 +17,14 @@ static void tap_ok(int cond, const char *name)
 }
 
 /* |got - want| <= tol, printing both on failure. */
-static void tap_near(double got, double want, double tol, const char *name)
+static inline void tap_near(double got, double want, double tol, const char *name)
 {
     int ok = fabs(got - want) <= tol;
     tap_ok(ok, name);
     if (!ok) printf("#   got %.17g, want %.17g (tol %g)\n", got, want, tol);
 }
 
-static int tap_done(void)
+static inline int tap_done(void)
 {
     printf("1..%d\n", tap_count);
     return tap_failed ? 1 : 0;

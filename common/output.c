@@ -1,0 +1,113 @@
+/* output.c - output files that appear whole or not at all (see output.h). */
+#include "output.h"
+
+#include <errno.h>
+#include <fcntl.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+static int names_stdout(const char *path)
+{
+    return !path || strcmp(path, "-") == 0;
+}
+
+/* DIR/.BASE.XXXXXX beside DIR/BASE, for mkstemp. */
+static char *temp_name(const char *path)
+{
+    const char *slash = strrchr(path, '/');
+    int dirlen = slash ? (int)(slash - path + 1) : 0;
+    size_t n = strlen(path) + sizeof "..XXXXXX";
+    char *name = lam_malloc(n);
+    snprintf(name, n, "%.*s.%s.XXXXXX", dirlen, path, path + dirlen);
+    return name;
+}
+
+static mode_t new_file_mode(void)
+{
+    mode_t mask = umask(0);
+    umask(mask);
+    return 0666 & ~mask;
+}
+
+/* A temporary file beside path with the mode (and, where allowed, the
+ * owner) the file at path has or would get: its descriptor, or -1 when
+ * none can be made there. */
+static int open_beside(const char *path, const struct stat *old, char **tmp)
+{
+    *tmp = temp_name(path);
+    int fd = mkstemp(*tmp);
+    if (fd < 0) {
+        free(*tmp);
+        *tmp = NULL;
+        return -1;
+    }
+    if (fchmod(fd, old ? old->st_mode & 07777 : new_file_mode()) != 0 ||
+        (old && fchown(fd, old->st_uid, old->st_gid) != 0 && errno != EPERM)) {
+        close(fd);
+        unlink(*tmp);
+        free(*tmp);
+        *tmp = NULL;
+        return -1;
+    }
+    return fd;
+}
+
+int lam_output_open(const char *path, lam_output *o, lam_error *err)
+{
+    memset(o, 0, sizeof *o);
+    if (names_stdout(path)) {
+        o->fp = stdout;
+        return 0;
+    }
+    struct stat st;
+    int exists = lstat(path, &st) == 0;
+    int fd = -1;
+    /* a plain file that may be written, or none yet: beside it, then renamed */
+    if (!exists || (S_ISREG(st.st_mode) && access(path, W_OK) == 0))
+        fd = open_beside(path, exists ? &st : NULL, &o->tmp);
+    if (fd < 0) fd = open(path, O_WRONLY | O_CREAT | O_TRUNC, 0666);
+    if (fd < 0 || !(o->fp = fdopen(fd, "w"))) {
+        int errnum = errno;
+        if (fd >= 0) close(fd);
+        if (o->tmp) unlink(o->tmp);
+        free(o->tmp);
+        o->tmp = NULL;
+        return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", path,
+                             strerror(errnum));
+    }
+    o->path = lam_strdup(path);
+    return 0;
+}
+
+static void forget(lam_output *o)
+{
+    free(o->path);
+    free(o->tmp);
+    memset(o, 0, sizeof *o);
+}
+
+int lam_output_close(lam_output *o, int written_ok, lam_error *err)
+{
+    if (!o->fp) return 0;
+    errno = 0;
+    int errnum = 0;
+    if (fflush(o->fp) != 0 || ferror(o->fp)) errnum = errno ? errno : EIO;
+    if (o->fp != stdout && fclose(o->fp) != 0 && !errnum) errnum = errno ? errno : EIO;
+    if (o->tmp && written_ok && !errnum && rename(o->tmp, o->path) != 0) errnum = errno;
+    if (o->tmp && (!written_ok || errnum)) unlink(o->tmp);
+    int rc = errnum ? lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s",
+                                    o->path ? o->path : "<stdout>", strerror(errnum))
+                    : 0;
+    forget(o);
+    return rc;
+}
+
+void lam_output_discard(lam_output *o)
+{
+    if (!o->fp) return;
+    if (o->fp != stdout) fclose(o->fp);
+    if (o->tmp) unlink(o->tmp);
+    forget(o);
+}
