@@ -3,10 +3,71 @@
 
 #include <errno.h>
 #include <fcntl.h>
+#include <signal.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
 #include <unistd.h>
+
+/* The temporary files not yet renamed into place: removed when the program
+ * gives up, returns from main or is stopped by a signal, so that neither a
+ * failed nor an interrupted run leaves one (of a large stream, gigabytes)
+ * behind.  A program has a few outputs open at a time. */
+#define MAX_LIVE 16
+static const char *volatile live[MAX_LIVE];
+
+static void remove_live(void)
+{
+    for (int i = 0; i < MAX_LIVE; ++i)
+        if (live[i]) unlink(live[i]);
+}
+
+/* unlink and raise are async-signal-safe; the signal is raised again with
+ * its default action (SA_RESETHAND) so that the program ends as it would
+ * have. */
+static void remove_live_and_stop(int sig)
+{
+    remove_live();
+    raise(sig);
+}
+
+static void clean_up_when_stopped(void)
+{
+    static int done;
+    if (done) return;
+    done = 1;
+    lam_at_failure(remove_live);
+    atexit(remove_live);
+    static const int signals[] = {SIGINT, SIGTERM, SIGHUP, SIGQUIT};
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = remove_live_and_stop;
+    sa.sa_flags = SA_RESETHAND;
+    sigemptyset(&sa.sa_mask);
+    for (size_t i = 0; i < sizeof signals / sizeof *signals; ++i) {
+        struct sigaction old;
+        /* a signal ignored (nohup, a background job) stays ignored */
+        if (sigaction(signals[i], NULL, &old) == 0 && old.sa_handler != SIG_IGN)
+            sigaction(signals[i], &sa, NULL);
+    }
+}
+
+static int hold(const char *tmp)
+{
+    clean_up_when_stopped();
+    for (int i = 0; i < MAX_LIVE; ++i)
+        if (!live[i]) {
+            live[i] = tmp;
+            return 0;
+        }
+    return -1;
+}
+
+static void release(const char *tmp)
+{
+    for (int i = 0; i < MAX_LIVE; ++i)
+        if (live[i] == tmp) live[i] = NULL;
+}
 
 static int names_stdout(const char *path)
 {
@@ -38,6 +99,11 @@ static int open_beside(const char *path, const struct stat *old, char **tmp)
 {
     *tmp = temp_name(path);
     int fd = mkstemp(*tmp);
+    if (fd >= 0 && hold(*tmp) != 0) {
+        close(fd);
+        unlink(*tmp);
+        fd = -1;
+    }
     if (fd < 0) {
         free(*tmp);
         *tmp = NULL;
@@ -47,6 +113,7 @@ static int open_beside(const char *path, const struct stat *old, char **tmp)
         (old && fchown(fd, old->st_uid, old->st_gid) != 0 && errno != EPERM)) {
         close(fd);
         unlink(*tmp);
+        release(*tmp);
         free(*tmp);
         *tmp = NULL;
         return -1;
@@ -72,6 +139,7 @@ int lam_output_open(const char *path, lam_output *o, lam_error *err)
         int errnum = errno;
         if (fd >= 0) close(fd);
         if (o->tmp) unlink(o->tmp);
+        release(o->tmp);
         free(o->tmp);
         o->tmp = NULL;
         return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", path,
@@ -83,6 +151,7 @@ int lam_output_open(const char *path, lam_output *o, lam_error *err)
 
 static void forget(lam_output *o)
 {
+    release(o->tmp);
     free(o->path);
     free(o->tmp);
     memset(o, 0, sizeof *o);

@@ -17,8 +17,16 @@ static int progress_mode = -1; /* -1: decide from isatty(2) */
  * half-written result reaches stdout, and skips the leak check of the
  * sanitizers, which would flag the memory a program still holds when it
  * gives up (leaks are checked on the paths that succeed). */
+static void (*on_failure)(void);
+
+void lam_at_failure(void (*fn)(void))
+{
+    on_failure = fn;
+}
+
 static _Noreturn void leave(int code)
 {
+    if (on_failure) on_failure();
     fflush(stderr);
     _exit(code);
 }

@@ -24,6 +24,11 @@ enum lam_exit {
     LAM_EX_MEMORY = 75    /* the work would exceed --max-memory */
 };
 
+/* fn runs when the program gives up (an error, a usage error, out of
+ * memory), before it ends without atexit handlers: output.c removes the
+ * temporary files of the outputs not yet written whole.  One at a time. */
+void lam_at_failure(void (*fn)(void));
+
 /* Name used as the message prefix; set once from main(). */
 void lam_set_program(const char *argv0);
 const char *lam_program(void);

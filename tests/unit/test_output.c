@@ -9,7 +9,9 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <signal.h>
 #include <sys/stat.h>
+#include <sys/wait.h>
 #include <unistd.h>
 
 #include "output.h"
@@ -180,6 +182,52 @@ static void test_refused_and_stdout(void)
     }
 }
 
+/* A child that opens an output on an existing file, writes part of it
+ * and then ends as how says; what it leaves is checked by the parent. */
+static void child_ends(int how)
+{
+    char path[256];
+    path_in_dir(path, sizeof path, "stopped.op");
+    lam_output o;
+    lam_error err;
+    if (lam_output_open(path, &o, &err) != 0) _exit(99);
+    fputs("half", o.fp);
+    fflush(o.fp);
+    if (how == 0) raise(SIGTERM);
+    if (how == 1) {
+        lam_error_set(&err, LAM_EX_DATA, "a failure after the output was opened");
+        lam_error_exit(&err);
+    }
+    exit(0); /* returns without closing it */
+}
+
+static void test_stopped_runs(void)
+{
+    static const char *const what[] = {"stopped by SIGTERM", "giving up (lam_error_exit)",
+                                       "exiting without closing it"};
+    char path[256];
+    path_in_dir(path, sizeof path, "stopped.op");
+    for (int how = 0; how < 3; ++how) {
+        put(path, "old\n");
+        fflush(stdout);
+        pid_t pid = fork();
+        if (pid == 0) {
+            int devnull = open("/dev/null", O_WRONLY);
+            if (devnull >= 0) dup2(devnull, 2); /* the child's error message */
+            child_ends(how);
+        }
+        int status = 0;
+        waitpid(pid, &status, 0);
+        int ended = how == 0 ? WIFSIGNALED(status) && WTERMSIG(status) == SIGTERM
+                  : how == 1 ? WIFEXITED(status) && WEXITSTATUS(status) == LAM_EX_DATA
+                             : WIFEXITED(status) && WEXITSTATUS(status) == 0;
+        char name[160];
+        snprintf(name, sizeof name, "%s: the old file stays, no temporary file is left", what[how]);
+        tap_ok(ended && strcmp(content(path), "old\n") == 0 && entries() == 1, name);
+        unlink(path);
+    }
+}
+
 int main(void)
 {
     if (!mkdtemp(dir)) {
@@ -190,6 +238,7 @@ int main(void)
     test_failed_run_keeps_old_file();
     test_in_place();
     test_refused_and_stdout();
+    test_stopped_runs();
     rmdir(dir);
     return tap_done();
 }
