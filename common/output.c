@@ -121,19 +121,22 @@ static int open_beside(const char *path, const struct stat *old, char **tmp)
     return fd;
 }
 
-int lam_output_open(const char *path, lam_output *o, lam_error *err)
+/* Whether the file at path (st, when it exists) is written beside and
+ * renamed: a plain file that may be written, or a name that is free (not
+ * "" or one ending in '/': those name no file, and open says so). */
+static int written_beside(const char *path, int exists, const struct stat *st)
 {
-    memset(o, 0, sizeof *o);
-    if (names_stdout(path)) {
-        o->fp = stdout;
-        return 0;
-    }
+    size_t len = strlen(path);
+    if (!exists) return errno == ENOENT && len > 0 && path[len - 1] != '/';
+    return S_ISREG(st->st_mode) && access(path, W_OK) == 0;
+}
+
+static int open_path(const char *path, lam_output *o, lam_error *err)
+{
     struct stat st;
     int exists = lstat(path, &st) == 0;
     int fd = -1;
-    /* a plain file that may be written, or none yet: beside it, then renamed */
-    if (!exists || (S_ISREG(st.st_mode) && access(path, W_OK) == 0))
-        fd = open_beside(path, exists ? &st : NULL, &o->tmp);
+    if (written_beside(path, exists, &st)) fd = open_beside(path, exists ? &st : NULL, &o->tmp);
     if (fd < 0) fd = open(path, O_WRONLY | O_CREAT | O_TRUNC, 0666);
     if (fd < 0 || !(o->fp = fdopen(fd, "w"))) {
         int errnum = errno;
@@ -147,6 +150,22 @@ int lam_output_open(const char *path, lam_output *o, lam_error *err)
     }
     o->path = lam_strdup(path);
     return 0;
+}
+
+int lam_output_open(const char *path, lam_output *o, lam_error *err)
+{
+    memset(o, 0, sizeof *o);
+    if (names_stdout(path)) {
+        o->fp = stdout;
+        return 0;
+    }
+    return open_path(path, o, err);
+}
+
+int lam_output_open_file(const char *path, lam_output *o, lam_error *err)
+{
+    memset(o, 0, sizeof *o);
+    return open_path(path, o, err);
 }
 
 static void forget(lam_output *o)

@@ -32,6 +32,10 @@ typedef struct {
  * there is nothing to close. */
 int lam_output_open(const char *path, lam_output *o, lam_error *err);
 
+/* The same for an output whose path is always a file name, "-" included
+ * (an extra output of a program whose stdout carries its main one). */
+int lam_output_open_file(const char *path, lam_output *o, lam_error *err);
+
 /* Close o->fp (standard output is flushed, not closed) and, when all was
  * written (written_ok, and no write, flush or close failed), rename the
  * temporary file onto the path; else remove it.  Returns 0, or

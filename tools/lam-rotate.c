@@ -243,7 +243,7 @@ static int rotate(options *o, int argc, char **argv, rotate_run *rr, lam_error *
     int start_er = strcmp(o->start, "er") == 0;
     if (strcmp(o->start, "given") == 0 || start_er) rr->u0 = identity(n);
     if (!rr->u0 && lam_rotate_read_matrix(o->start, n, &rr->u0, err)) return err->code;
-    if (o->matrix && lam_output_open(o->matrix, &rr->matrix, err)) return err->code;
+    if (o->matrix && lam_output_open_file(o->matrix, &rr->matrix, err)) return err->code;
 
     lam_rotate_result er_res = {0};
     if (start_er) {

@@ -323,7 +323,7 @@ static int open_outputs(const options *o, shift_run *sr, double fixed, lam_error
 {
     if (o->cli.report && lam_output_open(o->cli.report, &sr->report, err)) return err->code;
     lam_output dump = {0};
-    if (o->dump && lam_output_open(o->dump, &dump, err)) return err->code;
+    if (o->dump && lam_output_open_file(o->dump, &dump, err)) return err->code;
     if (lam_writer_open(o->cli.output, o->cli.gzip, &sr->w, err)) {
         lam_output_discard(&dump);
         return err->code;

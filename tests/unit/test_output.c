@@ -163,6 +163,20 @@ static void test_refused_and_stdout(void)
                strcmp(err.msg, "cannot open /nonexistent/dir/out.op for writing: "
                                "No such file or directory") == 0,
            "a missing directory: 74, cannot open ... for writing, the reason");
+    rc = lam_output_open("", &o, &err);
+    tap_ok(rc == LAM_EX_IOERR && o.fp == NULL && entries() == 0 &&
+               strcmp(err.msg, "cannot open  for writing: No such file or directory") == 0,
+           "an empty name: 74 at once, as fopen refuses it, and nothing is made");
+    char cwd[4096];
+    if (getcwd(cwd, sizeof cwd) && chdir(dir) == 0) {
+        rc = lam_output_open_file("-", &o, &err);
+        tap_ok(rc == 0 && o.fp != stdout, "lam_output_open_file: '-' is a file name");
+        fputs("x\n", o.fp);
+        rc = lam_output_close(&o, 1, &err);
+        tap_ok(rc == 0 && strcmp(content("-"), "x\n") == 0, "a file named '-' is written");
+        unlink("-");
+        if (chdir(cwd) != 0) perror(cwd);
+    }
     rc = lam_output_open("-", &o, &err);
     tap_ok(rc == 0 && o.fp == stdout && o.tmp == NULL, "'-' is standard output");
     lam_output_discard(&o);
