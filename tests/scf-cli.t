@@ -240,6 +240,11 @@ is "$RC" 65 "-o FILE, no convergence: exit 65"
 runlam lam-scf --quiet --bohr --active 9 -o "$TMP/unfinished.fcidump" "$TMP/water.xyz"
 is "$RC" 64 "-o FILE, --active above the orbitals: exit 64"
 [ ! -e "$TMP/unfinished.fcidump" ]; ok $? "-o FILE, a late usage error: no file left"
+# an --active far above the orbitals is the same usage error, not an
+# overflow in the memory estimate made before the SCF (exit 70 before)
+runlam lam-scf --quiet --bohr --active 100000 "$TMP/water.xyz"
+is "$RC" 64 "--active 100000: exit 64"
+like "$ERR" "exceeds the 7 orbitals above the frozen ones" "--active 100000: the message says why"
 printf 'old\n' >"$TMP/kept.fcidump"
 runlam lam-scf --quiet --bohr --active 9 -o "$TMP/kept.fcidump" "$TMP/water.xyz"
 is "$RC/$(cat "$TMP/kept.fcidump")" "64/old" "-o FILE that exists, a late usage error: FILE as it was"

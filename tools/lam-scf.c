@@ -174,7 +174,6 @@ static int check_memory(const options *o, int nbf, int active, lam_error *err)
     return 0;
 }
 
-/* Opened before any work, so that a wrong -o path fails at once. */
 /* Integrals that vanish by symmetry come out as rounding noise: below the
  * cutoff they are set to exactly zero (said on stderr). */
 static void clean_integrals(const options *o, lam_spinfree *sf)
@@ -264,10 +263,13 @@ static int scf(const options *o, scf_run *run, lam_error *err)
     int electrons;
     if (lam_scf_closed_shell_electrons(run->mol, &electrons, err)) return err->code;
     if (lam_basis_build(run->mol, lam_basis_set_find(o->basis), o->pure, &run->basis, err)) return err->code;
-    /* the largest possible active space bounds the memory before any work */
+    /* the largest possible active space bounds the memory before any work
+     * (an --active above the orbitals is refused once they are known) */
     int nbf = run->basis->nbf;
-    int most_active = o->energy_only ? 1 : (int)(o->active > 0 ? o->active : nbf - o->frozen);
-    if (check_memory(o, nbf, most_active > 0 ? most_active : 1, err)) return err->code;
+    long above_frozen = nbf - o->frozen;
+    long most_active = o->energy_only ? 1
+                       : o->active > 0 && o->active < above_frozen ? o->active : above_frozen;
+    if (check_memory(o, nbf, most_active > 0 ? (int)most_active : 1, err)) return err->code;
     if (lam_output_open(o->cli.output, &run->out, err)) return err->code;
     if (lam_scf_run(run->mol, run->basis, &o->scf, &run->scf, err)) return err->code;
     const lam_scf *s = run->scf;
