@@ -181,7 +181,10 @@ int lam_output_close(lam_output *o, int written_ok, lam_error *err)
     if (!o->fp) return 0;
     errno = 0;
     int errnum = 0;
-    if (fflush(o->fp) != 0 || ferror(o->fp)) errnum = errno ? errno : EIO;
+    /* standard output is not flushed after a failure: what is still in its
+     * buffer stays out of the pipe */
+    int flush = written_ok || o->fp != stdout;
+    if (flush && (fflush(o->fp) != 0 || ferror(o->fp))) errnum = errno ? errno : EIO;
     if (o->fp != stdout && fclose(o->fp) != 0 && !errnum) errnum = errno ? errno : EIO;
     if (o->tmp && written_ok && !errnum && rename(o->tmp, o->path) != 0) errnum = errno;
     if (o->tmp && (!written_ok || errnum)) unlink(o->tmp);

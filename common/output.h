@@ -36,7 +36,8 @@ int lam_output_open(const char *path, lam_output *o, lam_error *err);
  * (an extra output of a program whose stdout carries its main one). */
 int lam_output_open_file(const char *path, lam_output *o, lam_error *err);
 
-/* Close o->fp (standard output is flushed, not closed) and, when all was
+/* Close o->fp (standard output is flushed, not closed, and not even
+ * flushed when written_ok is 0) and, when all was
  * written (written_ok, and no write, flush or close failed), rename the
  * temporary file onto the path; else remove it.  Returns 0, or
  * LAM_EX_IOERR with "cannot write PATH: REASON" (PATH "<stdout>" for

@@ -4,6 +4,7 @@
 
 #include <ctype.h>
 #include <errno.h>
+#include <math.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
@@ -723,6 +724,7 @@ struct lam_writer {
     int distinct;
     int failed_errno; /* the first write error, kept until close reports it */
     int failed;
+    char *refused; /* the first coefficient no reader takes, and its term */
 };
 
 void lam_writer_set_distinct(lam_writer *w) { w->distinct = 1; }
@@ -822,8 +824,28 @@ void lam_writer_header(lam_writer *w, lam_kind kind, const lam_meta *meta,
     if (history) lam_writer_printf(w, "#%% history: %s\n", history);
 }
 
+/* A coefficient that is inf, NaN or above LAM_COEF_MAX in magnitude (an
+ * operator that overflowed, or was scaled out of any physical range) is
+ * never written: no reader of the suite would take it.  The first one is
+ * kept for close to report, and the rest of the output is dropped. */
+static void refuse_coefficient(lam_writer *w, double coef, const char *rest)
+{
+    if (w->failed) return;
+    w->failed = 1;
+    size_t n = strlen(rest ? rest : "") + 64;
+    w->refused = lam_malloc(n);
+    if (rest && *rest)
+        snprintf(w->refused, n, "of the term '%s' is %g", rest, coef);
+    else
+        snprintf(w->refused, n, "of the constant term is %g", coef);
+}
+
 void lam_writer_term(lam_writer *w, double coef, const char *rest)
 {
+    if (!(fabs(coef) <= LAM_COEF_MAX)) {
+        refuse_coefficient(w, coef, rest);
+        return;
+    }
     char line[LAM_DOUBLE_BUF];
     lam_format_double(line, sizeof line, coef);
     lam_writer_write(w, line, strlen(line));
@@ -841,10 +863,17 @@ int lam_writer_close_raw(lam_writer *w, lam_error *err)
     errno = 0;
     if (w->gz && gzclose(w->gz) != Z_OK && !failed) failed = 1, errnum = errno;
     lam_error ignored;
-    int rc = failed ? write_error(w, errnum, err) : 0;
+    int rc = w->refused ? lam_error_set(err, LAM_EX_DATA,
+                                           "%s: the coefficient %s, and a reader takes "
+                                           "|c| <= 1e100 only (lamina-stream(5)); the "
+                                           "stream is not written whole",
+                                           w->name, w->refused)
+             : failed ? write_error(w, errnum, err)
+                      : 0;
     /* the file is renamed into place only when all of it was written */
     int closed = lam_output_close(&w->out, !failed, failed ? &ignored : err);
     if (!rc) rc = closed;
+    free(w->refused);
     free(w->name);
     free(w);
     return rc;
@@ -862,6 +891,7 @@ void lam_writer_discard(lam_writer *w)
     /* standard output is left unflushed: no half-written result reaches it */
     if (w->gz) gzclose(w->gz);
     lam_output_discard(&w->out);
+    free(w->refused);
     free(w->name);
     free(w);
 }

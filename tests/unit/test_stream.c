@@ -95,6 +95,25 @@ static void test_returned_errors(void)
     tap_ok(rc == LAM_EX_IOERR && w == NULL &&
                strstr(err.msg, "cannot open /nonexistent/dir/out.op for writing") != NULL,
            "an unwritable output: 74, no writer");
+    {
+        /* inf or NaN is never written (no reader takes it); close says which
+         * term, and nothing is left at the path */
+        char inf_path[] = "/tmp/lam-test-inf-XXXXXX";
+        int fd = mkstemp(inf_path);
+        if (fd >= 0) close(fd);
+        unlink(inf_path);
+        rc = lam_writer_open(inf_path, 0, &w, &err);
+        if (rc == 0) {
+            lam_writer_term(w, 0.5, "x:0");
+            lam_writer_term(w, -HUGE_VAL, "z:1");
+            lam_writer_term(w, 0.25, "y:2");
+            rc = lam_writer_close(w, &err);
+        }
+        tap_ok(rc == LAM_EX_DATA &&
+                   strstr(err.msg, "the coefficient of the term 'z:1' is -inf") != NULL &&
+                   access(inf_path, F_OK) != 0,
+               "a coefficient -inf: close returns 65, names the term, leaves no file");
+    }
     if (access("/dev/full", W_OK) == 0) {
         /* a write error is kept by the writer and reported by close */
         rc = lam_writer_open("/dev/full", 0, &w, &err);
