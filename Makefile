@@ -128,13 +128,8 @@ check: deps deps-plot
 test: all
 	$(TEST_ENV) prove -j2 $(UNITS) tests/*.t
 
-# --run-libc-freeres=no: valgrind's clean-up of libc at exit would flush the
-# stdio buffers a program that gives up leaves unflushed on purpose (_exit),
-# so a failed run would seem to write to stdout what it does not.  Without
-# it the threads' libc blocks stay "possibly lost": only definite leaks are
-# shown and counted.
 valgrind-check: deps-valgrind all
-	$(TEST_ENV) LAM_WRAP="valgrind -q --error-exitcode=99 --leak-check=full --show-leak-kinds=definite --errors-for-leak-kinds=definite --run-libc-freeres=no" \
+	$(TEST_ENV) LAM_WRAP="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite" \
 	  prove -j2 $(wildcard tests/*-cli.t)
 
 demo: deps-build deps-plot
