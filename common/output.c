@@ -69,6 +69,16 @@ static void release(const char *tmp)
         if (live[i] == tmp) live[i] = NULL;
 }
 
+/* Remove the temporary file *tmp (if any) and forget it. */
+static void drop_temp(char **tmp)
+{
+    if (!*tmp) return;
+    unlink(*tmp);
+    release(*tmp);
+    free(*tmp);
+    *tmp = NULL;
+}
+
 static int names_stdout(const char *path)
 {
     return !path || strcmp(path, "-") == 0;
@@ -99,52 +109,42 @@ static int open_beside(const char *path, const struct stat *old, char **tmp)
 {
     *tmp = temp_name(path);
     int fd = mkstemp(*tmp);
-    if (fd >= 0 && hold(*tmp) != 0) {
-        close(fd);
-        unlink(*tmp);
-        fd = -1;
-    }
     if (fd < 0) {
         free(*tmp);
         *tmp = NULL;
         return -1;
     }
-    if (fchmod(fd, old ? old->st_mode & 07777 : new_file_mode()) != 0 ||
+    if (hold(*tmp) != 0 || fchmod(fd, old ? old->st_mode & 07777 : new_file_mode()) != 0 ||
         (old && fchown(fd, old->st_uid, old->st_gid) != 0 && errno != EPERM)) {
         close(fd);
-        unlink(*tmp);
-        release(*tmp);
-        free(*tmp);
-        *tmp = NULL;
+        drop_temp(tmp);
         return -1;
     }
     return fd;
 }
 
-/* Whether the file at path (st, when it exists) is written beside and
- * renamed: a plain file that may be written, or a name that is free (not
+/* Whether path is written beside and renamed: a plain file that may be
+ * written (st from lstat), or a name that is free (lstat said ENOENT; not
  * "" or one ending in '/': those name no file, and open says so). */
-static int written_beside(const char *path, int exists, const struct stat *st)
+static int written_beside(const char *path, int exists, int lstat_errno, const struct stat *st)
 {
     size_t len = strlen(path);
-    if (!exists) return errno == ENOENT && len > 0 && path[len - 1] != '/';
+    if (!exists) return lstat_errno == ENOENT && len > 0 && path[len - 1] != '/';
     return S_ISREG(st->st_mode) && access(path, W_OK) == 0;
 }
 
 static int open_path(const char *path, lam_output *o, lam_error *err)
 {
     struct stat st;
-    int exists = lstat(path, &st) == 0;
+    int exists = lstat(path, &st) == 0, lstat_errno = errno;
     int fd = -1;
-    if (written_beside(path, exists, &st)) fd = open_beside(path, exists ? &st : NULL, &o->tmp);
+    if (written_beside(path, exists, lstat_errno, &st))
+        fd = open_beside(path, exists ? &st : NULL, &o->tmp);
     if (fd < 0) fd = open(path, O_WRONLY | O_CREAT | O_TRUNC, 0666);
     if (fd < 0 || !(o->fp = fdopen(fd, "w"))) {
         int errnum = errno;
         if (fd >= 0) close(fd);
-        if (o->tmp) unlink(o->tmp);
-        release(o->tmp);
-        free(o->tmp);
-        o->tmp = NULL;
+        drop_temp(&o->tmp);
         return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", path,
                              strerror(errnum));
     }
@@ -187,7 +187,7 @@ int lam_output_close(lam_output *o, int written_ok, lam_error *err)
     if (flush && (fflush(o->fp) != 0 || ferror(o->fp))) errnum = errno ? errno : EIO;
     if (o->fp != stdout && fclose(o->fp) != 0 && !errnum) errnum = errno ? errno : EIO;
     if (o->tmp && written_ok && !errnum && rename(o->tmp, o->path) != 0) errnum = errno;
-    if (o->tmp && (!written_ok || errnum)) unlink(o->tmp);
+    if (!written_ok || errnum) drop_temp(&o->tmp);
     int rc = errnum ? lam_error_set(err, LAM_EX_IOERR, "cannot write %s: %s",
                                     o->path ? o->path : "<stdout>", strerror(errnum))
                     : 0;
@@ -199,6 +199,6 @@ void lam_output_discard(lam_output *o)
 {
     if (!o->fp) return;
     if (o->fp != stdout) fclose(o->fp);
-    if (o->tmp) unlink(o->tmp);
+    drop_temp(&o->tmp);
     forget(o);
 }

@@ -732,19 +732,19 @@ void lam_writer_set_distinct(lam_writer *w) { w->distinct = 1; }
 int lam_writer_open(const char *path, int gzip, lam_writer **out, lam_error *err)
 {
     *out = NULL;
-    const char *name = !path || strcmp(path, "-") == 0 ? "<stdout>" : path;
     lam_output file;
     if (gzip) fflush(stdout); /* what is in stdout's buffer comes before the gzip stream */
     if (lam_output_open(path, &file, err)) return err->code;
+    const char *name = file.path ? file.path : "<stdout>";
     gzFile gz = NULL;
     if (gzip) {
         int fd = dup(fileno(file.fp));
         if (fd < 0 || !(gz = gzdopen(fd, "wb6"))) {
             int errnum = errno;
             if (fd >= 0) close(fd);
+            lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", name, strerror(errnum));
             lam_output_discard(&file);
-            return lam_error_set(err, LAM_EX_IOERR, "cannot open %s for writing: %s", name,
-                                 strerror(errnum));
+            return err->code;
         }
         gzbuffer(gz, 1 << 17);
     } else if (file.fp != stdout) {
